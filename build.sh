@@ -1,0 +1,67 @@
+#!/usr/bin/env bash
+# FusionService build entry point. Every step a fresh machine needs is here.
+#   ./build.sh test    restore, build, run every test suite; last line "N passed, N failed"
+#   ./build.sh bench   run the BenchmarkDotNet suite (see docs/benchmarks.md)
+set -euo pipefail
+cd "$(dirname "$0")"
+root=$(pwd)
+
+ensure_prerequisites() {
+  if ! command -v dotnet >/dev/null 2>&1; then
+    echo "build.sh: the .NET SDK (see global.json) is required on PATH" >&2
+    exit 2
+  fi
+}
+
+run_tests() {
+  ensure_prerequisites
+  local results="$root/artifacts/test-results"
+  rm -rf "$results"
+  mkdir -p "$results"
+  echo "==> restore"
+  dotnet restore FusionService.sln
+  echo "==> build (Release, warnings are errors)"
+  dotnet build FusionService.sln -c Release --no-restore -nologo
+  echo "==> test"
+  local status=0
+  dotnet test FusionService.sln -c Release --no-build --nologo \
+    --logger "trx" --logger "console;verbosity=normal" --results-directory "$results" || status=$?
+  summarize "$results"
+  return $status
+}
+
+# Counts outcomes from the TRX files the test run wrote, so the closing line reflects real results.
+summarize() {
+  local dir=$1 passed=0 failed=0 skipped=0 p f t e n
+  shopt -s nullglob
+  for trx in "$dir"/*.trx; do
+    local counters
+    counters=$(grep -o '<Counters [^>]*>' "$trx" | head -n 1)
+    p=$(sed -n 's/.* passed="\([0-9]*\)".*/\1/p' <<<"$counters")
+    f=$(sed -n 's/.* failed="\([0-9]*\)".*/\1/p' <<<"$counters")
+    e=$(sed -n 's/.* error="\([0-9]*\)".*/\1/p' <<<"$counters")
+    t=$(sed -n 's/.* timeout="\([0-9]*\)".*/\1/p' <<<"$counters")
+    n=$(sed -n 's/.* notExecuted="\([0-9]*\)".*/\1/p' <<<"$counters")
+    passed=$((passed + ${p:-0}))
+    failed=$((failed + ${f:-0} + ${e:-0} + ${t:-0}))
+    skipped=$((skipped + ${n:-0}))
+  done
+  if [ "$skipped" -gt 0 ]; then
+    echo "$passed passed, $failed failed, $skipped skipped"
+  else
+    echo "$passed passed, $failed failed"
+  fi
+}
+
+case "${1:-test}" in
+  test) run_tests ;;
+  bench)
+    ensure_prerequisites
+    shift || true
+    dotnet run -c Release --project tests/FusionService.Benchmarks -- "$@"
+    ;;
+  *)
+    echo "usage: ./build.sh [test|bench [BenchmarkDotNet args]]" >&2
+    exit 2
+    ;;
+esac
