@@ -1,0 +1,4 @@
+// Benchmark entry point: ./build.sh bench -- --filter '*' (see docs/benchmarks.md).
+using BenchmarkDotNet.Running;
+
+BenchmarkSwitcher.FromAssembly(typeof(Program).Assembly).Run(args);
