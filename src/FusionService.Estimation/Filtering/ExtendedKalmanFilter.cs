@@ -1,0 +1,333 @@
+using FusionService.Estimation.LinearAlgebra;
+
+namespace FusionService.Estimation.Filtering;
+
+/// <summary>
+/// Allocation-free extended Kalman filter steps on the fixed-size vehicle state: covariance propagation and
+/// the measurement update in Joseph form with a chi-square gate.
+/// </summary>
+/// <remarks>
+/// Joseph form: P⁺ = (I - K H) P (I - K H)ᵀ + K R Kᵀ (Bucy and Joseph 1968; Bar-Shalom, Li and Kirubarajan 2001,
+/// section 5.2; from memory), which stays symmetric positive semi-definite for any gain K even with round-off.
+/// </remarks>
+public static class ExtendedKalmanFilter
+{
+    /// <summary>Largest measurement dimension an update accepts.</summary>
+    public const int MaxMeasurementDimension = 3;
+
+    private const int N = Matrix8.Size;
+
+    /// <summary>
+    /// P ← F P Fᵀ for a transition Jacobian whose rows 4 to 7 are rows of the identity (true of
+    /// <see cref="Models.CtraMotionModel"/>: yaw rate, acceleration, bias and scale are carried over), which
+    /// halves the work of a dense product.
+    /// </summary>
+    public static void PropagateCovariance(ref Matrix8 covariance, in Matrix8 jacobian)
+    {
+        Matrix8 fp = covariance;
+        for (int i = 0; i < 4; i++)
+        {
+            for (int k = 0; k < N; k++)
+            {
+                double sum = 0;
+                for (int j = 0; j < N; j++)
+                {
+                    sum += jacobian[(i * N) + j] * covariance[(j * N) + k];
+                }
+
+                fp[(i * N) + k] = sum;
+            }
+        }
+
+        for (int i = 0; i < N; i++)
+        {
+            for (int k = 0; k < 4; k++)
+            {
+                double sum = 0;
+                for (int j = 0; j < N; j++)
+                {
+                    sum += fp[(i * N) + j] * jacobian[(k * N) + j];
+                }
+
+                covariance[(i * N) + k] = sum;
+            }
+
+            for (int k = 4; k < N; k++)
+            {
+                covariance[(i * N) + k] = fp[(i * N) + k];
+            }
+        }
+
+        Symmetrize(ref covariance);
+    }
+
+    /// <summary>
+    /// Gated measurement update in Joseph form. Computes the innovation covariance S = H P Hᵀ + R and the
+    /// normalised innovation squared NIS = νᵀ S⁻¹ ν; when NIS exceeds <paramref name="gateThreshold"/> the state is
+    /// left unchanged and false is returned.
+    /// </summary>
+    /// <param name="x">State, updated in place when accepted.</param>
+    /// <param name="covariance">Covariance, updated in place when accepted.</param>
+    /// <param name="residual">Innovation ν = z - h(x), length m (angles already wrapped).</param>
+    /// <param name="h">Measurement Jacobian, m x 8 row-major.</param>
+    /// <param name="r">Measurement noise covariance, m x m row-major, symmetric positive definite.</param>
+    /// <param name="gateThreshold">NIS above which the measurement is rejected; +∞ disables the gate.</param>
+    /// <param name="nis">Receives the NIS.</param>
+    /// <returns>Whether the update was applied.</returns>
+    /// <exception cref="FilterDivergenceException">S or the updated covariance is not positive definite or not finite.</exception>
+    public static bool TryUpdateJoseph(
+        ref Vector8 x, ref Matrix8 covariance, ReadOnlySpan<double> residual, ReadOnlySpan<double> h,
+        ReadOnlySpan<double> r, double gateThreshold, out double nis)
+    {
+        int m = residual.Length;
+        if (m < 1 || m > MaxMeasurementDimension || h.Length != m * N || r.Length != m * m)
+        {
+            throw new ArgumentException($"inconsistent measurement dimensions: residual {m}, H {h.Length}, R {r.Length}");
+        }
+
+        Span<double> pht = stackalloc double[N * MaxMeasurementDimension];
+        for (int i = 0; i < N; i++)
+        {
+            for (int row = 0; row < m; row++)
+            {
+                double sum = 0;
+                for (int j = 0; j < N; j++)
+                {
+                    sum += covariance[(i * N) + j] * h[(row * N) + j];
+                }
+
+                pht[(i * m) + row] = sum;
+            }
+        }
+
+        Span<double> chol = stackalloc double[MaxMeasurementDimension * MaxMeasurementDimension];
+        for (int a = 0; a < m; a++)
+        {
+            for (int b = 0; b < m; b++)
+            {
+                double sum = r[(a * m) + b];
+                for (int i = 0; i < N; i++)
+                {
+                    sum += h[(a * N) + i] * pht[(i * m) + b];
+                }
+
+                chol[(a * m) + b] = sum;
+            }
+        }
+
+        if (!CholeskyInPlace(chol[..(m * m)], m))
+        {
+            throw new FilterDivergenceException("innovation covariance S = H P Hᵀ + R is not positive definite");
+        }
+
+        Span<double> w = stackalloc double[MaxMeasurementDimension];
+        residual.CopyTo(w);
+        ForwardSubstitute(chol, m, w[..m]);
+        nis = 0;
+        for (int a = 0; a < m; a++)
+        {
+            nis += w[a] * w[a];
+        }
+
+        if (!double.IsFinite(nis))
+        {
+            throw new FilterDivergenceException("normalised innovation squared is not finite");
+        }
+
+        if (nis > gateThreshold)
+        {
+            return false;
+        }
+
+        // K = P Hᵀ S⁻¹, row by row: S kᵢ = (P Hᵀ)ᵢ.
+        Span<double> k = stackalloc double[N * MaxMeasurementDimension];
+        for (int i = 0; i < N; i++)
+        {
+            Span<double> row = k.Slice(i * m, m);
+            pht.Slice(i * m, m).CopyTo(row);
+            ForwardSubstitute(chol, m, row);
+            BackSubstitute(chol, m, row);
+        }
+
+        Span<double> sInvNu = stackalloc double[MaxMeasurementDimension];
+        w[..m].CopyTo(sInvNu);
+        BackSubstitute(chol, m, sInvNu[..m]);
+        for (int i = 0; i < N; i++)
+        {
+            double sum = 0;
+            for (int a = 0; a < m; a++)
+            {
+                sum += pht[(i * m) + a] * sInvNu[a];
+            }
+
+            x[i] += sum;
+        }
+
+        // A P with A = I - K H, using H P = (P Hᵀ)ᵀ.
+        Matrix8 ap = covariance;
+        for (int i = 0; i < N; i++)
+        {
+            for (int j = 0; j < N; j++)
+            {
+                double sum = 0;
+                for (int a = 0; a < m; a++)
+                {
+                    sum += k[(i * m) + a] * pht[(j * m) + a];
+                }
+
+                ap[(i * N) + j] -= sum;
+            }
+        }
+
+        Span<double> aph = stackalloc double[N * MaxMeasurementDimension];
+        for (int i = 0; i < N; i++)
+        {
+            for (int a = 0; a < m; a++)
+            {
+                double sum = 0;
+                for (int j = 0; j < N; j++)
+                {
+                    sum += ap[(i * N) + j] * h[(a * N) + j];
+                }
+
+                aph[(i * m) + a] = sum;
+            }
+        }
+
+        Span<double> kr = stackalloc double[N * MaxMeasurementDimension];
+        for (int i = 0; i < N; i++)
+        {
+            for (int b = 0; b < m; b++)
+            {
+                double sum = 0;
+                for (int a = 0; a < m; a++)
+                {
+                    sum += k[(i * m) + a] * r[(a * m) + b];
+                }
+
+                kr[(i * m) + b] = sum;
+            }
+        }
+
+        for (int i = 0; i < N; i++)
+        {
+            for (int j = 0; j < N; j++)
+            {
+                double sum = ap[(i * N) + j];
+                for (int a = 0; a < m; a++)
+                {
+                    sum += (kr[(i * m) + a] - aph[(i * m) + a]) * k[(j * m) + a];
+                }
+
+                covariance[(i * N) + j] = sum;
+            }
+        }
+
+        Symmetrize(ref covariance);
+        RequirePositiveDefinite(covariance, x, "measurement update");
+        return true;
+    }
+
+    /// <summary>
+    /// Throws <see cref="FilterDivergenceException"/> unless every state value is finite and the covariance is
+    /// positive definite (its Cholesky factorisation succeeds).
+    /// </summary>
+    public static void RequirePositiveDefinite(in Matrix8 covariance, in Vector8 x, string context)
+    {
+        for (int i = 0; i < N; i++)
+        {
+            if (!double.IsFinite(x[i]))
+            {
+                throw new FilterDivergenceException($"state component {i} is not finite after {context}");
+            }
+        }
+
+        Span<double> copy = stackalloc double[Matrix8.Length];
+        for (int i = 0; i < Matrix8.Length; i++)
+        {
+            copy[i] = covariance[i];
+        }
+
+        if (!CholeskyInPlace(copy, N))
+        {
+            throw new FilterDivergenceException($"covariance is not positive definite after {context}");
+        }
+    }
+
+    /// <summary>Replaces P by (P + Pᵀ) / 2.</summary>
+    public static void Symmetrize(ref Matrix8 covariance)
+    {
+        for (int i = 0; i < N; i++)
+        {
+            for (int j = i + 1; j < N; j++)
+            {
+                double mean = 0.5 * (covariance[(i * N) + j] + covariance[(j * N) + i]);
+                covariance[(i * N) + j] = mean;
+                covariance[(j * N) + i] = mean;
+            }
+        }
+    }
+
+    /// <summary>Lower Cholesky factor in place (row-major, upper part left as is); false if not positive definite or not finite.</summary>
+    internal static bool CholeskyInPlace(Span<double> a, int n)
+    {
+        for (int j = 0; j < n; j++)
+        {
+            double d = a[(j * n) + j];
+            for (int k = 0; k < j; k++)
+            {
+                d -= a[(j * n) + k] * a[(j * n) + k];
+            }
+
+            if (!(d > 0) || !double.IsFinite(d))
+            {
+                return false;
+            }
+
+            double l = Math.Sqrt(d);
+            a[(j * n) + j] = l;
+            for (int i = j + 1; i < n; i++)
+            {
+                double s = a[(i * n) + j];
+                for (int k = 0; k < j; k++)
+                {
+                    s -= a[(i * n) + k] * a[(j * n) + k];
+                }
+
+                a[(i * n) + j] = s / l;
+            }
+        }
+
+        return true;
+    }
+
+    /// <summary>Solves L y = b in place.</summary>
+    internal static void ForwardSubstitute(ReadOnlySpan<double> l, int n, Span<double> b)
+    {
+        for (int i = 0; i < n; i++)
+        {
+            double s = b[i];
+            for (int k = 0; k < i; k++)
+            {
+                s -= l[(i * n) + k] * b[k];
+            }
+
+            b[i] = s / l[(i * n) + i];
+        }
+    }
+
+    /// <summary>Solves Lᵀ y = b in place.</summary>
+    internal static void BackSubstitute(ReadOnlySpan<double> l, int n, Span<double> b)
+    {
+        for (int i = n - 1; i >= 0; i--)
+        {
+            double s = b[i];
+            for (int k = i + 1; k < n; k++)
+            {
+                s -= l[(k * n) + i] * b[k];
+            }
+
+            b[i] = s / l[(i * n) + i];
+        }
+    }
+}

@@ -1,0 +1,117 @@
+using System.Runtime.InteropServices;
+
+namespace FusionService.Estimation.Measurements;
+
+/// <summary>
+/// One sensor sample as the filter stores it (40 bytes). Build it with the factory methods, which validate
+/// and document the meaning of the three values per <see cref="SensorKind"/>.
+/// </summary>
+/// <remarks>
+/// The canonical processing order is (<see cref="TimeUs"/>, <see cref="Kind"/>, <see cref="MessageKey"/>);
+/// two measurements with the same order key and the same values are exact duplicates.
+/// </remarks>
+[StructLayout(LayoutKind.Sequential, Pack = 8)]
+public readonly record struct Measurement
+{
+    private Measurement(long timeUs, ulong messageKey, double value0, double value1, float value2, SensorKind kind)
+    {
+        TimeUs = timeUs;
+        MessageKey = messageKey;
+        Value0 = value0;
+        Value1 = value1;
+        Value2 = value2;
+        Kind = kind;
+    }
+
+    /// <summary>Measurement time, microseconds since the Unix epoch (UTC).</summary>
+    public long TimeUs { get; }
+
+    /// <summary>Caller's 64-bit key of the message (for example a hash of its id); third key of the processing order.</summary>
+    public ulong MessageKey { get; }
+
+    /// <summary>GnssPosition: latitude, degrees. GnssVelocity: speed over ground, m/s. WheelSpeed: speed, m/s. Imu: yaw rate, rad/s.</summary>
+    public double Value0 { get; }
+
+    /// <summary>GnssPosition: longitude, degrees. GnssVelocity: course over ground, radians clockwise from north (NaN when not usable). Imu: longitudinal acceleration, m/s^2 (NaN when absent).</summary>
+    public double Value1 { get; }
+
+    /// <summary>GnssPosition: 1-sigma per-axis horizontal accuracy, metres. GnssVelocity: 1-sigma speed accuracy, m/s. Otherwise 0.</summary>
+    public float Value2 { get; }
+
+    /// <summary>Sensor kind.</summary>
+    public SensorKind Kind { get; }
+
+    /// <summary>A GNSS position fix.</summary>
+    /// <param name="timeUs">Time, Unix microseconds.</param>
+    /// <param name="messageKey">Caller's message key.</param>
+    /// <param name="latitudeDeg">Latitude, degrees, in [-90, 90].</param>
+    /// <param name="longitudeDeg">Longitude, degrees, in [-180, 180].</param>
+    /// <param name="sigmaM">1-sigma per-axis horizontal accuracy, metres, positive (see <see cref="HorizontalAccuracy"/>).</param>
+    public static Measurement GnssPosition(long timeUs, ulong messageKey, double latitudeDeg, double longitudeDeg, double sigmaM)
+    {
+        RequireRange(latitudeDeg, -90, 90, nameof(latitudeDeg));
+        RequireRange(longitudeDeg, -180, 180, nameof(longitudeDeg));
+        RequirePositive(sigmaM, nameof(sigmaM));
+        return new Measurement(timeUs, messageKey, latitudeDeg, longitudeDeg, (float)sigmaM, SensorKind.GnssPosition);
+    }
+
+    /// <summary>GNSS speed and course over ground.</summary>
+    /// <param name="timeUs">Time, Unix microseconds.</param>
+    /// <param name="messageKey">Caller's message key.</param>
+    /// <param name="speedMps">Speed over ground, m/s, finite and non-negative.</param>
+    /// <param name="courseRad">Course over ground, radians clockwise from true north; NaN when the receiver gave none.</param>
+    /// <param name="speedSigmaMps">1-sigma speed accuracy, m/s, positive.</param>
+    public static Measurement GnssVelocity(long timeUs, ulong messageKey, double speedMps, double courseRad, double speedSigmaMps)
+    {
+        RequireRange(speedMps, 0, 150, nameof(speedMps));
+        if (double.IsInfinity(courseRad))
+        {
+            throw new ArgumentOutOfRangeException(nameof(courseRad), courseRad, "course must be finite or NaN (absent)");
+        }
+
+        RequirePositive(speedSigmaMps, nameof(speedSigmaMps));
+        return new Measurement(timeUs, messageKey, speedMps, courseRad, (float)speedSigmaMps, SensorKind.GnssVelocity);
+    }
+
+    /// <summary>Wheel (odometer) speed.</summary>
+    /// <param name="timeUs">Time, Unix microseconds.</param>
+    /// <param name="messageKey">Caller's message key.</param>
+    /// <param name="speedMps">Wheel speed, m/s, finite (non-negative for wheel sensors without direction).</param>
+    public static Measurement WheelSpeed(long timeUs, ulong messageKey, double speedMps)
+    {
+        RequireRange(speedMps, -60, 150, nameof(speedMps));
+        return new Measurement(timeUs, messageKey, speedMps, double.NaN, 0f, SensorKind.WheelSpeed);
+    }
+
+    /// <summary>Inertial sample.</summary>
+    /// <param name="timeUs">Time, Unix microseconds.</param>
+    /// <param name="messageKey">Caller's message key.</param>
+    /// <param name="yawRateRps">Gyro yaw rate about the up axis, rad/s, positive counter-clockwise (left turn).</param>
+    /// <param name="accelMps2">Longitudinal acceleration, m/s^2, or NaN when the sample has none.</param>
+    public static Measurement Imu(long timeUs, ulong messageKey, double yawRateRps, double accelMps2)
+    {
+        RequireRange(yawRateRps, -10, 10, nameof(yawRateRps));
+        if (!double.IsNaN(accelMps2))
+        {
+            RequireRange(accelMps2, -50, 50, nameof(accelMps2));
+        }
+
+        return new Measurement(timeUs, messageKey, yawRateRps, accelMps2, 0f, SensorKind.Imu);
+    }
+
+    private static void RequireRange(double value, double min, double max, string name)
+    {
+        if (!double.IsFinite(value) || value < min || value > max)
+        {
+            throw new ArgumentOutOfRangeException(name, value, $"must be finite and within [{min}, {max}]");
+        }
+    }
+
+    private static void RequirePositive(double value, string name)
+    {
+        if (!double.IsFinite(value) || value <= 0)
+        {
+            throw new ArgumentOutOfRangeException(name, value, "must be finite and positive");
+        }
+    }
+}

@@ -1,0 +1,81 @@
+namespace FusionService.Estimation.Models;
+
+/// <summary>
+/// Process and sensor noise of one vehicle class. Spectral densities are of continuous white noise driving the
+/// motion model (<see cref="CtraMotionModel"/>); standard deviations are per sample.
+/// </summary>
+/// <remarks>
+/// The defaults describe a delivery van (common practice for the order of magnitude, values from memory):
+/// accelerations of 0.1-0.3 g, braking to 0.6-0.8 g, yaw rates to 30 deg/s, an automotive-grade gyro
+/// (bias about 0.1 deg/s, El-Sheimy and Youssef 2020, Table 1) and an uncalibrated wheel odometer (0.5-2 % scale error).
+/// </remarks>
+public sealed record NoiseProfile
+{
+    /// <summary>Spectral density of longitudinal jerk, m^2/s^5. Default 1.0 (about 1 m/s^3 over one second).</summary>
+    public double JerkDensityM2PerS5 { get; init; } = 1.0;
+
+    /// <summary>Spectral density of yaw acceleration, rad^2/s^3. Default 0.04 (about 11 deg/s^2 over one second).</summary>
+    public double YawAccelDensityRad2PerS3 { get; init; } = 0.04;
+
+    /// <summary>Spectral density of unmodelled position motion (slip, lane changes), m^2/s. Default 0.02.</summary>
+    public double PositionDensityM2PerS { get; init; } = 0.02;
+
+    /// <summary>Random-walk density of the gyro bias, rad^2/s^3. Default 1e-9 (about 0.1 deg/s drift per hour).</summary>
+    public double GyroBiasDensityRad2PerS3 { get; init; } = 1e-9;
+
+    /// <summary>Random-walk density of the wheel-speed scale factor, 1/s. Default 1e-10 (tyre wear and load).</summary>
+    public double WheelScaleDensityPerS { get; init; } = 1e-10;
+
+    /// <summary>Wheel-speed sample noise, m/s (1 sigma). Default 0.05.</summary>
+    public double WheelSpeedSigmaMps { get; init; } = 0.05;
+
+    /// <summary>Gyro yaw-rate sample noise, rad/s (1 sigma). Default 0.005 (about 0.3 deg/s).</summary>
+    public double GyroSigmaRps { get; init; } = 0.005;
+
+    /// <summary>Longitudinal accelerometer sample noise, m/s^2 (1 sigma, includes road grade). Default 0.3.</summary>
+    public double AccelSigmaMps2 { get; init; } = 0.3;
+
+    /// <summary>Initial standard deviation of the gyro bias, rad/s. Default 0.035 (2 deg/s, consumer MEMS turn-on bias).</summary>
+    public double InitialGyroBiasSigmaRps { get; init; } = 0.035;
+
+    /// <summary>Initial standard deviation of the wheel-speed scale factor. Default 0.05.</summary>
+    public double InitialWheelScaleSigma { get; init; } = 0.05;
+
+    /// <summary>Initial standard deviation of speed when nothing observes it, m/s. Default 10.</summary>
+    public double InitialSpeedSigmaMps { get; init; } = 10.0;
+
+    /// <summary>Initial standard deviation of yaw rate, rad/s. Default 0.3.</summary>
+    public double InitialYawRateSigmaRps { get; init; } = 0.3;
+
+    /// <summary>Initial standard deviation of longitudinal acceleration, m/s^2. Default 1.5.</summary>
+    public double InitialAccelSigmaMps2 { get; init; } = 1.5;
+
+    /// <summary>The delivery-van defaults.</summary>
+    public static NoiseProfile DeliveryVan { get; } = new();
+
+    /// <summary>Throws <see cref="ArgumentException"/> naming the first value that is not finite and positive.</summary>
+    public void Validate()
+    {
+        Check(JerkDensityM2PerS5, nameof(JerkDensityM2PerS5));
+        Check(YawAccelDensityRad2PerS3, nameof(YawAccelDensityRad2PerS3));
+        Check(PositionDensityM2PerS, nameof(PositionDensityM2PerS));
+        Check(GyroBiasDensityRad2PerS3, nameof(GyroBiasDensityRad2PerS3));
+        Check(WheelScaleDensityPerS, nameof(WheelScaleDensityPerS));
+        Check(WheelSpeedSigmaMps, nameof(WheelSpeedSigmaMps));
+        Check(GyroSigmaRps, nameof(GyroSigmaRps));
+        Check(AccelSigmaMps2, nameof(AccelSigmaMps2));
+        Check(InitialGyroBiasSigmaRps, nameof(InitialGyroBiasSigmaRps));
+        Check(InitialWheelScaleSigma, nameof(InitialWheelScaleSigma));
+        Check(InitialSpeedSigmaMps, nameof(InitialSpeedSigmaMps));
+        Check(InitialYawRateSigmaRps, nameof(InitialYawRateSigmaRps));
+        Check(InitialAccelSigmaMps2, nameof(InitialAccelSigmaMps2));
+    }
+
+    private static void Check(double value, string name)
+    {
+        if (!double.IsFinite(value) || value <= 0)
+        {
+            throw new ArgumentException($"{name} must be finite and positive, was {value}.", name);
+        }
+    }
+}
