@@ -1,0 +1,21 @@
+using FusionService.Estimation.Geodesy;
+using FusionService.Estimation.LinearAlgebra;
+
+namespace FusionService.Estimation.Tracking;
+
+/// <summary>
+/// Receives every forward step of the filter, for Rauch-Tung-Striebel smoothing. Calls come in order:
+/// <see cref="Start"/> when the filter (re)starts, then for each later measurement <see cref="Predicted"/> followed by
+/// <see cref="Posterior"/>.
+/// </summary>
+public interface IStepRecorder
+{
+    /// <summary>The filter started (or restarted after a reset) with this state; a new smoothing segment begins.</summary>
+    void Start(long timeUs, in Vector8 x, in Matrix8 p, in LocalTangentPlane plane);
+
+    /// <summary>Prediction to the next measurement: transition Jacobian F (including any re-anchoring), predicted mean and covariance.</summary>
+    void Predicted(in Matrix8 f, in Vector8 xPredicted, in Matrix8 pPredicted);
+
+    /// <summary>State after the measurement at <paramref name="timeUs"/> (equal to the prediction if it was gated).</summary>
+    void Posterior(long timeUs, in Vector8 x, in Matrix8 p, in LocalTangentPlane plane);
+}

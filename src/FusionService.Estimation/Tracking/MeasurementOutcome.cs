@@ -1,0 +1,32 @@
+using FusionService.Estimation.Measurements;
+
+namespace FusionService.Estimation.Tracking;
+
+/// <summary>The result of processing one measurement.</summary>
+/// <param name="Kind">What the track did with it.</param>
+/// <param name="Nis">Normalised innovation squared νᵀ S⁻¹ ν, or NaN when no innovation was formed.</param>
+/// <param name="Dimension">Dimension of the innovation (the chi-square degrees of freedom), 0 when none.</param>
+/// <param name="GateThreshold">The NIS threshold it was compared with, or NaN.</param>
+/// <param name="Stationary">Whether the stationary constraint was applied at this measurement.</param>
+/// <param name="PositionShiftM">How far this update moved the position estimate, metres (0 when not fused).</param>
+public readonly record struct MeasurementOutcome(
+    OutcomeKind Kind, double Nis, int Dimension, double GateThreshold, bool Stationary, double PositionShiftM)
+{
+    /// <summary>An outcome without an innovation.</summary>
+    public static MeasurementOutcome Of(OutcomeKind kind) => new(kind, double.NaN, 0, double.NaN, false, 0);
+
+    /// <summary>Human-readable reason, for logs and the audit trail.</summary>
+    public string Describe(SensorKind sensor) => Kind switch
+    {
+        OutcomeKind.Accepted => FormattableString.Invariant($"{sensor} fused, NIS {Nis:F2} (dimension {Dimension}, gate {GateThreshold:F2})"),
+        OutcomeKind.Gated => FormattableString.Invariant($"{sensor} rejected by the gate: NIS {Nis:F2} exceeds {GateThreshold:F2} for dimension {Dimension}"),
+        OutcomeKind.TooLate => $"{sensor} older than the lag window; kept for smoothing only",
+        OutcomeKind.Duplicate => $"{sensor} exact duplicate; ignored",
+        OutcomeKind.Conflict => $"{sensor} has the time, kind and key of another message but different values; ignored",
+        OutcomeKind.Initialising => $"{sensor} used to start the track",
+        OutcomeKind.BeforeStart => $"{sensor} arrived before the first position fix; not fused",
+        OutcomeKind.TrackReset => $"{sensor} re-initialised the track position after sustained rejection",
+        OutcomeKind.Unused => $"{sensor} carried nothing usable",
+        _ => Kind.ToString(),
+    };
+}

@@ -1,0 +1,86 @@
+namespace FusionService.Estimation.Tracking;
+
+/// <summary>Behaviour of one vehicle track. Defaults suit a delivery van with a 1 Hz GNSS and 10 Hz odometer and IMU.</summary>
+public sealed record TrackOptions
+{
+    /// <summary>Probability that a consistent measurement passes the chi-square gate. Default 0.9997.</summary>
+    public double GateProbability { get; init; } = 0.9997;
+
+    /// <summary>How far behind the newest measurement a late one is still fused exactly, seconds. Default 60.</summary>
+    public double LagWindowS { get; init; } = 60.0;
+
+    /// <summary>Spacing of the posterior checkpoints a late measurement is replayed from, seconds. Default 5.</summary>
+    public double CheckpointIntervalS { get; init; } = 5.0;
+
+    /// <summary>Largest prediction step, seconds; longer gaps are predicted in sub-steps. Default 1.</summary>
+    public double MaxPredictionStepS { get; init; } = 1.0;
+
+    /// <summary>GNSS course is used only above this speed over ground, m/s. Default 2.</summary>
+    public double CourseMinSpeedMps { get; init; } = 2.0;
+
+    /// <summary>Floor on the course standard deviation, radians. Default 0.02 (about 1 degree).</summary>
+    public double CourseSigmaFloorRad { get; init; } = 0.02;
+
+    /// <summary>Wheel speed at or below this magnitude counts as zero, m/s. Default 0.05.</summary>
+    public double ZeroSpeedThresholdMps { get; init; } = 0.05;
+
+    /// <summary>Wheel speed must read zero this long before the stationary constraint applies, seconds. Default 2.</summary>
+    public double StationaryAfterS { get; init; } = 2.0;
+
+    /// <summary>Standard deviation of the stationary pseudo-measurement of speed, m/s. Default 0.005.</summary>
+    public double StationarySpeedSigmaMps { get; init; } = 0.005;
+
+    /// <summary>Standard deviation of the stationary pseudo-measurement of yaw rate, rad/s. Default 0.0005.</summary>
+    public double StationaryYawRateSigmaRps { get; init; } = 0.0005;
+
+    /// <summary>GNSS must be rejected continuously this long before the track may reset, seconds. Default 15.</summary>
+    public double ResetAfterS { get; init; } = 15.0;
+
+    /// <summary>...and the rejected fix must lie at least this far from the track, metres. Default 75.</summary>
+    public double ResetDistanceM { get; init; } = 75.0;
+
+    /// <summary>...and at least this many consecutive GNSS fixes must have been rejected. Default 5.</summary>
+    public int ResetMinRejectedFixes { get; init; } = 5;
+
+    /// <summary>Two fixes further apart than this many combined sigmas give the initial heading. Default 4.</summary>
+    public double TwoFixHeadingSigmas { get; init; } = 4.0;
+
+    /// <summary>A first fix older than this is replaced by the next one while waiting for a heading, seconds. Default 20.</summary>
+    public double TwoFixMaxAgeS { get; init; } = 20.0;
+
+    /// <summary>Heading standard deviation above which a moving track re-acquires its heading from two fixes, radians. Default 0.6 (about 35 degrees).</summary>
+    public double HeadingReacquireSigmaRad { get; init; } = 0.6;
+
+    /// <summary>The track re-anchors its local plane when it is this far from the anchor, metres (see LocalTangentPlane.MaxRadiusForScaleErrorM). Default 10,000.</summary>
+    public double ReanchorRadiusM { get; init; } = 10_000.0;
+
+    /// <summary>Throws <see cref="ArgumentException"/> naming the first invalid option.</summary>
+    public void Validate()
+    {
+        Require(GateProbability > 0 && GateProbability < 1, nameof(GateProbability), "must lie in (0, 1)");
+        Require(LagWindowS >= 0 && double.IsFinite(LagWindowS), nameof(LagWindowS), "must be finite and non-negative");
+        Require(CheckpointIntervalS > 0 && double.IsFinite(CheckpointIntervalS), nameof(CheckpointIntervalS), "must be finite and positive");
+        Require(MaxPredictionStepS > 0 && double.IsFinite(MaxPredictionStepS), nameof(MaxPredictionStepS), "must be finite and positive");
+        Require(CourseMinSpeedMps >= 0, nameof(CourseMinSpeedMps), "must be non-negative");
+        Require(CourseSigmaFloorRad > 0, nameof(CourseSigmaFloorRad), "must be positive");
+        Require(ZeroSpeedThresholdMps >= 0, nameof(ZeroSpeedThresholdMps), "must be non-negative");
+        Require(StationaryAfterS >= 0, nameof(StationaryAfterS), "must be non-negative");
+        Require(StationarySpeedSigmaMps > 0, nameof(StationarySpeedSigmaMps), "must be positive");
+        Require(StationaryYawRateSigmaRps > 0, nameof(StationaryYawRateSigmaRps), "must be positive");
+        Require(ResetAfterS >= 0, nameof(ResetAfterS), "must be non-negative");
+        Require(ResetDistanceM >= 0, nameof(ResetDistanceM), "must be non-negative");
+        Require(ResetMinRejectedFixes >= 1, nameof(ResetMinRejectedFixes), "must be at least 1");
+        Require(TwoFixHeadingSigmas > 0, nameof(TwoFixHeadingSigmas), "must be positive");
+        Require(TwoFixMaxAgeS > 0, nameof(TwoFixMaxAgeS), "must be positive");
+        Require(HeadingReacquireSigmaRad > 0, nameof(HeadingReacquireSigmaRad), "must be positive");
+        Require(ReanchorRadiusM > 0, nameof(ReanchorRadiusM), "must be positive");
+    }
+
+    private static void Require(bool condition, string name, string why)
+    {
+        if (!condition)
+        {
+            throw new ArgumentException($"{name} {why}.", name);
+        }
+    }
+}

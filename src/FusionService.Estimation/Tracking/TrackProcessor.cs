@@ -1,0 +1,531 @@
+using FusionService.Estimation.Filtering;
+using FusionService.Estimation.Gating;
+using FusionService.Estimation.Geodesy;
+using FusionService.Estimation.LinearAlgebra;
+using FusionService.Estimation.Measurements;
+using FusionService.Estimation.Models;
+using static FusionService.Estimation.Models.StateIndex;
+
+namespace FusionService.Estimation.Tracking;
+
+/// <summary>
+/// Processes one measurement at a time, in canonical order, on a <see cref="TrackState"/>: track start,
+/// prediction, gated extended Kalman updates, the stationary constraint, heading re-acquisition and track resets.
+/// A pure function of (state, measurement): no clock, no randomness, no I/O.
+/// </summary>
+public sealed class TrackProcessor
+{
+    private const int N = Matrix8.Size;
+    private const double MicrosecondsPerSecond = 1e6;
+
+    /// <summary>Creates a processor; validates both arguments.</summary>
+    public TrackProcessor(TrackOptions options, NoiseProfile profile)
+    {
+        ArgumentNullException.ThrowIfNull(options);
+        ArgumentNullException.ThrowIfNull(profile);
+        options.Validate();
+        profile.Validate();
+        Options = options;
+        Profile = profile;
+        Gate = new ChiSquareGate(options.GateProbability);
+    }
+
+    /// <summary>Track options.</summary>
+    public TrackOptions Options { get; }
+
+    /// <summary>Noise profile.</summary>
+    public NoiseProfile Profile { get; }
+
+    /// <summary>The chi-square gate.</summary>
+    public ChiSquareGate Gate { get; }
+
+    /// <summary>
+    /// Processes <paramref name="m"/>, whose time must not precede <paramref name="state"/>'s time.
+    /// </summary>
+    /// <param name="state">Track state, advanced in place.</param>
+    /// <param name="m">The measurement.</param>
+    /// <param name="recorder">Optional receiver of the forward steps for smoothing.</param>
+    /// <returns>What was done with the measurement.</returns>
+    /// <exception cref="FilterDivergenceException">The covariance stopped being positive definite.</exception>
+    public MeasurementOutcome Process(ref TrackState state, in Measurement m, IStepRecorder? recorder = null)
+    {
+        if (state.Phase == TrackPhase.Running && m.TimeUs < state.TimeUs)
+        {
+            throw new ArgumentException($"measurement at {m.TimeUs} us precedes the track state at {state.TimeUs} us", nameof(m));
+        }
+
+        return state.Phase == TrackPhase.Running ? ProcessRunning(ref state, m, recorder) : ProcessStarting(ref state, m, recorder);
+    }
+
+    /// <summary>Position of the state as latitude and longitude (height ignored).</summary>
+    public static GeodeticPoint PositionOf(in TrackState state) => state.Plane.ToGeodetic(OnPlane(state.X[EastM], state.X[NorthM]));
+
+    private static EnuPoint OnPlane(double eastM, double northM) =>
+        new(eastM, northM, -((eastM * eastM) + (northM * northM)) / (2.0 * Wgs84.SemiMajorAxisM));
+
+    private MeasurementOutcome ProcessStarting(ref TrackState s, in Measurement m, IStepRecorder? recorder)
+    {
+        switch (m.Kind)
+        {
+            case SensorKind.GnssPosition:
+            {
+                var fixPoint = GeodeticPoint.FromDegrees(m.Value0, m.Value1);
+                if (!s.HasPlane)
+                {
+                    s.Plane = new LocalTangentPlane(fixPoint);
+                    s.HasPlane = true;
+                }
+
+                EnuPoint enu = s.Plane.ToEnu(fixPoint);
+                var fix = new HeldFix(true, m.TimeUs, enu.EastM, enu.NorthM, m.Value2);
+                if (s.Phase == TrackPhase.Empty || !s.Fix.IsSet)
+                {
+                    s.Phase = TrackPhase.AwaitingHeading;
+                    s.Fix = fix;
+                    if (CourseIsFresh(s, m.TimeUs))
+                    {
+                        StartFromCourse(ref s, fix, s.Course, m.TimeUs, recorder);
+                    }
+
+                    return MeasurementOutcome.Of(OutcomeKind.Initialising);
+                }
+
+                HeldFix first = s.Fix;
+                double dtS = (m.TimeUs - first.TimeUs) / MicrosecondsPerSecond;
+                double de = fix.EastM - first.EastM, dn = fix.NorthM - first.NorthM;
+                double distanceM = Math.Sqrt((de * de) + (dn * dn));
+                double sigmaM = Math.Sqrt((first.SigmaM * first.SigmaM) + (fix.SigmaM * fix.SigmaM));
+                if (dtS > 0 && dtS <= Options.TwoFixMaxAgeS && distanceM > Options.TwoFixHeadingSigmas * sigmaM)
+                {
+                    double heading = Math.Atan2(dn, de);
+                    Start(ref s, fix, heading, sigmaM / distanceM, distanceM / dtS, sigmaM / dtS, m.TimeUs, recorder);
+                    return MeasurementOutcome.Of(OutcomeKind.Initialising);
+                }
+
+                if (s.Stationary)
+                {
+                    StartStationary(ref s, fix, m.TimeUs, recorder);
+                    return MeasurementOutcome.Of(OutcomeKind.Initialising);
+                }
+
+                if (dtS > Options.TwoFixMaxAgeS)
+                {
+                    s.Fix = fix;
+                    return MeasurementOutcome.Of(OutcomeKind.Initialising);
+                }
+
+                return MeasurementOutcome.Of(OutcomeKind.BeforeStart);
+            }
+
+            case SensorKind.GnssVelocity:
+            {
+                if (!(m.Value0 >= Options.CourseMinSpeedMps) || double.IsNaN(m.Value1))
+                {
+                    return MeasurementOutcome.Of(OutcomeKind.BeforeStart);
+                }
+
+                double headingSigma = Math.Max(m.Value2 / m.Value0, Options.CourseSigmaFloorRad);
+                s.Course = new HeldCourse(true, m.TimeUs, CourseToHeading(m.Value1), headingSigma, m.Value0, m.Value2);
+                if (s.Phase == TrackPhase.AwaitingHeading && s.Fix.IsSet && (m.TimeUs - s.Fix.TimeUs) / MicrosecondsPerSecond <= Options.TwoFixMaxAgeS)
+                {
+                    StartFromCourse(ref s, s.Fix, s.Course, m.TimeUs, recorder);
+                    return MeasurementOutcome.Of(OutcomeKind.Initialising);
+                }
+
+                return MeasurementOutcome.Of(OutcomeKind.BeforeStart);
+            }
+
+            case SensorKind.WheelSpeed:
+            {
+                TrackZeroSpeed(ref s, m);
+                if (s.Stationary && s.Phase == TrackPhase.AwaitingHeading && s.Fix.IsSet)
+                {
+                    StartStationary(ref s, s.Fix, m.TimeUs, recorder);
+                    return MeasurementOutcome.Of(OutcomeKind.Initialising);
+                }
+
+                return MeasurementOutcome.Of(OutcomeKind.BeforeStart);
+            }
+
+            default:
+                return MeasurementOutcome.Of(OutcomeKind.BeforeStart);
+        }
+    }
+
+    private bool CourseIsFresh(in TrackState s, long timeUs) =>
+        s.Course.IsSet && (timeUs - s.Course.TimeUs) / MicrosecondsPerSecond <= 2.0;
+
+    private void StartFromCourse(ref TrackState s, HeldFix fix, HeldCourse course, long timeUs, IStepRecorder? recorder)
+    {
+        // The fix and the course may be a little apart in time: carry the fix forward along the course.
+        double dtS = (timeUs - fix.TimeUs) / MicrosecondsPerSecond;
+        double travelled = course.SpeedMps * dtS;
+        var moved = new HeldFix(
+            true, timeUs,
+            fix.EastM + (travelled * Math.Cos(course.HeadingRad)),
+            fix.NorthM + (travelled * Math.Sin(course.HeadingRad)),
+            Math.Sqrt((fix.SigmaM * fix.SigmaM) + (0.25 * travelled * travelled)));
+        Start(ref s, moved, course.HeadingRad, course.HeadingSigmaRad, course.SpeedMps, course.SpeedSigmaMps, timeUs, recorder);
+    }
+
+    private void StartStationary(ref TrackState s, HeldFix fix, long timeUs, IStepRecorder? recorder) =>
+        Start(ref s, fix with { TimeUs = timeUs }, 0.0, Math.PI / Math.Sqrt(3.0), 0.0, Options.StationarySpeedSigmaMps, timeUs, recorder);
+
+    private void Start(
+        ref TrackState s, HeldFix fix, double headingRad, double headingSigmaRad, double speedMps, double speedSigmaMps,
+        long timeUs, IStepRecorder? recorder)
+    {
+        double bias = 0.0, scale = 1.0;
+        double biasVar = Profile.InitialGyroBiasSigmaRps * Profile.InitialGyroBiasSigmaRps;
+        double scaleVar = Profile.InitialWheelScaleSigma * Profile.InitialWheelScaleSigma;
+        if (s.HasCalibration)
+        {
+            bias = s.X[GyroBiasRps];
+            scale = s.X[WheelScale];
+            biasVar = s.P[(GyroBiasRps * N) + GyroBiasRps];
+            scaleVar = s.P[(WheelScale * N) + WheelScale];
+        }
+
+        s.X = default;
+        s.P = default;
+        s.X[EastM] = fix.EastM;
+        s.X[NorthM] = fix.NorthM;
+        s.X[HeadingRad] = Angles.WrapPi(headingRad);
+        s.X[SpeedMps] = speedMps;
+        s.X[GyroBiasRps] = bias;
+        s.X[WheelScale] = scale;
+        SetVariance(ref s.P, EastM, fix.SigmaM * fix.SigmaM);
+        SetVariance(ref s.P, NorthM, fix.SigmaM * fix.SigmaM);
+        SetVariance(ref s.P, HeadingRad, headingSigmaRad * headingSigmaRad);
+        SetVariance(ref s.P, SpeedMps, speedSigmaMps * speedSigmaMps);
+        double yawSigma = s.Stationary ? Options.StationaryYawRateSigmaRps : Profile.InitialYawRateSigmaRps;
+        SetVariance(ref s.P, YawRateRps, yawSigma * yawSigma);
+        SetVariance(ref s.P, AccelMps2, Profile.InitialAccelSigmaMps2 * Profile.InitialAccelSigmaMps2);
+        SetVariance(ref s.P, GyroBiasRps, biasVar);
+        SetVariance(ref s.P, WheelScale, scaleVar);
+        s.TimeUs = timeUs;
+        s.Phase = TrackPhase.Running;
+        s.Fix = fix with { TimeUs = timeUs };
+        s.Course = default;
+        s.RejectedFixes = 0;
+        s.HasCalibration = true;
+        recorder?.Start(timeUs, s.X, s.P, s.Plane);
+    }
+
+    private static void SetVariance(ref Matrix8 p, int i, double variance) => p[(i * N) + i] = variance;
+
+    private MeasurementOutcome ProcessRunning(ref TrackState s, in Measurement m, IStepRecorder? recorder)
+    {
+        PredictTo(ref s, m.TimeUs, recorder);
+        double eastBefore = s.X[EastM], northBefore = s.X[NorthM];
+        MeasurementOutcome outcome = m.Kind switch
+        {
+            SensorKind.GnssPosition => UpdateGnssPosition(ref s, m),
+            SensorKind.GnssVelocity => UpdateGnssVelocity(ref s, m),
+            SensorKind.WheelSpeed => UpdateWheelSpeed(ref s, m),
+            SensorKind.Imu => UpdateImu(ref s, m),
+            _ => throw new ArgumentOutOfRangeException(nameof(m), m.Kind, "unknown sensor kind"),
+        };
+
+        if (s.Phase == TrackPhase.Running)
+        {
+            if (outcome.Kind == OutcomeKind.Accepted)
+            {
+                double de = s.X[EastM] - eastBefore, dn = s.X[NorthM] - northBefore;
+                outcome = outcome with { PositionShiftM = Math.Sqrt((de * de) + (dn * dn)) };
+            }
+
+            recorder?.Posterior(s.TimeUs, s.X, s.P, s.Plane);
+        }
+
+        return outcome;
+    }
+
+    private void PredictTo(ref TrackState s, long timeUs, IStepRecorder? recorder)
+    {
+        Matrix8 total = Identity();
+        if (Math.Abs(s.X[EastM]) > Options.ReanchorRadiusM || Math.Abs(s.X[NorthM]) > Options.ReanchorRadiusM)
+        {
+            Reanchor(ref s, ref total);
+        }
+
+        double remainingS = (timeUs - s.TimeUs) / MicrosecondsPerSecond;
+        while (remainingS > 0)
+        {
+            double stepS = Math.Min(remainingS, Options.MaxPredictionStepS);
+            Vector8 prior = s.X;
+            CtraMotionModel.Predict(ref s.X, stepS, out Matrix8 f);
+            ExtendedKalmanFilter.PropagateCovariance(ref s.P, f);
+            CtraMotionModel.AddProcessNoise(ref s.P, prior, stepS, Profile, s.Stationary);
+            if (recorder is not null)
+            {
+                total = Multiply(f, total);
+            }
+
+            remainingS -= stepS;
+        }
+
+        s.TimeUs = timeUs;
+        recorder?.Predicted(total, s.X, s.P);
+    }
+
+    /// <summary>
+    /// Moves the local plane's anchor to the current position: position becomes (0, 0) and heading turns by the
+    /// convergence between the two planes; the covariance is rotated with it, so the output does not jump.
+    /// </summary>
+    private static void Reanchor(ref TrackState s, ref Matrix8 jacobian)
+    {
+        double e = s.X[EastM], n = s.X[NorthM], heading = s.X[HeadingRad];
+        GeodeticPoint here = s.Plane.ToGeodetic(OnPlane(e, n));
+        GeodeticPoint ahead = s.Plane.ToGeodetic(OnPlane(e + Math.Cos(heading), n + Math.Sin(heading)));
+        var plane = new LocalTangentPlane(here with { HeightM = 0 });
+        EnuPoint aheadEnu = plane.ToEnu(ahead);
+        double turn = Angles.WrapPi(Math.Atan2(aheadEnu.NorthM, aheadEnu.EastM) - heading);
+        double c = Math.Cos(turn), si = Math.Sin(turn);
+
+        Matrix8 j = Identity();
+        j[(EastM * N) + EastM] = c;
+        j[(EastM * N) + NorthM] = -si;
+        j[(NorthM * N) + EastM] = si;
+        j[(NorthM * N) + NorthM] = c;
+        s.X[EastM] = 0;
+        s.X[NorthM] = 0;
+        s.X[HeadingRad] = Angles.WrapPi(heading + turn);
+        ExtendedKalmanFilter.PropagateCovariance(ref s.P, j);
+        if (s.Fix.IsSet)
+        {
+            EnuPoint fix = plane.ToEnu(s.Plane.ToGeodetic(OnPlane(s.Fix.EastM, s.Fix.NorthM)));
+            s.Fix = s.Fix with { EastM = fix.EastM, NorthM = fix.NorthM };
+        }
+
+        s.Plane = plane;
+        jacobian = Multiply(j, jacobian);
+    }
+
+    private MeasurementOutcome UpdateGnssPosition(ref TrackState s, in Measurement m)
+    {
+        EnuPoint enu = s.Plane.ToEnu(GeodeticPoint.FromDegrees(m.Value0, m.Value1));
+        double sigma = m.Value2;
+        Span<double> residual = [enu.EastM - s.X[EastM], enu.NorthM - s.X[NorthM]];
+        Span<double> h = stackalloc double[2 * N];
+        h.Clear();
+        h[EastM] = 1.0;
+        h[N + NorthM] = 1.0;
+        Span<double> r = [sigma * sigma, 0, 0, sigma * sigma];
+        double threshold = Gate.Threshold(2);
+        bool accepted = ExtendedKalmanFilter.TryUpdateJoseph(ref s.X, ref s.P, residual, h, r, threshold, out double nis);
+        var fix = new HeldFix(true, m.TimeUs, enu.EastM, enu.NorthM, sigma);
+        if (accepted)
+        {
+            s.RejectedFixes = 0;
+            ReacquireHeading(ref s, fix);
+            s.Fix = fix;
+            return new MeasurementOutcome(OutcomeKind.Accepted, nis, 2, threshold, s.Stationary, 0);
+        }
+
+        if (s.RejectedFixes == 0)
+        {
+            s.RejectedSinceUs = m.TimeUs;
+        }
+
+        s.RejectedFixes++;
+        double offsetM = Math.Sqrt((residual[0] * residual[0]) + (residual[1] * residual[1]));
+        bool sustained = (m.TimeUs - s.RejectedSinceUs) / MicrosecondsPerSecond >= Options.ResetAfterS
+            && s.RejectedFixes >= Options.ResetMinRejectedFixes
+            && offsetM >= Options.ResetDistanceM;
+        if (!sustained)
+        {
+            return new MeasurementOutcome(OutcomeKind.Gated, nis, 2, threshold, s.Stationary, 0);
+        }
+
+        // A real relocation (ferry, tow truck, long tunnel): start again from this fix, keeping the calibration.
+        s.Resets++;
+        s.Phase = TrackPhase.AwaitingHeading;
+        s.Plane = new LocalTangentPlane(GeodeticPoint.FromDegrees(m.Value0, m.Value1));
+        s.Fix = new HeldFix(true, m.TimeUs, 0, 0, sigma);
+        s.Course = default;
+        s.RejectedFixes = 0;
+        return new MeasurementOutcome(OutcomeKind.TrackReset, nis, 2, threshold, s.Stationary, offsetM);
+    }
+
+    /// <summary>
+    /// A track started at a standstill has no heading; once it moves, two accepted fixes far enough apart give one.
+    /// </summary>
+    private void ReacquireHeading(ref TrackState s, HeldFix fix)
+    {
+        double headingVar = s.P[(HeadingRad * N) + HeadingRad];
+        if (headingVar <= Options.HeadingReacquireSigmaRad * Options.HeadingReacquireSigmaRad
+            || !s.Fix.IsSet
+            || Math.Abs(s.X[SpeedMps]) < Options.CourseMinSpeedMps)
+        {
+            return;
+        }
+
+        double dtS = (fix.TimeUs - s.Fix.TimeUs) / MicrosecondsPerSecond;
+        double de = fix.EastM - s.Fix.EastM, dn = fix.NorthM - s.Fix.NorthM;
+        double distanceM = Math.Sqrt((de * de) + (dn * dn));
+        double sigmaM = Math.Sqrt((fix.SigmaM * fix.SigmaM) + (s.Fix.SigmaM * s.Fix.SigmaM));
+        if (dtS <= 0 || dtS > Options.TwoFixMaxAgeS || distanceM <= Options.TwoFixHeadingSigmas * sigmaM)
+        {
+            return;
+        }
+
+        s.X[HeadingRad] = Math.Atan2(dn, de);
+        for (int i = 0; i < N; i++)
+        {
+            s.P[(HeadingRad * N) + i] = 0;
+            s.P[(i * N) + HeadingRad] = 0;
+        }
+
+        double sigmaHeading = sigmaM / distanceM;
+        s.P[(HeadingRad * N) + HeadingRad] = sigmaHeading * sigmaHeading;
+    }
+
+    private MeasurementOutcome UpdateGnssVelocity(ref TrackState s, in Measurement m)
+    {
+        double speed = m.Value0, speedSigma = m.Value2;
+        bool useCourse = speed >= Options.CourseMinSpeedMps && !double.IsNaN(m.Value1);
+        Span<double> h = stackalloc double[2 * N];
+        h.Clear();
+        h[SpeedMps] = 1.0;
+        if (!useCourse)
+        {
+            Span<double> residual1 = [speed - s.X[SpeedMps]];
+            Span<double> r1 = [speedSigma * speedSigma];
+            return Gated(ref s, residual1, h[..N], r1);
+        }
+
+        double courseSigma = Math.Max(speedSigma / speed, Options.CourseSigmaFloorRad);
+        h[N + HeadingRad] = 1.0;
+        Span<double> residual = [speed - s.X[SpeedMps], Angles.WrapPi(CourseToHeading(m.Value1) - s.X[HeadingRad])];
+        Span<double> r = [speedSigma * speedSigma, 0, 0, courseSigma * courseSigma];
+        return Gated(ref s, residual, h, r);
+    }
+
+    private MeasurementOutcome UpdateWheelSpeed(ref TrackState s, in Measurement m)
+    {
+        double v = s.X[SpeedMps], k = s.X[WheelScale];
+        Span<double> residual = [m.Value0 - (v * k)];
+        Span<double> h = stackalloc double[N];
+        h.Clear();
+        h[SpeedMps] = k;
+        h[WheelScale] = v;
+        double sigma = Profile.WheelSpeedSigmaMps;
+        Span<double> r = [sigma * sigma];
+        MeasurementOutcome outcome = Gated(ref s, residual, h, r);
+
+        bool wasStationary = s.Stationary;
+        TrackZeroSpeed(ref s, m);
+        if (s.Stationary)
+        {
+            ApplyStationaryConstraint(ref s);
+        }
+
+        return outcome with { Stationary = s.Stationary || wasStationary };
+    }
+
+    private void TrackZeroSpeed(ref TrackState s, in Measurement m)
+    {
+        if (Math.Abs(m.Value0) > Options.ZeroSpeedThresholdMps)
+        {
+            s.WheelZeroSinceUs = long.MinValue;
+            s.Stationary = false;
+            return;
+        }
+
+        if (s.WheelZeroSinceUs == long.MinValue)
+        {
+            s.WheelZeroSinceUs = m.TimeUs;
+        }
+
+        s.Stationary = (m.TimeUs - s.WheelZeroSinceUs) / MicrosecondsPerSecond >= Options.StationaryAfterS;
+    }
+
+    /// <summary>Zero-velocity pseudo-measurement: speed 0 and yaw rate 0 with small noise, never gated.</summary>
+    private void ApplyStationaryConstraint(ref TrackState s)
+    {
+        Span<double> residual = [-s.X[SpeedMps], -s.X[YawRateRps]];
+        Span<double> h = stackalloc double[2 * N];
+        h.Clear();
+        h[SpeedMps] = 1.0;
+        h[N + YawRateRps] = 1.0;
+        double sv = Options.StationarySpeedSigmaMps, sw = Options.StationaryYawRateSigmaRps;
+        Span<double> r = [sv * sv, 0, 0, sw * sw];
+        ExtendedKalmanFilter.TryUpdateJoseph(ref s.X, ref s.P, residual, h, r, double.PositiveInfinity, out _);
+    }
+
+    private MeasurementOutcome UpdateImu(ref TrackState s, in Measurement m)
+    {
+        Span<double> h = stackalloc double[2 * N];
+        h.Clear();
+        h[YawRateRps] = 1.0;
+        h[GyroBiasRps] = 1.0;
+        double gyroVar = Profile.GyroSigmaRps * Profile.GyroSigmaRps;
+        double yawResidual = m.Value0 - (s.X[YawRateRps] + s.X[GyroBiasRps]);
+        if (double.IsNaN(m.Value1))
+        {
+            Span<double> residual1 = [yawResidual];
+            Span<double> r1 = [gyroVar];
+            return Gated(ref s, residual1, h[..N], r1);
+        }
+
+        h[N + AccelMps2] = 1.0;
+        double accelVar = Profile.AccelSigmaMps2 * Profile.AccelSigmaMps2;
+        Span<double> residual = [yawResidual, m.Value1 - s.X[AccelMps2]];
+        Span<double> r = [gyroVar, 0, 0, accelVar];
+        return Gated(ref s, residual, h, r);
+    }
+
+    private MeasurementOutcome Gated(ref TrackState s, ReadOnlySpan<double> residual, ReadOnlySpan<double> h, ReadOnlySpan<double> r)
+    {
+        int dim = residual.Length;
+        double threshold = Gate.Threshold(dim);
+        bool accepted = ExtendedKalmanFilter.TryUpdateJoseph(ref s.X, ref s.P, residual, h, r, threshold, out double nis);
+        return new MeasurementOutcome(accepted ? OutcomeKind.Accepted : OutcomeKind.Gated, nis, dim, threshold, s.Stationary, 0);
+    }
+
+    /// <summary>GNSS course (clockwise from north) to the filter's heading (counter-clockwise from east).</summary>
+    public static double CourseToHeading(double courseRad) => Angles.WrapPi((0.5 * Math.PI) - courseRad);
+
+    /// <summary>The filter's heading to a course (clockwise from north) in [0, 2π).</summary>
+    public static double HeadingToCourse(double headingRad)
+    {
+        double course = (0.5 * Math.PI) - headingRad;
+        course %= 2.0 * Math.PI;
+        return course < 0 ? course + (2.0 * Math.PI) : course;
+    }
+
+    private static Matrix8 Identity()
+    {
+        Matrix8 m = default;
+        for (int i = 0; i < N; i++)
+        {
+            m[(i * N) + i] = 1.0;
+        }
+
+        return m;
+    }
+
+    private static Matrix8 Multiply(in Matrix8 a, in Matrix8 b)
+    {
+        Matrix8 c = default;
+        for (int i = 0; i < N; i++)
+        {
+            for (int k = 0; k < N; k++)
+            {
+                double aik = a[(i * N) + k];
+                if (aik == 0)
+                {
+                    continue;
+                }
+
+                for (int j = 0; j < N; j++)
+                {
+                    c[(i * N) + j] += aik * b[(k * N) + j];
+                }
+            }
+        }
+
+        return c;
+    }
+}

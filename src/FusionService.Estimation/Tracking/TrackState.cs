@@ -1,0 +1,56 @@
+using FusionService.Estimation.Geodesy;
+using FusionService.Estimation.LinearAlgebra;
+
+namespace FusionService.Estimation.Tracking;
+
+/// <summary>
+/// Everything a track's future depends on, as one value: a copy of it is a checkpoint, and processing the same
+/// measurements from equal states gives bitwise-equal states.
+/// </summary>
+public struct TrackState
+{
+    /// <summary>State vector (see <see cref="Models.StateIndex"/>), in the frame of <see cref="Plane"/>.</summary>
+    public Vector8 X;
+
+    /// <summary>State covariance.</summary>
+    public Matrix8 P;
+
+    /// <summary>Time of the state, Unix microseconds.</summary>
+    public long TimeUs;
+
+    /// <summary>Life-cycle phase.</summary>
+    public TrackPhase Phase;
+
+    /// <summary>Local tangent plane the position components refer to (valid once a fix has been seen).</summary>
+    public LocalTangentPlane Plane;
+
+    /// <summary>Whether <see cref="Plane"/> has been set.</summary>
+    public bool HasPlane;
+
+    /// <summary>Whether the stationary constraint is active.</summary>
+    public bool Stationary;
+
+    /// <summary>Start of the current run of zero wheel speed, Unix microseconds, or <see cref="long.MinValue"/>.</summary>
+    public long WheelZeroSinceUs;
+
+    /// <summary>Whether the calibration states (gyro bias, wheel scale) carry over from before a reset.</summary>
+    public bool HasCalibration;
+
+    /// <summary>Fix held while the track waits for a heading, or the last accepted fix while running.</summary>
+    public HeldFix Fix;
+
+    /// <summary>GNSS course held while the track waits for a position.</summary>
+    public HeldCourse Course;
+
+    /// <summary>Start of the current run of gated GNSS fixes, Unix microseconds.</summary>
+    public long RejectedSinceUs;
+
+    /// <summary>Number of consecutive gated GNSS fixes.</summary>
+    public int RejectedFixes;
+
+    /// <summary>Number of track resets so far.</summary>
+    public int Resets;
+
+    /// <summary>A fresh track.</summary>
+    public static TrackState Empty => new() { WheelZeroSinceUs = long.MinValue, TimeUs = long.MinValue };
+}

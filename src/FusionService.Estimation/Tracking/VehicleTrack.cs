@@ -1,0 +1,274 @@
+using FusionService.Estimation.Measurements;
+using FusionService.Estimation.Models;
+
+namespace FusionService.Estimation.Tracking;
+
+/// <summary>
+/// One vehicle's live track: processes measurements in canonical order (time, sensor kind, message key) whatever
+/// order they arrive in. A measurement older than the newest one but inside the lag window is inserted and the track is
+/// re-processed from the newest posterior checkpoint before it, which is exact for the extended filter because every
+/// later step is re-linearised (the reference that Bar-Shalom 2002, "Update with out-of-sequence measurements in
+/// tracking: exact solution", IEEE T-AES 38(3), measures cheaper methods against). Exact duplicates are ignored.
+/// Memory is bounded by the lag window plus one checkpoint interval.
+/// </summary>
+/// <remarks>Not thread-safe: one caller at a time (a track grain).</remarks>
+public sealed class VehicleTrack
+{
+    private readonly TrackProcessor _processor;
+    private readonly long _windowUs;
+    private readonly long _checkpointIntervalUs;
+    private Measurement[] _buffer = new Measurement[64];
+    private int _start;
+    private int _count;
+    private Checkpoint[] _checkpoints = new Checkpoint[8];
+    private int _checkpointCount;
+    private TrackState _current = TrackState.Empty;
+    private long _lastCheckpointUs;
+
+    /// <summary>Creates an empty track.</summary>
+    public VehicleTrack(TrackOptions options, NoiseProfile profile)
+        : this(new TrackProcessor(options, profile))
+    {
+    }
+
+    /// <summary>Creates an empty track sharing a processor (options, profile and gate) with other tracks.</summary>
+    public VehicleTrack(TrackProcessor processor)
+    {
+        ArgumentNullException.ThrowIfNull(processor);
+        _processor = processor;
+        _windowUs = (long)Math.Round(processor.Options.LagWindowS * 1e6);
+        _checkpointIntervalUs = (long)Math.Round(processor.Options.CheckpointIntervalS * 1e6);
+        _checkpoints[0] = new Checkpoint(TrackState.Empty, default, true);
+        _checkpointCount = 1;
+        _lastCheckpointUs = long.MinValue;
+        NewestTimeUs = long.MinValue;
+    }
+
+    /// <summary>Creates a track that continues from a stored state (for example a checkpoint read back after a restart).</summary>
+    /// <param name="processor">Shared processor.</param>
+    /// <param name="state">State to continue from; measurements before its time will be too late.</param>
+    public VehicleTrack(TrackProcessor processor, in TrackState state)
+        : this(processor)
+    {
+        _current = state;
+        _checkpoints[0] = new Checkpoint(state, default, true);
+        NewestTimeUs = state.TimeUs;
+        _lastCheckpointUs = state.TimeUs;
+    }
+
+    /// <summary>The state after every held measurement.</summary>
+    public ref readonly TrackState Current => ref _current;
+
+    /// <summary>Time of the newest measurement seen, Unix microseconds (<see cref="long.MinValue"/> before any).</summary>
+    public long NewestTimeUs { get; private set; }
+
+    /// <summary>Number of measurements held for re-processing.</summary>
+    public int HeldMeasurements => _count;
+
+    /// <summary>Number of posterior checkpoints held.</summary>
+    public int HeldCheckpoints => _checkpointCount;
+
+    /// <summary>Processor (options, profile, gate) of this track.</summary>
+    public TrackProcessor Processor => _processor;
+
+    /// <summary>Approximate bytes of memory this track holds (buffers and checkpoints, not the object headers).</summary>
+    public long ApproximateBytes =>
+        (_buffer.Length * (long)System.Runtime.CompilerServices.Unsafe.SizeOf<Measurement>())
+        + (_checkpoints.Length * (long)System.Runtime.CompilerServices.Unsafe.SizeOf<Checkpoint>())
+        + System.Runtime.CompilerServices.Unsafe.SizeOf<TrackState>();
+
+    /// <summary>
+    /// Processes a measurement that may arrive late, duplicated or out of order; the observer hears the outcome of it and
+    /// of every measurement re-processed because of it.
+    /// </summary>
+    /// <returns>The outcome of <paramref name="m"/> itself.</returns>
+    public MeasurementOutcome Process(in Measurement m, ITrackObserver? observer = null)
+    {
+        if (NewestTimeUs != long.MinValue && m.TimeUs < NewestTimeUs - _windowUs)
+        {
+            return Report(m, MeasurementOutcome.Of(OutcomeKind.TooLate), observer);
+        }
+
+        int index = LowerBound(m);
+        if (index < _count && CompareKey(Held(index), m) == 0)
+        {
+            var kind = Held(index).Equals(m) ? OutcomeKind.Duplicate : OutcomeKind.Conflict;
+            return Report(m, MeasurementOutcome.Of(kind), observer);
+        }
+
+        MeasurementOutcome outcome = index == _count ? Append(m, observer) : Insert(index, m, observer);
+        if (m.TimeUs > NewestTimeUs)
+        {
+            NewestTimeUs = m.TimeUs;
+        }
+
+        Evict();
+        return outcome;
+    }
+
+    private MeasurementOutcome Report(in Measurement m, in MeasurementOutcome outcome, ITrackObserver? observer)
+    {
+        observer?.OnOutcome(m, outcome, _current, false);
+        return outcome;
+    }
+
+    private MeasurementOutcome Append(in Measurement m, ITrackObserver? observer)
+    {
+        TrackState next = _current;
+        MeasurementOutcome outcome = _processor.Process(ref next, m);
+        _current = next;
+        EnsureBufferRoom();
+        _buffer[_start + _count] = m;
+        _count++;
+        MaybeCheckpoint(m);
+        observer?.OnOutcome(m, outcome, _current, false);
+        return outcome;
+    }
+
+    private MeasurementOutcome Insert(int index, in Measurement m, ITrackObserver? observer)
+    {
+        EnsureBufferRoom();
+        Array.Copy(_buffer, _start + index, _buffer, _start + index + 1, _count - index);
+        _buffer[_start + index] = m;
+        _count++;
+
+        int checkpoint = _checkpointCount - 1;
+        while (!_checkpoints[checkpoint].IsOrigin && CompareKey(_checkpoints[checkpoint].Last, m) >= 0)
+        {
+            checkpoint--;
+        }
+
+        _checkpointCount = checkpoint + 1;
+        Checkpoint from = _checkpoints[checkpoint];
+        TrackState state = from.State;
+        _lastCheckpointUs = from.IsOrigin ? long.MinValue : from.Last.TimeUs;
+        int first = from.IsOrigin ? 0 : IndexAfter(from.Last);
+        MeasurementOutcome own = default;
+        for (int i = first; i < _count; i++)
+        {
+            ref readonly Measurement held = ref _buffer[_start + i];
+            MeasurementOutcome outcome = _processor.Process(ref state, held);
+            _current = state;
+            MaybeCheckpoint(held);
+            bool isOwn = i == index;
+            if (isOwn)
+            {
+                own = outcome;
+            }
+
+            observer?.OnOutcome(held, outcome, state, !isOwn);
+        }
+
+        _current = state;
+        return own;
+    }
+
+    private void MaybeCheckpoint(in Measurement m)
+    {
+        if (_lastCheckpointUs != long.MinValue && m.TimeUs - _lastCheckpointUs < _checkpointIntervalUs)
+        {
+            return;
+        }
+
+        if (_checkpointCount == _checkpoints.Length)
+        {
+            Array.Resize(ref _checkpoints, _checkpoints.Length * 2);
+        }
+
+        _checkpoints[_checkpointCount++] = new Checkpoint(_current, m, false);
+        _lastCheckpointUs = m.TimeUs;
+    }
+
+    /// <summary>Drops what no measurement inside the window can need: checkpoints before the newest one older than the window, and the measurements before it.</summary>
+    private void Evict()
+    {
+        long horizonUs = NewestTimeUs - _windowUs;
+        int baseIndex = 0;
+        for (int i = 1; i < _checkpointCount; i++)
+        {
+            if (_checkpoints[i].Last.TimeUs < horizonUs)
+            {
+                baseIndex = i;
+            }
+        }
+
+        if (baseIndex == 0)
+        {
+            return;
+        }
+
+        Checkpoint baseCheckpoint = _checkpoints[baseIndex];
+        int keep = IndexAfter(baseCheckpoint.Last);
+        _start += keep;
+        _count -= keep;
+        Array.Copy(_checkpoints, baseIndex, _checkpoints, 0, _checkpointCount - baseIndex);
+        Array.Clear(_checkpoints, _checkpointCount - baseIndex, baseIndex);
+        _checkpointCount -= baseIndex;
+    }
+
+    private void EnsureBufferRoom()
+    {
+        if (_start + _count < _buffer.Length)
+        {
+            return;
+        }
+
+        if (_count + 1 > _buffer.Length * 3 / 4)
+        {
+            // Grow by a quarter: a full window stays close to its real size.
+            var larger = new Measurement[Math.Max(_buffer.Length + (_buffer.Length / 4), _count + 16)];
+            Array.Copy(_buffer, _start, larger, 0, _count);
+            _buffer = larger;
+        }
+        else
+        {
+            Array.Copy(_buffer, _start, _buffer, 0, _count);
+        }
+
+        _start = 0;
+    }
+
+    private ref readonly Measurement Held(int index) => ref _buffer[_start + index];
+
+    /// <summary>Index of the first held measurement after <paramref name="m"/> in canonical order (m itself may have been evicted).</summary>
+    private int IndexAfter(in Measurement m)
+    {
+        int index = LowerBound(m);
+        return index < _count && CompareKey(Held(index), m) == 0 ? index + 1 : index;
+    }
+
+    /// <summary>Index of the first held measurement whose canonical key is not less than <paramref name="m"/>'s.</summary>
+    private int LowerBound(in Measurement m)
+    {
+        int lo = 0, hi = _count;
+        while (lo < hi)
+        {
+            int mid = (lo + hi) >>> 1;
+            if (CompareKey(Held(mid), m) < 0)
+            {
+                lo = mid + 1;
+            }
+            else
+            {
+                hi = mid;
+            }
+        }
+
+        return lo;
+    }
+
+    /// <summary>Canonical processing order: time, then sensor kind, then message key.</summary>
+    public static int CompareKey(in Measurement a, in Measurement b)
+    {
+        int c = a.TimeUs.CompareTo(b.TimeUs);
+        if (c != 0)
+        {
+            return c;
+        }
+
+        c = a.Kind.CompareTo(b.Kind);
+        return c != 0 ? c : a.MessageKey.CompareTo(b.MessageKey);
+    }
+
+    private readonly record struct Checkpoint(TrackState State, Measurement Last, bool IsOrigin);
+}
