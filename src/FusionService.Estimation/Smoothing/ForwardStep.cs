@@ -1,0 +1,35 @@
+using FusionService.Estimation.Geodesy;
+using FusionService.Estimation.LinearAlgebra;
+
+namespace FusionService.Estimation.Smoothing;
+
+/// <summary>
+/// One step of the forward (filtering) pass kept for smoothing: the filtered state at <see cref="TimeUs"/> and, except
+/// for the first step of a segment, the prediction into it from the previous step.
+/// </summary>
+public struct ForwardStep
+{
+    /// <summary>Time, Unix microseconds.</summary>
+    public long TimeUs;
+
+    /// <summary>Local plane of the position components.</summary>
+    public LocalTangentPlane Plane;
+
+    /// <summary>Filtered mean x(k|k).</summary>
+    public Vector8 Filtered;
+
+    /// <summary>Filtered covariance P(k|k).</summary>
+    public Matrix8 FilteredCovariance;
+
+    /// <summary>Whether the prediction fields are set (false for a segment's first step).</summary>
+    public bool HasPrediction;
+
+    /// <summary>Transition Jacobian F from the previous step into this one.</summary>
+    public Matrix8 Transition;
+
+    /// <summary>Predicted mean x(k|k-1).</summary>
+    public Vector8 Predicted;
+
+    /// <summary>Predicted covariance P(k|k-1).</summary>
+    public Matrix8 PredictedCovariance;
+}
