@@ -9,8 +9,11 @@ public sealed record TrackOptions
     /// <summary>How far behind the newest measurement a late one is still fused exactly, seconds. Default 60.</summary>
     public double LagWindowS { get; init; } = 60.0;
 
-    /// <summary>Spacing of the posterior checkpoints a late measurement is replayed from, seconds. Default 5.</summary>
-    public double CheckpointIntervalS { get; init; } = 5.0;
+    /// <summary>
+    /// Spacing of the posterior checkpoints a late measurement is replayed from, seconds. Default 10: a track then holds
+    /// at most the window plus 10 s of measurements and (window / 10 s) + 2 checkpoints of 0.8 KB.
+    /// </summary>
+    public double CheckpointIntervalS { get; init; } = 10.0;
 
     /// <summary>Largest prediction step, seconds; longer gaps are predicted in sub-steps. Default 1.</summary>
     public double MaxPredictionStepS { get; init; } = 1.0;

@@ -20,7 +20,7 @@ public sealed class VehicleTrack
     private Measurement[] _buffer = new Measurement[64];
     private int _start;
     private int _count;
-    private Checkpoint[] _checkpoints = new Checkpoint[8];
+    private Checkpoint[] _checkpoints;
     private int _checkpointCount;
     private TrackState _current = TrackState.Empty;
     private long _lastCheckpointUs;
@@ -38,6 +38,7 @@ public sealed class VehicleTrack
         _processor = processor;
         _windowUs = (long)Math.Round(processor.Options.LagWindowS * 1e6);
         _checkpointIntervalUs = (long)Math.Round(processor.Options.CheckpointIntervalS * 1e6);
+        _checkpoints = new Checkpoint[(int)Math.Ceiling(processor.Options.LagWindowS / processor.Options.CheckpointIntervalS) + 3];
         _checkpoints[0] = new Checkpoint(TrackState.Empty, default, true);
         _checkpointCount = 1;
         _lastCheckpointUs = long.MinValue;
@@ -213,10 +214,11 @@ public sealed class VehicleTrack
             return;
         }
 
-        if (_count + 1 > _buffer.Length * 3 / 4)
+        if (_count + 1 > _buffer.Length - (_buffer.Length / 32))
         {
-            // Grow by a quarter: a full window stays close to its real size.
-            var larger = new Measurement[Math.Max(_buffer.Length + (_buffer.Length / 4), _count + 16)];
+            // Grow by an eighth, and otherwise slide the window down: a full window stays within a few percent of its
+            // real size, at the price of moving the held measurements once every 1/32 of the buffer.
+            var larger = new Measurement[Math.Max(_buffer.Length + (_buffer.Length / 8), _count + 16)];
             Array.Copy(_buffer, _start, larger, 0, _count);
             _buffer = larger;
         }
@@ -261,13 +263,7 @@ public sealed class VehicleTrack
     public static int CompareKey(in Measurement a, in Measurement b)
     {
         int c = a.TimeUs.CompareTo(b.TimeUs);
-        if (c != 0)
-        {
-            return c;
-        }
-
-        c = a.Kind.CompareTo(b.Kind);
-        return c != 0 ? c : a.MessageKey.CompareTo(b.MessageKey);
+        return c != 0 ? c : a.OrderKey.CompareTo(b.OrderKey);
     }
 
     private readonly record struct Checkpoint(TrackState State, Measurement Last, bool IsOrigin);
