@@ -1,0 +1,148 @@
+using FusionService.Estimation.Filtering;
+using FusionService.Estimation.Gating;
+using FusionService.Estimation.LinearAlgebra;
+using FusionService.Estimation.Linear;
+using MathNet.Numerics.LinearAlgebra;
+
+namespace FusionService.Estimation.Tests.Reference;
+
+/// <summary>
+/// The fixed-size, allocation-free <see cref="ExtendedKalmanFilter"/> steps must compute the same numbers as the
+/// dense reference <see cref="DenseKalmanFilter"/> (Kalman 1960; Joseph form, Bucy and Joseph 1968, from memory)
+/// on random 8-state cases: seeded random SPD P, F with rows 4 to 7 of the identity (the structure
+/// <see cref="ExtendedKalmanFilter.PropagateCovariance"/> assumes), H of 1 to 3 rows and SPD R (invented test data).
+/// Both sides implement the same formulas in a different order of operations, so they agree to round-off:
+/// 1e-12 relative to the largest element.
+/// </summary>
+public sealed class FixedSizeFilterAgreementTests
+{
+    private const double RelativeTolerance = 1e-12;
+    private const int N = Matrix8.Size;
+
+    [Theory]
+    [InlineData(1)]
+    [InlineData(2)]
+    [InlineData(3)]
+    [InlineData(4)]
+    [InlineData(5)]
+    public void PropagateCovariance_equals_the_dense_prediction(int seed)
+    {
+        var random = new Random(seed);
+        var p = Dense.RandomSpd(random, N, 0.1);
+        var f = RandomTransition(random);
+        var fixedSize = ToMatrix8(p);
+
+        ExtendedKalmanFilter.PropagateCovariance(ref fixedSize, ToMatrix8(f));
+        var dense = DenseKalmanFilter.Predict(new GaussianEstimate(Vector<double>.Build.Dense(N), p), f, Dense.Zero(N, N));
+
+        RelativeAssert.Relative(dense.Covariance, ToDense(fixedSize), RelativeTolerance, "F P Fᵀ");
+        RelativeAssert.SymmetricPositiveDefinite(ToDense(fixedSize), "F P Fᵀ");
+    }
+
+    [Theory]
+    [InlineData(1, 1)]
+    [InlineData(2, 1)]
+    [InlineData(3, 2)]
+    [InlineData(4, 2)]
+    [InlineData(5, 3)]
+    [InlineData(6, 3)]
+    public void TryUpdateJoseph_equals_the_dense_update(int seed, int measurementDimension)
+    {
+        var random = new Random(seed);
+        var (x, p, h, r, residual) = RandomUpdateCase(random, measurementDimension, residualScale: 1.0);
+        var xFixed = ToVector8(x);
+        var pFixed = ToMatrix8(p);
+
+        bool applied = ExtendedKalmanFilter.TryUpdateJoseph(
+            ref xFixed, ref pFixed, residual.ToArray(), RowMajor(h), RowMajor(r), double.PositiveInfinity, out double nis);
+        var dense = DenseKalmanFilter.Update(new GaussianEstimate(x, p), (h * x) + residual, h, r);
+
+        Assert.True(applied);
+        RelativeAssert.Relative(dense.Nis, nis, RelativeTolerance, "NIS");
+        RelativeAssert.Relative(dense.Posterior.Mean, ToDense(xFixed), RelativeTolerance, "posterior mean");
+        RelativeAssert.Relative(dense.Posterior.Covariance, ToDense(pFixed), RelativeTolerance, "posterior covariance");
+        RelativeAssert.SymmetricPositiveDefinite(ToDense(pFixed), "posterior covariance");
+    }
+
+    [Theory]
+    [InlineData(7, 1)]
+    [InlineData(8, 2)]
+    [InlineData(9, 3)]
+    public void A_measurement_beyond_the_gate_leaves_state_and_covariance_untouched(int seed, int measurementDimension)
+    {
+        var random = new Random(seed);
+        var (x, p, h, r, residual) = RandomUpdateCase(random, measurementDimension, residualScale: 100.0);
+        var xFixed = ToVector8(x);
+        var pFixed = ToMatrix8(p);
+        double threshold = new ChiSquareGate().Threshold(measurementDimension);
+
+        bool applied = ExtendedKalmanFilter.TryUpdateJoseph(
+            ref xFixed, ref pFixed, residual.ToArray(), RowMajor(h), RowMajor(r), threshold, out double nis);
+        double denseNis = DenseKalmanFilter.Update(new GaussianEstimate(x, p), (h * x) + residual, h, r).Nis;
+
+        Assert.False(applied);
+        Assert.True(nis > threshold, $"NIS {nis} should exceed the gate {threshold}");
+        RelativeAssert.Relative(denseNis, nis, RelativeTolerance, "NIS of the rejected measurement");
+        Assert.Equal(x.ToArray(), ToDense(xFixed).ToArray());
+        Assert.Equal(p.ToRowMajorArray(), ToDense(pFixed).ToRowMajorArray());
+    }
+
+    private static (Vector<double> X, Matrix<double> P, Matrix<double> H, Matrix<double> R, Vector<double> Residual)
+        RandomUpdateCase(Random random, int m, double residualScale)
+    {
+        var x = Vector<double>.Build.Dense(N, _ => Dense.Gaussian(random));
+        var p = Dense.RandomSpd(random, N, 0.1);
+        var h = Matrix<double>.Build.Dense(m, N, (_, _) => Dense.Gaussian(random));
+        var r = Dense.RandomSpd(random, m, 0.05);
+        var s = (h * p * h.Transpose()) + r;
+
+        // A residual drawn from N(0, S), scaled: 1 gives a typical NIS, 100 one far beyond any gate.
+        var residual = s.Cholesky().Factor * Vector<double>.Build.Dense(m, _ => Dense.Gaussian(random)) * residualScale;
+        return (x, p, h, r, residual);
+    }
+
+    private static Matrix<double> RandomTransition(Random random)
+    {
+        var f = Dense.Identity(N);
+        for (int i = 0; i < 4; i++)
+        {
+            for (int j = 0; j < N; j++)
+            {
+                f[i, j] = Dense.Gaussian(random);
+            }
+        }
+
+        return f;
+    }
+
+    private static double[] RowMajor(Matrix<double> matrix) => matrix.ToRowMajorArray();
+
+    private static Matrix8 ToMatrix8(Matrix<double> matrix)
+    {
+        var result = default(Matrix8);
+        for (int i = 0; i < N; i++)
+        {
+            for (int j = 0; j < N; j++)
+            {
+                result[(i * N) + j] = matrix[i, j];
+            }
+        }
+
+        return result;
+    }
+
+    private static Matrix<double> ToDense(Matrix8 matrix) => Matrix<double>.Build.Dense(N, N, (i, j) => matrix[(i * N) + j]);
+
+    private static Vector8 ToVector8(Vector<double> vector)
+    {
+        var result = default(Vector8);
+        for (int i = 0; i < N; i++)
+        {
+            result[i] = vector[i];
+        }
+
+        return result;
+    }
+
+    private static Vector<double> ToDense(Vector8 vector) => Vector<double>.Build.Dense(N, i => vector[i]);
+}
