@@ -19,8 +19,11 @@ internal sealed class SimpleDrive
 
     public List<(long TimeUs, Vector8 Truth)> Truth { get; } = [];
 
+    /// <summary>Message keys of GNSS fixes displaced by an injected 30-100 m jump.</summary>
+    public HashSet<ulong> Outliers { get; } = [];
+
     public static SimpleDrive Create(int seed, double durationS = 300, double gnssSigmaM = 3.0, double wheelScale = 1.0,
-        double gyroBiasRps = 0.0, double stopFromS = double.PositiveInfinity)
+        double gyroBiasRps = 0.0, double stopFromS = double.PositiveInfinity, double outlierProbability = 0.0)
     {
         var drive = new SimpleDrive();
         var random = new Random(seed);
@@ -53,13 +56,24 @@ internal sealed class SimpleDrive
             drive.Truth.Add((timeUs, x));
             if (t % 100_000 == 0)
             {
-                drive.Measurements.Add(Measurement.WheelSpeed(timeUs, ++key, Math.Max(0, (x[SpeedMps] * x[WheelScale]) + (0.05 * Gauss(random)))));
+                // Pulse-counting wheel sensors read exactly zero at a standstill.
+                double wheel = x[SpeedMps] == 0 ? 0 : Math.Max(0, (x[SpeedMps] * x[WheelScale]) + (0.05 * Gauss(random)));
+                drive.Measurements.Add(Measurement.WheelSpeed(timeUs, ++key, wheel));
                 drive.Measurements.Add(Measurement.Imu(timeUs, ++key, x[YawRateRps] + x[GyroBiasRps] + (0.005 * Gauss(random)), x[AccelMps2] + (0.3 * Gauss(random))));
             }
 
             if (t % 1_000_000 == 0)
             {
-                GeodeticPoint p = plane.ToGeodetic(new EnuPoint(x[EastM] + (gnssSigmaM * Gauss(random)), x[NorthM] + (gnssSigmaM * Gauss(random)), 0));
+                double e = x[EastM] + (gnssSigmaM * Gauss(random)), n = x[NorthM] + (gnssSigmaM * Gauss(random));
+                if (random.NextDouble() < outlierProbability)
+                {
+                    double jumpM = 30 + (70 * random.NextDouble()), direction = 2 * Math.PI * random.NextDouble();
+                    e += jumpM * Math.Cos(direction);
+                    n += jumpM * Math.Sin(direction);
+                    drive.Outliers.Add(key + 1);
+                }
+
+                GeodeticPoint p = plane.ToGeodetic(new EnuPoint(e, n, 0));
                 drive.Measurements.Add(Measurement.GnssPosition(timeUs, ++key, p.LatitudeDeg, p.LongitudeDeg, gnssSigmaM));
             }
 
