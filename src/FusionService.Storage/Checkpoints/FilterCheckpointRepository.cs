@@ -1,0 +1,79 @@
+// Storage of filter checkpoints, the restart points for re-processing.
+using Dapper;
+using FusionService.Storage.Bulk;
+using Npgsql;
+
+namespace FusionService.Storage.Checkpoints;
+
+/// <summary>Stores and finds <see cref="FilterCheckpointRow"/>s in <c>filter_checkpoints</c>.</summary>
+public sealed class FilterCheckpointRepository
+{
+    private const string UpsertSql = """
+        INSERT INTO filter_checkpoints (fleet_id, vehicle_id, time_us, anchor_lat_deg, anchor_lon_deg, payload_version, payload)
+        VALUES (@FleetId, @VehicleId, @TimeUs, @AnchorLatDeg, @AnchorLonDeg, @PayloadVersion, @Payload)
+        ON CONFLICT (fleet_id, vehicle_id, time_us) DO UPDATE
+        SET anchor_lat_deg = EXCLUDED.anchor_lat_deg,
+            anchor_lon_deg = EXCLUDED.anchor_lon_deg,
+            payload_version = EXCLUDED.payload_version,
+            payload = EXCLUDED.payload,
+            created_at = now()
+        """;
+
+    private const string NewestBeforeSql = """
+        SELECT fleet_id AS FleetId, vehicle_id AS VehicleId, time_us AS TimeUs, anchor_lat_deg AS AnchorLatDeg,
+               anchor_lon_deg AS AnchorLonDeg, payload_version AS PayloadVersion, payload AS Payload
+        FROM filter_checkpoints
+        WHERE fleet_id = @FleetId AND vehicle_id = @VehicleId AND time_us < @TimeUs
+        ORDER BY time_us DESC
+        LIMIT 1
+        """;
+
+    private readonly NpgsqlDataSource _dataSource;
+
+    /// <summary>Creates the repository.</summary>
+    /// <param name="dataSource">Data source whose connections have the store's schema on their search path.</param>
+    public FilterCheckpointRepository(NpgsqlDataSource dataSource)
+    {
+        ArgumentNullException.ThrowIfNull(dataSource);
+        _dataSource = dataSource;
+        DapperTypeHandlers.EnsureRegistered();
+    }
+
+    /// <summary>Stores <paramref name="checkpoint"/>, replacing one of the same fleet, vehicle and instant.</summary>
+    /// <param name="checkpoint">The checkpoint; its fleet must exist.</param>
+    /// <param name="cancellationToken">Cancels the statement.</param>
+    /// <exception cref="PostgresException">Unknown fleet (23503) or anchor out of range (23514).</exception>
+    public async Task UpsertAsync(FilterCheckpointRow checkpoint, CancellationToken cancellationToken = default)
+    {
+        ArgumentException.ThrowIfNullOrEmpty(checkpoint.VehicleId, nameof(checkpoint));
+        var connection = await _dataSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
+        await using (connection.ConfigureAwait(false))
+        {
+            await connection.ExecuteAsync(
+                new CommandDefinition(UpsertSql, checkpoint, cancellationToken: cancellationToken)).ConfigureAwait(false);
+        }
+    }
+
+    /// <summary>
+    /// The newest checkpoint of the vehicle strictly before <paramref name="timeUs"/>, the state to replay from
+    /// when a measurement taken at <paramref name="timeUs"/> arrives late; null when there is none.
+    /// </summary>
+    /// <param name="fleetId">Owning fleet.</param>
+    /// <param name="vehicleId">Vehicle within the fleet.</param>
+    /// <param name="timeUs">Exclusive upper bound, Unix microseconds.</param>
+    /// <param name="cancellationToken">Cancels the query.</param>
+    public async Task<FilterCheckpointRow?> NewestCheckpointBeforeAsync(
+        Guid fleetId, string vehicleId, long timeUs, CancellationToken cancellationToken = default)
+    {
+        ArgumentNullException.ThrowIfNull(vehicleId);
+        var connection = await _dataSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
+        await using (connection.ConfigureAwait(false))
+        {
+            var rows = await connection.QueryAsync<FilterCheckpointRow>(new CommandDefinition(
+                NewestBeforeSql,
+                new { FleetId = fleetId, VehicleId = vehicleId, TimeUs = timeUs },
+                cancellationToken: cancellationToken)).ConfigureAwait(false);
+            return rows.AsList() is [var newest] ? newest : null;
+        }
+    }
+}

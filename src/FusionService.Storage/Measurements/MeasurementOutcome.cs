@@ -1,0 +1,22 @@
+// What the filter did with a stored measurement.
+namespace FusionService.Storage.Measurements;
+
+/// <summary>What the filter did with a measurement; stored as <c>smallint</c> in <c>measurements.outcome</c>.
+/// The numeric values are part of the schema (checked by a constraint) and must not change.</summary>
+public enum MeasurementOutcome : short
+{
+    /// <summary>Used in a filter update.</summary>
+    Accepted = 0,
+
+    /// <summary>Rejected by the innovation gate (normalised innovation squared above the threshold).</summary>
+    Gated = 1,
+
+    /// <summary>Older than the window the filter can replay; stored but not used.</summary>
+    TooLate = 2,
+
+    /// <summary>Judged a duplicate of a measurement already used.</summary>
+    Duplicate = 3,
+
+    /// <summary>Stored, not yet processed by the filter.</summary>
+    Pending = 4,
+}

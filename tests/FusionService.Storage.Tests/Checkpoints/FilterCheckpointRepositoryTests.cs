@@ -1,0 +1,81 @@
+// Checkpoints: upsert replaces, newest strictly before an instant, per vehicle.
+using FusionService.Storage.Checkpoints;
+using FusionService.Storage.Fleets;
+using FusionService.Storage.Tests.Infrastructure;
+using Npgsql;
+
+namespace FusionService.Storage.Tests.Checkpoints;
+
+[Collection(PostgresCollection.Name)]
+public sealed class FilterCheckpointRepositoryTests(PostgresFixture server)
+{
+    [Fact]
+    public async Task Newest_checkpoint_before_is_strictly_before_and_per_vehicle()
+    {
+        await using var schema = await server.NewMigratedSchemaAsync();
+        var fleet = await new FleetAdmin(schema.DataSource).CreateFleetAsync("checkpoint fleet");
+        var repository = new FilterCheckpointRepository(schema.DataSource);
+        var t = TestTimes.At(TestTimes.Day, 12, 0, 0, 0);
+        await repository.UpsertAsync(Checkpoint(fleet, "van-1", t, 1));
+        await repository.UpsertAsync(Checkpoint(fleet, "van-1", t + 10_000_000, 2));
+        await repository.UpsertAsync(Checkpoint(fleet, "van-2", t + 5_000_000, 3));
+
+        Assert.Null(await repository.NewestCheckpointBeforeAsync(fleet, "van-1", t));
+        Assert.Equal(t, (await repository.NewestCheckpointBeforeAsync(fleet, "van-1", t + 1))?.TimeUs);
+        Assert.Equal(t, (await repository.NewestCheckpointBeforeAsync(fleet, "van-1", t + 10_000_000))?.TimeUs);
+        var newest = await repository.NewestCheckpointBeforeAsync(fleet, "van-1", long.MaxValue);
+        Assert.NotNull(newest);
+        AssertSame(Checkpoint(fleet, "van-1", t + 10_000_000, 2), newest.Value);
+        Assert.Null(await repository.NewestCheckpointBeforeAsync(fleet, "van-3", long.MaxValue));
+        Assert.Null(await repository.NewestCheckpointBeforeAsync(Guid.NewGuid(), "van-1", long.MaxValue));
+    }
+
+    [Fact]
+    public async Task Upsert_of_the_same_instant_replaces_the_checkpoint()
+    {
+        await using var schema = await server.NewMigratedSchemaAsync();
+        var fleet = await new FleetAdmin(schema.DataSource).CreateFleetAsync("upsert fleet");
+        var repository = new FilterCheckpointRepository(schema.DataSource);
+        var t = TestTimes.At(TestTimes.Day, 12, 0, 0, 0);
+
+        await repository.UpsertAsync(Checkpoint(fleet, "van-1", t, 1));
+        var replacement = Checkpoint(fleet, "van-1", t, 2) with { PayloadVersion = 3, Payload = new byte[] { 0, 255, 0 } };
+        await repository.UpsertAsync(replacement);
+
+        Assert.Equal(1L, await schema.ScalarAsync<long>("SELECT count(*) FROM filter_checkpoints"));
+        AssertSame(replacement, (await repository.NewestCheckpointBeforeAsync(fleet, "van-1", t + 1))!.Value);
+    }
+
+    [Fact]
+    public async Task A_checkpoint_of_an_unknown_fleet_is_refused()
+    {
+        await using var schema = await server.NewMigratedSchemaAsync();
+        var repository = new FilterCheckpointRepository(schema.DataSource);
+
+        var error = await Assert.ThrowsAsync<PostgresException>(() => repository.UpsertAsync(Checkpoint(Guid.NewGuid(), "van-1", 0, 1)));
+
+        Assert.Equal(PostgresErrorCodes.ForeignKeyViolation, error.SqlState);
+    }
+
+    private static FilterCheckpointRow Checkpoint(Guid fleet, string vehicle, long timeUs, int seed)
+    {
+        var payload = new byte[64 * seed];
+        for (var i = 0; i < payload.Length; i++)
+        {
+            payload[i] = (byte)((i * 31) + seed);
+        }
+
+        return new FilterCheckpointRow(fleet, vehicle, timeUs, 52.0 + (seed * 1e-6), 13.0 - (seed * 1e-6), 1, payload);
+    }
+
+    private static void AssertSame(FilterCheckpointRow expected, FilterCheckpointRow actual)
+    {
+        Assert.Equal(expected.FleetId, actual.FleetId);
+        Assert.Equal(expected.VehicleId, actual.VehicleId);
+        Assert.Equal(expected.TimeUs, actual.TimeUs);
+        AssertBits.Equal(expected.AnchorLatDeg, actual.AnchorLatDeg, "anchor_lat_deg");
+        AssertBits.Equal(expected.AnchorLonDeg, actual.AnchorLonDeg, "anchor_lon_deg");
+        Assert.Equal(expected.PayloadVersion, actual.PayloadVersion);
+        Assert.Equal(expected.Payload.ToArray(), actual.Payload.ToArray());
+    }
+}
