@@ -11,6 +11,16 @@ ensure_prerequisites() {
     echo "build.sh: the .NET SDK (see global.json) is required on PATH" >&2
     exit 2
   fi
+  # The service and the tests start a private PostgreSQL 15 cluster from the machine's server binaries.
+  if [ ! -x /usr/lib/postgresql/15/bin/initdb ] && ! command -v initdb >/dev/null 2>&1; then
+    if [ "$(id -u)" = 0 ] && command -v apt-get >/dev/null 2>&1; then
+      echo "==> installing PostgreSQL 15 server binaries (apt)"
+      apt-get update -qq && DEBIAN_FRONTEND=noninteractive apt-get install -y -qq postgresql-15 >/dev/null
+    else
+      echo "build.sh: PostgreSQL 15 server binaries (initdb, pg_ctl) are required; install postgresql-15" >&2
+      exit 2
+    fi
+  fi
 }
 
 run_tests() {
