@@ -10,7 +10,7 @@ namespace FusionService.Scenarios;
 /// <remarks>
 /// Each noise source draws from its own seeded stream and draws the same numbers for every epoch whether or not the
 /// epoch is emitted, so adding an outage, an outlier probability or a canyon leaves all other measurements unchanged.
-/// Message keys are ((byte)kind &lt;&lt; 56) | running count of that kind, hence unique within a run.
+/// Message keys are ((byte)kind &lt;&lt; 48) | running count of that kind, hence unique within a run (and within the core's 56-bit key space).
 /// GNSS position: truth + error converted to latitude/longitude by the truth's frame, reporting the configured
 /// (or canyon) sigma. GNSS velocity: speed = |v| + noise (folded at 0, flipping the course), course of motion
 /// π/2 - heading (+π when reversing) plus noise of sigma speed sigma / measured speed, NaN below the course
@@ -91,7 +91,7 @@ public static class MeasurementGenerator
         return c != 0 ? c : x.MessageKey.CompareTo(y.MessageKey);
     }
 
-    private static ulong Key(SensorKind kind, ulong count) => ((ulong)kind << 56) | count;
+    private static ulong Key(SensorKind kind, ulong count) => ((ulong)kind << 48) | count;
 
     private static bool InAny(IReadOnlyList<TimeInterval> spans, long timeUs)
     {

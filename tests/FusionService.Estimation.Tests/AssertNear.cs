@@ -22,6 +22,31 @@ internal static class AssertNear
     public static void EqualAngle(double expectedRad, double actualRad, double toleranceRad, string quantity) =>
         Check(expectedRad, actualRad, Angles.WrapPi(actualRad - expectedRad), toleranceRad, quantity);
 
+    /// <summary><paramref name="actual"/> must not exceed <paramref name="limit"/> by more than <paramref name="tolerance"/>.</summary>
+    public static void AtMost(double limit, double actual, double tolerance, string quantity)
+    {
+        double difference = actual - limit;
+        if (!(difference <= tolerance))
+        {
+            throw new Xunit.Sdk.XunitException(string.Create(
+                CultureInfo.InvariantCulture,
+                $"{quantity}: expected at most {limit:R}, actual {actual:R}, difference {difference:R} exceeds tolerance {tolerance:R}"));
+        }
+    }
+
+    /// <summary><paramref name="actual"/> must lie in [<paramref name="low"/>, <paramref name="high"/>] widened by <paramref name="tolerance"/>.</summary>
+    public static void Within(double low, double high, double actual, double tolerance, string quantity)
+    {
+        double below = low - actual, above = actual - high;
+        if (!(below <= tolerance && above <= tolerance))
+        {
+            double difference = below > 0 ? -below : above;
+            throw new Xunit.Sdk.XunitException(string.Create(
+                CultureInfo.InvariantCulture,
+                $"{quantity}: expected within [{low:R}, {high:R}], actual {actual:R}, difference {difference:R} exceeds tolerance {tolerance:R}"));
+        }
+    }
+
     private static void Check(double expected, double actual, double difference, double tolerance, string quantity)
     {
         if (Math.Abs(difference) <= tolerance)

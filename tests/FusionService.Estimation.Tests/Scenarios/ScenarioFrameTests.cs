@@ -32,18 +32,22 @@ public class ScenarioFrameTests
     [InlineData(-33.5, 151.0)]
     [InlineData(60.0, 179.99)] // frame straddles the antimeridian
     [InlineData(0.0, -0.001)]
-    public void Local_to_geodetic_and_back_is_exact(double latDeg, double lonDeg)
+    public void Local_to_geodetic_and_back_agrees_to_third_order(double latDeg, double lonDeg)
     {
+        // Plane -> geodetic puts the point on the ellipsoid to second order; geodetic -> plane drops the up coordinate.
+        // The round trip is exact but for a third-order term, about 0.7 mm at 28 km (derived: h' d / R, see below),
+        // so: 1 mm everywhere in this 20 km square and 1 µm within 2 km.
         TruthTrajectory frame = FrameAt(latDeg, lonDeg);
-        for (double e = -20000; e <= 20000; e += 2500)
+        for (double e = -20000; e <= 20000; e += 500)
         {
-            for (double n = -20000; n <= 20000; n += 2500)
+            for (double n = -20000; n <= 20000; n += 500)
             {
                 frame.ToGeodeticDeg(e, n, out double la, out double lo);
                 Assert.InRange(lo, -180.0, 180.0);
                 frame.ToLocalM(la, lo, out double e2, out double n2);
-                AssertNear.Equal(e, e2, 1e-6, "east round trip (m)");
-                AssertNear.Equal(n, n2, 1e-6, "north round trip (m)");
+                double tolerance = Math.Max(Math.Abs(e), Math.Abs(n)) <= 2000 ? 1e-6 : 1e-3;
+                AssertNear.Equal(e, e2, tolerance, "east round trip (m)");
+                AssertNear.Equal(n, n2, tolerance, "north round trip (m)");
             }
         }
     }
@@ -57,21 +61,21 @@ public class ScenarioFrameTests
     [InlineData(60.0, 2000.0)]
     [InlineData(-60.0, 20000.0)]
     [InlineData(80.0, 100.0)]
-    public void Departure_from_exact_enu_stays_within_documented_second_order_bound(double latDeg, double distanceM)
+    public void Frame_agrees_with_an_independent_exact_enu(double latDeg, double distanceM)
     {
         // Exact ENU of the mapped point through ECEF (NIMA TR8350.2 geodetic-to-ECEF and the standard ECEF-to-ENU
-        // rotation). Documented bound: 0.577 d² |tan φ₀| / R (derived for a sphere); checked here as
-        // d² (0.6 |tan φ₀| + 0.01) / R, the 0.01 covering the ellipsoid's third-order terms at the equator.
+        // rotation, written out here independently of the core). The frame places a plane point on the ellipsoid to
+        // second order, so the horizontal departure is third order: about h' d / R with h' = d² |1/R_dir - 1/a| / 2,
+        // under 0.4 mm at 20 km (derived). Checked to 1 mm.
         const double lonDeg = 7.0;
         TruthTrajectory frame = FrameAt(latDeg, lonDeg);
-        double bound = distanceM * distanceM * ((0.6 * Math.Abs(Math.Tan(latDeg * Math.PI / 180.0))) + 0.01) / MeanRadiusM;
         for (int k = 0; k < 24; k++)
         {
             double az = k * Math.PI / 12.0;
             double e = distanceM * Math.Cos(az), n = distanceM * Math.Sin(az);
             frame.ToGeodeticDeg(e, n, out double la, out double lo);
             Enu(latDeg, lonDeg, la, lo, out double eEnu, out double nEnu);
-            AssertNear.AtMost(bound, Math.Sqrt(((eEnu - e) * (eEnu - e)) + ((nEnu - n) * (nEnu - n))), 0.0, "horizontal departure from ENU (m)");
+            AssertNear.AtMost(0.001, Math.Sqrt(((eEnu - e) * (eEnu - e)) + ((nEnu - n) * (nEnu - n))), 0.0, "horizontal departure from ENU (m)");
         }
     }
 
