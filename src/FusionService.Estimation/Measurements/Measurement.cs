@@ -53,6 +53,21 @@ public readonly record struct Measurement
     /// <summary>GnssPosition: 1-sigma per-axis horizontal accuracy, metres. GnssVelocity: 1-sigma speed accuracy, m/s. Otherwise 0.</summary>
     public float Value2 { get; }
 
+    /// <summary>
+    /// Rebuilds a measurement from its stored fields (<see cref="TimeUs"/>, <see cref="OrderKey"/>, values) without
+    /// re-validating the values: for data this type validated when it was first made.
+    /// </summary>
+    public static Measurement FromStored(long timeUs, ulong orderKey, double value0, double value1, float value2)
+    {
+        var kind = (SensorKind)(orderKey >> 56);
+        if (!Enum.IsDefined(kind))
+        {
+            throw new ArgumentOutOfRangeException(nameof(orderKey), orderKey, "unknown sensor kind in the order key");
+        }
+
+        return new Measurement(timeUs, orderKey & MaxMessageKey, value0, value1, value2, kind);
+    }
+
     /// <summary>A GNSS position fix.</summary>
     /// <param name="timeUs">Time, Unix microseconds.</param>
     /// <param name="messageKey">Caller's message key.</param>

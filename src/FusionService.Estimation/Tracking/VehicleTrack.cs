@@ -24,6 +24,8 @@ public sealed class VehicleTrack
     private int _checkpointCount;
     private TrackState _current = TrackState.Empty;
     private long _lastCheckpointUs;
+    private Measurement _floor;
+    private bool _hasFloor;
 
     /// <summary>Creates an empty track.</summary>
     public VehicleTrack(TrackOptions options, NoiseProfile profile)
@@ -45,16 +47,37 @@ public sealed class VehicleTrack
         NewestTimeUs = long.MinValue;
     }
 
-    /// <summary>Creates a track that continues from a stored state (for example a checkpoint read back after a restart).</summary>
-    /// <param name="processor">Shared processor.</param>
-    /// <param name="state">State to continue from; measurements before its time will be too late.</param>
-    public VehicleTrack(TrackProcessor processor, in TrackState state)
+    /// <summary>
+    /// Creates a track that continues from a stored checkpoint (see <see cref="BaseCheckpoint"/>), for example after a
+    /// restart: feed it the stored measurements that follow <paramref name="last"/> in canonical order and it reaches the
+    /// state an uninterrupted track would have. Measurements at or before <paramref name="last"/> are too late.
+    /// </summary>
+    /// <param name="processor">Shared processor (the same options and profile as the track that made the checkpoint).</param>
+    /// <param name="state">State after <paramref name="last"/>.</param>
+    /// <param name="last">The last measurement the state includes.</param>
+    public VehicleTrack(TrackProcessor processor, in TrackState state, in Measurement last)
         : this(processor)
     {
         _current = state;
-        _checkpoints[0] = new Checkpoint(state, default, true);
-        NewestTimeUs = state.TimeUs;
-        _lastCheckpointUs = state.TimeUs;
+        _floor = last;
+        _hasFloor = true;
+        _checkpoints[0] = new Checkpoint(state, last, true);
+        NewestTimeUs = last.TimeUs;
+        _lastCheckpointUs = last.TimeUs;
+    }
+
+    /// <summary>
+    /// The oldest checkpoint the track holds and the last measurement it includes (null for a track that has not
+    /// evicted anything yet, whose base is the empty state). Every measurement after it that is still inside the lag
+    /// window is held, so this is the checkpoint to persist for a restart.
+    /// </summary>
+    public (TrackState State, Measurement? Last) BaseCheckpoint
+    {
+        get
+        {
+            Checkpoint c = _checkpoints[0];
+            return c.IsOrigin && !_hasFloor ? (c.State, null) : (c.State, c.Last);
+        }
     }
 
     /// <summary>The state after every held measurement.</summary>
@@ -85,7 +108,7 @@ public sealed class VehicleTrack
     /// <returns>The outcome of <paramref name="m"/> itself.</returns>
     public MeasurementOutcome Process(in Measurement m, ITrackObserver? observer = null)
     {
-        if (NewestTimeUs != long.MinValue && m.TimeUs < NewestTimeUs - _windowUs)
+        if ((NewestTimeUs != long.MinValue && m.TimeUs < NewestTimeUs - _windowUs) || (_hasFloor && CompareKey(m, _floor) <= 0))
         {
             return Report(m, MeasurementOutcome.Of(OutcomeKind.TooLate), observer);
         }

@@ -1,0 +1,194 @@
+using System.Buffers.Binary;
+using FusionService.Estimation.Geodesy;
+using FusionService.Estimation.LinearAlgebra;
+using FusionService.Estimation.Measurements;
+
+namespace FusionService.Estimation.Tracking;
+
+/// <summary>
+/// Versioned little-endian binary form of a <see cref="TrackState"/> and of the measurement it ends with, for storing
+/// checkpoints. Decoding gives back a bitwise-equal state (the covariance is stored as its upper triangle, which is
+/// exact because the filter keeps it exactly symmetric).
+/// </summary>
+public static class TrackStateCodec
+{
+    /// <summary>Format version written in the first byte.</summary>
+    public const byte Version = 1;
+
+    /// <summary>Size of an encoded checkpoint, bytes.</summary>
+    public const int EncodedLength = 1 + (8 * 8) + (36 * 8) + 8 + 1 + (3 * 8) + 3 + 8 + 1 + (1 + 8 + (3 * 8)) + (1 + 8 + (4 * 8)) + 8 + 4 + 4 + (8 + 8 + 8 + 8 + 4);
+
+    /// <summary>Encodes a state and the last measurement it includes.</summary>
+    public static byte[] Encode(in TrackState state, in Measurement last)
+    {
+        var buffer = new byte[EncodedLength];
+        var w = new Writer(buffer);
+        w.Byte(Version);
+        for (int i = 0; i < Vector8.Length; i++)
+        {
+            w.Double(state.X[i]);
+        }
+
+        for (int i = 0; i < Matrix8.Size; i++)
+        {
+            for (int j = i; j < Matrix8.Size; j++)
+            {
+                w.Double(state.P[(i * Matrix8.Size) + j]);
+            }
+        }
+
+        w.Long(state.TimeUs);
+        w.Byte((byte)state.Phase);
+        GeodeticPoint anchor = state.HasPlane ? state.Plane.Anchor : default;
+        w.Double(anchor.LatitudeRad);
+        w.Double(anchor.LongitudeRad);
+        w.Double(anchor.HeightM);
+        w.Bool(state.HasPlane);
+        w.Bool(state.Stationary);
+        w.Bool(state.HasCalibration);
+        w.Long(state.WheelZeroSinceUs);
+        w.Byte(0);
+        w.Bool(state.Fix.IsSet);
+        w.Long(state.Fix.TimeUs);
+        w.Double(state.Fix.EastM);
+        w.Double(state.Fix.NorthM);
+        w.Double(state.Fix.SigmaM);
+        w.Bool(state.Course.IsSet);
+        w.Long(state.Course.TimeUs);
+        w.Double(state.Course.HeadingRad);
+        w.Double(state.Course.HeadingSigmaRad);
+        w.Double(state.Course.SpeedMps);
+        w.Double(state.Course.SpeedSigmaMps);
+        w.Long(state.RejectedSinceUs);
+        w.Int(state.RejectedFixes);
+        w.Int(state.Resets);
+        w.Long(last.TimeUs);
+        w.Long((long)last.OrderKey);
+        w.Double(last.Value0);
+        w.Double(last.Value1);
+        w.Float(last.Value2);
+        return buffer;
+    }
+
+    /// <summary>Decodes what <see cref="Encode"/> wrote.</summary>
+    /// <exception cref="FormatException">Wrong length or unknown version.</exception>
+    public static (TrackState State, Measurement Last) Decode(ReadOnlySpan<byte> data)
+    {
+        if (data.Length != EncodedLength || data[0] != Version)
+        {
+            throw new FormatException($"not a version {Version} track checkpoint of {EncodedLength} bytes (got {data.Length} bytes, version {(data.IsEmpty ? -1 : data[0])})");
+        }
+
+        var r = new Reader(data[1..]);
+        var s = default(TrackState);
+        for (int i = 0; i < Vector8.Length; i++)
+        {
+            s.X[i] = r.Double();
+        }
+
+        for (int i = 0; i < Matrix8.Size; i++)
+        {
+            for (int j = i; j < Matrix8.Size; j++)
+            {
+                double v = r.Double();
+                s.P[(i * Matrix8.Size) + j] = v;
+                s.P[(j * Matrix8.Size) + i] = v;
+            }
+        }
+
+        s.TimeUs = r.Long();
+        s.Phase = (TrackPhase)r.Byte();
+        var anchor = new GeodeticPoint(r.Double(), r.Double(), r.Double());
+        s.HasPlane = r.Bool();
+        if (s.HasPlane)
+        {
+            s.Plane = new LocalTangentPlane(anchor);
+        }
+
+        s.Stationary = r.Bool();
+        s.HasCalibration = r.Bool();
+        s.WheelZeroSinceUs = r.Long();
+        r.Byte();
+        s.Fix = new HeldFix(r.Bool(), r.Long(), r.Double(), r.Double(), r.Double());
+        s.Course = new HeldCourse(r.Bool(), r.Long(), r.Double(), r.Double(), r.Double(), r.Double());
+        s.RejectedSinceUs = r.Long();
+        s.RejectedFixes = r.Int();
+        s.Resets = r.Int();
+        long timeUs = r.Long();
+        ulong orderKey = (ulong)r.Long();
+        Measurement last = Measurement.FromStored(timeUs, orderKey, r.Double(), r.Double(), r.Float());
+        return (s, last);
+    }
+
+    private ref struct Writer(Span<byte> buffer)
+    {
+        private readonly Span<byte> _buffer = buffer;
+        private int _at;
+
+        public void Byte(byte v) => _buffer[_at++] = v;
+
+        public void Bool(bool v) => Byte(v ? (byte)1 : (byte)0);
+
+        public void Int(int v)
+        {
+            BinaryPrimitives.WriteInt32LittleEndian(_buffer[_at..], v);
+            _at += 4;
+        }
+
+        public void Long(long v)
+        {
+            BinaryPrimitives.WriteInt64LittleEndian(_buffer[_at..], v);
+            _at += 8;
+        }
+
+        public void Double(double v)
+        {
+            BinaryPrimitives.WriteDoubleLittleEndian(_buffer[_at..], v);
+            _at += 8;
+        }
+
+        public void Float(float v)
+        {
+            BinaryPrimitives.WriteSingleLittleEndian(_buffer[_at..], v);
+            _at += 4;
+        }
+    }
+
+    private ref struct Reader(ReadOnlySpan<byte> data)
+    {
+        private readonly ReadOnlySpan<byte> _data = data;
+        private int _at;
+
+        public byte Byte() => _data[_at++];
+
+        public bool Bool() => Byte() != 0;
+
+        public int Int()
+        {
+            int v = BinaryPrimitives.ReadInt32LittleEndian(_data[_at..]);
+            _at += 4;
+            return v;
+        }
+
+        public long Long()
+        {
+            long v = BinaryPrimitives.ReadInt64LittleEndian(_data[_at..]);
+            _at += 8;
+            return v;
+        }
+
+        public double Double()
+        {
+            double v = BinaryPrimitives.ReadDoubleLittleEndian(_data[_at..]);
+            _at += 8;
+            return v;
+        }
+
+        public float Float()
+        {
+            float v = BinaryPrimitives.ReadSingleLittleEndian(_data[_at..]);
+            _at += 4;
+            return v;
+        }
+    }
+}
