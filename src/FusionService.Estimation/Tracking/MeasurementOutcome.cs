@@ -12,12 +12,19 @@ namespace FusionService.Estimation.Tracking;
 public readonly record struct MeasurementOutcome(
     OutcomeKind Kind, double Nis, int Dimension, double GateThreshold, bool Stationary, double PositionShiftM)
 {
+    /// <summary>
+    /// True when the measurement was fused after a run of rejections by raising the variance of the state it observes
+    /// (see <see cref="TrackOptions.RecoverAfterRejections"/>); <see cref="Nis"/> is then the value before the raise.
+    /// </summary>
+    public bool Recovered { get; init; }
+
     /// <summary>An outcome without an innovation.</summary>
     public static MeasurementOutcome Of(OutcomeKind kind) => new(kind, double.NaN, 0, double.NaN, false, 0);
 
     /// <summary>Human-readable reason, for logs and the audit trail.</summary>
     public string Describe(SensorKind sensor) => Kind switch
     {
+        OutcomeKind.Accepted when Recovered => FormattableString.Invariant($"{sensor} fused after repeated rejection (NIS {Nis:F2} above {GateThreshold:F2}): the motion changed faster than modelled, its uncertainty was raised"),
         OutcomeKind.Accepted => FormattableString.Invariant($"{sensor} fused, NIS {Nis:F2} (dimension {Dimension}, gate {GateThreshold:F2})"),
         OutcomeKind.Gated => FormattableString.Invariant($"{sensor} rejected by the gate: NIS {Nis:F2} exceeds {GateThreshold:F2} for dimension {Dimension}"),
         OutcomeKind.TooLate => $"{sensor} older than the lag window; kept for smoothing only",

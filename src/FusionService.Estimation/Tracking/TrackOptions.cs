@@ -36,6 +36,12 @@ public sealed record TrackOptions
     /// <summary>Standard deviation of the stationary pseudo-measurement of yaw rate, rad/s. Default 0.0005.</summary>
     public double StationaryYawRateSigmaRps { get; init; } = 0.0005;
 
+    /// <summary>
+    /// A motion sensor (GNSS velocity, wheel, IMU) rejected this many times in a row is taken to show a real change of
+    /// motion: the observed state's variance is raised and the sample fused. Default 3 (0.3 s at 10 Hz).
+    /// </summary>
+    public int RecoverAfterRejections { get; init; } = 3;
+
     /// <summary>GNSS must be rejected continuously this long before the track may reset, seconds. Default 15.</summary>
     public double ResetAfterS { get; init; } = 15.0;
 
@@ -70,6 +76,7 @@ public sealed record TrackOptions
         Require(StationaryAfterS >= 0, nameof(StationaryAfterS), "must be non-negative");
         Require(StationarySpeedSigmaMps > 0, nameof(StationarySpeedSigmaMps), "must be positive");
         Require(StationaryYawRateSigmaRps > 0, nameof(StationaryYawRateSigmaRps), "must be positive");
+        Require(RecoverAfterRejections >= 1, nameof(RecoverAfterRejections), "must be at least 1");
         Require(ResetAfterS >= 0, nameof(ResetAfterS), "must be non-negative");
         Require(ResetDistanceM >= 0, nameof(ResetDistanceM), "must be non-negative");
         Require(ResetMinRejectedFixes >= 1, nameof(ResetMinRejectedFixes), "must be at least 1");

@@ -392,14 +392,14 @@ public sealed class TrackProcessor
         {
             Span<double> residual1 = [speed - s.X[SpeedMps]];
             Span<double> r1 = [speedSigma * speedSigma];
-            return Gated(ref s, residual1, h[..N], r1);
+            return Gated(ref s, ref s.VelocityRejections, residual1, h[..N], r1, SpeedMps, -1);
         }
 
         double courseSigma = Math.Max(speedSigma / speed, Options.CourseSigmaFloorRad);
         h[N + HeadingRad] = 1.0;
         Span<double> residual = [speed - s.X[SpeedMps], Angles.WrapPi(CourseToHeading(m.Value1) - s.X[HeadingRad])];
         Span<double> r = [speedSigma * speedSigma, 0, 0, courseSigma * courseSigma];
-        return Gated(ref s, residual, h, r);
+        return Gated(ref s, ref s.VelocityRejections, residual, h, r, SpeedMps, HeadingRad);
     }
 
     private MeasurementOutcome UpdateWheelSpeed(ref TrackState s, in Measurement m)
@@ -412,7 +412,7 @@ public sealed class TrackProcessor
         h[WheelScale] = v;
         double sigma = Profile.WheelSpeedSigmaMps;
         Span<double> r = [sigma * sigma];
-        MeasurementOutcome outcome = Gated(ref s, residual, h, r);
+        MeasurementOutcome outcome = Gated(ref s, ref s.WheelRejections, residual, h, r, SpeedMps, -1);
 
         bool wasStationary = s.Stationary;
         TrackZeroSpeed(ref s, m);
@@ -466,22 +466,53 @@ public sealed class TrackProcessor
         {
             Span<double> residual1 = [yawResidual];
             Span<double> r1 = [gyroVar];
-            return Gated(ref s, residual1, h[..N], r1);
+            return Gated(ref s, ref s.ImuRejections, residual1, h[..N], r1, YawRateRps, -1);
         }
 
         h[N + AccelMps2] = 1.0;
         double accelVar = Profile.AccelSigmaMps2 * Profile.AccelSigmaMps2;
         Span<double> residual = [yawResidual, m.Value1 - s.X[AccelMps2]];
         Span<double> r = [gyroVar, 0, 0, accelVar];
-        return Gated(ref s, residual, h, r);
+        return Gated(ref s, ref s.ImuRejections, residual, h, r, YawRateRps, AccelMps2);
     }
 
-    private MeasurementOutcome Gated(ref TrackState s, ReadOnlySpan<double> residual, ReadOnlySpan<double> h, ReadOnlySpan<double> r)
+    /// <summary>
+    /// Gated update of a motion sensor. A single rejection is an outlier; <see cref="TrackOptions.RecoverAfterRejections"/>
+    /// rejections in a row mean the motion changed faster than the process noise allows (a hard brake, a sharp turn-in):
+    /// then the variance of the dynamic state each row observes (<paramref name="first"/>, <paramref name="second"/>;
+    /// never a calibration state) is raised by the squared residual and the measurement is fused, so the track follows
+    /// instead of rejecting every later sample (covariance inflation; Bar-Shalom, Li and Kirubarajan 2001, section 11.2,
+    /// fading memory and adaptive noise; from memory).
+    /// </summary>
+    private MeasurementOutcome Gated(
+        ref TrackState s, ref int rejections, ReadOnlySpan<double> residual, ReadOnlySpan<double> h, ReadOnlySpan<double> r, int first, int second)
     {
         int dim = residual.Length;
         double threshold = Gate.Threshold(dim);
-        bool accepted = ExtendedKalmanFilter.TryUpdateJoseph(ref s.X, ref s.P, residual, h, r, threshold, out double nis);
-        return new MeasurementOutcome(accepted ? OutcomeKind.Accepted : OutcomeKind.Gated, nis, dim, threshold, s.Stationary, 0);
+        if (ExtendedKalmanFilter.TryUpdateJoseph(ref s.X, ref s.P, residual, h, r, threshold, out double nis))
+        {
+            rejections = 0;
+            return new MeasurementOutcome(OutcomeKind.Accepted, nis, dim, threshold, s.Stationary, 0);
+        }
+
+        if (++rejections < Options.RecoverAfterRejections)
+        {
+            return new MeasurementOutcome(OutcomeKind.Gated, nis, dim, threshold, s.Stationary, 0);
+        }
+
+        for (int row = 0; row < dim; row++)
+        {
+            int index = row == 0 ? first : second;
+            double gain = index >= 0 ? h[(row * N) + index] : 0;
+            if (gain != 0)
+            {
+                s.P[(index * N) + index] += residual[row] * residual[row] / (gain * gain);
+            }
+        }
+
+        rejections = 0;
+        ExtendedKalmanFilter.TryUpdateJoseph(ref s.X, ref s.P, residual, h, r, double.PositiveInfinity, out _);
+        return new MeasurementOutcome(OutcomeKind.Accepted, nis, dim, threshold, s.Stationary, 0) { Recovered = true };
     }
 
     /// <summary>GNSS course (clockwise from north) to the filter's heading (counter-clockwise from east).</summary>

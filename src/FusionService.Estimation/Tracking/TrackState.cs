@@ -48,6 +48,15 @@ public struct TrackState
     /// <summary>Number of consecutive gated GNSS fixes.</summary>
     public int RejectedFixes;
 
+    /// <summary>Consecutive gated GNSS velocity measurements.</summary>
+    public int VelocityRejections;
+
+    /// <summary>Consecutive gated wheel-speed measurements.</summary>
+    public int WheelRejections;
+
+    /// <summary>Consecutive gated inertial samples.</summary>
+    public int ImuRejections;
+
     /// <summary>Number of track resets so far.</summary>
     public int Resets;
 

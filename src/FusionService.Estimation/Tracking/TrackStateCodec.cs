@@ -13,10 +13,10 @@ namespace FusionService.Estimation.Tracking;
 public static class TrackStateCodec
 {
     /// <summary>Format version written in the first byte.</summary>
-    public const byte Version = 1;
+    public const byte Version = 2;
 
     /// <summary>Size of an encoded checkpoint, bytes.</summary>
-    public const int EncodedLength = 1 + (8 * 8) + (36 * 8) + 8 + 1 + (3 * 8) + 3 + 8 + 1 + (1 + 8 + (3 * 8)) + (1 + 8 + (4 * 8)) + 8 + 4 + 4 + (8 + 8 + 8 + 8 + 4);
+    public const int EncodedLength = 1 + (8 * 8) + (36 * 8) + 8 + 1 + (3 * 8) + 3 + 8 + 1 + (1 + 8 + (3 * 8)) + (1 + 8 + (4 * 8)) + 8 + 4 + 4 + (8 + 8 + 8 + 8 + 4) + 12;
 
     /// <summary>Encodes a state and the last measurement it includes.</summary>
     public static byte[] Encode(in TrackState state, in Measurement last)
@@ -62,6 +62,9 @@ public static class TrackStateCodec
         w.Long(state.RejectedSinceUs);
         w.Int(state.RejectedFixes);
         w.Int(state.Resets);
+        w.Int(state.VelocityRejections);
+        w.Int(state.WheelRejections);
+        w.Int(state.ImuRejections);
         w.Long(last.TimeUs);
         w.Long((long)last.OrderKey);
         w.Double(last.Value0);
@@ -114,6 +117,9 @@ public static class TrackStateCodec
         s.RejectedSinceUs = r.Long();
         s.RejectedFixes = r.Int();
         s.Resets = r.Int();
+        s.VelocityRejections = r.Int();
+        s.WheelRejections = r.Int();
+        s.ImuRejections = r.Int();
         long timeUs = r.Long();
         ulong orderKey = (ulong)r.Long();
         Measurement last = Measurement.FromStored(timeUs, orderKey, r.Double(), r.Double(), r.Float());
