@@ -14,7 +14,7 @@ namespace FusionService.Benchmarks;
 /// invocation per iteration. <see cref="ReplayedMeasurements"/> reports how many measurements one invocation re-processes.
 /// </summary>
 [MemoryDiagnoser]
-[SimpleJob(launchCount: 1, warmupCount: 3, iterationCount: 30, invocationCount: 1)]
+[SimpleJob(launchCount: 1, warmupCount: 8, iterationCount: 30, invocationCount: 1)]
 public class LateMeasurementBenchmarks
 {
     private const double FedS = 200.0;
@@ -43,9 +43,11 @@ public class LateMeasurementBenchmarks
 
         BuildTrack();
         _counter = new CountingObserver();
-        _track.Process(_late, _counter);
+        OutcomeKind outcome = _track.Process(_late, _counter).Kind;
         ReplayedMeasurements = _counter.Count;
-        Console.WriteLine($"// late fix {(fed[^1].TimeUs - _late.TimeUs) / 1e6:F1} s behind the newest measurement; one insertion re-processes {ReplayedMeasurements} measurements");
+        Console.WriteLine(string.Create(
+            System.Globalization.CultureInfo.InvariantCulture,
+            $"// late fix {(fed[^1].TimeUs - _late.TimeUs) / 1e6:F1} s behind the newest measurement, outcome {outcome}; one insertion re-processes {ReplayedMeasurements} measurements"));
     }
 
     /// <summary>A fresh track fed everything but the late fix.</summary>

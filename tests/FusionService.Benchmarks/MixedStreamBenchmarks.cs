@@ -14,7 +14,7 @@ namespace FusionService.Benchmarks;
 /// as BenchmarkDotNet requires with an iteration setup.
 /// </summary>
 [MemoryDiagnoser]
-[SimpleJob(launchCount: 1, warmupCount: 3, iterationCount: 20, invocationCount: 1)]
+[SimpleJob(launchCount: 1, warmupCount: 8, iterationCount: 20, invocationCount: 1)]
 public class MixedStreamBenchmarks
 {
     /// <summary>Measurements per invocation.</summary>

@@ -41,6 +41,30 @@ public class PerKindBenchmarks
         {
             throw new InvalidOperationException($"the scenario holds only {_sequence.Length} {Kind} measurements after the warm-up");
         }
+
+        Describe();
+    }
+
+    /// <summary>Prints what the sequence holds and how both filters gated it, so the two rows can be compared fairly.</summary>
+    private void Describe()
+    {
+        TrackState state = _saved;
+        var reference = new ReferenceVehicleEkf(_saved, BenchmarkScenario.Options, NoiseProfile.DeliveryVan);
+        int fastAccepted = 0, denseAccepted = 0, agree = 0, stationary = 0;
+        foreach (Measurement m in _sequence)
+        {
+            OutcomeKind fast = _processor.Process(ref state, m).Kind;
+            OutcomeKind dense = reference.Process(m);
+            fastAccepted += fast == OutcomeKind.Accepted ? 1 : 0;
+            denseAccepted += dense == OutcomeKind.Accepted ? 1 : 0;
+            agree += fast == dense ? 1 : 0;
+            stationary += state.Stationary ? 1 : 0;
+        }
+
+        double spanS = (_sequence[^1].TimeUs - _sequence[0].TimeUs) / 1e6;
+        Console.WriteLine(string.Create(
+            System.Globalization.CultureInfo.InvariantCulture,
+            $"// {Kind}: {Count} measurements over {spanS:F1} s; accepted fast {fastAccepted}, dense {denseAccepted}; same outcome {agree}; fast track stationary after {stationary}"));
     }
 
     /// <summary>The fixed-size extended Kalman filter of the core.</summary>
