@@ -1,4 +1,11 @@
-// Benchmark entry point: ./build.sh bench -- --filter '*' (see docs/benchmarks.md).
+// Benchmark entry point: ./build.sh bench --filter '*' (see docs/benchmarks.md); `memory` prints the per-track memory report.
 using BenchmarkDotNet.Running;
+using FusionService.Benchmarks;
+
+if (args.Length > 0 && string.Equals(args[0], "memory", StringComparison.Ordinal))
+{
+    MemoryReport.Run();
+    return;
+}
 
 BenchmarkSwitcher.FromAssembly(typeof(Program).Assembly).Run(args);
