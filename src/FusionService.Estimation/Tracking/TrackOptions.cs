@@ -10,10 +10,10 @@ public sealed record TrackOptions
     public double LagWindowS { get; init; } = 60.0;
 
     /// <summary>
-    /// Spacing of the posterior checkpoints a late measurement is replayed from, seconds. Default 10: a track then holds
-    /// at most the window plus 10 s of measurements and (window / 10 s) + 2 checkpoints of 0.8 KB.
+    /// Spacing of the posterior checkpoints a late measurement is replayed from, seconds. Default 5: a track then holds
+    /// at most the window plus 5 s of measurements and (window / 5 s) + 2 checkpoints of about 0.6 KB.
     /// </summary>
-    public double CheckpointIntervalS { get; init; } = 10.0;
+    public double CheckpointIntervalS { get; init; } = 5.0;
 
     /// <summary>Largest prediction step, seconds; longer gaps are predicted in sub-steps. Default 1.</summary>
     public double MaxPredictionStepS { get; init; } = 1.0;

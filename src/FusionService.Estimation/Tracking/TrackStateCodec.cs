@@ -22,7 +22,19 @@ public static class TrackStateCodec
     public static byte[] Encode(in TrackState state, in Measurement last)
     {
         var buffer = new byte[EncodedLength];
-        var w = new Writer(buffer);
+        EncodeInto(state, last, buffer);
+        return buffer;
+    }
+
+    /// <summary>Encodes into <paramref name="destination"/> (at least <see cref="EncodedLength"/> bytes) without allocating.</summary>
+    public static void EncodeInto(in TrackState state, in Measurement last, Span<byte> destination)
+    {
+        if (destination.Length < EncodedLength)
+        {
+            throw new ArgumentException($"need {EncodedLength} bytes, got {destination.Length}", nameof(destination));
+        }
+
+        var w = new Writer(destination);
         w.Byte(Version);
         for (int i = 0; i < Vector8.Length; i++)
         {
@@ -70,7 +82,6 @@ public static class TrackStateCodec
         w.Double(last.Value0);
         w.Double(last.Value1);
         w.Float(last.Value2);
-        return buffer;
     }
 
     /// <summary>Decodes what <see cref="Encode"/> wrote.</summary>

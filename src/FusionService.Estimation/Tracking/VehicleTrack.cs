@@ -20,7 +20,7 @@ public sealed class VehicleTrack
     private Measurement[] _buffer = new Measurement[64];
     private int _start;
     private int _count;
-    private Checkpoint[] _checkpoints;
+    private CheckpointSlot[] _checkpoints;
     private int _checkpointCount;
     private TrackState _current = TrackState.Empty;
     private long _lastCheckpointUs;
@@ -40,8 +40,13 @@ public sealed class VehicleTrack
         _processor = processor;
         _windowUs = (long)Math.Round(processor.Options.LagWindowS * 1e6);
         _checkpointIntervalUs = (long)Math.Round(processor.Options.CheckpointIntervalS * 1e6);
-        _checkpoints = new Checkpoint[(int)Math.Ceiling(processor.Options.LagWindowS / processor.Options.CheckpointIntervalS) + 3];
-        _checkpoints[0] = new Checkpoint(TrackState.Empty, default, true);
+        _checkpoints = new CheckpointSlot[(int)Math.Ceiling(processor.Options.LagWindowS / processor.Options.CheckpointIntervalS) + 3];
+        for (int i = 0; i < _checkpoints.Length; i++)
+        {
+            _checkpoints[i] = new CheckpointSlot();
+        }
+
+        _checkpoints[0].Store(TrackState.Empty, default, true);
         _checkpointCount = 1;
         _lastCheckpointUs = long.MinValue;
         NewestTimeUs = long.MinValue;
@@ -61,7 +66,7 @@ public sealed class VehicleTrack
         _current = state;
         _floor = last;
         _hasFloor = true;
-        _checkpoints[0] = new Checkpoint(state, last, true);
+        _checkpoints[0].Store(state, last, true);
         NewestTimeUs = last.TimeUs;
         _lastCheckpointUs = last.TimeUs;
     }
@@ -75,8 +80,8 @@ public sealed class VehicleTrack
     {
         get
         {
-            Checkpoint c = _checkpoints[0];
-            return c.IsOrigin && !_hasFloor ? (c.State, null) : (c.State, c.Last);
+            CheckpointSlot c = _checkpoints[0];
+            return c.IsOrigin && !_hasFloor ? (c.Restore(), null) : (c.Restore(), c.Last);
         }
     }
 
@@ -98,7 +103,7 @@ public sealed class VehicleTrack
     /// <summary>Approximate bytes of memory this track holds (buffers and checkpoints, not the object headers).</summary>
     public long ApproximateBytes =>
         (_buffer.Length * (long)System.Runtime.CompilerServices.Unsafe.SizeOf<Measurement>())
-        + (_checkpoints.Length * (long)System.Runtime.CompilerServices.Unsafe.SizeOf<Checkpoint>())
+        + (_checkpoints.Length * (long)CheckpointSlot.ApproximateBytes)
         + System.Runtime.CompilerServices.Unsafe.SizeOf<TrackState>();
 
     /// <summary>
@@ -163,8 +168,8 @@ public sealed class VehicleTrack
         }
 
         _checkpointCount = checkpoint + 1;
-        Checkpoint from = _checkpoints[checkpoint];
-        TrackState state = from.State;
+        CheckpointSlot from = _checkpoints[checkpoint];
+        TrackState state = from.Restore();
         _lastCheckpointUs = from.IsOrigin ? long.MinValue : from.Last.TimeUs;
         int first = from.IsOrigin ? 0 : IndexAfter(from.Last);
         MeasurementOutcome own = default;
@@ -196,10 +201,15 @@ public sealed class VehicleTrack
 
         if (_checkpointCount == _checkpoints.Length)
         {
-            Array.Resize(ref _checkpoints, _checkpoints.Length * 2);
+            int old = _checkpoints.Length;
+            Array.Resize(ref _checkpoints, old * 2);
+            for (int i = old; i < _checkpoints.Length; i++)
+            {
+                _checkpoints[i] = new CheckpointSlot();
+            }
         }
 
-        _checkpoints[_checkpointCount++] = new Checkpoint(_current, m, false);
+        _checkpoints[_checkpointCount++].Store(_current, m, false);
         _lastCheckpointUs = m.TimeUs;
     }
 
@@ -221,12 +231,14 @@ public sealed class VehicleTrack
             return;
         }
 
-        Checkpoint baseCheckpoint = _checkpoints[baseIndex];
-        int keep = IndexAfter(baseCheckpoint.Last);
+        int keep = IndexAfter(_checkpoints[baseIndex].Last);
         _start += keep;
         _count -= keep;
-        Array.Copy(_checkpoints, baseIndex, _checkpoints, 0, _checkpointCount - baseIndex);
-        Array.Clear(_checkpoints, _checkpointCount - baseIndex, baseIndex);
+
+        // Rotate the slots: the dropped ones go to the end for reuse, so checkpoints never allocate.
+        Array.Reverse(_checkpoints, 0, baseIndex);
+        Array.Reverse(_checkpoints, baseIndex, _checkpoints.Length - baseIndex);
+        Array.Reverse(_checkpoints);
         _checkpointCount -= baseIndex;
     }
 
@@ -289,5 +301,24 @@ public sealed class VehicleTrack
         return c != 0 ? c : a.OrderKey.CompareTo(b.OrderKey);
     }
 
-    private readonly record struct Checkpoint(TrackState State, Measurement Last, bool IsOrigin);
+    /// <summary>A reusable checkpoint: the state in its 0.5 KB encoded form (a third of the struct's size) and the last measurement it includes.</summary>
+    private sealed class CheckpointSlot
+    {
+        public const int ApproximateBytes = TrackStateCodec.EncodedLength + 96;
+
+        private readonly byte[] _encoded = new byte[TrackStateCodec.EncodedLength];
+
+        public Measurement Last { get; private set; }
+
+        public bool IsOrigin { get; private set; }
+
+        public void Store(in TrackState state, in Measurement last, bool isOrigin)
+        {
+            TrackStateCodec.EncodeInto(state, last, _encoded);
+            Last = last;
+            IsOrigin = isOrigin;
+        }
+
+        public TrackState Restore() => TrackStateCodec.Decode(_encoded).State;
+    }
 }

@@ -94,7 +94,7 @@ public sealed class OrderIndependenceTests(ITestOutputHelper output)
     public void Memory_is_bounded_by_the_window()
     {
         var drive = SimpleDrive.Create(seed: 9, durationS: 600);
-        var options = new TrackOptions { LagWindowS = 60, CheckpointIntervalS = 10 };
+        var options = new TrackOptions { LagWindowS = 60, CheckpointIntervalS = 5 };
         var track = new VehicleTrack(options, NoiseProfile.DeliveryVan);
         int maxHeld = 0;
         foreach (Measurement m in drive.Measurements)
@@ -105,8 +105,8 @@ public sealed class OrderIndependenceTests(ITestOutputHelper output)
 
         // 21 measurements per second in this drive; the window, one checkpoint interval and the inclusive end second bound what is held.
         output.WriteLine($"held at most {maxHeld} measurements, {track.HeldCheckpoints} checkpoints, about {track.ApproximateBytes} bytes");
-        Assert.True(maxHeld <= 21 * (60 + 10 + 1), $"held {maxHeld}");
-        Assert.True(track.HeldCheckpoints <= (60 / 10) + 2, $"held {track.HeldCheckpoints} checkpoints");
+        Assert.True(maxHeld <= 21 * (60 + 5 + 1), $"held {maxHeld}");
+        Assert.True(track.HeldCheckpoints <= (60 / 5) + 2, $"held {track.HeldCheckpoints} checkpoints");
     }
 
     internal static void AssertBitwiseEqual(in TrackState expected, in TrackState actual)
