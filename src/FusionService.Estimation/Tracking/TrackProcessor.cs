@@ -243,8 +243,15 @@ public sealed class TrackProcessor
 
     private void PredictTo(ref TrackState s, long timeUs, IStepRecorder? recorder)
     {
-        Matrix8 total = Identity();
-        if (Math.Abs(s.X[EastM]) > Options.ReanchorRadiusM || Math.Abs(s.X[NorthM]) > Options.ReanchorRadiusM)
+        // The composite transition is only needed by a recorder (smoothing) or a re-anchoring; skip building it otherwise.
+        Matrix8 total = default;
+        bool reanchor = Math.Abs(s.X[EastM]) > Options.ReanchorRadiusM || Math.Abs(s.X[NorthM]) > Options.ReanchorRadiusM;
+        if (recorder is not null || reanchor)
+        {
+            total = Identity();
+        }
+
+        if (reanchor)
         {
             Reanchor(ref s, ref total);
         }
