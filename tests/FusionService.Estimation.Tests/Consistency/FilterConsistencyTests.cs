@@ -131,6 +131,38 @@ public sealed class FilterConsistencyTests(ITestOutputHelper output)
         }
     }
 
+    [Fact]
+    public void Smoothed_distance_sigma_matches_the_spread_of_its_errors()
+    {
+        // The distance's standard deviation comes from the smoothed covariances and cross-covariances; over 50 runs the
+        // normalised squared errors (D - D_true)² / σ² must average to 1 within the chi-square band with 50 dof
+        // (../shared/check-values.md §6, n = 1: [0.647, 1.428], derived). D_true sums the model's own along-track
+        // increments v τ + a τ² / 2 over the truth's 0.1 s steps.
+        var processor = new TrackProcessor(Options, Profile);
+        double sum = 0;
+        for (int run = 0; run < Runs; run++)
+        {
+            ScenarioRun scenario = Scenario(run);
+            TrackState start = StartAtPerturbedTruth(scenario, new Random(3000 + run));
+            var replay = FusionService.Estimation.Smoothing.TrackReplay.Run(processor, start, scenario.Measurements.Where(m => m.TimeUs > start.TimeUs));
+            long from = start.TimeUs + 5_000_000, to = scenario.Truth.EndTimeUs - 5_000_000;
+            DistanceEstimate d = DistanceIntegrator.Integrate(replay.Smoothed, from, to);
+            double truthM = 0;
+            for (long t = from; t < to; t += scenario.Truth.SamplePeriodUs)
+            {
+                TruthSample x = scenario.Truth.At(t);
+                double tau = Math.Min(scenario.Truth.SamplePeriodUs, to - t) / 1e6;
+                truthM += (x.SpeedMps * tau) + (0.5 * x.AccelMps2 * tau * tau);
+            }
+
+            sum += (d.DistanceM - truthM) * (d.DistanceM - truthM) / (d.SigmaM * d.SigmaM);
+        }
+
+        (double lower, double upper) = NisConsistencyTest.Interval(Runs, Runs);
+        output.WriteLine($"mean normalised squared distance error {sum / Runs:F3}, band [{lower:F3}, {upper:F3}]");
+        Assert.InRange(sum / Runs, lower, upper);
+    }
+
     /// <summary>Smallest k with P(X ≤ k) ≥ q for X ~ Binomial(n, p), from MathNet's CDF.</summary>
     private static int BinomialQuantile(double p, int n, double q)
     {
