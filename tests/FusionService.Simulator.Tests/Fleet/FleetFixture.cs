@@ -7,9 +7,3 @@ public sealed class FleetFixture
 {
     public DemoFleet Fleet { get; } = new DemoFleet();
 }
-
-[CollectionDefinition(Name)]
-public sealed class FleetCollection : ICollectionFixture<FleetFixture>
-{
-    public const string Name = "default demo fleet";
-}
