@@ -298,6 +298,9 @@ public sealed class FleetFeeder
                     _socket.Options.SetRequestHeader("Authorization", "Bearer " + owner._options.ApiKey);
                     _seq = 0;
                     await _socket.ConnectAsync(owner.StreamEndpoint(), timeout.Token).ConfigureAwait(false);
+
+                    // The acknowledgement gets its full timeout after the connection is up.
+                    timeout.CancelAfter(owner._options.AckTimeout);
                 }
 
                 long seq = ++_seq;

@@ -31,7 +31,7 @@ public sealed record FleetFeederOptions
     /// <summary>Longest back-off, and the largest Retry-After honoured. Default 30 s.</summary>
     public TimeSpan MaxBackoff { get; init; } = TimeSpan.FromSeconds(30);
 
-    /// <summary>How long to wait for a WebSocket acknowledgement before reconnecting and sending again. Default 30 s.</summary>
+    /// <summary>How long to wait for a WebSocket acknowledgement (and, separately, for the connection to open) before reconnecting and sending again. Default 30 s.</summary>
     public TimeSpan AckTimeout { get; init; } = TimeSpan.FromSeconds(30);
 
     /// <summary>Time between two progress reports. Default 1 s.</summary>

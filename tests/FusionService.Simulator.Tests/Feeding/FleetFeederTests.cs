@@ -94,6 +94,23 @@ public sealed class FleetFeederTests(FleetFixture fixture)
     }
 
     [Fact]
+    public async Task WebSocket_reconnects_and_resends_when_an_acknowledgement_does_not_come()
+    {
+        await using TestIngestServer server = await TestIngestServer.StartAsync(dropFirstAck: true);
+        using var http = new HttpClient();
+        IReadOnlyList<IReadOnlyList<TelemetryBatch>> vans = Sample(vans: 1, batches: 3);
+        FleetFeederOptions options = Options(server, FeedTransport.WebSocket) with { AckTimeout = TimeSpan.FromSeconds(2) };
+        FeedProgress final = await new FleetFeeder(http, options).RunAsync(vans);
+
+        TestIngestServer.Frame[] frames = [.. server.Frames.OrderBy(f => f.ArrivedTicks)];
+        // Connection 1 carried the unacknowledged frame; connection 2 starts again at seq 1 with the same batch.
+        Assert.Equal([(1, 1L), (2, 1L), (2, 2L), (2, 3L)], frames.Select(f => (f.Connection, f.Seq)));
+        Assert.Equal(frames[0].Messages, frames[1].Messages);
+        Assert.Equal(vans[0].Select(b => b.Messages.Select(TelemetryJson.Serialize).ToArray()), frames.Skip(1).Select(f => f.Messages));
+        Assert.Equal((3L, 1L, 0L), (final.BatchesAcknowledged, final.Retries, final.Failures));
+    }
+
+    [Fact]
     public async Task Batches_are_sent_at_their_scaled_arrival_times()
     {
         await using TestIngestServer server = await TestIngestServer.StartAsync();
@@ -101,16 +118,21 @@ public sealed class FleetFeederTests(FleetFixture fixture)
         IReadOnlyList<IReadOnlyList<TelemetryBatch>> vans = Sample(vans: 1, batches: 5);
         double spanS = (vans[0][^1].ArrivalTimeUs - vans[0][0].ArrivalTimeUs) / 1e6;
         double factor = spanS / 0.8;
+        long startTicks = Stopwatch.GetTimestamp();
         await new FleetFeeder(http, Options(server, FeedTransport.Http) with { AccelerationFactor = factor }).RunAsync(vans);
         TestIngestServer.Post[] posts = [.. server.Posts];
         Assert.Equal(5, posts.Length);
-        for (int i = 1; i < posts.Length; i++)
+        for (int i = 0; i < posts.Length; i++)
         {
-            // Derived: gap = (arrival_i - arrival_0) / factor; 10 ms allows for timer rounding (the feeder never sends early).
-            double expectedS = (vans[0][i].ArrivalTimeUs - vans[0][0].ArrivalTimeUs) / 1e6 / factor;
-            double actualS = Stopwatch.GetElapsedTime(posts[0].ArrivedTicks, posts[i].ArrivedTicks).TotalSeconds;
-            Assert.True(actualS >= expectedS - 0.010, $"batch {i} sent after {actualS} s, due after {expectedS} s");
+            // Derived: batch i is due (arrival_i - arrival_0) / factor after the feeder starts (the server is in-process, so
+            // both sides read the same clock); 10 ms allows for timer rounding. The feeder must never send early.
+            double dueS = (vans[0][i].ArrivalTimeUs - vans[0][0].ArrivalTimeUs) / 1e6 / factor;
+            double receivedS = Stopwatch.GetElapsedTime(startTicks, posts[i].ArrivedTicks).TotalSeconds;
+            Assert.True(receivedS >= dueS - 0.010, $"batch {i} received {receivedS} s after the start, due {dueS} s");
         }
+
+        // The last batch is due 0.8 s after the start by construction.
+        Assert.True(Stopwatch.GetElapsedTime(startTicks, posts[^1].ArrivedTicks) >= TimeSpan.FromSeconds(0.79));
     }
 
     [Fact]

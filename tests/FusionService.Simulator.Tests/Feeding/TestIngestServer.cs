@@ -45,7 +45,12 @@ internal sealed class TestIngestServer : IAsyncDisposable
 
     public int RetryAfterS { get; init; } = 1;
 
-    public static async Task<TestIngestServer> StartAsync(int throttleOnce = 0, TimeSpan? ackDelay = null, TimeSpan? postDelay = null, bool refuseAll = false)
+    /// <summary>When set, the very first frame is recorded but never acknowledged.</summary>
+    public bool DropFirstAck { get; init; }
+
+    private int _framesSeen;
+
+    public static async Task<TestIngestServer> StartAsync(int throttleOnce = 0, TimeSpan? ackDelay = null, TimeSpan? postDelay = null, bool refuseAll = false, bool dropFirstAck = false)
     {
         WebApplicationBuilder builder = WebApplication.CreateSlimBuilder();
         builder.Logging.ClearProviders();
@@ -56,6 +61,7 @@ internal sealed class TestIngestServer : IAsyncDisposable
             AckDelay = ackDelay ?? TimeSpan.FromMilliseconds(30),
             PostDelay = postDelay ?? TimeSpan.Zero,
             RefuseAll = refuseAll,
+            DropFirstAck = dropFirstAck,
         };
         server._throttlesLeft = throttleOnce;
         app.UseWebSockets();
@@ -135,6 +141,11 @@ internal sealed class TestIngestServer : IAsyncDisposable
             long seq = doc.RootElement.GetProperty("seq").GetInt64();
             string[] messages = [.. doc.RootElement.GetProperty("messages").EnumerateArray().Select(e => e.GetRawText())];
             Frames.Enqueue(new Frame(connection, seq, messages, arrived));
+            if (Interlocked.Increment(ref _framesSeen) == 1 && DropFirstAck)
+            {
+                continue;
+            }
+
             acks.Add(Task.Run(async () =>
             {
                 await Task.Delay(AckDelay);
