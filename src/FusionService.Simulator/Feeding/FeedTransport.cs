@@ -9,4 +9,7 @@ public enum FeedTransport
 
     /// <summary>One WebSocket per van to <c>{base}/v1/telemetry/stream</c>; one frame <c>{"seq": n, "messages": [...]}</c> per batch, each acknowledged.</summary>
     WebSocket = 1,
+
+    /// <summary>Both at once: vans in even positions of the feed (the first, third, ...) over HTTP, the others over WebSocket.</summary>
+    Mixed = 2,
 }

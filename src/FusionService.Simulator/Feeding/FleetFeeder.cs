@@ -23,7 +23,8 @@ namespace FusionService.Simulator.Feeding;
 /// or the back-off when absent; other 5xx and network errors wait the back-off (doubling from
 /// <see cref="FleetFeederOptions.InitialBackoff"/>); other statuses are failures at once. A WebSocket that closes or does
 /// not acknowledge in time is reopened and the batch resent (the service sees it twice; ids are unchanged).
-/// At most <see cref="FleetFeederOptions.MaxConcurrentRequests"/> batches are in flight over all vans.
+/// At most <see cref="FleetFeederOptions.MaxConcurrentRequests"/> batches are in flight over all vans; a batch waiting to
+/// be retried keeps its slot, so a throttling service slows the whole feed down.
 /// </remarks>
 public sealed class FleetFeeder
 {
@@ -86,7 +87,7 @@ public sealed class FleetFeeder
         Task reporter = ReportLoopAsync(vans.Count, startTicks, progress, reporting.Token);
         try
         {
-            await Task.WhenAll(vans.Select(v => FeedVanAsync(v, zeroUs, startTicks, gate, cancellationToken))).ConfigureAwait(false);
+            await Task.WhenAll(vans.Select((v, i) => FeedVanAsync(v, UsesWebSocket(i), zeroUs, startTicks, gate, cancellationToken))).ConfigureAwait(false);
         }
         finally
         {
@@ -155,9 +156,13 @@ public sealed class FleetFeeder
             seconds > 0 ? (acked - ackedBefore) / seconds : 0.0);
     }
 
-    private async Task FeedVanAsync(IReadOnlyList<TelemetryBatch> batches, long zeroUs, long startTicks, SemaphoreSlim gate, CancellationToken cancellationToken)
+    private bool UsesWebSocket(int vanPosition) =>
+        _options.Transport == FeedTransport.WebSocket || (_options.Transport == FeedTransport.Mixed && vanPosition % 2 == 1);
+
+    private async Task FeedVanAsync(
+        IReadOnlyList<TelemetryBatch> batches, bool webSocket, long zeroUs, long startTicks, SemaphoreSlim gate, CancellationToken cancellationToken)
     {
-        VanSocket? socket = _options.Transport == FeedTransport.WebSocket ? new VanSocket(this) : null;
+        VanSocket? socket = webSocket ? new VanSocket(this) : null;
         try
         {
             foreach (TelemetryBatch batch in batches)

@@ -111,6 +111,20 @@ public sealed class FleetFeederTests(FleetFixture fixture)
     }
 
     [Fact]
+    public async Task Mixed_transport_sends_alternate_vans_over_http_and_websocket()
+    {
+        await using TestIngestServer server = await TestIngestServer.StartAsync();
+        using var http = new HttpClient();
+        IReadOnlyList<IReadOnlyList<TelemetryBatch>> vans = Sample(vans: 2, batches: 3);
+        FeedProgress final = await new FleetFeeder(http, Options(server, FeedTransport.Mixed)).RunAsync(vans);
+        Assert.Equal(vans[0].Select(b => TelemetryJson.ToNdjson(b.Messages)), server.Posts.Select(p => p.Body));
+        Assert.Equal(
+            vans[1].Select(b => b.Messages.Select(TelemetryJson.Serialize).ToArray()),
+            server.Frames.OrderBy(f => f.ArrivedTicks).Select(f => f.Messages));
+        Assert.Equal((6L, 0L), (final.BatchesAcknowledged, final.Failures));
+    }
+
+    [Fact]
     public async Task Batches_are_sent_at_their_scaled_arrival_times()
     {
         await using TestIngestServer server = await TestIngestServer.StartAsync();
