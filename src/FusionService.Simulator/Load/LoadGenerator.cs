@@ -1,0 +1,170 @@
+// Load for the ingest benchmark: synthetic vehicles, fixed-size NDJSON batches, throughput and acknowledgement latency.
+using System.Diagnostics;
+using System.Globalization;
+using System.Net.Http.Headers;
+using FusionService.Simulator.Messages;
+
+namespace FusionService.Simulator.Load;
+
+/// <summary>
+/// Posts <see cref="LoadGeneratorOptions.TotalBatches"/> NDJSON batches of <see cref="LoadGeneratorOptions.BatchSize"/>
+/// synthetic messages, <see cref="LoadGeneratorOptions.Concurrency"/> at a time, to any HTTP endpoint, and reports accepted
+/// messages per second and the p50/p99 time to the answer (nearest-rank percentiles). Batches are not retried: a refused
+/// batch counts as rejected.
+/// </summary>
+/// <remarks>
+/// Message g of the run (g = batch x size + position) belongs to vehicle g mod N at step k = g div N, time start + k x 100 ms;
+/// every tenth step is a gnss fix on a straight eastward line at 10 m/s (longitude advanced by metres / (111 320 cos lat),
+/// a flat-earth rule adequate for load only), the others alternate wheel (10 m/s) and imu (0 deg/s). Ids are unique.
+/// </remarks>
+public sealed class LoadGenerator
+{
+    private const double BaseLatitudeDeg = 46.12;
+    private const double BaseLongitudeDeg = 8.47;
+    private const long StepUs = 100_000;
+
+    private readonly HttpClient _http;
+    private readonly LoadGeneratorOptions _options;
+
+    /// <summary>Creates a generator.</summary>
+    /// <param name="httpClient">Client (not disposed by the generator).</param>
+    /// <param name="options">Settings, validated here.</param>
+    public LoadGenerator(HttpClient httpClient, LoadGeneratorOptions options)
+    {
+        ArgumentNullException.ThrowIfNull(httpClient);
+        ArgumentNullException.ThrowIfNull(options);
+        options.Validate();
+        _http = httpClient;
+        _options = options;
+    }
+
+    /// <summary>The synthetic messages of batch <paramref name="batchNumber"/> (0-based).</summary>
+    /// <param name="options">Settings.</param>
+    /// <param name="batchNumber">Batch number, non-negative.</param>
+    public static IReadOnlyList<TelemetryMessage> SyntheticBatch(LoadGeneratorOptions options, int batchNumber)
+    {
+        ArgumentNullException.ThrowIfNull(options);
+        ArgumentOutOfRangeException.ThrowIfNegative(batchNumber);
+        var messages = new TelemetryMessage[options.BatchSize];
+        for (int j = 0; j < messages.Length; j++)
+        {
+            long g = ((long)batchNumber * options.BatchSize) + j;
+            long vehicle = g % options.VehicleCount;
+            long step = g / options.VehicleCount;
+            string id = string.Create(CultureInfo.InvariantCulture, $"{options.VehiclePrefix}{vehicle:000000}");
+            long timeUs = options.StartTimeUs + (step * StepUs);
+            string messageId = string.Create(CultureInfo.InvariantCulture, $"{id}/{step}");
+            if (step % 10 == 0)
+            {
+                double latDeg = BaseLatitudeDeg + (vehicle * 1e-4);
+                double eastM = 10.0 * step * StepUs / 1e6;
+                double lonDeg = BaseLongitudeDeg + (eastM / (111_320.0 * Math.Cos(latDeg * Math.PI / 180.0)));
+                messages[j] = new TelemetryMessage(id, TelemetryKinds.Gnss, timeUs, messageId)
+                {
+                    LatDeg = latDeg,
+                    LonDeg = lonDeg,
+                    AccuracyM = 3.0,
+                    AccuracyKind = TelemetryKinds.OneSigma,
+                    SpeedMps = 10.0,
+                    CourseDeg = 90.0,
+                    SpeedAccuracyMps = 0.1,
+                };
+            }
+            else if (step % 2 == 1)
+            {
+                messages[j] = new TelemetryMessage(id, TelemetryKinds.Wheel, timeUs, messageId) { SpeedMps = 10.0 };
+            }
+            else
+            {
+                messages[j] = new TelemetryMessage(id, TelemetryKinds.Imu, timeUs, messageId) { YawRateDps = 0.0, AccelMps2 = 0.0 };
+            }
+        }
+
+        return messages;
+    }
+
+    /// <summary>Nearest-rank percentile of ascending <paramref name="sorted"/>: the value at rank ceil(p / 100 x n); NaN when empty.</summary>
+    /// <param name="sorted">Values in ascending order.</param>
+    /// <param name="percent">Percentile, in (0, 100].</param>
+    public static double NearestRankPercentile(IReadOnlyList<double> sorted, double percent)
+    {
+        ArgumentNullException.ThrowIfNull(sorted);
+        if (!(percent > 0 && percent <= 100))
+        {
+            throw new ArgumentOutOfRangeException(nameof(percent), percent, "percentile must be within (0, 100]");
+        }
+
+        if (sorted.Count == 0)
+        {
+            return double.NaN;
+        }
+
+        int rank = (int)Math.Ceiling(percent / 100.0 * sorted.Count);
+        return sorted[Math.Clamp(rank, 1, sorted.Count) - 1];
+    }
+
+    /// <summary>Runs the load.</summary>
+    /// <param name="cancellationToken">Stops the run (throws <see cref="OperationCanceledException"/>).</param>
+    public async Task<LoadReport> RunAsync(CancellationToken cancellationToken = default)
+    {
+        int next = -1;
+        long accepted = 0, messages = 0, rejected = 0;
+        var latencies = new List<double>(_options.TotalBatches);
+        var gate = new Lock();
+        var clock = Stopwatch.StartNew();
+        async Task WorkerAsync()
+        {
+            int b;
+            while ((b = Interlocked.Increment(ref next)) < _options.TotalBatches)
+            {
+                byte[] body = TelemetryJson.ToNdjson(SyntheticBatch(_options, b));
+                using var request = new HttpRequestMessage(HttpMethod.Post, _options.Endpoint) { Content = new ByteArrayContent(body) };
+                request.Content.Headers.ContentType = new MediaTypeHeaderValue(TelemetryJson.NdjsonContentType);
+                if (_options.ApiKey is not null)
+                {
+                    request.Headers.Authorization = new AuthenticationHeaderValue("Bearer", _options.ApiKey);
+                }
+
+                long started = Stopwatch.GetTimestamp();
+                bool ok;
+                try
+                {
+                    using HttpResponseMessage response = await _http.SendAsync(request, cancellationToken).ConfigureAwait(false);
+                    ok = response.IsSuccessStatusCode;
+                }
+                catch (HttpRequestException)
+                {
+                    ok = false;
+                }
+
+                double ms = Stopwatch.GetElapsedTime(started).TotalMilliseconds;
+                if (ok)
+                {
+                    Interlocked.Increment(ref accepted);
+                    Interlocked.Add(ref messages, _options.BatchSize);
+                    lock (gate)
+                    {
+                        latencies.Add(ms);
+                    }
+                }
+                else
+                {
+                    Interlocked.Increment(ref rejected);
+                }
+            }
+        }
+
+        await Task.WhenAll(Enumerable.Range(0, _options.Concurrency).Select(_ => WorkerAsync())).ConfigureAwait(false);
+        clock.Stop();
+        latencies.Sort();
+        double seconds = clock.Elapsed.TotalSeconds;
+        return new LoadReport(
+            accepted,
+            messages,
+            rejected,
+            clock.Elapsed,
+            seconds > 0 ? messages / seconds : 0.0,
+            NearestRankPercentile(latencies, 50),
+            NearestRankPercentile(latencies, 99));
+    }
+}

@@ -1,0 +1,46 @@
+// Settings of the load generator.
+namespace FusionService.Simulator.Load;
+
+/// <summary>Settings of <see cref="LoadGenerator"/>. Defaults are invented benchmark values.</summary>
+public sealed record LoadGeneratorOptions
+{
+    /// <summary>Full address to POST NDJSON batches to, e.g. http://127.0.0.1:5080/v1/telemetry. Required.</summary>
+    public required Uri Endpoint { get; init; }
+
+    /// <summary>Write key sent as <c>Authorization: Bearer {key}</c>; null sends no header.</summary>
+    public string? ApiKey { get; init; }
+
+    /// <summary>Number of synthetic vehicles the messages are spread over (round robin). Default 1000.</summary>
+    public int VehicleCount { get; init; } = 1000;
+
+    /// <summary>Messages per batch (one POST). Default 500.</summary>
+    public int BatchSize { get; init; } = 500;
+
+    /// <summary>Batches to send in all. Default 200.</summary>
+    public int TotalBatches { get; init; } = 200;
+
+    /// <summary>Batches in flight at once. Default 8.</summary>
+    public int Concurrency { get; init; } = 8;
+
+    /// <summary>Time of the first synthetic sample, Unix microseconds. Default 2026-12-02T08:00:00Z.</summary>
+    public long StartTimeUs { get; init; } = Fleet.DemoFleetOptions.DefaultStartTimeUs;
+
+    /// <summary>Prefix of the synthetic vehicle ids ("load-000001"). Default "load-".</summary>
+    public string VehiclePrefix { get; init; } = "load-";
+
+    /// <summary>Throws <see cref="ArgumentException"/> naming the first inconsistent value.</summary>
+    public void Validate()
+    {
+        ArgumentNullException.ThrowIfNull(Endpoint);
+        if (!Endpoint.IsAbsoluteUri)
+        {
+            throw new ArgumentException($"Endpoint must be absolute, was {Endpoint}.", nameof(Endpoint));
+        }
+
+        ArgumentOutOfRangeException.ThrowIfLessThan(VehicleCount, 1);
+        ArgumentOutOfRangeException.ThrowIfLessThan(BatchSize, 1);
+        ArgumentOutOfRangeException.ThrowIfLessThan(TotalBatches, 1);
+        ArgumentOutOfRangeException.ThrowIfLessThan(Concurrency, 1);
+        ArgumentNullException.ThrowIfNull(VehiclePrefix);
+    }
+}
