@@ -1,0 +1,102 @@
+// The service's PostgreSQL store: embedded or external server, migrated and partitioned at start-up.
+using FusionService.Storage.Cluster;
+using FusionService.Storage.Migrations;
+using FusionService.Storage.Partitions;
+using FusionService.Storage.Schemas;
+using Microsoft.Extensions.Options;
+using Npgsql;
+
+namespace FusionService.Database;
+
+/// <summary>
+/// Owns the connection to the store. <see cref="StartAsync"/> starts the embedded cluster when no connection
+/// string is configured, applies the migrations and creates the daily partitions; <see cref="StopAsync"/> stops
+/// the embedded cluster.
+/// </summary>
+public sealed class FusionDatabase : IAsyncDisposable
+{
+    /// <summary>Name of the connection string that points the service at an existing server.</summary>
+    public const string ConnectionStringName = "Fusion";
+
+    private readonly IConfiguration _configuration;
+    private readonly DatabaseOptions _options;
+    private readonly ILoggerFactory _loggerFactory;
+    private readonly ILogger<FusionDatabase> _logger;
+    private EmbeddedPostgres? _embedded;
+    private NpgsqlDataSource? _dataSource;
+
+    /// <summary>Creates the (not yet started) store.</summary>
+    public FusionDatabase(IConfiguration configuration, IOptions<DatabaseOptions> options, ILoggerFactory loggerFactory)
+    {
+        _configuration = configuration;
+        _options = options.Value;
+        _loggerFactory = loggerFactory;
+        _logger = loggerFactory.CreateLogger<FusionDatabase>();
+    }
+
+    /// <summary>Data source whose connections use the store's schema.</summary>
+    /// <exception cref="InvalidOperationException">Before <see cref="StartAsync"/>.</exception>
+    public NpgsqlDataSource DataSource => _dataSource ?? throw new InvalidOperationException("The database has not been started.");
+
+    /// <summary>Server connection string (without the schema search path).</summary>
+    public string ServerConnectionString { get; private set; } = string.Empty;
+
+    /// <summary>Versions of the migrations the store must have.</summary>
+    public static IReadOnlyList<string> RequiredMigrations => new MigrationRunner("Host=unused").Versions;
+
+    /// <summary>Options in force.</summary>
+    public DatabaseOptions Options => _options;
+
+    /// <summary>Starts (or connects to) the server, migrates the schema and creates partitions.</summary>
+    public async Task StartAsync(CancellationToken cancellationToken)
+    {
+        var external = _configuration.GetConnectionString(ConnectionStringName);
+        if (string.IsNullOrWhiteSpace(external))
+        {
+            var folder = Path.GetFullPath(_options.DataDirectory);
+            _logger.LogInformation("Starting the embedded PostgreSQL cluster in {DataDirectory}", folder);
+            _embedded = await EmbeddedPostgres.StartAsync(
+                new EmbeddedPostgresOptions { DataDirectory = folder, DeleteDataDirectoryOnDispose = false, Port = _options.EmbeddedPort },
+                _loggerFactory.CreateLogger<EmbeddedPostgres>(),
+                cancellationToken).ConfigureAwait(false);
+            ServerConnectionString = _embedded.ConnectionString;
+        }
+        else
+        {
+            ServerConnectionString = external;
+        }
+
+        var applied = await new MigrationRunner(ServerConnectionString, _options.Schema, _loggerFactory.CreateLogger<MigrationRunner>())
+            .RunAsync(cancellationToken).ConfigureAwait(false);
+        _logger.LogInformation("Store schema {Schema} ready; {Count} migrations applied now", _options.Schema, applied.Count);
+        _dataSource = NpgsqlDataSource.Create(StorageSchema.WithSearchPath(ServerConnectionString, _options.Schema));
+        await CreatePartitions().RunAsync(cancellationToken).ConfigureAwait(false);
+    }
+
+    /// <summary>A partition maintainer for the store with the configured window.</summary>
+    public PartitionMaintainer CreatePartitions() => new(
+        DataSource,
+        new PartitionMaintenanceOptions { DaysBack = _options.DaysBack, DaysAhead = _options.DaysAhead, RetentionDays = _options.RetentionDays },
+        TimeProvider.System,
+        _loggerFactory.CreateLogger<PartitionMaintainer>());
+
+    /// <summary>Closes the data source and stops the embedded cluster (if this store started one).</summary>
+    public async Task StopAsync(CancellationToken cancellationToken)
+    {
+        if (_dataSource is not null)
+        {
+            await _dataSource.DisposeAsync().ConfigureAwait(false);
+            _dataSource = null;
+        }
+
+        if (_embedded is not null)
+        {
+            await _embedded.StopAsync(cancellationToken).ConfigureAwait(false);
+            await _embedded.DisposeAsync().ConfigureAwait(false);
+            _embedded = null;
+        }
+    }
+
+    /// <inheritdoc />
+    public async ValueTask DisposeAsync() => await StopAsync(CancellationToken.None).ConfigureAwait(false);
+}
