@@ -110,5 +110,12 @@ public sealed class TrackWriteQueue : BackgroundService
         {
             _logger.LogWarning(ex, "Writing {Outcomes} outcomes and {States} fused states failed; retrying", _outcomes.Count, _states.Count);
         }
+        catch (ArgumentException ex)
+        {
+            // Rows the store refuses before sending can never succeed: log and drop them rather than stop the host.
+            _logger.LogError(ex, "Dropped {Outcomes} outcomes and {States} fused states the store refused", _outcomes.Count, _states.Count);
+            _outcomes.Clear();
+            _states.Clear();
+        }
     }
 }

@@ -122,7 +122,7 @@ internal sealed class VehicleTrackGrain(
     public Task<VehicleStateSnapshot?> GetStateAsync()
     {
         ref readonly TrackState s = ref _track.Current;
-        if (!s.HasPlane || s.Phase == TrackPhase.Empty)
+        if (!s.HasPlane || s.Phase != TrackPhase.Running)
         {
             return Task.FromResult<VehicleStateSnapshot?>(null);
         }
@@ -140,7 +140,7 @@ internal sealed class VehicleTrackGrain(
             p[i] = s.P[i];
         }
 
-        string phase = s.Phase == TrackPhase.Running ? "running" : "awaiting_heading";
+        const string phase = "running";
         return Task.FromResult<VehicleStateSnapshot?>(new VehicleStateSnapshot(
             s.TimeUs, phase, position.LatitudeDeg, position.LongitudeDeg, x, p, [.. _lastBySensor], s.Resets));
     }
@@ -186,7 +186,7 @@ internal sealed class VehicleTrackGrain(
             double.IsFinite(outcome.Nis) && outcome.Nis >= 0 ? outcome.Nis : null,
             outcome.Kind == OutcomeKind.TrackReset));
 
-        if (!posterior.HasPlane || posterior.Phase == TrackPhase.Empty)
+        if (!posterior.HasPlane || posterior.Phase != TrackPhase.Running)
         {
             return;
         }

@@ -7,7 +7,7 @@ namespace FusionService.Vehicles;
 /// </summary>
 /// <param name="Vehicle">Vehicle id.</param>
 /// <param name="Time">Time of the estimate (newest processed measurement).</param>
-/// <param name="Phase">running, or awaiting_heading while the track has a position but no heading yet.</param>
+/// <param name="Phase">Track phase; always <c>running</c> (a track without position and heading has no state to show).</param>
 /// <param name="LatDeg">WGS-84 latitude, degrees.</param>
 /// <param name="LonDeg">WGS-84 longitude, degrees.</param>
 /// <param name="PositionSdEastM">Standard deviation of the east position, metres.</param>
