@@ -80,6 +80,24 @@ public sealed class FusionDatabase : IAsyncDisposable
         TimeProvider.System,
         _loggerFactory.CreateLogger<PartitionMaintainer>());
 
+    /// <summary>
+    /// Call when a database operation failed: after a connection-level failure (server restarted, network cut) the
+    /// pooled idle connections are dead too, so the pool is cleared and the next attempt opens fresh ones.
+    /// </summary>
+    public void NoteFailure(Exception exception)
+    {
+        bool connectionLevel = exception switch
+        {
+            PostgresException pg => pg.SqlState.StartsWith("08", StringComparison.Ordinal) || pg.SqlState.StartsWith("57P", StringComparison.Ordinal),
+            NpgsqlException => true,
+            _ => exception.InnerException is { } inner && inner is NpgsqlException,
+        };
+        if (connectionLevel)
+        {
+            _dataSource?.Clear();
+        }
+    }
+
     /// <summary>Closes the data source and stops the embedded cluster (if this store started one).</summary>
     public async Task StopAsync(CancellationToken cancellationToken)
     {

@@ -123,6 +123,7 @@ public sealed class GroupCommitWriter : BackgroundService
         catch (Exception ex) when (ex is not OperationCanceledException || !cancellationToken.IsCancellationRequested)
         {
             _logger.LogWarning(ex, "Group commit of {Rows} rows from {Requests} requests failed", rowCount, batch.Count);
+            _database.NoteFailure(ex);
             foreach (var request in batch)
             {
                 request.Completion.TrySetException(new ServiceUnavailableException("the database is unavailable", ex));

@@ -39,6 +39,7 @@ internal sealed class ReadinessHealthCheck(FusionDatabase database, SiloStatus s
         }
         catch (Exception ex) when (ex is NpgsqlException or InvalidOperationException or TimeoutException)
         {
+            database.NoteFailure(ex);
             return HealthCheckResult.Unhealthy("PostgreSQL unreachable: " + ex.Message);
         }
     }

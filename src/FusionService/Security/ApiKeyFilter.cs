@@ -39,6 +39,7 @@ internal sealed class ApiKeyFilter(ApiKeyRole[] roles) : IEndpointFilter
         }
         catch (Exception ex) when (ex is NpgsqlException or InvalidOperationException or TimeoutException)
         {
+            http.RequestServices.GetRequiredService<Database.FusionDatabase>().NoteFailure(ex);
             http.Response.Headers.RetryAfter = "5";
             return TypedResults.Problem(
                 title: "Service unavailable",

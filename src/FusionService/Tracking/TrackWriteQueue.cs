@@ -109,6 +109,7 @@ public sealed class TrackWriteQueue : BackgroundService
         catch (Exception ex) when (ex is Npgsql.NpgsqlException or InvalidOperationException or TimeoutException or IOException)
         {
             _logger.LogWarning(ex, "Writing {Outcomes} outcomes and {States} fused states failed; retrying", _outcomes.Count, _states.Count);
+            _database.NoteFailure(ex);
         }
         catch (ArgumentException ex)
         {

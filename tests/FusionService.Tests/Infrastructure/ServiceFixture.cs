@@ -49,6 +49,7 @@ public sealed class ServiceFixture : IAsyncLifetime
             Port = _port,
         });
         ConnectionString = _cluster.ConnectionString;
+        (Store as NpgsqlDataSource)?.Clear();
         await using var connection = new NpgsqlConnection(ConnectionString);
         await connection.OpenAsync();
     }

@@ -22,11 +22,11 @@ internal sealed class TelemetryDrive
     /// <summary>Messages in time order with their core measurements.</summary>
     public IReadOnlyList<(JsonObject Message, Measurement[] Core)> Messages { get; }
 
-    /// <summary>A drive of about a minute starting at <paramref name="startUs"/> (a whole second).</summary>
+    /// <summary>A drive of about a minute and a half starting at <paramref name="startUs"/> (a whole second).</summary>
     public static TelemetryDrive Create(string vehicle, long startUs, int seed)
     {
         var truth = RouteDriver.Drive(
-            [new RouteWaypoint(0, 0), new RouteWaypoint(220, 0), new RouteWaypoint(220, 160)],
+            [new RouteWaypoint(0, 0), new RouteWaypoint(220, 0), new RouteWaypoint(220, 160), new RouteWaypoint(440, 160), new RouteWaypoint(440, 320)],
             new RouteDriverOptions { StartTimeUs = startUs },
             seed);
         var run = MeasurementGenerator.Generate(truth, SensorSuite.ForProfile(NoiseProfile.DeliveryVan), seed);

@@ -1,0 +1,86 @@
+// Health, metrics and the committed OpenAPI document.
+using System.Net;
+using System.Text.Json;
+using System.Text.Json.Nodes;
+using FusionService.Tests.Infrastructure;
+
+namespace FusionService.Tests.Operations;
+
+[Collection(ServiceTests.Name)]
+public sealed class OperationsTests(ServiceFixture fixture)
+{
+    /// <summary>Set to 1 to rewrite <c>openapi/fusionservice.v1.json</c> from the running service.</summary>
+    public const string UpdateVariable = "FUSION_UPDATE_OPENAPI";
+
+    [Fact]
+    public async Task Live_and_ready_are_healthy()
+    {
+        using var client = fixture.Client(null);
+        Assert.Equal(HttpStatusCode.OK, (await client.GetAsync("/health/live")).StatusCode);
+        using var ready = await client.GetAsync("/health/ready");
+        Assert.Equal(HttpStatusCode.OK, ready.StatusCode);
+        Assert.Equal("Healthy", await ready.Content.ReadAsStringAsync());
+    }
+
+    [Fact]
+    public async Task Metrics_count_ingested_messages_in_prometheus_text()
+    {
+        var fleet = await fixture.NewFleetAsync();
+        using var client = fixture.Client(null);
+        double before = Value(await client.GetStringAsync("/metrics"), "fusion_ingest_messages_total{status=\"accepted\"}");
+        var drive = TelemetryDrive.Create("van-metrics", TelemetryDrive.StartUs(TimeSpan.FromMinutes(11)), seed: 91);
+        await fixture.Client(fleet.IngestKey).IngestOkAsync(drive.Body(0, 25));
+        using var response = await client.GetAsync("/metrics");
+        Assert.Equal("text/plain", response.Content.Headers.ContentType?.MediaType);
+        string text = await response.Content.ReadAsStringAsync();
+        Assert.Equal(before + 25, Value(text, "fusion_ingest_messages_total{status=\"accepted\"}"));
+        Assert.Contains("# TYPE fusion_commit_latency_seconds histogram", text, StringComparison.Ordinal);
+        Assert.True(Value(text, "fusion_commit_latency_seconds_count") >= 1);
+        Assert.Contains("fusion_write_queue_depth ", text, StringComparison.Ordinal);
+        Assert.Contains("fusion_gated_measurements_total ", text, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public async Task Committed_openapi_document_is_current()
+    {
+        using var client = fixture.Client(null);
+        string served = JsonNode.Parse(await client.GetStringAsync("/openapi/v1.json"))!.ToJsonString(new JsonSerializerOptions { WriteIndented = true }) + "\n";
+        string path = Path.Combine(RepositoryRoot(), "openapi", "fusionservice.v1.json");
+        if (Environment.GetEnvironmentVariable(UpdateVariable) == "1")
+        {
+            Directory.CreateDirectory(Path.GetDirectoryName(path)!);
+            await File.WriteAllTextAsync(path, served);
+        }
+
+        Assert.True(File.Exists(path), "openapi/fusionservice.v1.json is missing; regenerate with " + UpdateVariable + "=1");
+        Assert.True(served == await File.ReadAllTextAsync(path),
+            "openapi/fusionservice.v1.json is stale; regenerate: " + UpdateVariable + "=1 dotnet test tests/FusionService.Tests --filter Committed_openapi_document_is_current");
+        var document = JsonNode.Parse(served)!;
+        foreach (var (route, item) in document["paths"]!.AsObject())
+        {
+            foreach (var (_, operation) in item!.AsObject())
+            {
+                Assert.False(string.IsNullOrWhiteSpace((string?)operation!["operationId"]), route + ": no name");
+                Assert.False(string.IsNullOrWhiteSpace((string?)operation["summary"]), route + ": no summary");
+                Assert.False(string.IsNullOrWhiteSpace((string?)operation["description"]), route + ": no description");
+            }
+        }
+
+        Assert.Contains("collision avoidance", (string?)document["info"]!["description"], StringComparison.Ordinal);
+        Assert.Contains("personal data", (string?)document["info"]!["description"], StringComparison.Ordinal);
+    }
+
+    private static double Value(string metrics, string name) =>
+        double.Parse(metrics.Split('\n').Single(l => l.StartsWith(name + " ", StringComparison.Ordinal))[(name.Length + 1)..], System.Globalization.CultureInfo.InvariantCulture);
+
+    private static string RepositoryRoot()
+    {
+        var folder = new DirectoryInfo(AppContext.BaseDirectory);
+        while (folder is not null && !File.Exists(Path.Combine(folder.FullName, "FusionService.sln")))
+        {
+            folder = folder.Parent;
+        }
+
+        return folder?.FullName ?? throw new InvalidOperationException("FusionService.sln not found above " + AppContext.BaseDirectory);
+    }
+}
