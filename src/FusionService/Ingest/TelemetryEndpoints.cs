@@ -45,12 +45,12 @@ public static class TelemetryEndpoints
             .ProducesProblem(StatusCodes.Status413PayloadTooLarge)
             .ProducesProblem(StatusCodes.Status429TooManyRequests)
             .ProducesProblem(StatusCodes.Status503ServiceUnavailable);
-        group.Map("/stream", StreamTelemetry)
+        group.MapGet("/stream", StreamTelemetry)
             .RequireApiKey(ApiKeyRole.Ingest)
             .WithName("StreamTelemetry")
             .WithSummary("Stream telemetry over a WebSocket")
             .WithDescription(
-                "Open a WebSocket (GET with Upgrade) carrying 'Authorization: Bearer <ingest key>'. Send text frames "
+                "Open a WebSocket (HTTP/1.1 GET with Upgrade) carrying 'Authorization: Bearer <ingest key>'. Send text frames "
                 + "{\"seq\": n, \"messages\": [...]} with messages as for POST /v1/telemetry. Each frame is answered, after the "
                 + "durable commit, with {\"seq\": n, \"accepted\": a, \"duplicate\": d, \"rejected\": [{\"index\", \"field\", \"reason\"}]}; "
                 + "a frame that cannot be stored is answered {\"seq\": n, \"error\": reason, \"retry_after_s\": s} and nothing of it "

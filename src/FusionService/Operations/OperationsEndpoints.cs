@@ -1,5 +1,5 @@
 // Health, metrics and API documentation endpoints.
-using Microsoft.AspNetCore.Diagnostics.HealthChecks;
+using Microsoft.Extensions.Diagnostics.HealthChecks;
 using Microsoft.AspNetCore.Http.HttpResults;
 
 namespace FusionService.Operations;
@@ -13,12 +13,12 @@ public static class OperationsEndpoints
     /// <summary>Maps the operations endpoints.</summary>
     public static IEndpointRouteBuilder MapOperationsEndpoints(this IEndpointRouteBuilder app)
     {
-        app.MapHealthChecks("/health/live", new HealthCheckOptions { Predicate = _ => false })
+        app.MapGet("/health/live", GetLive)
             .WithName("Live")
             .WithSummary("Liveness")
             .WithDescription("200 while the process serves requests; checks nothing else.")
             .WithTags("Operations");
-        app.MapHealthChecks("/health/ready", new HealthCheckOptions { Predicate = c => c.Tags.Contains(ReadyTag) })
+        app.MapGet("/health/ready", GetReady)
             .WithName("Ready")
             .WithSummary("Readiness")
             .WithDescription("200 when PostgreSQL is reachable, every migration is applied and the Orleans silo is active; 503 otherwise.")
@@ -31,6 +31,24 @@ public static class OperationsEndpoints
             .WithTags("Operations");
         app.MapOpenApi("/openapi/{documentName}.json");
         return app;
+    }
+
+    /// <summary>Handles <c>GET /health/live</c>.</summary>
+    internal static ContentHttpResult GetLive() => TypedResults.Text("Healthy", "text/plain");
+
+    /// <summary>Handles <c>GET /health/ready</c>.</summary>
+    internal static async Task<Results<ContentHttpResult, ProblemHttpResult>> GetReady(HealthCheckService health, CancellationToken cancellationToken)
+    {
+        var report = await health.CheckHealthAsync(c => c.Tags.Contains(ReadyTag), cancellationToken).ConfigureAwait(false);
+        if (report.Status == HealthStatus.Healthy)
+        {
+            return TypedResults.Text("Healthy", "text/plain");
+        }
+
+        return TypedResults.Problem(
+            title: "Not ready",
+            detail: string.Join("; ", report.Entries.Where(e => e.Value.Status != HealthStatus.Healthy).Select(e => e.Key + ": " + e.Value.Description)),
+            statusCode: StatusCodes.Status503ServiceUnavailable);
     }
 
     /// <summary>Handles <c>GET /metrics</c>.</summary>

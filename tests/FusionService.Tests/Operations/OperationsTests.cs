@@ -44,7 +44,8 @@ public sealed class OperationsTests(ServiceFixture fixture)
     public async Task Committed_openapi_document_is_current()
     {
         using var client = fixture.Client(null);
-        string served = JsonNode.Parse(await client.GetStringAsync("/openapi/v1.json"))!.ToJsonString(new JsonSerializerOptions { WriteIndented = true }) + "\n";
+        string served = JsonNode.Parse(await client.GetStringAsync("/openapi/v1.json"))!
+            .ToJsonString(new JsonSerializerOptions { WriteIndented = true, Encoder = System.Text.Encodings.Web.JavaScriptEncoder.UnsafeRelaxedJsonEscaping }) + "\n";
         string path = Path.Combine(RepositoryRoot(), "openapi", "fusionservice.v1.json");
         if (Environment.GetEnvironmentVariable(UpdateVariable) == "1")
         {
@@ -68,6 +69,35 @@ public sealed class OperationsTests(ServiceFixture fixture)
 
         Assert.Contains("collision avoidance", (string?)document["info"]!["description"], StringComparison.Ordinal);
         Assert.Contains("personal data", (string?)document["info"]!["description"], StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public async Task Swagger_ui_serves_the_document()
+    {
+        using var client = fixture.Client(null);
+        using var page = await client.GetAsync("/swagger/index.html");
+        Assert.Equal(HttpStatusCode.OK, page.StatusCode);
+        Assert.Contains("/openapi/v1.json", await client.GetStringAsync("/swagger/index.js"), StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public async Task Requests_over_the_per_key_rate_limit_are_429()
+    {
+        var fleet = await fixture.NewFleetAsync();
+        await using var host = new ServiceFactory(fixture.ConnectionString, new Dictionary<string, string?>
+        {
+            ["Security:RateLimitPermits"] = "3",
+            ["Security:RateLimitWindowSeconds"] = "3600",
+        });
+        using var read = fixture.Client(fleet.ReadKey, host);
+        using var other = fixture.Client(fleet.AdminKey, host);
+        for (int i = 0; i < 3; i++)
+        {
+            Assert.Equal(HttpStatusCode.OK, (await read.GetAsync("/v1/vehicles")).StatusCode);
+        }
+
+        Assert.Equal(HttpStatusCode.TooManyRequests, (await read.GetAsync("/v1/vehicles")).StatusCode);
+        Assert.Equal(HttpStatusCode.OK, (await other.GetAsync("/v1/vehicles")).StatusCode);
     }
 
     private static double Value(string metrics, string name) =>
