@@ -16,7 +16,6 @@ if (KeysCommand.Matches(args))
         .SetBasePath(AppContext.BaseDirectory)
         .AddJsonFile("appsettings.json", optional: true)
         .AddEnvironmentVariables()
-        .AddCommandLine(args.SkipWhile(a => !a.StartsWith("--Database", StringComparison.Ordinal) && !a.StartsWith("--ConnectionStrings", StringComparison.Ordinal)).ToArray())
         .Build();
     return await KeysCommand.RunAsync(args, configuration, Console.Out, Console.Error).ConfigureAwait(false);
 }

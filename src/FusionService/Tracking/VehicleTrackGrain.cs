@@ -102,14 +102,26 @@ internal sealed class VehicleTrackGrain(
     public async Task ProcessAsync(TrackMeasurement[] batch)
     {
         ArgumentNullException.ThrowIfNull(batch);
-        foreach (var item in batch)
+        try
         {
-            var m = item.ToMeasurement();
-            var outcome = _track.Process(m, this);
-            if (outcome.Kind == OutcomeKind.Gated)
+            foreach (var item in batch)
             {
-                metrics.CountGated();
+                var m = item.ToMeasurement();
+                var outcome = _track.Process(m, this);
+                if (outcome.Kind == OutcomeKind.Gated)
+                {
+                    metrics.CountGated();
+                }
             }
+        }
+        catch (FusionService.Estimation.Filtering.FilterDivergenceException ex)
+        {
+            // The measurements are stored; the next activation rebuilds the track from the store.
+            logger.LogError(ex, "Track {Key} diverged; deactivating it so that it is rebuilt from the store", this.GetPrimaryKeyString());
+            _outcomes.Clear();
+            _states.Clear();
+            DeactivateOnIdle();
+            throw;
         }
 
         await FlushWritesAsync();

@@ -42,4 +42,43 @@ public sealed class RestartTests(ServiceFixture fixture)
             Assert.Equal(expected, rebuilt);
         }
     }
+
+    [Fact]
+    public async Task A_message_stored_as_too_late_is_skipped_when_the_track_is_rebuilt()
+    {
+        var fleet = await fixture.NewFleetAsync();
+        var drive = TelemetryDrive.Create("van-late", TelemetryDrive.StartUs(TimeSpan.FromMinutes(12)), seed: 72);
+        const int StopAfter = 1700;
+        long firstUs = drive.Messages[0].Core[0].TimeUs;
+        // A wheel message from the first second arrives after more than the 60 s replay window of data.
+        string lateId = "late-wheel";
+        string late = "[{\"vehicle\":\"van-late\",\"kind\":\"wheel\",\"time\":" + ((firstUs / 1000) + 500).ToString(System.Globalization.CultureInfo.InvariantCulture)
+            + ",\"id\":\"" + lateId + "\",\"speed_mps\":7.5}]";
+        var lateCore = FusionService.Estimation.Measurements.Measurement.WheelSpeed(firstUs + 500_000, FusionService.Ingest.MessageKeys.FromId(lateId), 7.5);
+        await using (var first = new ServiceFactory(fixture.ConnectionString))
+        {
+            using var client = fixture.Client(fleet.IngestKey, first);
+            for (int from = 0; from < StopAfter; from += 100)
+            {
+                await client.IngestOkAsync(drive.Body(from, Math.Min(from + 100, StopAfter)));
+            }
+
+            Assert.Equal(1, (await client.IngestOkAsync(late)).Accepted);
+        }
+
+        Assert.Equal(2, await fixture.CountAsync(
+            "SELECT outcome FROM measurements WHERE fleet_id = $1 AND message_key = $2", fleet.Id, (long)lateCore.MessageKey));
+        await using var second = new ServiceFactory(fixture.ConnectionString);
+        using var ingest = fixture.Client(fleet.IngestKey, second);
+        for (int from = StopAfter; from < drive.Messages.Count; from += 100)
+        {
+            await ingest.IngestOkAsync(drive.Body(from, Math.Min(from + 100, drive.Messages.Count)));
+        }
+
+        var uninterrupted = new TrackOracle();
+        uninterrupted.Process(drive.Messages.Take(StopAfter).Select(m => m.Core));
+        uninterrupted.Process([[lateCore]]);
+        uninterrupted.Process(drive.Messages.Skip(StopAfter).Select(m => m.Core));
+        Assert.Equal(uninterrupted.Response("van-late"), await fixture.Client(fleet.ReadKey, second).StateAsync("van-late"));
+    }
 }
