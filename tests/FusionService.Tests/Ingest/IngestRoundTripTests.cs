@@ -55,5 +55,23 @@ public sealed class IngestRoundTripTests(ServiceFixture fixture)
         long newestGnssUs = drive.Messages.Take(300).Where(m => (string)m.Message["kind"]! == "gnss").Max(m => m.Core[0].TimeUs);
         Assert.True(van.Time >= DateTimeOffset.UnixEpoch.AddTicks(newestGnssUs * 10), "the list lags the newest fix");
         Assert.True(await fixture.CountAsync("SELECT count(*) FROM measurements WHERE fleet_id = $1 AND outcome = 4", fleet.Id) == 0, "outcomes left pending");
+
+        // Fused states: one at every GNSS position epoch once the track runs, and never more than 1 s apart.
+        var times = new List<long>();
+        await using (var connection = await fixture.Store.OpenConnectionAsync())
+        await using (var command = new Npgsql.NpgsqlCommand("SELECT time_us FROM fused_states WHERE fleet_id = $1 ORDER BY time_us", connection))
+        {
+            command.Parameters.Add(new Npgsql.NpgsqlParameter { Value = fleet.Id });
+            await using var reader = await command.ExecuteReaderAsync();
+            while (await reader.ReadAsync())
+            {
+                times.Add(reader.GetInt64(0));
+            }
+        }
+
+        Assert.NotEmpty(times);
+        var gnssEpochs = drive.Messages.Take(300).Where(m => (string)m.Message["kind"]! == "gnss").Select(m => m.Core[0].TimeUs).Where(t => t >= times[0]);
+        Assert.All(gnssEpochs, t => Assert.Contains(t, times));
+        Assert.All(times.Zip(times.Skip(1)), pair => Assert.InRange(pair.Second - pair.First, 1, 1_000_000));
     }
 }

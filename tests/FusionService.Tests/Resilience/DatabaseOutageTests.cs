@@ -63,4 +63,27 @@ public sealed class DatabaseOutageTests(ServiceFixture fixture)
         oracle.Process(drive.Messages.Select(m => m.Core));
         Assert.Equal(oracle.Response("van-outage"), await fixture.Client(fleet.ReadKey, host).StateAsync("van-outage"));
     }
+
+    [Fact]
+    public async Task A_full_write_queue_answers_503_at_once_and_never_buffers_more()
+    {
+        var fleet = await fixture.NewFleetAsync();
+        var drive = TelemetryDrive.Create("van-queue", TelemetryDrive.StartUs(TimeSpan.FromMinutes(13)), seed: 62);
+        // One waiting request at most, and a long commit window, so the second request finds the queue full.
+        await using var host = new ServiceFactory(fixture.ConnectionString, new Dictionary<string, string?>
+        {
+            ["Ingest:QueueCapacity"] = "1",
+            ["Ingest:CommitWindowMs"] = "800",
+        });
+        using var client = fixture.Client(fleet.IngestKey, host);
+        Assert.Equal(HttpStatusCode.OK, (await client.PostJsonAsync(drive.Body(0, 10))).StatusCode);
+        var waiting = client.PostJsonAsync(drive.Body(10, 20));
+        await Task.Delay(200);
+        using var refused = await client.PostJsonAsync(drive.Body(20, 30));
+        Assert.Equal(HttpStatusCode.ServiceUnavailable, refused.StatusCode);
+        Assert.Contains("write queue is full", (await refused.ProblemAsync()).GetProperty("detail").GetString(), StringComparison.Ordinal);
+        using var accepted = await waiting;
+        Assert.Equal(HttpStatusCode.OK, accepted.StatusCode);
+        Assert.Equal(drive.Messages.Take(20).Sum(m => m.Core.Length), await fixture.CountAsync("SELECT count(*) FROM measurements WHERE fleet_id = $1", fleet.Id));
+    }
 }
