@@ -24,6 +24,9 @@ public sealed class DatabaseOutageTests(ServiceFixture fixture)
             Assert.Equal(HttpStatusCode.ServiceUnavailable, refused.StatusCode);
             Assert.True(refused.Headers.RetryAfter?.Delta > TimeSpan.Zero, "Retry-After missing");
             Assert.Contains("database is unavailable", (await refused.ProblemAsync()).GetProperty("detail").GetString(), StringComparison.Ordinal);
+            using var ready = await client.GetAsync("/health/ready");
+            Assert.Equal(HttpStatusCode.ServiceUnavailable, ready.StatusCode);
+            Assert.Contains("PostgreSQL unreachable", (await ready.ProblemAsync()).GetProperty("detail").GetString(), StringComparison.Ordinal);
         }
         finally
         {
