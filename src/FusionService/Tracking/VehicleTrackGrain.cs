@@ -175,6 +175,7 @@ internal sealed class VehicleTrackGrain(
             anchor.LongitudeDeg,
             TrackStateCodec.Version,
             TrackStateCodec.Encode(state, lastMeasurement)));
+        await new FilterCheckpointRepository(database.DataSource).DeleteBeforeAsync(_fleetId, _vehicleId, lastMeasurement.TimeUs);
         _lastPersistedUs = lastMeasurement.TimeUs;
     }
 
