@@ -15,7 +15,10 @@ public static class KeysCommand
     /// <summary>True when <paramref name="args"/> ask for this command.</summary>
     public static bool Matches(string[] args) => args is ["keys", ..];
 
-    /// <summary>Runs the command against the configured store (embedded cluster or <c>ConnectionStrings:Fusion</c>).</summary>
+    /// <summary>
+    /// Runs the command against the configured store: <c>ConnectionStrings:Fusion</c>, else the embedded cluster of a
+    /// running service on <c>Database:DataDirectory</c>, else that cluster started for the command and stopped after.
+    /// </summary>
     /// <returns>The process exit code.</returns>
     public static async Task<int> RunAsync(string[] args, IConfiguration configuration, TextWriter output, TextWriter error)
     {
@@ -39,7 +42,7 @@ public static class KeysCommand
         var database = new FusionDatabase(configuration, Options.Create(options), NullLoggerFactory.Instance);
         await using (database.ConfigureAwait(false))
         {
-            await database.StartAsync(CancellationToken.None).ConfigureAwait(false);
+            await database.StartAsync(attachToRunningEmbedded: true, CancellationToken.None).ConfigureAwait(false);
             var admin = new FleetAdmin(database.DataSource);
             var fleetId = await admin.FindFleetAsync(fleet).ConfigureAwait(false) ?? await admin.CreateFleetAsync(fleet).ConfigureAwait(false);
             var key = await admin.CreateApiKeyAsync(fleetId, role, label).ConfigureAwait(false);

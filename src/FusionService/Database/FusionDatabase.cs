@@ -9,7 +9,7 @@ using Npgsql;
 namespace FusionService.Database;
 
 /// <summary>
-/// Owns the connection to the store. <see cref="StartAsync"/> starts the embedded cluster when no connection
+/// Owns the connection to the store. <see cref="StartAsync(CancellationToken)"/> starts the embedded cluster when no connection
 /// string is configured, applies the migrations and creates the daily partitions; <see cref="StopAsync"/> stops
 /// the embedded cluster.
 /// </summary>
@@ -35,7 +35,7 @@ public sealed class FusionDatabase : IAsyncDisposable
     }
 
     /// <summary>Data source whose connections use the store's schema.</summary>
-    /// <exception cref="InvalidOperationException">Before <see cref="StartAsync"/>.</exception>
+    /// <exception cref="InvalidOperationException">Before <see cref="StartAsync(CancellationToken)"/>.</exception>
     public NpgsqlDataSource DataSource => _dataSource ?? throw new InvalidOperationException("The database has not been started.");
 
     /// <summary>Server connection string (without the schema search path).</summary>
@@ -48,9 +48,28 @@ public sealed class FusionDatabase : IAsyncDisposable
     public DatabaseOptions Options => _options;
 
     /// <summary>Starts (or connects to) the server, migrates the schema and creates partitions.</summary>
-    public async Task StartAsync(CancellationToken cancellationToken)
+    public Task StartAsync(CancellationToken cancellationToken) => StartAsync(attachToRunningEmbedded: false, cancellationToken);
+
+    /// <summary>
+    /// Like <see cref="StartAsync(CancellationToken)"/>; with <paramref name="attachToRunningEmbedded"/>, an embedded
+    /// cluster already running on <see cref="DatabaseOptions.DataDirectory"/> (a running service) is used instead of
+    /// starting one (its port is read from <c>postmaster.pid</c>), and it is left running afterwards.
+    /// </summary>
+    public async Task StartAsync(bool attachToRunningEmbedded, CancellationToken cancellationToken)
     {
         var external = _configuration.GetConnectionString(ConnectionStringName);
+        if (string.IsNullOrWhiteSpace(external) && attachToRunningEmbedded
+            && RunningEmbeddedPort(Path.GetFullPath(_options.DataDirectory)) is int port)
+        {
+            external = new NpgsqlConnectionStringBuilder
+            {
+                Host = System.Net.IPAddress.Loopback.ToString(),
+                Port = port,
+                Username = "postgres",
+                Database = new EmbeddedPostgresOptions().DatabaseName,
+            }.ConnectionString;
+        }
+
         if (string.IsNullOrWhiteSpace(external))
         {
             var folder = Path.GetFullPath(_options.DataDirectory);
@@ -71,6 +90,35 @@ public sealed class FusionDatabase : IAsyncDisposable
         _logger.LogInformation("Store schema {Schema} ready; {Count} migrations applied now", _options.Schema, applied.Count);
         _dataSource = NpgsqlDataSource.Create(StorageSchema.WithSearchPath(ServerConnectionString, _options.Schema));
         await CreatePartitions().RunAsync(cancellationToken).ConfigureAwait(false);
+    }
+
+    /// <summary>The port of a live server on <paramref name="dataDirectory"/>, from its <c>postmaster.pid</c> (PostgreSQL
+    /// documentation, "Database File Layout": line 1 the PID, line 4 the port), or null.</summary>
+    private static int? RunningEmbeddedPort(string dataDirectory)
+    {
+        var pidFile = Path.Combine(dataDirectory, "postmaster.pid");
+        if (!File.Exists(pidFile))
+        {
+            return null;
+        }
+
+        var lines = File.ReadAllLines(pidFile);
+        if (lines.Length < 4
+            || !int.TryParse(lines[0], System.Globalization.NumberStyles.Integer, System.Globalization.CultureInfo.InvariantCulture, out int pid)
+            || !int.TryParse(lines[3], System.Globalization.NumberStyles.Integer, System.Globalization.CultureInfo.InvariantCulture, out int port))
+        {
+            return null;
+        }
+
+        try
+        {
+            using var process = System.Diagnostics.Process.GetProcessById(pid);
+            return process.HasExited ? null : port;
+        }
+        catch (ArgumentException)
+        {
+            return null;
+        }
     }
 
     /// <summary>A partition maintainer for the store with the configured window.</summary>

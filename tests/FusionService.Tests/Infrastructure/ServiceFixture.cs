@@ -20,6 +20,9 @@ public sealed class ServiceFixture : IAsyncLifetime
     private readonly int _port = FreePort.Next();
     private EmbeddedPostgres? _cluster;
 
+    /// <summary>Data folder of the running cluster.</summary>
+    public string DataDirectory => _dataDirectory;
+
     /// <summary>Server connection string.</summary>
     public string ConnectionString { get; private set; } = string.Empty;
 

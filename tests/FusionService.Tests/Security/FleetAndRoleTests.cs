@@ -82,6 +82,16 @@ public sealed class FleetAndRoleTests(ServiceFixture fixture)
         using var client = fixture.Client(secret);
         Assert.Equal(HttpStatusCode.OK, (await client.GetAsync("/v1/vehicles")).StatusCode);
         Assert.Equal(2, await FusionService.Cli.KeysCommand.RunAsync(["keys", "create", "--fleet", name, "--role", "root"], configuration, output, error));
+
+        // Without a connection string, the command attaches to the embedded cluster a running service uses.
+        var embedded = new Microsoft.Extensions.Configuration.ConfigurationBuilder()
+            .AddInMemoryCollection(new Dictionary<string, string?> { ["Database:DataDirectory"] = fixture.DataDirectory })
+            .Build();
+        using var second = new StringWriter(CultureInfo.InvariantCulture);
+        Assert.Equal(0, await FusionService.Cli.KeysCommand.RunAsync(["keys", "create", "--fleet", name, "--role", "ingest"], embedded, second, error));
+        string ingestSecret = second.ToString().Split('\n').Single(l => l.StartsWith("secret", StringComparison.Ordinal)).Split(' ')[^1].Trim();
+        Assert.Equal(HttpStatusCode.Forbidden, (await fixture.Client(ingestSecret).GetAsync("/v1/vehicles")).StatusCode);
+        Assert.Equal(2, await fixture.CountAsync("SELECT count(*) FROM api_keys k JOIN fleets f USING (fleet_id) WHERE f.name = $1", name));
         Assert.Contains("--role must be ingest, read or admin", error.ToString(), StringComparison.Ordinal);
     }
 }
