@@ -40,6 +40,7 @@ public static class TelemetryEndpoints
                 + "413 when the body or the message count is over the limit; 503 with Retry-After when the write queue is full "
                 + "or the database is unavailable (nothing was stored by this request then, so resend it)." + Caution)
             .Accepts<JsonElement>("application/json", NdjsonMediaType)
+            .ProducesProblem(StatusCodes.Status400BadRequest)
             .ProducesProblem(StatusCodes.Status401Unauthorized)
             .ProducesProblem(StatusCodes.Status403Forbidden)
             .ProducesProblem(StatusCodes.Status413PayloadTooLarge)
@@ -55,7 +56,9 @@ public static class TelemetryEndpoints
                 + "durable commit, with {\"seq\": n, \"accepted\": a, \"duplicate\": d, \"rejected\": [{\"index\", \"field\", \"reason\"}]}; "
                 + "a frame that cannot be stored is answered {\"seq\": n, \"error\": reason, \"retry_after_s\": s} and nothing of it "
                 + "is stored; resend it." + Caution)
-            .ProducesProblem(StatusCodes.Status400BadRequest);
+            .ProducesProblem(StatusCodes.Status400BadRequest)
+            .ProducesProblem(StatusCodes.Status401Unauthorized)
+            .ProducesProblem(StatusCodes.Status403Forbidden);
         return app;
     }
 
