@@ -41,6 +41,30 @@ public sealed class OperationsTests(ServiceFixture fixture)
     }
 
     [Fact]
+    public async Task A_gnss_outlier_is_stored_as_gated_and_counted()
+    {
+        var fleet = await fixture.NewFleetAsync();
+        var drive = TelemetryDrive.Create("van-gate", TelemetryDrive.StartUs(TimeSpan.FromMinutes(15)), seed: 92);
+        using var ingest = fixture.Client(fleet.IngestKey);
+        await ingest.IngestOkAsync(drive.Body(0, 400));
+        var lastFix = drive.Messages.Take(400).Last(m => (string)m.Message["kind"]! == "gnss");
+        long outlierUs = drive.Messages[399].Core[0].TimeUs + 50_000;
+        // 0.005 degree of latitude is about 555 m: far outside a 3 m fix's chi-square gate.
+        string outlier = "[{\"vehicle\":\"van-gate\",\"kind\":\"gnss\",\"id\":\"outlier\",\"time\":"
+            + (outlierUs / 1000.0).ToString("R", System.Globalization.CultureInfo.InvariantCulture)
+            + ",\"lat_deg\":" + ((double)lastFix.Message["lat_deg"]! + 0.005).ToString("R", System.Globalization.CultureInfo.InvariantCulture)
+            + ",\"lon_deg\":" + ((double)lastFix.Message["lon_deg"]!).ToString("R", System.Globalization.CultureInfo.InvariantCulture)
+            + ",\"accuracy_m\":3}]";
+        using var client = fixture.Client(null);
+        double before = Value(await client.GetStringAsync("/metrics"), "fusion_gated_measurements_total");
+        Assert.Equal(1, (await ingest.IngestOkAsync(outlier)).Accepted);
+        Assert.Equal(before + 1, Value(await client.GetStringAsync("/metrics"), "fusion_gated_measurements_total"));
+        await fixture.Host.Services.GetRequiredService<FusionService.Tracking.TrackWriteQueue>().FlushAsync(CancellationToken.None);
+        Assert.Equal(1, await fixture.CountAsync(
+            "SELECT outcome FROM measurements WHERE fleet_id = $1 AND message_key = $2", fleet.Id, (long)FusionService.Ingest.MessageKeys.FromId("outlier")));
+    }
+
+    [Fact]
     public async Task Committed_openapi_document_is_current()
     {
         using var client = fixture.Client(null);
