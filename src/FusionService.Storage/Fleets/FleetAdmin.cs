@@ -51,6 +51,20 @@ public sealed class FleetAdmin
         return fleetId;
     }
 
+    /// <summary>The id of the fleet named <paramref name="name"/>, or null when there is none.</summary>
+    public async Task<Guid?> FindFleetAsync(string name, CancellationToken cancellationToken = default)
+    {
+        ArgumentNullException.ThrowIfNull(name);
+        var connection = await _dataSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
+        await using (connection.ConfigureAwait(false))
+        {
+            return await connection.ExecuteScalarAsync<Guid?>(new CommandDefinition(
+                "SELECT fleet_id FROM fleets WHERE name = @Name",
+                new { Name = name },
+                cancellationToken: cancellationToken)).ConfigureAwait(false);
+        }
+    }
+
     /// <summary>Creates an API key for a fleet and returns its secret, the only time it is available.</summary>
     /// <param name="fleetId">The fleet the key is bound to.</param>
     /// <param name="role">What the key may do.</param>

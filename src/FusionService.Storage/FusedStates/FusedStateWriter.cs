@@ -10,10 +10,12 @@ namespace FusionService.Storage.FusedStates;
 /// <summary>Writes <see cref="FusedStateRow"/>s into <c>fused_states</c> with binary COPY.</summary>
 public static class FusedStateWriter
 {
-    private const string Copy =
-        "COPY fused_states (fleet_id, vehicle_id, time_us, measured_at, lat_deg, lon_deg, heading_rad, speed_mps, "
+    private const string Columns =
+        "(fleet_id, vehicle_id, time_us, measured_at, lat_deg, lon_deg, heading_rad, speed_mps, "
         + "yaw_rate_rps, accel_mps2, gyro_bias_rps, wheel_scale, covariance, ellipse_major_m, ellipse_minor_m, "
         + "ellipse_orientation_rad) FROM STDIN (FORMAT BINARY)";
+
+    private const string Copy = "COPY fused_states " + Columns;
 
     /// <summary>
     /// Copies <paramref name="rows"/> into <c>fused_states</c> of the connection's <c>search_path</c> schema.
@@ -29,11 +31,28 @@ public static class FusedStateWriter
     /// <returns>Number of rows stored.</returns>
     /// <exception cref="ArgumentException">A row has an empty vehicle id or a covariance that is not 36 values
     /// long, or the transaction belongs to another connection.</exception>
-    public static async Task<ulong> WriteAsync(
+    public static Task<ulong> WriteAsync(
         NpgsqlConnection connection,
         NpgsqlTransaction? transaction,
         IReadOnlyList<FusedStateRow> rows,
-        CancellationToken cancellationToken = default)
+        CancellationToken cancellationToken = default) =>
+        CopyAsync(connection, transaction, rows, Copy, cancellationToken);
+
+    /// <summary>The COPY of <see cref="WriteAsync"/> into <paramref name="table"/> (a staging table with the same columns).</summary>
+    internal static Task<ulong> WriteIntoAsync(
+        NpgsqlConnection connection,
+        NpgsqlTransaction? transaction,
+        IReadOnlyList<FusedStateRow> rows,
+        string table,
+        CancellationToken cancellationToken = default) =>
+        CopyAsync(connection, transaction, rows, "COPY " + table + " " + Columns, cancellationToken);
+
+    private static async Task<ulong> CopyAsync(
+        NpgsqlConnection connection,
+        NpgsqlTransaction? transaction,
+        IReadOnlyList<FusedStateRow> rows,
+        string copy,
+        CancellationToken cancellationToken)
     {
         ArgumentNullException.ThrowIfNull(connection);
         ArgumentNullException.ThrowIfNull(rows);
@@ -62,7 +81,7 @@ public static class FusedStateWriter
             }
         }
 
-        var importer = await connection.BeginBinaryImportAsync(Copy, cancellationToken).ConfigureAwait(false);
+        var importer = await connection.BeginBinaryImportAsync(copy, cancellationToken).ConfigureAwait(false);
         await using (importer.ConfigureAwait(false))
         {
             foreach (var row in rows)

@@ -19,4 +19,13 @@ public enum MeasurementOutcome : short
 
     /// <summary>Stored, not yet processed by the filter.</summary>
     Pending = 4,
+
+    /// <summary>Used to start the track (first fixes, course or standstill before the state existed); migration 0002.</summary>
+    Initialising = 5,
+
+    /// <summary>Arrived before the track had a position; held but not fused; migration 0002.</summary>
+    BeforeStart = 6,
+
+    /// <summary>Processed but not usable (for example a course below the speed threshold); migration 0002.</summary>
+    Unused = 7,
 }

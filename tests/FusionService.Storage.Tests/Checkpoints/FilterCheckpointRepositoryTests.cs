@@ -31,6 +31,22 @@ public sealed class FilterCheckpointRepositoryTests(PostgresFixture server)
     }
 
     [Fact]
+    public async Task Delete_before_keeps_the_newer_checkpoints_of_that_vehicle_only()
+    {
+        await using var schema = await server.NewMigratedSchemaAsync();
+        var fleet = await new FleetAdmin(schema.DataSource).CreateFleetAsync("pruned fleet");
+        var repository = new FilterCheckpointRepository(schema.DataSource);
+        var t = TestTimes.At(TestTimes.Day, 12, 0, 0, 0);
+        await repository.UpsertAsync(Checkpoint(fleet, "van-1", t, 1));
+        await repository.UpsertAsync(Checkpoint(fleet, "van-1", t + 10_000_000, 2));
+        await repository.UpsertAsync(Checkpoint(fleet, "van-2", t, 3));
+        Assert.Equal(1, await repository.DeleteBeforeAsync(fleet, "van-1", t + 10_000_000));
+        Assert.Equal(t + 10_000_000, (await repository.NewestCheckpointBeforeAsync(fleet, "van-1", long.MaxValue))?.TimeUs);
+        Assert.Null(await repository.NewestCheckpointBeforeAsync(fleet, "van-1", t + 10_000_000));
+        Assert.Equal(t, (await repository.NewestCheckpointBeforeAsync(fleet, "van-2", long.MaxValue))?.TimeUs);
+    }
+
+    [Fact]
     public async Task Upsert_of_the_same_instant_replaces_the_checkpoint()
     {
         await using var schema = await server.NewMigratedSchemaAsync();

@@ -1,0 +1,14 @@
+// Starts the store before the rest of the host and stops it after.
+namespace FusionService.Database;
+
+/// <summary>
+/// Hosted service registered before the Orleans silo and the writers: hosted services start in registration order
+/// and stop in reverse, so the store is up before any grain activates and stops after the grains have persisted
+/// their checkpoints and the writers have drained.
+/// </summary>
+internal sealed class DatabaseLifetime(FusionDatabase database) : IHostedService
+{
+    public Task StartAsync(CancellationToken cancellationToken) => database.StartAsync(cancellationToken);
+
+    public Task StopAsync(CancellationToken cancellationToken) => database.StopAsync(cancellationToken);
+}

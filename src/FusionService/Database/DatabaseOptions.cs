@@ -1,0 +1,43 @@
+// Where the service keeps its PostgreSQL data.
+using System.ComponentModel.DataAnnotations;
+
+namespace FusionService.Database;
+
+/// <summary>
+/// Settings of section <c>Database</c>. With <c>ConnectionStrings:Fusion</c> set, that server is used; otherwise a
+/// private PostgreSQL cluster is started under <see cref="DataDirectory"/> and stopped at shutdown.
+/// </summary>
+public sealed class DatabaseOptions
+{
+    /// <summary>Configuration section name.</summary>
+    public const string Section = "Database";
+
+    /// <summary>Folder of the embedded cluster, kept between runs. Default <c>./data/pg</c> (relative to the working folder).</summary>
+    [Required]
+    public string DataDirectory { get; set; } = "./data/pg";
+
+    /// <summary>TCP port of the embedded cluster on 127.0.0.1; 0 picks a free port at each start. Default 0.</summary>
+    [Range(0, 65535)]
+    public int EmbeddedPort { get; set; }
+
+    /// <summary>Schema holding the store (created by the migrations). Default <c>fusion</c>.</summary>
+    [Required]
+    [RegularExpression("^[a-z_][a-z0-9_]{0,62}$")]
+    public string Schema { get; set; } = "fusion";
+
+    /// <summary>Seconds between partition maintenance runs. Default 3600.</summary>
+    [Range(1, 86400)]
+    public int PartitionMaintenanceIntervalS { get; set; } = 3600;
+
+    /// <summary>Daily partitions kept before today (UTC); measurements older than this are refused. Default 2.</summary>
+    [Range(1, 365)]
+    public int DaysBack { get; set; } = 2;
+
+    /// <summary>Daily partitions created ahead of today (UTC). Default 3.</summary>
+    [Range(1, 30)]
+    public int DaysAhead { get; set; } = 3;
+
+    /// <summary>Days of measurements and fused states kept before their partitions are dropped. Default 30.</summary>
+    [Range(1, 3650)]
+    public int RetentionDays { get; set; } = 30;
+}

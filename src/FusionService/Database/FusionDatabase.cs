@@ -1,0 +1,168 @@
+// The service's PostgreSQL store: embedded or external server, migrated and partitioned at start-up.
+using FusionService.Storage.Cluster;
+using FusionService.Storage.Migrations;
+using FusionService.Storage.Partitions;
+using FusionService.Storage.Schemas;
+using Microsoft.Extensions.Options;
+using Npgsql;
+
+namespace FusionService.Database;
+
+/// <summary>
+/// Owns the connection to the store. <see cref="StartAsync(CancellationToken)"/> starts the embedded cluster when no connection
+/// string is configured, applies the migrations and creates the daily partitions; <see cref="StopAsync"/> stops
+/// the embedded cluster.
+/// </summary>
+public sealed class FusionDatabase : IAsyncDisposable
+{
+    /// <summary>Name of the connection string that points the service at an existing server.</summary>
+    public const string ConnectionStringName = "Fusion";
+
+    private readonly IConfiguration _configuration;
+    private readonly DatabaseOptions _options;
+    private readonly ILoggerFactory _loggerFactory;
+    private readonly ILogger<FusionDatabase> _logger;
+    private EmbeddedPostgres? _embedded;
+    private NpgsqlDataSource? _dataSource;
+
+    /// <summary>Creates the (not yet started) store.</summary>
+    public FusionDatabase(IConfiguration configuration, IOptions<DatabaseOptions> options, ILoggerFactory loggerFactory)
+    {
+        _configuration = configuration;
+        _options = options.Value;
+        _loggerFactory = loggerFactory;
+        _logger = loggerFactory.CreateLogger<FusionDatabase>();
+    }
+
+    /// <summary>Data source whose connections use the store's schema.</summary>
+    /// <exception cref="InvalidOperationException">Before <see cref="StartAsync(CancellationToken)"/>.</exception>
+    public NpgsqlDataSource DataSource => _dataSource ?? throw new InvalidOperationException("The database has not been started.");
+
+    /// <summary>Server connection string (without the schema search path).</summary>
+    public string ServerConnectionString { get; private set; } = string.Empty;
+
+    /// <summary>Versions of the migrations the store must have.</summary>
+    public static IReadOnlyList<string> RequiredMigrations => new MigrationRunner("Host=unused").Versions;
+
+    /// <summary>Options in force.</summary>
+    public DatabaseOptions Options => _options;
+
+    /// <summary>Starts (or connects to) the server, migrates the schema and creates partitions.</summary>
+    public Task StartAsync(CancellationToken cancellationToken) => StartAsync(attachToRunningEmbedded: false, cancellationToken);
+
+    /// <summary>
+    /// Like <see cref="StartAsync(CancellationToken)"/>; with <paramref name="attachToRunningEmbedded"/>, an embedded
+    /// cluster already running on <see cref="DatabaseOptions.DataDirectory"/> (a running service) is used instead of
+    /// starting one (its port is read from <c>postmaster.pid</c>), and it is left running afterwards.
+    /// </summary>
+    public async Task StartAsync(bool attachToRunningEmbedded, CancellationToken cancellationToken)
+    {
+        var external = _configuration.GetConnectionString(ConnectionStringName);
+        if (string.IsNullOrWhiteSpace(external) && attachToRunningEmbedded
+            && RunningEmbeddedPort(Path.GetFullPath(_options.DataDirectory)) is int port)
+        {
+            external = new NpgsqlConnectionStringBuilder
+            {
+                Host = System.Net.IPAddress.Loopback.ToString(),
+                Port = port,
+                Username = "postgres",
+                Database = new EmbeddedPostgresOptions().DatabaseName,
+            }.ConnectionString;
+        }
+
+        if (string.IsNullOrWhiteSpace(external))
+        {
+            var folder = Path.GetFullPath(_options.DataDirectory);
+            _logger.LogInformation("Starting the embedded PostgreSQL cluster in {DataDirectory}", folder);
+            _embedded = await EmbeddedPostgres.StartAsync(
+                new EmbeddedPostgresOptions { DataDirectory = folder, DeleteDataDirectoryOnDispose = false, Port = _options.EmbeddedPort },
+                _loggerFactory.CreateLogger<EmbeddedPostgres>(),
+                cancellationToken).ConfigureAwait(false);
+            ServerConnectionString = _embedded.ConnectionString;
+        }
+        else
+        {
+            ServerConnectionString = external;
+        }
+
+        var applied = await new MigrationRunner(ServerConnectionString, _options.Schema, _loggerFactory.CreateLogger<MigrationRunner>())
+            .RunAsync(cancellationToken).ConfigureAwait(false);
+        _logger.LogInformation("Store schema {Schema} ready; {Count} migrations applied now", _options.Schema, applied.Count);
+        _dataSource = NpgsqlDataSource.Create(StorageSchema.WithSearchPath(ServerConnectionString, _options.Schema));
+        await CreatePartitions().RunAsync(cancellationToken).ConfigureAwait(false);
+    }
+
+    /// <summary>The port of a live server on <paramref name="dataDirectory"/>, from its <c>postmaster.pid</c> (PostgreSQL
+    /// documentation, "Database File Layout": line 1 the PID, line 4 the port), or null.</summary>
+    private static int? RunningEmbeddedPort(string dataDirectory)
+    {
+        var pidFile = Path.Combine(dataDirectory, "postmaster.pid");
+        if (!File.Exists(pidFile))
+        {
+            return null;
+        }
+
+        var lines = File.ReadAllLines(pidFile);
+        if (lines.Length < 4
+            || !int.TryParse(lines[0], System.Globalization.NumberStyles.Integer, System.Globalization.CultureInfo.InvariantCulture, out int pid)
+            || !int.TryParse(lines[3], System.Globalization.NumberStyles.Integer, System.Globalization.CultureInfo.InvariantCulture, out int port))
+        {
+            return null;
+        }
+
+        try
+        {
+            using var process = System.Diagnostics.Process.GetProcessById(pid);
+            return process.HasExited ? null : port;
+        }
+        catch (ArgumentException)
+        {
+            return null;
+        }
+    }
+
+    /// <summary>A partition maintainer for the store with the configured window.</summary>
+    public PartitionMaintainer CreatePartitions() => new(
+        DataSource,
+        new PartitionMaintenanceOptions { DaysBack = _options.DaysBack, DaysAhead = _options.DaysAhead, RetentionDays = _options.RetentionDays },
+        TimeProvider.System,
+        _loggerFactory.CreateLogger<PartitionMaintainer>());
+
+    /// <summary>
+    /// Call when a database operation failed: after a connection-level failure (server restarted, network cut) the
+    /// pooled idle connections are dead too, so the pool is cleared and the next attempt opens fresh ones.
+    /// </summary>
+    public void NoteFailure(Exception exception)
+    {
+        bool connectionLevel = exception switch
+        {
+            PostgresException pg => pg.SqlState.StartsWith("08", StringComparison.Ordinal) || pg.SqlState.StartsWith("57P", StringComparison.Ordinal),
+            NpgsqlException => true,
+            _ => exception.InnerException is { } inner && inner is NpgsqlException,
+        };
+        if (connectionLevel)
+        {
+            _dataSource?.Clear();
+        }
+    }
+
+    /// <summary>Closes the data source and stops the embedded cluster (if this store started one).</summary>
+    public async Task StopAsync(CancellationToken cancellationToken)
+    {
+        if (_dataSource is not null)
+        {
+            await _dataSource.DisposeAsync().ConfigureAwait(false);
+            _dataSource = null;
+        }
+
+        if (_embedded is not null)
+        {
+            await _embedded.StopAsync(cancellationToken).ConfigureAwait(false);
+            await _embedded.DisposeAsync().ConfigureAwait(false);
+            _embedded = null;
+        }
+    }
+
+    /// <inheritdoc />
+    public async ValueTask DisposeAsync() => await StopAsync(CancellationToken.None).ConfigureAwait(false);
+}

@@ -1,0 +1,151 @@
+// One writer that commits the rows of many concurrent requests in one transaction.
+using System.Diagnostics;
+using System.Threading.Channels;
+using FusionService.Database;
+using FusionService.Operations;
+using FusionService.Storage.Measurements;
+using Microsoft.Extensions.Options;
+
+namespace FusionService.Ingest;
+
+/// <summary>
+/// Group commit: requests put their rows into a bounded channel; one background loop takes what has arrived within
+/// <see cref="IngestOptions.CommitWindowMs"/>, stores it in one transaction (<see cref="MeasurementIngest"/>) and then
+/// completes every request with the keys it inserted. A full channel refuses at once (503), a failed transaction
+/// fails every request in it (503); nothing is buffered beyond the channel and nothing is dropped silently.
+/// </summary>
+public sealed class GroupCommitWriter : BackgroundService
+{
+    private readonly Channel<CommitRequest> _channel;
+    private readonly FusionDatabase _database;
+    private readonly IngestOptions _options;
+    private readonly ServiceMetrics _metrics;
+    private readonly ILogger<GroupCommitWriter> _logger;
+
+    /// <summary>Creates the writer.</summary>
+    public GroupCommitWriter(FusionDatabase database, IOptions<IngestOptions> options, ServiceMetrics metrics, ILogger<GroupCommitWriter> logger)
+    {
+        _database = database;
+        _options = options.Value;
+        _metrics = metrics;
+        _logger = logger;
+        _channel = Channel.CreateBounded<CommitRequest>(new BoundedChannelOptions(_options.QueueCapacity)
+        {
+            FullMode = BoundedChannelFullMode.Wait,
+            SingleReader = true,
+        });
+        metrics.QueueDepth = () => _channel.Reader.Count;
+    }
+
+    /// <summary>
+    /// Stores <paramref name="rows"/> (a request's rows) durably and returns the keys among them that were new;
+    /// a key that appears several times among concurrent requests is claimed by the first.
+    /// </summary>
+    /// <exception cref="ServiceUnavailableException">The queue is full or the commit failed.</exception>
+    public Task<HashSet<MeasurementKey>> CommitAsync(IReadOnlyList<MeasurementRow> rows)
+    {
+        var request = new CommitRequest(rows);
+        if (rows.Count == 0)
+        {
+            request.Completion.SetResult([]);
+        }
+        else if (!_channel.Writer.TryWrite(request))
+        {
+            throw new ServiceUnavailableException("the write queue is full");
+        }
+
+        return request.Completion.Task;
+    }
+
+    /// <inheritdoc />
+    protected override async Task ExecuteAsync(CancellationToken stoppingToken)
+    {
+        var batch = new List<CommitRequest>();
+        var reader = _channel.Reader;
+        try
+        {
+            while (await reader.WaitToReadAsync(stoppingToken).ConfigureAwait(false))
+            {
+                batch.Clear();
+                int rows = 0;
+                if (_options.CommitWindowMs > 0)
+                {
+                    await Task.Delay(_options.CommitWindowMs, stoppingToken).ConfigureAwait(false);
+                }
+
+                while (rows < _options.MaxRowsPerCommit && reader.TryRead(out var request))
+                {
+                    batch.Add(request);
+                    rows += request.Rows.Count;
+                }
+
+                await CommitBatchAsync(batch, rows, stoppingToken).ConfigureAwait(false);
+            }
+        }
+        catch (OperationCanceledException) when (stoppingToken.IsCancellationRequested)
+        {
+            // Shutting down: whatever is still queued is refused, never silently lost.
+            foreach (var request in batch)
+            {
+                request.Completion.TrySetException(new ServiceUnavailableException("the service is stopping"));
+            }
+
+            while (reader.TryRead(out var request))
+            {
+                request.Completion.TrySetException(new ServiceUnavailableException("the service is stopping"));
+            }
+        }
+    }
+
+    private async Task CommitBatchAsync(List<CommitRequest> batch, int rowCount, CancellationToken cancellationToken)
+    {
+        var all = new List<MeasurementRow>(rowCount);
+        foreach (var request in batch)
+        {
+            all.AddRange(request.Rows);
+        }
+
+        var watch = Stopwatch.StartNew();
+        HashSet<MeasurementKey> inserted;
+        try
+        {
+            var connection = await _database.DataSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
+            await using (connection.ConfigureAwait(false))
+            {
+                var transaction = await connection.BeginTransactionAsync(cancellationToken).ConfigureAwait(false);
+                await using (transaction.ConfigureAwait(false))
+                {
+                    inserted = await MeasurementIngest.InsertNewAsync(connection, transaction, all, cancellationToken).ConfigureAwait(false);
+                    await transaction.CommitAsync(cancellationToken).ConfigureAwait(false);
+                }
+            }
+        }
+        catch (Exception ex) when (ex is not OperationCanceledException || !cancellationToken.IsCancellationRequested)
+        {
+            _logger.LogWarning(ex, "Group commit of {Rows} rows from {Requests} requests failed", rowCount, batch.Count);
+            _database.NoteFailure(ex);
+            foreach (var request in batch)
+            {
+                request.Completion.TrySetException(new ServiceUnavailableException("the database is unavailable", ex));
+            }
+
+            return;
+        }
+
+        _metrics.ObserveCommit(watch.Elapsed.TotalSeconds, rowCount);
+        foreach (var request in batch)
+        {
+            var claimed = new HashSet<MeasurementKey>();
+            foreach (var row in request.Rows)
+            {
+                var key = MeasurementKey.Of(row);
+                if (inserted.Remove(key))
+                {
+                    claimed.Add(key);
+                }
+            }
+
+            request.Completion.TrySetResult(claimed);
+        }
+    }
+}

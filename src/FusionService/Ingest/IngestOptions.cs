@@ -1,0 +1,50 @@
+// Limits and conventions of the telemetry ingest.
+using System.ComponentModel.DataAnnotations;
+
+namespace FusionService.Ingest;
+
+/// <summary>Settings of section <c>Ingest</c>.</summary>
+public sealed class IngestOptions
+{
+    /// <summary>Configuration section name.</summary>
+    public const string Section = "Ingest";
+
+    /// <summary>Largest request body (or WebSocket frame), bytes. Default 4 MiB.</summary>
+    [Range(1024, 256 * 1024 * 1024)]
+    public int MaxBodyBytes { get; set; } = 4 * 1024 * 1024;
+
+    /// <summary>Most messages in one request or frame. Default 10000.</summary>
+    [Range(1, 1_000_000)]
+    public int MaxMessages { get; set; } = 10_000;
+
+    /// <summary>How far in the future (by the server clock) a message time may lie, seconds. Default 120.</summary>
+    [Range(0, 86400)]
+    public double MaxFutureSkewS { get; set; } = 120;
+
+    /// <summary>
+    /// User equivalent range error, 1 sigma, metres, multiplied by <c>hdop</c> when a GNSS message gives no
+    /// <c>accuracy_m</c>. Default 5 m (a common practice value for single-frequency receivers, not a published constant).
+    /// </summary>
+    [Range(0.01, 1000)]
+    public double HdopUereM { get; set; } = 5.0;
+
+    /// <summary>1-sigma speed accuracy, m/s, assumed when a GNSS message gives speed without <c>speed_accuracy_mps</c>. Default 0.5.</summary>
+    [Range(0.001, 100)]
+    public double DefaultSpeedAccuracyMps { get; set; } = 0.5;
+
+    /// <summary>Requests (or frames) that may wait for the group-commit writer; more are answered 503. Default 1024.</summary>
+    [Range(1, 1_000_000)]
+    public int QueueCapacity { get; set; } = 1024;
+
+    /// <summary>How long the writer waits for more requests before committing, milliseconds. Default 3.</summary>
+    [Range(0, 1000)]
+    public int CommitWindowMs { get; set; } = 3;
+
+    /// <summary>Most rows in one commit. Default 50000.</summary>
+    [Range(1, 10_000_000)]
+    public int MaxRowsPerCommit { get; set; } = 50_000;
+
+    /// <summary>Retry-After of a 503, seconds. Default 2.</summary>
+    [Range(1, 3600)]
+    public int RetryAfterS { get; set; } = 2;
+}

@@ -1,0 +1,141 @@
+// Validate, commit durably, hand to the vehicle track grains.
+using System.Text.Json;
+using FusionService.Database;
+using FusionService.Estimation.Measurements;
+using FusionService.Operations;
+using FusionService.Storage.Measurements;
+using FusionService.Tracking;
+using Microsoft.Extensions.Options;
+using StoredOutcome = FusionService.Storage.Measurements.MeasurementOutcome;
+
+namespace FusionService.Ingest;
+
+/// <summary>
+/// The ingest path shared by HTTP and WebSocket: validates each message on its own, commits the valid ones through
+/// the <see cref="GroupCommitWriter"/>, answers accepted / duplicate / rejected per message, and hands the newly
+/// stored measurements to their vehicles' track grains.
+/// </summary>
+public sealed class IngestPipeline(
+    GroupCommitWriter writer,
+    IGrainFactory grains,
+    IOptions<IngestOptions> options,
+    IOptions<DatabaseOptions> database,
+    ServiceMetrics metrics,
+    TimeProvider time,
+    ILogger<IngestPipeline> logger)
+{
+    /// <summary>A parser with the accepted time window as of now.</summary>
+    public TelemetryMessageParser CreateParser()
+    {
+        long nowUs = (time.GetUtcNow().UtcTicks - DateTime.UnixEpoch.Ticks) / 10;
+        var today = DateOnly.FromDateTime(time.GetUtcNow().UtcDateTime);
+        long minUs = (today.AddDays(-database.Value.DaysBack).ToDateTime(TimeOnly.MinValue, DateTimeKind.Utc).Ticks - DateTime.UnixEpoch.Ticks) / 10;
+        return new TelemetryMessageParser(options.Value, minUs, nowUs + (long)(options.Value.MaxFutureSkewS * 1e6));
+    }
+
+    /// <summary>
+    /// Ingests <paramref name="messages"/> for <paramref name="fleetId"/>: each entry is a JSON message or, for an
+    /// NDJSON line that was not valid JSON, the reason.
+    /// </summary>
+    /// <exception cref="ServiceUnavailableException">The write queue is full or the database is unavailable; nothing was acknowledged.</exception>
+    public async Task<IngestResponse> IngestAsync(Guid fleetId, IReadOnlyList<(JsonElement Message, string? SyntaxError)> messages, CancellationToken cancellationToken)
+    {
+        var parser = CreateParser();
+        var results = new IngestMessageResult?[messages.Count];
+        var parsed = new ParsedMessage?[messages.Count];
+        var rows = new List<MeasurementRow>();
+        var received = time.GetUtcNow().UtcDateTime;
+        for (int i = 0; i < messages.Count; i++)
+        {
+            if (messages[i].SyntaxError is { } syntax)
+            {
+                results[i] = new IngestMessageResult(i, "rejected", string.Empty, syntax);
+                continue;
+            }
+
+            var message = parser.Parse(messages[i].Message, out var rejection);
+            if (message is null)
+            {
+                results[i] = new IngestMessageResult(i, "rejected", rejection!.Field, rejection.Reason);
+                continue;
+            }
+
+            parsed[i] = message;
+            foreach (var m in message.Measurements)
+            {
+                rows.Add(ToRow(fleetId, message.VehicleId, m, received));
+            }
+        }
+
+        var inserted = await writer.CommitAsync(rows).ConfigureAwait(false);
+        var fresh = new Dictionary<string, List<TrackMeasurement>>(StringComparer.Ordinal);
+        int accepted = 0, duplicate = 0, rejected = 0;
+        for (int i = 0; i < messages.Count; i++)
+        {
+            if (parsed[i] is not { } message)
+            {
+                rejected++;
+                continue;
+            }
+
+            var first = ToRow(fleetId, message.VehicleId, message.Measurements[0], received);
+            if (inserted.Remove(MeasurementKey.Of(first)))
+            {
+                accepted++;
+                results[i] = new IngestMessageResult(i, "accepted");
+                if (!fresh.TryGetValue(message.VehicleId, out var list))
+                {
+                    fresh[message.VehicleId] = list = [];
+                }
+
+                foreach (var m in message.Measurements)
+                {
+                    list.Add(TrackMeasurement.From(m));
+                }
+            }
+            else
+            {
+                duplicate++;
+                results[i] = new IngestMessageResult(i, "duplicate");
+            }
+        }
+
+        metrics.CountMessages(accepted, duplicate, rejected);
+        await DispatchAsync(fleetId, fresh).ConfigureAwait(false);
+        return new IngestResponse(accepted, duplicate, rejected, results!);
+    }
+
+    /// <summary>The stored row of a core measurement (NaN values are stored as SQL NULL).</summary>
+    public static MeasurementRow ToRow(Guid fleetId, string vehicleId, in Measurement m, DateTime receivedUtc) => new(
+        fleetId,
+        vehicleId,
+        (short)m.Kind,
+        m.TimeUs,
+        (long)m.MessageKey,
+        receivedUtc,
+        m.Value0,
+        double.IsNaN(m.Value1) ? null : m.Value1,
+        m.Value2,
+        0,
+        StoredOutcome.Pending,
+        null,
+        false);
+
+    private async Task DispatchAsync(Guid fleetId, Dictionary<string, List<TrackMeasurement>> fresh)
+    {
+        // The measurements are committed: a failed hand-over is logged, and the grain picks them up from the
+        // store when it is next activated.
+        var calls = fresh.Select(async pair =>
+        {
+            try
+            {
+                await grains.GetGrain<IVehicleTrackGrain>(GrainKeys.Of(fleetId, pair.Key)).ProcessAsync([.. pair.Value]).ConfigureAwait(false);
+            }
+            catch (Exception ex) when (ex is not OperationCanceledException)
+            {
+                logger.LogError(ex, "Track of vehicle {Vehicle} failed to process {Count} stored measurements", pair.Key, pair.Value.Count);
+            }
+        });
+        await Task.WhenAll(calls).ConfigureAwait(false);
+    }
+}

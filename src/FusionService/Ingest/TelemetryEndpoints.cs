@@ -1,0 +1,320 @@
+// HTTP and WebSocket telemetry ingest.
+using System.Globalization;
+using System.Net.WebSockets;
+using System.Text.Json;
+using FusionService.Security;
+using FusionService.Storage.Fleets;
+using Microsoft.AspNetCore.Http.HttpResults;
+using Microsoft.Extensions.Options;
+
+namespace FusionService.Ingest;
+
+/// <summary>Maps <c>POST /v1/telemetry</c> and the WebSocket <c>/v1/telemetry/stream</c>.</summary>
+public static class TelemetryEndpoints
+{
+    /// <summary>Media type of newline-delimited JSON bodies.</summary>
+    public const string NdjsonMediaType = "application/x-ndjson";
+
+    private const string Caution =
+        " Positions derived from this data are estimates, not for safety-critical navigation or collision avoidance;"
+        + " vehicle locations of drivers are personal data.";
+
+    /// <summary>Maps the telemetry endpoints.</summary>
+    public static IEndpointRouteBuilder MapTelemetryEndpoints(this IEndpointRouteBuilder app)
+    {
+        var group = app.MapGroup("/v1/telemetry").WithTags("Telemetry");
+        group.MapPost("/", PostTelemetry)
+            .RequireApiKey(ApiKeyRole.Ingest)
+            .WithName("PostTelemetry")
+            .WithSummary("Send telemetry messages")
+            .WithDescription(
+                "Body: a JSON array of messages (application/json) or one message per line (application/x-ndjson). "
+                + "Message fields: vehicle, kind (gnss | wheel | imu), time (RFC 3339 string or Unix milliseconds), optional id; "
+                + "gnss: lat_deg, lon_deg, accuracy_m with accuracy_kind (one_sigma (default) | cep50 | r68 | r95 | drms) or hdop "
+                + "(multiplied by the configured UERE), optional speed_mps, course_deg (clockwise from north), speed_accuracy_mps; "
+                + "wheel: speed_mps; imu: yaw_rate_dps (positive = left turn), optional accel_mps2. "
+                + "Each message is judged on its own: 200 lists accepted / duplicate / rejected (field and reason) per message; "
+                + "a 2xx means every accepted message is committed in PostgreSQL. A message with the same vehicle, kind, time and id "
+                + "(or, without id, the same content) as a stored one is a duplicate and changes nothing. "
+                + "400 when the body is not valid JSON or no message is valid (problem details list every error); "
+                + "413 when the body or the message count is over the limit; 503 with Retry-After when the write queue is full "
+                + "or the database is unavailable (nothing was stored by this request then, so resend it)." + Caution)
+            .Accepts<JsonElement>("application/json", NdjsonMediaType)
+            .ProducesProblem(StatusCodes.Status400BadRequest)
+            .ProducesProblem(StatusCodes.Status401Unauthorized)
+            .ProducesProblem(StatusCodes.Status403Forbidden)
+            .ProducesProblem(StatusCodes.Status413PayloadTooLarge)
+            .ProducesProblem(StatusCodes.Status429TooManyRequests)
+            .ProducesProblem(StatusCodes.Status503ServiceUnavailable);
+        group.MapGet("/stream", StreamTelemetry)
+            .RequireApiKey(ApiKeyRole.Ingest)
+            .WithName("StreamTelemetry")
+            .WithSummary("Stream telemetry over a WebSocket")
+            .WithDescription(
+                "Open a WebSocket (HTTP/1.1 GET with Upgrade) carrying 'Authorization: Bearer <ingest key>'. Send text frames "
+                + "{\"seq\": n, \"messages\": [...]} with messages as for POST /v1/telemetry. Each frame is answered, after the "
+                + "durable commit, with {\"seq\": n, \"accepted\": a, \"duplicate\": d, \"rejected\": [{\"index\", \"field\", \"reason\"}]}; "
+                + "a frame that cannot be stored is answered {\"seq\": n, \"error\": reason, \"retry_after_s\": s} and nothing of it "
+                + "is stored; resend it." + Caution)
+            .ProducesProblem(StatusCodes.Status400BadRequest)
+            .ProducesProblem(StatusCodes.Status401Unauthorized)
+            .ProducesProblem(StatusCodes.Status403Forbidden);
+        return app;
+    }
+
+    /// <summary>Handles <c>POST /v1/telemetry</c>.</summary>
+    internal static async Task<Results<Ok<IngestResponse>, ProblemHttpResult>> PostTelemetry(
+        HttpContext http, IngestPipeline pipeline, IOptions<IngestOptions> options)
+    {
+        var limits = options.Value;
+        var caller = ApiCaller.Of(http);
+        if (http.Request.ContentLength > limits.MaxBodyBytes)
+        {
+            return TooLarge(string.Create(CultureInfo.InvariantCulture, $"body: {http.Request.ContentLength} bytes exceeds the limit of {limits.MaxBodyBytes} bytes"));
+        }
+
+        var body = await ReadLimitedAsync(http.Request.Body, limits.MaxBodyBytes, http.RequestAborted).ConfigureAwait(false);
+        if (body is null)
+        {
+            return TooLarge(string.Create(CultureInfo.InvariantCulture, $"body: exceeds the limit of {limits.MaxBodyBytes} bytes"));
+        }
+
+        bool ndjson = http.Request.ContentType is { } type
+            && (type.StartsWith(NdjsonMediaType, StringComparison.OrdinalIgnoreCase) || type.StartsWith("application/ndjson", StringComparison.OrdinalIgnoreCase));
+        var documents = new List<JsonDocument>();
+        try
+        {
+            var messages = new List<(JsonElement, string?)>();
+            if (ndjson)
+            {
+                SplitNdjson(body, documents, messages);
+            }
+            else
+            {
+                JsonDocument document;
+                try
+                {
+                    document = JsonDocument.Parse(body);
+                }
+                catch (JsonException ex)
+                {
+                    return BadRequest("Malformed JSON", "body: not valid JSON (" + ex.Message + ")");
+                }
+
+                documents.Add(document);
+                if (document.RootElement.ValueKind != JsonValueKind.Array)
+                {
+                    return BadRequest("Malformed request", "body: must be a JSON array of messages (or NDJSON with Content-Type application/x-ndjson)");
+                }
+
+                foreach (var element in document.RootElement.EnumerateArray())
+                {
+                    messages.Add((element, null));
+                }
+            }
+
+            if (messages.Count == 0)
+            {
+                return BadRequest("No messages", "body: contains no message");
+            }
+
+            if (messages.Count > limits.MaxMessages)
+            {
+                return TooLarge(string.Create(CultureInfo.InvariantCulture, $"body: {messages.Count} messages exceed the limit of {limits.MaxMessages}"));
+            }
+
+            IngestResponse response;
+            try
+            {
+                response = await pipeline.IngestAsync(caller.FleetId, messages, http.RequestAborted).ConfigureAwait(false);
+            }
+            catch (ServiceUnavailableException ex)
+            {
+                http.Response.Headers.RetryAfter = limits.RetryAfterS.ToString(CultureInfo.InvariantCulture);
+                return TypedResults.Problem(
+                    title: "Service unavailable",
+                    detail: ex.Message + "; nothing of this request was stored, retry later",
+                    statusCode: StatusCodes.Status503ServiceUnavailable);
+            }
+
+            if (response.Rejected == response.Results.Count)
+            {
+                var errors = response.Results.Select(r => new Dictionary<string, object?>
+                {
+                    ["index"] = r.Index,
+                    ["field"] = r.Field,
+                    ["reason"] = r.Reason,
+                }).ToList();
+                var first = response.Results[0];
+                string detail = string.Create(CultureInfo.InvariantCulture, $"messages[{first.Index}].{first.Field}: {first.Reason}")
+                    + (errors.Count > 1 ? string.Create(CultureInfo.InvariantCulture, $" (and {errors.Count - 1} more)") : string.Empty);
+                return TypedResults.Problem(
+                    title: "No valid message",
+                    detail: detail,
+                    statusCode: StatusCodes.Status400BadRequest,
+                    extensions: new Dictionary<string, object?> { ["errors"] = errors });
+            }
+
+            return TypedResults.Ok(response);
+        }
+        finally
+        {
+            foreach (var document in documents)
+            {
+                document.Dispose();
+            }
+        }
+    }
+
+    /// <summary>Handles the WebSocket <c>/v1/telemetry/stream</c>.</summary>
+    internal static async Task<Results<EmptyHttpResult, ProblemHttpResult>> StreamTelemetry(
+        HttpContext http, IngestPipeline pipeline, IOptions<IngestOptions> options)
+    {
+        if (!http.WebSockets.IsWebSocketRequest)
+        {
+            return BadRequest("WebSocket required", "connection: this endpoint accepts WebSocket upgrades only");
+        }
+
+        var caller = ApiCaller.Of(http);
+        var limits = options.Value;
+        using var socket = await http.WebSockets.AcceptWebSocketAsync().ConfigureAwait(false);
+        var buffer = new byte[64 * 1024];
+        var frame = new MemoryStream();
+        var cancel = http.RequestAborted;
+        while (socket.State == WebSocketState.Open)
+        {
+            frame.SetLength(0);
+            WebSocketReceiveResult received;
+            do
+            {
+                received = await socket.ReceiveAsync(buffer, cancel).ConfigureAwait(false);
+                if (received.MessageType == WebSocketMessageType.Close)
+                {
+                    await socket.CloseOutputAsync(WebSocketCloseStatus.NormalClosure, "bye", cancel).ConfigureAwait(false);
+                    return TypedResults.Empty;
+                }
+
+                frame.Write(buffer, 0, received.Count);
+                if (frame.Length > limits.MaxBodyBytes)
+                {
+                    await socket.CloseAsync(WebSocketCloseStatus.MessageTooBig, "frame exceeds the size limit", cancel).ConfigureAwait(false);
+                    return TypedResults.Empty;
+                }
+            }
+            while (!received.EndOfMessage);
+
+            var ack = await AcknowledgeAsync(frame.ToArray(), caller, pipeline, limits, cancel).ConfigureAwait(false);
+            await socket.SendAsync(JsonSerializer.SerializeToUtf8Bytes(ack), WebSocketMessageType.Text, true, cancel).ConfigureAwait(false);
+        }
+
+        return TypedResults.Empty;
+    }
+
+    private static async Task<Dictionary<string, object?>> AcknowledgeAsync(
+        byte[] frame, ApiCaller caller, IngestPipeline pipeline, IngestOptions limits, CancellationToken cancellationToken)
+    {
+        JsonDocument document;
+        try
+        {
+            document = JsonDocument.Parse(frame);
+        }
+        catch (JsonException ex)
+        {
+            return new() { ["seq"] = null, ["error"] = "frame: not valid JSON (" + ex.Message + ")" };
+        }
+
+        using (document)
+        {
+            var root = document.RootElement;
+            long? seq = root.ValueKind == JsonValueKind.Object && root.TryGetProperty("seq", out var s) && s.TryGetInt64(out long n) ? n : null;
+            if (seq is null)
+            {
+                return new() { ["seq"] = null, ["error"] = "seq: is required (an integer)" };
+            }
+
+            if (!root.TryGetProperty("messages", out var list) || list.ValueKind != JsonValueKind.Array)
+            {
+                return new() { ["seq"] = seq, ["error"] = "messages: is required (an array)" };
+            }
+
+            var messages = list.EnumerateArray().Select(e => (e, (string?)null)).ToList();
+            if (messages.Count > limits.MaxMessages)
+            {
+                return new() { ["seq"] = seq, ["error"] = string.Create(CultureInfo.InvariantCulture, $"messages: {messages.Count} exceed the limit of {limits.MaxMessages}") };
+            }
+
+            try
+            {
+                var response = await pipeline.IngestAsync(caller.FleetId, messages, cancellationToken).ConfigureAwait(false);
+                return new()
+                {
+                    ["seq"] = seq,
+                    ["accepted"] = response.Accepted,
+                    ["duplicate"] = response.Duplicate,
+                    ["rejected"] = response.Results.Where(r => r.Status == "rejected")
+                        .Select(r => new Dictionary<string, object?> { ["index"] = r.Index, ["field"] = r.Field, ["reason"] = r.Reason })
+                        .ToList(),
+                };
+            }
+            catch (ServiceUnavailableException ex)
+            {
+                return new() { ["seq"] = seq, ["error"] = ex.Message, ["retry_after_s"] = limits.RetryAfterS };
+            }
+        }
+    }
+
+    private static void SplitNdjson(byte[] body, List<JsonDocument> documents, List<(JsonElement, string?)> messages)
+    {
+        int start = 0;
+        int line = 0;
+        while (start <= body.Length)
+        {
+            int end = Array.IndexOf(body, (byte)'\n', start);
+            if (end < 0)
+            {
+                end = body.Length;
+            }
+
+            line++;
+            var span = body.AsMemory(start, end - start);
+            if (!span.Span.Trim(" \t\r"u8).IsEmpty)
+            {
+                try
+                {
+                    var document = JsonDocument.Parse(span);
+                    documents.Add(document);
+                    messages.Add((document.RootElement, null));
+                }
+                catch (JsonException ex)
+                {
+                    messages.Add((default, string.Create(CultureInfo.InvariantCulture, $"line {line}: not valid JSON ({ex.Message})")));
+                }
+            }
+
+            start = end + 1;
+        }
+    }
+
+    private static async Task<byte[]?> ReadLimitedAsync(Stream body, int limit, CancellationToken cancellationToken)
+    {
+        var buffer = new MemoryStream();
+        var chunk = new byte[81920];
+        int read;
+        while ((read = await body.ReadAsync(chunk, cancellationToken).ConfigureAwait(false)) > 0)
+        {
+            buffer.Write(chunk, 0, read);
+            if (buffer.Length > limit)
+            {
+                return null;
+            }
+        }
+
+        return buffer.ToArray();
+    }
+
+    private static ProblemHttpResult BadRequest(string title, string detail) =>
+        TypedResults.Problem(title: title, detail: detail, statusCode: StatusCodes.Status400BadRequest);
+
+    private static ProblemHttpResult TooLarge(string detail) =>
+        TypedResults.Problem(title: "Payload too large", detail: detail, statusCode: StatusCodes.Status413PayloadTooLarge);
+}

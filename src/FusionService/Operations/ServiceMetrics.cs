@@ -1,0 +1,91 @@
+// Counters and a latency histogram in Prometheus text format.
+using System.Globalization;
+using System.Text;
+
+namespace FusionService.Operations;
+
+/// <summary>
+/// The service's metrics, written in the Prometheus text exposition format (version 0.0.4): messages ingested by
+/// status, measurements gated by the filter, the write-queue depth and a histogram of group-commit latency.
+/// </summary>
+public sealed class ServiceMetrics
+{
+    private static readonly double[] LatencyBucketsS = [0.001, 0.0025, 0.005, 0.01, 0.025, 0.05, 0.1, 0.25, 0.5, 1, 2.5];
+    private readonly long[] _bucketCounts = new long[LatencyBucketsS.Length];
+    private readonly Lock _latencyLock = new();
+    private long _accepted;
+    private long _duplicate;
+    private long _rejected;
+    private long _gated;
+    private long _commits;
+    private long _committedRows;
+    private double _latencySumS;
+
+    /// <summary>Reads the current depth of the ingest write queue (set by the writer).</summary>
+    public Func<int> QueueDepth { get; set; } = () => 0;
+
+    /// <summary>Counts the verdicts of one request.</summary>
+    public void CountMessages(int accepted, int duplicate, int rejected)
+    {
+        Interlocked.Add(ref _accepted, accepted);
+        Interlocked.Add(ref _duplicate, duplicate);
+        Interlocked.Add(ref _rejected, rejected);
+    }
+
+    /// <summary>Counts a measurement rejected by the filter's gate.</summary>
+    public void CountGated() => Interlocked.Increment(ref _gated);
+
+    /// <summary>Records one group commit.</summary>
+    public void ObserveCommit(double seconds, int rows)
+    {
+        lock (_latencyLock)
+        {
+            _commits++;
+            _committedRows += rows;
+            _latencySumS += seconds;
+            for (int i = 0; i < LatencyBucketsS.Length; i++)
+            {
+                if (seconds <= LatencyBucketsS[i])
+                {
+                    _bucketCounts[i]++;
+                }
+            }
+        }
+    }
+
+    /// <summary>The metrics in Prometheus text format.</summary>
+    public string Render()
+    {
+        var c = CultureInfo.InvariantCulture;
+        var text = new StringBuilder();
+        text.Append("# HELP fusion_ingest_messages_total Telemetry messages received, by verdict.\n");
+        text.Append("# TYPE fusion_ingest_messages_total counter\n");
+        text.Append(c, $"fusion_ingest_messages_total{{status=\"accepted\"}} {Interlocked.Read(ref _accepted)}\n");
+        text.Append(c, $"fusion_ingest_messages_total{{status=\"duplicate\"}} {Interlocked.Read(ref _duplicate)}\n");
+        text.Append(c, $"fusion_ingest_messages_total{{status=\"rejected\"}} {Interlocked.Read(ref _rejected)}\n");
+        text.Append("# HELP fusion_gated_measurements_total Measurements rejected by the filter's chi-square gate.\n");
+        text.Append("# TYPE fusion_gated_measurements_total counter\n");
+        text.Append(c, $"fusion_gated_measurements_total {Interlocked.Read(ref _gated)}\n");
+        text.Append("# HELP fusion_write_queue_depth Requests waiting for the group-commit writer.\n");
+        text.Append("# TYPE fusion_write_queue_depth gauge\n");
+        text.Append(c, $"fusion_write_queue_depth {QueueDepth()}\n");
+        lock (_latencyLock)
+        {
+            text.Append("# HELP fusion_commit_rows_total Rows stored by group commits.\n");
+            text.Append("# TYPE fusion_commit_rows_total counter\n");
+            text.Append(c, $"fusion_commit_rows_total {_committedRows}\n");
+            text.Append("# HELP fusion_commit_latency_seconds Duration of one group commit (COPY and transaction).\n");
+            text.Append("# TYPE fusion_commit_latency_seconds histogram\n");
+            for (int i = 0; i < LatencyBucketsS.Length; i++)
+            {
+                text.Append(c, $"fusion_commit_latency_seconds_bucket{{le=\"{LatencyBucketsS[i].ToString("R", c)}\"}} {_bucketCounts[i]}\n");
+            }
+
+            text.Append(c, $"fusion_commit_latency_seconds_bucket{{le=\"+Inf\"}} {_commits}\n");
+            text.Append(c, $"fusion_commit_latency_seconds_sum {_latencySumS.ToString("R", c)}\n");
+            text.Append(c, $"fusion_commit_latency_seconds_count {_commits}\n");
+        }
+
+        return text.ToString();
+    }
+}

@@ -1,0 +1,60 @@
+// FusionService host: ingest, vehicle states, track grains, background writers; `keys create` as a command.
+using System.Text.Json;
+using FusionService.Cli;
+using FusionService.Database;
+using FusionService.Ingest;
+using FusionService.Operations;
+using FusionService.Security;
+using FusionService.Tracking;
+using FusionService.Vehicles;
+using Serilog;
+using Serilog.Events;
+
+if (KeysCommand.Matches(args))
+{
+    var configuration = new ConfigurationBuilder()
+        .SetBasePath(AppContext.BaseDirectory)
+        .AddJsonFile("appsettings.json", optional: true)
+        .AddEnvironmentVariables()
+        .Build();
+    return await KeysCommand.RunAsync(args, configuration, Console.Out, Console.Error).ConfigureAwait(false);
+}
+
+var builder = WebApplication.CreateBuilder(args);
+builder.Services.AddSerilog((services, logger) => logger
+    .ReadFrom.Configuration(builder.Configuration)
+    .MinimumLevel.Override("Polly", LogEventLevel.Warning)
+    .MinimumLevel.Override("Orleans", LogEventLevel.Warning)
+    .MinimumLevel.Override("Microsoft.AspNetCore", LogEventLevel.Warning)
+    .Enrich.FromLogContext()
+    .WriteTo.Console(formatProvider: System.Globalization.CultureInfo.InvariantCulture));
+
+// Hosted services start in this order and stop in reverse: store, writers, silo.
+builder.Services.AddFusionDatabase();
+builder.Services.AddFusionOperations();
+builder.Services.AddFusionIngest();
+builder.AddFusionTracking();
+builder.Services.AddFusionSecurity();
+builder.Services.AddProblemDetails();
+builder.Services.ConfigureHttpJsonOptions(json =>
+{
+    json.SerializerOptions.PropertyNamingPolicy = JsonNamingPolicy.SnakeCaseLower;
+    json.SerializerOptions.DictionaryKeyPolicy = null;
+    json.SerializerOptions.DefaultIgnoreCondition = System.Text.Json.Serialization.JsonIgnoreCondition.WhenWritingNull;
+});
+builder.WebHost.ConfigureKestrel(kestrel => kestrel.Limits.MaxRequestBodySize = builder.Configuration.GetValue("Ingest:MaxBodyBytes", 4 * 1024 * 1024) + 1);
+
+var app = builder.Build();
+app.UseExceptionHandler();
+app.UseStatusCodePages();
+app.UseWebSockets();
+app.UseRateLimiter();
+app.UseSwaggerUI(ui => ui.SwaggerEndpoint("/openapi/v1.json", "FusionService API v1"));
+app.MapOperationsEndpoints();
+app.MapTelemetryEndpoints();
+app.MapVehicleEndpoints();
+await app.RunAsync().ConfigureAwait(false);
+return 0;
+
+/// <summary>The service's entry point (public so that tests can host it with <c>WebApplicationFactory</c>).</summary>
+public partial class Program;

@@ -1,0 +1,23 @@
+// One vehicle's live track as an Orleans grain.
+namespace FusionService.Tracking;
+
+/// <summary>
+/// The live track of one vehicle, keyed <c>"{fleetId}/{vehicleId}"</c> (<see cref="GrainKeys"/>). It holds no Orleans
+/// state: on activation it rebuilds itself from the newest stored checkpoint and the stored measurements after it,
+/// so any silo can host it.
+/// </summary>
+[Alias("FusionService.Tracking.IVehicleTrackGrain")]
+public interface IVehicleTrackGrain : IGrainWithStringKey
+{
+    /// <summary>Processes measurements that are already committed in the store (in any order).</summary>
+    [Alias("Process")]
+    Task ProcessAsync(TrackMeasurement[] batch);
+
+    /// <summary>The current state, or null before the vehicle has a position.</summary>
+    [Alias("GetState")]
+    Task<VehicleStateSnapshot?> GetStateAsync();
+
+    /// <summary>Stores the track's base checkpoint now.</summary>
+    [Alias("Checkpoint")]
+    Task PersistCheckpointAsync();
+}

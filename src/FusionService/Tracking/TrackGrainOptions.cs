@@ -1,0 +1,27 @@
+// How the track grains report and persist.
+using System.ComponentModel.DataAnnotations;
+
+namespace FusionService.Tracking;
+
+/// <summary>Settings of section <c>Tracks</c>.</summary>
+public sealed class TrackGrainOptions
+{
+    /// <summary>Configuration section name.</summary>
+    public const string Section = "Tracks";
+
+    /// <summary>Wall-clock seconds between checkpoint writes of an active track (also written at deactivation). Default 10.</summary>
+    [Range(0, 3600)]
+    public double CheckpointIntervalS { get; set; } = 10;
+
+    /// <summary>Longest gap in data time between two stored fused states while data arrive, seconds. Default 1.</summary>
+    [Range(0.01, 3600)]
+    public double FusedStateIntervalS { get; set; } = 1;
+
+    /// <summary>Fused states and outcome updates that may wait for the background writer before grains wait. Default 100000.</summary>
+    [Range(1, 10_000_000)]
+    public int WriteQueueCapacity { get; set; } = 100_000;
+
+    /// <summary>Milliseconds between flushes of the background writer. Default 50.</summary>
+    [Range(1, 60_000)]
+    public int FlushIntervalMs { get; set; } = 50;
+}

@@ -1,0 +1,24 @@
+// A copy of a vehicle track's current state for readers.
+namespace FusionService.Tracking;
+
+/// <summary>The current state of a vehicle's track, as the grain hands it out.</summary>
+/// <param name="TimeUs">Time of the state, Unix microseconds.</param>
+/// <param name="Phase">Track phase (empty, awaiting_heading, running).</param>
+/// <param name="LatDeg">Latitude, degrees (NaN without a position).</param>
+/// <param name="LonDeg">Longitude, degrees (NaN without a position).</param>
+/// <param name="State">State vector in the core's order and units (see <c>StateIndex</c>).</param>
+/// <param name="Covariance">8 x 8 covariance, row-major.</param>
+/// <param name="LastTimeUsBySensor">Time of the newest processed measurement per sensor kind code (0..3), Unix microseconds, or null.</param>
+/// <param name="Resets">Number of track resets.</param>
+[GenerateSerializer]
+[Immutable]
+[Alias("FusionService.Tracking.VehicleStateSnapshot")]
+public sealed record VehicleStateSnapshot(
+    [property: Id(0)] long TimeUs,
+    [property: Id(1)] string Phase,
+    [property: Id(2)] double LatDeg,
+    [property: Id(3)] double LonDeg,
+    [property: Id(4)] double[] State,
+    [property: Id(5)] double[] Covariance,
+    [property: Id(6)] long?[] LastTimeUsBySensor,
+    [property: Id(7)] int Resets);

@@ -1,0 +1,268 @@
+// The grain that runs one vehicle's track.
+using FusionService.Database;
+using FusionService.Estimation.Diagnostics;
+using FusionService.Estimation.Measurements;
+using FusionService.Estimation.Models;
+using FusionService.Estimation.Tracking;
+using FusionService.Operations;
+using FusionService.Storage.Checkpoints;
+using FusionService.Storage.FusedStates;
+using FusionService.Storage.Measurements;
+using Microsoft.Extensions.Options;
+using CoreOutcome = FusionService.Estimation.Tracking.MeasurementOutcome;
+using StoredOutcome = FusionService.Storage.Measurements.MeasurementOutcome;
+
+namespace FusionService.Tracking;
+
+/// <summary>
+/// Runs a <see cref="VehicleTrack"/> for one vehicle. Activation restores the newest stored checkpoint and
+/// re-processes the stored measurements after it in canonical order (skipping those stored as too late), which
+/// gives the state an uninterrupted track would have. Each batch emits fused states (at every GNSS position epoch
+/// and at least every <see cref="TrackGrainOptions.FusedStateIntervalS"/> of data time) and outcome updates to the
+/// <see cref="TrackWriteQueue"/>; the base checkpoint is stored periodically and at deactivation.
+/// </summary>
+internal sealed class VehicleTrackGrain(
+    TrackProcessor processor,
+    FusionDatabase database,
+    TrackWriteQueue writes,
+    ServiceMetrics metrics,
+    IOptions<TrackGrainOptions> options,
+    IOptions<DatabaseOptions> databaseOptions,
+    TimeProvider time,
+    ILogger<VehicleTrackGrain> logger) : Grain, IVehicleTrackGrain, ITrackObserver
+{
+    private readonly List<MeasurementOutcomeUpdate> _outcomes = [];
+    private readonly List<FusedStateRow> _states = [];
+    private readonly long?[] _lastBySensor = new long?[4];
+    private readonly long _fusedIntervalUs = (long)Math.Round(options.Value.FusedStateIntervalS * 1e6);
+    private VehicleTrack _track = new(processor);
+    private Guid _fleetId;
+    private string _vehicleId = string.Empty;
+    private long _lastEmitUs = long.MinValue;
+    private long _lastPersistedUs = long.MinValue;
+    private DateTimeOffset _lastPersistAt;
+
+    public override async Task OnActivateAsync(CancellationToken cancellationToken)
+    {
+        (_fleetId, _vehicleId) = GrainKeys.Parse(this.GetPrimaryKeyString());
+        var checkpoint = await new FilterCheckpointRepository(database.DataSource)
+            .NewestCheckpointBeforeAsync(_fleetId, _vehicleId, long.MaxValue, cancellationToken);
+        long nowUs = (time.GetUtcNow().UtcTicks - DateTime.UnixEpoch.Ticks) / 10;
+        long fromUs = nowUs - ((databaseOptions.Value.DaysBack + 1) * 86_400_000_000L);
+        Measurement? floor = null;
+        if (checkpoint is { } row && row.PayloadVersion == TrackStateCodec.Version)
+        {
+            var (state, last) = TrackStateCodec.Decode(row.Payload.Span);
+            _track = new VehicleTrack(processor, state, last);
+            floor = last;
+            fromUs = last.TimeUs;
+            _lastPersistedUs = last.TimeUs;
+        }
+
+        var stored = await new MeasurementRepository(database.DataSource)
+            .ReadAsync(_fleetId, _vehicleId, fromUs, nowUs + (7 * 86_400_000_000L), cancellationToken);
+        int replayed = 0;
+        foreach (var s in stored)
+        {
+            if (s.Outcome == StoredOutcome.TooLate)
+            {
+                continue;
+            }
+
+            var m = Measurement.FromStored(s.TimeUs, ((ulong)(byte)s.Kind << 56) | (ulong)s.MessageKey, s.V0, s.V1 ?? double.NaN, (float)(s.V2 ?? 0));
+            if (floor is { } f && VehicleTrack.CompareKey(m, f) <= 0)
+            {
+                continue;
+            }
+
+            _track.Process(m, this);
+            replayed++;
+        }
+
+        _lastPersistAt = time.GetUtcNow();
+        await FlushWritesAsync();
+        logger.LogDebug("Track {Key} restored: checkpoint {HasCheckpoint}, {Replayed} measurements re-processed", this.GetPrimaryKeyString(), floor is not null, replayed);
+        await base.OnActivateAsync(cancellationToken);
+    }
+
+    public override async Task OnDeactivateAsync(DeactivationReason reason, CancellationToken cancellationToken)
+    {
+        try
+        {
+            await PersistCheckpointAsync();
+        }
+        catch (Exception ex) when (ex is Npgsql.NpgsqlException or InvalidOperationException or TimeoutException)
+        {
+            logger.LogWarning(ex, "Track {Key} could not store its checkpoint at deactivation", this.GetPrimaryKeyString());
+        }
+
+        await base.OnDeactivateAsync(reason, cancellationToken);
+    }
+
+    public async Task ProcessAsync(TrackMeasurement[] batch)
+    {
+        ArgumentNullException.ThrowIfNull(batch);
+        try
+        {
+            foreach (var item in batch)
+            {
+                var m = item.ToMeasurement();
+                var outcome = _track.Process(m, this);
+                if (outcome.Kind == OutcomeKind.Gated)
+                {
+                    metrics.CountGated();
+                }
+            }
+        }
+        catch (FusionService.Estimation.Filtering.FilterDivergenceException ex)
+        {
+            // The measurements are stored; the next activation rebuilds the track from the store.
+            logger.LogError(ex, "Track {Key} diverged; deactivating it so that it is rebuilt from the store", this.GetPrimaryKeyString());
+            _outcomes.Clear();
+            _states.Clear();
+            DeactivateOnIdle();
+            throw;
+        }
+
+        await FlushWritesAsync();
+        if ((time.GetUtcNow() - _lastPersistAt).TotalSeconds >= options.Value.CheckpointIntervalS)
+        {
+            await PersistCheckpointAsync();
+        }
+    }
+
+    public Task<VehicleStateSnapshot?> GetStateAsync()
+    {
+        ref readonly TrackState s = ref _track.Current;
+        if (!s.HasPlane || s.Phase != TrackPhase.Running)
+        {
+            return Task.FromResult<VehicleStateSnapshot?>(null);
+        }
+
+        var position = TrackProcessor.PositionOf(s);
+        var x = new double[StateIndex.Count];
+        var p = new double[StateIndex.Count * StateIndex.Count];
+        for (int i = 0; i < x.Length; i++)
+        {
+            x[i] = s.X[i];
+        }
+
+        for (int i = 0; i < p.Length; i++)
+        {
+            p[i] = s.P[i];
+        }
+
+        const string phase = "running";
+        return Task.FromResult<VehicleStateSnapshot?>(new VehicleStateSnapshot(
+            s.TimeUs, phase, position.LatitudeDeg, position.LongitudeDeg, x, p, [.. _lastBySensor], s.Resets));
+    }
+
+    public async Task PersistCheckpointAsync()
+    {
+        var (state, last) = _track.BaseCheckpoint;
+        _lastPersistAt = time.GetUtcNow();
+        if (last is not { } lastMeasurement || lastMeasurement.TimeUs == _lastPersistedUs)
+        {
+            return;
+        }
+
+        var anchor = state.HasPlane ? state.Plane.Anchor : default;
+        await new FilterCheckpointRepository(database.DataSource).UpsertAsync(new FilterCheckpointRow(
+            _fleetId,
+            _vehicleId,
+            lastMeasurement.TimeUs,
+            anchor.LatitudeDeg,
+            anchor.LongitudeDeg,
+            TrackStateCodec.Version,
+            TrackStateCodec.Encode(state, lastMeasurement)));
+        await new FilterCheckpointRepository(database.DataSource).DeleteBeforeAsync(_fleetId, _vehicleId, lastMeasurement.TimeUs);
+        _lastPersistedUs = lastMeasurement.TimeUs;
+    }
+
+    void ITrackObserver.OnOutcome(in Measurement m, in CoreOutcome outcome, in TrackState posterior, bool isReplay)
+    {
+        if (outcome.Kind is OutcomeKind.Duplicate or OutcomeKind.Conflict)
+        {
+            return;
+        }
+
+        int sensor = (int)m.Kind;
+        if (sensor < _lastBySensor.Length && (_lastBySensor[sensor] is not { } seen || seen < m.TimeUs))
+        {
+            _lastBySensor[sensor] = m.TimeUs;
+        }
+
+        var key = new MeasurementKey(_fleetId, _vehicleId, (short)m.Kind, m.TimeUs, (long)m.MessageKey);
+        _outcomes.Add(new MeasurementOutcomeUpdate(
+            key,
+            ToStored(outcome.Kind),
+            double.IsFinite(outcome.Nis) && outcome.Nis >= 0 ? outcome.Nis : null,
+            outcome.Kind == OutcomeKind.TrackReset));
+
+        if (!posterior.HasPlane || posterior.Phase != TrackPhase.Running)
+        {
+            return;
+        }
+
+        long t = posterior.TimeUs;
+        if (m.Kind == SensorKind.GnssPosition || t < _lastEmitUs || _lastEmitUs == long.MinValue || t - _lastEmitUs >= _fusedIntervalUs)
+        {
+            _states.Add(ToFusedRow(posterior));
+            _lastEmitUs = t;
+        }
+    }
+
+    private FusedStateRow ToFusedRow(in TrackState s)
+    {
+        var position = TrackProcessor.PositionOf(s);
+        var packed = new double[FusedStateRow.PackedCovarianceLength];
+        int k = 0;
+        for (int i = 0; i < StateIndex.Count; i++)
+        {
+            for (int j = i; j < StateIndex.Count; j++)
+            {
+                packed[k++] = s.P[(i * StateIndex.Count) + j];
+            }
+        }
+
+        var ellipse = ErrorEllipse.FromCovariance(s.P[0], s.P[(1 * StateIndex.Count) + 1], s.P[1]);
+        return new FusedStateRow(
+            _fleetId,
+            _vehicleId,
+            s.TimeUs,
+            position.LatitudeDeg,
+            position.LongitudeDeg,
+            s.X[StateIndex.HeadingRad],
+            s.X[StateIndex.SpeedMps],
+            s.X[StateIndex.YawRateRps],
+            s.X[StateIndex.AccelMps2],
+            s.X[StateIndex.GyroBiasRps],
+            s.X[StateIndex.WheelScale],
+            packed,
+            ellipse.SemiMajorM,
+            ellipse.SemiMinorM,
+            ellipse.OrientationRad);
+    }
+
+    private static StoredOutcome ToStored(OutcomeKind kind) => kind switch
+    {
+        OutcomeKind.Accepted or OutcomeKind.TrackReset => StoredOutcome.Accepted,
+        OutcomeKind.Gated => StoredOutcome.Gated,
+        OutcomeKind.TooLate => StoredOutcome.TooLate,
+        OutcomeKind.Initialising => StoredOutcome.Initialising,
+        OutcomeKind.BeforeStart => StoredOutcome.BeforeStart,
+        _ => StoredOutcome.Unused,
+    };
+
+    private async Task FlushWritesAsync()
+    {
+        if (_outcomes.Count == 0 && _states.Count == 0)
+        {
+            return;
+        }
+
+        await writes.EnqueueAsync([.. _outcomes], [.. _states]);
+        _outcomes.Clear();
+        _states.Clear();
+    }
+}

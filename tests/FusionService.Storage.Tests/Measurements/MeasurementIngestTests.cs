@@ -1,0 +1,121 @@
+// Idempotent ingest, bulk outcome updates, fused-state upserts, vehicle queries and migration 0002.
+using FusionService.Storage.Fleets;
+using FusionService.Storage.FusedStates;
+using FusionService.Storage.Measurements;
+using FusionService.Storage.Partitions;
+using FusionService.Storage.Tests.Infrastructure;
+using FusionService.Storage.Time;
+using FusionService.Storage.Vehicles;
+using Npgsql;
+
+namespace FusionService.Storage.Tests.Measurements;
+
+[Collection(PostgresCollection.Name)]
+public sealed class MeasurementIngestTests(PostgresFixture server)
+{
+    private static MeasurementRow Row(Guid fleet, string vehicle, long timeUs, long key, short kind = 2) => new(
+        fleet, vehicle, kind, timeUs, key, UnixMicroseconds.ToDateTimeUtc(timeUs + 1000), 1.5, null, null, 0,
+        MeasurementOutcome.Pending, null, false);
+
+    private async Task<(TestSchema Schema, Guid Fleet)> NewStoreAsync()
+    {
+        var schema = await server.NewMigratedSchemaAsync();
+        await new PartitionMaintainer(schema.DataSource).EnsurePartitionsAsync(TestTimes.Day, TestTimes.Day.AddDays(1));
+        var fleet = await new FleetAdmin(schema.DataSource).CreateFleetAsync("fleet-" + schema.Name);
+        return (schema, fleet);
+    }
+
+    private static async Task<HashSet<MeasurementKey>> InsertAsync(TestSchema schema, IReadOnlyList<MeasurementRow> rows)
+    {
+        await using var connection = await schema.OpenAsync();
+        await using var transaction = await connection.BeginTransactionAsync();
+        var inserted = await MeasurementIngest.InsertNewAsync(connection, transaction, rows);
+        await transaction.CommitAsync();
+        return inserted;
+    }
+
+    [Fact]
+    public async Task Only_new_rows_are_inserted_and_reported_and_vehicles_are_created()
+    {
+        var (schema, fleet) = await NewStoreAsync();
+        await using var _ = schema;
+        long t = TestTimes.At(TestTimes.Day, 9, 0, 0, 0);
+        var first = await InsertAsync(schema, [Row(fleet, "van-1", t, 1), Row(fleet, "van-1", t, 2), Row(fleet, "van-2", t, 1)]);
+        Assert.Equal(3, first.Count);
+        // A retry of one stored row beside a new one, and the same new row twice in one call.
+        var second = await InsertAsync(schema, [Row(fleet, "van-1", t, 2), Row(fleet, "van-1", t + 1, 3), Row(fleet, "van-1", t + 1, 3)]);
+        Assert.Equal([new MeasurementKey(fleet, "van-1", 2, t + 1, 3)], second);
+        Assert.Equal(4L, await schema.ScalarAsync<long>("SELECT count(*) FROM measurements"));
+        var vehicles = new VehicleRepository(schema.DataSource);
+        Assert.Equal(["van-1", "van-2"], await vehicles.ListAsync(fleet));
+        Assert.True(await vehicles.ExistsAsync(fleet, "van-2"));
+        Assert.False(await vehicles.ExistsAsync(Guid.NewGuid(), "van-2"));
+    }
+
+    [Fact]
+    public async Task A_row_without_a_partition_stores_nothing_of_the_call()
+    {
+        var (schema, fleet) = await NewStoreAsync();
+        await using var _ = schema;
+        long t = TestTimes.At(TestTimes.Day, 9, 0, 0, 0);
+        long outside = TestTimes.At(TestTimes.Day.AddDays(20), 9, 0, 0, 0);
+        await Assert.ThrowsAsync<PostgresException>(() => InsertAsync(schema, [Row(fleet, "van-1", t, 1), Row(fleet, "van-1", outside, 2)]));
+        Assert.Equal(0L, await schema.ScalarAsync<long>("SELECT count(*) FROM measurements"));
+    }
+
+    [Fact]
+    public async Task Outcome_updates_apply_and_the_last_one_of_a_row_wins()
+    {
+        var (schema, fleet) = await NewStoreAsync();
+        await using var _ = schema;
+        long t = TestTimes.At(TestTimes.Day, 10, 0, 0, 0);
+        await InsertAsync(schema, [Row(fleet, "van-1", t, 1), Row(fleet, "van-1", t, 2)]);
+        var k1 = new MeasurementKey(fleet, "van-1", 2, t, 1);
+        var k2 = new MeasurementKey(fleet, "van-1", 2, t, 2);
+        int updated = await MeasurementOutcomeUpdater.ApplyAsync(schema.DataSource,
+        [
+            new(k1, MeasurementOutcome.Gated, 12.5, false),
+            new(k2, MeasurementOutcome.Initialising, null, false),
+            new(k1, MeasurementOutcome.Accepted, 0.75, true),
+        ]);
+        Assert.Equal(2, updated);
+        var rows = await new MeasurementRepository(schema.DataSource).ReadAsync(fleet, "van-1", t, t + 1);
+        Assert.Equal((MeasurementOutcome.Accepted, 0.75, true), (rows[0].Outcome, rows[0].Nis!.Value, rows[0].TrackReset));
+        Assert.Equal((MeasurementOutcome.Initialising, (double?)null), (rows[1].Outcome, rows[1].Nis));
+    }
+
+    [Fact]
+    public async Task Migration_0002_admits_outcome_codes_5_to_7_and_nothing_above()
+    {
+        var (schema, fleet) = await NewStoreAsync();
+        await using var _ = schema;
+        long t = TestTimes.At(TestTimes.Day, 11, 0, 0, 0);
+        await InsertAsync(schema, [Row(fleet, "van-1", t, 1)]);
+        await schema.ScalarAsync<int>("UPDATE measurements SET outcome = 7 WHERE true RETURNING outcome::int");
+        await Assert.ThrowsAsync<PostgresException>(() => schema.ScalarAsync<int>("UPDATE measurements SET outcome = 8 WHERE true RETURNING outcome::int"));
+    }
+
+    [Fact]
+    public async Task Fused_state_upserts_replace_the_same_instant()
+    {
+        var (schema, fleet) = await NewStoreAsync();
+        await using var _ = schema;
+        long t = TestTimes.At(TestTimes.Day, 12, 0, 0, 0);
+        FusedStateRow State(long timeUs, double lat) => new(fleet, "van-1", timeUs, lat, 7.0, 0.1, 5.0, 0.01, 0.2, 0.001, 1.01,
+            Enumerable.Range(0, FusedStateRow.PackedCovarianceLength).Select(i => i * 0.5).ToArray(), 3.0, 2.0, 0.4);
+        Assert.Equal(2, await FusedStateUpserter.UpsertAsync(schema.DataSource, [State(t, 45.0), State(t + 1, 45.1), State(t, 45.2)]));
+        Assert.Equal(1, await FusedStateUpserter.UpsertAsync(schema.DataSource, [State(t + 1, 45.3)]));
+        var rows = await new FusedStateRepository(schema.DataSource).ReadAsync(fleet, "van-1", t, t + 2);
+        Assert.Equal([45.2, 45.3], rows.Select(r => r.LatDeg));
+    }
+
+    [Fact]
+    public async Task Fleets_are_found_by_name()
+    {
+        await using var schema = await server.NewMigratedSchemaAsync();
+        var admin = new FleetAdmin(schema.DataSource);
+        var id = await admin.CreateFleetAsync("north depot");
+        Assert.Equal(id, await admin.FindFleetAsync("north depot"));
+        Assert.Null(await admin.FindFleetAsync("south depot"));
+    }
+}

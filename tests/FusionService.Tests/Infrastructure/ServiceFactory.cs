@@ -1,0 +1,42 @@
+// The service hosted in-process on the test server, with its own Orleans ports.
+using System.Globalization;
+using Microsoft.AspNetCore.Hosting;
+using Microsoft.AspNetCore.Mvc.Testing;
+using Microsoft.Extensions.Configuration;
+
+namespace FusionService.Tests.Infrastructure;
+
+/// <summary>The service on the shared PostgreSQL server, with free Orleans ports and test limits.</summary>
+public sealed class ServiceFactory(string connectionString, IReadOnlyDictionary<string, string?>? overrides = null) : WebApplicationFactory<Program>
+{
+    /// <summary>Limits the tests rely on.</summary>
+    public const int MaxMessages = 500;
+
+    /// <summary>Body limit the tests rely on, bytes.</summary>
+    public const int MaxBodyBytes = 256 * 1024;
+
+    protected override void ConfigureWebHost(IWebHostBuilder builder)
+    {
+        var settings = new Dictionary<string, string?>(StringComparer.Ordinal)
+        {
+            ["ConnectionStrings:Fusion"] = connectionString,
+            ["Orleans:SiloPort"] = FreePort.Next().ToString(CultureInfo.InvariantCulture),
+            ["Orleans:GatewayPort"] = "0",
+            ["Ingest:MaxMessages"] = MaxMessages.ToString(CultureInfo.InvariantCulture),
+            ["Ingest:MaxBodyBytes"] = MaxBodyBytes.ToString(CultureInfo.InvariantCulture),
+            ["Ingest:MaxFutureSkewS"] = "60",
+            ["Security:RateLimitPermits"] = "100000",
+            ["Security:KeyCacheSeconds"] = "0",
+            ["Serilog:MinimumLevel:Default"] = "Warning",
+        };
+        if (overrides is not null)
+        {
+            foreach (var pair in overrides)
+            {
+                settings[pair.Key] = pair.Value;
+            }
+        }
+
+        builder.ConfigureAppConfiguration((_, configuration) => configuration.AddInMemoryCollection(settings));
+    }
+}

@@ -1,0 +1,92 @@
+// 503 with Retry-After while PostgreSQL is down; nothing acknowledged is lost once it is back.
+using System.Net;
+using FusionService.Tests.Infrastructure;
+
+namespace FusionService.Tests.Resilience;
+
+[Collection(ServiceTests.Name)]
+public sealed class DatabaseOutageTests(ServiceFixture fixture)
+{
+    [Fact]
+    public async Task Ingest_answers_503_while_the_database_is_down_and_recovers_without_loss()
+    {
+        var fleet = await fixture.NewFleetAsync();
+        var drive = TelemetryDrive.Create("van-outage", TelemetryDrive.StartUs(TimeSpan.FromMinutes(8)), seed: 61);
+        // Keys cached for a minute, so the request reaches the writer while the database is down.
+        await using var host = new ServiceFactory(fixture.ConnectionString, new Dictionary<string, string?> { ["Security:KeyCacheSeconds"] = "60" });
+        using var client = fixture.Client(fleet.IngestKey, host);
+        int acknowledged = (await client.IngestOkAsync(drive.Body(0, 100))).Accepted;
+
+        await fixture.StopServerAsync();
+        try
+        {
+            using var refused = await client.PostJsonAsync(drive.Body(100, 200));
+            Assert.Equal(HttpStatusCode.ServiceUnavailable, refused.StatusCode);
+            Assert.True(refused.Headers.RetryAfter?.Delta > TimeSpan.Zero, "Retry-After missing");
+            Assert.Contains("database is unavailable", (await refused.ProblemAsync()).GetProperty("detail").GetString(), StringComparison.Ordinal);
+            using var ready = await client.GetAsync("/health/ready");
+            Assert.Equal(HttpStatusCode.ServiceUnavailable, ready.StatusCode);
+            Assert.Contains("PostgreSQL unreachable", (await ready.ProblemAsync()).GetProperty("detail").GetString(), StringComparison.Ordinal);
+        }
+        finally
+        {
+            await fixture.StartServerAsync();
+        }
+
+        // The client resends what was refused, as Retry-After asks (a connection broken by the restart may cost one
+        // more 503, after which the pool is cleared), then sends the rest.
+        for (int from = 100; from < drive.Messages.Count; from += 200)
+        {
+            for (int attempt = 0; ; attempt++)
+            {
+                using var response = await client.PostJsonAsync(drive.Body(from, Math.Min(from + 200, drive.Messages.Count)));
+                if (response.StatusCode == HttpStatusCode.ServiceUnavailable && attempt < 5)
+                {
+                    await Task.Delay(500);
+                    continue;
+                }
+
+                Assert.Equal(HttpStatusCode.OK, response.StatusCode);
+                var result = System.Text.Json.JsonSerializer.Deserialize<FusionService.Ingest.IngestResponse>(await response.Content.ReadAsStringAsync(), Api.Json)!;
+                acknowledged += result.Accepted;
+                break;
+            }
+        }
+
+        // The shared host lost its connections too: it recovers on its own after one failed check.
+        using var probe = fixture.Client(null);
+        for (int attempt = 0; attempt < 5 && (await probe.GetAsync("/health/ready")).StatusCode != HttpStatusCode.OK; attempt++)
+        {
+            await Task.Delay(200);
+        }
+
+        Assert.Equal(drive.Messages.Count, acknowledged);
+        Assert.Equal(drive.Messages.Sum(m => m.Core.Length), await fixture.CountAsync("SELECT count(*) FROM measurements WHERE fleet_id = $1", fleet.Id));
+        var oracle = new TrackOracle();
+        oracle.Process(drive.Messages.Select(m => m.Core));
+        Assert.Equal(oracle.Response("van-outage"), await fixture.Client(fleet.ReadKey, host).StateAsync("van-outage"));
+    }
+
+    [Fact]
+    public async Task A_full_write_queue_answers_503_at_once_and_never_buffers_more()
+    {
+        var fleet = await fixture.NewFleetAsync();
+        var drive = TelemetryDrive.Create("van-queue", TelemetryDrive.StartUs(TimeSpan.FromMinutes(13)), seed: 62);
+        // One waiting request at most, and a long commit window, so the second request finds the queue full.
+        await using var host = new ServiceFactory(fixture.ConnectionString, new Dictionary<string, string?>
+        {
+            ["Ingest:QueueCapacity"] = "1",
+            ["Ingest:CommitWindowMs"] = "800",
+        });
+        using var client = fixture.Client(fleet.IngestKey, host);
+        Assert.Equal(HttpStatusCode.OK, (await client.PostJsonAsync(drive.Body(0, 10))).StatusCode);
+        var waiting = client.PostJsonAsync(drive.Body(10, 20));
+        await Task.Delay(200);
+        using var refused = await client.PostJsonAsync(drive.Body(20, 30));
+        Assert.Equal(HttpStatusCode.ServiceUnavailable, refused.StatusCode);
+        Assert.Contains("write queue is full", (await refused.ProblemAsync()).GetProperty("detail").GetString(), StringComparison.Ordinal);
+        using var accepted = await waiting;
+        Assert.Equal(HttpStatusCode.OK, accepted.StatusCode);
+        Assert.Equal(drive.Messages.Take(20).Sum(m => m.Core.Length), await fixture.CountAsync("SELECT count(*) FROM measurements WHERE fleet_id = $1", fleet.Id));
+    }
+}
