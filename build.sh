@@ -1,6 +1,8 @@
 #!/usr/bin/env bash
 # FusionService build entry point. Every step a fresh machine needs is here.
 #   ./build.sh test    restore, build, run every test suite; last line "N passed, N failed"
+#   ./build.sh run     the service with its own PostgreSQL under ./data/pg and the invented demo fleet feeding it
+#   ./build.sh serve   the service alone (no demo fleet)
 #   ./build.sh bench   run the BenchmarkDotNet suite (see docs/benchmarks.md)
 set -euo pipefail
 cd "$(dirname "$0")"
@@ -63,15 +65,30 @@ summarize() {
   fi
 }
 
+run_service() {
+  ensure_prerequisites
+  export ASPNETCORE_URLS="${ASPNETCORE_URLS:-http://127.0.0.1:5080}"
+  export Database__DataDirectory="${Database__DataDirectory:-$root/data/pg}"
+  dotnet run -c Release --project src/FusionService -- "$@"
+}
+
 case "${1:-test}" in
   test) run_tests ;;
+  run)
+    shift
+    run_service demo "$@"
+    ;;
+  serve)
+    shift
+    run_service "$@"
+    ;;
   bench)
     ensure_prerequisites
     shift || true
     dotnet run -c Release --project tests/FusionService.Benchmarks -- "$@"
     ;;
   *)
-    echo "usage: ./build.sh [test|bench [BenchmarkDotNet args]]" >&2
+    echo "usage: ./build.sh [test|run|serve|bench [BenchmarkDotNet args]]" >&2
     exit 2
     ;;
 esac

@@ -1,7 +1,8 @@
-// FusionService host: ingest, vehicle states, track grains, background writers; `keys create` as a command.
+// FusionService host: ingest, vehicle states, track grains, background writers; `keys create` and `demo` as commands.
 using System.Text.Json;
 using FusionService.Cli;
 using FusionService.Database;
+using FusionService.Demo;
 using FusionService.Ingest;
 using FusionService.Operations;
 using FusionService.Security;
@@ -20,7 +21,8 @@ if (KeysCommand.Matches(args))
     return await KeysCommand.RunAsync(args, configuration, Console.Out, Console.Error).ConfigureAwait(false);
 }
 
-var builder = WebApplication.CreateBuilder(args);
+bool demo = DemoExtensions.Matches(args);
+var builder = WebApplication.CreateBuilder(demo ? args[1..] : args);
 builder.Services.AddSerilog((services, logger) => logger
     .ReadFrom.Configuration(builder.Configuration)
     .MinimumLevel.Override("Polly", LogEventLevel.Warning)
@@ -36,6 +38,11 @@ builder.Services.AddFusionIngest();
 builder.AddFusionTracking();
 builder.Services.AddFusionSecurity();
 builder.Services.AddProblemDetails();
+if (demo)
+{
+    builder.Services.AddFusionDemo();
+}
+
 builder.Services.ConfigureHttpJsonOptions(json =>
 {
     json.SerializerOptions.PropertyNamingPolicy = JsonNamingPolicy.SnakeCaseLower;

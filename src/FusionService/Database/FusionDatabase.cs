@@ -157,7 +157,10 @@ public sealed class FusionDatabase : IAsyncDisposable
 
         if (_embedded is not null)
         {
-            await _embedded.StopAsync(cancellationToken).ConfigureAwait(false);
+            // The cluster must stop even when the host's shutdown budget is spent: a fast stop takes well under a
+            // second, and a server left running would outlive the service.
+            _ = cancellationToken;
+            await _embedded.StopAsync(CancellationToken.None).ConfigureAwait(false);
             await _embedded.DisposeAsync().ConfigureAwait(false);
             _embedded = null;
         }
