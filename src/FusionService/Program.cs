@@ -1,4 +1,4 @@
-// FusionService host: ingest, vehicle states, track grains, background writers; `keys create` and `demo` as commands.
+// FusionService host: ingest, vehicle states, track grains, background writers; `keys create`, `load` and `demo` as commands.
 using System.Text.Json;
 using FusionService.Cli;
 using FusionService.Database;
@@ -19,6 +19,17 @@ if (KeysCommand.Matches(args))
         .AddEnvironmentVariables()
         .Build();
     return await KeysCommand.RunAsync(args, configuration, Console.Out, Console.Error).ConfigureAwait(false);
+}
+
+if (LoadCommand.Matches(args))
+{
+    using var cancel = new CancellationTokenSource();
+    Console.CancelKeyPress += (_, e) =>
+    {
+        e.Cancel = true;
+        cancel.Cancel();
+    };
+    return await LoadCommand.RunAsync(args, Console.Out, Console.Error, cancel.Token).ConfigureAwait(false);
 }
 
 bool demo = DemoExtensions.Matches(args);

@@ -33,6 +33,10 @@ public sealed class DatabaseOptions
     [Range(1, 365)]
     public int DaysBack { get; set; } = 2;
 
+    /// <summary>Largest number of pooled connections the service opens, unless the connection string sets one. Default 40.</summary>
+    [Range(2, 1000)]
+    public int MaxPoolSize { get; set; } = 40;
+
     /// <summary>Daily partitions created ahead of today (UTC). Default 3.</summary>
     [Range(1, 30)]
     public int DaysAhead { get; set; } = 3;

@@ -88,7 +88,16 @@ public sealed class FusionDatabase : IAsyncDisposable
         var applied = await new MigrationRunner(ServerConnectionString, _options.Schema, _loggerFactory.CreateLogger<MigrationRunner>())
             .RunAsync(cancellationToken).ConfigureAwait(false);
         _logger.LogInformation("Store schema {Schema} ready; {Count} migrations applied now", _options.Schema, applied.Count);
-        _dataSource = NpgsqlDataSource.Create(StorageSchema.WithSearchPath(ServerConnectionString, _options.Schema));
+        // Bound the pool below the server's connection limit (100 by default): a burst of track activations must wait
+        // for a connection, never be refused one. An explicit "Maximum Pool Size" in the connection string wins.
+        var pooled = new NpgsqlConnectionStringBuilder(StorageSchema.WithSearchPath(ServerConnectionString, _options.Schema));
+        var given = new System.Data.Common.DbConnectionStringBuilder { ConnectionString = ServerConnectionString };
+        if (!given.ContainsKey("Maximum Pool Size") && !given.ContainsKey("Max Pool Size") && !given.ContainsKey("MaxPoolSize"))
+        {
+            pooled.MaxPoolSize = _options.MaxPoolSize;
+        }
+
+        _dataSource = NpgsqlDataSource.Create(pooled.ConnectionString);
         await CreatePartitions().RunAsync(cancellationToken).ConfigureAwait(false);
     }
 

@@ -24,4 +24,8 @@ public sealed class TrackGrainOptions
     /// <summary>Milliseconds between flushes of the background writer. Default 50.</summary>
     [Range(1, 60_000)]
     public int FlushIntervalMs { get; set; } = 50;
+
+    /// <summary>Largest number of track grains reading or writing the store at once (restores, checkpoints). Default 8.</summary>
+    [Range(1, 1000)]
+    public int MaxConcurrentStoreCalls { get; set; } = 8;
 }

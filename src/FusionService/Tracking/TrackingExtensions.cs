@@ -21,6 +21,7 @@ public static class TrackingExtensions
         builder.Services.AddSingleton(_ => new TrackProcessor(new TrackOptions(), NoiseProfile.DeliveryVan));
         builder.Services.AddSingleton(TimeProvider.System);
         builder.Services.AddSingleton<TrackWriteQueue>();
+        builder.Services.AddSingleton<TrackStoreGate>();
         builder.Services.AddHostedService(sp => sp.GetRequiredService<TrackWriteQueue>());
         builder.UseOrleans(silo => silo.UseLocalhostClustering());
         builder.Services.AddOptions<EndpointOptions>().PostConfigure<IConfiguration>((endpoints, configuration) =>

@@ -25,6 +25,7 @@ internal sealed class VehicleTrackGrain(
     TrackProcessor processor,
     FusionDatabase database,
     TrackWriteQueue writes,
+    TrackStoreGate gate,
     ServiceMetrics metrics,
     IOptions<TrackGrainOptions> options,
     IOptions<DatabaseOptions> databaseOptions,
@@ -45,8 +46,9 @@ internal sealed class VehicleTrackGrain(
     public override async Task OnActivateAsync(CancellationToken cancellationToken)
     {
         (_fleetId, _vehicleId) = GrainKeys.Parse(this.GetPrimaryKeyString());
-        var checkpoint = await new FilterCheckpointRepository(database.DataSource)
-            .NewestCheckpointBeforeAsync(_fleetId, _vehicleId, long.MaxValue, cancellationToken);
+        var checkpoint = await gate.RunAsync(
+            () => new FilterCheckpointRepository(database.DataSource).NewestCheckpointBeforeAsync(_fleetId, _vehicleId, long.MaxValue, cancellationToken),
+            cancellationToken);
         long nowUs = (time.GetUtcNow().UtcTicks - DateTime.UnixEpoch.Ticks) / 10;
         long fromUs = nowUs - ((databaseOptions.Value.DaysBack + 1) * 86_400_000_000L);
         Measurement? floor = null;
@@ -59,8 +61,9 @@ internal sealed class VehicleTrackGrain(
             _lastPersistedUs = last.TimeUs;
         }
 
-        var stored = await new MeasurementRepository(database.DataSource)
-            .ReadAsync(_fleetId, _vehicleId, fromUs, nowUs + (7 * 86_400_000_000L), cancellationToken);
+        var stored = await gate.RunAsync(
+            () => new MeasurementRepository(database.DataSource).ReadAsync(_fleetId, _vehicleId, fromUs, nowUs + (7 * 86_400_000_000L), cancellationToken),
+            cancellationToken);
         int replayed = 0;
         foreach (var s in stored)
         {
@@ -167,15 +170,20 @@ internal sealed class VehicleTrackGrain(
         }
 
         var anchor = state.HasPlane ? state.Plane.Anchor : default;
-        await new FilterCheckpointRepository(database.DataSource).UpsertAsync(new FilterCheckpointRow(
-            _fleetId,
-            _vehicleId,
-            lastMeasurement.TimeUs,
-            anchor.LatitudeDeg,
-            anchor.LongitudeDeg,
-            TrackStateCodec.Version,
-            TrackStateCodec.Encode(state, lastMeasurement)));
-        await new FilterCheckpointRepository(database.DataSource).DeleteBeforeAsync(_fleetId, _vehicleId, lastMeasurement.TimeUs);
+        var checkpoints = new FilterCheckpointRepository(database.DataSource);
+        await gate.RunAsync(async () =>
+        {
+            await checkpoints.UpsertAsync(new FilterCheckpointRow(
+                _fleetId,
+                _vehicleId,
+                lastMeasurement.TimeUs,
+                anchor.LatitudeDeg,
+                anchor.LongitudeDeg,
+                TrackStateCodec.Version,
+                TrackStateCodec.Encode(state, lastMeasurement)));
+            await checkpoints.DeleteBeforeAsync(_fleetId, _vehicleId, lastMeasurement.TimeUs);
+            return true;
+        });
         _lastPersistedUs = lastMeasurement.TimeUs;
     }
 
