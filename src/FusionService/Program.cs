@@ -34,6 +34,11 @@ if (LoadCommand.Matches(args))
 
 bool demo = DemoExtensions.Matches(args);
 var builder = WebApplication.CreateBuilder(demo ? args[1..] : args);
+if (demo)
+{
+    builder.Configuration.AddInMemoryCollection([new KeyValuePair<string, string?>("Demo:Enabled", "true")]);
+}
+
 builder.Services.AddSerilog((services, logger) => logger
     .ReadFrom.Configuration(builder.Configuration)
     .MinimumLevel.Override("Polly", LogEventLevel.Warning)
@@ -49,10 +54,7 @@ builder.Services.AddFusionIngest();
 builder.AddFusionTracking();
 builder.Services.AddFusionSecurity();
 builder.Services.AddProblemDetails();
-if (demo)
-{
-    builder.Services.AddFusionDemo();
-}
+builder.Services.AddFusionDemo();
 
 builder.Services.ConfigureHttpJsonOptions(json =>
 {

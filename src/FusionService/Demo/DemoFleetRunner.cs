@@ -22,7 +22,7 @@ public sealed partial class DemoFleetRunner(
     /// <inheritdoc />
     protected override async Task ExecuteAsync(CancellationToken stoppingToken)
     {
-        if (!await WaitForStartAsync(stoppingToken).ConfigureAwait(false))
+        if (!options.Value.Enabled || !await WaitForStartAsync(stoppingToken).ConfigureAwait(false))
         {
             return;
         }

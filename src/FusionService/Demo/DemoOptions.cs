@@ -9,6 +9,9 @@ public sealed class DemoOptions
     /// <summary>Configuration section.</summary>
     public const string Section = "Demo";
 
+    /// <summary>Whether the demo fleet runs; the <c>demo</c> command sets it. Default false.</summary>
+    public bool Enabled { get; set; }
+
     /// <summary>Fleet name the demo keys belong to.</summary>
     [Required]
     public string FleetName { get; set; } = "brackenholt-demo";
