@@ -69,21 +69,7 @@ public static class MeasurementIngest
                     throw new ArgumentException("Rows need a vehicle id and a UTC receive time.", nameof(rows));
                 }
 
-                await importer.StartRowAsync(cancellationToken).ConfigureAwait(false);
-                await importer.WriteAsync(row.FleetId, NpgsqlDbType.Uuid, cancellationToken).ConfigureAwait(false);
-                await importer.WriteAsync(row.VehicleId, NpgsqlDbType.Text, cancellationToken).ConfigureAwait(false);
-                await importer.WriteAsync(row.Kind, NpgsqlDbType.Smallint, cancellationToken).ConfigureAwait(false);
-                await importer.WriteAsync(row.TimeUs, NpgsqlDbType.Bigint, cancellationToken).ConfigureAwait(false);
-                await importer.WriteAsync(UnixMicroseconds.ToDateTimeUtc(row.TimeUs), NpgsqlDbType.TimestampTz, cancellationToken).ConfigureAwait(false);
-                await importer.WriteAsync(row.MessageKey, NpgsqlDbType.Bigint, cancellationToken).ConfigureAwait(false);
-                await importer.WriteAsync(row.ReceivedAtUtc, NpgsqlDbType.TimestampTz, cancellationToken).ConfigureAwait(false);
-                await importer.WriteAsync(row.V0, NpgsqlDbType.Double, cancellationToken).ConfigureAwait(false);
-                await CopyValues.WriteNullableAsync(importer, row.V1, cancellationToken).ConfigureAwait(false);
-                await CopyValues.WriteNullableAsync(importer, row.V2, cancellationToken).ConfigureAwait(false);
-                await importer.WriteAsync(row.Flags, NpgsqlDbType.Integer, cancellationToken).ConfigureAwait(false);
-                await importer.WriteAsync((short)row.Outcome, NpgsqlDbType.Smallint, cancellationToken).ConfigureAwait(false);
-                await CopyValues.WriteNullableAsync(importer, row.Nis, cancellationToken).ConfigureAwait(false);
-                await importer.WriteAsync(row.TrackReset, NpgsqlDbType.Boolean, cancellationToken).ConfigureAwait(false);
+                await MeasurementWriter.WriteRowAsync(importer, row, cancellationToken).ConfigureAwait(false);
             }
 
             await importer.CompleteAsync(cancellationToken).ConfigureAwait(false);

@@ -68,21 +68,7 @@ public static class MeasurementWriter
         {
             foreach (var row in rows)
             {
-                await importer.StartRowAsync(cancellationToken).ConfigureAwait(false);
-                await importer.WriteAsync(row.FleetId, NpgsqlDbType.Uuid, cancellationToken).ConfigureAwait(false);
-                await importer.WriteAsync(row.VehicleId, NpgsqlDbType.Text, cancellationToken).ConfigureAwait(false);
-                await importer.WriteAsync(row.Kind, NpgsqlDbType.Smallint, cancellationToken).ConfigureAwait(false);
-                await importer.WriteAsync(row.TimeUs, NpgsqlDbType.Bigint, cancellationToken).ConfigureAwait(false);
-                await importer.WriteAsync(UnixMicroseconds.ToDateTimeUtc(row.TimeUs), NpgsqlDbType.TimestampTz, cancellationToken).ConfigureAwait(false);
-                await importer.WriteAsync(row.MessageKey, NpgsqlDbType.Bigint, cancellationToken).ConfigureAwait(false);
-                await importer.WriteAsync(row.ReceivedAtUtc, NpgsqlDbType.TimestampTz, cancellationToken).ConfigureAwait(false);
-                await importer.WriteAsync(row.V0, NpgsqlDbType.Double, cancellationToken).ConfigureAwait(false);
-                await CopyValues.WriteNullableAsync(importer, row.V1, cancellationToken).ConfigureAwait(false);
-                await CopyValues.WriteNullableAsync(importer, row.V2, cancellationToken).ConfigureAwait(false);
-                await importer.WriteAsync(row.Flags, NpgsqlDbType.Integer, cancellationToken).ConfigureAwait(false);
-                await importer.WriteAsync((short)row.Outcome, NpgsqlDbType.Smallint, cancellationToken).ConfigureAwait(false);
-                await CopyValues.WriteNullableAsync(importer, row.Nis, cancellationToken).ConfigureAwait(false);
-                await importer.WriteAsync(row.TrackReset, NpgsqlDbType.Boolean, cancellationToken).ConfigureAwait(false);
+                await WriteRowAsync(importer, row, cancellationToken).ConfigureAwait(false);
             }
 
             return await importer.CompleteAsync(cancellationToken).ConfigureAwait(false);
@@ -90,4 +76,24 @@ public static class MeasurementWriter
     }
 
     private static string Invariant(FormattableString text) => text.ToString(CultureInfo.InvariantCulture);
+
+    /// <summary>Writes one row in the column order of the measurements table (shared with <see cref="MeasurementIngest"/>).</summary>
+    internal static async Task WriteRowAsync(NpgsqlBinaryImporter importer, MeasurementRow row, CancellationToken cancellationToken)
+    {
+        await importer.StartRowAsync(cancellationToken).ConfigureAwait(false);
+        await importer.WriteAsync(row.FleetId, NpgsqlDbType.Uuid, cancellationToken).ConfigureAwait(false);
+        await importer.WriteAsync(row.VehicleId, NpgsqlDbType.Text, cancellationToken).ConfigureAwait(false);
+        await importer.WriteAsync(row.Kind, NpgsqlDbType.Smallint, cancellationToken).ConfigureAwait(false);
+        await importer.WriteAsync(row.TimeUs, NpgsqlDbType.Bigint, cancellationToken).ConfigureAwait(false);
+        await importer.WriteAsync(UnixMicroseconds.ToDateTimeUtc(row.TimeUs), NpgsqlDbType.TimestampTz, cancellationToken).ConfigureAwait(false);
+        await importer.WriteAsync(row.MessageKey, NpgsqlDbType.Bigint, cancellationToken).ConfigureAwait(false);
+        await importer.WriteAsync(row.ReceivedAtUtc, NpgsqlDbType.TimestampTz, cancellationToken).ConfigureAwait(false);
+        await importer.WriteAsync(row.V0, NpgsqlDbType.Double, cancellationToken).ConfigureAwait(false);
+        await CopyValues.WriteNullableAsync(importer, row.V1, cancellationToken).ConfigureAwait(false);
+        await CopyValues.WriteNullableAsync(importer, row.V2, cancellationToken).ConfigureAwait(false);
+        await importer.WriteAsync(row.Flags, NpgsqlDbType.Integer, cancellationToken).ConfigureAwait(false);
+        await importer.WriteAsync((short)row.Outcome, NpgsqlDbType.Smallint, cancellationToken).ConfigureAwait(false);
+        await CopyValues.WriteNullableAsync(importer, row.Nis, cancellationToken).ConfigureAwait(false);
+        await importer.WriteAsync(row.TrackReset, NpgsqlDbType.Boolean, cancellationToken).ConfigureAwait(false);
+    }
 }

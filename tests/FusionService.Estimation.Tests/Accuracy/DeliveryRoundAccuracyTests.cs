@@ -45,9 +45,9 @@ public sealed class DeliveryRoundAccuracyTests(ITestOutputHelper output)
 
                 var truth = run.TrueStateAt(s.TimesUs[k]);
                 run.Truth.ToLocalM(fix.Value0, fix.Value1, out double fe, out double fn);
-                rawSq += Sq(fe - truth[EastM]) + Sq(fn - truth[NorthM]);
-                filteredSq += ErrorSq(run, f[k].Plane, f[k].Filtered[EastM], f[k].Filtered[NorthM], truth);
-                smoothedSq += ErrorSq(run, s.Planes[k], s.Means[k][EastM], s.Means[k][NorthM], truth);
+                rawSq += TruthError.Sq(fe - truth[EastM]) + TruthError.Sq(fn - truth[NorthM]);
+                filteredSq += TruthError.HorizontalSq(run, f[k].Plane, f[k].Filtered[EastM], f[k].Filtered[NorthM], truth);
+                smoothedSq += TruthError.HorizontalSq(run, s.Planes[k], s.Means[k][EastM], s.Means[k][NorthM], truth);
                 n++;
             }
         }
@@ -112,7 +112,7 @@ public sealed class DeliveryRoundAccuracyTests(ITestOutputHelper output)
         for (long t = from + run.Truth.SamplePeriodUs; t <= to; t += run.Truth.SamplePeriodUs)
         {
             TruthSample next = run.Truth.At(t);
-            truthM += Math.Sqrt(Sq(next.EastM - previous.EastM) + Sq(next.NorthM - previous.NorthM));
+            truthM += Math.Sqrt(TruthError.Sq(next.EastM - previous.EastM) + TruthError.Sq(next.NorthM - previous.NorthM));
             previous = next;
         }
 
@@ -140,13 +140,4 @@ public sealed class DeliveryRoundAccuracyTests(ITestOutputHelper output)
         };
         return MeasurementGenerator.Generate(truth, suite, seed: 900 + van);
     }
-
-    private static double ErrorSq(ScenarioRun run, in LocalTangentPlane plane, double east, double north, in LinearAlgebra.Vector8 truth)
-    {
-        GeodeticPoint p = plane.ToGeodetic(new EnuPoint(east, north, -((east * east) + (north * north)) / (2 * Wgs84.SemiMajorAxisM)));
-        run.Truth.ToLocalM(p.LatitudeDeg, p.LongitudeDeg, out double e, out double n);
-        return Sq(e - truth[EastM]) + Sq(n - truth[NorthM]);
-    }
-
-    private static double Sq(double x) => x * x;
 }

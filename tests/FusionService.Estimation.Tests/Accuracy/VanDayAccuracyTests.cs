@@ -53,8 +53,8 @@ public sealed class VanDayAccuracyTests(ITestOutputHelper output)
                 ScenarioRun run = RunAt(rounds, m.TimeUs);
                 var truth = run.TrueStateAt(m.TimeUs);
                 run.Truth.ToLocalM(m.Value0, m.Value1, out double fe, out double fn);
-                rawSq += Sq(fe - truth[EastM]) + Sq(fn - truth[NorthM]);
-                filteredSq += ErrorSq(run, state.Plane, state.X[EastM], state.X[NorthM], truth);
+                rawSq += TruthError.Sq(fe - truth[EastM]) + TruthError.Sq(fn - truth[NorthM]);
+                filteredSq += TruthError.HorizontalSq(run, state.Plane, state.X[EastM], state.X[NorthM], truth);
                 filteredN++;
             }
         }
@@ -75,7 +75,7 @@ public sealed class VanDayAccuracyTests(ITestOutputHelper output)
                     }
 
                     ScenarioRun run = RunAt(rounds, s.TimesUs[k]);
-                    smoothedSq += ErrorSq(run, s.Planes[k], s.Means[k][EastM], s.Means[k][NorthM], run.TrueStateAt(s.TimesUs[k]));
+                    smoothedSq += TruthError.HorizontalSq(run, s.Planes[k], s.Means[k][EastM], s.Means[k][NorthM], run.TrueStateAt(s.TimesUs[k]));
                     smoothedN++;
                 }
             }
@@ -93,13 +93,4 @@ public sealed class VanDayAccuracyTests(ITestOutputHelper output)
 
     private static ScenarioRun RunAt(List<ScenarioRun> rounds, long timeUs) =>
         rounds.First(r => timeUs >= r.Truth.StartTimeUs && timeUs <= r.Truth.EndTimeUs);
-
-    private static double ErrorSq(ScenarioRun run, in LocalTangentPlane plane, double east, double north, in LinearAlgebra.Vector8 truth)
-    {
-        GeodeticPoint p = plane.ToGeodetic(new EnuPoint(east, north, -((east * east) + (north * north)) / (2 * Wgs84.SemiMajorAxisM)));
-        run.Truth.ToLocalM(p.LatitudeDeg, p.LongitudeDeg, out double e, out double n);
-        return Sq(e - truth[EastM]) + Sq(n - truth[NorthM]);
-    }
-
-    private static double Sq(double x) => x * x;
 }
