@@ -24,7 +24,9 @@ public static class ExtendedKalmanFilter
     /// </summary>
     public static void PropagateCovariance(ref Matrix8 covariance, in Matrix8 jacobian)
     {
-        Matrix8 fp = covariance;
+        // Rows 0-3 of F P into a 4 x 8 scratch (rows 4-7 of F P are rows of P), then (F P) Fᵀ column by column in
+        // place: only columns 0-3 change, and each row's old values are read before they are overwritten.
+        Span<double> top = stackalloc double[4 * N];
         for (int i = 0; i < 4; i++)
         {
             for (int k = 0; k < N; k++)
@@ -35,18 +37,24 @@ public static class ExtendedKalmanFilter
                     sum += jacobian[(i * N) + j] * covariance[(j * N) + k];
                 }
 
-                fp[(i * N) + k] = sum;
+                top[(i * N) + k] = sum;
             }
         }
 
+        Span<double> row = stackalloc double[N];
         for (int i = 0; i < N; i++)
         {
+            for (int j = 0; j < N; j++)
+            {
+                row[j] = i < 4 ? top[(i * N) + j] : covariance[(i * N) + j];
+            }
+
             for (int k = 0; k < 4; k++)
             {
                 double sum = 0;
                 for (int j = 0; j < N; j++)
                 {
-                    sum += fp[(i * N) + j] * jacobian[(k * N) + j];
+                    sum += row[j] * jacobian[(k * N) + j];
                 }
 
                 covariance[(i * N) + k] = sum;
@@ -54,7 +62,7 @@ public static class ExtendedKalmanFilter
 
             for (int k = 4; k < N; k++)
             {
-                covariance[(i * N) + k] = fp[(i * N) + k];
+                covariance[(i * N) + k] = row[k];
             }
         }
 
