@@ -27,7 +27,7 @@ internal sealed class BenchmarkScenario
     /// <summary>The one instance (built on first use).</summary>
     public static BenchmarkScenario Instance => Shared.Value;
 
-    /// <summary>Options of every track in the benchmarks (defaults: 60 s lag window, 10 s checkpoints).</summary>
+    /// <summary>Options of every track in the benchmarks (defaults: 60 s lag window, 5 s checkpoints).</summary>
     public static TrackOptions Options { get; } = new();
 
     /// <summary>The whole stream in canonical order.</summary>

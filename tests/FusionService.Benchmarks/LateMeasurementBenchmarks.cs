@@ -7,10 +7,10 @@ using FusionService.Estimation.Tracking;
 namespace FusionService.Benchmarks;
 
 /// <summary>
-/// Cost of one late measurement through <see cref="VehicleTrack.Process"/> (lag window 60 s, checkpoints every 10 s):
+/// Cost of one late measurement through <see cref="VehicleTrack.Process"/> (lag window 60 s, checkpoints every 5 s):
 /// every iteration gets a fresh track fed 200 s of the scenario except the GNSS position fix 30 s before the newest
 /// measurement; the invocation delivers that fix, which the track inserts and replays everything after the checkpoint
-/// before it (30 to 40 s of the 22 Hz stream). The track is built in [IterationSetup], outside the measurement; one
+/// before it (30 to 35 s of the 22 Hz stream). The track is built in [IterationSetup], outside the measurement; one
 /// invocation per iteration. <see cref="ReplayedMeasurements"/> reports how many measurements one invocation re-processes.
 /// </summary>
 [MemoryDiagnoser]

@@ -60,15 +60,7 @@ public sealed class FusedStateRepository
             return [];
         }
 
-        var parameters = new
-        {
-            FleetId = fleetId,
-            VehicleId = vehicleId,
-            FromUs = fromUs,
-            ToUs = toUs,
-            FromAt = new DateTimeOffset(UnixMicroseconds.ToDateTimeUtc(fromUs)),
-            ToAt = new DateTimeOffset(UnixMicroseconds.ToDateTimeUtc(toUs)),
-        };
+        var parameters = TimeRangeParameters.For(fleetId, vehicleId, fromUs, toUs);
         return await QueryAsync(RangeSql, parameters, cancellationToken).ConfigureAwait(false);
     }
 

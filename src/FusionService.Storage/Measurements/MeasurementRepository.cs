@@ -42,16 +42,7 @@ public sealed class MeasurementRepository(NpgsqlDataSource dataSource)
             return [];
         }
 
-        // The measured_at bounds repeat the time_us bounds so the planner can skip partitions outside the range.
-        var parameters = new
-        {
-            FleetId = fleetId,
-            VehicleId = vehicleId,
-            FromUs = fromUs,
-            ToUs = toUs,
-            FromAt = new DateTimeOffset(UnixMicroseconds.ToDateTimeUtc(fromUs)),
-            ToAt = new DateTimeOffset(UnixMicroseconds.ToDateTimeUtc(toUs)),
-        };
+        var parameters = TimeRangeParameters.For(fleetId, vehicleId, fromUs, toUs);
         var connection = await _dataSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
         await using (connection.ConfigureAwait(false))
         {
