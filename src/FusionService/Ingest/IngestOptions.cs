@@ -44,6 +44,16 @@ public sealed class IngestOptions
     [Range(1, 10_000_000)]
     public int MaxRowsPerCommit { get; set; } = 50_000;
 
+    /// <summary>
+    /// When a request is answered: <see cref="AcknowledgeAfter.Commit"/> (default) or
+    /// <see cref="AcknowledgeAfter.Tracking"/> (read-your-writes for the vehicle state).
+    /// </summary>
+    public AcknowledgeAfter AcknowledgeAfter { get; set; } = AcknowledgeAfter.Commit;
+
+    /// <summary>Committed batches whose track processing may be in flight before new requests wait for it. Default 512.</summary>
+    [Range(1, 1_000_000)]
+    public int MaxBatchesInTracking { get; set; } = 512;
+
     /// <summary>Retry-After of a 503, seconds. Default 2.</summary>
     [Range(1, 3600)]
     public int RetryAfterS { get; set; } = 2;

@@ -13,16 +13,16 @@ namespace FusionService.Ingest;
 /// <summary>
 /// The ingest path shared by HTTP and WebSocket: validates each message on its own, commits the valid ones through
 /// the <see cref="GroupCommitWriter"/>, answers accepted / duplicate / rejected per message, and hands the newly
-/// stored measurements to their vehicles' track grains.
+/// stored measurements to their vehicles' track grains through the <see cref="TrackDispatcher"/> (answering after the
+/// commit or after the tracks too, by <see cref="IngestOptions.AcknowledgeAfter"/>).
 /// </summary>
 public sealed class IngestPipeline(
     GroupCommitWriter writer,
-    IGrainFactory grains,
+    TrackDispatcher tracks,
     IOptions<IngestOptions> options,
     IOptions<DatabaseOptions> database,
     ServiceMetrics metrics,
-    TimeProvider time,
-    ILogger<IngestPipeline> logger)
+    TimeProvider time)
 {
     /// <summary>A parser with the accepted time window as of now.</summary>
     public TelemetryMessageParser CreateParser()
@@ -101,7 +101,12 @@ public sealed class IngestPipeline(
         }
 
         metrics.CountMessages(accepted, duplicate, rejected);
-        await DispatchAsync(fleetId, fresh).ConfigureAwait(false);
+        var processed = await tracks.DispatchAsync(fleetId, fresh).ConfigureAwait(false);
+        if (options.Value.AcknowledgeAfter == AcknowledgeAfter.Tracking)
+        {
+            await processed.ConfigureAwait(false);
+        }
+
         return new IngestResponse(accepted, duplicate, rejected, results!);
     }
 
@@ -120,22 +125,4 @@ public sealed class IngestPipeline(
         StoredOutcome.Pending,
         null,
         false);
-
-    private async Task DispatchAsync(Guid fleetId, Dictionary<string, List<TrackMeasurement>> fresh)
-    {
-        // The measurements are committed: a failed hand-over is logged, and the grain picks them up from the
-        // store when it is next activated.
-        var calls = fresh.Select(async pair =>
-        {
-            try
-            {
-                await grains.GetGrain<IVehicleTrackGrain>(GrainKeys.Of(fleetId, pair.Key)).ProcessAsync([.. pair.Value]).ConfigureAwait(false);
-            }
-            catch (Exception ex) when (ex is not OperationCanceledException)
-            {
-                logger.LogError(ex, "Track of vehicle {Vehicle} failed to process {Count} stored measurements", pair.Key, pair.Value.Count);
-            }
-        });
-        await Task.WhenAll(calls).ConfigureAwait(false);
-    }
 }

@@ -1,4 +1,7 @@
 // Health, metrics and API documentation endpoints.
+using System.Security.Cryptography;
+using System.Text;
+using Microsoft.Extensions.Options;
 using Microsoft.Extensions.Diagnostics.HealthChecks;
 using Microsoft.AspNetCore.Http.HttpResults;
 
@@ -26,8 +29,9 @@ public static class OperationsEndpoints
         app.MapGet("/metrics", GetMetrics)
             .WithName("Metrics")
             .WithSummary("Prometheus metrics")
-            .WithDescription("Ingested messages by verdict, gated measurements, write-queue depth and group-commit latency, "
-                + "in the Prometheus text exposition format 0.0.4.")
+            .WithDescription("Ingested messages by verdict, gated measurements, write-queue depth, group-commit latency and "
+                + "fused-state lag, in the Prometheus text exposition format 0.0.4. Service-wide counts only (no fleet, vehicle or "
+                + "position). When Operations:MetricsToken is set, send it as 'Authorization: Bearer <token>'.")
             .WithTags("Operations");
         app.MapOpenApi("/openapi/{documentName}.json");
         return app;
@@ -52,6 +56,23 @@ public static class OperationsEndpoints
     }
 
     /// <summary>Handles <c>GET /metrics</c>.</summary>
-    internal static ContentHttpResult GetMetrics(ServiceMetrics metrics) =>
-        TypedResults.Text(metrics.Render(), "text/plain; version=0.0.4; charset=utf-8");
+    internal static Results<ContentHttpResult, ProblemHttpResult> GetMetrics(HttpContext http, ServiceMetrics metrics, IOptions<OperationsOptions> options)
+    {
+        string token = options.Value.MetricsToken;
+        if (token.Length > 0)
+        {
+            string header = http.Request.Headers.Authorization.ToString();
+            bool ok = header.StartsWith("Bearer ", StringComparison.Ordinal)
+                && CryptographicOperations.FixedTimeEquals(Encoding.UTF8.GetBytes(header[7..].Trim()), Encoding.UTF8.GetBytes(token));
+            if (!ok)
+            {
+                return TypedResults.Problem(
+                    title: "Unauthorized",
+                    detail: "header Authorization: send 'Authorization: Bearer <Operations:MetricsToken>'",
+                    statusCode: StatusCodes.Status401Unauthorized);
+            }
+        }
+
+        return TypedResults.Text(metrics.Render(), "text/plain; version=0.0.4; charset=utf-8");
+    }
 }

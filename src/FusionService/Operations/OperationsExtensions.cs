@@ -9,6 +9,7 @@ public static class OperationsExtensions
     /// <summary>Adds <see cref="ServiceMetrics"/>, <see cref="SiloStatus"/>, health checks and the OpenAPI document.</summary>
     public static IServiceCollection AddFusionOperations(this IServiceCollection services)
     {
+        services.AddOptions<OperationsOptions>().BindConfiguration(OperationsOptions.Section);
         services.AddSingleton<ServiceMetrics>();
         services.AddSingleton<SiloStatus>();
         services.AddSingleton<ILifecycleParticipant<ISiloLifecycle>>(sp => sp.GetRequiredService<SiloStatus>());

@@ -20,9 +20,15 @@ public sealed class ServiceMetrics
     private long _commits;
     private long _committedRows;
     private double _latencySumS;
+    private readonly long[] _lagBucketCounts = new long[LatencyBucketsS.Length];
+    private long _lagCount;
+    private double _lagSumS;
 
     /// <summary>Reads the current depth of the ingest write queue (set by the writer).</summary>
     public Func<int> QueueDepth { get; set; } = () => 0;
+
+    /// <summary>Reads the number of committed batches the track grains are still processing (set by the dispatcher).</summary>
+    public Func<int> TracksInFlight { get; set; } = () => 0;
 
     /// <summary>Counts the verdicts of one request.</summary>
     public void CountMessages(int accepted, int duplicate, int rejected)
@@ -53,6 +59,23 @@ public sealed class ServiceMetrics
         }
     }
 
+    /// <summary>Records the fused-state lag of one committed batch: commit to processed by its track grains.</summary>
+    public void ObserveTrackLag(double seconds)
+    {
+        lock (_latencyLock)
+        {
+            _lagCount++;
+            _lagSumS += seconds;
+            for (int i = 0; i < LatencyBucketsS.Length; i++)
+            {
+                if (seconds <= LatencyBucketsS[i])
+                {
+                    _lagBucketCounts[i]++;
+                }
+            }
+        }
+    }
+
     /// <summary>The metrics in Prometheus text format.</summary>
     public string Render()
     {
@@ -69,6 +92,9 @@ public sealed class ServiceMetrics
         text.Append("# HELP fusion_write_queue_depth Requests waiting for the group-commit writer.\n");
         text.Append("# TYPE fusion_write_queue_depth gauge\n");
         text.Append(c, $"fusion_write_queue_depth {QueueDepth()}\n");
+        text.Append("# HELP fusion_track_batches_in_flight Committed batches the track grains are still processing.\n");
+        text.Append("# TYPE fusion_track_batches_in_flight gauge\n");
+        text.Append(c, $"fusion_track_batches_in_flight {TracksInFlight()}\n");
         lock (_latencyLock)
         {
             text.Append("# HELP fusion_commit_rows_total Rows stored by group commits.\n");
@@ -84,6 +110,16 @@ public sealed class ServiceMetrics
             text.Append(c, $"fusion_commit_latency_seconds_bucket{{le=\"+Inf\"}} {_commits}\n");
             text.Append(c, $"fusion_commit_latency_seconds_sum {_latencySumS.ToString("R", c)}\n");
             text.Append(c, $"fusion_commit_latency_seconds_count {_commits}\n");
+            text.Append("# HELP fusion_track_lag_seconds Fused-state lag: from the commit of a batch until its track grains have processed it.\n");
+            text.Append("# TYPE fusion_track_lag_seconds histogram\n");
+            for (int i = 0; i < LatencyBucketsS.Length; i++)
+            {
+                text.Append(c, $"fusion_track_lag_seconds_bucket{{le=\"{LatencyBucketsS[i].ToString("R", c)}\"}} {_lagBucketCounts[i]}\n");
+            }
+
+            text.Append(c, $"fusion_track_lag_seconds_bucket{{le=\"+Inf\"}} {_lagCount}\n");
+            text.Append(c, $"fusion_track_lag_seconds_sum {_lagSumS.ToString("R", c)}\n");
+            text.Append(c, $"fusion_track_lag_seconds_count {_lagCount}\n");
         }
 
         return text.ToString();

@@ -22,8 +22,12 @@ public static class TrackingExtensions
         builder.Services.AddSingleton(TimeProvider.System);
         builder.Services.AddSingleton<TrackWriteQueue>();
         builder.Services.AddSingleton<TrackStoreGate>();
+        builder.Services.AddSingleton<TrackDispatcher>();
         builder.Services.AddHostedService(sp => sp.GetRequiredService<TrackWriteQueue>());
         builder.UseOrleans(silo => silo.UseLocalhostClustering());
+
+        // After the silo: hosted services stop in reverse order, so deliveries in flight finish before the silo stops.
+        builder.Services.AddHostedService(sp => sp.GetRequiredService<TrackDispatcher>());
         builder.Services.AddOptions<EndpointOptions>().PostConfigure<IConfiguration>((endpoints, configuration) =>
         {
             endpoints.SiloPort = configuration.GetValue("Orleans:SiloPort", 11111);

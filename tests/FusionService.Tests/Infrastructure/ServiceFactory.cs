@@ -25,6 +25,10 @@ public sealed class ServiceFactory(string connectionString, IReadOnlyDictionary<
             ["Ingest:MaxMessages"] = MaxMessages.ToString(CultureInfo.InvariantCulture),
             ["Ingest:MaxBodyBytes"] = MaxBodyBytes.ToString(CultureInfo.InvariantCulture),
             ["Ingest:MaxFutureSkewS"] = "60",
+
+            // Read-your-writes, so that a test can read the state right after posting; AcknowledgeAfterCommitTests
+            // covers the default.
+            ["Ingest:AcknowledgeAfter"] = "Tracking",
             ["Security:RateLimitPermits"] = "100000",
             ["Security:KeyCacheSeconds"] = "0",
             ["Serilog:MinimumLevel:Default"] = "Warning",

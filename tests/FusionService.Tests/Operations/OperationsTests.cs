@@ -41,6 +41,22 @@ public sealed class OperationsTests(ServiceFixture fixture)
     }
 
     [Fact]
+    public async Task Metrics_token_when_configured_is_required()
+    {
+        await using var host = new ServiceFactory(fixture.ConnectionString, new Dictionary<string, string?> { ["Operations:MetricsToken"] = "scrape-secret" });
+        using var anonymous = fixture.Client(null, host);
+        using var refused = await anonymous.GetAsync("/metrics");
+        Assert.Equal(HttpStatusCode.Unauthorized, refused.StatusCode);
+        Assert.Contains("Operations:MetricsToken", await refused.Content.ReadAsStringAsync(), StringComparison.Ordinal);
+        using var wrong = fixture.Client("scrape-secreT", host);
+        Assert.Equal(HttpStatusCode.Unauthorized, (await wrong.GetAsync("/metrics")).StatusCode);
+        using var scraper = fixture.Client("scrape-secret", host);
+        string text = await scraper.GetStringAsync("/metrics");
+        Assert.Contains("# TYPE fusion_track_lag_seconds histogram", text, StringComparison.Ordinal);
+        Assert.Equal(HttpStatusCode.OK, (await anonymous.GetAsync("/health/live")).StatusCode);
+    }
+
+    [Fact]
     public async Task A_gnss_outlier_is_stored_as_gated_and_counted()
     {
         var fleet = await fixture.NewFleetAsync();

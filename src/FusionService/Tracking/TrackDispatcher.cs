@@ -1,0 +1,110 @@
+// Hands committed measurements to the vehicle track grains, off the acknowledgement path.
+using System.Collections.Concurrent;
+using System.Diagnostics;
+using FusionService.Ingest;
+using FusionService.Operations;
+using Microsoft.Extensions.Options;
+
+namespace FusionService.Tracking;
+
+/// <summary>
+/// Delivers committed measurements to their vehicles' track grains. The measurements are already durable when they
+/// arrive here, so a failed delivery loses nothing: the grain re-reads the store when it is next activated. At most
+/// <see cref="IngestOptions.MaxBatchesInTracking"/> deliveries run at once; beyond that, <see cref="DispatchAsync"/>
+/// waits for a slot, which slows ingest down instead of buffering without bound. Each delivery's fused-state lag
+/// (commit to processed by the grain) goes to <see cref="ServiceMetrics.ObserveTrackLag"/>. Registered as a hosted
+/// service after the Orleans silo, so that at shutdown it stops first and lets the deliveries in flight finish.
+/// </summary>
+public sealed class TrackDispatcher : IHostedService, IAsyncDisposable
+{
+    private readonly IGrainFactory _grains;
+    private readonly ServiceMetrics _metrics;
+    private readonly ILogger<TrackDispatcher> _logger;
+    private readonly SemaphoreSlim _slots;
+    private readonly ConcurrentDictionary<Task, bool> _inFlight = new();
+
+    /// <summary>Creates the dispatcher.</summary>
+    public TrackDispatcher(IGrainFactory grains, ServiceMetrics metrics, IOptions<IngestOptions> options, ILogger<TrackDispatcher> logger)
+    {
+        ArgumentNullException.ThrowIfNull(options);
+        _grains = grains;
+        _metrics = metrics;
+        _logger = logger;
+        _slots = new SemaphoreSlim(options.Value.MaxBatchesInTracking, options.Value.MaxBatchesInTracking);
+        metrics.TracksInFlight = () => _inFlight.Count;
+    }
+
+    /// <summary>
+    /// Starts delivering <paramref name="fresh"/> (newly committed measurements by vehicle id) to the grains of
+    /// <paramref name="fleetId"/>. The returned outer task completes once the delivery has a slot; the inner task
+    /// when every grain has processed its measurements (it never faults: failures are logged).
+    /// </summary>
+    public async Task<Task> DispatchAsync(Guid fleetId, IReadOnlyDictionary<string, List<TrackMeasurement>> fresh)
+    {
+        ArgumentNullException.ThrowIfNull(fresh);
+        if (fresh.Count == 0)
+        {
+            return Task.CompletedTask;
+        }
+
+        long committedAt = Stopwatch.GetTimestamp();
+        await _slots.WaitAsync().ConfigureAwait(false);
+        var delivery = DeliverAsync(fleetId, fresh, committedAt);
+        _inFlight.TryAdd(delivery, true);
+        _ = delivery.ContinueWith(
+            (done, state) =>
+            {
+                var self = (TrackDispatcher)state!;
+                self._inFlight.TryRemove(done, out _);
+                self._slots.Release();
+            },
+            this,
+            CancellationToken.None,
+            TaskContinuationOptions.ExecuteSynchronously,
+            TaskScheduler.Default);
+        return delivery;
+    }
+
+    /// <summary>Completes when every delivery started before the call has finished (tests, shutdown).</summary>
+    public Task WhenIdleAsync() => Task.WhenAll(_inFlight.Keys);
+
+    /// <inheritdoc />
+    public Task StartAsync(CancellationToken cancellationToken) => Task.CompletedTask;
+
+    /// <summary>Lets the deliveries in flight finish before the silo stops (until <paramref name="cancellationToken"/> fires).</summary>
+    public Task StopAsync(CancellationToken cancellationToken) =>
+        WhenIdleAsync().WaitAsync(cancellationToken).ContinueWith(_ => { }, CancellationToken.None, TaskContinuationOptions.ExecuteSynchronously, TaskScheduler.Default);
+
+    /// <summary>Waits up to 30 s for deliveries in flight.</summary>
+    public async ValueTask DisposeAsync()
+    {
+        await WhenIdleAsync().WaitAsync(TimeSpan.FromSeconds(30)).ConfigureAwait(ConfigureAwaitOptions.SuppressThrowing);
+        _slots.Dispose();
+    }
+
+    private async Task DeliverAsync(Guid fleetId, IReadOnlyDictionary<string, List<TrackMeasurement>> fresh, long committedAt)
+    {
+        await Task.Yield();
+        var calls = new List<Task>(fresh.Count);
+        foreach (var (vehicleId, measurements) in fresh)
+        {
+            calls.Add(DeliverOneAsync(fleetId, vehicleId, measurements));
+        }
+
+        await Task.WhenAll(calls).ConfigureAwait(false);
+        _metrics.ObserveTrackLag(Stopwatch.GetElapsedTime(committedAt).TotalSeconds);
+    }
+
+    private async Task DeliverOneAsync(Guid fleetId, string vehicleId, List<TrackMeasurement> measurements)
+    {
+        try
+        {
+            await _grains.GetGrain<IVehicleTrackGrain>(GrainKeys.Of(fleetId, vehicleId)).ProcessAsync([.. measurements]).ConfigureAwait(false);
+        }
+        catch (Exception ex)
+        {
+            // Committed already: the grain rebuilds from the store at its next activation.
+            _logger.LogError(ex, "Track of vehicle {Vehicle} failed to process {Count} stored measurements", vehicleId, measurements.Count);
+        }
+    }
+}
