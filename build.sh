@@ -82,13 +82,18 @@ case "${1:-test}" in
     shift
     run_service "$@"
     ;;
+  keys|load)
+    # The same data directory as run/serve, so that these commands find the running service's embedded cluster.
+    export Database__DataDirectory="${Database__DataDirectory:-$root/data/pg}"
+    dotnet run -c Release --project src/FusionService -- "$@"
+    ;;
   bench)
     ensure_prerequisites
     shift || true
     dotnet run -c Release --project tests/FusionService.Benchmarks -- "$@"
     ;;
   *)
-    echo "usage: ./build.sh [test|run|serve|bench [BenchmarkDotNet args]]" >&2
+    echo "usage: ./build.sh [test|run|serve|keys create ...|load ...|bench [BenchmarkDotNet args]]" >&2
     exit 2
     ;;
 esac

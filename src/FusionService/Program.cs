@@ -29,7 +29,12 @@ if (LoadCommand.Matches(args))
         e.Cancel = true;
         cancel.Cancel();
     };
-    return await LoadCommand.RunAsync(args, Console.Out, Console.Error, cancel.Token).ConfigureAwait(false);
+    var configuration = new ConfigurationBuilder()
+        .SetBasePath(AppContext.BaseDirectory)
+        .AddJsonFile("appsettings.json", optional: true)
+        .AddEnvironmentVariables()
+        .Build();
+    return await LoadCommand.RunAsync(args, configuration, Console.Out, Console.Error, cancel.Token).ConfigureAwait(false);
 }
 
 bool demo = DemoExtensions.Matches(args);

@@ -109,13 +109,14 @@ public sealed class LoadGenerator
     {
         int next = -1;
         long accepted = 0, messages = 0, rejected = 0;
-        var latencies = new List<double>(_options.TotalBatches);
+        var latencies = new List<double>(_options.Duration is null ? _options.TotalBatches : 1024);
         var gate = new Lock();
         var clock = Stopwatch.StartNew();
         async Task WorkerAsync()
         {
             int b;
-            while ((b = Interlocked.Increment(ref next)) < _options.TotalBatches)
+            while ((b = Interlocked.Increment(ref next)) >= 0
+                && (_options.Duration is { } duration ? clock.Elapsed < duration : b < _options.TotalBatches))
             {
                 byte[] body = TelemetryJson.ToNdjson(SyntheticBatch(_options, b));
                 using var request = new HttpRequestMessage(HttpMethod.Post, _options.Endpoint) { Content = new ByteArrayContent(body) };

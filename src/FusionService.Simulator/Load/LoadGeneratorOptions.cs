@@ -25,6 +25,9 @@ public sealed record LoadGeneratorOptions
     /// <summary>Time of the first synthetic sample, Unix microseconds. Default 2026-12-02T08:00:00Z.</summary>
     public long StartTimeUs { get; init; } = Fleet.DemoFleetOptions.DefaultStartTimeUs;
 
+    /// <summary>When set, batches are posted until this much time has passed and <see cref="TotalBatches"/> is ignored.</summary>
+    public TimeSpan? Duration { get; init; }
+
     /// <summary>Prefix of the synthetic vehicle ids ("load-000001"). Default "load-".</summary>
     public string VehiclePrefix { get; init; } = "load-";
 
@@ -41,6 +44,11 @@ public sealed record LoadGeneratorOptions
         ArgumentOutOfRangeException.ThrowIfLessThan(BatchSize, 1);
         ArgumentOutOfRangeException.ThrowIfLessThan(TotalBatches, 1);
         ArgumentOutOfRangeException.ThrowIfLessThan(Concurrency, 1);
+        if (Duration is { } duration && duration <= TimeSpan.Zero)
+        {
+            throw new ArgumentException($"Duration must be positive, was {duration}.", nameof(Duration));
+        }
+
         ArgumentNullException.ThrowIfNull(VehiclePrefix);
     }
 }

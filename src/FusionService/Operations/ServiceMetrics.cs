@@ -11,6 +11,7 @@ namespace FusionService.Operations;
 public sealed class ServiceMetrics
 {
     private static readonly double[] LatencyBucketsS = [0.001, 0.0025, 0.005, 0.01, 0.025, 0.05, 0.1, 0.25, 0.5, 1, 2.5];
+    private static readonly double[] LagBucketsS = [0.001, 0.0025, 0.005, 0.01, 0.025, 0.05, 0.1, 0.25, 0.5, 1, 2.5, 5, 10, 30, 60];
     private readonly long[] _bucketCounts = new long[LatencyBucketsS.Length];
     private readonly Lock _latencyLock = new();
     private long _accepted;
@@ -20,7 +21,7 @@ public sealed class ServiceMetrics
     private long _commits;
     private long _committedRows;
     private double _latencySumS;
-    private readonly long[] _lagBucketCounts = new long[LatencyBucketsS.Length];
+    private readonly long[] _lagBucketCounts = new long[LagBucketsS.Length];
     private long _lagCount;
     private double _lagSumS;
 
@@ -66,9 +67,9 @@ public sealed class ServiceMetrics
         {
             _lagCount++;
             _lagSumS += seconds;
-            for (int i = 0; i < LatencyBucketsS.Length; i++)
+            for (int i = 0; i < LagBucketsS.Length; i++)
             {
-                if (seconds <= LatencyBucketsS[i])
+                if (seconds <= LagBucketsS[i])
                 {
                     _lagBucketCounts[i]++;
                 }
@@ -112,9 +113,9 @@ public sealed class ServiceMetrics
             text.Append(c, $"fusion_commit_latency_seconds_count {_commits}\n");
             text.Append("# HELP fusion_track_lag_seconds Fused-state lag: from the commit of a batch until its track grains have processed it.\n");
             text.Append("# TYPE fusion_track_lag_seconds histogram\n");
-            for (int i = 0; i < LatencyBucketsS.Length; i++)
+            for (int i = 0; i < LagBucketsS.Length; i++)
             {
-                text.Append(c, $"fusion_track_lag_seconds_bucket{{le=\"{LatencyBucketsS[i].ToString("R", c)}\"}} {_lagBucketCounts[i]}\n");
+                text.Append(c, $"fusion_track_lag_seconds_bucket{{le=\"{LagBucketsS[i].ToString("R", c)}\"}} {_lagBucketCounts[i]}\n");
             }
 
             text.Append(c, $"fusion_track_lag_seconds_bucket{{le=\"+Inf\"}} {_lagCount}\n");
