@@ -7,10 +7,13 @@ using NpgsqlTypes;
 namespace FusionService.Storage.Measurements;
 
 /// <summary>
-/// Stores measurements that may already be stored (client retries) and says which rows were new: the rows are
-/// copied with binary COPY into a temporary staging table, the vehicles they name are created when missing, and
-/// <c>INSERT INTO measurements SELECT ... ON CONFLICT DO NOTHING RETURNING</c> moves the new ones over. Because the
-/// primary key decides, duplicate detection survives restarts of the service.
+/// Stores measurements that may already be stored (client retries) and says which rows were new. Optimistic path
+/// first: the rows (made unique in memory) go straight into <c>measurements</c> with binary COPY inside a savepoint,
+/// which is the fastest bulk path and succeeds whenever no row is stored yet, the common case. When the primary key
+/// refuses a row (SQLSTATE 23505), the savepoint is rolled back and the careful path runs: binary COPY into a
+/// temporary staging table and <c>INSERT INTO measurements SELECT ... ON CONFLICT DO NOTHING RETURNING</c>. The
+/// vehicles the rows name are created when missing. Because the primary key decides, duplicate detection survives
+/// restarts of the service.
 /// </summary>
 public static class MeasurementIngest
 {
@@ -24,6 +27,11 @@ public static class MeasurementIngest
     private const string InsertVehicles =
         "INSERT INTO vehicles (fleet_id, vehicle_id) SELECT DISTINCT fleet_id, vehicle_id FROM ingest_staging "
         + "ON CONFLICT DO NOTHING";
+
+    private const string InsertVehiclesFromArrays =
+        "INSERT INTO vehicles (fleet_id, vehicle_id) SELECT * FROM unnest($1::uuid[], $2::text[]) ON CONFLICT DO NOTHING";
+
+    private const string UniqueViolation = "23505";
 
     private const string InsertNew =
         "INSERT INTO measurements SELECT * FROM ingest_staging ON CONFLICT DO NOTHING "
@@ -54,6 +62,34 @@ public static class MeasurementIngest
             return inserted;
         }
 
+        var unique = new List<MeasurementRow>(rows.Count);
+        foreach (var row in rows)
+        {
+            if (row.ReceivedAtUtc.Kind != DateTimeKind.Utc || string.IsNullOrEmpty(row.VehicleId))
+            {
+                throw new ArgumentException("Rows need a vehicle id and a UTC receive time.", nameof(rows));
+            }
+
+            if (inserted.Add(MeasurementKey.Of(row)))
+            {
+                unique.Add(row);
+            }
+        }
+
+        await transaction.SaveAsync("optimistic_copy", cancellationToken).ConfigureAwait(false);
+        try
+        {
+            await InsertVehiclesAsync(connection, transaction, unique, cancellationToken).ConfigureAwait(false);
+            await MeasurementWriter.WriteAsync(connection, transaction, unique, cancellationToken).ConfigureAwait(false);
+            await transaction.ReleaseAsync("optimistic_copy", cancellationToken).ConfigureAwait(false);
+            return inserted;
+        }
+        catch (PostgresException ex) when (ex.SqlState == UniqueViolation)
+        {
+            await transaction.RollbackAsync("optimistic_copy", cancellationToken).ConfigureAwait(false);
+            inserted.Clear();
+        }
+
         await using (var create = new NpgsqlCommand(CreateStaging, connection, transaction))
         {
             await create.ExecuteNonQueryAsync(cancellationToken).ConfigureAwait(false);
@@ -62,13 +98,8 @@ public static class MeasurementIngest
         var importer = await connection.BeginBinaryImportAsync(Copy, cancellationToken).ConfigureAwait(false);
         await using (importer.ConfigureAwait(false))
         {
-            foreach (var row in rows)
+            foreach (var row in unique)
             {
-                if (row.ReceivedAtUtc.Kind != DateTimeKind.Utc || string.IsNullOrEmpty(row.VehicleId))
-                {
-                    throw new ArgumentException("Rows need a vehicle id and a UTC receive time.", nameof(rows));
-                }
-
                 await MeasurementWriter.WriteRowAsync(importer, row, cancellationToken).ConfigureAwait(false);
             }
 
@@ -94,5 +125,20 @@ public static class MeasurementIngest
         }
 
         return inserted;
+    }
+
+    private static async Task InsertVehiclesAsync(
+        NpgsqlConnection connection, NpgsqlTransaction transaction, List<MeasurementRow> rows, CancellationToken cancellationToken)
+    {
+        var vehicles = new HashSet<(Guid FleetId, string VehicleId)>();
+        foreach (var row in rows)
+        {
+            vehicles.Add((row.FleetId, row.VehicleId));
+        }
+
+        await using var insert = new NpgsqlCommand(InsertVehiclesFromArrays, connection, transaction);
+        insert.Parameters.Add(new NpgsqlParameter { Value = vehicles.Select(v => v.FleetId).ToArray(), NpgsqlDbType = NpgsqlDbType.Array | NpgsqlDbType.Uuid });
+        insert.Parameters.Add(new NpgsqlParameter { Value = vehicles.Select(v => v.VehicleId).ToArray(), NpgsqlDbType = NpgsqlDbType.Array | NpgsqlDbType.Text });
+        await insert.ExecuteNonQueryAsync(cancellationToken).ConfigureAwait(false);
     }
 }

@@ -42,7 +42,8 @@ public sealed class MeasurementIngestTests(PostgresFixture server)
         long t = TestTimes.At(TestTimes.Day, 9, 0, 0, 0);
         var first = await InsertAsync(schema, [Row(fleet, "van-1", t, 1), Row(fleet, "van-1", t, 2), Row(fleet, "van-2", t, 1)]);
         Assert.Equal(3, first.Count);
-        // A retry of one stored row beside a new one, and the same new row twice in one call.
+        // A retry of one stored row beside a new one, and the same new row twice in one call: the optimistic COPY
+        // (first call) succeeds, the second call falls back to the staging path.
         var second = await InsertAsync(schema, [Row(fleet, "van-1", t, 2), Row(fleet, "van-1", t + 1, 3), Row(fleet, "van-1", t + 1, 3)]);
         Assert.Equal([new MeasurementKey(fleet, "van-1", 2, t + 1, 3)], second);
         Assert.Equal(4L, await schema.ScalarAsync<long>("SELECT count(*) FROM measurements"));
