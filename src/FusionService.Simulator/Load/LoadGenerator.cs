@@ -25,6 +25,8 @@ public sealed class LoadGenerator
 
     private readonly HttpClient _http;
     private readonly LoadGeneratorOptions _options;
+    private long _messagesAccepted;
+    private long _batchesRefused;
 
     /// <summary>Creates a generator.</summary>
     /// <param name="httpClient">Client (not disposed by the generator).</param>
@@ -37,6 +39,12 @@ public sealed class LoadGenerator
         _http = httpClient;
         _options = options;
     }
+
+    /// <summary>Messages accepted so far in the current run (for progress output while it runs).</summary>
+    public long MessagesAccepted => Interlocked.Read(ref _messagesAccepted);
+
+    /// <summary>Batches refused so far in the current run.</summary>
+    public long BatchesRefused => Interlocked.Read(ref _batchesRefused);
 
     /// <summary>The synthetic messages of batch <paramref name="batchNumber"/> (0-based).</summary>
     /// <param name="options">Settings.</param>
@@ -108,7 +116,7 @@ public sealed class LoadGenerator
     public async Task<LoadReport> RunAsync(CancellationToken cancellationToken = default)
     {
         int next = -1;
-        long accepted = 0, messages = 0, rejected = 0;
+        long accepted = 0, rejected = 0;
         var latencies = new List<double>(_options.Duration is null ? _options.TotalBatches : 1024);
         var gate = new Lock();
         var clock = Stopwatch.StartNew();
@@ -142,7 +150,7 @@ public sealed class LoadGenerator
                 if (ok)
                 {
                     Interlocked.Increment(ref accepted);
-                    Interlocked.Add(ref messages, _options.BatchSize);
+                    Interlocked.Add(ref _messagesAccepted, _options.BatchSize);
                     lock (gate)
                     {
                         latencies.Add(ms);
@@ -151,6 +159,7 @@ public sealed class LoadGenerator
                 else
                 {
                     Interlocked.Increment(ref rejected);
+                    Interlocked.Increment(ref _batchesRefused);
                 }
             }
         }
@@ -161,10 +170,10 @@ public sealed class LoadGenerator
         double seconds = clock.Elapsed.TotalSeconds;
         return new LoadReport(
             accepted,
-            messages,
+            Interlocked.Read(ref _messagesAccepted),
             rejected,
             clock.Elapsed,
-            seconds > 0 ? messages / seconds : 0.0,
+            seconds > 0 ? Interlocked.Read(ref _messagesAccepted) / seconds : 0.0,
             NearestRankPercentile(latencies, 50),
             NearestRankPercentile(latencies, 99));
     }

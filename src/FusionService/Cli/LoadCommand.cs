@@ -81,7 +81,16 @@ public static class LoadCommand
             : string.Create(CultureInfo.InvariantCulture, $"{options.TotalBatches:N0} batches");
         await output.WriteLineAsync(string.Create(CultureInfo.InvariantCulture,
             $"posting {amount} of {options.BatchSize} messages per batch for {options.VehicleCount:N0} vehicles, {options.Concurrency} at a time, to {options.Endpoint}")).ConfigureAwait(false);
-        LoadReport report = await new LoadGenerator(http, options).RunAsync(cancellationToken).ConfigureAwait(false);
+        var generator = new LoadGenerator(http, options);
+        var run = generator.RunAsync(cancellationToken);
+        var started = System.Diagnostics.Stopwatch.StartNew();
+        while (await Task.WhenAny(run, Task.Delay(5000, cancellationToken)).ConfigureAwait(false) != run)
+        {
+            await output.WriteLineAsync(string.Create(CultureInfo.InvariantCulture,
+                $"  {started.Elapsed.TotalSeconds,5:F0} s: {generator.MessagesAccepted:N0} messages accepted ({generator.MessagesAccepted / started.Elapsed.TotalSeconds:N0}/s), {generator.BatchesRefused:N0} batches refused")).ConfigureAwait(false);
+        }
+
+        LoadReport report = await run.ConfigureAwait(false);
         await output.WriteLineAsync(report.ToSummaryLine()).ConfigureAwait(false);
 
         // Wait for the tracks to finish the backlog, then read the fused-state lag the service observed during the run.
