@@ -3,6 +3,7 @@ using System.Text.Json;
 using FusionService.Cli;
 using FusionService.Database;
 using FusionService.Demo;
+using FusionService.History;
 using FusionService.Ingest;
 using FusionService.Operations;
 using FusionService.Security;
@@ -60,6 +61,7 @@ builder.AddFusionTracking();
 builder.Services.AddFusionSecurity();
 builder.Services.AddProblemDetails();
 builder.Services.AddFusionDemo();
+builder.Services.AddFusionHistory();
 
 builder.Services.ConfigureHttpJsonOptions(json =>
 {
@@ -78,6 +80,7 @@ app.UseSwaggerUI(ui => ui.SwaggerEndpoint("/openapi/v1.json", "FusionService API
 app.MapOperationsEndpoints();
 app.MapTelemetryEndpoints();
 app.MapVehicleEndpoints();
+app.MapHistoryEndpoints();
 await app.RunAsync().ConfigureAwait(false);
 return 0;
 

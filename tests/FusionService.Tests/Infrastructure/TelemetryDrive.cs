@@ -30,6 +30,12 @@ internal sealed class TelemetryDrive
             new RouteDriverOptions { StartTimeUs = startUs },
             seed);
         var run = MeasurementGenerator.Generate(truth, SensorSuite.ForProfile(NoiseProfile.DeliveryVan), seed);
+        return FromRun(vehicle, run);
+    }
+
+    /// <summary>The messages of a generated scenario run (GNSS velocity merged into the fix at the same instant).</summary>
+    public static TelemetryDrive FromRun(string vehicle, ScenarioRun run)
+    {
         var list = new List<(JsonObject, Measurement[])>();
         var all = run.Measurements;
         for (int i = 0; i < all.Count; i++)

@@ -1,0 +1,94 @@
+using FusionService.Estimation.Geodesy;
+using FusionService.Estimation.LinearAlgebra;
+
+namespace FusionService.Estimation.Smoothing;
+
+/// <summary>
+/// One forward segment of the filter as <see cref="CompactingStepRecorder"/> keeps it: only the recorded instants, each
+/// linked to the next by one equivalent smoothing step (see the recorder's remarks). Smooth it with
+/// <see cref="CompactedRauchTungStriebelSmoother"/>, which overwrites the arrays in place.
+/// </summary>
+public sealed class CompactedSegment
+{
+    private long[] _times = new long[16];
+    private LocalTangentPlane[] _planes = new LocalTangentPlane[16];
+    private Vector8[] _means = new Vector8[16];
+    private Matrix8[] _covariances = new Matrix8[16];
+    private Matrix8[] _gains = new Matrix8[16];
+    private Vector8[] _predictedNext = new Vector8[16];
+
+    /// <summary>Number of recorded instants.</summary>
+    public int Count { get; private set; }
+
+    /// <summary>Whether <see cref="CompactedRauchTungStriebelSmoother.Smooth"/> has run on this segment.</summary>
+    public bool IsSmoothed { get; internal set; }
+
+    /// <summary>Recorded instants, Unix microseconds, non-decreasing.</summary>
+    public ReadOnlySpan<long> TimesUs => _times.AsSpan(0, Count);
+
+    /// <summary>Approximate bytes held by the arrays.</summary>
+    public long ApproximateBytes => (long)_times.Length * (8 + 80 + 64 + 512 + 512 + 64);
+
+    internal long[] Times => _times;
+
+    internal LocalTangentPlane[] Planes => _planes;
+
+    /// <summary>Before smoothing: μ(k) = E[x(k) | data up to the prediction into k + 1]; the last one is x(K|K).</summary>
+    internal Vector8[] Means => _means;
+
+    /// <summary>Before smoothing: D(k) = Π(k) - G(k) P(k+1|·) G(k)ᵀ; the last one is P(K|K).</summary>
+    internal Matrix8[] Covariances => _covariances;
+
+    /// <summary>Equivalent smoother gains G(k) linking instant k to k + 1 (the last one is zero).</summary>
+    internal Matrix8[] Gains => _gains;
+
+    /// <summary>Prediction x(k+1|·) into instant k + 1 used in the link from k.</summary>
+    internal Vector8[] PredictedNext => _predictedNext;
+
+    /// <summary>Overwrites the time and plane of instant <paramref name="index"/>.</summary>
+    internal void Replace(int index, long timeUs, in LocalTangentPlane plane)
+    {
+        _times[index] = timeUs;
+        _planes[index] = plane;
+    }
+
+    /// <summary>Appends an instant and returns its index.</summary>
+    internal int Add(long timeUs, in LocalTangentPlane plane)
+    {
+        if (Count == _times.Length)
+        {
+            int size = _times.Length * 2;
+            Array.Resize(ref _times, size);
+            Array.Resize(ref _planes, size);
+            Array.Resize(ref _means, size);
+            Array.Resize(ref _covariances, size);
+            Array.Resize(ref _gains, size);
+            Array.Resize(ref _predictedNext, size);
+        }
+
+        _times[Count] = timeUs;
+        _planes[Count] = plane;
+        return Count++;
+    }
+
+    /// <summary>
+    /// The smoothed states as a <see cref="SmoothedSegment"/>. The arrays are trimmed to <see cref="Count"/> and shared
+    /// with the result, not copied; the prediction array, needed only by the smoother, is released.
+    /// </summary>
+    /// <exception cref="InvalidOperationException">The segment has not been smoothed.</exception>
+    public SmoothedSegment ToSmoothedSegment()
+    {
+        if (!IsSmoothed)
+        {
+            throw new InvalidOperationException("smooth the segment first");
+        }
+
+        Array.Resize(ref _times, Count);
+        Array.Resize(ref _planes, Count);
+        Array.Resize(ref _means, Count);
+        Array.Resize(ref _covariances, Count);
+        Array.Resize(ref _gains, Count);
+        _predictedNext = [];
+        return new SmoothedSegment(_times, _planes, _means, _covariances, _gains);
+    }
+}

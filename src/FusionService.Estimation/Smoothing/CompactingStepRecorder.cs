@@ -1,0 +1,391 @@
+using FusionService.Estimation.Filtering;
+using FusionService.Estimation.Geodesy;
+using FusionService.Estimation.LinearAlgebra;
+using FusionService.Estimation.Tracking;
+using static FusionService.Estimation.Models.StateIndex;
+
+namespace FusionService.Estimation.Smoothing;
+
+/// <summary>
+/// A bounded-memory <see cref="IStepRecorder"/> for Rauch-Tung-Striebel smoothing: instead of every forward step
+/// (about 1.7 KB each, <see cref="ForwardPassRecorder"/>), it keeps only chosen instants (the first posterior at least
+/// <see cref="RecordIntervalUs"/> after the previous recorded one, plus each segment's first and last) and folds every
+/// step between two recorded instants into one equivalent smoothing step, while the forward pass runs.
+/// </summary>
+/// <remarks>
+/// <para>
+/// The smoother of Rauch, Tung and Striebel (1965), "Maximum likelihood estimates of linear dynamic systems",
+/// AIAA J. 3(8): C(j) = P(j|j) F(j+1)ᵀ P(j+1|j)⁻¹, x(j|N) = x(j|j) + C(j) [x(j+1|N) - x(j+1|j)],
+/// P(j|N) = P(j|j) + C(j) [P(j+1|N) - P(j+1|j)] C(j)ᵀ. Unrolled from a recorded instant r = j0 over the forward steps
+/// j1 ... jm (jm the next recorded instant), with A(i) = C(j0) ... C(ji):
+/// x(r|N) = x(r|r) + Σ_{i&lt;m-1} A(i) [x(j(i+1)|j(i+1)) - x(j(i+1)|ji)] + A(m-1) [x(jm|N) - x(jm|j(m-1))],
+/// P(r|N) = P(r|r) + Σ_{i&lt;m-1} A(i) [P(j(i+1)|j(i+1)) - P(j(i+1)|ji)] A(i)ᵀ + A(m-1) [P(jm|N) - P(jm|j(m-1))] A(m-1)ᵀ.
+/// Everything but the last term is known in the forward pass, and A grows by right multiplication, so it is summed
+/// forward: with Σ = A(i-1) P(ji|ji) (the cross-covariance of x(r) and x(ji) given the data so far) and
+/// Σ⁻ = Σ F(j(i+1))ᵀ, G = Σ⁻ P(j(i+1)|ji)⁻¹ = A(i); then μ ← μ + G [x⁺ - x⁻], Π ← Π + G [P⁺ - P⁻] Gᵀ = Π + (G P⁺ - Σ⁻) Gᵀ,
+/// Σ ← G P⁺. One link per pair of recorded instants remains: x(r|N) = μ + G [x(k|N) - x(k|·)] and
+/// P(r|N) = D + G P(k|N) Gᵀ with D = Π - Σ⁻ Gᵀ; and the smoothed lag cross-covariance is Cov(x(r), x(k) | N) = G P(k|N)
+/// (the chained form of Cov(x(j), x(j+1) | N) = C(j) P(j+1|N)), so <see cref="Diagnostics.DistanceIntegrator"/>
+/// works on the result with G in place of C.
+/// </para>
+/// <para>
+/// The compaction is an exact rearrangement of the full-step smoother's sums and products (equal up to round-off,
+/// which the tests check on scenario data). Like <see cref="RauchTungStriebelSmoother"/> it is the extended (linearised)
+/// smoother: the forward pass's transition Jacobians F stand in for the transition matrix and its covariances for the
+/// true conditional ones, so it is exact for the linearised model, not for the non-linear CTRA motion. Steps without
+/// elapsed time and without re-anchoring (F = I, prediction equal to the previous posterior, C = I) are merged with
+/// their neighbours, so the work is one 8 x 8 Cholesky solve per distinct measurement time. Heading differences are
+/// wrapped to (-π, π].
+/// </para>
+/// </remarks>
+public sealed class CompactingStepRecorder : IStepRecorder
+{
+    private const int N = Matrix8.Size;
+
+    private readonly List<CompactedSegment> _segments = [];
+    private CompactedSegment? _segment;
+    private int _r;
+    private long _tR;
+    private Vector8 _mu;
+    private Matrix8 _pi;
+    private Matrix8 _sigma;
+
+    private bool _hasPair;
+    private Matrix8 _sigmaPred;
+    private Vector8 _xPred;
+    private Matrix8 _pPred;
+
+    private Vector8 _xPost;
+    private Matrix8 _pPost;
+    private long _tPost;
+    private LocalTangentPlane _planePost;
+
+    private bool _hasNext;
+    private bool _skipNext;
+    private Matrix8 _fNext;
+    private Vector8 _xNext;
+    private Matrix8 _pNext;
+
+    /// <summary>Creates a recorder.</summary>
+    /// <param name="recordIntervalUs">Least spacing of recorded instants, microseconds, non-negative (0 records every distinct instant).</param>
+    /// <param name="discardBeforeUs">Recorded instants followed by another one at or before this time (Unix microseconds)
+    /// are dropped as the forward pass goes, so a long run-in before the wanted window costs no memory; the last instant at
+    /// or before it is kept. Default: keep everything.</param>
+    public CompactingStepRecorder(long recordIntervalUs, long discardBeforeUs = long.MinValue)
+    {
+        ArgumentOutOfRangeException.ThrowIfNegative(recordIntervalUs);
+        RecordIntervalUs = recordIntervalUs;
+        DiscardBeforeUs = discardBeforeUs;
+    }
+
+    /// <summary>Recorded instants superseded by a later one at or before this time are dropped, Unix microseconds.</summary>
+    public long DiscardBeforeUs { get; }
+
+    /// <summary>Least spacing of recorded instants, microseconds.</summary>
+    public long RecordIntervalUs { get; }
+
+    /// <summary>The segments; call <see cref="Complete"/> first so that the last one is closed.</summary>
+    public IReadOnlyList<CompactedSegment> Segments => _segments;
+
+    /// <inheritdoc />
+    public void Start(long timeUs, in Vector8 x, in Matrix8 p, in LocalTangentPlane plane)
+    {
+        Complete();
+        _segment = new CompactedSegment();
+        _segments.Add(_segment);
+        _r = _segment.Add(timeUs, plane);
+        _tR = timeUs;
+        _mu = x;
+        _pi = p;
+        _sigma = p;
+        _xPost = x;
+        _pPost = p;
+        _tPost = timeUs;
+        _planePost = plane;
+        _hasPair = false;
+        _hasNext = false;
+        _skipNext = false;
+    }
+
+    /// <inheritdoc />
+    public void Predicted(in Matrix8 f, in Vector8 xPredicted, in Matrix8 pPredicted)
+    {
+        if (_segment is null)
+        {
+            throw new InvalidOperationException("Predicted before Start");
+        }
+
+        _skipNext = _hasPair && IsIdentity(f) && Same(xPredicted, _xPost) && Same(pPredicted, _pPost);
+        if (_skipNext)
+        {
+            return;
+        }
+
+        _fNext = f;
+        _xNext = xPredicted;
+        _pNext = pPredicted;
+        _hasNext = true;
+    }
+
+    /// <inheritdoc />
+    public void Posterior(long timeUs, in Vector8 x, in Matrix8 p, in LocalTangentPlane plane)
+    {
+        if (_segment is null)
+        {
+            throw new InvalidOperationException("Posterior before Start");
+        }
+
+        if (_skipNext)
+        {
+            _skipNext = false;
+        }
+        else
+        {
+            if (!_hasNext)
+            {
+                throw new InvalidOperationException("Posterior without a prediction");
+            }
+
+            if (_hasPair)
+            {
+                if (_tPost - _tR >= RecordIntervalUs)
+                {
+                    RecordPair();
+                }
+                else
+                {
+                    AbsorbPair();
+                }
+            }
+
+            MultiplyTransposed(_sigma, _fNext, ref _sigmaPred);
+            _xPred = _xNext;
+            _pPred = _pNext;
+            _hasPair = true;
+            _hasNext = false;
+        }
+
+        _xPost = x;
+        _pPost = p;
+        _tPost = timeUs;
+        _planePost = plane;
+    }
+
+    /// <summary>Closes the current segment (records its last posterior); further steps need a new <see cref="Start"/>.</summary>
+    public void Complete()
+    {
+        if (_segment is null)
+        {
+            return;
+        }
+
+        if (_hasPair)
+        {
+            RecordPair();
+        }
+
+        _segment.Means[_r] = _mu;
+        _segment.Covariances[_r] = _pi;
+        _segment.Gains[_r] = default;
+        _segment = null;
+        _hasPair = false;
+        _hasNext = false;
+        _skipNext = false;
+    }
+
+    /// <summary>Closes the link from the current recorded instant to the pending posterior, which becomes the new one.</summary>
+    private void RecordPair()
+    {
+        CompactedSegment s = _segment!;
+        if (_tPost <= DiscardBeforeUs)
+        {
+            // The current instant is superseded before the wanted window: the pending posterior replaces it.
+            s.Replace(_r, _tPost, _planePost);
+            _tR = _tPost;
+            _mu = _xPost;
+            _pi = _pPost;
+            _sigma = _pPost;
+            _hasPair = false;
+            return;
+        }
+
+        Matrix8 g = default;
+        SolveGain(_sigmaPred, _pPred, ref g);
+        Matrix8 d = _pi;
+        for (int i = 0; i < N; i++)
+        {
+            for (int j = 0; j < N; j++)
+            {
+                double sum = 0;
+                for (int l = 0; l < N; l++)
+                {
+                    sum += _sigmaPred[(i * N) + l] * g[(j * N) + l];
+                }
+
+                d[(i * N) + j] -= sum;
+            }
+        }
+
+        s.Means[_r] = _mu;
+        s.Covariances[_r] = d;
+        s.Gains[_r] = g;
+        s.PredictedNext[_r] = _xPred;
+        _r = s.Add(_tPost, _planePost);
+        _tR = _tPost;
+        _mu = _xPost;
+        _pi = _pPost;
+        _sigma = _pPost;
+        _hasPair = false;
+    }
+
+    /// <summary>Folds the pending prediction/posterior pair into μ, Π and Σ of the current recorded instant.</summary>
+    private void AbsorbPair()
+    {
+        Matrix8 g = default;
+        SolveGain(_sigmaPred, _pPred, ref g);
+        Span<double> dx = stackalloc double[N];
+        for (int i = 0; i < N; i++)
+        {
+            dx[i] = _xPost[i] - _xPred[i];
+        }
+
+        dx[HeadingRad] = Angles.WrapPi(dx[HeadingRad]);
+        for (int i = 0; i < N; i++)
+        {
+            double sum = 0;
+            for (int j = 0; j < N; j++)
+            {
+                sum += g[(i * N) + j] * dx[j];
+            }
+
+            _mu[i] += sum;
+        }
+
+        // Σ ← G P⁺; Π ← Π + (Σ - Σ⁻) Gᵀ.
+        Matrix8 sigma = default;
+        for (int i = 0; i < N; i++)
+        {
+            for (int l = 0; l < N; l++)
+            {
+                double gil = g[(i * N) + l];
+                if (gil == 0)
+                {
+                    continue;
+                }
+
+                for (int j = 0; j < N; j++)
+                {
+                    sigma[(i * N) + j] += gil * _pPost[(l * N) + j];
+                }
+            }
+        }
+
+        for (int i = 0; i < N; i++)
+        {
+            for (int j = 0; j < N; j++)
+            {
+                double sum = 0;
+                for (int l = 0; l < N; l++)
+                {
+                    sum += (sigma[(i * N) + l] - _sigmaPred[(i * N) + l]) * g[(j * N) + l];
+                }
+
+                _pi[(i * N) + j] += sum;
+            }
+        }
+
+        _sigma = sigma;
+        _hasPair = false;
+    }
+
+    /// <summary>G = Σ⁻ P⁻¹ by a Cholesky solve per row (P symmetric positive definite).</summary>
+    private static void SolveGain(in Matrix8 sigmaPred, in Matrix8 pPred, ref Matrix8 g)
+    {
+        Span<double> chol = stackalloc double[Matrix8.Length];
+        for (int i = 0; i < Matrix8.Length; i++)
+        {
+            chol[i] = pPred[i];
+        }
+
+        if (!ExtendedKalmanFilter.CholeskyInPlace(chol, N))
+        {
+            throw new FilterDivergenceException("predicted covariance is not positive definite while compacting the forward pass");
+        }
+
+        Span<double> row = stackalloc double[N];
+        for (int i = 0; i < N; i++)
+        {
+            for (int j = 0; j < N; j++)
+            {
+                row[j] = sigmaPred[(i * N) + j];
+            }
+
+            ExtendedKalmanFilter.ForwardSubstitute(chol, N, row);
+            ExtendedKalmanFilter.BackSubstitute(chol, N, row);
+            for (int j = 0; j < N; j++)
+            {
+                g[(i * N) + j] = row[j];
+            }
+        }
+    }
+
+    /// <summary>result = a fᵀ.</summary>
+    private static void MultiplyTransposed(in Matrix8 a, in Matrix8 f, ref Matrix8 result)
+    {
+        for (int i = 0; i < N; i++)
+        {
+            for (int j = 0; j < N; j++)
+            {
+                double sum = 0;
+                for (int l = 0; l < N; l++)
+                {
+                    sum += a[(i * N) + l] * f[(j * N) + l];
+                }
+
+                result[(i * N) + j] = sum;
+            }
+        }
+    }
+
+    private static bool IsIdentity(in Matrix8 f)
+    {
+        for (int i = 0; i < N; i++)
+        {
+            for (int j = 0; j < N; j++)
+            {
+                if (f[(i * N) + j] != (i == j ? 1.0 : 0.0))
+                {
+                    return false;
+                }
+            }
+        }
+
+        return true;
+    }
+
+    private static bool Same(in Vector8 a, in Vector8 b)
+    {
+        for (int i = 0; i < N; i++)
+        {
+            if (a[i] != b[i])
+            {
+                return false;
+            }
+        }
+
+        return true;
+    }
+
+    private static bool Same(in Matrix8 a, in Matrix8 b)
+    {
+        for (int i = 0; i < Matrix8.Length; i++)
+        {
+            if (a[i] != b[i])
+            {
+                return false;
+            }
+        }
+
+        return true;
+    }
+}

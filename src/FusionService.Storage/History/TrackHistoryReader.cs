@@ -1,0 +1,133 @@
+// Streaming range reads of one vehicle's stored measurements and fused states, for the track history endpoints.
+using System.Runtime.CompilerServices;
+using Dapper;
+using FusionService.Storage.Bulk;
+using FusionService.Storage.FusedStates;
+using FusionService.Storage.Measurements;
+using FusionService.Storage.Time;
+using Npgsql;
+
+namespace FusionService.Storage.History;
+
+/// <summary>
+/// Reads one vehicle's stored rows over a time range row by row (a data reader, not a list), so that a day of
+/// 600,000 measurements never sits in memory as row objects.
+/// </summary>
+public sealed class TrackHistoryReader
+{
+    private const string MeasurementSql = """
+        SELECT kind, time_us, message_key, v0, v1, v2, outcome, nis, track_reset
+        FROM measurements
+        WHERE fleet_id = @FleetId AND vehicle_id = @VehicleId
+          AND time_us >= @FromUs AND time_us < @ToUs
+          AND measured_at >= @FromAt AND measured_at < @ToAt
+          AND kind >= @MinKind AND kind <= @MaxKind
+        ORDER BY time_us, kind, message_key
+        """;
+
+    private const string FusedSql = """
+        SELECT fleet_id AS FleetId, vehicle_id AS VehicleId, time_us AS TimeUs, lat_deg AS LatDeg, lon_deg AS LonDeg,
+               heading_rad AS HeadingRad, speed_mps AS SpeedMps, yaw_rate_rps AS YawRateRps, accel_mps2 AS AccelMps2,
+               gyro_bias_rps AS GyroBiasRps, wheel_scale AS WheelScale, covariance AS Covariance,
+               ellipse_major_m AS EllipseMajorM, ellipse_minor_m AS EllipseMinorM,
+               ellipse_orientation_rad AS EllipseOrientationRad
+        FROM fused_states
+        WHERE fleet_id = @FleetId AND vehicle_id = @VehicleId
+          AND time_us >= @FromUs AND time_us < @ToUs
+          AND measured_at >= @FromAt AND measured_at < @ToAt
+        ORDER BY time_us
+        """;
+
+    private readonly NpgsqlDataSource _dataSource;
+
+    /// <summary>Creates the reader.</summary>
+    /// <param name="dataSource">Data source whose connections have the store's schema on their search path.</param>
+    public TrackHistoryReader(NpgsqlDataSource dataSource)
+    {
+        ArgumentNullException.ThrowIfNull(dataSource);
+        _dataSource = dataSource;
+        DapperTypeHandlers.EnsureRegistered();
+    }
+
+    /// <summary>
+    /// Measurements of one vehicle with <paramref name="fromUs"/> &lt;= time &lt; <paramref name="toUs"/> and
+    /// <paramref name="minKind"/> &lt;= kind &lt;= <paramref name="maxKind"/>, in canonical order (time, kind, message key).
+    /// </summary>
+    /// <param name="fleetId">Owning fleet.</param>
+    /// <param name="vehicleId">Vehicle within the fleet.</param>
+    /// <param name="fromUs">Inclusive start, Unix microseconds.</param>
+    /// <param name="toUs">Exclusive end, Unix microseconds.</param>
+    /// <param name="minKind">Smallest kind code wanted.</param>
+    /// <param name="maxKind">Largest kind code wanted.</param>
+    /// <param name="cancellationToken">Cancels the query.</param>
+    public async IAsyncEnumerable<StoredMeasurementValues> StreamMeasurementsAsync(
+        Guid fleetId, string vehicleId, long fromUs, long toUs, short minKind = 0, short maxKind = short.MaxValue,
+        [EnumeratorCancellation] CancellationToken cancellationToken = default)
+    {
+        ArgumentNullException.ThrowIfNull(vehicleId);
+        if (toUs <= fromUs)
+        {
+            yield break;
+        }
+
+        var connection = await _dataSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
+        await using (connection.ConfigureAwait(false))
+        {
+            var command = new NpgsqlCommand(MeasurementSql, connection);
+            await using (command.ConfigureAwait(false))
+            {
+                command.Parameters.AddWithValue("FleetId", fleetId);
+                command.Parameters.AddWithValue("VehicleId", vehicleId);
+                command.Parameters.AddWithValue("FromUs", fromUs);
+                command.Parameters.AddWithValue("ToUs", toUs);
+                command.Parameters.AddWithValue("FromAt", new DateTimeOffset(UnixMicroseconds.ToDateTimeUtc(fromUs)));
+                command.Parameters.AddWithValue("ToAt", new DateTimeOffset(UnixMicroseconds.ToDateTimeUtc(toUs)));
+                command.Parameters.AddWithValue("MinKind", minKind);
+                command.Parameters.AddWithValue("MaxKind", maxKind);
+                var reader = await command.ExecuteReaderAsync(cancellationToken).ConfigureAwait(false);
+                await using (reader.ConfigureAwait(false))
+                {
+                    while (await reader.ReadAsync(cancellationToken).ConfigureAwait(false))
+                    {
+                        yield return new StoredMeasurementValues(
+                            reader.GetInt16(0),
+                            reader.GetInt64(1),
+                            reader.GetInt64(2),
+                            reader.GetDouble(3),
+                            reader.IsDBNull(4) ? null : reader.GetDouble(4),
+                            reader.IsDBNull(5) ? null : reader.GetDouble(5),
+                            (MeasurementOutcome)reader.GetInt16(6),
+                            reader.IsDBNull(7) ? null : reader.GetDouble(7),
+                            reader.GetBoolean(8));
+                    }
+                }
+            }
+        }
+    }
+
+    /// <summary>Fused states of one vehicle with <paramref name="fromUs"/> &lt;= time &lt; <paramref name="toUs"/>, in time order.</summary>
+    /// <param name="fleetId">Owning fleet.</param>
+    /// <param name="vehicleId">Vehicle within the fleet.</param>
+    /// <param name="fromUs">Inclusive start, Unix microseconds.</param>
+    /// <param name="toUs">Exclusive end, Unix microseconds.</param>
+    /// <param name="cancellationToken">Cancels the query.</param>
+    public async IAsyncEnumerable<FusedStateRow> StreamFusedStatesAsync(
+        Guid fleetId, string vehicleId, long fromUs, long toUs, [EnumeratorCancellation] CancellationToken cancellationToken = default)
+    {
+        ArgumentNullException.ThrowIfNull(vehicleId);
+        if (toUs <= fromUs)
+        {
+            yield break;
+        }
+
+        var parameters = TimeRangeParameters.For(fleetId, vehicleId, fromUs, toUs);
+        var connection = await _dataSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
+        await using (connection.ConfigureAwait(false))
+        {
+            await foreach (var row in connection.QueryUnbufferedAsync<FusedStateRow>(FusedSql, parameters).WithCancellation(cancellationToken).ConfigureAwait(false))
+            {
+                yield return row;
+            }
+        }
+    }
+}

@@ -1,0 +1,14 @@
+// Registration of the track history services.
+namespace FusionService.History;
+
+/// <summary>Registers the options and services of the track history and distance endpoints.</summary>
+public static class HistoryExtensions
+{
+    /// <summary>Binds and validates (at start-up) <see cref="TrackHistoryOptions"/> and adds <see cref="SmoothedTrackBuilder"/>.</summary>
+    public static IServiceCollection AddFusionHistory(this IServiceCollection services)
+    {
+        services.AddOptions<TrackHistoryOptions>().BindConfiguration(TrackHistoryOptions.Section).ValidateDataAnnotations().ValidateOnStart();
+        services.AddSingleton<SmoothedTrackBuilder>();
+        return services;
+    }
+}

@@ -1,0 +1,34 @@
+// Limits of the track history and distance endpoints.
+using System.ComponentModel.DataAnnotations;
+
+namespace FusionService.History;
+
+/// <summary>Track history settings of section <c>Tracks</c> (shared with the track grains' settings).</summary>
+public sealed class TrackHistoryOptions
+{
+    /// <summary>Configuration section name.</summary>
+    public const string Section = "Tracks";
+
+    /// <summary>Longest window one track or distance request may cover, hours. Default 24.</summary>
+    [Range(0.01, 24 * 31)]
+    public double MaxWindowHours { get; set; } = 24;
+
+    /// <summary>
+    /// Spacing of the smoothed instants, seconds (the compacting smoother keeps one instant per interval; a smaller
+    /// <c>step</c> lowers it down to 0.1 s for that request). Default 1.
+    /// </summary>
+    [Range(0.1, 60)]
+    public double SmoothedIntervalS { get; set; } = 1;
+
+    /// <summary>
+    /// How far before <c>from</c> the smoother may start its forward pass, hours: from the newest stored checkpoint at or
+    /// before <c>from</c> if it is this recent, otherwise from the first stored measurement after <c>from</c> minus this
+    /// lead. Default 2.
+    /// </summary>
+    [Range(0, 48)]
+    public double ReplayLeadHours { get; set; } = 2;
+
+    /// <summary>Points written between two flushes of a streamed response. Default 512.</summary>
+    [Range(1, 1_000_000)]
+    public int FlushEveryPoints { get; set; } = 512;
+}
