@@ -1,9 +1,11 @@
 // FusionService host: ingest, vehicle states, track grains, background writers; `keys create`, `load` and `demo` as commands.
 using System.Text.Json;
+using FusionService.Audit;
 using FusionService.Cli;
 using FusionService.Database;
 using FusionService.Demo;
 using FusionService.Ingest;
+using FusionService.Ingest.Nmea;
 using FusionService.Operations;
 using FusionService.Security;
 using FusionService.Tracking;
@@ -51,6 +53,7 @@ builder.Services.AddSerilog((services, logger) => logger
 builder.Services.AddFusionDatabase();
 builder.Services.AddFusionOperations();
 builder.Services.AddFusionIngest();
+builder.Services.AddFusionAudit();
 builder.AddFusionTracking();
 builder.Services.AddFusionSecurity();
 builder.Services.AddProblemDetails();
@@ -73,6 +76,8 @@ app.UseSwaggerUI(ui => ui.SwaggerEndpoint("/openapi/v1.json", "FusionService API
 app.MapOperationsEndpoints();
 app.MapTelemetryEndpoints();
 app.MapVehicleEndpoints();
+app.MapAuditEndpoints();
+app.MapNmeaEndpoints();
 await app.RunAsync().ConfigureAwait(false);
 return 0;
 
