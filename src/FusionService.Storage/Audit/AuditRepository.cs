@@ -14,11 +14,9 @@ namespace FusionService.Storage.Audit;
 /// </summary>
 public sealed class AuditRepository
 {
-    private const string Range = """
-        fleet_id = @FleetId AND vehicle_id = @VehicleId
-        AND time_us >= @FromUs AND time_us < @ToUs
-        AND measured_at >= @FromAt AND measured_at < @ToAt
-        """;
+    private const string Range = "\n    fleet_id = @FleetId AND vehicle_id = @VehicleId"
+        + "\n    AND time_us >= @FromUs AND time_us < @ToUs"
+        + "\n    AND measured_at >= @FromAt AND measured_at < @ToAt\n";
 
     private const string OutcomesSql = "SELECT kind AS Kind, outcome AS Outcome, count(*) AS Count FROM measurements WHERE " + Range
         + " GROUP BY kind, outcome ORDER BY kind, outcome";
