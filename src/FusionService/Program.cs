@@ -1,10 +1,12 @@
 // FusionService host: ingest, vehicle states, track grains, background writers; `keys create`, `load` and `demo` as commands.
 using System.Text.Json;
+using FusionService.Audit;
 using FusionService.Cli;
 using FusionService.Database;
 using FusionService.Demo;
 using FusionService.History;
 using FusionService.Ingest;
+using FusionService.Ingest.Nmea;
 using FusionService.Operations;
 using FusionService.Security;
 using FusionService.Tracking;
@@ -57,6 +59,7 @@ builder.Services.AddSerilog((services, logger) => logger
 builder.Services.AddFusionDatabase();
 builder.Services.AddFusionOperations();
 builder.Services.AddFusionIngest();
+builder.Services.AddFusionAudit();
 builder.AddFusionTracking();
 builder.Services.AddFusionSecurity();
 builder.Services.AddProblemDetails();
@@ -81,6 +84,8 @@ app.MapOperationsEndpoints();
 app.MapTelemetryEndpoints();
 app.MapVehicleEndpoints();
 app.MapHistoryEndpoints();
+app.MapAuditEndpoints();
+app.MapNmeaEndpoints();
 await app.RunAsync().ConfigureAwait(false);
 return 0;
 

@@ -18,8 +18,28 @@ public readonly record struct MeasurementOutcome(
     /// </summary>
     public bool Recovered { get; init; }
 
+    /// <summary>
+    /// First component of the innovation ν = z - h(x̂⁻) formed against the predicted state, in the measurement's units:
+    /// GNSS position east offset, metres; GNSS velocity speed, m/s; wheel speed, m/s; IMU yaw rate, rad/s.
+    /// NaN when <see cref="Dimension"/> is 0.
+    /// </summary>
+    public double Innovation0 { get; init; } = double.NaN;
+
+    /// <summary>
+    /// Second component of the innovation when <see cref="Dimension"/> is 2: GNSS position north offset, metres; GNSS
+    /// velocity heading, radians (counter-clockwise, wrapped to (-π, π]); IMU longitudinal acceleration, m/s². NaN otherwise.
+    /// </summary>
+    public double Innovation1 { get; init; } = double.NaN;
+
     /// <summary>An outcome without an innovation.</summary>
     public static MeasurementOutcome Of(OutcomeKind kind) => new(kind, double.NaN, 0, double.NaN, false, 0);
+
+    /// <summary>This outcome carrying <paramref name="innovation"/> (one or two components; see <see cref="Innovation0"/>).</summary>
+    public MeasurementOutcome WithInnovation(ReadOnlySpan<double> innovation) => this with
+    {
+        Innovation0 = innovation.Length > 0 ? innovation[0] : double.NaN,
+        Innovation1 = innovation.Length > 1 ? innovation[1] : double.NaN,
+    };
 
     /// <summary>Human-readable reason, for logs and the audit trail.</summary>
     public string Describe(SensorKind sensor) => Kind switch

@@ -57,6 +57,21 @@ public sealed class TrackProcessor
         return state.Phase == TrackPhase.Running ? ProcessRunning(ref state, m, recorder) : ProcessStarting(ref state, m, recorder);
     }
 
+    /// <summary>
+    /// Dimension of the innovation a running track forms for <paramref name="m"/> (the chi-square degrees of freedom of
+    /// its NIS): GNSS position 2; GNSS velocity 2 when the course is used (speed at least
+    /// <see cref="TrackOptions.CourseMinSpeedMps"/> and a course given), else 1; wheel 1; IMU 2 with acceleration, else 1.
+    /// The same rule the update steps apply, for statistics over stored measurements that kept the NIS but not its dimension.
+    /// </summary>
+    public int InnovationDimension(in Measurement m) => m.Kind switch
+    {
+        SensorKind.GnssPosition => 2,
+        SensorKind.GnssVelocity => m.Value0 >= Options.CourseMinSpeedMps && !double.IsNaN(m.Value1) ? 2 : 1,
+        SensorKind.WheelSpeed => 1,
+        SensorKind.Imu => double.IsNaN(m.Value1) ? 1 : 2,
+        _ => throw new ArgumentOutOfRangeException(nameof(m), m.Kind, "unknown sensor kind"),
+    };
+
     /// <summary>Position of the state as latitude and longitude (height ignored).</summary>
     public static GeodeticPoint PositionOf(in TrackState state) => state.Plane.ToGeodetic(OnPlane(state.X[EastM], state.X[NorthM]));
 
@@ -327,7 +342,7 @@ public sealed class TrackProcessor
             s.RejectedFixes = 0;
             ReacquireHeading(ref s, fix);
             s.Fix = fix;
-            return new MeasurementOutcome(OutcomeKind.Accepted, nis, 2, threshold, s.Stationary, 0);
+            return new MeasurementOutcome(OutcomeKind.Accepted, nis, 2, threshold, s.Stationary, 0).WithInnovation(residual);
         }
 
         if (s.RejectedFixes == 0)
@@ -342,7 +357,7 @@ public sealed class TrackProcessor
             && offsetM >= Options.ResetDistanceM;
         if (!sustained)
         {
-            return new MeasurementOutcome(OutcomeKind.Gated, nis, 2, threshold, s.Stationary, 0);
+            return new MeasurementOutcome(OutcomeKind.Gated, nis, 2, threshold, s.Stationary, 0).WithInnovation(residual);
         }
 
         // A real relocation (ferry, tow truck, long tunnel): start again from this fix, keeping the calibration.
@@ -352,7 +367,7 @@ public sealed class TrackProcessor
         s.Fix = new HeldFix(true, m.TimeUs, 0, 0, sigma);
         s.Course = default;
         s.RejectedFixes = 0;
-        return new MeasurementOutcome(OutcomeKind.TrackReset, nis, 2, threshold, s.Stationary, offsetM);
+        return new MeasurementOutcome(OutcomeKind.TrackReset, nis, 2, threshold, s.Stationary, offsetM).WithInnovation(residual);
     }
 
     /// <summary>
@@ -499,12 +514,12 @@ public sealed class TrackProcessor
         if (ExtendedKalmanFilter.TryUpdateJoseph(ref s.X, ref s.P, residual, h, r, threshold, out double nis))
         {
             rejections = 0;
-            return new MeasurementOutcome(OutcomeKind.Accepted, nis, dim, threshold, s.Stationary, 0);
+            return new MeasurementOutcome(OutcomeKind.Accepted, nis, dim, threshold, s.Stationary, 0).WithInnovation(residual);
         }
 
         if (++rejections < Options.RecoverAfterRejections)
         {
-            return new MeasurementOutcome(OutcomeKind.Gated, nis, dim, threshold, s.Stationary, 0);
+            return new MeasurementOutcome(OutcomeKind.Gated, nis, dim, threshold, s.Stationary, 0).WithInnovation(residual);
         }
 
         for (int row = 0; row < dim; row++)
@@ -519,7 +534,7 @@ public sealed class TrackProcessor
 
         rejections = 0;
         ExtendedKalmanFilter.TryUpdateJoseph(ref s.X, ref s.P, residual, h, r, double.PositiveInfinity, out _);
-        return new MeasurementOutcome(OutcomeKind.Accepted, nis, dim, threshold, s.Stationary, 0) { Recovered = true };
+        return new MeasurementOutcome(OutcomeKind.Accepted, nis, dim, threshold, s.Stationary, 0) { Recovered = true }.WithInnovation(residual);
     }
 
     /// <summary>GNSS course (clockwise from north) to the filter's heading (counter-clockwise from east).</summary>

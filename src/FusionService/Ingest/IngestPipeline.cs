@@ -1,5 +1,6 @@
 // Validate, commit durably, hand to the vehicle track grains.
 using System.Text.Json;
+using FusionService.Audit;
 using FusionService.Database;
 using FusionService.Estimation.Measurements;
 using FusionService.Operations;
@@ -22,7 +23,8 @@ public sealed class IngestPipeline(
     IOptions<IngestOptions> options,
     IOptions<DatabaseOptions> database,
     ServiceMetrics metrics,
-    TimeProvider time)
+    TimeProvider time,
+    DuplicateCounter duplicates)
 {
     /// <summary>A parser with the accepted time window as of now.</summary>
     public TelemetryMessageParser CreateParser()
@@ -70,6 +72,7 @@ public sealed class IngestPipeline(
         var inserted = await writer.CommitAsync(rows).ConfigureAwait(false);
         var fresh = new Dictionary<string, List<TrackMeasurement>>(StringComparer.Ordinal);
         int accepted = 0, duplicate = 0, rejected = 0;
+        var repeated = new List<ParsedMessage>();
         for (int i = 0; i < messages.Count; i++)
         {
             if (parsed[i] is not { } message)
@@ -97,10 +100,12 @@ public sealed class IngestPipeline(
             {
                 duplicate++;
                 results[i] = new IngestMessageResult(i, "duplicate");
+                repeated.Add(message);
             }
         }
 
         metrics.CountMessages(accepted, duplicate, rejected);
+        await duplicates.RecordAsync(fleetId, repeated).ConfigureAwait(false);
         var processed = await tracks.DispatchAsync(fleetId, fresh).ConfigureAwait(false);
         if (options.Value.AcknowledgeAfter == AcknowledgeAfter.Tracking)
         {

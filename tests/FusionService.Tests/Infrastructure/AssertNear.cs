@@ -17,4 +17,16 @@ internal static class AssertNear
                 $"{quantity}: expected {expected:R}, actual {actual:R}, difference {difference:R} exceeds tolerance {tolerance:R}"));
         }
     }
+
+    /// <summary>Fails unless <paramref name="actual"/> exceeds <paramref name="limit"/> by at most <paramref name="tolerance"/> (NaN always fails).</summary>
+    public static void AtMost(double limit, double actual, double tolerance, string quantity)
+    {
+        double difference = actual - limit;
+        if (!(difference <= tolerance))
+        {
+            throw new Xunit.Sdk.XunitException(string.Create(
+                CultureInfo.InvariantCulture,
+                $"{quantity}: expected at most {limit:R}, actual {actual:R}, difference {difference:R} exceeds tolerance {tolerance:R}"));
+        }
+    }
 }
