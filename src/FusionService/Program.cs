@@ -1,9 +1,11 @@
 // FusionService host: ingest, vehicle states, track grains, background writers; `keys create`, `load` and `demo` as commands.
 using System.Text.Json;
+using FusionService.Alerts;
 using FusionService.Cli;
 using FusionService.Database;
 using FusionService.Demo;
 using FusionService.Ingest;
+using FusionService.Live;
 using FusionService.Operations;
 using FusionService.Security;
 using FusionService.Tracking;
@@ -53,6 +55,7 @@ builder.Services.AddFusionOperations();
 builder.Services.AddFusionIngest();
 builder.AddFusionTracking();
 builder.Services.AddFusionSecurity();
+builder.Services.AddFusionAlerts();
 builder.Services.AddProblemDetails();
 builder.Services.AddFusionDemo();
 
@@ -73,6 +76,9 @@ app.UseSwaggerUI(ui => ui.SwaggerEndpoint("/openapi/v1.json", "FusionService API
 app.MapOperationsEndpoints();
 app.MapTelemetryEndpoints();
 app.MapVehicleEndpoints();
+app.MapAlertEndpoints();
+app.MapWebhookEndpoints();
+app.MapLiveEndpoints();
 await app.RunAsync().ConfigureAwait(false);
 return 0;
 
