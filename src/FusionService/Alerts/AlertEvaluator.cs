@@ -62,7 +62,7 @@ public sealed class AlertEvaluator
 
         var key = new EventKey(t, m.Kind, m.MessageKey);
         var s = Settings;
-        if (s.GatedBurst.Enabled && outcome.Kind == OutcomeKind.Gated)
+        if (s.GatedBurst.Enabled && outcome.Kind == OutcomeKind.Gated && RuleChecks.Includes(s.GatedBurst.Sensors, m.Kind))
         {
             ObserveGated(key, m.Kind, outcome, s.GatedBurst);
         }
@@ -86,7 +86,7 @@ public sealed class AlertEvaluator
         }
 
         if (s.InconsistentSensor.Enabled && !isReplay && outcome.Kind == OutcomeKind.Accepted && !outcome.Recovered
-            && outcome.Dimension > 0 && double.IsFinite(outcome.Nis) && (int)m.Kind < SensorCount)
+            && outcome.Dimension > 0 && double.IsFinite(outcome.Nis) && (int)m.Kind < SensorCount && RuleChecks.Includes(s.InconsistentSensor.Sensors, m.Kind))
         {
             ObserveNis(m.Kind, t, outcome, s.InconsistentSensor);
         }
@@ -253,7 +253,7 @@ public sealed class AlertEvaluator
             _intervals[cacheKey] = band;
         }
 
-        bool outside = mean < band.Lower || mean > band.Upper;
+        bool outside = (rule.FlagTooPessimistic && mean < band.Lower) || mean > band.Upper;
         w.ConsecutiveOut = outside ? w.ConsecutiveOut + 1 : 0;
         w.LastMean = mean;
         w.LastBand = band;

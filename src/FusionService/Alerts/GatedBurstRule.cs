@@ -5,7 +5,9 @@ namespace FusionService.Alerts;
 /// <c>gated_burst</c>: at least <see cref="MinCount"/> measurements rejected by the chi-square gate within
 /// <see cref="WindowS"/> seconds of data time open one alert; every further gated measurement while it is open adds
 /// to its count; it resolves after <see cref="ClearS"/> seconds of data without a gated measurement. The defaults are
-/// a design choice (about three 1 Hz fixes out of thirty), not taken from a published source.
+/// a design choice (about three 1 Hz fixes out of thirty), not taken from a published source. Only the sensors in
+/// <see cref="Sensors"/> count (default GNSS positions only: the filter routinely gates single wheel and IMU samples and
+/// GNSS velocities at stops and sharp changes of motion, dozens per clean round, which says nothing about a fault).
 /// </summary>
 public sealed record GatedBurstRule
 {
@@ -18,6 +20,9 @@ public sealed record GatedBurstRule
     /// <summary>Gated measurements within the window that open an alert (2-1000). Default 3.</summary>
     public int MinCount { get; init; } = 3;
 
+    /// <summary>Sensors whose gated measurements count (gnss_position, gnss_velocity, wheel, imu). Default gnss_position.</summary>
+    public IReadOnlyList<string> Sensors { get; init; } = ["gnss_position"];
+
     /// <summary>Seconds of data without a gated measurement after which the alert resolves (1-86400). Default 120.</summary>
     public double ClearS { get; init; } = 120;
 
@@ -25,5 +30,6 @@ public sealed record GatedBurstRule
     public string? Validate(string prefix) =>
         RuleChecks.Range(prefix + ".window_s", WindowS, 1, 3600)
         ?? RuleChecks.Range(prefix + ".min_count", MinCount, 2, 1000)
+        ?? RuleChecks.Sensors(prefix + ".sensors", Sensors)
         ?? RuleChecks.Range(prefix + ".clear_s", ClearS, 1, 86400);
 }
