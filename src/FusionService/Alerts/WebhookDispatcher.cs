@@ -60,6 +60,12 @@ public sealed class WebhookDispatcher(
     protected override async Task ExecuteAsync(CancellationToken stoppingToken)
     {
         var o = options.Value;
+        if (!o.DispatcherEnabled)
+        {
+            logger.LogInformation("Webhook dispatcher disabled by configuration (Webhooks:DispatcherEnabled)");
+            return;
+        }
+
         while (!stoppingToken.IsCancellationRequested)
         {
             int sent = 0;

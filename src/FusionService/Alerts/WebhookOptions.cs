@@ -14,6 +14,9 @@ public sealed class WebhookOptions
     /// <summary>Configuration section name.</summary>
     public const string Section = "Webhooks";
 
+    /// <summary>Whether this instance sends deliveries (rows stay in the outbox for another instance otherwise). Default true.</summary>
+    public bool DispatcherEnabled { get; set; } = true;
+
     /// <summary>Timeout of one POST, seconds. Default 10.</summary>
     [Range(1, 300)]
     public double TimeoutS { get; set; } = 10;
