@@ -30,6 +30,7 @@ public sealed class AlertEvaluator
     private readonly Dictionary<(int Count, int Dof, double Probability), (double Lower, double Upper)> _intervals = [];
     private long _nowUs = long.MinValue;
     private long _lastGnssUs = long.MinValue;
+    private long _wheelOutsideSinceUs = long.MinValue;
 
     /// <summary>Creates an evaluator with <paramref name="settings"/>.</summary>
     public AlertEvaluator(AlertRuleSettings settings)
@@ -305,13 +306,20 @@ public sealed class AlertEvaluator
         double scale = posterior.X[StateIndex.WheelScale];
         double variance = posterior.P[(StateIndex.WheelScale * StateIndex.Count) + StateIndex.WheelScale];
         double sd = Math.Sqrt(Math.Max(0, variance));
-        if (!double.IsFinite(scale) || !double.IsFinite(sd) || sd > rule.MaxSd)
+        bool outside = double.IsFinite(scale) && double.IsFinite(sd) && sd <= rule.MaxSd
+            && (scale - (rule.ConfidenceZ * sd) > rule.Upper || scale + (rule.ConfidenceZ * sd) < rule.Lower);
+        if (!outside)
         {
+            _wheelOutsideSinceUs = long.MinValue;
             return;
         }
 
-        bool outside = scale - (rule.ConfidenceZ * sd) > rule.Upper || scale + (rule.ConfidenceZ * sd) < rule.Lower;
-        if (!outside)
+        if (_wheelOutsideSinceUs == long.MinValue)
+        {
+            _wheelOutsideSinceUs = _nowUs;
+        }
+
+        if (_nowUs - _wheelOutsideSinceUs < (long)(rule.HoldS * 1e6) && !_episodes[AlertKinds.WheelScaleOutOfBand].Open)
         {
             return;
         }

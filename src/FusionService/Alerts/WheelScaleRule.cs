@@ -8,7 +8,9 @@ namespace FusionService.Alerts;
 /// [<see cref="Lower"/>, <see cref="Upper"/>] by more than <see cref="ConfidenceZ"/> of its standard deviation, and that
 /// standard deviation is at most <see cref="MaxSd"/> (so the estimate is settled). Default band 0.97-1.03: uncalibrated
 /// odometer scale errors of 0.5-2 % are usual (from memory), so a scale error beyond 3 % points at a wrong tyre size or
-/// a worn or under-inflated tyre. z = 1.96 is the two-sided 95 % normal quantile (derived). The alert resolves after
+/// a worn or under-inflated tyre. z = 1.96 is the two-sided 95 % normal quantile (derived). Because the estimate is
+/// tested after every measurement, the condition must hold for <see cref="HoldS"/> seconds of data in a row before the
+/// alert opens (otherwise a van whose true scale sits at the band's edge would alert on a passing excursion). The alert resolves after
 /// <see cref="ClearS"/> seconds of data in which the condition did not hold.
 /// </summary>
 public sealed record WheelScaleRule
@@ -28,6 +30,9 @@ public sealed record WheelScaleRule
     /// <summary>Standard deviations the estimate must lie beyond the band (0-10). Default 1.96.</summary>
     public double ConfidenceZ { get; init; } = 1.96;
 
+    /// <summary>Seconds of data the condition must hold without a break before the alert opens (0-86400). Default 120.</summary>
+    public double HoldS { get; init; } = 120;
+
     /// <summary>Seconds of data without the condition after which the alert resolves (1-86400). Default 600.</summary>
     public double ClearS { get; init; } = 600;
 
@@ -38,5 +43,6 @@ public sealed record WheelScaleRule
         ?? (Lower < Upper ? null : string.Create(CultureInfo.InvariantCulture, $"{prefix}.upper: must be above lower ({Lower})"))
         ?? RuleChecks.Range(prefix + ".max_sd", MaxSd, 0.0001, 0.1)
         ?? RuleChecks.Range(prefix + ".confidence_z", ConfidenceZ, 0, 10)
+        ?? RuleChecks.Range(prefix + ".hold_s", HoldS, 0, 86400)
         ?? RuleChecks.Range(prefix + ".clear_s", ClearS, 1, 86400);
 }
