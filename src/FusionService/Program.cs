@@ -1,5 +1,6 @@
 // FusionService host: ingest, vehicle states, track grains, background writers; `keys create`, `load` and `demo` as commands.
 using System.Text.Json;
+using FusionService.Alerts;
 using FusionService.Audit;
 using FusionService.Cli;
 using FusionService.Database;
@@ -7,6 +8,7 @@ using FusionService.Demo;
 using FusionService.History;
 using FusionService.Ingest;
 using FusionService.Ingest.Nmea;
+using FusionService.Live;
 using FusionService.Operations;
 using FusionService.Security;
 using FusionService.Tracking;
@@ -62,6 +64,7 @@ builder.Services.AddFusionIngest();
 builder.Services.AddFusionAudit();
 builder.AddFusionTracking();
 builder.Services.AddFusionSecurity();
+builder.Services.AddFusionAlerts();
 builder.Services.AddProblemDetails();
 builder.Services.AddFusionDemo();
 builder.Services.AddFusionHistory();
@@ -86,6 +89,9 @@ app.MapVehicleEndpoints();
 app.MapHistoryEndpoints();
 app.MapAuditEndpoints();
 app.MapNmeaEndpoints();
+app.MapAlertEndpoints();
+app.MapWebhookEndpoints();
+app.MapLiveEndpoints();
 await app.RunAsync().ConfigureAwait(false);
 return 0;
 

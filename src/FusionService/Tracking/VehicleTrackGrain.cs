@@ -1,4 +1,5 @@
 // The grain that runs one vehicle's track.
+using FusionService.Alerts;
 using FusionService.Database;
 using FusionService.Estimation.Diagnostics;
 using FusionService.Estimation.Measurements;
@@ -30,6 +31,7 @@ internal sealed class VehicleTrackGrain(
     IOptions<TrackGrainOptions> options,
     IOptions<DatabaseOptions> databaseOptions,
     TimeProvider time,
+    AlertPublisher alerts,
     ILogger<VehicleTrackGrain> logger) : Grain, IVehicleTrackGrain, ITrackObserver
 {
     private readonly List<MeasurementOutcomeUpdate> _outcomes = [];
@@ -42,10 +44,12 @@ internal sealed class VehicleTrackGrain(
     private long _lastEmitUs = long.MinValue;
     private long _lastPersistedUs = long.MinValue;
     private DateTimeOffset _lastPersistAt;
+    private VehicleAlertMonitor? _monitor;
 
     public override async Task OnActivateAsync(CancellationToken cancellationToken)
     {
         (_fleetId, _vehicleId) = GrainKeys.Parse(this.GetPrimaryKeyString());
+        _monitor = alerts.CreateMonitor(_fleetId, _vehicleId);
         var checkpoint = await gate.RunAsync(
             () => new FilterCheckpointRepository(database.DataSource).NewestCheckpointBeforeAsync(_fleetId, _vehicleId, long.MaxValue, cancellationToken),
             cancellationToken);
@@ -84,6 +88,7 @@ internal sealed class VehicleTrackGrain(
 
         _lastPersistAt = time.GetUtcNow();
         await FlushWritesAsync();
+        await _monitor.FlushAsync(live: false, time.GetUtcNow());
         logger.LogDebug("Track {Key} restored: checkpoint {HasCheckpoint}, {Replayed} measurements re-processed", this.GetPrimaryKeyString(), floor is not null, replayed);
         await base.OnActivateAsync(cancellationToken);
     }
@@ -128,6 +133,7 @@ internal sealed class VehicleTrackGrain(
         }
 
         await FlushWritesAsync();
+        await (_monitor?.FlushAsync(live: true, time.GetUtcNow()) ?? Task.CompletedTask);
         if ((time.GetUtcNow() - _lastPersistAt).TotalSeconds >= options.Value.CheckpointIntervalS)
         {
             await PersistCheckpointAsync();
@@ -189,6 +195,7 @@ internal sealed class VehicleTrackGrain(
 
     void ITrackObserver.OnOutcome(in Measurement m, in CoreOutcome outcome, in TrackState posterior, bool isReplay)
     {
+        _monitor?.Observe(m, outcome, posterior, isReplay);
         if (outcome.Kind is OutcomeKind.Duplicate or OutcomeKind.Conflict)
         {
             return;

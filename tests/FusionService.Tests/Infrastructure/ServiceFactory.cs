@@ -32,6 +32,9 @@ public sealed class ServiceFactory(string connectionString, IReadOnlyDictionary<
             ["Security:RateLimitPermits"] = "100000",
             ["Security:KeyCacheSeconds"] = "0",
             ["Serilog:MinimumLevel:Default"] = "Warning",
+            // Webhook deliveries are tested on hosts of their own; the shared host leaves the outbox to them.
+            ["Webhooks:DispatcherEnabled"] = "false",
+            ["Alerts:SilenceScanIntervalMs"] = "500",
         };
         if (overrides is not null)
         {

@@ -1,0 +1,217 @@
+// Alerts, alert rules and the alert stream of the caller's fleet.
+using System.Text.Json;
+using FusionService.Database;
+using FusionService.Live;
+using FusionService.Security;
+using FusionService.Storage.Alerts;
+using FusionService.Storage.Fleets;
+using Microsoft.AspNetCore.Http.HttpResults;
+
+namespace FusionService.Alerts;
+
+/// <summary>Maps <c>/v1/alerts</c>, <c>/v1/alerts/{id}/acknowledge</c>, <c>/v1/alert-rules</c> and the WebSocket <c>/v1/alerts/stream</c>.</summary>
+public static class AlertEndpoints
+{
+    private const string Caution =
+        " Alerts are derived from estimates and can be wrong both ways: do not use them for safety-critical decisions."
+        + " They describe where vehicles and their drivers were: personal data.";
+
+    private static readonly string[] States = ["open", "acknowledged", "resolved"];
+
+    /// <summary>Maps the alert endpoints.</summary>
+    public static IEndpointRouteBuilder MapAlertEndpoints(this IEndpointRouteBuilder app)
+    {
+        var alerts = app.MapGroup("/v1/alerts").WithTags("Alerts");
+        alerts.MapGet("/", ListAlerts)
+            .RequireApiKey(ApiKeyRole.Read, ApiKeyRole.Admin)
+            .WithName("ListAlerts")
+            .WithSummary("Alerts of the caller's fleet")
+            .WithDescription("Alerts, newest start first. Filters: state (open|acknowledged|resolved), vehicle, kind (gated_burst, "
+                + "inconsistent_sensor, gnss_silent_while_moving, track_reset, wheel_scale_out_of_band, vehicle_silent), from/to (RFC 3339 "
+                + "or Unix milliseconds: alerts still active at or after from and started at or before to), limit (1-1000, default 100). "
+                + "Example: GET /v1/alerts?state=open&kind=gated_burst&limit=20. Needs a read or admin key." + Caution)
+            .ProducesProblem(StatusCodes.Status400BadRequest)
+            .ProducesProblem(StatusCodes.Status401Unauthorized)
+            .ProducesProblem(StatusCodes.Status403Forbidden);
+        alerts.MapPost("/{id}/acknowledge", AcknowledgeAlert)
+            .RequireApiKey(ApiKeyRole.Read, ApiKeyRole.Admin)
+            .WithName("AcknowledgeAlert")
+            .WithSummary("Acknowledge an alert")
+            .WithDescription("Marks an open alert acknowledged and returns it (an acknowledged or resolved alert is returned unchanged). "
+                + "404 for an unknown id or another fleet's alert. Needs a read or admin key.")
+            .ProducesProblem(StatusCodes.Status401Unauthorized)
+            .ProducesProblem(StatusCodes.Status403Forbidden)
+            .ProducesProblem(StatusCodes.Status404NotFound);
+        alerts.MapGet("/stream", StreamAlerts)
+            .RequireStreamKey(ApiKeyRole.Read, ApiKeyRole.Admin)
+            .WithName("StreamAlerts")
+            .WithSummary("Stream new and changed alerts over a WebSocket")
+            .WithDescription("Open a WebSocket with 'Authorization: Bearer <read key>' or, from a browser, the subprotocols "
+                + "'fusion.v1, fusion.key.<read key>' (the server selects fusion.v1). Each new or changed alert of the caller's fleet "
+                + "arrives as one JSON alert per text frame, as in GET /v1/alerts. Frames are dropped (oldest first) for a client "
+                + "that reads too slowly." + Caution)
+            .ProducesProblem(StatusCodes.Status400BadRequest)
+            .ProducesProblem(StatusCodes.Status401Unauthorized)
+            .ProducesProblem(StatusCodes.Status403Forbidden);
+
+        var rules = app.MapGroup("/v1/alert-rules").WithTags("Alerts");
+        rules.MapGet("/", GetAlertRules)
+            .RequireApiKey(ApiKeyRole.Read, ApiKeyRole.Admin)
+            .WithName("GetAlertRules")
+            .WithSummary("The fleet's alert thresholds")
+            .WithDescription("Thresholds of every alert rule of the caller's fleet (defaults unless set). Needs a read or admin key.")
+            .ProducesProblem(StatusCodes.Status401Unauthorized)
+            .ProducesProblem(StatusCodes.Status403Forbidden);
+        rules.MapPut("/", PutAlertRules)
+            .RequireApiKey(ApiKeyRole.Admin)
+            .WithName("PutAlertRules")
+            .WithSummary("Set the fleet's alert thresholds")
+            .WithDescription("Replaces the thresholds; rules or fields left out take their defaults. 400 names the first invalid field, "
+                + "e.g. 'gated_burst.window_s: must be a number from 1 to 3600'. Example body: "
+                + "{\"gated_burst\":{\"window_s\":20,\"min_count\":4},\"vehicle_silent\":{\"silent_s\":600}}. Needs an admin key.")
+            .Accepts<AlertRuleSettings>("application/json")
+            .ProducesProblem(StatusCodes.Status400BadRequest)
+            .ProducesProblem(StatusCodes.Status401Unauthorized)
+            .ProducesProblem(StatusCodes.Status403Forbidden);
+        return app;
+    }
+
+    /// <summary>Handles <c>GET /v1/alerts</c>.</summary>
+    internal static async Task<Results<Ok<AlertListResponse>, ProblemHttpResult>> ListAlerts(
+        HttpContext http, FusionDatabase database, string? state = null, string? vehicle = null, string? kind = null, string? from = null, string? to = null, string? limit = null)
+    {
+        var caller = ApiCaller.Of(http);
+        if (state is not null && !States.Contains(state, StringComparer.Ordinal))
+        {
+            return BadRequest("state: must be one of open, acknowledged, resolved");
+        }
+
+        if (kind is not null && !AlertKinds.All.Contains(kind, StringComparer.Ordinal))
+        {
+            return BadRequest("kind: must be one of " + string.Join(", ", AlertKinds.All));
+        }
+
+        DateTimeOffset? fromTime = null, toTime = null;
+        if (from is not null)
+        {
+            if (!QueryTime.TryParse(from, out var f))
+            {
+                return BadRequest("from: must be an RFC 3339 date-time with offset or Unix milliseconds");
+            }
+
+            fromTime = f;
+        }
+
+        if (to is not null)
+        {
+            if (!QueryTime.TryParse(to, out var t))
+            {
+                return BadRequest("to: must be an RFC 3339 date-time with offset or Unix milliseconds");
+            }
+
+            toTime = t;
+        }
+
+        if (fromTime > toTime)
+        {
+            return BadRequest("to: must not be before from");
+        }
+
+        int count = 100;
+        if (limit is not null && (!int.TryParse(limit, System.Globalization.NumberStyles.Integer, System.Globalization.CultureInfo.InvariantCulture, out count) || count < 1 || count > 1000))
+        {
+            return BadRequest("limit: must be an integer from 1 to 1000");
+        }
+
+        var rows = await new AlertRepository(database.DataSource)
+            .ListAsync(new AlertQuery(caller.FleetId, state, vehicle, kind, fromTime, toTime, count), http.RequestAborted).ConfigureAwait(false);
+        return TypedResults.Ok(new AlertListResponse([.. rows.Select(AlertResponse.From)]));
+    }
+
+    /// <summary>Handles <c>POST /v1/alerts/{id}/acknowledge</c>.</summary>
+    internal static async Task<Results<Ok<AlertResponse>, ProblemHttpResult>> AcknowledgeAlert(
+        string id, HttpContext http, FusionDatabase database, AlertPublisher publisher)
+    {
+        var caller = ApiCaller.Of(http);
+        if (!Guid.TryParse(id, out var alertId))
+        {
+            return NotFound(id);
+        }
+
+        var before = await new AlertRepository(database.DataSource).GetAsync(caller.FleetId, alertId, http.RequestAborted).ConfigureAwait(false);
+        if (before is null)
+        {
+            return NotFound(id);
+        }
+
+        var row = await new AlertRepository(database.DataSource).AcknowledgeAsync(caller.FleetId, alertId, http.RequestAborted).ConfigureAwait(false);
+        if (row is null)
+        {
+            return NotFound(id);
+        }
+
+        if (row.State != before.State)
+        {
+            publisher.Publish([row]);
+        }
+
+        return TypedResults.Ok(AlertResponse.From(row));
+    }
+
+    /// <summary>Handles <c>GET /v1/alert-rules</c>.</summary>
+    internal static async Task<Ok<AlertRuleSettings>> GetAlertRules(HttpContext http, AlertRuleCache rules)
+    {
+        var caller = ApiCaller.Of(http);
+        return TypedResults.Ok(await rules.GetAsync(caller.FleetId, http.RequestAborted).ConfigureAwait(false));
+    }
+
+    /// <summary>Handles <c>PUT /v1/alert-rules</c>.</summary>
+    internal static async Task<Results<Ok<AlertRuleSettings>, ProblemHttpResult>> PutAlertRules(HttpContext http, FusionDatabase database, AlertRuleCache rules)
+    {
+        var caller = ApiCaller.Of(http);
+        AlertRuleSettings? settings;
+        try
+        {
+            settings = await JsonSerializer.DeserializeAsync<AlertRuleSettings>(http.Request.Body, AlertJson.StrictOptions, http.RequestAborted).ConfigureAwait(false);
+        }
+        catch (JsonException ex)
+        {
+            return BadRequest("body: not a valid rule settings document" + (ex.Path is { } path ? " at " + path : string.Empty) + ": " + ex.Message.Split('.')[0]);
+        }
+
+        if (settings is null)
+        {
+            return BadRequest("body: must be a JSON object");
+        }
+
+        if (settings.Validate() is { } problem)
+        {
+            return BadRequest(problem);
+        }
+
+        await new AlertRuleRepository(database.DataSource).PutAsync(caller.FleetId, JsonSerializer.Serialize(settings, AlertJson.Options), http.RequestAborted).ConfigureAwait(false);
+        rules.Set(caller.FleetId, settings);
+        return TypedResults.Ok(settings);
+    }
+
+    /// <summary>Handles the WebSocket <c>/v1/alerts/stream</c>.</summary>
+    internal static async Task<IResult> StreamAlerts(HttpContext http, LiveHub hub)
+    {
+        if (!http.WebSockets.IsWebSocketRequest)
+        {
+            return BadRequest("connection: this endpoint accepts WebSocket upgrades only");
+        }
+
+        var caller = ApiCaller.Of(http);
+        using var subscription = hub.SubscribeAlerts(caller.FleetId);
+        using var socket = await http.WebSockets.AcceptWebSocketAsync(WebSocketKeyAuthentication.AcceptContext(http)).ConfigureAwait(false);
+        await LiveStreaming.PumpAsync(socket, subscription.Reader, http.RequestAborted).ConfigureAwait(false);
+        return TypedResults.Empty;
+    }
+
+    private static ProblemHttpResult BadRequest(string detail) =>
+        TypedResults.Problem(title: "Invalid request", detail: detail, statusCode: StatusCodes.Status400BadRequest);
+
+    private static ProblemHttpResult NotFound(string id) =>
+        TypedResults.Problem(title: "Not found", detail: "id: no alert '" + id + "' in this fleet", statusCode: StatusCodes.Status404NotFound);
+}

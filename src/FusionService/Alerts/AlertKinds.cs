@@ -1,0 +1,49 @@
+// The alert kinds, their severities and the sensor names used in alert details.
+using FusionService.Estimation.Measurements;
+
+namespace FusionService.Alerts;
+
+/// <summary>Names of the alert kinds (as stored and as the API spells them) and the fixed severity of each.</summary>
+public static class AlertKinds
+{
+    /// <summary>Several measurements rejected by the gate within a short window, grouped into one alert.</summary>
+    public const string GatedBurst = "gated_burst";
+
+    /// <summary>A sensor's windowed mean NIS lies outside its two-sided chi-square band.</summary>
+    public const string InconsistentSensor = "inconsistent_sensor";
+
+    /// <summary>No GNSS position for longer than the threshold while the estimated speed is above its threshold.</summary>
+    public const string GnssSilentWhileMoving = "gnss_silent_while_moving";
+
+    /// <summary>The track re-initialised its position (a jump or relocation, e.g. towing).</summary>
+    public const string TrackReset = "track_reset";
+
+    /// <summary>The estimated wheel-speed scale lies outside the accepted band, with a small enough uncertainty.</summary>
+    public const string WheelScaleOutOfBand = "wheel_scale_out_of_band";
+
+    /// <summary>Nothing received from the vehicle for longer than the threshold.</summary>
+    public const string VehicleSilent = "vehicle_silent";
+
+    /// <summary>Every kind, in the order above.</summary>
+    public static IReadOnlyList<string> All { get; } = [GatedBurst, InconsistentSensor, GnssSilentWhileMoving, TrackReset, WheelScaleOutOfBand, VehicleSilent];
+
+    /// <summary>
+    /// Severity of a kind: <c>critical</c> for a track reset (the position jumped), <c>info</c> for the wheel scale (a
+    /// maintenance hint: the filter calibrates it online), <c>warning</c> otherwise.
+    /// </summary>
+    public static string SeverityOf(string kind) => kind switch
+    {
+        TrackReset => "critical",
+        WheelScaleOutOfBand => "info",
+        _ => "warning",
+    };
+
+    /// <summary>The API's name of a sensor: <c>gnss_position</c>, <c>gnss_velocity</c>, <c>wheel</c>, <c>imu</c>.</summary>
+    public static string SensorName(SensorKind sensor) => sensor switch
+    {
+        SensorKind.GnssPosition => "gnss_position",
+        SensorKind.GnssVelocity => "gnss_velocity",
+        SensorKind.WheelSpeed => "wheel",
+        _ => "imu",
+    };
+}

@@ -1,0 +1,50 @@
+// Thresholds of the inconsistent_sensor rule.
+namespace FusionService.Alerts;
+
+/// <summary>
+/// <c>inconsistent_sensor</c>: the normalised innovations squared (NIS) of the measurements a sensor's updates used are
+/// averaged over consecutive, non-overlapping windows of <see cref="WindowSamples"/> samples. For a consistent filter
+/// K times the mean is chi-square with the windows' total degrees of freedom, so a mean outside the two-sided region
+/// of probability <see cref="Probability"/> (<see cref="Estimation.Diagnostics.NisConsistencyTest"/>; Bar-Shalom, Li
+/// and Kirubarajan 2001, NIS test; section from memory) is a sign the sensor's stated noise is wrong. Because a
+/// consistent filter still leaves the 95 % region in one window of twenty, an alert needs
+/// <see cref="ConsecutiveWindows"/> windows in a row outside it (a design choice, not from a source); it resolves after
+/// <see cref="ClearS"/> seconds of data in which no sensor met that condition. Gated measurements and re-processed
+/// ones (after a late arrival) are left out of the windows. Only the sensors in <see cref="Sensors"/> are judged.
+/// A mean below the region (the sensor is better than it claims, or the filter's process noise is generous) counts only
+/// when <see cref="FlagTooPessimistic"/> is set: on clean invented delivery rounds this filter's windowed mean NIS lies
+/// below the region for the wheel (about 0.03 for 1 degree of freedom), the IMU (about 0.6-0.8 for 2) and at times for
+/// GNSS positions (about 1.6 for 2, lower end 1.63), because its process noise is deliberately generous; that costs a
+/// little accuracy but is no fault, while a mean above the region (a sensor noisier than it states) is one.
+/// </summary>
+public sealed record InconsistentSensorRule
+{
+    /// <summary>Whether the rule runs. Default true.</summary>
+    public bool Enabled { get; init; } = true;
+
+    /// <summary>Samples per window (10-10000). Default 100.</summary>
+    public int WindowSamples { get; init; } = 100;
+
+    /// <summary>Consecutive windows outside the region that raise the alert (1-100). Default 3.</summary>
+    public int ConsecutiveWindows { get; init; } = 3;
+
+    /// <summary>Probability of the two-sided region (0.5-0.9999). Default 0.95.</summary>
+    public double Probability { get; init; } = 0.95;
+
+    /// <summary>Sensors judged (gnss_position, gnss_velocity, wheel, imu). Default all four.</summary>
+    public IReadOnlyList<string> Sensors { get; init; } = ["gnss_position", "gnss_velocity", "wheel", "imu"];
+
+    /// <summary>Whether a mean below the region (too pessimistic) also counts. Default false.</summary>
+    public bool FlagTooPessimistic { get; init; }
+
+    /// <summary>Seconds of data without the condition after which the alert resolves (1-86400). Default 300.</summary>
+    public double ClearS { get; init; } = 300;
+
+    /// <summary>The first invalid field as "field: reason", or null.</summary>
+    public string? Validate(string prefix) =>
+        RuleChecks.Range(prefix + ".window_samples", WindowSamples, 10, 10000)
+        ?? RuleChecks.Range(prefix + ".consecutive_windows", ConsecutiveWindows, 1, 100)
+        ?? RuleChecks.Range(prefix + ".probability", Probability, 0.5, 0.9999)
+        ?? RuleChecks.Sensors(prefix + ".sensors", Sensors)
+        ?? RuleChecks.Range(prefix + ".clear_s", ClearS, 1, 86400);
+}

@@ -1,0 +1,97 @@
+// Periodic scan for vehicles that stopped sending.
+using System.Globalization;
+using System.Text.Json.Nodes;
+using FusionService.Database;
+using FusionService.Storage.Alerts;
+using Microsoft.Extensions.Options;
+using Npgsql;
+
+namespace FusionService.Alerts;
+
+/// <summary>
+/// Background service for <c>vehicle_silent</c>: every <see cref="AlertOptions.SilenceScanIntervalMs"/> it compares each
+/// known vehicle's newest receipt (<see cref="VehicleActivity"/>, seeded at start from the store's
+/// <c>measurements.received_at</c> of the last <see cref="AlertOptions.SilenceLookbackHours"/>) with the server clock
+/// and the fleet's <see cref="VehicleSilentRule"/>: a silent vehicle gets (or keeps) an open alert, a vehicle heard from
+/// again has it resolved at the next scan (the alert is written only when that changes). Alert times here are
+/// server-clock times. After a restart, an open alert of a vehicle that sends again before the first scan stays open
+/// until that vehicle falls silent and recovers once more (the scanner keeps no state in the store).
+/// </summary>
+public sealed class VehicleSilenceScanner(
+    FusionDatabase database, AlertPublisher publisher, IOptions<AlertOptions> options, TimeProvider time, ILogger<VehicleSilenceScanner> logger) : BackgroundService
+{
+    private readonly HashSet<(Guid, string)> _silent = [];
+    private bool _seeded;
+
+    /// <inheritdoc />
+    protected override async Task ExecuteAsync(CancellationToken stoppingToken)
+    {
+        using var timer = new PeriodicTimer(TimeSpan.FromMilliseconds(options.Value.SilenceScanIntervalMs), time);
+        try
+        {
+            while (await timer.WaitForNextTickAsync(stoppingToken).ConfigureAwait(false))
+            {
+                try
+                {
+                    await ScanAsync(stoppingToken).ConfigureAwait(false);
+                }
+                catch (Exception ex) when (ex is NpgsqlException or InvalidOperationException or TimeoutException)
+                {
+                    logger.LogWarning(ex, "Silent-vehicle scan failed; retrying at the next tick");
+                }
+            }
+        }
+        catch (OperationCanceledException) when (stoppingToken.IsCancellationRequested)
+        {
+            // Stopping.
+        }
+    }
+
+    /// <summary>One scan (also used by tests through the hosted instance's timer).</summary>
+    private async Task ScanAsync(CancellationToken cancellationToken)
+    {
+        var now = time.GetUtcNow();
+        if (!_seeded)
+        {
+            foreach (var r in await new AlertRepository(database.DataSource).NewestReceiptsAsync(now.AddHours(-options.Value.SilenceLookbackHours), cancellationToken).ConfigureAwait(false))
+            {
+                publisher.Activity.Note(r.FleetId, r.VehicleId, r.ReceivedAt);
+            }
+
+            _seeded = true;
+        }
+
+        foreach (var ((fleetId, vehicleId), last) in publisher.Activity.Snapshot())
+        {
+            var rule = (await publisher.Rules.GetAsync(fleetId, cancellationToken).ConfigureAwait(false)).VehicleSilent;
+            bool silent = rule.IsSilent(last, now);
+            bool known = _silent.Contains((fleetId, vehicleId));
+            if (silent == known)
+            {
+                continue;
+            }
+
+            double silentS = Math.Max(0, (now - last).TotalSeconds);
+            var observation = new AlertObservation(
+                AlertKinds.VehicleSilent,
+                AlertKinds.SeverityOf(AlertKinds.VehicleSilent),
+                last,
+                silent ? now : last,
+                1,
+                string.Create(CultureInfo.InvariantCulture, $"Nothing received for {silentS:0} s"),
+                new JsonObject { ["silent_s"] = silentS, ["last_received_at"] = last.ToString("O", CultureInfo.InvariantCulture), ["threshold_s"] = rule.SilentS }.ToJsonString(),
+                Resolve: !silent);
+            if (await publisher.ApplyAsync(fleetId, vehicleId, [observation], cancellationToken).ConfigureAwait(false))
+            {
+                if (silent)
+                {
+                    _silent.Add((fleetId, vehicleId));
+                }
+                else
+                {
+                    _silent.Remove((fleetId, vehicleId));
+                }
+            }
+        }
+    }
+}

@@ -1,0 +1,43 @@
+// The signing helper against published HMAC-SHA256 test vectors.
+using System.Text;
+using FusionService.Alerts;
+
+namespace FusionService.Tests.Alerts;
+
+public sealed class WebhookSignerTests
+{
+    // RFC 4231 ("Identifier and Test Vectors for HMAC-SHA-224, -256, -384, and -512"), sections 4.2 and 4.3,
+    // HMAC-SHA-256 results (published; digits from memory, and each re-checked here against .NET's HMACSHA256 below).
+    [Theory]
+    [InlineData("0b0b0b0b0b0b0b0b0b0b0b0b0b0b0b0b0b0b0b0b", "4869205468657265", "b0344c61d8db38535ca8afceaf0bf12b881dc200c9833da726e9376c2e32cff7")]
+    [InlineData("4a656665", "7768617420646f2079612077616e7420666f72206e6f7468696e673f", "5bdcc146bf60754e6a042426089575c75a003f089d2739839dec58b964ec3843")]
+    public void Mac_matches_rfc4231(string keyHex, string dataHex, string expectedHex)
+    {
+        byte[] key = Convert.FromHexString(keyHex), data = Convert.FromHexString(dataHex);
+        Assert.Equal(expectedHex, Convert.ToHexStringLower(WebhookSigner.Mac(key, data)));
+        using var reference = new System.Security.Cryptography.HMACSHA256(key);
+        Assert.Equal(expectedHex, Convert.ToHexStringLower(reference.ComputeHash(data)));
+    }
+
+    [Fact]
+    public void Signature_is_hmac_of_timestamp_newline_body()
+    {
+        const string Secret = "0123456789abcdef-secret", Body = """{"id":"x","kind":"gated_burst"}""";
+        using var reference = new System.Security.Cryptography.HMACSHA256(Encoding.UTF8.GetBytes(Secret));
+        string expected = "hmac-sha256=" + Convert.ToHexStringLower(reference.ComputeHash(Encoding.UTF8.GetBytes("1796198400\n" + Body)));
+        Assert.Equal(expected, WebhookSigner.Sign(Secret, 1_796_198_400, Body));
+    }
+
+    [Theory]
+    [InlineData(1, 2.0)]
+    [InlineData(2, 4.0)]
+    [InlineData(5, 32.0)]
+    [InlineData(20, 3600.0)]
+    public void Backoff_doubles_from_the_base_up_to_the_cap(int failedAttempts, double expectedS)
+    {
+        var options = new WebhookOptions { BaseDelayS = 2, MaxDelayS = 3600, JitterFraction = 0.2 };
+        Assert.Equal(expectedS, options.BackoffDelay(failedAttempts, 0.5).TotalSeconds, 9);
+        Assert.Equal(expectedS * 0.8, options.BackoffDelay(failedAttempts, 0.0).TotalSeconds, 9);
+        Assert.True(options.BackoffDelay(failedAttempts, 0.999999).TotalSeconds <= expectedS * 1.2);
+    }
+}
