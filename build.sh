@@ -82,7 +82,7 @@ case "${1:-test}" in
     shift
     run_service "$@"
     ;;
-  keys|load)
+  keys|load|alert-latency)
     # The same data directory as run/serve, so that these commands find the running service's embedded cluster.
     export Database__DataDirectory="${Database__DataDirectory:-$root/data/pg}"
     dotnet run -c Release --project src/FusionService -- "$@"
@@ -93,7 +93,7 @@ case "${1:-test}" in
     dotnet run -c Release --project tests/FusionService.Benchmarks -- "$@"
     ;;
   *)
-    echo "usage: ./build.sh [test|run|serve|keys create ...|load ...|bench [BenchmarkDotNet args]]" >&2
+    echo "usage: ./build.sh [test|run|serve|keys create ...|load ...|alert-latency ...|bench [BenchmarkDotNet args]]" >&2
     exit 2
     ;;
 esac

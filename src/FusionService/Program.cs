@@ -26,6 +26,12 @@ if (KeysCommand.Matches(args))
     return await KeysCommand.RunAsync(args, configuration, Console.Out, Console.Error).ConfigureAwait(false);
 }
 
+if (AlertLatencyCommand.Matches(args))
+{
+    using var cancel = new CancellationTokenSource();
+    return await AlertLatencyCommand.RunAsync(args, Console.Out, Console.Error, cancel.Token).ConfigureAwait(false);
+}
+
 if (LoadCommand.Matches(args))
 {
     using var cancel = new CancellationTokenSource();
