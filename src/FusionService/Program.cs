@@ -1,6 +1,7 @@
 // FusionService host: ingest, vehicle states, track grains, background writers; `keys create`, `load` and `demo` as commands.
 using System.Text.Json;
 using FusionService.Cli;
+using FusionService.Dashboard;
 using FusionService.Database;
 using FusionService.Demo;
 using FusionService.Ingest;
@@ -55,6 +56,7 @@ builder.AddFusionTracking();
 builder.Services.AddFusionSecurity();
 builder.Services.AddProblemDetails();
 builder.Services.AddFusionDemo();
+builder.Services.AddFusionDashboard();
 
 builder.Services.ConfigureHttpJsonOptions(json =>
 {
@@ -67,6 +69,7 @@ builder.WebHost.ConfigureKestrel(kestrel => kestrel.Limits.MaxRequestBodySize = 
 var app = builder.Build();
 app.UseExceptionHandler();
 app.UseStatusCodePages();
+app.UseFusionDashboard();
 app.UseWebSockets();
 app.UseRateLimiter();
 app.UseSwaggerUI(ui => ui.SwaggerEndpoint("/openapi/v1.json", "FusionService API v1"));
