@@ -6,6 +6,12 @@ export function utcTime(iso) {
   return Number.isNaN(d.getTime()) ? '—' : d.toISOString().slice(11, 19) + ' UTC';
 }
 
+export function utcTimeTenths(iso) {
+  if (!iso) return '—';
+  const d = new Date(iso);
+  return Number.isNaN(d.getTime()) ? '—' : d.toISOString().slice(11, 21);
+}
+
 export function utcDateTime(iso) {
   if (!iso) return '—';
   const d = new Date(iso);
@@ -14,7 +20,8 @@ export function utcDateTime(iso) {
 
 export function num(value, digits = 1, unit = '') {
   if (value === null || value === undefined || !Number.isFinite(value)) return '—';
-  return value.toFixed(digits) + (unit ? ` ${unit}` : '');
+  const text = value.toFixed(digits);
+  return (/^-0(\.0*)?$/.test(text) ? text.slice(1) : text) + (unit ? ` ${unit}` : '');
 }
 
 export function speedKmh(mps) {

@@ -1,5 +1,5 @@
 // An SVG map in a local metric frame (east/north metres), with pan and zoom (d3-zoom), a scale bar and optional tiles.
-import * as d3 from '../lib/d3/d3.min.mjs';
+import { d3 } from './d3.js';
 import { formatLengthM, niceLengthM } from './localFrame.js';
 
 const WEB_MERCATOR_M_PER_PX_Z0 = 156543.03392804097; // 2 pi a / 256 (tile side 256 px, equator)
@@ -87,7 +87,8 @@ export class LocalMap {
     bar.append('path').attr('d', `M0,-6 V0 H${px} V-6`).attr('class', 'scale-bar-line');
     bar.append('text').attr('x', px / 2).attr('y', -7).attr('text-anchor', 'middle').attr('class', 'scale-bar-label')
       .attr('data-length-m', lengthM).text(formatLengthM(lengthM));
-    const north = this.overlay.append('g').attr('class', 'north-mark').attr('transform', `translate(${this.size().width - 26},30)`);
+    const north = this.overlay.append('g').attr('class', 'north-mark').attr('transform', `translate(${this.size().width - 24},${height - 36})`);
+    north.append('circle').attr('r', 17).attr('cy', 2).attr('class', 'north-back');
     north.append('path').attr('d', 'M0,-14 L6,4 L0,0 L-6,4 Z');
     north.append('text').attr('y', 18).attr('text-anchor', 'middle').text('N');
   }

@@ -1,11 +1,11 @@
 // Vehicle view: raw fixes (gated ones marked apart), filtered and smoothed paths, a time scrubber, the explanation of a
 // point, NIS strip charts per sensor, calibration estimates and the distance summary.
-import * as d3 from '../lib/d3/d3.min.mjs';
+import { d3 } from './d3.js';
 import { describeError, getJson, query } from './api.js';
 import { LocalMap } from './localMap.js';
 import { centroid, createFrame, ellipseRotationSvgDeg } from './localFrame.js';
 import { drawNisChart } from './nisChart.js';
-import { escapeHtml, num, SENSOR_WORDS, utcDateTime, utcTime, VERDICT_WORDS } from './format.js';
+import { escapeHtml, num, SENSOR_WORDS, utcDateTime, utcTime, utcTimeTenths, VERDICT_WORDS } from './format.js';
 
 const EXPLAIN_WINDOW_S = 10;
 const NIS_WINDOW_S = 120;
@@ -145,12 +145,6 @@ export class VehicleView {
   draw(map) {
     if (!this.frame) return;
     const layers = map.layers;
-    const paths = [['filtered', 'filtered-path'], ['smoothed', 'smoothed-path']];
-    for (const [kind, id] of paths) {
-      const pts = this.tracks[kind];
-      layers.selectAll(`path#${id}`).data([pts]).join('path').attr('id', id).attr('class', `track ${id}`)
-        .attr('data-points', pts.length).attr('d', pts.length > 1 ? this.line(pts) : null);
-    }
     const raw = this.tracks.raw;
     const fixes = layers.selectAll('g.fixes').data([0]).join('g').attr('class', 'fixes');
     fixes.selectAll('circle.fix').data(raw.filter((p) => p.outcome !== 'gated'), (p) => p.time).join('circle')
@@ -164,7 +158,17 @@ export class VehicleView {
       .on('click', (event, p) => this.select(p.timeMs, true))
       .selectAll('title').data((p) => [p]).join('title').text((p) => `${utcTime(p.time)} gated, NIS ${num(p.nis, 1)}`);
 
-    const selected = this.nearest(this.tracks.smoothed, this.selectedMs) ?? this.nearest(this.tracks.filtered, this.selectedMs);
+    const paths = [['filtered', 'filtered-path'], ['smoothed', 'smoothed-path']];
+    for (const [kind, id] of paths) {
+      const pts = this.tracks[kind];
+      layers.selectAll(`path#${id}`).data([pts]).join('path').attr('id', id).attr('class', `track ${id}`)
+        .attr('data-points', pts.length).attr('d', pts.length > 1 ? this.line(pts) : null);
+    }
+    // Paths above the fixes; the selection marker above both.
+    layers.selectAll('g.selected').raise();
+    // Without a track (its endpoint missing), the marker shows the current estimate.
+    const current = this.state ? { ...this.state, ...this.frame.toLocal(this.state.lat_deg, this.state.lon_deg) } : null;
+    const selected = this.nearest(this.tracks.smoothed, this.selectedMs) ?? this.nearest(this.tracks.filtered, this.selectedMs) ?? current;
     const marker = layers.selectAll('g.selected').data(selected ? [selected] : []).join((enter) => {
       const g = enter.append('g').attr('class', 'selected');
       g.append('ellipse').attr('class', 'selected-ellipse');
@@ -204,7 +208,7 @@ export class VehicleView {
     const s = e.state ?? {};
     const rows = (e.measurements ?? []).map((m) => `
       <tr class="decision-${escapeHtml(m.decision)}">
-        <td>${utcTime(m.time)}</td><td>${escapeHtml(SENSOR_WORDS[m.sensor] ?? m.sensor)}</td>
+        <td>${utcTimeTenths(m.time)}</td><td>${escapeHtml(SENSOR_WORDS[m.sensor] ?? m.sensor)}</td>
         <td>${escapeHtml(Object.entries(m.values ?? {}).map(([k, val]) => `${k} ${typeof val === 'number' ? val.toFixed(k.endsWith('_deg') ? 6 : 2) : val}`).join(', '))}</td>
         <td class="n">${escapeHtml((m.residual ?? []).map((r) => r.toFixed(2)).join(', '))}</td>
         <td class="n">${num(m.nis, 2)}${m.nis_dof ? ` / ${m.nis_dof}` : ''}</td>
@@ -215,8 +219,8 @@ export class VehicleView {
     this.set('#explain-panel', `
       <p>Estimate at ${utcDateTime(s.time)}: ${num(s.lat_deg, 6)}°, ${num(s.lon_deg, 6)}°, heading ${num(s.heading_deg, 0, '°')},
          ${num(s.speed_mps, 1, 'm/s')}, 95 % ellipse ${num(s.ellipse95?.semi_major_m, 1)} × ${num(s.ellipse95?.semi_minor_m, 1)} m.</p>
-      <table class="grid small"><thead><tr><th>time</th><th>sensor</th><th>values</th><th>residual</th><th>NIS / dof</th>
-        <th>gate</th><th>decision</th><th>moved the estimate</th></tr></thead><tbody>${rows || '<tr><td colspan="8">no measurements in this window</td></tr>'}</tbody></table>`);
+      <div class="scroll"><table class="grid small"><thead><tr><th>time</th><th>sensor</th><th>values</th><th>residual</th><th>NIS / dof</th>
+        <th>gate</th><th>decision</th><th>moved the estimate</th></tr></thead><tbody>${rows || '<tr><td colspan="8">no measurements in this window</td></tr>'}</tbody></table></div>`);
   }
 
   sensorDiagnostics(sensor) {
