@@ -35,6 +35,9 @@ export class FleetView {
         this.root.querySelector('#fleet-frame').textContent =
           `Local east/north frame in metres around ${c.latDeg.toFixed(5)}°, ${c.lonDeg.toFixed(5)}° (the fleet's centroid at first sight).`;
         this.fitAll();
+      } else if (!this.map.userMoved) {
+        // Until someone pans or zooms, keep every van in view as vans appear and move.
+        this.fitAll();
       } else {
         this.map.render();
       }

@@ -20,7 +20,10 @@ export class LocalMap {
     this.tiles = this.svg.append('g').attr('class', 'tiles');
     this.layers = this.svg.append('g').attr('class', 'layers');
     this.overlay = this.svg.append('g').attr('class', 'overlay');
+    this.userMoved = false;
     this.zoom = d3.zoom().scaleExtent([0.02, 2000]).on('zoom', (event) => {
+      // Only a person's wheel, drag or pinch carries a source event; fit() does not.
+      if (event.sourceEvent) this.userMoved = true;
       this.transform = event.transform;
       this.render();
     });
@@ -44,6 +47,7 @@ export class LocalMap {
 
   /** Fits the view to points given as {eastM, northM}, with equal metres per pixel on both axes. */
   fit(points, minExtentM = 200) {
+    this.userMoved = false;
     const { width, height } = this.size();
     const east = points.map((p) => p.eastM);
     const north = points.map((p) => p.northM);
