@@ -60,8 +60,10 @@ export class FleetView {
     const groups = map.layers.selectAll('g.van').data(points, (d) => d.vehicle).join((enter) => {
       const g = enter.append('g').attr('class', 'van').attr('data-vehicle', (d) => d.vehicle)
         .on('click', (event, d) => this.onOpenVan(d.vehicle));
+      // A heading tick and a small dot, so that even a few-pixel ellipse stays visible around the position.
+      g.append('path').attr('class', 'van-heading').attr('d', 'M0,0 V-14');
       g.append('ellipse').attr('class', 'van-ellipse');
-      g.append('path').attr('class', 'van-arrow').attr('d', 'M0,-9 L5,6 L0,3 L-5,6 Z');
+      g.append('circle').attr('class', 'van-dot').attr('r', 2.2);
       g.append('text').attr('class', 'van-label').attr('x', 9).attr('y', -8);
       g.append('title');
       return g;
@@ -72,7 +74,7 @@ export class FleetView {
       .attr('ry', (d) => d.ellipse95.semi_minor_m * k)
       .attr('transform', (d) => `rotate(${ellipseRotationSvgDeg(d.ellipse95.orientation_deg)})`)
       .attr('data-semi-major-m', (d) => d.ellipse95.semi_major_m);
-    groups.select('path.van-arrow').attr('transform', (d) => `rotate(${d.heading_deg})`);
+    groups.select('path.van-heading').attr('transform', (d) => `rotate(${d.heading_deg})`);
     groups.select('text').text((d) => d.vehicle);
     groups.select('title').text((d) => `${d.vehicle}: 95 % ellipse ${num(d.ellipse95.semi_major_m, 1)} × ${num(d.ellipse95.semi_minor_m, 1)} m (click to open)`);
   }
