@@ -15,7 +15,14 @@ public sealed class Issue5VehicleViewTests(DashboardFixture fixture)
         DashboardPage.WaitFor(
             () => page.Driver.FindElements(By.CssSelector("#van-table tr[data-vehicle='van-07'] a")).Count == 1,
             TimeSpan.FromSeconds(120), "van-07 in the fleet table");
-        page.Driver.FindElement(By.CssSelector("#van-table tr[data-vehicle='van-07'] a")).Click();
+        // WaitFor looks again when a poll redrew the element between lookup and click.
+        DashboardPage.WaitFor(
+            () =>
+            {
+                page.Driver.FindElement(By.CssSelector("#van-table tr[data-vehicle='van-07'] a")).Click();
+                return true;
+            },
+            TimeSpan.FromSeconds(20), "a click on van-07");
         DashboardPage.WaitFor(() => page.Visible("#vehicle-view"), TimeSpan.FromSeconds(20), "the vehicle view of van-07");
 
         // The demo's day runs at 60x: refresh until the window holds the smoothed path, gated fixes and GNSS NIS values.
@@ -42,9 +49,16 @@ public sealed class Issue5VehicleViewTests(DashboardFixture fixture)
         DashboardPage.WaitFor(
             () => page.Driver.FindElements(By.CssSelector("#alerts-list li.alert[data-vehicle='van-07'][data-state='open'] button.acknowledge")).Count > 0,
             TimeSpan.FromSeconds(180), "an open alert for van-07 in the alerts list");
-        var alert = page.Driver.FindElement(By.CssSelector("#alerts-list li.alert[data-vehicle='van-07'][data-state='open']"));
-        string id = alert.GetDomAttribute("data-alert-id")!;
-        alert.FindElement(By.CssSelector("button.acknowledge")).Click();
+        string id = string.Empty;
+        DashboardPage.WaitFor(
+            () =>
+            {
+                var alert = page.Driver.FindElement(By.CssSelector("#alerts-list li.alert[data-vehicle='van-07'][data-state='open']"));
+                id = alert.GetDomAttribute("data-alert-id")!;
+                alert.FindElement(By.CssSelector("button.acknowledge")).Click();
+                return true;
+            },
+            TimeSpan.FromSeconds(20), "a click on the alert's Acknowledge button");
         DashboardPage.WaitFor(
             () => page.Driver.FindElements(By.CssSelector($"#alerts-list li.alert[data-alert-id='{id}'][data-state='acknowledged']")).Count == 1,
             TimeSpan.FromSeconds(20), "alert " + id + " shown as acknowledged");

@@ -1,5 +1,4 @@
 // Serving the dashboard: static files at "/" (no key; every API call the page makes carries the user's key).
-using Microsoft.AspNetCore.StaticFiles;
 using Microsoft.Extensions.FileProviders;
 using Microsoft.Extensions.Options;
 
@@ -39,13 +38,10 @@ public static class DashboardExtensions
         }
 
         var files = new PhysicalFileProvider(folder);
-        var types = new FileExtensionContentTypeProvider();
-        types.Mappings[".mjs"] = "text/javascript";
         app.UseDefaultFiles(new DefaultFilesOptions { FileProvider = files });
         app.UseStaticFiles(new StaticFileOptions
         {
             FileProvider = files,
-            ContentTypeProvider = types,
             OnPrepareResponse = context =>
             {
                 var headers = context.Context.Response.Headers;

@@ -23,7 +23,7 @@ export class AlertsList {
   async refresh() {
     const status = this.root.querySelector('#alerts-status');
     try {
-      const body = await getJson(`/v1/alerts${query({ limit: 200 })}`);
+      const body = await getJson(`/v1/alerts${query({ limit: 100 })}`);
       this.alerts = body.alerts ?? [];
       this.available = true;
       status.textContent = `Updated ${utcDateTime(new Date().toISOString())}.`;
@@ -45,7 +45,7 @@ export class AlertsList {
       .sort((a, b) => (b.started_at ?? '').localeCompare(a.started_at ?? ''));
     const list = this.root.querySelector('#alerts-list');
     list.dataset.count = String(shown.length);
-    list.innerHTML = shown.map((a) => `
+    const html = shown.map((a) => `
       <li class="alert severity-${escapeHtml(a.severity)} state-${escapeHtml(a.state)}" data-alert-id="${escapeHtml(a.id)}"
           data-vehicle="${escapeHtml(a.vehicle)}" data-kind="${escapeHtml(a.kind)}" data-state="${escapeHtml(a.state)}">
         <div class="alert-head">
@@ -61,6 +61,11 @@ export class AlertsList {
             : `<span class="alert-state">${escapeHtml(a.state)}</span>`}
         </div>
       </li>`).join('') || `<li class="muted small">${this.available ? 'No open alerts.' : 'No alerts to show.'}</li>`;
+    // Replace the list only when it changed, so a button under the pointer is not swapped out every poll.
+    if (this.lastHtml !== html) {
+      list.innerHTML = html;
+      this.lastHtml = html;
+    }
   }
 
   async onClick(event) {

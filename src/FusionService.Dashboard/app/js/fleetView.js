@@ -88,6 +88,11 @@ export class FleetView {
         <td class="n">${num(v.heading_deg, 0, '°')}</td>
         <td class="n">${num(v.ellipse95.semi_major_m, 1)} × ${num(v.ellipse95.semi_minor_m, 1)} m</td>
       </tr>`).join('');
-    this.root.querySelector('#van-table tbody').innerHTML = rows;
+    // Replace the rows only when they changed, so a link under the pointer is not swapped out every poll.
+    const body = this.root.querySelector('#van-table tbody');
+    if (this.lastRows !== rows) {
+      body.innerHTML = rows;
+      this.lastRows = rows;
+    }
   }
 }
