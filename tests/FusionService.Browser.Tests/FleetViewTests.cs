@@ -85,6 +85,8 @@ public sealed class FleetViewTests(DashboardFixture fixture)
             DashboardPage.WaitFor(
                 () => page.Driver.FindElements(By.CssSelector("#fleet-map g.van")).Count == 8,
                 TimeSpan.FromSeconds(120), "all 8 demo vans on the fleet map");
+            // The vans start together at the depot: let them go out on their rounds (20 min of the demo's day).
+            Thread.Sleep(TimeSpan.FromSeconds(20));
         }
 
         string shot = page.Screenshot("fleet-view");

@@ -55,7 +55,9 @@ export class LocalMap {
     const [n0, n1] = north.length ? d3.extent(north) : [-minExtentM / 2, minExtentM / 2];
     const spanE = Math.max(e1 - e0, minExtentM);
     const spanN = Math.max(n1 - n0, minExtentM);
-    const mPerPx = Math.max(spanE / width, spanN / height) * 1.15;
+    // Keep a margin free for the scale bar, the north mark and the labels.
+    const marginPx = 56;
+    const mPerPx = Math.max(spanE / Math.max(width - 2 * marginPx, 50), spanN / Math.max(height - 2 * marginPx, 50));
     const ce = (e0 + e1) / 2;
     const cn = (n0 + n1) / 2;
     this.baseX.domain([ce - (width / 2) * mPerPx, ce + (width / 2) * mPerPx]).range([0, width]);
