@@ -35,6 +35,7 @@ export class VehicleView {
       this.vehicle = vehicle;
       this.frame = null;
       this.selectedMs = null;
+      this.window = null;
     }
     this.root.querySelector('#vehicle-name').textContent = vehicle;
     await this.load();
@@ -58,6 +59,8 @@ export class VehicleView {
     }
     const toMs = Date.parse(state.time);
     const fromMs = toMs - minutes * 60_000;
+    // A selection at the newest time follows the newest time on refresh.
+    if (this.window && this.selectedMs === this.window.toMs) this.selectedMs = toMs;
     this.window = { fromMs, toMs };
     const range = { from: new Date(fromMs).toISOString(), to: new Date(toMs).toISOString() };
     this.scrubber.min = String(fromMs);
