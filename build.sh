@@ -23,13 +23,40 @@ ensure_prerequisites() {
       exit 2
     fi
   fi
+  # The service's build copies the dashboard's libraries from npm (src/FusionService.Dashboard/package-lock.json).
+  if ! command -v npm >/dev/null 2>&1; then
+    apt_install "Node.js and npm (the dashboard's libraries)" nodejs npm
+  fi
+}
+
+# Installs Debian packages when running as root with apt; otherwise says what is missing and stops.
+apt_install() {
+  local what=$1
+  shift
+  if [ "$(id -u)" = 0 ] && command -v apt-get >/dev/null 2>&1; then
+    echo "==> installing $what (apt: $*)"
+    apt-get update -qq && DEBIAN_FRONTEND=noninteractive apt-get install -y -qq "$@" >/dev/null
+  else
+    echo "build.sh: $what required; install the Debian packages: $*" >&2
+    exit 2
+  fi
+}
+
+# The browser tests drive Debian's chromium through its chromedriver.
+ensure_browser() {
+  if [ ! -x /usr/bin/chromium ] || [ ! -x /usr/bin/chromedriver ]; then
+    apt_install "chromium and chromedriver (browser tests)" chromium chromium-driver
+  fi
 }
 
 run_tests() {
   ensure_prerequisites
+  ensure_browser
   local results="$root/artifacts/test-results"
   rm -rf "$results"
   mkdir -p "$results"
+  # Screenshots of the browser tests land beside the TRX files.
+  export FUSION_TEST_ARTIFACTS="$results/browser"
   echo "==> restore"
   dotnet restore FusionService.sln
   echo "==> build (Release, warnings are errors)"

@@ -3,6 +3,7 @@ using System.Text.Json;
 using FusionService.Alerts;
 using FusionService.Audit;
 using FusionService.Cli;
+using FusionService.Dashboard;
 using FusionService.Database;
 using FusionService.Demo;
 using FusionService.History;
@@ -74,6 +75,7 @@ builder.Services.AddFusionAlerts();
 builder.Services.AddProblemDetails();
 builder.Services.AddFusionDemo();
 builder.Services.AddFusionHistory();
+builder.Services.AddFusionDashboard();
 
 builder.Services.ConfigureHttpJsonOptions(json =>
 {
@@ -86,6 +88,7 @@ builder.WebHost.ConfigureKestrel(kestrel => kestrel.Limits.MaxRequestBodySize = 
 var app = builder.Build();
 app.UseExceptionHandler();
 app.UseStatusCodePages();
+app.UseFusionDashboard();
 app.UseWebSockets();
 app.UseRateLimiter();
 app.UseSwaggerUI(ui => ui.SwaggerEndpoint("/openapi/v1.json", "FusionService API v1"));

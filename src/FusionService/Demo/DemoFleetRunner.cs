@@ -46,6 +46,7 @@ public sealed partial class DemoFleetRunner(
         Console.Out.WriteLine();
         Console.Out.WriteLine($"FusionService demo: fleet '{demo.FleetName}', {fleet.Vans.Count} vans, {demo.Acceleration:0.#}x, uploads over {demo.Transport}");
         Console.Out.WriteLine($"  service        {baseUrl}");
+        Console.Out.WriteLine($"  dashboard      {baseUrl} (sign in with the read key)");
         Console.Out.WriteLine($"  API docs       {new Uri(baseUrl, "swagger")}");
         Console.Out.WriteLine($"  read key       {read.Secret}");
         Console.Out.WriteLine($"  ingest key     {ingest.Secret}");

@@ -1,0 +1,8 @@
+// What the dashboard page reads at start: its tile source and polling interval.
+namespace FusionService.Dashboard;
+
+/// <summary>Settings the dashboard page reads at start (no key needed; holds no fleet data).</summary>
+/// <param name="TileUrlTemplate">Map tile address with {z}/{x}/{y}, or null for no tiles.</param>
+/// <param name="TileAttribution">Attribution text for the tiles, or null.</param>
+/// <param name="PollIntervalMs">Polling interval for the fleet and the alerts, milliseconds.</param>
+public sealed record DashboardSettingsResponse(string? TileUrlTemplate, string? TileAttribution, int PollIntervalMs);
