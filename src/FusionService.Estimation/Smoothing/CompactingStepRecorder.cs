@@ -9,7 +9,8 @@ namespace FusionService.Estimation.Smoothing;
 /// <summary>
 /// A bounded-memory <see cref="IStepRecorder"/> for Rauch-Tung-Striebel smoothing: instead of every forward step
 /// (about 1.7 KB each, <see cref="ForwardPassRecorder"/>), it keeps only chosen instants (the first posterior at least
-/// <see cref="RecordIntervalUs"/> after the previous recorded one, plus each segment's first and last) and folds every
+/// <see cref="RecordIntervalUs"/> after the previous recorded one, the last one before a gap in the data, and each
+/// segment's first and last) and folds every
 /// step between two recorded instants into one equivalent smoothing step, while the forward pass runs.
 /// </summary>
 /// <remarks>
@@ -77,6 +78,12 @@ public sealed class CompactingStepRecorder : IStepRecorder
         RecordIntervalUs = recordIntervalUs;
         DiscardBeforeUs = discardBeforeUs;
     }
+
+    /// <summary>
+    /// A posterior followed by a step longer than this (a gap in the data) is always recorded, microseconds: 2 s, the
+    /// <see cref="Diagnostics.TrapezoidDistanceIntegrator.GapS"/> beyond which distance is taken along the chord.
+    /// </summary>
+    public const long GapUs = 2_000_000;
 
     /// <summary>Recorded instants superseded by a later one at or before this time are dropped, Unix microseconds.</summary>
     public long DiscardBeforeUs { get; }
@@ -148,7 +155,8 @@ public sealed class CompactingStepRecorder : IStepRecorder
 
             if (_hasPair)
             {
-                if (_tPost - _tR >= RecordIntervalUs)
+                // Also keep the last posterior before a gap in the data, so that no link spans driving and the gap.
+                if (_tPost - _tR >= RecordIntervalUs || timeUs - _tPost > GapUs)
                 {
                     RecordPair();
                 }

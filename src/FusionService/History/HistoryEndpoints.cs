@@ -169,7 +169,7 @@ public static class HistoryEndpoints
 
         long intervalUs = (long)Math.Round(options.Value.SmoothedIntervalS * 1e6);
         var track = await smoother.BuildAsync(caller.FleetId, vehicle, fromUs, toUs, intervalUs, http.RequestAborted).ConfigureAwait(false);
-        DistanceEstimate smoothed = DistanceIntegrator.Integrate(track.Segments, fromUs, toUs);
+        DistanceEstimate smoothed = TrapezoidDistanceIntegrator.Integrate(track.Segments, fromUs, toUs);
         var odometer = new OdometerDistance();
         var scale = new ScaleLookup(track.Segments);
         foreach (Measurement m in track.Measurements)

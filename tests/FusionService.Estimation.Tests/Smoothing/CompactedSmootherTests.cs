@@ -129,6 +129,39 @@ public sealed class CompactedSmootherTests(ITestOutputHelper output)
     }
 
     [Fact]
+    public void Trapezoid_distance_is_the_same_from_both_records_and_bounded_across_a_parked_gap()
+    {
+        // Two rounds with ten minutes parked and silent between them (invented demo data).
+        var network = new DeliveryNetwork();
+        var suite = SensorSuite.ForProfile(NoiseProfile.DeliveryVan) with { OutlierProbability = 0.01 };
+        TruthTrajectory first = network.PlanRound(1, stopCount: 3, seed: 4300, minDwellS: 20, maxDwellS: 40).Drive();
+        TruthTrajectory second = network.PlanRound(1, stopCount: 3, seed: 4301, minDwellS: 20, maxDwellS: 40)
+            .Drive(new RouteDriverOptions { StartTimeUs = first.EndTimeUs + 600_000_000 });
+        var all = MeasurementGenerator.Generate(first, suite, 91).Measurements.Concat(MeasurementGenerator.Generate(second, suite, 92).Measurements).ToArray();
+        ReplayResult full = TrackReplay.Run(Processor, TrackState.Empty, all);
+        var every = CompactedTrackReplay.Run(Processor, TrackState.Empty, all, 0);
+        var perSecond = CompactedTrackReplay.Run(Processor, TrackState.Empty, all, 1_000_000);
+        long from = first.StartTimeUs + 20_000_000, to = second.EndTimeUs;
+        DistanceEstimate reference = TrapezoidDistanceIntegrator.Integrate(full.Smoothed, from, to);
+        DistanceEstimate compacted = TrapezoidDistanceIntegrator.Integrate(every, from, to);
+        DistanceEstimate coarse = TrapezoidDistanceIntegrator.Integrate(perSecond, from, to);
+        DistanceEstimate ctra = DistanceIntegrator.Integrate(perSecond, from, to);
+        double truth = TrueDistance(first, from, to) + TrueDistance(second, from, to);
+        output.WriteLine(string.Create(CultureInfo.InvariantCulture,
+            $"truth {truth:F2} m; trapezoid full-step {reference.DistanceM:F3} ± {reference.SigmaM:F3} m, compacted every instant {compacted.DistanceM:F3} ± {compacted.SigmaM:F3} m, "
+            + $"compacted 1 s {coarse.DistanceM:F3} ± {coarse.SigmaM:F3} m; CTRA increments from 1 s instants across the gap {ctra.DistanceM:F1} m"));
+
+        // Same instants, same algebra (derived): equal to round-off.
+        AssertNear.Equal(reference.DistanceM, compacted.DistanceM, 1e-6, "trapezoid distance (m)");
+        AssertNear.Equal(reference.SigmaM, compacted.SigmaM, 1e-6, "trapezoid distance sd (m)");
+
+        // Against the truth: within 0.5 % (the service's stated accuracy goal), the ten silent minutes included.
+        AssertNear.Equal(truth, coarse.DistanceM, 0.005 * truth, "trapezoid distance from 1 s instants vs truth (m)");
+        AssertNear.Equal(truth, reference.DistanceM, 0.005 * truth, "trapezoid full-step distance vs truth (m)");
+        Assert.True(coarse.SigmaM > 0 && coarse.StationaryS > 600, $"sd {coarse.SigmaM} m, stationary {coarse.StationaryS} s");
+    }
+
+    [Fact]
     public void Discarding_the_run_in_keeps_the_window_bitwise_and_memory_bounded()
     {
         var all = Round.Value.All;
