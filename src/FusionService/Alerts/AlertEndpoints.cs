@@ -6,6 +6,7 @@ using FusionService.Security;
 using FusionService.Storage.Alerts;
 using FusionService.Storage.Fleets;
 using Microsoft.AspNetCore.Http.HttpResults;
+using FusionService.Http;
 
 namespace FusionService.Alerts;
 
@@ -94,22 +95,22 @@ public static class AlertEndpoints
         DateTimeOffset? fromTime = null, toTime = null;
         if (from is not null)
         {
-            if (!QueryTime.TryParse(from, out var f))
+            if (!QueryTime.TryParse(from, out long fromUs))
             {
                 return BadRequest("from: must be an RFC 3339 date-time with offset or Unix milliseconds");
             }
 
-            fromTime = f;
+            fromTime = QueryTime.ToTime(fromUs);
         }
 
         if (to is not null)
         {
-            if (!QueryTime.TryParse(to, out var t))
+            if (!QueryTime.TryParse(to, out long toUs))
             {
                 return BadRequest("to: must be an RFC 3339 date-time with offset or Unix milliseconds");
             }
 
-            toTime = t;
+            toTime = QueryTime.ToTime(toUs);
         }
 
         if (fromTime > toTime)

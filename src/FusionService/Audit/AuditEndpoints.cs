@@ -10,6 +10,8 @@ using FusionService.Storage.Vehicles;
 using Microsoft.AspNetCore.Http.HttpResults;
 using Microsoft.Extensions.Options;
 
+using FusionService.Http;
+
 namespace FusionService.Audit;
 
 /// <summary>Maps the diagnostics and explanation endpoints.</summary>

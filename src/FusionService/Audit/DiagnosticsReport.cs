@@ -6,6 +6,8 @@ using FusionService.Estimation.Tracking;
 using FusionService.Storage.Audit;
 using StoredOutcome = FusionService.Storage.Measurements.MeasurementOutcome;
 
+using FusionService.Http;
+
 namespace FusionService.Audit;
 
 /// <summary>

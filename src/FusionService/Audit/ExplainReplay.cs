@@ -9,6 +9,8 @@ using FusionService.Vehicles;
 using CoreOutcome = FusionService.Estimation.Tracking.MeasurementOutcome;
 using StoredOutcome = FusionService.Storage.Measurements.MeasurementOutcome;
 
+using FusionService.Http;
+
 namespace FusionService.Audit;
 
 /// <summary>

@@ -2,9 +2,9 @@
 using System.Globalization;
 using System.Text.RegularExpressions;
 
-namespace FusionService.Audit;
+namespace FusionService.Http;
 
-/// <summary>Parses the <c>from</c>, <c>to</c> and <c>time</c> query parameters, written like ingest times.</summary>
+/// <summary>Parses the <c>from</c>, <c>to</c> and <c>time</c> query parameters of every endpoint, written like ingest times.</summary>
 public static partial class QueryTime
 {
     /// <summary>
