@@ -7,7 +7,10 @@ namespace FusionService.Estimation.Diagnostics;
 /// <summary>
 /// Distance travelled from RTS-smoothed states: the CTRA model's along-track increment over each step,
 /// Δs(k) = v(k) τ + a(k) τ² / 2, summed over the interval. Integrating the smoothed speed, not the polyline of
-/// positions, is what keeps GNSS wander at a standstill out of the distance.
+/// positions, is what keeps GNSS wander at a standstill out of the distance. Meant for the dense instants of a
+/// full-step replay (every measurement): over a long gap between instants the τ² term grows without bound (a small
+/// smoothed acceleration across a ten-minute data gap adds kilometres), so sparse or gappy instants — the compacted
+/// recording and stored data, as the service uses — go through <see cref="TrapezoidDistanceIntegrator"/>.
 /// </summary>
 /// <remarks>
 /// The distance is linear in the smoothed states, D = Σ g(k)ᵀ x(k|N), so its variance needs the smoothed
