@@ -35,6 +35,14 @@ public sealed class PartitionMaintainerTests(PostgresFixture server)
         {
             Assert.Equal(expectedDays, await maintainer.PartitionDaysAsync(table));
         }
+
+        // Room for the one in-page (heap-only) verdict update of every measurement row.
+        Assert.Equal(
+            "{fillfactor=70}",
+            await schema.ScalarAsync<string>("SELECT reloptions::text FROM pg_class WHERE oid = 'measurements_p20250308'::regclass"));
+        Assert.Equal(
+            "{fillfactor=100}",
+            await schema.ScalarAsync<string>("SELECT reloptions::text FROM pg_class WHERE oid = 'fused_states_p20250308'::regclass"));
     }
 
     [Fact]
