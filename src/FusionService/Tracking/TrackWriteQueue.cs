@@ -69,12 +69,22 @@ public sealed class TrackWriteQueue : BackgroundService
             _states.AddRange(item.States);
         }
 
+        // The two writes touch different tables: run them at once on two connections. Each list is cleared only
+        // when its own write succeeded, so a failed one is retried with the same rows at the next flush.
+        await Task.WhenAll(WriteOutcomesAsync(cancellationToken), WriteStatesAsync(cancellationToken)).ConfigureAwait(false);
+    }
+
+    private async Task WriteOutcomesAsync(CancellationToken cancellationToken)
+    {
         if (_outcomes.Count > 0)
         {
             await MeasurementOutcomeUpdater.ApplyAsync(_database.DataSource, _outcomes, cancellationToken).ConfigureAwait(false);
             _outcomes.Clear();
         }
+    }
 
+    private async Task WriteStatesAsync(CancellationToken cancellationToken)
+    {
         if (_states.Count > 0)
         {
             await FusedStateUpserter.UpsertAsync(_database.DataSource, _states, cancellationToken).ConfigureAwait(false);
