@@ -25,6 +25,7 @@ internal static class VanDaySplit
         var recordMs = new List<double>();
         var backwardMs = new List<double>();
         int instants = 0;
+        ulong digest = 0;
         for (int r = 0; r < repeats; r++)
         {
             var sw = Stopwatch.StartNew();
@@ -59,19 +60,47 @@ internal static class VanDaySplit
 
             sw.Restart();
             instants = 0;
+            var smoothed = new List<SmoothedSegment>();
             foreach (CompactedSegment segment in recorder.Segments)
             {
                 CompactedRauchTungStriebelSmoother.Smooth(segment);
-                instants += segment.ToSmoothedSegment().Count;
+                smoothed.Add(segment.ToSmoothedSegment());
+                instants += smoothed[^1].Count;
             }
 
             backwardMs.Add(sw.Elapsed.TotalMilliseconds);
+            digest = Digest(smoothed);
         }
 
-        Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"van day: {day.Length} measurements, {instants} smoothed instants, {repeats} repeats"));
+        Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"van day: {day.Length} measurements, {instants} smoothed instants, {repeats} repeats, digest of the smoothed means, covariances and gains {digest:x16}"));
         Print("forward filter, no recorder", filterMs);
         Print("forward filter + compacting recorder", recordMs);
         Print("compacted backward pass + segments", backwardMs);
+    }
+
+    /// <summary>A bitwise digest of every smoothed mean, covariance and gain, to compare two builds bit for bit.</summary>
+    private static ulong Digest(List<SmoothedSegment> segments)
+    {
+        ulong h = 14695981039346656037;
+        void Mix(double v) => h = (h ^ (ulong)BitConverter.DoubleToInt64Bits(v)) * 1099511628211;
+        foreach (SmoothedSegment s in segments)
+        {
+            for (int k = 0; k < s.Count; k++)
+            {
+                for (int i = 0; i < 8; i++)
+                {
+                    Mix(s.Means[k][i]);
+                }
+
+                for (int i = 0; i < 64; i++)
+                {
+                    Mix(s.Covariances[k][i]);
+                    Mix(s.Gains[k][i]);
+                }
+            }
+        }
+
+        return h;
     }
 
     private static void Print(string what, List<double> ms)
