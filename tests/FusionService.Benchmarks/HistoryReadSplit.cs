@@ -1,4 +1,5 @@
 // Stopwatch split of the smoothed-track request's storage part: reading a stored van day back from PostgreSQL.
+using System.Collections.Concurrent;
 using System.Diagnostics;
 using System.Globalization;
 using FusionService.Estimation.Measurements;
@@ -80,6 +81,8 @@ internal static class HistoryReadSplit
         var rowByRowMs = new List<double>();
         var copyMs = new List<double>();
         var replayMs = new List<double>();
+        var overlappedMs = new List<double>();
+        var processor = new TrackProcessor(new TrackOptions(), NoiseProfile.DeliveryVan);
         List<Measurement> read = [];
         for (int r = 0; r < repeats; r++)
         {
@@ -109,14 +112,74 @@ internal static class HistoryReadSplit
             }
 
             sw.Restart();
-            CompactedTrackReplay.Run(new TrackProcessor(new TrackOptions(), NoiseProfile.DeliveryVan), TrackState.Empty, read, 1_000_000);
+            var sequential = CompactedTrackReplay.Run(processor, TrackState.Empty, read, 1_000_000);
             replayMs.Add(sw.Elapsed.TotalMilliseconds);
+
+            sw.Restart();
+            var overlapped = await ReadOverlappedAsync(reader, processor, fleet, vehicle, fromUs, toUs);
+            overlappedMs.Add(sw.Elapsed.TotalMilliseconds);
+            if (overlapped.Count != sequential.Count || overlapped[^1].Means[^1][0] != sequential[^1].Means[^1][0])
+            {
+                throw new InvalidOperationException("the overlapped replay differs");
+            }
         }
 
         Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"read back {read.Count} measurements, {repeats} repeats"));
         Print("row-by-row reader into the list", rowByRowMs);
         Print("binary COPY export into the list", copyMs);
         Print("replay + compacted smoother", replayMs);
+        Print("COPY export overlapped with the replay", overlappedMs);
+    }
+
+    /// <summary>The read and the replay as <c>SmoothedTrackBuilder</c> runs them: chunks of rows to a replay thread.</summary>
+    private static async Task<IReadOnlyList<SmoothedSegment>> ReadOverlappedAsync(
+        TrackHistoryReader reader, TrackProcessor processor, Guid fleet, string vehicle, long fromUs, long toUs)
+    {
+        const int chunkLength = 8192;
+        using var chunks = new BlockingCollection<Measurement[]>();
+        var kept = new List<Measurement>();
+        var replay = Task.Factory.StartNew(
+            () => CompactedTrackReplay.Run(processor, TrackState.Empty, Collect(chunks, kept), 1_000_000),
+            CancellationToken.None,
+            TaskCreationOptions.LongRunning,
+            TaskScheduler.Default);
+        try
+        {
+            var chunk = new Measurement[chunkLength];
+            int filled = 0;
+            await reader.ReadReplayMeasurementsAsync(fleet, vehicle, fromUs, toUs, 0, (short)SensorKind.Imu, s =>
+            {
+                chunk[filled++] = Measurement.FromStored(s.TimeUs, ((ulong)(byte)s.Kind << 56) | (ulong)s.MessageKey, s.V0, s.V1 ?? double.NaN, (float)(s.V2 ?? 0));
+                if (filled == chunkLength)
+                {
+                    chunks.Add(chunk);
+                    chunk = new Measurement[chunkLength];
+                    filled = 0;
+                }
+            });
+            if (filled > 0)
+            {
+                chunks.Add(chunk[..filled]);
+            }
+        }
+        finally
+        {
+            chunks.CompleteAdding();
+        }
+
+        return await replay;
+    }
+
+    private static IEnumerable<Measurement> Collect(BlockingCollection<Measurement[]> chunks, List<Measurement> kept)
+    {
+        foreach (Measurement[] chunk in chunks.GetConsumingEnumerable())
+        {
+            foreach (Measurement m in chunk)
+            {
+                kept.Add(m);
+                yield return m;
+            }
+        }
     }
 
     private static void Print(string what, List<double> ms)
