@@ -43,8 +43,8 @@ internal sealed class SmoothedTrackBuilder(TrackProcessor processor, FusionDatab
         }
 
         // Reading (a PostgreSQL backend scanning the rows) and the replay (this process filtering them) overlap: the
-        // rows go over in chunks to a replay thread, so on a machine with two cores the request takes about the longer
-        // of the two instead of their sum (docs/benchmarks.md, smoothed track of a vehicle-day).
+        // rows go over in chunks to a replay thread, so when a core is free the request takes about the longer of the
+        // two instead of their sum (on a loaded machine little is gained: docs/benchmarks.md, smoothed track of a vehicle-day).
         var measurements = new List<Measurement>();
         using var chunks = new BlockingCollection<Measurement[]>();
         using var stop = CancellationTokenSource.CreateLinkedTokenSource(cancellationToken);
@@ -85,13 +85,20 @@ internal sealed class SmoothedTrackBuilder(TrackProcessor processor, FusionDatab
         }
         catch
         {
-            // The replay thread must not wait for rows that will never come.
+            // The replay thread must not wait for rows that will never come, nor outlive the collection; the read's
+            // failure is the one reported, so the replay's own (cancellation) is observed and dropped.
             await stop.CancelAsync().ConfigureAwait(false);
+            chunks.CompleteAdding();
+            await Task.WhenAny(replay).ConfigureAwait(false);
+            _ = replay.Exception;
             throw;
         }
         finally
         {
-            chunks.CompleteAdding();
+            if (!chunks.IsAddingCompleted)
+            {
+                chunks.CompleteAdding();
+            }
         }
 
         var segments = await replay.ConfigureAwait(false);
