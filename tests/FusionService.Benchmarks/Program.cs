@@ -8,4 +8,16 @@ if (args.Length > 0 && string.Equals(args[0], "memory", StringComparison.Ordinal
     return;
 }
 
+if (args.Length > 0 && string.Equals(args[0], "vanday-split", StringComparison.Ordinal))
+{
+    VanDaySplit.Run(args.Length > 1 ? int.Parse(args[1], System.Globalization.CultureInfo.InvariantCulture) : 3);
+    return;
+}
+
+if (args.Length > 0 && string.Equals(args[0], "history-split", StringComparison.Ordinal))
+{
+    await HistoryReadSplit.RunAsync(args.Length > 1 ? int.Parse(args[1], System.Globalization.CultureInfo.InvariantCulture) : 3);
+    return;
+}
+
 BenchmarkSwitcher.FromAssembly(typeof(Program).Assembly).Run(args);

@@ -1,3 +1,5 @@
+using System.Runtime.InteropServices;
+using System.Runtime.Intrinsics;
 using FusionService.Estimation.Filtering;
 using FusionService.Estimation.Geodesy;
 using FusionService.Estimation.LinearAlgebra;
@@ -217,23 +219,20 @@ public sealed class CompactingStepRecorder : IStepRecorder
             return;
         }
 
-        Matrix8 g = default;
-        SolveGain(_sigmaPred, _pPred, ref g);
-        Matrix8 d = _pi;
-        for (int i = 0; i < N; i++)
-        {
-            for (int j = 0; j < N; j++)
-            {
-                double sum = 0;
-                for (int l = 0; l < N; l++)
-                {
-                    sum += _sigmaPred[(i * N) + l] * g[(j * N) + l];
-                }
+        Matrix8 gT = default;
+        SolveGainTransposed(_sigmaPred, _pPred, ref gT);
 
-                d[(i * N) + j] -= sum;
-            }
+        // D = Π - Σ⁻ Gᵀ.
+        Matrix8 product = default;
+        MultiplyRows(_sigmaPred, gT, product);
+        Matrix8 d = _pi;
+        for (int i = 0; i < Matrix8.Length; i++)
+        {
+            d[i] -= product[i];
         }
 
+        Matrix8 g = default;
+        Transpose(gT, ref g);
         s.Means[_r] = _mu;
         s.Covariances[_r] = d;
         s.Gains[_r] = g;
@@ -249,65 +248,83 @@ public sealed class CompactingStepRecorder : IStepRecorder
     /// <summary>Folds the pending prediction/posterior pair into μ, Π and Σ of the current recorded instant.</summary>
     private void AbsorbPair()
     {
-        Matrix8 g = default;
-        SolveGain(_sigmaPred, _pPred, ref g);
-        Span<double> dx = stackalloc double[N];
-        for (int i = 0; i < N; i++)
-        {
-            dx[i] = _xPost[i] - _xPred[i];
-        }
+        Matrix8 gT = default;
+        SolveGainTransposed(_sigmaPred, _pPred, ref gT);
+        ReadOnlySpan<double> gTs = gT;
+        ref double gTr = ref MemoryMarshal.GetReference(gTs);
 
-        dx[HeadingRad] = Angles.WrapPi(dx[HeadingRad]);
-        for (int i = 0; i < N; i++)
+        // μ ← μ + G [x⁺ - x⁻], G's columns taken as rows of Gᵀ.
+        Vector256<double> lo = Vector256<double>.Zero;
+        Vector256<double> hi = Vector256<double>.Zero;
+        for (int j = 0; j < N; j++)
         {
-            double sum = 0;
-            for (int j = 0; j < N; j++)
+            double dxj = _xPost[j] - _xPred[j];
+            if (j == HeadingRad)
             {
-                sum += g[(i * N) + j] * dx[j];
+                dxj = Angles.WrapPi(dxj);
             }
 
-            _mu[i] += sum;
+            var v = Vector256.Create(dxj);
+            lo += Vector256.LoadUnsafe(ref gTr, (nuint)(j * N)) * v;
+            hi += Vector256.LoadUnsafe(ref gTr, (nuint)((j * N) + 4)) * v;
         }
 
-        // Σ ← G P⁺; Π ← Π + (Σ - Σ⁻) Gᵀ.
+        Span<double> mu = _mu;
+        ref double muR = ref MemoryMarshal.GetReference(mu);
+        (Vector256.LoadUnsafe(ref muR) + lo).StoreUnsafe(ref muR);
+        (Vector256.LoadUnsafe(ref muR, 4) + hi).StoreUnsafe(ref muR, 4);
+
+        // Σ ← G P⁺, skipping zero gains as the scalar form did.
         Matrix8 sigma = default;
+        ReadOnlySpan<double> post = _pPost;
+        ref double postR = ref MemoryMarshal.GetReference(post);
+        Span<double> sigmaS = sigma;
+        ref double sigmaR = ref MemoryMarshal.GetReference(sigmaS);
         for (int i = 0; i < N; i++)
         {
+            lo = Vector256<double>.Zero;
+            hi = Vector256<double>.Zero;
             for (int l = 0; l < N; l++)
             {
-                double gil = g[(i * N) + l];
+                double gil = gTs[(l * N) + i];
                 if (gil == 0)
                 {
                     continue;
                 }
 
-                for (int j = 0; j < N; j++)
-                {
-                    sigma[(i * N) + j] += gil * _pPost[(l * N) + j];
-                }
+                var v = Vector256.Create(gil);
+                lo += v * Vector256.LoadUnsafe(ref postR, (nuint)(l * N));
+                hi += v * Vector256.LoadUnsafe(ref postR, (nuint)((l * N) + 4));
             }
+
+            lo.StoreUnsafe(ref sigmaR, (nuint)(i * N));
+            hi.StoreUnsafe(ref sigmaR, (nuint)((i * N) + 4));
         }
 
-        for (int i = 0; i < N; i++)
+        // Π ← Π + (Σ - Σ⁻) Gᵀ.
+        Matrix8 diff = default;
+        for (int i = 0; i < Matrix8.Length; i++)
         {
-            for (int j = 0; j < N; j++)
-            {
-                double sum = 0;
-                for (int l = 0; l < N; l++)
-                {
-                    sum += (sigma[(i * N) + l] - _sigmaPred[(i * N) + l]) * g[(j * N) + l];
-                }
+            diff[i] = sigma[i] - _sigmaPred[i];
+        }
 
-                _pi[(i * N) + j] += sum;
-            }
+        Matrix8 product = default;
+        MultiplyRows(diff, gT, product);
+        for (int i = 0; i < Matrix8.Length; i++)
+        {
+            _pi[i] += product[i];
         }
 
         _sigma = sigma;
         _hasPair = false;
     }
 
-    /// <summary>G = Σ⁻ P⁻¹ by a Cholesky solve per row (P symmetric positive definite).</summary>
-    private static void SolveGain(in Matrix8 sigmaPred, in Matrix8 pPred, ref Matrix8 g)
+    /// <summary>
+    /// Gᵀ = P⁻¹ Σ⁻ᵀ (G = Σ⁻ P⁻¹, P symmetric positive definite) by one Cholesky factorisation and forward and back
+    /// substitution on whole rows of Σ⁻ᵀ at once: the same operations in the same order as a solve per row of G, so the
+    /// result is the same to the last bit.
+    /// </summary>
+    private static void SolveGainTransposed(in Matrix8 sigmaPred, in Matrix8 pPred, ref Matrix8 gT)
     {
         Span<double> chol = stackalloc double[Matrix8.Length];
         for (int i = 0; i < Matrix8.Length; i++)
@@ -320,37 +337,81 @@ public sealed class CompactingStepRecorder : IStepRecorder
             throw new FilterDivergenceException("predicted covariance is not positive definite while compacting the forward pass");
         }
 
-        Span<double> row = stackalloc double[N];
-        for (int i = 0; i < N; i++)
+        Transpose(sigmaPred, ref gT);
+        Span<double> t = gT;
+        ref double tr = ref MemoryMarshal.GetReference(t);
+        for (int c = 0; c < N; c++)
         {
-            for (int j = 0; j < N; j++)
+            var lo = Vector256.LoadUnsafe(ref tr, (nuint)(c * N));
+            var hi = Vector256.LoadUnsafe(ref tr, (nuint)((c * N) + 4));
+            for (int k = 0; k < c; k++)
             {
-                row[j] = sigmaPred[(i * N) + j];
+                var v = Vector256.Create(chol[(c * N) + k]);
+                lo -= v * Vector256.LoadUnsafe(ref tr, (nuint)(k * N));
+                hi -= v * Vector256.LoadUnsafe(ref tr, (nuint)((k * N) + 4));
             }
 
-            ExtendedKalmanFilter.ForwardSubstitute(chol, N, row);
-            ExtendedKalmanFilter.BackSubstitute(chol, N, row);
-            for (int j = 0; j < N; j++)
+            var diagonal = Vector256.Create(chol[(c * N) + c]);
+            (lo / diagonal).StoreUnsafe(ref tr, (nuint)(c * N));
+            (hi / diagonal).StoreUnsafe(ref tr, (nuint)((c * N) + 4));
+        }
+
+        for (int c = N - 1; c >= 0; c--)
+        {
+            var lo = Vector256.LoadUnsafe(ref tr, (nuint)(c * N));
+            var hi = Vector256.LoadUnsafe(ref tr, (nuint)((c * N) + 4));
+            for (int k = c + 1; k < N; k++)
             {
-                g[(i * N) + j] = row[j];
+                var v = Vector256.Create(chol[(k * N) + c]);
+                lo -= v * Vector256.LoadUnsafe(ref tr, (nuint)(k * N));
+                hi -= v * Vector256.LoadUnsafe(ref tr, (nuint)((k * N) + 4));
             }
+
+            var diagonal = Vector256.Create(chol[(c * N) + c]);
+            (lo / diagonal).StoreUnsafe(ref tr, (nuint)(c * N));
+            (hi / diagonal).StoreUnsafe(ref tr, (nuint)((c * N) + 4));
         }
     }
 
     /// <summary>result = a fᵀ.</summary>
     private static void MultiplyTransposed(in Matrix8 a, in Matrix8 f, ref Matrix8 result)
     {
+        Matrix8 fT = default;
+        Transpose(f, ref fT);
+        MultiplyRows(a, fT, result);
+    }
+
+    /// <summary>
+    /// result = a b, each row of the result summed over l in ascending order from zero (the order of the scalar loops
+    /// this replaces, without fused multiply-add, so the sums are the same to the last bit).
+    /// </summary>
+    private static void MultiplyRows(ReadOnlySpan<double> a, ReadOnlySpan<double> b, Span<double> result)
+    {
+        ref double br = ref MemoryMarshal.GetReference(b);
+        ref double rr = ref MemoryMarshal.GetReference(result);
+        for (int i = 0; i < N; i++)
+        {
+            var lo = Vector256<double>.Zero;
+            var hi = Vector256<double>.Zero;
+            for (int l = 0; l < N; l++)
+            {
+                var v = Vector256.Create(a[(i * N) + l]);
+                lo += v * Vector256.LoadUnsafe(ref br, (nuint)(l * N));
+                hi += v * Vector256.LoadUnsafe(ref br, (nuint)((l * N) + 4));
+            }
+
+            lo.StoreUnsafe(ref rr, (nuint)(i * N));
+            hi.StoreUnsafe(ref rr, (nuint)((i * N) + 4));
+        }
+    }
+
+    private static void Transpose(in Matrix8 a, ref Matrix8 result)
+    {
         for (int i = 0; i < N; i++)
         {
             for (int j = 0; j < N; j++)
             {
-                double sum = 0;
-                for (int l = 0; l < N; l++)
-                {
-                    sum += a[(i * N) + l] * f[(j * N) + l];
-                }
-
-                result[(i * N) + j] = sum;
+                result[(j * N) + i] = a[(i * N) + j];
             }
         }
     }

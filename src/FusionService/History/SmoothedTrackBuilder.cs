@@ -1,4 +1,5 @@
 // Replays a vehicle's stored measurements and smooths them with the bounded-memory RTS smoother.
+using System.Collections.Concurrent;
 using FusionService.Database;
 using FusionService.Estimation.Measurements;
 using FusionService.Estimation.Smoothing;
@@ -6,7 +7,6 @@ using FusionService.Estimation.Tracking;
 using FusionService.Storage.Checkpoints;
 using FusionService.Storage.History;
 using Microsoft.Extensions.Options;
-using StoredOutcome = FusionService.Storage.Measurements.MeasurementOutcome;
 
 namespace FusionService.History;
 
@@ -42,25 +42,91 @@ internal sealed class SmoothedTrackBuilder(TrackProcessor processor, FusionDatab
             readFromUs = last.TimeUs;
         }
 
+        // Reading (a PostgreSQL backend scanning the rows) and the replay (this process filtering them) overlap: the
+        // rows go over in chunks to a replay thread, so when a core is free the request takes about the longer of the
+        // two instead of their sum (on a loaded machine little is gained: docs/benchmarks.md, smoothed track of a vehicle-day).
         var measurements = new List<Measurement>();
-        var reader = new TrackHistoryReader(database.DataSource);
-        await foreach (var s in reader.StreamMeasurementsAsync(fleetId, vehicle, readFromUs, toUs, 0, (short)SensorKind.Imu, cancellationToken).ConfigureAwait(false))
+        using var chunks = new BlockingCollection<Measurement[]>();
+        using var stop = CancellationTokenSource.CreateLinkedTokenSource(cancellationToken);
+        Measurement? skipUpTo = floor;
+        Task<IReadOnlyList<SmoothedSegment>> replay = Task.Factory.StartNew(
+            () => CompactedTrackReplay.Run(processor, start, Collect(chunks, skipUpTo, measurements, stop.Token), recordIntervalUs, discardBeforeUs: fromUs),
+            stop.Token,
+            TaskCreationOptions.LongRunning,
+            TaskScheduler.Default);
+        try
         {
-            if (s.Outcome == StoredOutcome.Duplicate)
+            var chunk = new Measurement[ChunkLength];
+            int filled = 0;
+            var reader = new TrackHistoryReader(database.DataSource);
+            await reader.ReadReplayMeasurementsAsync(
+                fleetId,
+                vehicle,
+                readFromUs,
+                toUs,
+                0,
+                (short)SensorKind.Imu,
+                s =>
+                {
+                    chunk[filled++] = Measurement.FromStored(
+                        s.TimeUs, ((ulong)(byte)s.Kind << 56) | (ulong)s.MessageKey, s.V0, s.V1 ?? double.NaN, (float)(s.V2 ?? 0));
+                    if (filled == ChunkLength)
+                    {
+                        chunks.Add(chunk, stop.Token);
+                        chunk = new Measurement[ChunkLength];
+                        filled = 0;
+                    }
+                },
+                stop.Token).ConfigureAwait(false);
+            if (filled > 0)
             {
-                continue;
+                chunks.Add(chunk[..filled], stop.Token);
             }
-
-            var m = Measurement.FromStored(s.TimeUs, ((ulong)(byte)s.Kind << 56) | (ulong)s.MessageKey, s.V0, s.V1 ?? double.NaN, (float)(s.V2 ?? 0));
-            if (floor is { } f && VehicleTrack.CompareKey(m, f) <= 0)
+        }
+        catch
+        {
+            // The replay thread must not wait for rows that will never come, nor outlive the collection; the read's
+            // failure is the one reported, so the replay's own (cancellation) is observed and dropped.
+            await stop.CancelAsync().ConfigureAwait(false);
+            chunks.CompleteAdding();
+            await Task.WhenAny(replay).ConfigureAwait(false);
+            _ = replay.Exception;
+            throw;
+        }
+        finally
+        {
+            if (!chunks.IsAddingCompleted)
             {
-                continue;
+                chunks.CompleteAdding();
             }
-
-            measurements.Add(m);
         }
 
-        var segments = CompactedTrackReplay.Run(processor, start, measurements, recordIntervalUs, discardBeforeUs: fromUs);
+        var segments = await replay.ConfigureAwait(false);
         return new SmoothedTrack(segments, measurements, floor is not null);
+    }
+
+    /// <summary>Rows handed from the storage read to the replay thread at a time.</summary>
+    private const int ChunkLength = 8192;
+
+    /// <summary>
+    /// The measurements of <paramref name="chunks"/> in order, without those at or before <paramref name="floor"/> (already
+    /// in the checkpoint), each also appended to <paramref name="kept"/>.
+    /// </summary>
+    private static IEnumerable<Measurement> Collect(
+        BlockingCollection<Measurement[]> chunks, Measurement? floor, List<Measurement> kept, CancellationToken cancellationToken)
+    {
+        foreach (Measurement[] chunk in chunks.GetConsumingEnumerable(cancellationToken))
+        {
+            foreach (Measurement m in chunk)
+            {
+                if (floor is { } f && VehicleTrack.CompareKey(m, f) <= 0)
+                {
+                    continue;
+                }
+
+                kept.Add(m);
+                yield return m;
+            }
+        }
     }
 }

@@ -1,0 +1,190 @@
+// Stopwatch split of the smoothed-track request's storage part: reading a stored van day back from PostgreSQL.
+using System.Collections.Concurrent;
+using System.Diagnostics;
+using System.Globalization;
+using FusionService.Estimation.Measurements;
+using FusionService.Estimation.Models;
+using FusionService.Estimation.Smoothing;
+using FusionService.Estimation.Tracking;
+using FusionService.Storage.Cluster;
+using FusionService.Storage.History;
+using FusionService.Storage.Measurements;
+using MeasurementOutcome = FusionService.Storage.Measurements.MeasurementOutcome;
+using FusionService.Storage.Migrations;
+using FusionService.Storage.Partitions;
+using FusionService.Storage.Schemas;
+using Npgsql;
+
+namespace FusionService.Benchmarks;
+
+/// <summary>
+/// Stores <see cref="VanDayScenario"/> (one vehicle, about 550,000 rows) in a throwaway embedded PostgreSQL cluster by
+/// binary COPY, then times with a stopwatch (<c>./build.sh bench history-split [repeats]</c>) what the smoothed-track
+/// request does: reading the rows back into the replay's measurement list (the row-by-row reader the builder used
+/// first, and the binary COPY export it uses now), and the replay and smoothing of that list.
+/// </summary>
+internal static class HistoryReadSplit
+{
+    /// <summary>Runs the split and prints one line per part.</summary>
+    /// <param name="repeats">Repeats of each part.</param>
+    public static async Task RunAsync(int repeats)
+    {
+        Measurement[] day = VanDayScenario.Instance.Measurements;
+        await using var cluster = await EmbeddedPostgres.StartAsync(new EmbeddedPostgresOptions { NoSync = true });
+        const string schema = "history_split";
+        await new MigrationRunner(cluster.ConnectionString, schema).RunAsync();
+        await using var dataSource = NpgsqlDataSource.Create(StorageSchema.WithSearchPath(cluster.ConnectionString, schema));
+        var firstDay = DateOnly.FromDateTime(DateTime.UnixEpoch.AddTicks(day[0].TimeUs * 10));
+        var lastDay = DateOnly.FromDateTime(DateTime.UnixEpoch.AddTicks(day[^1].TimeUs * 10));
+        await new PartitionMaintainer(dataSource).EnsurePartitionsAsync(firstDay, lastDay);
+
+        var fleet = Guid.NewGuid();
+        const string vehicle = "van-day";
+        var received = DateTime.UtcNow;
+        var sw = Stopwatch.StartNew();
+        await using (var connection = await dataSource.OpenConnectionAsync())
+        {
+            var rows = new List<MeasurementRow>(day.Length);
+            foreach (Measurement m in day)
+            {
+                rows.Add(new MeasurementRow(
+                    fleet, vehicle, (short)m.Kind, m.TimeUs, (long)m.MessageKey, received, m.Value0,
+                    double.IsNaN(m.Value1) ? null : m.Value1, m.Value2, 0, MeasurementOutcome.Accepted, null, false));
+            }
+
+            await MeasurementWriter.WriteAsync(connection, null, rows);
+            await using var analyze = new NpgsqlCommand("ANALYZE measurements", connection);
+            await analyze.ExecuteNonQueryAsync();
+        }
+
+        Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"stored {day.Length} rows in {sw.Elapsed.TotalSeconds:F1} s"));
+        long fromUs = day[0].TimeUs;
+        long toUs = day[^1].TimeUs + 1;
+        if (Environment.GetEnvironmentVariable("FUSION_EXPLAIN") == "1")
+        {
+            await using var connection = await dataSource.OpenConnectionAsync();
+            await using var explain = new NpgsqlCommand(
+                "EXPLAIN (ANALYZE, BUFFERS) SELECT kind, time_us, message_key, v0, v1, v2 FROM measurements WHERE fleet_id = @f AND vehicle_id = @v "
+                + "AND time_us >= @a AND time_us < @b AND outcome <> 3 ORDER BY time_us, kind, message_key", connection);
+            explain.Parameters.AddWithValue("f", fleet);
+            explain.Parameters.AddWithValue("v", vehicle);
+            explain.Parameters.AddWithValue("a", fromUs);
+            explain.Parameters.AddWithValue("b", toUs);
+            await using var plan = await explain.ExecuteReaderAsync();
+            while (await plan.ReadAsync())
+            {
+                Console.WriteLine(plan.GetString(0));
+            }
+        }
+
+        var reader = new TrackHistoryReader(dataSource);
+        var rowByRowMs = new List<double>();
+        var copyMs = new List<double>();
+        var replayMs = new List<double>();
+        var overlappedMs = new List<double>();
+        var processor = new TrackProcessor(new TrackOptions(), NoiseProfile.DeliveryVan);
+        List<Measurement> read = [];
+        for (int r = 0; r < repeats; r++)
+        {
+            sw.Restart();
+            var list = new List<Measurement>();
+            await foreach (var s in reader.StreamMeasurementsAsync(fleet, vehicle, fromUs, toUs, 0, (short)SensorKind.Imu))
+            {
+                if (s.Outcome == MeasurementOutcome.Duplicate)
+                {
+                    continue;
+                }
+
+                list.Add(Measurement.FromStored(s.TimeUs, ((ulong)(byte)s.Kind << 56) | (ulong)s.MessageKey, s.V0, s.V1 ?? double.NaN, (float)(s.V2 ?? 0)));
+            }
+
+            rowByRowMs.Add(sw.Elapsed.TotalMilliseconds);
+
+            sw.Restart();
+            read = [];
+            await reader.ReadReplayMeasurementsAsync(
+                fleet, vehicle, fromUs, toUs, 0, (short)SensorKind.Imu,
+                s => read.Add(Measurement.FromStored(s.TimeUs, ((ulong)(byte)s.Kind << 56) | (ulong)s.MessageKey, s.V0, s.V1 ?? double.NaN, (float)(s.V2 ?? 0))));
+            copyMs.Add(sw.Elapsed.TotalMilliseconds);
+            if (!list.SequenceEqual(read))
+            {
+                throw new InvalidOperationException("the two reads differ");
+            }
+
+            sw.Restart();
+            var sequential = CompactedTrackReplay.Run(processor, TrackState.Empty, read, 1_000_000);
+            replayMs.Add(sw.Elapsed.TotalMilliseconds);
+
+            sw.Restart();
+            var overlapped = await ReadOverlappedAsync(reader, processor, fleet, vehicle, fromUs, toUs);
+            overlappedMs.Add(sw.Elapsed.TotalMilliseconds);
+            if (overlapped.Count != sequential.Count || overlapped[^1].Means[^1][0] != sequential[^1].Means[^1][0])
+            {
+                throw new InvalidOperationException("the overlapped replay differs");
+            }
+        }
+
+        Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"read back {read.Count} measurements, {repeats} repeats"));
+        Print("row-by-row reader into the list", rowByRowMs);
+        Print("binary COPY export into the list", copyMs);
+        Print("replay + compacted smoother", replayMs);
+        Print("COPY export overlapped with the replay", overlappedMs);
+    }
+
+    /// <summary>The read and the replay as <c>SmoothedTrackBuilder</c> runs them: chunks of rows to a replay thread.</summary>
+    private static async Task<IReadOnlyList<SmoothedSegment>> ReadOverlappedAsync(
+        TrackHistoryReader reader, TrackProcessor processor, Guid fleet, string vehicle, long fromUs, long toUs)
+    {
+        const int chunkLength = 8192;
+        using var chunks = new BlockingCollection<Measurement[]>();
+        var kept = new List<Measurement>();
+        var replay = Task.Factory.StartNew(
+            () => CompactedTrackReplay.Run(processor, TrackState.Empty, Collect(chunks, kept), 1_000_000),
+            CancellationToken.None,
+            TaskCreationOptions.LongRunning,
+            TaskScheduler.Default);
+        try
+        {
+            var chunk = new Measurement[chunkLength];
+            int filled = 0;
+            await reader.ReadReplayMeasurementsAsync(fleet, vehicle, fromUs, toUs, 0, (short)SensorKind.Imu, s =>
+            {
+                chunk[filled++] = Measurement.FromStored(s.TimeUs, ((ulong)(byte)s.Kind << 56) | (ulong)s.MessageKey, s.V0, s.V1 ?? double.NaN, (float)(s.V2 ?? 0));
+                if (filled == chunkLength)
+                {
+                    chunks.Add(chunk);
+                    chunk = new Measurement[chunkLength];
+                    filled = 0;
+                }
+            });
+            if (filled > 0)
+            {
+                chunks.Add(chunk[..filled]);
+            }
+        }
+        finally
+        {
+            chunks.CompleteAdding();
+        }
+
+        return await replay;
+    }
+
+    private static IEnumerable<Measurement> Collect(BlockingCollection<Measurement[]> chunks, List<Measurement> kept)
+    {
+        foreach (Measurement[] chunk in chunks.GetConsumingEnumerable())
+        {
+            foreach (Measurement m in chunk)
+            {
+                kept.Add(m);
+                yield return m;
+            }
+        }
+    }
+
+    private static void Print(string what, List<double> ms)
+    {
+        ms.Sort();
+        Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"{what,-40} best {ms[0],8:F0} ms  median {ms[ms.Count / 2],8:F0} ms"));
+    }
+}

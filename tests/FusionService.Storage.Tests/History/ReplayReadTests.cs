@@ -1,0 +1,91 @@
+// The replay read (binary COPY export): same rows as the row-by-row reader, duplicates left out, exact values.
+using FusionService.Storage.History;
+using FusionService.Storage.Measurements;
+using FusionService.Storage.Partitions;
+using FusionService.Storage.Tests.Infrastructure;
+using FusionService.Storage.Time;
+
+namespace FusionService.Storage.Tests.History;
+
+[Collection(PostgresCollection.Name)]
+public sealed class ReplayReadTests(PostgresFixture server)
+{
+    private static readonly Guid Fleet = Guid.Parse("0195a0c1-0000-7000-8000-000000000041");
+    private static readonly Guid OtherFleet = Guid.Parse("0195a0c1-0000-7000-8000-000000000042");
+
+    // A quote, a backslash and a statement terminator: the id must reach the server as a value, never as SQL text.
+    private const string Vehicle = "van-'4'; DROP TABLE measurements; --\\";
+
+    [Fact]
+    public async Task Issue4_replay_read_returns_the_row_readers_rows_without_duplicates_in_canonical_order_bit_exact()
+    {
+        await using var schema = await server.NewMigratedSchemaAsync();
+        await new PartitionMaintainer(schema.DataSource).EnsurePartitionsAsync(TestTimes.Day, TestTimes.Day.AddDays(1));
+        var t = TestTimes.At(TestTimes.Day, 23, 59, 59, 999_000);
+        MeasurementRow[] rows =
+        [
+            Row(Fleet, Vehicle, 3, t + 500, 8, 0.1, null, null, MeasurementOutcome.Accepted),
+            Row(Fleet, Vehicle, 0, t, 17, 52.520008, 13.404954, 0.1, MeasurementOutcome.Gated),
+            Row(Fleet, Vehicle, 2, t, 3, -0.0, null, null, MeasurementOutcome.TooLate),
+            Row(Fleet, Vehicle, 1, t, 99, double.Epsilon, double.MaxValue, null, MeasurementOutcome.Pending),
+            Row(Fleet, Vehicle, 1, t, 100, 1.0, 2.0, 3.0, MeasurementOutcome.Duplicate),
+            // Across midnight UTC: the next day's partition.
+            Row(Fleet, Vehicle, 2, t + 1_000, 4, -1.25e-300, null, null, MeasurementOutcome.Accepted),
+            // Outside the window, another vehicle, another fleet, a kind above the wanted range.
+            Row(Fleet, Vehicle, 2, t + 2_000, 5, 9.0, null, null, MeasurementOutcome.Accepted),
+            Row(Fleet, "van-4", 2, t, 6, 9.0, null, null, MeasurementOutcome.Accepted),
+            Row(OtherFleet, Vehicle, 2, t, 7, 9.0, null, null, MeasurementOutcome.Accepted),
+            Row(Fleet, Vehicle, 4, t, 9, 9.0, null, null, MeasurementOutcome.Accepted),
+        ];
+        await using (var connection = await schema.OpenAsync())
+        {
+            await MeasurementWriter.WriteAsync(connection, null, rows);
+        }
+
+        var reader = new TrackHistoryReader(schema.DataSource);
+        var expected = new List<StoredMeasurementValues>();
+        await foreach (var s in reader.StreamMeasurementsAsync(Fleet, Vehicle, t, t + 2_000, 0, 3))
+        {
+            if (s.Outcome != MeasurementOutcome.Duplicate)
+            {
+                expected.Add(s);
+            }
+        }
+
+        var read = new List<ReplayMeasurementValues>();
+        int count = await reader.ReadReplayMeasurementsAsync(Fleet, Vehicle, t, t + 2_000, 0, 3, read.Add);
+
+        // Canonical order (time, kind, key) of the five non-duplicate rows of this vehicle in [t, t + 2 ms).
+        Assert.Equal([(t, 0, 17L), (t, 1, 99L), (t, 2, 3L), (t + 500, 3, 8L), (t + 1_000, 2, 4L)], read.Select(r => (r.TimeUs, (int)r.Kind, r.MessageKey)));
+        Assert.Equal(read.Count, count);
+        Assert.Equal(expected.Count, read.Count);
+        for (int i = 0; i < read.Count; i++)
+        {
+            string at = "row " + i.ToString(System.Globalization.CultureInfo.InvariantCulture) + " ";
+            Assert.Equal(expected[i].Kind, read[i].Kind);
+            Assert.Equal(expected[i].TimeUs, read[i].TimeUs);
+            Assert.Equal(expected[i].MessageKey, read[i].MessageKey);
+            AssertBits.Equal(expected[i].V0, read[i].V0, at + "v0");
+            AssertBits.Equal(expected[i].V1, read[i].V1, at + "v1");
+            AssertBits.Equal(expected[i].V2, read[i].V2, at + "v2");
+        }
+
+        // The table is still there and whole.
+        var all = await new MeasurementRepository(schema.DataSource).ReadAsync(Fleet, Vehicle, t - 1, t + 10_000);
+        Assert.Equal(8, all.Count);
+    }
+
+    [Fact]
+    public async Task Issue4_replay_read_of_an_empty_window_hands_over_nothing()
+    {
+        await using var schema = await server.NewMigratedSchemaAsync();
+        var reader = new TrackHistoryReader(schema.DataSource);
+        var read = new List<ReplayMeasurementValues>();
+        Assert.Equal(0, await reader.ReadReplayMeasurementsAsync(Fleet, Vehicle, 1_000, 1_000, 0, 3, read.Add));
+        Assert.Empty(read);
+    }
+
+    private static MeasurementRow Row(
+        Guid fleet, string vehicle, short kind, long timeUs, long key, double v0, double? v1, double? v2, MeasurementOutcome outcome) =>
+        new(fleet, vehicle, kind, timeUs, key, UnixMicroseconds.ToDateTimeUtc(timeUs + 250_000), v0, v1, v2, 0, outcome, null, false);
+}
