@@ -8,6 +8,8 @@ using FusionService.Storage.Fleets;
 using Microsoft.AspNetCore.Http.HttpResults;
 using FusionService.Http;
 
+using FusionService.Operations;
+
 namespace FusionService.Alerts;
 
 /// <summary>Maps <c>/v1/alerts</c>, <c>/v1/alerts/{id}/acknowledge</c>, <c>/v1/alert-rules</c> and the WebSocket <c>/v1/alerts/stream</c>.</summary>
@@ -24,6 +26,7 @@ public static class AlertEndpoints
     {
         var alerts = app.MapGroup("/v1/alerts").WithTags("Alerts");
         alerts.MapGet("/", ListAlerts)
+            .WithResponseExample(200, "alerts.json")
             .RequireApiKey(ApiKeyRole.Read, ApiKeyRole.Admin)
             .WithName("ListAlerts")
             .WithSummary("Alerts of the caller's fleet")
@@ -35,6 +38,7 @@ public static class AlertEndpoints
             .ProducesProblem(StatusCodes.Status401Unauthorized)
             .ProducesProblem(StatusCodes.Status403Forbidden);
         alerts.MapPost("/{id}/acknowledge", AcknowledgeAlert)
+            .WithResponseExample(200, "alert-acknowledged.json")
             .RequireApiKey(ApiKeyRole.Read, ApiKeyRole.Admin)
             .WithName("AcknowledgeAlert")
             .WithSummary("Acknowledge an alert")
@@ -57,6 +61,7 @@ public static class AlertEndpoints
 
         var rules = app.MapGroup("/v1/alert-rules").WithTags("Alerts");
         rules.MapGet("/", GetAlertRules)
+            .WithResponseExample(200, "alert-rules.json")
             .RequireApiKey(ApiKeyRole.Read, ApiKeyRole.Admin)
             .WithName("GetAlertRules")
             .WithSummary("The fleet's alert thresholds")
@@ -64,6 +69,8 @@ public static class AlertEndpoints
             .ProducesProblem(StatusCodes.Status401Unauthorized)
             .ProducesProblem(StatusCodes.Status403Forbidden);
         rules.MapPut("/", PutAlertRules)
+            .WithRequestExample("alert-rules.json")
+            .WithResponseExample(200, "alert-rules.json")
             .RequireApiKey(ApiKeyRole.Admin)
             .WithName("PutAlertRules")
             .WithSummary("Set the fleet's alert thresholds")

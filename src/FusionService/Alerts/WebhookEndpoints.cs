@@ -5,6 +5,8 @@ using FusionService.Storage.Alerts;
 using FusionService.Storage.Fleets;
 using Microsoft.AspNetCore.Http.HttpResults;
 
+using FusionService.Operations;
+
 namespace FusionService.Alerts;
 
 /// <summary>Maps <c>POST/GET /v1/webhooks</c> and <c>DELETE /v1/webhooks/{id}</c> (admin keys only).</summary>
@@ -15,6 +17,8 @@ public static class WebhookEndpoints
     {
         var group = app.MapGroup("/v1/webhooks").WithTags("Alerts");
         group.MapPost("/", CreateWebhook)
+            .WithRequestExample("webhook-request.json")
+            .WithResponseExample(201, "webhook.json")
             .RequireApiKey(ApiKeyRole.Admin)
             .WithName("CreateWebhook")
             .WithSummary("Subscribe a URL to the fleet's alerts")
@@ -27,6 +31,7 @@ public static class WebhookEndpoints
             .ProducesProblem(StatusCodes.Status401Unauthorized)
             .ProducesProblem(StatusCodes.Status403Forbidden);
         group.MapGet("/", ListWebhooks)
+            .WithResponseExample(200, "webhooks.json")
             .RequireApiKey(ApiKeyRole.Admin)
             .WithName("ListWebhooks")
             .WithSummary("The fleet's webhook subscriptions")

@@ -12,6 +12,8 @@ using Microsoft.Extensions.Options;
 
 using FusionService.Http;
 
+using FusionService.Operations;
+
 namespace FusionService.Audit;
 
 /// <summary>Maps the diagnostics and explanation endpoints.</summary>
@@ -24,6 +26,7 @@ public static class AuditEndpoints
     {
         var group = app.MapGroup("/v1/vehicles").WithTags("Audit");
         group.MapGet("/{vehicle}/diagnostics", GetDiagnostics)
+            .WithResponseExample(200, "diagnostics.json")
             .RequireApiKey(ApiKeyRole.Read, ApiKeyRole.Admin)
             .WithName("GetVehicleDiagnostics")
             .WithSummary("Sensor verdicts, NIS consistency, calibration and GNSS outages of one vehicle")
@@ -44,6 +47,7 @@ public static class AuditEndpoints
             .ProducesProblem(StatusCodes.Status403Forbidden)
             .ProducesProblem(StatusCodes.Status404NotFound);
         group.MapGet("/{vehicle}/explain", GetExplanation)
+            .WithResponseExample(200, "explain.json")
             .RequireApiKey(ApiKeyRole.Read, ApiKeyRole.Admin)
             .WithName("ExplainVehicleState")
             .WithSummary("Why the estimate of one vehicle at one instant is what it is")

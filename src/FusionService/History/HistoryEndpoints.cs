@@ -12,6 +12,8 @@ using Microsoft.Extensions.Options;
 using Microsoft.Net.Http.Headers;
 using static FusionService.Estimation.Models.StateIndex;
 
+using FusionService.Operations;
+
 namespace FusionService.History;
 
 /// <summary>Maps <c>GET /v1/vehicles/{vehicle}/track</c> and <c>GET /v1/vehicles/{vehicle}/distance</c>.</summary>
@@ -29,6 +31,7 @@ public static class HistoryEndpoints
     {
         var group = app.MapGroup("/v1/vehicles").WithTags("History");
         group.MapGet("/{vehicle}/track", GetTrack)
+            .WithResponseExample(200, "track.json")
             .RequireApiKey(ApiKeyRole.Read, ApiKeyRole.Admin)
             .WithName("GetVehicleTrack")
             .WithSummary("Track history of one vehicle: raw fixes, filtered or RTS-smoothed states")
@@ -47,6 +50,7 @@ public static class HistoryEndpoints
             .ProducesProblem(StatusCodes.Status403Forbidden)
             .ProducesProblem(StatusCodes.Status404NotFound);
         group.MapGet("/{vehicle}/distance", GetDistance)
+            .WithResponseExample(200, "distance.json")
             .RequireApiKey(ApiKeyRole.Read, ApiKeyRole.Admin)
             .WithName("GetVehicleDistance")
             .WithSummary("Distance travelled by one vehicle, with its standard deviation")

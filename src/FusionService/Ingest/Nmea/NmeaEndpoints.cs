@@ -8,6 +8,8 @@ using FusionService.Storage.Fleets;
 using Microsoft.AspNetCore.Http.HttpResults;
 using Microsoft.Extensions.Options;
 
+using FusionService.Operations;
+
 namespace FusionService.Ingest.Nmea;
 
 /// <summary>Maps <c>POST /v1/vehicles/{vehicle}/nmea</c>.</summary>
@@ -17,6 +19,8 @@ public static class NmeaEndpoints
     public static IEndpointRouteBuilder MapNmeaEndpoints(this IEndpointRouteBuilder app)
     {
         app.MapPost("/v1/vehicles/{vehicle}/nmea", PostNmea)
+            .WithRequestExample("nmea-request.txt", "text/plain")
+            .WithResponseExample(200, "nmea-response.json")
             .WithTags("Telemetry")
             .RequireApiKey(ApiKeyRole.Ingest)
             .WithName("PostNmea")
