@@ -94,51 +94,15 @@ public sealed class AuditRepository
     /// NIS of every fused measurement (outcome accepted, not a track reset, NIS present), unordered, streamed so that a
     /// long range does not have to fit in memory.
     /// </summary>
-    public async IAsyncEnumerable<NisSample> NisSamplesAsync(
-        Guid fleetId, string vehicleId, long fromUs, long toUs,
-        [System.Runtime.CompilerServices.EnumeratorCancellation] CancellationToken cancellationToken = default)
-    {
-        ArgumentNullException.ThrowIfNull(vehicleId);
-        if (toUs <= fromUs)
-        {
-            yield break;
-        }
-
-        var connection = await _dataSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
-        await using (connection.ConfigureAwait(false))
-        {
-            var rows = connection.QueryUnbufferedAsync<NisSample>(NisSql, TimeRangeParameters.For(fleetId, vehicleId, fromUs, toUs));
-            await foreach (var row in rows.WithCancellation(cancellationToken).ConfigureAwait(false))
-            {
-                yield return row;
-            }
-        }
-    }
+    public IAsyncEnumerable<NisSample> NisSamplesAsync(Guid fleetId, string vehicleId, long fromUs, long toUs, CancellationToken cancellationToken = default) =>
+        StreamAsync<NisSample>(NisSql, fleetId, vehicleId, fromUs, toUs, cancellationToken);
 
     /// <summary>
     /// The measurements of the range in canonical order (time, kind, message key), streamed: a replay over hours of
     /// data then holds one row at a time.
     /// </summary>
-    public async IAsyncEnumerable<MeasurementRow> MeasurementsAsync(
-        Guid fleetId, string vehicleId, long fromUs, long toUs,
-        [System.Runtime.CompilerServices.EnumeratorCancellation] CancellationToken cancellationToken = default)
-    {
-        ArgumentNullException.ThrowIfNull(vehicleId);
-        if (toUs <= fromUs)
-        {
-            yield break;
-        }
-
-        var connection = await _dataSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
-        await using (connection.ConfigureAwait(false))
-        {
-            var rows = connection.QueryUnbufferedAsync<MeasurementRow>(MeasurementsSql, TimeRangeParameters.For(fleetId, vehicleId, fromUs, toUs));
-            await foreach (var row in rows.WithCancellation(cancellationToken).ConfigureAwait(false))
-            {
-                yield return row;
-            }
-        }
-    }
+    public IAsyncEnumerable<MeasurementRow> MeasurementsAsync(Guid fleetId, string vehicleId, long fromUs, long toUs, CancellationToken cancellationToken = default) =>
+        StreamAsync<MeasurementRow>(MeasurementsSql, fleetId, vehicleId, fromUs, toUs, cancellationToken);
 
     /// <summary>Times of every stored GNSS position fix (whatever its outcome), ascending, Unix microseconds.</summary>
     public Task<IReadOnlyList<long>> GnssFixTimesAsync(Guid fleetId, string vehicleId, long fromUs, long toUs, CancellationToken cancellationToken = default) =>
@@ -187,6 +151,27 @@ public sealed class AuditRepository
             var rows = await connection.QueryAsync<T>(new CommandDefinition(
                 sql, TimeRangeParameters.For(fleetId, vehicleId, fromUs, toUs), cancellationToken: cancellationToken)).ConfigureAwait(false);
             return rows.AsList();
+        }
+    }
+
+    private async IAsyncEnumerable<T> StreamAsync<T>(
+        string sql, Guid fleetId, string vehicleId, long fromUs, long toUs,
+        [System.Runtime.CompilerServices.EnumeratorCancellation] CancellationToken cancellationToken)
+    {
+        ArgumentNullException.ThrowIfNull(vehicleId);
+        if (toUs <= fromUs)
+        {
+            yield break;
+        }
+
+        var connection = await _dataSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
+        await using (connection.ConfigureAwait(false))
+        {
+            var rows = connection.QueryUnbufferedAsync<T>(sql, TimeRangeParameters.For(fleetId, vehicleId, fromUs, toUs));
+            await foreach (var row in rows.WithCancellation(cancellationToken).ConfigureAwait(false))
+            {
+                yield return row;
+            }
         }
     }
 }

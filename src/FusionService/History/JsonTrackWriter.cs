@@ -33,41 +33,7 @@ internal sealed class JsonTrackWriter(Stream buffer) : TrackFormatWriter
         _json.WriteString("time", HistoryTime.Format(p.TimeUs));
         _json.WriteNumber("lat_deg", p.LatDeg);
         _json.WriteNumber("lon_deg", p.LonDeg);
-        if (p.HeadingDeg is { } heading)
-        {
-            _json.WriteNumber("heading_deg", heading);
-        }
-
-        if (p.SpeedMps is { } speed)
-        {
-            _json.WriteNumber("speed_mps", speed);
-        }
-
-        _json.WriteStartObject("ellipse95");
-        _json.WriteNumber("semi_major_m", p.SemiMajorM);
-        _json.WriteNumber("semi_minor_m", p.SemiMinorM);
-        _json.WriteNumber("orientation_deg", p.OrientationDeg);
-        _json.WriteEndObject();
-        if (p.Outcome is { } outcome)
-        {
-            _json.WriteString("outcome", outcome);
-        }
-
-        if (p.Nis is { } nis)
-        {
-            _json.WriteNumber("nis", nis);
-        }
-
-        if (p.AccuracyM is { } accuracy)
-        {
-            _json.WriteNumber("accuracy_m", accuracy);
-        }
-
-        if (p.TrackReset is { } reset)
-        {
-            _json.WriteBoolean("track_reset", reset);
-        }
-
+        TrackPointJson.WriteEstimateFields(_json, p);
         _json.WriteEndObject();
     }
 
