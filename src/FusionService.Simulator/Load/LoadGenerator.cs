@@ -13,8 +13,9 @@ namespace FusionService.Simulator.Load;
 /// batch counts as rejected.
 /// </summary>
 /// <remarks>
-/// Message g of the run (g = batch x size + position) belongs to vehicle g mod N at step k = g div N, time start + k x 100 ms;
-/// every tenth step is a gnss fix on a straight eastward line at 10 m/s (longitude advanced by metres / (111 320 cos lat),
+/// With <see cref="LoadShape.PerVehicle"/>, batch b belongs to vehicle b mod N and holds its steps
+/// k = (b div N) x size + position; with <see cref="LoadShape.Interleaved"/>, message g of the run (g = batch x size +
+/// position) belongs to vehicle g mod N at step k = g div N. Step k is at time start + k x 100 ms; every tenth step is a gnss fix on a straight eastward line at 10 m/s (longitude advanced by metres / (111 320 cos lat),
 /// a flat-earth rule adequate for load only), the others alternate wheel (10 m/s) and imu (0 deg/s). Ids are unique.
 /// </remarks>
 public sealed class LoadGenerator
@@ -57,8 +58,9 @@ public sealed class LoadGenerator
         for (int j = 0; j < messages.Length; j++)
         {
             long g = ((long)batchNumber * options.BatchSize) + j;
-            long vehicle = g % options.VehicleCount;
-            long step = g / options.VehicleCount;
+            (long vehicle, long step) = options.Shape == LoadShape.Interleaved
+                ? (g % options.VehicleCount, g / options.VehicleCount)
+                : (batchNumber % options.VehicleCount, ((long)(batchNumber / options.VehicleCount) * options.BatchSize) + j);
             string id = string.Create(CultureInfo.InvariantCulture, $"{options.VehiclePrefix}{vehicle:000000}");
             long timeUs = options.StartTimeUs + (step * StepUs);
             string messageId = string.Create(CultureInfo.InvariantCulture, $"{id}/{step}");
@@ -127,6 +129,15 @@ public sealed class LoadGenerator
                 && (_options.Duration is { } duration ? clock.Elapsed < duration : b < _options.TotalBatches))
             {
                 byte[] body = TelemetryJson.ToNdjson(SyntheticBatch(_options, b));
+                if (_options.MessagesPerSecond is { } rate)
+                {
+                    var due = TimeSpan.FromSeconds((double)b * _options.BatchSize / rate);
+                    if (due > clock.Elapsed)
+                    {
+                        await Task.Delay(due - clock.Elapsed, cancellationToken).ConfigureAwait(false);
+                    }
+                }
+
                 using var request = new HttpRequestMessage(HttpMethod.Post, _options.Endpoint) { Content = new ByteArrayContent(body) };
                 request.Content.Headers.ContentType = new MediaTypeHeaderValue(TelemetryJson.NdjsonContentType);
                 if (_options.ApiKey is not null)

@@ -28,6 +28,15 @@ public sealed record LoadGeneratorOptions
     /// <summary>When set, batches are posted until this much time has passed and <see cref="TotalBatches"/> is ignored.</summary>
     public TimeSpan? Duration { get; init; }
 
+    /// <summary>How messages are grouped into batches. Default <see cref="LoadShape.PerVehicle"/>.</summary>
+    public LoadShape Shape { get; init; } = LoadShape.PerVehicle;
+
+    /// <summary>
+    /// When set, batch b is not sent before b x <see cref="BatchSize"/> / rate seconds into the run (an offered load in
+    /// messages per second; still at most <see cref="Concurrency"/> in flight). Null sends as fast as answers come back.
+    /// </summary>
+    public double? MessagesPerSecond { get; init; }
+
     /// <summary>Prefix of the synthetic vehicle ids ("load-000001"). Default "load-".</summary>
     public string VehiclePrefix { get; init; } = "load-";
 
@@ -47,6 +56,16 @@ public sealed record LoadGeneratorOptions
         if (Duration is { } duration && duration <= TimeSpan.Zero)
         {
             throw new ArgumentException($"Duration must be positive, was {duration}.", nameof(Duration));
+        }
+
+        if (MessagesPerSecond is { } rate && !(rate > 0 && double.IsFinite(rate)))
+        {
+            throw new ArgumentException($"MessagesPerSecond must be positive and finite, was {rate}.", nameof(MessagesPerSecond));
+        }
+
+        if (!Enum.IsDefined(Shape))
+        {
+            throw new ArgumentException($"Shape {Shape} is not one of {string.Join(", ", Enum.GetNames<LoadShape>())}.", nameof(Shape));
         }
 
         ArgumentNullException.ThrowIfNull(VehiclePrefix);

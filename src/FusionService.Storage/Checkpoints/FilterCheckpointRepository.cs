@@ -73,6 +73,25 @@ public sealed class FilterCheckpointRepository
         }
     }
 
+    /// <summary>Deletes the vehicle's checkpoints at or after <paramref name="timeUs"/> (kept: the older ones).</summary>
+    /// <param name="fleetId">Owning fleet.</param>
+    /// <param name="vehicleId">Vehicle within the fleet.</param>
+    /// <param name="timeUs">Inclusive lower bound of what is deleted, Unix microseconds.</param>
+    /// <param name="cancellationToken">Cancels the statement.</param>
+    /// <returns>Number of checkpoints deleted.</returns>
+    public async Task<int> DeleteFromAsync(Guid fleetId, string vehicleId, long timeUs, CancellationToken cancellationToken = default)
+    {
+        ArgumentNullException.ThrowIfNull(vehicleId);
+        var connection = await _dataSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
+        await using (connection.ConfigureAwait(false))
+        {
+            return await connection.ExecuteAsync(new CommandDefinition(
+                "DELETE FROM filter_checkpoints WHERE fleet_id = @FleetId AND vehicle_id = @VehicleId AND time_us >= @TimeUs",
+                new { FleetId = fleetId, VehicleId = vehicleId, TimeUs = timeUs },
+                cancellationToken: cancellationToken)).ConfigureAwait(false);
+        }
+    }
+
     /// <summary>
     /// The newest checkpoint of the vehicle strictly before <paramref name="timeUs"/>, the state to replay from
     /// when a measurement taken at <paramref name="timeUs"/> arrives late; null when there is none.

@@ -105,6 +105,16 @@ public sealed class EmbeddedPostgres : IAsyncDisposable
             throw new ArgumentOutOfRangeException(nameof(options), options.Port, "Port must be 0 (pick a free one) or 1-65535.");
         }
 
+        foreach (var (name, value) in options.ServerSettings)
+        {
+            if (!IsSettingName(name) || !IsSettingValue(value))
+            {
+                throw new ArgumentException(
+                    $"Server setting '{name}' = '{value}' is refused: names are lower-case letters, digits, '_' and '.', values letters, digits, '_', '.' and '-'.",
+                    nameof(options));
+            }
+        }
+
         var binaries = PostgresBinaries.Locate(options.BinDirectory);
         var account = ServiceAccount.Detect();
         var throwaway = options.DataDirectory is null;
@@ -295,6 +305,12 @@ public sealed class EmbeddedPostgres : IAsyncDisposable
         StorageLog.StalePidFileRemoved(logger, pid ?? 0, dataDirectory);
     }
 
+    private static bool IsSettingName(string name) =>
+        name.Length > 0 && name.All(c => c is (>= 'a' and <= 'z') or (>= '0' and <= '9') or '_' or '.');
+
+    private static bool IsSettingValue(string value) =>
+        value.Length > 0 && value.All(c => char.IsAsciiLetterOrDigit(c) || c is '_' or '.' or '-');
+
     private static int? ReadPid(string pidFile)
     {
         try
@@ -319,6 +335,11 @@ public sealed class EmbeddedPostgres : IAsyncDisposable
         if (options.NoSync)
         {
             serverOptions += " -c fsync=off -c full_page_writes=off";
+        }
+
+        foreach (var (name, value) in options.ServerSettings.OrderBy(s => s.Key, StringComparer.Ordinal))
+        {
+            serverOptions += string.Create(CultureInfo.InvariantCulture, $" -c {name}={value}");
         }
 
         var logFile = Path.Combine(DataDirectory, "server.log");

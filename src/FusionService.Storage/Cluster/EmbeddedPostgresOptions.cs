@@ -42,4 +42,12 @@ public sealed class EmbeddedPostgresOptions
 
     /// <summary>Longest wait for the server to accept connections at start, in seconds. Default 60.</summary>
     public int StartTimeoutSeconds { get; set; } = 60;
+
+    /// <summary>
+    /// Server settings passed as <c>-c name=value</c> at start (for example <c>shared_buffers</c> = <c>512MB</c>).
+    /// Names are lower-case letters, digits, underscores and dots; values letters, digits, underscores, dots and
+    /// hyphens: anything else is refused by <see cref="EmbeddedPostgres.StartAsync"/>. Empty by default (the server's
+    /// own defaults).
+    /// </summary>
+    public IDictionary<string, string> ServerSettings { get; init; } = new Dictionary<string, string>(StringComparer.Ordinal);
 }

@@ -1,4 +1,4 @@
-// `load --url URL --key KEY [--vehicles N] [--batches B | --seconds T] [--batch-size S] [--concurrency C] ...`: posts synthetic telemetry.
+// `load --url URL --key KEY [--vehicles N] [--batches B | --seconds T] [--batch-size S] [--concurrency C] [--shape S] [--rate R] ...`.
 using System.Globalization;
 using FusionService.Simulator.Load;
 
@@ -15,7 +15,8 @@ public static class LoadCommand
 {
     /// <summary>Usage text.</summary>
     public const string Usage = "usage: load --url http://127.0.0.1:5080 --key INGEST_KEY [--vehicles 1000] [--batches 200 | --seconds 60] "
-        + "[--batch-size 500] [--concurrency 8] [--metrics-token TOKEN] [--copy-compare yes|no]";
+        + "[--batch-size 500] [--concurrency 8] [--shape per-vehicle|interleaved] [--rate MESSAGES_PER_S] [--vehicle-prefix load-] [--metrics-token TOKEN] "
+        + "[--copy-compare yes|no]";
 
     /// <summary>True when <paramref name="args"/> ask for this command.</summary>
     public static bool Matches(string[] args) => args is ["load", ..];
@@ -62,6 +63,9 @@ public static class LoadCommand
                 Concurrency = Int(values, "concurrency", 8),
                 StartTimeUs = nowUs - 3_600_000_000L,
                 Duration = values.ContainsKey("seconds") ? TimeSpan.FromSeconds(Int(values, "seconds", 60)) : null,
+                Shape = ShapeOf(values),
+                VehiclePrefix = values.GetValueOrDefault("vehicle-prefix", "load-"),
+                MessagesPerSecond = values.ContainsKey("rate") ? Int(values, "rate", 0) : null,
             };
             options.Validate();
         }
@@ -80,7 +84,7 @@ public static class LoadCommand
             ? string.Create(CultureInfo.InvariantCulture, $"for {d.TotalSeconds:F0} s")
             : string.Create(CultureInfo.InvariantCulture, $"{options.TotalBatches:N0} batches");
         await output.WriteLineAsync(string.Create(CultureInfo.InvariantCulture,
-            $"posting {amount} of {options.BatchSize} messages per batch for {options.VehicleCount:N0} vehicles, {options.Concurrency} at a time, to {options.Endpoint}")).ConfigureAwait(false);
+            $"posting {amount} of {options.BatchSize} messages per batch ({ShapeName(options.Shape)}) for {options.VehicleCount:N0} vehicles, {options.Concurrency} at a time{RateText(options)}, to {options.Endpoint}")).ConfigureAwait(false);
         var generator = new LoadGenerator(http, options);
         var run = generator.RunAsync(cancellationToken);
         var started = System.Diagnostics.Stopwatch.StartNew();
@@ -152,4 +156,18 @@ public static class LoadCommand
         values.TryGetValue(name, out string? text)
             ? int.TryParse(text, NumberStyles.Integer, CultureInfo.InvariantCulture, out int value) ? value : throw new FormatException($"--{name} must be a whole number, was '{text}'.")
             : fallback;
+
+    private static LoadShape ShapeOf(Dictionary<string, string> values) =>
+        !values.TryGetValue("shape", out string? text) ? LoadShape.PerVehicle
+        : text switch
+        {
+            "per-vehicle" => LoadShape.PerVehicle,
+            "interleaved" => LoadShape.Interleaved,
+            _ => throw new FormatException($"--shape must be per-vehicle or interleaved, was '{text}'."),
+        };
+
+    private static string ShapeName(LoadShape shape) => shape == LoadShape.Interleaved ? "interleaved" : "per vehicle";
+
+    private static string RateText(LoadGeneratorOptions options) =>
+        options.MessagesPerSecond is { } rate ? string.Create(CultureInfo.InvariantCulture, $", offered {rate:N0} messages/s") : string.Empty;
 }

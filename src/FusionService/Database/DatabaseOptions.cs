@@ -16,6 +16,22 @@ public sealed class DatabaseOptions
     [Required]
     public string DataDirectory { get; set; } = "./data/pg";
 
+    /// <summary>
+    /// Server settings of the embedded cluster (<c>-c name=value</c> at start). The defaults suit the ingest load of one
+    /// machine: <c>shared_buffers</c> 512MB (the server's default, 128MB, does not hold a day's measurement indexes),
+    /// <c>max_wal_size</c> 4GB and <c>checkpoint_timeout</c> 15min (fewer checkpoints, so fewer full-page images in the
+    /// write-ahead log) and <c>wal_compression</c> on. Durability is untouched: <c>fsync</c> and
+    /// <c>synchronous_commit</c> keep their defaults. Set a value here to override one; settings of a server given by
+    /// connection string are that server's business.
+    /// </summary>
+    public Dictionary<string, string> EmbeddedServerSettings { get; set; } = new(StringComparer.Ordinal)
+    {
+        ["shared_buffers"] = "512MB",
+        ["max_wal_size"] = "4GB",
+        ["checkpoint_timeout"] = "15min",
+        ["wal_compression"] = "on",
+    };
+
     /// <summary>TCP port of the embedded cluster on 127.0.0.1; 0 picks a free port at each start. Default 0.</summary>
     [Range(0, 65535)]
     public int EmbeddedPort { get; set; }

@@ -75,7 +75,13 @@ public sealed class FusionDatabase : IAsyncDisposable
             var folder = Path.GetFullPath(_options.DataDirectory);
             _logger.LogInformation("Starting the embedded PostgreSQL cluster in {DataDirectory}", folder);
             _embedded = await EmbeddedPostgres.StartAsync(
-                new EmbeddedPostgresOptions { DataDirectory = folder, DeleteDataDirectoryOnDispose = false, Port = _options.EmbeddedPort },
+                new EmbeddedPostgresOptions
+                {
+                    DataDirectory = folder,
+                    DeleteDataDirectoryOnDispose = false,
+                    Port = _options.EmbeddedPort,
+                    ServerSettings = _options.EmbeddedServerSettings,
+                },
                 _loggerFactory.CreateLogger<EmbeddedPostgres>(),
                 cancellationToken).ConfigureAwait(false);
             ServerConnectionString = _embedded.ConnectionString;

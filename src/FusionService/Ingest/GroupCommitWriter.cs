@@ -9,9 +9,11 @@ using Microsoft.Extensions.Options;
 namespace FusionService.Ingest;
 
 /// <summary>
-/// Group commit: requests put their rows into a bounded channel; one background loop takes what has arrived within
-/// <see cref="IngestOptions.CommitWindowMs"/>, stores it in one transaction (<see cref="MeasurementIngest"/>) and then
-/// completes every request with the keys it inserted. A full channel refuses at once (503), a failed transaction
+/// Group commit: requests put their rows into a bounded channel; <see cref="IngestOptions.CommitWriters"/> background
+/// loops each take what has arrived within <see cref="IngestOptions.CommitWindowMs"/>, store it in one transaction
+/// (<see cref="MeasurementIngest"/>) and then complete every request with the keys it inserted. When two concurrent
+/// transactions carry the same key, the second waits on the first's index entry and then finds it taken, so a key is
+/// still claimed once. A full channel refuses at once (503), a failed transaction
 /// fails every request in it (503); nothing is buffered beyond the channel and nothing is dropped silently.
 /// </summary>
 public sealed class GroupCommitWriter : BackgroundService
@@ -32,7 +34,7 @@ public sealed class GroupCommitWriter : BackgroundService
         _channel = Channel.CreateBounded<CommitRequest>(new BoundedChannelOptions(_options.QueueCapacity)
         {
             FullMode = BoundedChannelFullMode.Wait,
-            SingleReader = true,
+            SingleReader = _options.CommitWriters == 1,
         });
         metrics.QueueDepth = () => _channel.Reader.Count;
     }
@@ -58,7 +60,10 @@ public sealed class GroupCommitWriter : BackgroundService
     }
 
     /// <inheritdoc />
-    protected override async Task ExecuteAsync(CancellationToken stoppingToken)
+    protected override Task ExecuteAsync(CancellationToken stoppingToken) =>
+        Task.WhenAll(Enumerable.Range(0, _options.CommitWriters).Select(_ => Task.Run(() => WriteLoopAsync(stoppingToken), CancellationToken.None)));
+
+    private async Task WriteLoopAsync(CancellationToken stoppingToken)
     {
         var batch = new List<CommitRequest>();
         var reader = _channel.Reader;

@@ -36,7 +36,14 @@ public sealed class IngestOptions
     [Range(1, 1_000_000)]
     public int QueueCapacity { get; set; } = 1024;
 
-    /// <summary>How long the writer waits for more requests before committing, milliseconds. Default 3.</summary>
+    /// <summary>
+    /// Group-commit loops that take requests from the queue and commit them, each on its own connection, so that one
+    /// transaction's round trips and commit overlap the next one's rows. Default 2.
+    /// </summary>
+    [Range(1, 64)]
+    public int CommitWriters { get; set; } = 2;
+
+    /// <summary>How long a writer waits for more requests before committing, milliseconds. Default 3.</summary>
     [Range(0, 1000)]
     public int CommitWindowMs { get; set; } = 3;
 
@@ -50,9 +57,9 @@ public sealed class IngestOptions
     /// </summary>
     public AcknowledgeAfter AcknowledgeAfter { get; set; } = AcknowledgeAfter.Commit;
 
-    /// <summary>Committed batches whose track processing may be in flight before new requests wait for it. Default 512.</summary>
+    /// <summary>Committed batches whose track processing may be in flight before new requests wait for it. Default 64.</summary>
     [Range(1, 1_000_000)]
-    public int MaxBatchesInTracking { get; set; } = 512;
+    public int MaxBatchesInTracking { get; set; } = 64;
 
     /// <summary>Retry-After of a 503, seconds. Default 2.</summary>
     [Range(1, 3600)]

@@ -31,6 +31,9 @@ public sealed class ServiceMetrics
     /// <summary>Reads the number of committed batches the track grains are still processing (set by the dispatcher).</summary>
     public Func<int> TracksInFlight { get; set; } = () => 0;
 
+    /// <summary>Reads the rows waiting for the tracks' background writer (set by the dispatcher).</summary>
+    public Func<long> TrackWriteQueueRows { get; set; } = () => 0;
+
     /// <summary>Counts the verdicts of one request.</summary>
     public void CountMessages(int accepted, int duplicate, int rejected)
     {
@@ -96,6 +99,9 @@ public sealed class ServiceMetrics
         text.Append("# HELP fusion_track_batches_in_flight Committed batches the track grains are still processing.\n");
         text.Append("# TYPE fusion_track_batches_in_flight gauge\n");
         text.Append(c, $"fusion_track_batches_in_flight {TracksInFlight()}\n");
+        text.Append("# HELP fusion_track_write_queue_rows Outcome updates and fused states waiting for the tracks' writer.\n");
+        text.Append("# TYPE fusion_track_write_queue_rows gauge\n");
+        text.Append(c, $"fusion_track_write_queue_rows {TrackWriteQueueRows()}\n");
         lock (_latencyLock)
         {
             text.Append("# HELP fusion_commit_rows_total Rows stored by group commits.\n");

@@ -17,6 +17,14 @@ public interface IVehicleTrackGrain : IGrainWithStringKey
     [Alias("GetState")]
     Task<VehicleStateSnapshot?> GetStateAsync();
 
+    /// <summary>
+    /// Forgets the track and rebuilds it from the store at its next call: for when measurements committed at or after
+    /// <paramref name="fromUs"/> may not have reached it (a delivery that failed or timed out). Checkpoints at or after
+    /// that time are deleted, since they may lack those measurements; nothing is checkpointed at this deactivation.
+    /// </summary>
+    [Alias("Rebuild")]
+    Task RebuildAsync(long fromUs);
+
     /// <summary>Stores the track's base checkpoint now.</summary>
     [Alias("Checkpoint")]
     Task PersistCheckpointAsync();

@@ -17,7 +17,10 @@ public sealed class TrackGrainOptions
     [Range(0.01, 3600)]
     public double FusedStateIntervalS { get; set; } = 1;
 
-    /// <summary>Fused states and outcome updates that may wait for the background writer before grains wait. Default 100000.</summary>
+    /// <summary>
+    /// Rows (outcome updates and fused states) that may wait for the background writer before new deliveries to the
+    /// tracks wait, and with them new ingest requests. Default 100000.
+    /// </summary>
     [Range(1, 10_000_000)]
     public int WriteQueueCapacity { get; set; } = 100_000;
 

@@ -10,35 +10,77 @@ namespace FusionService.Tracking;
 /// <summary>
 /// Collects fused states and outcome updates from the track grains and writes them in bulk every
 /// <see cref="TrackGrainOptions.FlushIntervalMs"/> (COPY into staging tables, then one set-based statement each).
-/// The queue is bounded: grains wait when it is full. A failed write is retried with the same rows; at shutdown the
-/// queue is drained. Register it before the Orleans silo, so it stops after the grains have deactivated.
+/// Grains never wait here (a grain call that waits can outlive Orleans' response timeout and have later calls
+/// dropped); the bound is kept one step earlier: the <see cref="TrackDispatcher"/> waits in
+/// <see cref="WaitForRoomAsync"/> while more than <see cref="TrackGrainOptions.WriteQueueCapacity"/> rows are
+/// queued. A failed write is retried with the same rows; at shutdown the queue is drained. Register it before the
+/// Orleans silo, so it stops after the grains have deactivated.
 /// </summary>
 public sealed class TrackWriteQueue : BackgroundService
 {
-    private readonly Channel<(IReadOnlyList<MeasurementOutcomeUpdate> Outcomes, IReadOnlyList<FusedStateRow> States)> _channel;
+    private readonly Channel<(IReadOnlyList<MeasurementOutcomeUpdate> Outcomes, IReadOnlyList<FusedStateRow> States)> _channel =
+        Channel.CreateUnbounded<(IReadOnlyList<MeasurementOutcomeUpdate>, IReadOnlyList<FusedStateRow>)>(new UnboundedChannelOptions { SingleReader = true });
+
     private readonly FusionDatabase _database;
     private readonly TrackGrainOptions _options;
     private readonly ILogger<TrackWriteQueue> _logger;
     private readonly List<MeasurementOutcomeUpdate> _outcomes = [];
     private readonly List<FusedStateRow> _states = [];
     private readonly SemaphoreSlim _flush = new(1, 1);
+    private readonly Lock _roomGate = new();
+    private TaskCompletionSource _written = new(TaskCreationOptions.RunContinuationsAsynchronously);
+    private long _queuedRows;
 
     /// <summary>Creates the queue.</summary>
     public TrackWriteQueue(FusionDatabase database, IOptions<TrackGrainOptions> options, ILogger<TrackWriteQueue> logger)
     {
+        ArgumentNullException.ThrowIfNull(options);
         _database = database;
         _options = options.Value;
         _logger = logger;
-        _channel = Channel.CreateBounded<(IReadOnlyList<MeasurementOutcomeUpdate>, IReadOnlyList<FusedStateRow>)>(
-            new BoundedChannelOptions(Math.Max(1, _options.WriteQueueCapacity / 64)) { SingleReader = true, FullMode = BoundedChannelFullMode.Wait });
     }
 
-    /// <summary>Number of batches waiting.</summary>
-    public int Depth => _channel.Reader.Count;
+    /// <summary>Rows (outcome updates and fused states) queued and not yet written.</summary>
+    public long QueuedRows => Interlocked.Read(ref _queuedRows);
 
-    /// <summary>Queues writes; waits while the queue is full.</summary>
-    public ValueTask EnqueueAsync(IReadOnlyList<MeasurementOutcomeUpdate> outcomes, IReadOnlyList<FusedStateRow> states) =>
-        outcomes.Count == 0 && states.Count == 0 ? ValueTask.CompletedTask : _channel.Writer.WriteAsync((outcomes, states));
+    /// <summary>Queues writes; never waits (see <see cref="WaitForRoomAsync"/> for the bound).</summary>
+    public void Enqueue(IReadOnlyList<MeasurementOutcomeUpdate> outcomes, IReadOnlyList<FusedStateRow> states)
+    {
+        ArgumentNullException.ThrowIfNull(outcomes);
+        ArgumentNullException.ThrowIfNull(states);
+        if (outcomes.Count == 0 && states.Count == 0)
+        {
+            return;
+        }
+
+        Interlocked.Add(ref _queuedRows, outcomes.Count + states.Count);
+        if (!_channel.Writer.TryWrite((outcomes, states)))
+        {
+            throw new InvalidOperationException("the track write queue is closed");
+        }
+    }
+
+    /// <summary>Completes when fewer than <see cref="TrackGrainOptions.WriteQueueCapacity"/> rows are queued.</summary>
+    /// <param name="cancellationToken">Stops waiting.</param>
+    public async Task WaitForRoomAsync(CancellationToken cancellationToken = default)
+    {
+        while (QueuedRows >= _options.WriteQueueCapacity)
+        {
+            Task written;
+            lock (_roomGate)
+            {
+                written = _written.Task;
+            }
+
+            // Re-check after taking the signal, so a write that finished in between is not missed.
+            if (QueuedRows < _options.WriteQueueCapacity)
+            {
+                return;
+            }
+
+            await written.WaitAsync(cancellationToken).ConfigureAwait(false);
+        }
+    }
 
     /// <summary>Writes everything queued so far (tests and shutdown).</summary>
     public async Task FlushAsync(CancellationToken cancellationToken)
@@ -79,6 +121,7 @@ public sealed class TrackWriteQueue : BackgroundService
         if (_outcomes.Count > 0)
         {
             await MeasurementOutcomeUpdater.ApplyAsync(_database.DataSource, _outcomes, cancellationToken).ConfigureAwait(false);
+            Written(_outcomes.Count);
             _outcomes.Clear();
         }
     }
@@ -88,8 +131,22 @@ public sealed class TrackWriteQueue : BackgroundService
         if (_states.Count > 0)
         {
             await FusedStateUpserter.UpsertAsync(_database.DataSource, _states, cancellationToken).ConfigureAwait(false);
+            Written(_states.Count);
             _states.Clear();
         }
+    }
+
+    private void Written(int rows)
+    {
+        Interlocked.Add(ref _queuedRows, -rows);
+        TaskCompletionSource done;
+        lock (_roomGate)
+        {
+            done = _written;
+            _written = new TaskCompletionSource(TaskCreationOptions.RunContinuationsAsynchronously);
+        }
+
+        done.TrySetResult();
     }
 
     /// <inheritdoc />
@@ -125,6 +182,7 @@ public sealed class TrackWriteQueue : BackgroundService
         {
             // Rows the store refuses before sending can never succeed: log and drop them rather than stop the host.
             _logger.LogError(ex, "Dropped {Outcomes} outcomes and {States} fused states the store refused", _outcomes.Count, _states.Count);
+            Written(_outcomes.Count + _states.Count);
             _outcomes.Clear();
             _states.Clear();
         }

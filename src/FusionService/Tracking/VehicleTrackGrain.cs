@@ -45,6 +45,7 @@ internal sealed class VehicleTrackGrain(
     private long _lastPersistedUs = long.MinValue;
     private DateTimeOffset _lastPersistAt;
     private VehicleAlertMonitor? _monitor;
+    private bool _stale;
 
     public override async Task OnActivateAsync(CancellationToken cancellationToken)
     {
@@ -87,7 +88,7 @@ internal sealed class VehicleTrackGrain(
         }
 
         _lastPersistAt = time.GetUtcNow();
-        await FlushWritesAsync();
+        FlushWrites();
         await _monitor.FlushAsync(live: false, time.GetUtcNow());
         logger.LogDebug("Track {Key} restored: checkpoint {HasCheckpoint}, {Replayed} measurements re-processed", this.GetPrimaryKeyString(), floor is not null, replayed);
         await base.OnActivateAsync(cancellationToken);
@@ -132,7 +133,7 @@ internal sealed class VehicleTrackGrain(
             throw;
         }
 
-        await FlushWritesAsync();
+        FlushWrites();
         await (_monitor?.FlushAsync(live: true, time.GetUtcNow()) ?? Task.CompletedTask);
         if ((time.GetUtcNow() - _lastPersistAt).TotalSeconds >= options.Value.CheckpointIntervalS)
         {
@@ -166,8 +167,27 @@ internal sealed class VehicleTrackGrain(
             s.TimeUs, phase, position.LatitudeDeg, position.LongitudeDeg, x, p, [.. _lastBySensor], s.Resets));
     }
 
+    public async Task RebuildAsync(long fromUs)
+    {
+        _stale = true;
+        _outcomes.Clear();
+        _states.Clear();
+        DeactivateOnIdle();
+        await gate.RunAsync(async () =>
+        {
+            await new FilterCheckpointRepository(database.DataSource).DeleteFromAsync(_fleetId, _vehicleId, fromUs);
+            return true;
+        });
+        logger.LogInformation("Track {Key} will be rebuilt from the store (measurements from {FromUs} may have missed it)", this.GetPrimaryKeyString(), fromUs);
+    }
+
     public async Task PersistCheckpointAsync()
     {
+        if (_stale)
+        {
+            return;
+        }
+
         var (state, last) = _track.BaseCheckpoint;
         _lastPersistAt = time.GetUtcNow();
         if (last is not { } lastMeasurement || lastMeasurement.TimeUs == _lastPersistedUs)
@@ -269,14 +289,14 @@ internal sealed class VehicleTrackGrain(
         _ => StoredOutcome.Unused,
     };
 
-    private async Task FlushWritesAsync()
+    private void FlushWrites()
     {
         if (_outcomes.Count == 0 && _states.Count == 0)
         {
             return;
         }
 
-        await writes.EnqueueAsync([.. _outcomes], [.. _states]);
+        writes.Enqueue([.. _outcomes], [.. _states]);
         _outcomes.Clear();
         _states.Clear();
     }

@@ -45,6 +45,47 @@ public sealed class LoadGeneratorTests
             Assert.All(messages, m => Assert.True(ids.Add(m.Id), $"id {m.Id} sent twice"));
         }
 
-        Assert.Equal(40, server.Posts.SelectMany(p => TelemetryJson.ReadNdjson(Encoding.UTF8.GetString(p.Body))).Select(m => m.Vehicle).Distinct().Count());
+        // The default shape is one vehicle per batch: 12 batches reach 12 of the 40 vehicles.
+        Assert.All(server.Posts, p => Assert.Single(TelemetryJson.ReadNdjson(Encoding.UTF8.GetString(p.Body)).Select(m => m.Vehicle).Distinct()));
+        Assert.Equal(12, server.Posts.SelectMany(p => TelemetryJson.ReadNdjson(Encoding.UTF8.GetString(p.Body))).Select(m => m.Vehicle).Distinct().Count());
+    }
+
+    [Fact]
+    public void Per_vehicle_batches_continue_each_vehicle_in_time_order_from_round_to_round()
+    {
+        var options = new LoadGeneratorOptions { Endpoint = new Uri("http://127.0.0.1:1/v1/telemetry"), VehicleCount = 4, BatchSize = 50 };
+        var byVehicle = Enumerable.Range(0, 12)
+            .SelectMany(b => LoadGenerator.SyntheticBatch(options, b))
+            .GroupBy(m => m.Vehicle)
+            .ToDictionary(g => g.Key, g => g.Select(m => m.TimeUs).ToList());
+
+        Assert.Equal(4, byVehicle.Count);
+        foreach (var times in byVehicle.Values)
+        {
+            // Three rounds of 50 steps each, 100 ms apart, with no gap or overlap between rounds.
+            Assert.Equal(150, times.Count);
+            Assert.All(times.Zip(times.Skip(1)), pair => Assert.Equal(100_000L, pair.Second - pair.First));
+        }
+    }
+
+    [Fact]
+    public void Interleaved_batches_spread_each_batch_over_many_vehicles()
+    {
+        var options = new LoadGeneratorOptions
+        {
+            Endpoint = new Uri("http://127.0.0.1:1/v1/telemetry"), VehicleCount = 40, BatchSize = 500, Shape = LoadShape.Interleaved,
+        };
+        var batch = LoadGenerator.SyntheticBatch(options, 0);
+
+        Assert.Equal(40, batch.Select(m => m.Vehicle).Distinct().Count());
+        Assert.Equal(13, batch.Count(m => m.Vehicle == batch[0].Vehicle));
+    }
+
+    [Fact]
+    public void A_rate_that_is_not_positive_is_refused()
+    {
+        var options = new LoadGeneratorOptions { Endpoint = new Uri("http://127.0.0.1:1/v1/telemetry"), MessagesPerSecond = 0 };
+        var error = Assert.Throws<ArgumentException>(options.Validate);
+        Assert.Contains("MessagesPerSecond", error.Message, StringComparison.Ordinal);
     }
 }

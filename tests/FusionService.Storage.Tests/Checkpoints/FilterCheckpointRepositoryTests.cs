@@ -47,6 +47,23 @@ public sealed class FilterCheckpointRepositoryTests(PostgresFixture server)
     }
 
     [Fact]
+    public async Task Delete_from_removes_the_vehicles_checkpoints_at_and_after_the_instant_only()
+    {
+        await using var schema = await server.NewMigratedSchemaAsync();
+        var fleet = await new FleetAdmin(schema.DataSource).CreateFleetAsync("delete-from fleet");
+        var repository = new FilterCheckpointRepository(schema.DataSource);
+        var t = TestTimes.At(TestTimes.Day, 12, 0, 0, 0);
+
+        await repository.UpsertAsync(Checkpoint(fleet, "van-1", t, 1));
+        await repository.UpsertAsync(Checkpoint(fleet, "van-1", t + 10_000_000, 2));
+        await repository.UpsertAsync(Checkpoint(fleet, "van-1", t + 20_000_000, 3));
+        await repository.UpsertAsync(Checkpoint(fleet, "van-2", t + 20_000_000, 4));
+        Assert.Equal(2, await repository.DeleteFromAsync(fleet, "van-1", t + 10_000_000));
+        Assert.Equal(t, (await repository.NewestCheckpointBeforeAsync(fleet, "van-1", long.MaxValue))?.TimeUs);
+        Assert.Equal(t + 20_000_000, (await repository.NewestCheckpointBeforeAsync(fleet, "van-2", long.MaxValue))?.TimeUs);
+    }
+
+    [Fact]
     public async Task Upsert_of_the_same_instant_replaces_the_checkpoint()
     {
         await using var schema = await server.NewMigratedSchemaAsync();

@@ -113,6 +113,27 @@ public sealed class EmbeddedPostgresTests
     }
 
     [Fact]
+    public async Task Server_settings_are_applied_at_start()
+    {
+        var settings = new Dictionary<string, string>(StringComparer.Ordinal) { ["shared_buffers"] = "48MB", ["checkpoint_timeout"] = "17min" };
+        await using var cluster = await EmbeddedPostgres.StartAsync(new EmbeddedPostgresOptions { NoSync = true, ServerSettings = settings });
+        Assert.Equal("48MB", await ScalarAsync<string>(cluster.ConnectionString, "SHOW shared_buffers"));
+        Assert.Equal("17min", await ScalarAsync<string>(cluster.ConnectionString, "SHOW checkpoint_timeout"));
+    }
+
+    [Theory]
+    [InlineData("shared_buffers", "1GB -c fsync=off")]
+    [InlineData("Shared Buffers", "1GB")]
+    [InlineData("work_mem", "")]
+    public async Task A_server_setting_outside_the_plain_form_is_refused_before_anything_starts(string name, string value)
+    {
+        var settings = new Dictionary<string, string>(StringComparer.Ordinal) { [name] = value };
+        var error = await Assert.ThrowsAsync<ArgumentException>(
+            () => EmbeddedPostgres.StartAsync(new EmbeddedPostgresOptions { NoSync = true, ServerSettings = settings }));
+        Assert.Contains($"'{name}'", error.Message, StringComparison.Ordinal);
+    }
+
+    [Fact]
     public async Task A_throwaway_cluster_creates_the_fusion_database_and_deletes_its_folder_on_dispose()
     {
         var cluster = await EmbeddedPostgres.StartAsync(new EmbeddedPostgresOptions { NoSync = true });
