@@ -18,7 +18,10 @@ public sealed class AuditRepository
         + "\n    AND time_us >= @FromUs AND time_us < @ToUs"
         + "\n    AND measured_at >= @FromAt AND measured_at < @ToAt\n";
 
-    private const string OutcomesSql = "SELECT kind AS Kind, outcome AS Outcome, count(*) AS Count FROM measurements WHERE " + Range
+    // The measurements of the range, each with its latest verdict (migration 0005).
+    private const string Judged = "judged_measurements(@FleetId, @VehicleId, @FromUs, @ToUs, @FromAt, @ToAt)";
+
+    private const string OutcomesSql = "SELECT kind AS Kind, outcome AS Outcome, count(*) AS Count FROM " + Judged
         + " GROUP BY kind, outcome ORDER BY kind, outcome";
 
     private const string LatencySql = """
@@ -34,12 +37,12 @@ public sealed class AuditRepository
         ORDER BY kind
         """;
 
-    private const string NisSql = "SELECT kind AS Kind, v0 AS V0, v1 AS V1, nis AS Nis FROM measurements WHERE " + Range
-        + " AND outcome = 0 AND NOT track_reset AND nis IS NOT NULL";
+    private const string NisSql = "SELECT kind AS Kind, v0 AS V0, v1 AS V1, nis AS Nis FROM " + Judged
+        + " WHERE outcome = 0 AND NOT track_reset AND nis IS NOT NULL";
 
     private const string FixTimesSql = "SELECT time_us FROM measurements WHERE " + Range + " AND kind = 0 ORDER BY time_us";
 
-    private const string ResetTimesSql = "SELECT time_us FROM measurements WHERE " + Range + " AND track_reset ORDER BY time_us";
+    private const string ResetTimesSql = "SELECT time_us FROM " + Judged + " WHERE track_reset ORDER BY time_us";
 
     private const string SpeedsSql = "SELECT time_us AS TimeUs, speed_mps AS SpeedMps FROM fused_states WHERE " + Range + " ORDER BY time_us";
 
@@ -60,9 +63,7 @@ public sealed class AuditRepository
         SELECT fleet_id AS FleetId, vehicle_id AS VehicleId, kind AS Kind, time_us AS TimeUs,
                message_key AS MessageKey, received_at AS ReceivedAtUtc, v0 AS V0, v1 AS V1, v2 AS V2,
                flags AS Flags, outcome AS Outcome, nis AS Nis, track_reset AS TrackReset
-        FROM measurements WHERE
-        """ + Range + """
-
+        FROM judged_measurements(@FleetId, @VehicleId, @FromUs, @ToUs, @FromAt, @ToAt)
         ORDER BY time_us, kind, message_key
         """;
 

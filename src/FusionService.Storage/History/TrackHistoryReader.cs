@@ -18,11 +18,8 @@ public sealed class TrackHistoryReader
 {
     private const string MeasurementSql = """
         SELECT kind, time_us, message_key, v0, v1, v2, outcome, nis, track_reset
-        FROM measurements
-        WHERE fleet_id = @FleetId AND vehicle_id = @VehicleId
-          AND time_us >= @FromUs AND time_us < @ToUs
-          AND measured_at >= @FromAt AND measured_at < @ToAt
-          AND kind >= @MinKind AND kind <= @MaxKind
+        FROM judged_measurements(@FleetId, @VehicleId, @FromUs, @ToUs, @FromAt, @ToAt)
+        WHERE kind >= @MinKind AND kind <= @MaxKind
         ORDER BY time_us, kind, message_key
         """;
 

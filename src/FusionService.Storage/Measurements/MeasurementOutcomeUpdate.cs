@@ -1,7 +1,7 @@
 // A new verdict of the filter on a stored measurement.
 namespace FusionService.Storage.Measurements;
 
-/// <summary>The filter's (new) verdict on a stored measurement, for <see cref="MeasurementOutcomeUpdater"/>.</summary>
+/// <summary>The filter's (new) verdict on a stored measurement, for <see cref="MeasurementVerdictLog"/>.</summary>
 /// <param name="Key">The stored measurement.</param>
 /// <param name="Outcome">What the filter did with it.</param>
 /// <param name="Nis">Normalised innovation squared (dimensionless, non-negative), or null when no update was attempted.</param>

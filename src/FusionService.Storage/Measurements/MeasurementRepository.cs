@@ -5,7 +5,7 @@ using Npgsql;
 
 namespace FusionService.Storage.Measurements;
 
-/// <summary>Queries on <c>measurements</c>.</summary>
+/// <summary>Queries on <c>measurements</c>, each row with its latest verdict (<c>judged_measurements</c>).</summary>
 /// <param name="dataSource">Data source whose connections have the store's schema on their search path
 /// (see <see cref="Schemas.StorageSchema.WithSearchPath"/>).</param>
 public sealed class MeasurementRepository(NpgsqlDataSource dataSource)
@@ -14,10 +14,7 @@ public sealed class MeasurementRepository(NpgsqlDataSource dataSource)
         SELECT fleet_id AS FleetId, vehicle_id AS VehicleId, kind AS Kind, time_us AS TimeUs,
                message_key AS MessageKey, received_at AS ReceivedAtUtc, v0 AS V0, v1 AS V1, v2 AS V2,
                flags AS Flags, outcome AS Outcome, nis AS Nis, track_reset AS TrackReset
-        FROM measurements
-        WHERE fleet_id = @FleetId AND vehicle_id = @VehicleId
-          AND time_us >= @FromUs AND time_us < @ToUs
-          AND measured_at >= @FromAt AND measured_at < @ToAt
+        FROM judged_measurements(@FleetId, @VehicleId, @FromUs, @ToUs, @FromAt, @ToAt)
         ORDER BY time_us, kind, message_key
         """;
 

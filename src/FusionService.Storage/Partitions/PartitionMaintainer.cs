@@ -12,7 +12,8 @@ using Npgsql;
 namespace FusionService.Storage.Partitions;
 
 /// <summary>
-/// Keeps the daily range partitions of <c>measurements</c> and <c>fused_states</c>: one partition per UTC day,
+/// Keeps the daily range partitions of <c>measurements</c>, <c>measurement_verdicts</c> and <c>fused_states</c>: one
+/// partition per UTC day of each,
 /// named <c>TABLE_pYYYYMMDD</c>, covering [day 00:00Z, next day 00:00Z) of <c>measured_at</c>.
 /// </summary>
 /// <remarks>
@@ -69,7 +70,9 @@ public sealed class PartitionMaintainer
     }
 
     /// <summary>The partitioned tables this class maintains.</summary>
-    public static IReadOnlyList<string> PartitionedTables { get; } = ["measurements", "fused_states"];
+    /// <remarks>A measurement's verdicts live in the partition of its own day, so <c>measurement_verdicts</c> gets a
+    /// partition for every day <c>measurements</c> has one: they are made and dropped in the same rounds.</remarks>
+    public static IReadOnlyList<string> PartitionedTables { get; } = ["measurements", "measurement_verdicts", "fused_states"];
 
     /// <summary>The name of <paramref name="table"/>'s partition for <paramref name="day"/>, e.g.
     /// <c>measurements_p20250308</c>.</summary>
@@ -97,15 +100,6 @@ public sealed class PartitionMaintainer
         var dropped = await DropPartitionsBeforeAsync(today.AddDays(-_options.RetentionDays), cancellationToken).ConfigureAwait(false);
         return new PartitionMaintenanceResult(created, dropped);
     }
-
-    /// <summary>
-    /// Fill factor of a new partition, percent. Every measurement row is updated exactly once after it is stored (the
-    /// filter's verdict and NIS, columns no index covers); leaving 30 % of each page free lets PostgreSQL do that as a
-    /// heap-only tuple update inside the page, without a new index entry. Measured here on a 400,000-row copy of a
-    /// loaded partition: 20,000 verdict updates took 572-593 ms at fill factor 70 against 807-876 ms at 100. Fused
-    /// states are written once (only a replay after late data rewrites some), so they keep the default 100.
-    /// </summary>
-    public static int FillFactor(string table) => table == "measurements" ? 70 : 100;
 
     /// <summary>Creates the missing daily partitions from <paramref name="firstDay"/> through
     /// <paramref name="lastDay"/> (both inclusive) of every table in <see cref="PartitionedTables"/>.</summary>
@@ -138,7 +132,7 @@ public sealed class PartitionMaintainer
 
                         var sql = string.Create(
                             CultureInfo.InvariantCulture,
-                            $"CREATE TABLE {name} PARTITION OF {table} FOR VALUES FROM ('{Bound(day)}') TO ('{Bound(day.AddDays(1))}') WITH (fillfactor = {FillFactor(table)})");
+                            $"CREATE TABLE {name} PARTITION OF {table} FOR VALUES FROM ('{Bound(day)}') TO ('{Bound(day.AddDays(1))}')");
                         await connection.ExecuteAsync(new CommandDefinition(sql, transaction: transaction, cancellationToken: cancellationToken))
                             .ConfigureAwait(false);
                         created.Add(name);

@@ -9,7 +9,8 @@ namespace FusionService.Tracking;
 
 /// <summary>
 /// Collects fused states and outcome updates from the track grains and writes them in bulk every
-/// <see cref="TrackGrainOptions.FlushIntervalMs"/> (COPY into staging tables, then one set-based statement each).
+/// <see cref="TrackGrainOptions.FlushIntervalMs"/> (verdicts appended to the verdict log by binary COPY, fused states
+/// through a staging table and one upsert).
 /// Grains never wait here (a grain call that waits can outlive Orleans' response timeout and have later calls
 /// dropped); the bound is kept one step earlier: the <see cref="TrackDispatcher"/> waits in
 /// <see cref="WaitForRoomAsync"/> while more than <see cref="TrackGrainOptions.WriteQueueCapacity"/> rows are
@@ -120,7 +121,7 @@ public sealed class TrackWriteQueue : BackgroundService
     {
         if (_outcomes.Count > 0)
         {
-            await MeasurementOutcomeUpdater.ApplyAsync(_database.DataSource, _outcomes, cancellationToken).ConfigureAwait(false);
+            await MeasurementVerdictLog.AppendAsync(_database.DataSource, _outcomes, cancellationToken).ConfigureAwait(false);
             Written(_outcomes.Count);
             _outcomes.Clear();
         }

@@ -65,24 +65,32 @@ public sealed class MeasurementIngestTests(PostgresFixture server)
     }
 
     [Fact]
-    public async Task Outcome_updates_apply_and_the_last_one_of_a_row_wins()
+    public async Task Verdicts_are_appended_and_the_latest_of_a_measurement_is_the_one_read()
     {
         var (schema, fleet) = await NewStoreAsync();
         await using var _ = schema;
         long t = TestTimes.At(TestTimes.Day, 10, 0, 0, 0);
-        await InsertAsync(schema, [Row(fleet, "van-1", t, 1), Row(fleet, "van-1", t, 2)]);
+        await InsertAsync(schema, [Row(fleet, "van-1", t, 1), Row(fleet, "van-1", t, 2), Row(fleet, "van-1", t, 3)]);
         var k1 = new MeasurementKey(fleet, "van-1", 2, t, 1);
         var k2 = new MeasurementKey(fleet, "van-1", 2, t, 2);
-        int updated = await MeasurementOutcomeUpdater.ApplyAsync(schema.DataSource,
+        Assert.Equal(2, await MeasurementVerdictLog.AppendAsync(schema.DataSource,
         [
             new(k1, MeasurementOutcome.Gated, 12.5, false),
             new(k2, MeasurementOutcome.Initialising, null, false),
             new(k1, MeasurementOutcome.Accepted, 0.75, true),
-        ]);
-        Assert.Equal(2, updated);
+        ]));
+
+        // A later flush re-judges k2 (as a replay after late data would): a new row, not an update.
+        Assert.Equal(1, await MeasurementVerdictLog.AppendAsync(schema.DataSource, [new(k2, MeasurementOutcome.Accepted, 2.25, false)]));
+        Assert.Equal(3L, await schema.ScalarAsync<long>("SELECT count(*) FROM measurement_verdicts"));
+        Assert.Equal(3L, await schema.ScalarAsync<long>("SELECT count(*) FROM measurements WHERE outcome = 4"));
+
         var rows = await new MeasurementRepository(schema.DataSource).ReadAsync(fleet, "van-1", t, t + 1);
         Assert.Equal((MeasurementOutcome.Accepted, 0.75, true), (rows[0].Outcome, rows[0].Nis!.Value, rows[0].TrackReset));
-        Assert.Equal((MeasurementOutcome.Initialising, (double?)null), (rows[1].Outcome, rows[1].Nis));
+        Assert.Equal((MeasurementOutcome.Accepted, 2.25, false), (rows[1].Outcome, rows[1].Nis!.Value, rows[1].TrackReset));
+
+        // A measurement without a verdict keeps the row's own columns (pending since it was stored).
+        Assert.Equal((MeasurementOutcome.Pending, (double?)null, false), (rows[2].Outcome, rows[2].Nis, rows[2].TrackReset));
     }
 
     [Fact]

@@ -54,7 +54,7 @@ public sealed class IngestRoundTripTests(ServiceFixture fixture)
         Assert.Equal("van-list", van.Vehicle);
         long newestGnssUs = drive.Messages.Take(300).Where(m => (string)m.Message["kind"]! == "gnss").Max(m => m.Core[0].TimeUs);
         Assert.True(van.Time >= DateTimeOffset.UnixEpoch.AddTicks(newestGnssUs * 10), "the list lags the newest fix");
-        Assert.True(await fixture.CountAsync("SELECT count(*) FROM measurements WHERE fleet_id = $1 AND outcome = 4", fleet.Id) == 0, "outcomes left pending");
+        Assert.True(await fixture.CountAsync("SELECT count(*) FROM " + JudgedSql.OfFleet + " WHERE outcome = 4", fleet.Id) == 0, "outcomes left pending");
 
         // Fused states: one at every GNSS position epoch once the track runs, and never more than 1 s apart.
         var times = new List<long>();

@@ -50,7 +50,7 @@ public sealed class OutOfOrderTests(ServiceFixture fixture)
     {
         await using var connection = await fixture.Store.OpenConnectionAsync();
         await using var command = new NpgsqlCommand(
-            "SELECT time_us, kind, message_key, outcome, nis FROM measurements WHERE fleet_id = $1 AND vehicle_id = $2 ORDER BY time_us, kind, message_key",
+            "SELECT time_us, kind, message_key, outcome, nis FROM " + JudgedSql.OfVehicle + " ORDER BY time_us, kind, message_key",
             connection);
         command.Parameters.Add(new NpgsqlParameter { Value = fleet });
         command.Parameters.Add(new NpgsqlParameter { Value = vehicle });

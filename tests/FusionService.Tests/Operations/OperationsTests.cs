@@ -77,7 +77,7 @@ public sealed class OperationsTests(ServiceFixture fixture)
         Assert.Equal(before + 1, Value(await client.GetStringAsync("/metrics"), "fusion_gated_measurements_total"));
         await fixture.Host.Services.GetRequiredService<FusionService.Tracking.TrackWriteQueue>().FlushAsync(CancellationToken.None);
         Assert.Equal(1, await fixture.CountAsync(
-            "SELECT outcome FROM measurements WHERE fleet_id = $1 AND message_key = $2", fleet.Id, (long)FusionService.Ingest.MessageKeys.FromId("outlier")));
+            "SELECT outcome FROM " + JudgedSql.OfFleet + " WHERE message_key = $2", fleet.Id, (long)FusionService.Ingest.MessageKeys.FromId("outlier")));
     }
 
     [Fact]

@@ -38,7 +38,7 @@ public sealed class CrashRestartTests(ServiceFixture fixture, ITestOutputHelper 
         }
 
         Assert.Equal(KillAfter, acknowledged);
-        long pending = await fixture.CountAsync("SELECT count(*) FROM measurements WHERE fleet_id = $1 AND outcome = 4", fleet.Id);
+        long pending = await fixture.CountAsync("SELECT count(*) FROM " + JudgedSql.OfFleet + " WHERE outcome = 4", fleet.Id);
         output.WriteLine($"after the kill: {pending} stored measurements still pending (their verdicts were not written)");
 
         await using (var second = new ServiceFactory(fixture.ConnectionString))
@@ -57,7 +57,7 @@ public sealed class CrashRestartTests(ServiceFixture fixture, ITestOutputHelper 
 
             // The verdicts lost with the process are written again by the rebuilt track.
             await second.Services.GetRequiredService<FusionService.Tracking.TrackWriteQueue>().FlushAsync(CancellationToken.None);
-            Assert.Equal(0, await fixture.CountAsync("SELECT count(*) FROM measurements WHERE fleet_id = $1 AND outcome = 4", fleet.Id));
+            Assert.Equal(0, await fixture.CountAsync("SELECT count(*) FROM " + JudgedSql.OfFleet + " WHERE outcome = 4", fleet.Id));
         }
     }
 

@@ -67,7 +67,7 @@ public sealed class RestartTests(ServiceFixture fixture)
         }
 
         Assert.Equal(2, await fixture.CountAsync(
-            "SELECT outcome FROM measurements WHERE fleet_id = $1 AND message_key = $2", fleet.Id, (long)lateCore.MessageKey));
+            "SELECT outcome FROM " + JudgedSql.OfFleet + " WHERE message_key = $2", fleet.Id, (long)lateCore.MessageKey));
         await using var second = new ServiceFactory(fixture.ConnectionString);
         using var ingest = fixture.Client(fleet.IngestKey, second);
         for (int from = StopAfter; from < drive.Messages.Count; from += 100)
