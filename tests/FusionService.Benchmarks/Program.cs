@@ -20,4 +20,10 @@ if (args.Length > 0 && string.Equals(args[0], "history-split", StringComparison.
     return;
 }
 
+if (args.Length > 0 && string.Equals(args[0], "vanday-http", StringComparison.Ordinal))
+{
+    await VanDayHttp.RunAsync(args);
+    return;
+}
+
 BenchmarkSwitcher.FromAssembly(typeof(Program).Assembly).Run(args);

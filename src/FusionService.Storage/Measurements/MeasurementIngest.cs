@@ -24,12 +24,15 @@ public static class MeasurementIngest
         "COPY ingest_staging (fleet_id, vehicle_id, kind, time_us, measured_at, message_key, received_at, "
         + "v0, v1, v2, flags, outcome, nis, track_reset) FROM STDIN (FORMAT BINARY)";
 
+    // Both vehicle inserts take their rows in one order (fleet, then the id's bytes): two transactions that create the
+    // same new vehicles then wait for each other instead of each holding one and waiting for the other (a deadlock).
     private const string InsertVehicles =
-        "INSERT INTO vehicles (fleet_id, vehicle_id) SELECT DISTINCT fleet_id, vehicle_id FROM ingest_staging "
-        + "ON CONFLICT DO NOTHING";
+        "INSERT INTO vehicles (fleet_id, vehicle_id) SELECT f, v FROM (SELECT DISTINCT fleet_id AS f, vehicle_id AS v FROM ingest_staging) AS d "
+        + "ORDER BY f, v COLLATE \"C\" ON CONFLICT DO NOTHING";
 
     private const string InsertVehiclesFromArrays =
-        "INSERT INTO vehicles (fleet_id, vehicle_id) SELECT * FROM unnest($1::uuid[], $2::text[]) ON CONFLICT DO NOTHING";
+        "INSERT INTO vehicles (fleet_id, vehicle_id) SELECT f, v FROM unnest($1::uuid[], $2::text[]) AS u(f, v) "
+        + "ORDER BY f, v COLLATE \"C\" ON CONFLICT DO NOTHING";
 
     private const string UniqueViolation = "23505";
 

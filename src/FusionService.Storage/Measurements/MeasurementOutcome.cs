@@ -1,7 +1,8 @@
 // What the filter did with a stored measurement.
 namespace FusionService.Storage.Measurements;
 
-/// <summary>What the filter did with a measurement; stored as <c>smallint</c> in <c>measurements.outcome</c>.
+/// <summary>What the filter did with a measurement; stored as <c>smallint</c> in <c>measurement_verdicts.outcome</c> (and, for
+/// rows stored before migration 0005, in <c>measurements.outcome</c>).
 /// The numeric values are part of the schema (checked by a constraint) and must not change.</summary>
 public enum MeasurementOutcome : short
 {

@@ -102,6 +102,24 @@ public sealed class GroupCommitWriter : BackgroundService
         }
     }
 
+    private const string DeadlockDetected = "40P01";
+    private const string SerializationFailure = "40001";
+
+    private async Task<HashSet<MeasurementKey>> CommitOnceAsync(List<MeasurementRow> rows, CancellationToken cancellationToken)
+    {
+        var connection = await _database.DataSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
+        await using (connection.ConfigureAwait(false))
+        {
+            var transaction = await connection.BeginTransactionAsync(cancellationToken).ConfigureAwait(false);
+            await using (transaction.ConfigureAwait(false))
+            {
+                var inserted = await MeasurementIngest.InsertNewAsync(connection, transaction, rows, cancellationToken).ConfigureAwait(false);
+                await transaction.CommitAsync(cancellationToken).ConfigureAwait(false);
+                return inserted;
+            }
+        }
+    }
+
     private async Task CommitBatchAsync(List<CommitRequest> batch, int rowCount, CancellationToken cancellationToken)
     {
         var all = new List<MeasurementRow>(rowCount);
@@ -114,15 +132,16 @@ public sealed class GroupCommitWriter : BackgroundService
         HashSet<MeasurementKey> inserted;
         try
         {
-            var connection = await _database.DataSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
-            await using (connection.ConfigureAwait(false))
+            try
             {
-                var transaction = await connection.BeginTransactionAsync(cancellationToken).ConfigureAwait(false);
-                await using (transaction.ConfigureAwait(false))
-                {
-                    inserted = await MeasurementIngest.InsertNewAsync(connection, transaction, all, cancellationToken).ConfigureAwait(false);
-                    await transaction.CommitAsync(cancellationToken).ConfigureAwait(false);
-                }
+                inserted = await CommitOnceAsync(all, cancellationToken).ConfigureAwait(false);
+            }
+            catch (Npgsql.PostgresException ex) when (ex.SqlState is DeadlockDetected or SerializationFailure)
+            {
+                // Concurrent writers can still collide in ways no lock order rules out (two requests resending the
+                // same messages in different orders); the transaction was rolled back whole, so it is safe to run again.
+                _logger.LogInformation("Group commit of {Rows} rows met {SqlState}; running it again", rowCount, ex.SqlState);
+                inserted = await CommitOnceAsync(all, cancellationToken).ConfigureAwait(false);
             }
         }
         catch (Exception ex) when (ex is not OperationCanceledException || !cancellationToken.IsCancellationRequested)

@@ -94,6 +94,31 @@ public sealed class MeasurementIngestTests(PostgresFixture server)
     }
 
     [Fact]
+    public async Task Transactions_creating_the_same_new_vehicles_in_opposite_orders_both_commit()
+    {
+        // Each of 20 rounds: two transactions store one row for each of 40 new vehicles, one in ascending and one in
+        // descending vehicle order, at the same time. Vehicle rows inserted in the callers' orders would deadlock
+        // (SQLSTATE 40P01) in some rounds; inserted in one order they only wait for each other.
+        var (schema, fleet) = await NewStoreAsync();
+        await using var _ = schema;
+        long t = TestTimes.At(TestTimes.Day, 13, 0, 0, 0);
+        for (int round = 0; round < 20; round++)
+        {
+            var vehicles = Enumerable.Range(0, 40).Select(i => $"van-r{round}-{i:00}").ToList();
+            var ascending = vehicles.Select((v, i) => Row(fleet, v, t + i, 1)).ToList();
+            var descending = vehicles.AsEnumerable().Reverse().Select((v, i) => Row(fleet, v, t + i, 2)).ToList();
+            using var start = new SemaphoreSlim(0, 2);
+            var first = Task.Run(async () => { await start.WaitAsync(); return await InsertAsync(schema, ascending); });
+            var second = Task.Run(async () => { await start.WaitAsync(); return await InsertAsync(schema, descending); });
+            start.Release(2);
+            var inserted = await Task.WhenAll(first, second);
+            Assert.Equal((40, 40), (inserted[0].Count, inserted[1].Count));
+        }
+
+        Assert.Equal(800L, await schema.ScalarAsync<long>("SELECT count(*) FROM vehicles WHERE vehicle_id LIKE 'van-r%'"));
+    }
+
+    [Fact]
     public async Task Migration_0002_admits_outcome_codes_5_to_7_and_nothing_above()
     {
         var (schema, fleet) = await NewStoreAsync();
