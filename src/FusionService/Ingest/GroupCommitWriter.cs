@@ -23,10 +23,13 @@ public sealed class GroupCommitWriter : BackgroundService
     private readonly IngestOptions _options;
     private readonly ServiceMetrics _metrics;
     private readonly ILogger<GroupCommitWriter> _logger;
+    private readonly CommitClock _clock;
 
     /// <summary>Creates the writer.</summary>
-    public GroupCommitWriter(FusionDatabase database, IOptions<IngestOptions> options, ServiceMetrics metrics, ILogger<GroupCommitWriter> logger)
+    public GroupCommitWriter(
+        FusionDatabase database, IOptions<IngestOptions> options, ServiceMetrics metrics, CommitClock clock, ILogger<GroupCommitWriter> logger)
     {
+        _clock = clock;
         _database = database;
         _options = options.Value;
         _metrics = metrics;
@@ -44,12 +47,12 @@ public sealed class GroupCommitWriter : BackgroundService
     /// a key that appears several times among concurrent requests is claimed by the first.
     /// </summary>
     /// <exception cref="ServiceUnavailableException">The queue is full or the commit failed.</exception>
-    public Task<HashSet<MeasurementKey>> CommitAsync(IReadOnlyList<MeasurementRow> rows)
+    public Task<(HashSet<MeasurementKey> Inserted, long Sequence)> CommitAsync(IReadOnlyList<MeasurementRow> rows)
     {
         var request = new CommitRequest(rows);
         if (rows.Count == 0)
         {
-            request.Completion.SetResult([]);
+            request.Completion.SetResult(([], _clock.Now));
         }
         else if (!_channel.Writer.TryWrite(request))
         {
@@ -156,6 +159,7 @@ public sealed class GroupCommitWriter : BackgroundService
             return;
         }
 
+        long sequence = _clock.Advance();
         _metrics.ObserveCommit(watch.Elapsed.TotalSeconds, rowCount);
         foreach (var request in batch)
         {
@@ -169,7 +173,7 @@ public sealed class GroupCommitWriter : BackgroundService
                 }
             }
 
-            request.Completion.TrySetResult(claimed);
+            request.Completion.TrySetResult((claimed, sequence));
         }
     }
 }

@@ -9,9 +9,12 @@ namespace FusionService.Tracking;
 [Alias("FusionService.Tracking.IVehicleTrackGrain")]
 public interface IVehicleTrackGrain : IGrainWithStringKey
 {
-    /// <summary>Processes measurements that are already committed in the store (in any order).</summary>
+    /// <summary>
+    /// Processes measurements that are already committed in the store (in any order). <paramref name="stamp"/> names the
+    /// commit that stored them; a track whose restore already held that commit skips the batch.
+    /// </summary>
     [Alias("Process")]
-    Task ProcessAsync(TrackMeasurement[] batch);
+    Task ProcessAsync(TrackMeasurement[] batch, CommitStamp stamp);
 
     /// <summary>The current state, or null before the vehicle has a position.</summary>
     [Alias("GetState")]

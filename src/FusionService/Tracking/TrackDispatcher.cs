@@ -12,7 +12,9 @@ namespace FusionService.Tracking;
 /// arrive here, so a failed delivery loses nothing: the grain is told to rebuild itself from the store
 /// (<see cref="IVehicleTrackGrain.RebuildAsync"/>). At most <see cref="IngestOptions.MaxBatchesInTracking"/> deliveries
 /// run at once, and none starts while the <see cref="TrackWriteQueue"/> is full; until then <see cref="DispatchAsync"/>
-/// waits, which slows ingest down instead of buffering without bound. Each delivery's fused-state lag
+/// waits, which slows ingest down instead of buffering without bound. One vehicle's deliveries reach its grain one
+/// after another in the order they got their slots (for one client posting batch after batch, the order of its
+/// batches); different vehicles' run at once. Each delivery's fused-state lag
 /// (commit to processed by the grain) goes to <see cref="ServiceMetrics.ObserveTrackLag"/>. Registered as a hosted
 /// service after the Orleans silo, so that at shutdown it stops first and lets the deliveries in flight finish.
 /// </summary>
@@ -20,15 +22,23 @@ public sealed class TrackDispatcher : IHostedService, IAsyncDisposable
 {
     private readonly IGrainFactory _grains;
     private readonly TrackWriteQueue _writes;
+    private readonly CommitClock _clock;
     private readonly ServiceMetrics _metrics;
     private readonly ILogger<TrackDispatcher> _logger;
     private readonly SemaphoreSlim _slots;
     private readonly ConcurrentDictionary<Task, bool> _inFlight = new();
 
+    // The newest delivery of each vehicle: the next one for that vehicle waits for it, so a vehicle's batches reach its
+    // grain in the order they were handed over (a tracker flushing a backlog posts batch after batch; delivered out of
+    // order, batches further apart than the replay window would be judged too late).
+    private readonly Dictionary<(Guid FleetId, string VehicleId), Task> _tails = [];
+    private readonly Lock _tailsGate = new();
+
     /// <summary>Creates the dispatcher.</summary>
     public TrackDispatcher(
-        IGrainFactory grains, TrackWriteQueue writes, ServiceMetrics metrics, IOptions<IngestOptions> options, ILogger<TrackDispatcher> logger)
+        IGrainFactory grains, TrackWriteQueue writes, CommitClock clock, ServiceMetrics metrics, IOptions<IngestOptions> options, ILogger<TrackDispatcher> logger)
     {
+        _clock = clock;
         ArgumentNullException.ThrowIfNull(options);
         _grains = grains;
         _writes = writes;
@@ -43,8 +53,9 @@ public sealed class TrackDispatcher : IHostedService, IAsyncDisposable
     /// Starts delivering <paramref name="fresh"/> (newly committed measurements by vehicle id) to the grains of
     /// <paramref name="fleetId"/>. The returned outer task completes once the delivery has a slot; the inner task
     /// when every grain has processed its measurements (it never faults: failures are logged).
+    /// <paramref name="commitSequence"/> is the <see cref="CommitClock"/> number of the commit that stored them.
     /// </summary>
-    public async Task<Task> DispatchAsync(Guid fleetId, IReadOnlyDictionary<string, List<TrackMeasurement>> fresh)
+    public async Task<Task> DispatchAsync(Guid fleetId, IReadOnlyDictionary<string, List<TrackMeasurement>> fresh, long commitSequence)
     {
         ArgumentNullException.ThrowIfNull(fresh);
         if (fresh.Count == 0)
@@ -64,7 +75,19 @@ public sealed class TrackDispatcher : IHostedService, IAsyncDisposable
             throw;
         }
 
-        var delivery = DeliverAsync(fleetId, fresh, committedAt);
+        var ordered = new List<(string VehicleId, List<TrackMeasurement> Measurements, Task Previous, TaskCompletionSource Done)>(fresh.Count);
+        lock (_tailsGate)
+        {
+            foreach (var (vehicleId, measurements) in fresh)
+            {
+                var done = new TaskCompletionSource(TaskCreationOptions.RunContinuationsAsynchronously);
+                var previous = _tails.TryGetValue((fleetId, vehicleId), out var tail) ? tail : Task.CompletedTask;
+                _tails[(fleetId, vehicleId)] = done.Task;
+                ordered.Add((vehicleId, measurements, previous, done));
+            }
+        }
+
+        var delivery = DeliverAsync(fleetId, ordered, new CommitStamp(_clock.InstanceId, commitSequence), committedAt);
         _inFlight.TryAdd(delivery, true);
         _ = delivery.ContinueWith(
             (done, state) =>
@@ -97,13 +120,14 @@ public sealed class TrackDispatcher : IHostedService, IAsyncDisposable
         _slots.Dispose();
     }
 
-    private async Task DeliverAsync(Guid fleetId, IReadOnlyDictionary<string, List<TrackMeasurement>> fresh, long committedAt)
+    private async Task DeliverAsync(
+        Guid fleetId, List<(string VehicleId, List<TrackMeasurement> Measurements, Task Previous, TaskCompletionSource Done)> fresh, CommitStamp stamp, long committedAt)
     {
         await Task.Yield();
         var calls = new List<Task<Exception?>>(fresh.Count);
-        foreach (var (vehicleId, measurements) in fresh)
+        foreach (var item in fresh)
         {
-            calls.Add(DeliverOneAsync(fleetId, vehicleId, measurements));
+            calls.Add(DeliverInTurnAsync(fleetId, item.VehicleId, item.Measurements, stamp, item.Previous, item.Done));
         }
 
         var failures = await Task.WhenAll(calls).ConfigureAwait(false);
@@ -120,12 +144,33 @@ public sealed class TrackDispatcher : IHostedService, IAsyncDisposable
         }
     }
 
-    private async Task<Exception?> DeliverOneAsync(Guid fleetId, string vehicleId, List<TrackMeasurement> measurements)
+    private async Task<Exception?> DeliverInTurnAsync(
+        Guid fleetId, string vehicleId, List<TrackMeasurement> measurements, CommitStamp stamp, Task previous, TaskCompletionSource done)
+    {
+        try
+        {
+            await previous.ConfigureAwait(false);
+            return await DeliverOneAsync(fleetId, vehicleId, measurements, stamp).ConfigureAwait(false);
+        }
+        finally
+        {
+            done.SetResult();
+            lock (_tailsGate)
+            {
+                if (_tails.TryGetValue((fleetId, vehicleId), out var tail) && tail == done.Task)
+                {
+                    _tails.Remove((fleetId, vehicleId));
+                }
+            }
+        }
+    }
+
+    private async Task<Exception?> DeliverOneAsync(Guid fleetId, string vehicleId, List<TrackMeasurement> measurements, CommitStamp stamp)
     {
         var grain = _grains.GetGrain<IVehicleTrackGrain>(GrainKeys.Of(fleetId, vehicleId));
         try
         {
-            await grain.ProcessAsync([.. measurements]).ConfigureAwait(false);
+            await grain.ProcessAsync([.. measurements], stamp).ConfigureAwait(false);
             return null;
         }
         catch (Exception ex)

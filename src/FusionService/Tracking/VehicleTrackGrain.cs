@@ -32,6 +32,7 @@ internal sealed class VehicleTrackGrain(
     IOptions<DatabaseOptions> databaseOptions,
     TimeProvider time,
     AlertPublisher alerts,
+    Ingest.CommitClock commits,
     ILogger<VehicleTrackGrain> logger) : Grain, IVehicleTrackGrain, ITrackObserver
 {
     private readonly List<MeasurementOutcomeUpdate> _outcomes = [];
@@ -47,6 +48,9 @@ internal sealed class VehicleTrackGrain(
     private VehicleAlertMonitor? _monitor;
     private bool _stale;
 
+    // Commits of this process up to this number were finished before the restore read the store, so it holds them.
+    private long _restoredThrough;
+
     public override async Task OnActivateAsync(CancellationToken cancellationToken)
     {
         (_fleetId, _vehicleId) = GrainKeys.Parse(this.GetPrimaryKeyString());
@@ -54,6 +58,7 @@ internal sealed class VehicleTrackGrain(
         var checkpoint = await gate.RunAsync(
             () => new FilterCheckpointRepository(database.DataSource).NewestCheckpointBeforeAsync(_fleetId, _vehicleId, long.MaxValue, cancellationToken),
             cancellationToken);
+        _restoredThrough = commits.Now;
         long nowUs = (time.GetUtcNow().UtcTicks - DateTime.UnixEpoch.Ticks) / 10;
         long fromUs = nowUs - ((databaseOptions.Value.DaysBack + 1) * 86_400_000_000L);
         Measurement? floor = null;
@@ -108,9 +113,15 @@ internal sealed class VehicleTrackGrain(
         await base.OnDeactivateAsync(reason, cancellationToken);
     }
 
-    public async Task ProcessAsync(TrackMeasurement[] batch)
+    public async Task ProcessAsync(TrackMeasurement[] batch, CommitStamp stamp)
     {
         ArgumentNullException.ThrowIfNull(batch);
+        if (stamp.InstanceId == commits.InstanceId && stamp.Sequence > 0 && stamp.Sequence <= _restoredThrough)
+        {
+            // Committed before this activation read the store: the restore processed these already, in order.
+            return;
+        }
+
         try
         {
             foreach (var item in batch)

@@ -43,7 +43,9 @@ $$;
 
 -- One vehicle's measurements in [from_us, to_us) of measurement time (and [from_at, to_at) of measured_at, the same
 -- instants, for partition pruning), each with its latest verdict. A single SQL statement, so PostgreSQL inlines it
--- into the calling query with the arguments in place.
+-- into the calling query with the arguments in place. The latest verdict is looked up per measurement (one descent of
+-- measurement_verdicts_latest, newest first): a join of the two ranges as sets can be faster with fresh statistics,
+-- but with none (a day's partition just filled) the planner may rescan the whole verdict range for every measurement.
 CREATE FUNCTION judged_measurements(
     p_fleet_id uuid, p_vehicle_id text, p_from_us bigint, p_to_us bigint, p_from_at timestamptz, p_to_at timestamptz)
 RETURNS TABLE (
@@ -57,17 +59,18 @@ LANGUAGE sql STABLE AS $$
            CASE WHEN v.outcome IS NULL THEN m.nis ELSE v.nis END,
            coalesce(v.track_reset, m.track_reset)
     FROM measurements m
-    LEFT JOIN (
-        SELECT DISTINCT ON (d.time_us, d.kind, d.message_key) d.time_us, d.kind, d.message_key, d.outcome, d.nis, d.track_reset
+    LEFT JOIN LATERAL (
+        SELECT d.outcome, d.nis, d.track_reset
         FROM measurement_verdicts d
-        WHERE d.fleet_id = p_fleet_id AND d.vehicle_id = p_vehicle_id
-          AND d.time_us >= p_from_us AND d.time_us < p_to_us
-          AND d.measured_at >= p_from_at AND d.measured_at < p_to_at
-        ORDER BY d.time_us, d.kind, d.message_key, d.verdict_id DESC
-    ) v ON v.time_us = m.time_us AND v.kind = m.kind AND v.message_key = m.message_key
+        WHERE d.fleet_id = m.fleet_id AND d.vehicle_id = m.vehicle_id AND d.time_us = m.time_us
+          AND d.kind = m.kind AND d.message_key = m.message_key AND d.measured_at = m.measured_at
+        ORDER BY d.verdict_id DESC
+        LIMIT 1
+    ) v ON true
     WHERE m.fleet_id = p_fleet_id AND m.vehicle_id = p_vehicle_id
       AND m.time_us >= p_from_us AND m.time_us < p_to_us
       AND m.measured_at >= p_from_at AND m.measured_at < p_to_at
 $$;
 COMMENT ON FUNCTION judged_measurements(uuid, text, bigint, bigint, timestamptz, timestamptz) IS
-    'One vehicle''s measurements in a time range, each with its latest verdict from measurement_verdicts.';
+    'One vehicle''s measurements in a time range, each with its latest verdict from measurement_verdicts.'
+;
