@@ -21,8 +21,10 @@ public sealed class AuditRepository
     // The measurements of the range, each with its latest verdict (migration 0005).
     private const string Judged = "judged_measurements(@FleetId, @VehicleId, @FromUs, @ToUs, @FromAt, @ToAt)";
 
-    private const string OutcomesSql = "SELECT kind AS Kind, outcome AS Outcome, count(*) AS Count FROM " + Judged
-        + " GROUP BY kind, outcome ORDER BY kind, outcome";
+    // One pass over the range's measurements with their verdicts: each verdict is looked up per measurement, so the
+    // diagnostics read the range once for outcome counts, NIS and resets rather than once for each.
+    private const string VerdictsSql = "SELECT kind AS Kind, time_us AS TimeUs, v0 AS V0, v1 AS V1, outcome AS Outcome, nis AS Nis, "
+        + "track_reset AS TrackReset FROM " + Judged + " ORDER BY time_us, kind, message_key";
 
     private const string LatencySql = """
         SELECT kind AS Kind, count(*) AS Count,
@@ -37,12 +39,7 @@ public sealed class AuditRepository
         ORDER BY kind
         """;
 
-    private const string NisSql = "SELECT kind AS Kind, v0 AS V0, v1 AS V1, nis AS Nis FROM " + Judged
-        + " WHERE outcome = 0 AND NOT track_reset AND nis IS NOT NULL";
-
     private const string FixTimesSql = "SELECT time_us FROM measurements WHERE " + Range + " AND kind = 0 ORDER BY time_us";
-
-    private const string ResetTimesSql = "SELECT time_us FROM " + Judged + " WHERE track_reset ORDER BY time_us";
 
     private const string SpeedsSql = "SELECT time_us AS TimeUs, speed_mps AS SpeedMps FROM fused_states WHERE " + Range + " ORDER BY time_us";
 
@@ -83,20 +80,16 @@ public sealed class AuditRepository
         DapperTypeHandlers.EnsureRegistered();
     }
 
-    /// <summary>Number of measurements per sensor kind and stored outcome.</summary>
-    public Task<IReadOnlyList<OutcomeCount>> OutcomeCountsAsync(Guid fleetId, string vehicleId, long fromUs, long toUs, CancellationToken cancellationToken = default) =>
-        QueryAsync<OutcomeCount>(OutcomesSql, fleetId, vehicleId, fromUs, toUs, cancellationToken);
+    /// <summary>
+    /// Every measurement of the range with its latest verdict, in canonical order (time, kind, message key), streamed so
+    /// that a long range does not have to fit in memory.
+    /// </summary>
+    public IAsyncEnumerable<VerdictSample> VerdictsAsync(Guid fleetId, string vehicleId, long fromUs, long toUs, CancellationToken cancellationToken = default) =>
+        StreamAsync<VerdictSample>(VerdictsSql, fleetId, vehicleId, fromUs, toUs, cancellationToken);
 
     /// <summary>Arrival latency percentiles per sensor kind, over every stored measurement of the range.</summary>
     public Task<IReadOnlyList<LatencySummary>> LatencyAsync(Guid fleetId, string vehicleId, long fromUs, long toUs, CancellationToken cancellationToken = default) =>
         QueryAsync<LatencySummary>(LatencySql, fleetId, vehicleId, fromUs, toUs, cancellationToken);
-
-    /// <summary>
-    /// NIS of every fused measurement (outcome accepted, not a track reset, NIS present), unordered, streamed so that a
-    /// long range does not have to fit in memory.
-    /// </summary>
-    public IAsyncEnumerable<NisSample> NisSamplesAsync(Guid fleetId, string vehicleId, long fromUs, long toUs, CancellationToken cancellationToken = default) =>
-        StreamAsync<NisSample>(NisSql, fleetId, vehicleId, fromUs, toUs, cancellationToken);
 
     /// <summary>
     /// The measurements of the range in canonical order (time, kind, message key), streamed: a replay over hours of
@@ -108,10 +101,6 @@ public sealed class AuditRepository
     /// <summary>Times of every stored GNSS position fix (whatever its outcome), ascending, Unix microseconds.</summary>
     public Task<IReadOnlyList<long>> GnssFixTimesAsync(Guid fleetId, string vehicleId, long fromUs, long toUs, CancellationToken cancellationToken = default) =>
         QueryAsync<long>(FixTimesSql, fleetId, vehicleId, fromUs, toUs, cancellationToken);
-
-    /// <summary>Times of the measurements that reset the track, ascending, Unix microseconds.</summary>
-    public Task<IReadOnlyList<long>> TrackResetTimesAsync(Guid fleetId, string vehicleId, long fromUs, long toUs, CancellationToken cancellationToken = default) =>
-        QueryAsync<long>(ResetTimesSql, fleetId, vehicleId, fromUs, toUs, cancellationToken);
 
     /// <summary>Speeds of the stored fused states, in time order.</summary>
     public Task<IReadOnlyList<SpeedSample>> FusedSpeedsAsync(Guid fleetId, string vehicleId, long fromUs, long toUs, CancellationToken cancellationToken = default) =>

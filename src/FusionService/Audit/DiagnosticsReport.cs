@@ -36,7 +36,6 @@ public static class DiagnosticsReport
         long toUs,
         CancellationToken cancellationToken)
     {
-        var outcomes = await audit.OutcomeCountsAsync(fleetId, vehicle, fromUs, toUs, cancellationToken).ConfigureAwait(false);
         var duplicateTotals = await duplicates.TotalsAsync(fleetId, vehicle, fromUs, toUs, cancellationToken).ConfigureAwait(false);
         var latency = await audit.LatencyAsync(fleetId, vehicle, fromUs, toUs, cancellationToken).ConfigureAwait(false);
 
@@ -45,10 +44,19 @@ public static class DiagnosticsReport
         var nisDof = new long[4];
         var dimensionSeen = new int[4];
         var mixed = new bool[4];
-        await foreach (var sample in audit.NisSamplesAsync(fleetId, vehicle, fromUs, toUs, cancellationToken).ConfigureAwait(false))
+        var outcomeCounts = new Dictionary<(int Kind, StoredOutcome Outcome), long>();
+        var resets = new List<long>();
+        await foreach (var sample in audit.VerdictsAsync(fleetId, vehicle, fromUs, toUs, cancellationToken).ConfigureAwait(false))
         {
             int k = sample.Kind;
-            if (k is < 0 or > 3)
+            outcomeCounts[(k, sample.Outcome)] = outcomeCounts.GetValueOrDefault((k, sample.Outcome)) + 1;
+            if (sample.TrackReset)
+            {
+                resets.Add(sample.TimeUs);
+            }
+
+            // NIS of the fused measurements only: accepted, not a track reset, NIS present.
+            if (k is < 0 or > 3 || sample.Outcome != StoredOutcome.Accepted || sample.TrackReset || sample.Nis is not { } nis)
             {
                 continue;
             }
@@ -56,7 +64,7 @@ public static class DiagnosticsReport
             var m = Measurement.FromStored(0, (ulong)(byte)k << 56, sample.V0, sample.V1 ?? double.NaN, 0f);
             int dimension = processor.InnovationDimension(m);
             nisCount[k]++;
-            nisSum[k] += sample.Nis;
+            nisSum[k] += nis;
             nisDof[k] += dimension;
             mixed[k] |= dimensionSeen[k] != 0 && dimensionSeen[k] != dimension;
             dimensionSeen[k] = dimension;
@@ -66,7 +74,7 @@ public static class DiagnosticsReport
         foreach (var kind in SensorNames.All)
         {
             int k = (int)kind;
-            long Count(StoredOutcome outcome) => outcomes.Where(o => o.Kind == k && o.Outcome == outcome).Sum(o => o.Count);
+            long Count(StoredOutcome outcome) => outcomeCounts.GetValueOrDefault((k, outcome));
             double? mean = null;
             NisIntervalResponse? interval = null;
             var verdict = ConsistencyVerdict.Insufficient;
@@ -112,7 +120,6 @@ public static class DiagnosticsReport
         var outages = GnssOutageDetector.Find(
             fixes.ToArray(), speeds.Select(s => s.TimeUs).ToArray(), speeds.Select(s => s.SpeedMps).ToArray(),
             options.GnssOutageMinGapS, options.MovingSpeedMps);
-        var resets = await audit.TrackResetTimesAsync(fleetId, vehicle, fromUs, toUs, cancellationToken).ConfigureAwait(false);
 
         return new DiagnosticsResponse(
             vehicle,
