@@ -17,8 +17,6 @@ namespace FusionService.Benchmarks;
 /// </summary>
 internal static class VanDayHttp
 {
-    private const double DegToRad = Math.PI / 180.0;
-
     public static async Task RunAsync(string[] args)
     {
         var options = Options(args);
@@ -30,7 +28,8 @@ internal static class VanDayHttp
 
         var day = VanDayScenario.Instance.Measurements;
         long shiftUs = (DateTimeOffset.UtcNow.ToUnixTimeMilliseconds() * 1000) - 600_000_000 - day[^1].TimeUs;
-        var messages = ToMessages(vehicle, day, shiftUs);
+        var messages = TelemetryMessages.FromMeasurements(
+            vehicle, [.. day.Select(m => Measurement.FromStored(m.TimeUs + shiftUs, m.OrderKey, m.Value0, m.Value1, m.Value2))]);
         long fromUs = day[0].TimeUs + shiftUs, toUs = day[^1].TimeUs + shiftUs + 1;
         Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
             $"posting {messages.Count:N0} messages ({day.Length:N0} measurements, {(toUs - fromUs) / 3.6e9:F2} h) for {vehicle} in batches of 5,000"));
@@ -86,52 +85,6 @@ internal static class VanDayHttp
         }
 
         PrintMemory(pid, "after the history requests");
-    }
-
-    private static List<TelemetryMessage> ToMessages(string vehicle, Measurement[] day, long shiftUs)
-    {
-        var list = new List<TelemetryMessage>(day.Length);
-        for (int i = 0; i < day.Length; i++)
-        {
-            var m = day[i];
-            long t = m.TimeUs + shiftUs;
-            switch (m.Kind)
-            {
-                case SensorKind.GnssPosition:
-                    var fix = new TelemetryMessage(vehicle, TelemetryKinds.Gnss, t, "g-" + t.ToString(CultureInfo.InvariantCulture))
-                    {
-                        LatDeg = m.Value0, LonDeg = m.Value1, AccuracyM = m.Value2,
-                    };
-                    if (i + 1 < day.Length && day[i + 1].Kind == SensorKind.GnssVelocity && day[i + 1].TimeUs == m.TimeUs)
-                    {
-                        var v = day[++i];
-                        double courseDeg = double.IsNaN(v.Value1) ? double.NaN : v.Value1 / DegToRad;
-                        fix = fix with
-                        {
-                            SpeedMps = v.Value0,
-                            SpeedAccuracyMps = v.Value2,
-                            CourseDeg = double.IsNaN(courseDeg) ? null : courseDeg >= 360 ? 0 : courseDeg,
-                        };
-                    }
-
-                    list.Add(fix);
-                    break;
-                case SensorKind.WheelSpeed:
-                    list.Add(new TelemetryMessage(vehicle, TelemetryKinds.Wheel, t, "w-" + t.ToString(CultureInfo.InvariantCulture)) { SpeedMps = m.Value0 });
-                    break;
-                case SensorKind.Imu:
-                    list.Add(new TelemetryMessage(vehicle, TelemetryKinds.Imu, t, "i-" + t.ToString(CultureInfo.InvariantCulture))
-                    {
-                        YawRateDps = m.Value0 / DegToRad,
-                        AccelMps2 = double.IsNaN(m.Value1) ? null : m.Value1,
-                    });
-                    break;
-                default:
-                    break;
-            }
-        }
-
-        return list;
     }
 
     // Until /metrics shows no batch in the tracks and no row waiting for the tracks' writer, twice in a row.
