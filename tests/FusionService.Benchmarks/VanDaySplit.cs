@@ -43,7 +43,7 @@ internal static class VanDaySplit
             filterMs.Add(sw.Elapsed.TotalMilliseconds);
 
             sw.Restart();
-            var recorder = new CompactingStepRecorder(1_000_000);
+            var recorder = new CompactingStepRecorder(1_000_000, expectedInstants: (int)((day[^1].TimeUs - day[0].TimeUs) / 1_000_000) + 2);
             state = TrackState.Empty;
             foreach (Measurement m in day)
             {

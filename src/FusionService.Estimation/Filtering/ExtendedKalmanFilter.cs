@@ -1,3 +1,5 @@
+using System.Runtime.CompilerServices;
+using System.Runtime.InteropServices;
 using FusionService.Estimation.LinearAlgebra;
 
 namespace FusionService.Estimation.Filtering;
@@ -87,10 +89,39 @@ public static class ExtendedKalmanFilter
         ref Vector8 x, ref Matrix8 covariance, ReadOnlySpan<double> residual, ReadOnlySpan<double> h,
         ReadOnlySpan<double> r, double gateThreshold, out double nis)
     {
+        UpdateFactors unused = default;
+        return TryUpdateJoseph(ref x, ref covariance, residual, h, r, gateThreshold, out nis, ref unused, captureFactors: false);
+    }
+
+    /// <summary>
+    /// <see cref="TryUpdateJoseph(ref Vector8, ref Matrix8, ReadOnlySpan{double}, ReadOnlySpan{double}, ReadOnlySpan{double}, double, out double)"/>
+    /// that also hands out the update's <see cref="UpdateFactors"/> when it is applied and <paramref name="captureFactors"/> is set.
+    /// </summary>
+    public static bool TryUpdateJoseph(
+        ref Vector8 x, ref Matrix8 covariance, ReadOnlySpan<double> residual, ReadOnlySpan<double> h,
+        ReadOnlySpan<double> r, double gateThreshold, out double nis, ref UpdateFactors factors, bool captureFactors)
+    {
         int m = residual.Length;
         if (m < 1 || m > MaxMeasurementDimension || h.Length != m * N || r.Length != m * m)
         {
             throw new ArgumentException($"inconsistent measurement dimensions: residual {m}, H {h.Length}, R {r.Length}");
+        }
+
+        // H has one or two non-zero entries per row here; the products below run over those only.
+        Span<int> nonZero = stackalloc int[N * MaxMeasurementDimension];
+        Span<int> nonZeroCount = stackalloc int[MaxMeasurementDimension];
+        for (int row = 0; row < m; row++)
+        {
+            int count = 0;
+            for (int j = 0; j < N; j++)
+            {
+                if (h[(row * N) + j] != 0)
+                {
+                    nonZero[(row * N) + count++] = j;
+                }
+            }
+
+            nonZeroCount[row] = count;
         }
 
         Span<double> pht = stackalloc double[N * MaxMeasurementDimension];
@@ -99,8 +130,9 @@ public static class ExtendedKalmanFilter
             for (int row = 0; row < m; row++)
             {
                 double sum = 0;
-                for (int j = 0; j < N; j++)
+                for (int t = 0; t < nonZeroCount[row]; t++)
                 {
+                    int j = nonZero[(row * N) + t];
                     sum += covariance[(i * N) + j] * h[(row * N) + j];
                 }
 
@@ -114,8 +146,9 @@ public static class ExtendedKalmanFilter
             for (int b = 0; b < m; b++)
             {
                 double sum = r[(a * m) + b];
-                for (int i = 0; i < N; i++)
+                for (int t = 0; t < nonZeroCount[a]; t++)
                 {
+                    int i = nonZero[(a * N) + t];
                     sum += h[(a * N) + i] * pht[(i * m) + b];
                 }
 
@@ -154,7 +187,17 @@ public static class ExtendedKalmanFilter
             Span<double> row = k.Slice(i * m, m);
             pht.Slice(i * m, m).CopyTo(row);
             ForwardSubstitute(chol, m, row);
+            if (captureFactors)
+            {
+                row.CopyTo(((Span<double>)factors.Gain).Slice(i * m, m));
+            }
+
             BackSubstitute(chol, m, row);
+        }
+
+        if (captureFactors)
+        {
+            CaptureFactors(chol, h, w[..m], ref factors);
         }
 
         Span<double> sInvNu = stackalloc double[MaxMeasurementDimension];
@@ -171,8 +214,7 @@ public static class ExtendedKalmanFilter
             x[i] += sum;
         }
 
-        // A P with A = I - K H, using H P = (P Hᵀ)ᵀ.
-        Matrix8 ap = covariance;
+        // A P with A = I - K H, using H P = (P Hᵀ)ᵀ, in place: P Hᵀ and K are already taken.
         for (int i = 0; i < N; i++)
         {
             for (int j = 0; j < N; j++)
@@ -183,7 +225,7 @@ public static class ExtendedKalmanFilter
                     sum += k[(i * m) + a] * pht[(j * m) + a];
                 }
 
-                ap[(i * N) + j] -= sum;
+                covariance[(i * N) + j] -= sum;
             }
         }
 
@@ -193,9 +235,10 @@ public static class ExtendedKalmanFilter
             for (int a = 0; a < m; a++)
             {
                 double sum = 0;
-                for (int j = 0; j < N; j++)
+                for (int t = 0; t < nonZeroCount[a]; t++)
                 {
-                    sum += ap[(i * N) + j] * h[(a * N) + j];
+                    int j = nonZero[(a * N) + t];
+                    sum += covariance[(i * N) + j] * h[(a * N) + j];
                 }
 
                 aph[(i * m) + a] = sum;
@@ -221,7 +264,7 @@ public static class ExtendedKalmanFilter
         {
             for (int j = 0; j < N; j++)
             {
-                double sum = ap[(i * N) + j];
+                double sum = covariance[(i * N) + j];
                 for (int a = 0; a < m; a++)
                 {
                     sum += (kr[(i * m) + a] - aph[(i * m) + a]) * k[(j * m) + a];
@@ -234,6 +277,32 @@ public static class ExtendedKalmanFilter
         Symmetrize(ref covariance);
         RequirePositiveDefinite(covariance, x, "measurement update");
         return true;
+    }
+
+    /// <summary>w = L⁻¹ ν (already whitened) and W = Hᵀ L⁻ᵀ, row j of W being L⁻¹ times column j of H.</summary>
+    private static void CaptureFactors(ReadOnlySpan<double> chol, ReadOnlySpan<double> h, ReadOnlySpan<double> whitened, ref UpdateFactors factors)
+    {
+        int m = whitened.Length;
+        factors.Dimension = m;
+        whitened.CopyTo(factors.Whitened);
+        Span<double> information = factors.Information;
+        Span<double> column = stackalloc double[MaxMeasurementDimension];
+        for (int j = 0; j < N; j++)
+        {
+            bool any = false;
+            for (int a = 0; a < m; a++)
+            {
+                column[a] = h[(a * N) + j];
+                any |= column[a] != 0;
+            }
+
+            if (any)
+            {
+                ForwardSubstitute(chol, m, column[..m]);
+            }
+
+            column[..m].CopyTo(information.Slice(j * m, m));
+        }
     }
 
     /// <summary>
@@ -277,14 +346,23 @@ public static class ExtendedKalmanFilter
     }
 
     /// <summary>Lower Cholesky factor in place (row-major, upper part left as is); false if not positive definite or not finite.</summary>
+    /// <remarks>Indexes through a reference after one length check: this runs after every update, as the divergence guard.</remarks>
     internal static bool CholeskyInPlace(Span<double> a, int n)
     {
+        if (a.Length < n * n)
+        {
+            throw new ArgumentException($"{n} x {n} matrix expected, {a.Length} elements given", nameof(a));
+        }
+
+        ref double a0 = ref MemoryMarshal.GetReference(a);
         for (int j = 0; j < n; j++)
         {
-            double d = a[(j * n) + j];
+            ref double rowJ = ref Unsafe.Add(ref a0, j * n);
+            double d = Unsafe.Add(ref rowJ, j);
             for (int k = 0; k < j; k++)
             {
-                d -= a[(j * n) + k] * a[(j * n) + k];
+                double l = Unsafe.Add(ref rowJ, k);
+                d -= l * l;
             }
 
             if (!(d > 0) || !double.IsFinite(d))
@@ -292,17 +370,18 @@ public static class ExtendedKalmanFilter
                 return false;
             }
 
-            double l = Math.Sqrt(d);
-            a[(j * n) + j] = l;
+            double diagonal = Math.Sqrt(d);
+            Unsafe.Add(ref rowJ, j) = diagonal;
             for (int i = j + 1; i < n; i++)
             {
-                double s = a[(i * n) + j];
+                ref double rowI = ref Unsafe.Add(ref a0, i * n);
+                double s = Unsafe.Add(ref rowI, j);
                 for (int k = 0; k < j; k++)
                 {
-                    s -= a[(i * n) + k] * a[(j * n) + k];
+                    s -= Unsafe.Add(ref rowI, k) * Unsafe.Add(ref rowJ, k);
                 }
 
-                a[(i * n) + j] = s / l;
+                Unsafe.Add(ref rowI, j) = s / diagonal;
             }
         }
 

@@ -10,12 +10,25 @@ namespace FusionService.Estimation.Smoothing;
 /// </summary>
 public sealed class CompactedSegment
 {
-    private long[] _times = new long[16];
-    private LocalTangentPlane[] _planes = new LocalTangentPlane[16];
-    private Vector8[] _means = new Vector8[16];
-    private Matrix8[] _covariances = new Matrix8[16];
-    private Matrix8[] _gains = new Matrix8[16];
-    private Vector8[] _predictedNext = new Vector8[16];
+    private long[] _times;
+    private LocalTangentPlane[] _planes;
+    private Vector8[] _means;
+    private Matrix8[] _covariances;
+    private Matrix8[] _gains;
+    private Vector8[] _predictedNext;
+
+    /// <summary>Creates an empty segment with room for <paramref name="capacity"/> instants before it grows.</summary>
+    /// <param name="capacity">Initial capacity (at least 16 is taken).</param>
+    public CompactedSegment(int capacity = 16)
+    {
+        capacity = Math.Max(capacity, 16);
+        _times = new long[capacity];
+        _planes = new LocalTangentPlane[capacity];
+        _means = new Vector8[capacity];
+        _covariances = new Matrix8[capacity];
+        _gains = new Matrix8[capacity];
+        _predictedNext = new Vector8[capacity];
+    }
 
     /// <summary>Number of recorded instants.</summary>
     public int Count { get; private set; }

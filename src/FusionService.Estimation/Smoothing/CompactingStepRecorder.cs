@@ -37,8 +37,10 @@ namespace FusionService.Estimation.Smoothing;
 /// smoother: the forward pass's transition Jacobians F stand in for the transition matrix and its covariances for the
 /// true conditional ones, so it is exact for the linearised model, not for the non-linear CTRA motion. Steps without
 /// elapsed time and without re-anchoring (F = I, prediction equal to the previous posterior, C = I) are merged with
-/// their neighbours, so the work is one 8 x 8 Cholesky solve per distinct measurement time. Heading differences are
-/// wrapped to (-π, π].
+/// their neighbours. Between recorded instants the fold needs no inverse: the filter hands over each update's factors
+/// (<see cref="UpdateFactors"/>, the fixed-point smoother's form of the same sums), so the 8 x 8 Cholesky solve for G is
+/// made once per recorded instant, and per step only where the posterior was changed by more than updates
+/// (<see cref="IStepRecorder.Adjusted"/>). Heading differences are wrapped to (-π, π].
 /// </para>
 /// </remarks>
 public sealed class CompactingStepRecorder : IStepRecorder
@@ -46,6 +48,7 @@ public sealed class CompactingStepRecorder : IStepRecorder
     private const int N = Matrix8.Size;
 
     private readonly List<CompactedSegment> _segments = [];
+    private int _expectedInstants;
     private CompactedSegment? _segment;
     private int _r;
     private long _tR;
@@ -56,7 +59,10 @@ public sealed class CompactingStepRecorder : IStepRecorder
     private bool _hasPair;
     private Matrix8 _sigmaPred;
     private Vector8 _xPred;
-    private Matrix8 _pPred;
+
+    // P(k|k-1) of the pending pair and of the step being predicted, in two slots swapped instead of copied.
+    private CovariancePair _predicted;
+    private int _pairSlot;
 
     private Vector8 _xPost;
     private Matrix8 _pPost;
@@ -65,20 +71,30 @@ public sealed class CompactingStepRecorder : IStepRecorder
 
     private bool _hasNext;
     private bool _skipNext;
+
+    // The measurement updates of the pending pair and of the step being predicted, and whether anything other than an
+    // update changed them (then the pair is folded through the predicted covariance's inverse instead).
+    private List<UpdateFactors> _pairUpdates = [];
+    private bool _pairAdjusted;
+    private List<UpdateFactors> _nextUpdates = [];
+    private bool _nextAdjusted;
     private Matrix8 _fNext;
     private Vector8 _xNext;
-    private Matrix8 _pNext;
 
     /// <summary>Creates a recorder.</summary>
     /// <param name="recordIntervalUs">Least spacing of recorded instants, microseconds, non-negative (0 records every distinct instant).</param>
     /// <param name="discardBeforeUs">Recorded instants followed by another one at or before this time (Unix microseconds)
     /// are dropped as the forward pass goes, so a long run-in before the wanted window costs no memory; the last instant at
     /// or before it is kept. Default: keep everything.</param>
-    public CompactingStepRecorder(long recordIntervalUs, long discardBeforeUs = long.MinValue)
+    /// <param name="expectedInstants">Room made in the first segment up front (it grows by doubling beyond it), so that a
+    /// long window is not copied over and over while it fills; 0 lets it start small.</param>
+    public CompactingStepRecorder(long recordIntervalUs, long discardBeforeUs = long.MinValue, int expectedInstants = 0)
     {
         ArgumentOutOfRangeException.ThrowIfNegative(recordIntervalUs);
+        ArgumentOutOfRangeException.ThrowIfNegative(expectedInstants);
         RecordIntervalUs = recordIntervalUs;
         DiscardBeforeUs = discardBeforeUs;
+        _expectedInstants = expectedInstants;
     }
 
     /// <summary>
@@ -100,7 +116,8 @@ public sealed class CompactingStepRecorder : IStepRecorder
     public void Start(long timeUs, in Vector8 x, in Matrix8 p, in LocalTangentPlane plane)
     {
         Complete();
-        _segment = new CompactedSegment();
+        _segment = new CompactedSegment(_expectedInstants);
+        _expectedInstants = 0;
         _segments.Add(_segment);
         _r = _segment.Add(timeUs, plane);
         _tR = timeUs;
@@ -114,6 +131,7 @@ public sealed class CompactingStepRecorder : IStepRecorder
         _hasPair = false;
         _hasNext = false;
         _skipNext = false;
+        ClearUpdates();
     }
 
     /// <inheritdoc />
@@ -127,12 +145,15 @@ public sealed class CompactingStepRecorder : IStepRecorder
         _skipNext = _hasPair && IsIdentity(f) && Same(xPredicted, _xPost) && Same(pPredicted, _pPost);
         if (_skipNext)
         {
+            // The updates that follow belong to the pending pair, whose posterior they replace.
             return;
         }
 
+        _nextUpdates.Clear();
+        _nextAdjusted = false;
         _fNext = f;
         _xNext = xPredicted;
-        _pNext = pPredicted;
+        _predicted[1 - _pairSlot] = pPredicted;
         _hasNext = true;
     }
 
@@ -170,15 +191,38 @@ public sealed class CompactingStepRecorder : IStepRecorder
 
             MultiplyTransposed(_sigma, _fNext, ref _sigmaPred);
             _xPred = _xNext;
-            _pPred = _pNext;
+            _pairSlot = 1 - _pairSlot;
             _hasPair = true;
             _hasNext = false;
+            (_pairUpdates, _nextUpdates) = (_nextUpdates, _pairUpdates);
+            _pairAdjusted = _nextAdjusted;
+            _nextUpdates.Clear();
+            _nextAdjusted = false;
         }
 
         _xPost = x;
         _pPost = p;
         _tPost = timeUs;
         _planePost = plane;
+    }
+
+    /// <inheritdoc />
+    public void Updated(in UpdateFactors factors)
+    {
+        (_skipNext ? _pairUpdates : _nextUpdates).Add(factors);
+    }
+
+    /// <inheritdoc />
+    public void Adjusted()
+    {
+        if (_skipNext)
+        {
+            _pairAdjusted = true;
+        }
+        else
+        {
+            _nextAdjusted = true;
+        }
     }
 
     /// <summary>Closes the current segment (records its last posterior); further steps need a new <see cref="Start"/>.</summary>
@@ -201,6 +245,15 @@ public sealed class CompactingStepRecorder : IStepRecorder
         _hasPair = false;
         _hasNext = false;
         _skipNext = false;
+        ClearUpdates();
+    }
+
+    private void ClearUpdates()
+    {
+        _pairUpdates.Clear();
+        _pairAdjusted = false;
+        _nextUpdates.Clear();
+        _nextAdjusted = false;
     }
 
     /// <summary>Closes the link from the current recorded instant to the pending posterior, which becomes the new one.</summary>
@@ -220,7 +273,7 @@ public sealed class CompactingStepRecorder : IStepRecorder
         }
 
         Matrix8 gT = default;
-        SolveGainTransposed(_sigmaPred, _pPred, ref gT);
+        SolveGainTransposed(_sigmaPred, _predicted[_pairSlot], ref gT);
 
         // D = Π - Σ⁻ Gᵀ.
         Matrix8 product = default;
@@ -245,11 +298,111 @@ public sealed class CompactingStepRecorder : IStepRecorder
         _hasPair = false;
     }
 
-    /// <summary>Folds the pending prediction/posterior pair into μ, Π and Σ of the current recorded instant.</summary>
+    /// <summary>
+    /// Folds the pending prediction/posterior pair into μ, Π and Σ of the current recorded instant: by its measurement
+    /// updates' factors when the posterior is the prediction followed by those updates alone, otherwise through the
+    /// predicted covariance's inverse (<see cref="AbsorbPairThroughInverse"/>).
+    /// </summary>
+    /// <remarks>
+    /// With G = Σ⁻ P⁻⁻¹ and one update of factors w, W, B (<see cref="UpdateFactors"/>): G (x⁺ - x⁻) = G K ν = Σ⁻ Hᵀ S⁻¹ ν
+    /// = A w with A = Σ⁻ W; G (P⁺ - P⁻) Gᵀ = -G K H P⁻ Gᵀ = -A Aᵀ; G P⁺ = Σ⁻ - A Bᵀ. Several updates at one instant chain,
+    /// each with the Σ the previous one left; a gated measurement (no update) leaves μ, Π and Σ = Σ⁻ as they are. This is
+    /// the same fold in exact arithmetic (the Joseph form's P⁺ equals (I - K H) P⁻ for the optimal gain) without a
+    /// Cholesky factorisation per step; the tests hold both forms to the full-step smoother.
+    /// </remarks>
     private void AbsorbPair()
     {
+        if (_pairAdjusted)
+        {
+            AbsorbPairThroughInverse();
+            return;
+        }
+
+        Matrix8 sigma = _sigmaPred;
+        Span<double> sigmaS = sigma;
+        ref double sigmaR = ref MemoryMarshal.GetReference(sigmaS);
+        Span<double> pi = _pi;
+        ref double piR = ref MemoryMarshal.GetReference(pi);
+        Span<double> a = stackalloc double[N * ExtendedKalmanFilter.MaxMeasurementDimension];
+        Span<Vector256<double>> columns = stackalloc Vector256<double>[4 * ExtendedKalmanFilter.MaxMeasurementDimension];
+        foreach (ref readonly UpdateFactors update in CollectionsMarshal.AsSpan(_pairUpdates))
+        {
+            int m = update.Dimension;
+            ReadOnlySpan<double> information = update.Information;
+            ReadOnlySpan<double> gain = update.Gain;
+            ReadOnlySpan<double> whitened = update.Whitened;
+
+            // A = Σ W, row by row: A(i, c) = Σ(i, ·) · W(·, c).
+            for (int c = 0; c < m; c++)
+            {
+                columns[2 * c] = Vector256.Create(information[c], information[m + c], information[(2 * m) + c], information[(3 * m) + c]);
+                columns[(2 * c) + 1] = Vector256.Create(information[(4 * m) + c], information[(5 * m) + c], information[(6 * m) + c], information[(7 * m) + c]);
+            }
+
+            for (int i = 0; i < N; i++)
+            {
+                var lo = Vector256.LoadUnsafe(ref sigmaR, (nuint)(i * N));
+                var hi = Vector256.LoadUnsafe(ref sigmaR, (nuint)((i * N) + 4));
+                for (int c = 0; c < m; c++)
+                {
+                    a[(i * m) + c] = Vector256.Sum((lo * columns[2 * c]) + (hi * columns[(2 * c) + 1]));
+                }
+            }
+
+            // μ += A w; then, with A's and B's columns as rows over j: Π(i, ·) -= A(i, c) A(·, c), Σ(i, ·) -= A(i, c) B(·, c).
+            for (int i = 0; i < N; i++)
+            {
+                double shift = 0;
+                for (int c = 0; c < m; c++)
+                {
+                    shift += a[(i * m) + c] * whitened[c];
+                }
+
+                _mu[i] += shift;
+            }
+
+            for (int c = 0; c < m; c++)
+            {
+                columns[4 * c] = Vector256.Create(a[c], a[m + c], a[(2 * m) + c], a[(3 * m) + c]);
+                columns[(4 * c) + 1] = Vector256.Create(a[(4 * m) + c], a[(5 * m) + c], a[(6 * m) + c], a[(7 * m) + c]);
+                columns[(4 * c) + 2] = Vector256.Create(gain[c], gain[m + c], gain[(2 * m) + c], gain[(3 * m) + c]);
+                columns[(4 * c) + 3] = Vector256.Create(gain[(4 * m) + c], gain[(5 * m) + c], gain[(6 * m) + c], gain[(7 * m) + c]);
+            }
+
+            for (int i = 0; i < N; i++)
+            {
+                var piLo = Vector256.LoadUnsafe(ref piR, (nuint)(i * N));
+                var piHi = Vector256.LoadUnsafe(ref piR, (nuint)((i * N) + 4));
+                var sLo = Vector256.LoadUnsafe(ref sigmaR, (nuint)(i * N));
+                var sHi = Vector256.LoadUnsafe(ref sigmaR, (nuint)((i * N) + 4));
+                for (int c = 0; c < m; c++)
+                {
+                    var aic = Vector256.Create(a[(i * m) + c]);
+                    piLo -= aic * columns[4 * c];
+                    piHi -= aic * columns[(4 * c) + 1];
+                    sLo -= aic * columns[(4 * c) + 2];
+                    sHi -= aic * columns[(4 * c) + 3];
+                }
+
+                piLo.StoreUnsafe(ref piR, (nuint)(i * N));
+                piHi.StoreUnsafe(ref piR, (nuint)((i * N) + 4));
+                sLo.StoreUnsafe(ref sigmaR, (nuint)(i * N));
+                sHi.StoreUnsafe(ref sigmaR, (nuint)((i * N) + 4));
+            }
+        }
+
+        _sigma = sigma;
+        _hasPair = false;
+    }
+
+    /// <summary>
+    /// Folds the pending pair through G = Σ⁻ P⁻⁻¹ from its prediction and posterior alone, for a posterior that is not the
+    /// prediction followed by measurement updates (see <see cref="IStepRecorder.Adjusted"/>).
+    /// </summary>
+    private void AbsorbPairThroughInverse()
+    {
         Matrix8 gT = default;
-        SolveGainTransposed(_sigmaPred, _pPred, ref gT);
+        SolveGainTransposed(_sigmaPred, _predicted[_pairSlot], ref gT);
         ReadOnlySpan<double> gTs = gT;
         ref double gTr = ref MemoryMarshal.GetReference(gTs);
 
@@ -373,12 +526,54 @@ public sealed class CompactingStepRecorder : IStepRecorder
         }
     }
 
-    /// <summary>result = a fᵀ.</summary>
+    /// <summary>
+    /// result = a fᵀ. When rows 4 to 7 of f are rows of the identity (the motion model carries yaw rate, acceleration, bias
+    /// and scale over), columns 4 to 7 of the result are those of a and only columns 0 to 3 are summed, in the same order
+    /// as the full product.
+    /// </summary>
     private static void MultiplyTransposed(in Matrix8 a, in Matrix8 f, ref Matrix8 result)
     {
         Matrix8 fT = default;
         Transpose(f, ref fT);
-        MultiplyRows(a, fT, result);
+        if (!LowerRowsAreIdentity(f))
+        {
+            MultiplyRows(a, fT, result);
+            return;
+        }
+
+        ReadOnlySpan<double> aS = a;
+        ref double ar = ref MemoryMarshal.GetReference(aS);
+        ReadOnlySpan<double> fTs = fT;
+        ref double br = ref MemoryMarshal.GetReference(fTs);
+        Span<double> rS = result;
+        ref double rr = ref MemoryMarshal.GetReference(rS);
+        for (int i = 0; i < N; i++)
+        {
+            var lo = Vector256<double>.Zero;
+            for (int l = 0; l < N; l++)
+            {
+                lo += Vector256.Create(aS[(i * N) + l]) * Vector256.LoadUnsafe(ref br, (nuint)(l * N));
+            }
+
+            lo.StoreUnsafe(ref rr, (nuint)(i * N));
+            Vector256.LoadUnsafe(ref ar, (nuint)((i * N) + 4)).StoreUnsafe(ref rr, (nuint)((i * N) + 4));
+        }
+    }
+
+    private static bool LowerRowsAreIdentity(in Matrix8 f)
+    {
+        for (int i = 4; i < N; i++)
+        {
+            for (int j = 0; j < N; j++)
+            {
+                if (f[(i * N) + j] != (i == j ? 1.0 : 0.0))
+                {
+                    return false;
+                }
+            }
+        }
+
+        return true;
     }
 
     /// <summary>
@@ -403,6 +598,13 @@ public sealed class CompactingStepRecorder : IStepRecorder
             lo.StoreUnsafe(ref rr, (nuint)(i * N));
             hi.StoreUnsafe(ref rr, (nuint)((i * N) + 4));
         }
+    }
+
+    /// <summary>Two covariances inline.</summary>
+    [System.Runtime.CompilerServices.InlineArray(2)]
+    private struct CovariancePair
+    {
+        private Matrix8 _element0;
     }
 
     private static void Transpose(in Matrix8 a, ref Matrix8 result)

@@ -1,3 +1,4 @@
+using FusionService.Estimation.Filtering;
 using FusionService.Estimation.Geodesy;
 using FusionService.Estimation.LinearAlgebra;
 
@@ -18,4 +19,21 @@ public interface IStepRecorder
 
     /// <summary>State after the measurement at <paramref name="timeUs"/> (equal to the prediction if it was gated).</summary>
     void Posterior(long timeUs, in Vector8 x, in Matrix8 p, in LocalTangentPlane plane);
+
+    /// <summary>
+    /// A measurement update between <see cref="Predicted"/> and <see cref="Posterior"/> was applied, with these factors
+    /// (one call per update, in order). A recorder that only needs the prediction and the posterior ignores it.
+    /// </summary>
+    void Updated(in UpdateFactors factors)
+    {
+    }
+
+    /// <summary>
+    /// Between <see cref="Predicted"/> and <see cref="Posterior"/> the state or covariance was changed by something
+    /// other than a measurement update (covariance inflation after repeated rejections, a heading re-acquired from two
+    /// fixes), so the posterior is not the prediction followed by the <see cref="Updated"/> calls alone.
+    /// </summary>
+    void Adjusted()
+    {
+    }
 }

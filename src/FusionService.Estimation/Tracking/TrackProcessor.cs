@@ -235,10 +235,10 @@ public sealed class TrackProcessor
         double eastBefore = s.X[EastM], northBefore = s.X[NorthM];
         MeasurementOutcome outcome = m.Kind switch
         {
-            SensorKind.GnssPosition => UpdateGnssPosition(ref s, m),
-            SensorKind.GnssVelocity => UpdateGnssVelocity(ref s, m),
-            SensorKind.WheelSpeed => UpdateWheelSpeed(ref s, m),
-            SensorKind.Imu => UpdateImu(ref s, m),
+            SensorKind.GnssPosition => UpdateGnssPosition(ref s, m, recorder),
+            SensorKind.GnssVelocity => UpdateGnssVelocity(ref s, m, recorder),
+            SensorKind.WheelSpeed => UpdateWheelSpeed(ref s, m, recorder),
+            SensorKind.Imu => UpdateImu(ref s, m, recorder),
             _ => throw new ArgumentOutOfRangeException(nameof(m), m.Kind, "unknown sensor kind"),
         };
 
@@ -272,6 +272,7 @@ public sealed class TrackProcessor
         }
 
         double remainingS = (timeUs - s.TimeUs) / MicrosecondsPerSecond;
+        bool totalIsIdentity = !reanchor;
         while (remainingS > 0)
         {
             double stepS = Math.Min(remainingS, Options.MaxPredictionStepS);
@@ -281,7 +282,9 @@ public sealed class TrackProcessor
             CtraMotionModel.AddProcessNoise(ref s.P, prior, stepS, Profile, s.Stationary);
             if (recorder is not null)
             {
-                total = Multiply(f, total);
+                // F I = F: the usual single step needs no product.
+                total = totalIsIdentity ? f : Multiply(f, total);
+                totalIsIdentity = false;
             }
 
             remainingS -= stepS;
@@ -324,7 +327,7 @@ public sealed class TrackProcessor
         jacobian = Multiply(j, jacobian);
     }
 
-    private MeasurementOutcome UpdateGnssPosition(ref TrackState s, in Measurement m)
+    private MeasurementOutcome UpdateGnssPosition(ref TrackState s, in Measurement m, IStepRecorder? recorder)
     {
         EnuPoint enu = s.Plane.ToEnu(GeodeticPoint.FromDegrees(m.Value0, m.Value1));
         double sigma = m.Value2;
@@ -335,12 +338,16 @@ public sealed class TrackProcessor
         h[N + NorthM] = 1.0;
         Span<double> r = [sigma * sigma, 0, 0, sigma * sigma];
         double threshold = Gate.Threshold(2);
-        bool accepted = ExtendedKalmanFilter.TryUpdateJoseph(ref s.X, ref s.P, residual, h, r, threshold, out double nis);
+        bool accepted = Update(ref s, residual, h, r, threshold, out double nis, recorder);
         var fix = new HeldFix(true, m.TimeUs, enu.EastM, enu.NorthM, sigma);
         if (accepted)
         {
             s.RejectedFixes = 0;
-            ReacquireHeading(ref s, fix);
+            if (ReacquireHeading(ref s, fix))
+            {
+                recorder?.Adjusted();
+            }
+
             s.Fix = fix;
             return new MeasurementOutcome(OutcomeKind.Accepted, nis, 2, threshold, s.Stationary, 0).WithInnovation(residual);
         }
@@ -372,15 +379,16 @@ public sealed class TrackProcessor
 
     /// <summary>
     /// A track started at a standstill has no heading; once it moves, two accepted fixes far enough apart give one.
+    /// Returns whether it did.
     /// </summary>
-    private void ReacquireHeading(ref TrackState s, HeldFix fix)
+    private bool ReacquireHeading(ref TrackState s, HeldFix fix)
     {
         double headingVar = s.P[(HeadingRad * N) + HeadingRad];
         if (headingVar <= Options.HeadingReacquireSigmaRad * Options.HeadingReacquireSigmaRad
             || !s.Fix.IsSet
             || Math.Abs(s.X[SpeedMps]) < Options.CourseMinSpeedMps)
         {
-            return;
+            return false;
         }
 
         double dtS = (fix.TimeUs - s.Fix.TimeUs) / MicrosecondsPerSecond;
@@ -389,7 +397,7 @@ public sealed class TrackProcessor
         double sigmaM = Math.Sqrt((fix.SigmaM * fix.SigmaM) + (s.Fix.SigmaM * s.Fix.SigmaM));
         if (dtS <= 0 || dtS > Options.TwoFixMaxAgeS || distanceM <= Options.TwoFixHeadingSigmas * sigmaM)
         {
-            return;
+            return false;
         }
 
         s.X[HeadingRad] = Math.Atan2(dn, de);
@@ -401,9 +409,10 @@ public sealed class TrackProcessor
 
         double sigmaHeading = sigmaM / distanceM;
         s.P[(HeadingRad * N) + HeadingRad] = sigmaHeading * sigmaHeading;
+        return true;
     }
 
-    private MeasurementOutcome UpdateGnssVelocity(ref TrackState s, in Measurement m)
+    private MeasurementOutcome UpdateGnssVelocity(ref TrackState s, in Measurement m, IStepRecorder? recorder)
     {
         double speed = m.Value0, speedSigma = m.Value2;
         bool useCourse = speed >= Options.CourseMinSpeedMps && !double.IsNaN(m.Value1);
@@ -414,17 +423,17 @@ public sealed class TrackProcessor
         {
             Span<double> residual1 = [speed - s.X[SpeedMps]];
             Span<double> r1 = [speedSigma * speedSigma];
-            return Gated(ref s, ref s.VelocityRejections, residual1, h[..N], r1, SpeedMps, -1);
+            return Gated(ref s, ref s.VelocityRejections, residual1, h[..N], r1, SpeedMps, -1, recorder);
         }
 
         double courseSigma = Math.Max(speedSigma / speed, Options.CourseSigmaFloorRad);
         h[N + HeadingRad] = 1.0;
         Span<double> residual = [speed - s.X[SpeedMps], Angles.WrapPi(CourseToHeading(m.Value1) - s.X[HeadingRad])];
         Span<double> r = [speedSigma * speedSigma, 0, 0, courseSigma * courseSigma];
-        return Gated(ref s, ref s.VelocityRejections, residual, h, r, SpeedMps, HeadingRad);
+        return Gated(ref s, ref s.VelocityRejections, residual, h, r, SpeedMps, HeadingRad, recorder);
     }
 
-    private MeasurementOutcome UpdateWheelSpeed(ref TrackState s, in Measurement m)
+    private MeasurementOutcome UpdateWheelSpeed(ref TrackState s, in Measurement m, IStepRecorder? recorder)
     {
         double v = s.X[SpeedMps], k = s.X[WheelScale];
         Span<double> residual = [m.Value0 - (v * k)];
@@ -434,13 +443,13 @@ public sealed class TrackProcessor
         h[WheelScale] = v;
         double sigma = Profile.WheelSpeedSigmaMps;
         Span<double> r = [sigma * sigma];
-        MeasurementOutcome outcome = Gated(ref s, ref s.WheelRejections, residual, h, r, SpeedMps, -1);
+        MeasurementOutcome outcome = Gated(ref s, ref s.WheelRejections, residual, h, r, SpeedMps, -1, recorder);
 
         bool wasStationary = s.Stationary;
         TrackZeroSpeed(ref s, m);
         if (s.Stationary)
         {
-            ApplyStationaryConstraint(ref s);
+            ApplyStationaryConstraint(ref s, recorder);
         }
 
         return outcome with { Stationary = s.Stationary || wasStationary };
@@ -464,7 +473,7 @@ public sealed class TrackProcessor
     }
 
     /// <summary>Zero-velocity pseudo-measurement: speed 0 and yaw rate 0 with small noise, never gated.</summary>
-    private void ApplyStationaryConstraint(ref TrackState s)
+    private void ApplyStationaryConstraint(ref TrackState s, IStepRecorder? recorder)
     {
         Span<double> residual = [-s.X[SpeedMps], -s.X[YawRateRps]];
         Span<double> h = stackalloc double[2 * N];
@@ -473,10 +482,10 @@ public sealed class TrackProcessor
         h[N + YawRateRps] = 1.0;
         double sv = Options.StationarySpeedSigmaMps, sw = Options.StationaryYawRateSigmaRps;
         Span<double> r = [sv * sv, 0, 0, sw * sw];
-        ExtendedKalmanFilter.TryUpdateJoseph(ref s.X, ref s.P, residual, h, r, double.PositiveInfinity, out _);
+        Update(ref s, residual, h, r, double.PositiveInfinity, out _, recorder);
     }
 
-    private MeasurementOutcome UpdateImu(ref TrackState s, in Measurement m)
+    private MeasurementOutcome UpdateImu(ref TrackState s, in Measurement m, IStepRecorder? recorder)
     {
         Span<double> h = stackalloc double[2 * N];
         h.Clear();
@@ -488,14 +497,14 @@ public sealed class TrackProcessor
         {
             Span<double> residual1 = [yawResidual];
             Span<double> r1 = [gyroVar];
-            return Gated(ref s, ref s.ImuRejections, residual1, h[..N], r1, YawRateRps, -1);
+            return Gated(ref s, ref s.ImuRejections, residual1, h[..N], r1, YawRateRps, -1, recorder);
         }
 
         h[N + AccelMps2] = 1.0;
         double accelVar = Profile.AccelSigmaMps2 * Profile.AccelSigmaMps2;
         Span<double> residual = [yawResidual, m.Value1 - s.X[AccelMps2]];
         Span<double> r = [gyroVar, 0, 0, accelVar];
-        return Gated(ref s, ref s.ImuRejections, residual, h, r, YawRateRps, AccelMps2);
+        return Gated(ref s, ref s.ImuRejections, residual, h, r, YawRateRps, AccelMps2, recorder);
     }
 
     /// <summary>
@@ -507,11 +516,12 @@ public sealed class TrackProcessor
     /// fading memory and adaptive noise; from memory).
     /// </summary>
     private MeasurementOutcome Gated(
-        ref TrackState s, ref int rejections, ReadOnlySpan<double> residual, ReadOnlySpan<double> h, ReadOnlySpan<double> r, int first, int second)
+        ref TrackState s, ref int rejections, ReadOnlySpan<double> residual, ReadOnlySpan<double> h, ReadOnlySpan<double> r, int first, int second,
+        IStepRecorder? recorder)
     {
         int dim = residual.Length;
         double threshold = Gate.Threshold(dim);
-        if (ExtendedKalmanFilter.TryUpdateJoseph(ref s.X, ref s.P, residual, h, r, threshold, out double nis))
+        if (Update(ref s, residual, h, r, threshold, out double nis, recorder))
         {
             rejections = 0;
             return new MeasurementOutcome(OutcomeKind.Accepted, nis, dim, threshold, s.Stationary, 0).WithInnovation(residual);
@@ -533,8 +543,32 @@ public sealed class TrackProcessor
         }
 
         rejections = 0;
-        ExtendedKalmanFilter.TryUpdateJoseph(ref s.X, ref s.P, residual, h, r, double.PositiveInfinity, out _);
+        recorder?.Adjusted();
+        Update(ref s, residual, h, r, double.PositiveInfinity, out _, recorder);
         return new MeasurementOutcome(OutcomeKind.Accepted, nis, dim, threshold, s.Stationary, 0) { Recovered = true }.WithInnovation(residual);
+    }
+
+    /// <summary>
+    /// <see cref="ExtendedKalmanFilter.TryUpdateJoseph(ref Vector8, ref Matrix8, ReadOnlySpan{double}, ReadOnlySpan{double}, ReadOnlySpan{double}, double, out double)"/>
+    /// on the track's state; an applied update's factors go to the recorder, if any.
+    /// </summary>
+    private static bool Update(
+        ref TrackState s, ReadOnlySpan<double> residual, ReadOnlySpan<double> h, ReadOnlySpan<double> r, double threshold, out double nis,
+        IStepRecorder? recorder)
+    {
+        if (recorder is null)
+        {
+            return ExtendedKalmanFilter.TryUpdateJoseph(ref s.X, ref s.P, residual, h, r, threshold, out nis);
+        }
+
+        UpdateFactors factors = default;
+        bool applied = ExtendedKalmanFilter.TryUpdateJoseph(ref s.X, ref s.P, residual, h, r, threshold, out nis, ref factors, captureFactors: true);
+        if (applied)
+        {
+            recorder.Updated(factors);
+        }
+
+        return applied;
     }
 
     /// <summary>GNSS course (clockwise from north) to the filter's heading (counter-clockwise from east).</summary>

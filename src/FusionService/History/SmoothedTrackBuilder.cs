@@ -49,8 +49,10 @@ internal sealed class SmoothedTrackBuilder(TrackProcessor processor, FusionDatab
         using var chunks = new BlockingCollection<Measurement[]>();
         using var stop = CancellationTokenSource.CreateLinkedTokenSource(cancellationToken);
         Measurement? skipUpTo = floor;
+        int expectedInstants = ExpectedInstants(fromUs, toUs, recordIntervalUs);
         Task<IReadOnlyList<SmoothedSegment>> replay = Task.Factory.StartNew(
-            () => CompactedTrackReplay.Run(processor, start, Collect(chunks, skipUpTo, measurements, stop.Token), recordIntervalUs, discardBeforeUs: fromUs),
+            () => CompactedTrackReplay.Run(
+                processor, start, Collect(chunks, skipUpTo, measurements, stop.Token), recordIntervalUs, discardBeforeUs: fromUs, expectedInstants),
             stop.Token,
             TaskCreationOptions.LongRunning,
             TaskScheduler.Default);
@@ -104,6 +106,16 @@ internal sealed class SmoothedTrackBuilder(TrackProcessor processor, FusionDatab
         var segments = await replay.ConfigureAwait(false);
         return new SmoothedTrack(segments, measurements, floor is not null);
     }
+
+    /// <summary>
+    /// Smoothed instants a window can hold at most (one per interval, while data come), capped at
+    /// <see cref="MaxPreallocatedInstants"/> so that a long window of a parked van does not reserve memory it never fills.
+    /// </summary>
+    internal static int ExpectedInstants(long fromUs, long toUs, long recordIntervalUs) =>
+        (int)Math.Min(((toUs - fromUs) / Math.Max(recordIntervalUs, 1)) + 2, MaxPreallocatedInstants);
+
+    /// <summary>Largest number of smoothed instants made room for up front (about 40 MB; a vehicle-day at 1 s has 30,000).</summary>
+    private const int MaxPreallocatedInstants = 1 << 15;
 
     /// <summary>Rows handed from the storage read to the replay thread at a time.</summary>
     private const int ChunkLength = 8192;

@@ -64,6 +64,44 @@ public sealed class FixedSizeFilterAgreementTests
         RelativeAssert.SymmetricPositiveDefinite(ToDense(pFixed), "posterior covariance");
     }
 
+    /// <summary>
+    /// The factors an applied update hands to a fixed-point smoother (<see cref="UpdateFactors"/>) against the dense
+    /// quantities they stand for: B w = K ν (the state's move), B Bᵀ = K H P (the covariance's reduction for the optimal
+    /// gain), W Wᵀ = Hᵀ S⁻¹ H and B = P W, with K = P Hᵀ S⁻¹ and S = H P Hᵀ + R computed by MathNet.Numerics.
+    /// </summary>
+    [Theory]
+    [InlineData(11, 1)]
+    [InlineData(12, 2)]
+    [InlineData(13, 3)]
+    public void Update_factors_reproduce_the_dense_gain_and_covariance_reduction(int seed, int measurementDimension)
+    {
+        var random = new Random(seed);
+        var (x, p, h, r, residual) = RandomUpdateCase(random, measurementDimension, residualScale: 1.0);
+        var xFixed = ToVector8(x);
+        var pFixed = ToMatrix8(p);
+        UpdateFactors factors = default;
+
+        bool applied = ExtendedKalmanFilter.TryUpdateJoseph(
+            ref xFixed, ref pFixed, residual.ToArray(), RowMajor(h), RowMajor(r), double.PositiveInfinity, out _, ref factors, captureFactors: true);
+
+        Assert.True(applied);
+        Assert.Equal(measurementDimension, factors.Dimension);
+        int m = measurementDimension;
+        double[] information = ((ReadOnlySpan<double>)factors.Information).ToArray();
+        double[] gainFactor = ((ReadOnlySpan<double>)factors.Gain).ToArray();
+        double[] whitenedResidual = ((ReadOnlySpan<double>)factors.Whitened).ToArray();
+        var w = Matrix<double>.Build.Dense(N, m, (i, a) => information[(i * m) + a]);
+        var b = Matrix<double>.Build.Dense(N, m, (i, a) => gainFactor[(i * m) + a]);
+        var whitened = Vector<double>.Build.Dense(m, a => whitenedResidual[a]);
+        var s = (h * p * h.Transpose()) + r;
+        var gain = p * h.Transpose() * s.Inverse();
+
+        RelativeAssert.Relative(gain * residual, b * whitened, RelativeTolerance, "state move K ν against B w");
+        RelativeAssert.Relative(gain * h * p, b * b.Transpose(), RelativeTolerance, "covariance reduction K H P against B Bᵀ");
+        RelativeAssert.Relative(h.Transpose() * s.Inverse() * h, w * w.Transpose(), RelativeTolerance, "Hᵀ S⁻¹ H against W Wᵀ");
+        RelativeAssert.Relative(p * w, b, RelativeTolerance, "P W against B");
+    }
+
     [Theory]
     [InlineData(7, 1)]
     [InlineData(8, 2)]

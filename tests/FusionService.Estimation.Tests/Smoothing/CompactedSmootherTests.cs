@@ -29,6 +29,28 @@ public sealed class CompactedSmootherTests(ITestOutputHelper output)
 
     private static TrackProcessor Processor { get; } = new(new TrackOptions(), NoiseProfile.DeliveryVan);
 
+    /// <summary>
+    /// The recorder folds a step by its updates' factors unless something other than an update changed the posterior
+    /// (then through the predicted covariance's inverse); the equality above covers both only if the round has both.
+    /// </summary>
+    [Fact]
+    public void The_round_has_steps_for_both_ways_of_folding()
+    {
+        var counting = new CountingRecorder(new CompactingStepRecorder(1_000_000));
+        TrackState state = TrackState.Empty;
+        foreach (Measurement m in Round.Value.All)
+        {
+            if (state.Phase != TrackPhase.Running || m.TimeUs >= state.TimeUs)
+            {
+                Processor.Process(ref state, m, counting);
+            }
+        }
+
+        output.WriteLine($"{counting.Posteriors} posteriors, {counting.Updates} updates, {counting.Adjustments} adjusted");
+        Assert.True(counting.Updates > counting.Posteriors / 2, "most steps should be plain updates");
+        Assert.True(counting.Adjustments > 0, "the round should have a step adjusted other than by an update");
+    }
+
     [Theory]
     [InlineData(0L)]
     [InlineData(1_000_000L)]
@@ -229,5 +251,37 @@ public sealed class CompactedSmootherTests(ITestOutputHelper output)
         }
 
         Assert.True(dense.Evd().EigenValues.All(e => e.Real > 0), "smoothed covariance not positive definite" + at);
+    }
+
+    /// <summary>Passes every call on and counts updates, adjustments and posteriors.</summary>
+    private sealed class CountingRecorder(IStepRecorder inner) : IStepRecorder
+    {
+        public int Updates { get; private set; }
+
+        public int Adjustments { get; private set; }
+
+        public int Posteriors { get; private set; }
+
+        public void Start(long timeUs, in Vector8 x, in Matrix8 p, in FusionService.Estimation.Geodesy.LocalTangentPlane plane) => inner.Start(timeUs, x, p, plane);
+
+        public void Predicted(in Matrix8 f, in Vector8 xPredicted, in Matrix8 pPredicted) => inner.Predicted(f, xPredicted, pPredicted);
+
+        public void Updated(in FusionService.Estimation.Filtering.UpdateFactors factors)
+        {
+            Updates++;
+            inner.Updated(factors);
+        }
+
+        public void Adjusted()
+        {
+            Adjustments++;
+            inner.Adjusted();
+        }
+
+        public void Posterior(long timeUs, in Vector8 x, in Matrix8 p, in FusionService.Estimation.Geodesy.LocalTangentPlane plane)
+        {
+            Posteriors++;
+            inner.Posterior(timeUs, x, p, plane);
+        }
     }
 }
