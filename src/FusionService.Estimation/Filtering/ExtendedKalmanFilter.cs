@@ -1,5 +1,6 @@
 using System.Runtime.CompilerServices;
 using System.Runtime.InteropServices;
+using System.Runtime.Intrinsics;
 using FusionService.Estimation.LinearAlgebra;
 
 namespace FusionService.Estimation.Filtering;
@@ -26,46 +27,57 @@ public static class ExtendedKalmanFilter
     /// </summary>
     public static void PropagateCovariance(ref Matrix8 covariance, in Matrix8 jacobian)
     {
-        // Rows 0-3 of F P into a 4 x 8 scratch (rows 4-7 of F P are rows of P), then (F P) Fᵀ column by column in
-        // place: only columns 0-3 change, and each row's old values are read before they are overwritten.
-        Span<double> top = stackalloc double[4 * N];
+        // Rows 0-3 of F P into a 4 x 8 scratch (rows 4-7 of F P are rows of P), then (F P) Fᵀ row by row in place: only
+        // columns 0-3 change. Eight (or four) columns at a time, each element summed over j in ascending order.
+        Span<double> p = covariance;
+        ref double p0 = ref MemoryMarshal.GetReference(p);
+        ReadOnlySpan<double> f = jacobian;
+        Span<Vector256<double>> top = stackalloc Vector256<double>[8];
         for (int i = 0; i < 4; i++)
         {
-            for (int k = 0; k < N; k++)
+            var lo = Vector256<double>.Zero;
+            var hi = Vector256<double>.Zero;
+            for (int j = 0; j < N; j++)
             {
-                double sum = 0;
-                for (int j = 0; j < N; j++)
-                {
-                    sum += jacobian[(i * N) + j] * covariance[(j * N) + k];
-                }
-
-                top[(i * N) + k] = sum;
+                var fij = Vector256.Create(f[(i * N) + j]);
+                lo += fij * Vector256.LoadUnsafe(ref p0, (nuint)(j * N));
+                hi += fij * Vector256.LoadUnsafe(ref p0, (nuint)((j * N) + 4));
             }
+
+            top[2 * i] = lo;
+            top[(2 * i) + 1] = hi;
+        }
+
+        // Column j of F's first four rows, for (F P) Fᵀ.
+        Span<Vector256<double>> fColumns = stackalloc Vector256<double>[N];
+        for (int j = 0; j < N; j++)
+        {
+            fColumns[j] = Vector256.Create(f[j], f[N + j], f[(2 * N) + j], f[(3 * N) + j]);
         }
 
         Span<double> row = stackalloc double[N];
+        ref double row0 = ref MemoryMarshal.GetReference(row);
         for (int i = 0; i < N; i++)
         {
+            if (i < 4)
+            {
+                top[2 * i].StoreUnsafe(ref row0);
+                top[(2 * i) + 1].StoreUnsafe(ref row0, 4);
+                top[(2 * i) + 1].StoreUnsafe(ref p0, (nuint)((i * N) + 4));
+            }
+            else
+            {
+                Vector256.LoadUnsafe(ref p0, (nuint)(i * N)).StoreUnsafe(ref row0);
+                Vector256.LoadUnsafe(ref p0, (nuint)((i * N) + 4)).StoreUnsafe(ref row0, 4);
+            }
+
+            var sum = Vector256<double>.Zero;
             for (int j = 0; j < N; j++)
             {
-                row[j] = i < 4 ? top[(i * N) + j] : covariance[(i * N) + j];
+                sum += Vector256.Create(row[j]) * fColumns[j];
             }
 
-            for (int k = 0; k < 4; k++)
-            {
-                double sum = 0;
-                for (int j = 0; j < N; j++)
-                {
-                    sum += row[j] * jacobian[(k * N) + j];
-                }
-
-                covariance[(i * N) + k] = sum;
-            }
-
-            for (int k = 4; k < N; k++)
-            {
-                covariance[(i * N) + k] = row[k];
-            }
+            sum.StoreUnsafe(ref p0, (nuint)(i * N));
         }
 
         Symmetrize(ref covariance);
@@ -124,6 +136,7 @@ public static class ExtendedKalmanFilter
             nonZeroCount[row] = count;
         }
 
+        Span<double> p = covariance;
         Span<double> pht = stackalloc double[N * MaxMeasurementDimension];
         for (int i = 0; i < N; i++)
         {
@@ -133,7 +146,7 @@ public static class ExtendedKalmanFilter
                 for (int t = 0; t < nonZeroCount[row]; t++)
                 {
                     int j = nonZero[(row * N) + t];
-                    sum += covariance[(i * N) + j] * h[(row * N) + j];
+                    sum += p[(i * N) + j] * h[(row * N) + j];
                 }
 
                 pht[(i * m) + row] = sum;
@@ -214,19 +227,29 @@ public static class ExtendedKalmanFilter
             x[i] += sum;
         }
 
-        // A P with A = I - K H, using H P = (P Hᵀ)ᵀ, in place: P Hᵀ and K are already taken.
+        // A P with A = I - K H, using H P = (P Hᵀ)ᵀ, in place (P Hᵀ and K are already taken), a row of eight at a time:
+        // row i -= Σ_a K(i, a) (P Hᵀ)(·, a).
+        ref double p0 = ref MemoryMarshal.GetReference(p);
+        Span<Vector256<double>> columns = stackalloc Vector256<double>[2 * MaxMeasurementDimension];
+        for (int a = 0; a < m; a++)
+        {
+            columns[2 * a] = Vector256.Create(pht[a], pht[m + a], pht[(2 * m) + a], pht[(3 * m) + a]);
+            columns[(2 * a) + 1] = Vector256.Create(pht[(4 * m) + a], pht[(5 * m) + a], pht[(6 * m) + a], pht[(7 * m) + a]);
+        }
+
         for (int i = 0; i < N; i++)
         {
-            for (int j = 0; j < N; j++)
+            var lo = Vector256.LoadUnsafe(ref p0, (nuint)(i * N));
+            var hi = Vector256.LoadUnsafe(ref p0, (nuint)((i * N) + 4));
+            for (int a = 0; a < m; a++)
             {
-                double sum = 0;
-                for (int a = 0; a < m; a++)
-                {
-                    sum += k[(i * m) + a] * pht[(j * m) + a];
-                }
-
-                covariance[(i * N) + j] -= sum;
+                var kia = Vector256.Create(k[(i * m) + a]);
+                lo -= kia * columns[2 * a];
+                hi -= kia * columns[(2 * a) + 1];
             }
+
+            lo.StoreUnsafe(ref p0, (nuint)(i * N));
+            hi.StoreUnsafe(ref p0, (nuint)((i * N) + 4));
         }
 
         Span<double> aph = stackalloc double[N * MaxMeasurementDimension];
@@ -238,7 +261,7 @@ public static class ExtendedKalmanFilter
                 for (int t = 0; t < nonZeroCount[a]; t++)
                 {
                     int j = nonZero[(a * N) + t];
-                    sum += covariance[(i * N) + j] * h[(a * N) + j];
+                    sum += p[(i * N) + j] * h[(a * N) + j];
                 }
 
                 aph[(i * m) + a] = sum;
@@ -260,18 +283,26 @@ public static class ExtendedKalmanFilter
             }
         }
 
+        // Joseph's remaining terms: row i += Σ_a (K R - A P Hᵀ)(i, a) K(·, a).
+        for (int a = 0; a < m; a++)
+        {
+            columns[2 * a] = Vector256.Create(k[a], k[m + a], k[(2 * m) + a], k[(3 * m) + a]);
+            columns[(2 * a) + 1] = Vector256.Create(k[(4 * m) + a], k[(5 * m) + a], k[(6 * m) + a], k[(7 * m) + a]);
+        }
+
         for (int i = 0; i < N; i++)
         {
-            for (int j = 0; j < N; j++)
+            var lo = Vector256.LoadUnsafe(ref p0, (nuint)(i * N));
+            var hi = Vector256.LoadUnsafe(ref p0, (nuint)((i * N) + 4));
+            for (int a = 0; a < m; a++)
             {
-                double sum = covariance[(i * N) + j];
-                for (int a = 0; a < m; a++)
-                {
-                    sum += (kr[(i * m) + a] - aph[(i * m) + a]) * k[(j * m) + a];
-                }
-
-                covariance[(i * N) + j] = sum;
+                var c = Vector256.Create(kr[(i * m) + a] - aph[(i * m) + a]);
+                lo += c * columns[2 * a];
+                hi += c * columns[(2 * a) + 1];
             }
+
+            lo.StoreUnsafe(ref p0, (nuint)(i * N));
+            hi.StoreUnsafe(ref p0, (nuint)((i * N) + 4));
         }
 
         Symmetrize(ref covariance);
@@ -319,28 +350,62 @@ public static class ExtendedKalmanFilter
             }
         }
 
-        Span<double> copy = stackalloc double[Matrix8.Length];
-        for (int i = 0; i < Matrix8.Length; i++)
-        {
-            copy[i] = covariance[i];
-        }
-
-        if (!CholeskyInPlace(copy, N))
+        if (!IsPositiveDefinite(covariance))
         {
             throw new FilterDivergenceException($"covariance is not positive definite after {context}");
         }
     }
 
+    /// <summary>
+    /// Whether a symmetric matrix is positive definite and finite: symmetric Gaussian elimination without pivoting (the
+    /// LDLᵀ factorisation) meets only positive, finite pivots exactly when it is (Golub and Van Loan, <i>Matrix
+    /// Computations</i>, 4th ed., section 4.2; from memory). Rows are eliminated eight columns at a time; the factor is
+    /// not kept, so this is the divergence guard's test, not a solver.
+    /// </summary>
+    internal static bool IsPositiveDefinite(in Matrix8 matrix)
+    {
+        ReadOnlySpan<double> a = matrix;
+        ref double a0 = ref MemoryMarshal.GetReference(a);
+        Span<Vector256<double>> rows = stackalloc Vector256<double>[2 * N];
+        for (int i = 0; i < N; i++)
+        {
+            rows[2 * i] = Vector256.LoadUnsafe(ref a0, (nuint)(i * N));
+            rows[(2 * i) + 1] = Vector256.LoadUnsafe(ref a0, (nuint)((i * N) + 4));
+        }
+
+        for (int j = 0; j < N; j++)
+        {
+            double pivot = j < 4 ? rows[2 * j].GetElement(j) : rows[(2 * j) + 1].GetElement(j - 4);
+            if (!(pivot > 0) || !double.IsFinite(pivot))
+            {
+                return false;
+            }
+
+            var pivotLo = rows[2 * j];
+            var pivotHi = rows[(2 * j) + 1];
+            for (int i = j + 1; i < N; i++)
+            {
+                double below = j < 4 ? rows[2 * i].GetElement(j) : rows[(2 * i) + 1].GetElement(j - 4);
+                var factor = Vector256.Create(below / pivot);
+                rows[2 * i] -= factor * pivotLo;
+                rows[(2 * i) + 1] -= factor * pivotHi;
+            }
+        }
+
+        return true;
+    }
+
     /// <summary>Replaces P by (P + Pᵀ) / 2.</summary>
     public static void Symmetrize(ref Matrix8 covariance)
     {
+        Span<double> p = covariance;
         for (int i = 0; i < N; i++)
         {
             for (int j = i + 1; j < N; j++)
             {
-                double mean = 0.5 * (covariance[(i * N) + j] + covariance[(j * N) + i]);
-                covariance[(i * N) + j] = mean;
-                covariance[(j * N) + i] = mean;
+                double mean = 0.5 * (p[(i * N) + j] + p[(j * N) + i]);
+                p[(i * N) + j] = mean;
+                p[(j * N) + i] = mean;
             }
         }
     }

@@ -143,7 +143,7 @@ public static class HistoryEndpoints
                     intervalUs = Math.Max(stepUs, 100_000);
                 }
 
-                var track = await smoother.BuildAsync(caller.FleetId, vehicle, fromUs, toUs, intervalUs, http.RequestAborted).ConfigureAwait(false);
+                var track = await smoother.BuildAsync(caller.FleetId, vehicle, fromUs, toUs, intervalUs, keepWheelSpeeds: false, http.RequestAborted).ConfigureAwait(false);
                 return new TrackStreamResult(header, trackFormat, TrackPointSources.SmoothedAsync(track, request), flushEvery);
         }
     }
@@ -172,11 +172,11 @@ public static class HistoryEndpoints
         }
 
         long intervalUs = (long)Math.Round(options.Value.SmoothedIntervalS * 1e6);
-        var track = await smoother.BuildAsync(caller.FleetId, vehicle, fromUs, toUs, intervalUs, http.RequestAborted).ConfigureAwait(false);
+        var track = await smoother.BuildAsync(caller.FleetId, vehicle, fromUs, toUs, intervalUs, keepWheelSpeeds: true, http.RequestAborted).ConfigureAwait(false);
         DistanceEstimate smoothed = TrapezoidDistanceIntegrator.Integrate(track.Segments, fromUs, toUs);
         var odometer = new OdometerDistance();
         var scale = new ScaleLookup(track.Segments);
-        foreach (Measurement m in track.Measurements)
+        foreach (Measurement m in track.WheelSpeeds)
         {
             if (m.Kind == SensorKind.WheelSpeed && m.TimeUs >= fromUs && m.TimeUs < toUs && scale.TryAt(m.TimeUs, out double k))
             {

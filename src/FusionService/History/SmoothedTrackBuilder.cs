@@ -24,9 +24,10 @@ internal sealed class SmoothedTrackBuilder(TrackProcessor processor, FusionDatab
     /// <param name="fromUs">Window start, Unix microseconds.</param>
     /// <param name="toUs">Window end (exclusive), Unix microseconds.</param>
     /// <param name="recordIntervalUs">Spacing of the smoothed instants, microseconds.</param>
+    /// <param name="keepWheelSpeeds">Whether to keep the replayed wheel speeds in the result (for the wheel distance).</param>
     /// <param name="cancellationToken">Cancels the reads.</param>
     internal async Task<SmoothedTrack> BuildAsync(
-        Guid fleetId, string vehicle, long fromUs, long toUs, long recordIntervalUs, CancellationToken cancellationToken)
+        Guid fleetId, string vehicle, long fromUs, long toUs, long recordIntervalUs, bool keepWheelSpeeds, CancellationToken cancellationToken)
     {
         long leadUs = (long)Math.Round(options.Value.ReplayLeadHours * 3.6e9);
         long readFromUs = fromUs - leadUs;
@@ -45,21 +46,40 @@ internal sealed class SmoothedTrackBuilder(TrackProcessor processor, FusionDatab
         // Reading (a PostgreSQL backend scanning the rows) and the replay (this process filtering them) overlap: the
         // rows go over in chunks to a replay thread, so when a core is free the request takes about the longer of the
         // two instead of their sum (on a loaded machine little is gained: docs/benchmarks.md, smoothed track of a vehicle-day).
-        var measurements = new List<Measurement>();
-        using var chunks = new BlockingCollection<Measurement[]>();
+        List<Measurement>? wheelSpeeds = keepWheelSpeeds ? [] : null;
+        using var chunks = new BlockingCollection<Chunk>();
+        using var spare = new BlockingCollection<Measurement[]>();
         using var stop = CancellationTokenSource.CreateLinkedTokenSource(cancellationToken);
         Measurement? skipUpTo = floor;
         int expectedInstants = ExpectedInstants(fromUs, toUs, recordIntervalUs);
         Task<IReadOnlyList<SmoothedSegment>> replay = Task.Factory.StartNew(
             () => CompactedTrackReplay.Run(
-                processor, start, Collect(chunks, skipUpTo, measurements, stop.Token), recordIntervalUs, discardBeforeUs: fromUs, expectedInstants),
+                processor, start, Collect(chunks, spare, skipUpTo, wheelSpeeds, stop.Token), recordIntervalUs, discardBeforeUs: fromUs, expectedInstants),
             stop.Token,
             TaskCreationOptions.LongRunning,
+            TaskScheduler.Default);
+
+        // A failed replay returns no more chunk arrays: the read must not wait for one.
+        _ = replay.ContinueWith(
+            _ =>
+            {
+                try
+                {
+                    stop.Cancel();
+                }
+                catch (ObjectDisposedException)
+                {
+                    // The request has already ended.
+                }
+            },
+            CancellationToken.None,
+            TaskContinuationOptions.OnlyOnFaulted,
             TaskScheduler.Default);
         try
         {
             var chunk = new Measurement[ChunkLength];
             int filled = 0;
+            int chunkCount = 0;
             var reader = new TrackHistoryReader(database.DataSource);
             await reader.ReadReplayMeasurementsAsync(
                 fleetId,
@@ -74,16 +94,23 @@ internal sealed class SmoothedTrackBuilder(TrackProcessor processor, FusionDatab
                         s.TimeUs, ((ulong)(byte)s.Kind << 56) | (ulong)s.MessageKey, s.V0, s.V1 ?? double.NaN, (float)(s.V2 ?? 0));
                     if (filled == ChunkLength)
                     {
-                        chunks.Add(chunk, stop.Token);
-                        chunk = new Measurement[ChunkLength];
+                        chunks.Add(new Chunk(chunk, filled), stop.Token);
+                        chunkCount++;
+
+                        // A few arrays go round between the two threads instead of one new one per chunk.
+                        chunk = chunkCount < ChunksInFlight ? new Measurement[ChunkLength] : spare.Take(stop.Token);
                         filled = 0;
                     }
                 },
                 stop.Token).ConfigureAwait(false);
             if (filled > 0)
             {
-                chunks.Add(chunk[..filled], stop.Token);
+                chunks.Add(new Chunk(chunk, filled), stop.Token);
             }
+        }
+        catch (OperationCanceledException) when (replay.IsFaulted && !cancellationToken.IsCancellationRequested)
+        {
+            // The read stopped because the replay failed; awaiting the replay below reports its failure.
         }
         catch
         {
@@ -104,7 +131,7 @@ internal sealed class SmoothedTrackBuilder(TrackProcessor processor, FusionDatab
         }
 
         var segments = await replay.ConfigureAwait(false);
-        return new SmoothedTrack(segments, measurements, floor is not null);
+        return new SmoothedTrack(segments, wheelSpeeds ?? [], floor is not null);
     }
 
     /// <summary>
@@ -120,25 +147,40 @@ internal sealed class SmoothedTrackBuilder(TrackProcessor processor, FusionDatab
     /// <summary>Rows handed from the storage read to the replay thread at a time.</summary>
     private const int ChunkLength = 8192;
 
+    /// <summary>Chunk arrays made per request; later chunks reuse the ones the replay has finished with.</summary>
+    private const int ChunksInFlight = 8;
+
     /// <summary>
     /// The measurements of <paramref name="chunks"/> in order, without those at or before <paramref name="floor"/> (already
-    /// in the checkpoint), each also appended to <paramref name="kept"/>.
+    /// in the checkpoint); wheel speeds also appended to <paramref name="wheelSpeeds"/> when given. Each finished chunk's
+    /// array goes back through <paramref name="spare"/>.
     /// </summary>
     private static IEnumerable<Measurement> Collect(
-        BlockingCollection<Measurement[]> chunks, Measurement? floor, List<Measurement> kept, CancellationToken cancellationToken)
+        BlockingCollection<Chunk> chunks, BlockingCollection<Measurement[]> spare, Measurement? floor, List<Measurement>? wheelSpeeds,
+        CancellationToken cancellationToken)
     {
-        foreach (Measurement[] chunk in chunks.GetConsumingEnumerable(cancellationToken))
+        foreach (Chunk chunk in chunks.GetConsumingEnumerable(cancellationToken))
         {
-            foreach (Measurement m in chunk)
+            for (int i = 0; i < chunk.Count; i++)
             {
+                Measurement m = chunk.Items[i];
                 if (floor is { } f && VehicleTrack.CompareKey(m, f) <= 0)
                 {
                     continue;
                 }
 
-                kept.Add(m);
+                if (wheelSpeeds is not null && m.Kind == SensorKind.WheelSpeed)
+                {
+                    wheelSpeeds.Add(m);
+                }
+
                 yield return m;
             }
+
+            spare.Add(chunk.Items, cancellationToken);
         }
     }
+
+    /// <summary>The first <paramref name="Count"/> measurements of <paramref name="Items"/>.</summary>
+    private readonly record struct Chunk(Measurement[] Items, int Count);
 }

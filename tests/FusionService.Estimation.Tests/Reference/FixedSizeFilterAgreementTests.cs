@@ -102,6 +102,50 @@ public sealed class FixedSizeFilterAgreementTests
         RelativeAssert.Relative(p * w, b, RelativeTolerance, "P W against B");
     }
 
+    /// <summary>
+    /// The divergence guard's positive-definiteness test against MathNet.Numerics' eigenvalues on random symmetric
+    /// matrices, about half of them indefinite (a random shift of the spectrum), plus NaN and infinite entries. Matrices
+    /// within 1e-9 of singular relative to their largest eigenvalue are left out: there either answer is round-off.
+    /// </summary>
+    [Fact]
+    public void Positive_definiteness_test_agrees_with_the_eigenvalues()
+    {
+        var random = new Random(2024);
+        int definite = 0, indefinite = 0;
+        for (int trial = 0; trial < 400; trial++)
+        {
+            var a = Dense.RandomSpd(random, N, 0.1);
+            var eigenvalues = a.Evd().EigenValues.Select(e => e.Real).ToArray();
+            double shift = eigenvalues.Min() + ((eigenvalues.Max() - eigenvalues.Min()) * (random.NextDouble() - 0.5));
+            var shifted = a - (Dense.Identity(N) * shift);
+            var values = shifted.Evd().EigenValues.Select(e => e.Real).ToArray();
+            if (Math.Abs(values.Min()) <= 1e-9 * values.Max(Math.Abs))
+            {
+                continue;
+            }
+
+            bool expected = values.Min() > 0;
+            Assert.Equal(expected, ExtendedKalmanFilter.IsPositiveDefinite(ToMatrix8(shifted)));
+            if (expected)
+            {
+                definite++;
+            }
+            else
+            {
+                indefinite++;
+            }
+        }
+
+        Assert.True(definite > 50 && indefinite > 50, $"{definite} definite and {indefinite} indefinite cases");
+        var withNaN = ToMatrix8(Dense.RandomSpd(random, N, 0.1));
+        withNaN[(3 * N) + 5] = double.NaN;
+        withNaN[(5 * N) + 3] = double.NaN;
+        Assert.False(ExtendedKalmanFilter.IsPositiveDefinite(withNaN));
+        var withInfinity = ToMatrix8(Dense.RandomSpd(random, N, 0.1));
+        withInfinity[(2 * N) + 2] = double.PositiveInfinity;
+        Assert.False(ExtendedKalmanFilter.IsPositiveDefinite(withInfinity));
+    }
+
     [Theory]
     [InlineData(7, 1)]
     [InlineData(8, 2)]
