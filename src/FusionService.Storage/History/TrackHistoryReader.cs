@@ -122,8 +122,8 @@ public sealed class TrackHistoryReader
     /// The measurements a replay of the filter needs (kind, time, key and values; duplicates left out) of one vehicle with
     /// <paramref name="fromUs"/> &lt;= time &lt; <paramref name="toUs"/> and <paramref name="minKind"/> &lt;= kind &lt;=
     /// <paramref name="maxKind"/>, in canonical order (time, kind, message key), handed to <paramref name="onRow"/> one by
-    /// one. Read by a binary <c>COPY ... TO STDOUT</c>, which costs far less per row than a data reader
-    /// (see docs/benchmarks.md, smoothed track of a vehicle-day).
+    /// one. Read by a binary <c>COPY ... TO STDOUT</c> decoded from the raw stream (<see cref="ReplayCopyDecoder"/>), which
+    /// costs far less per row than a data reader (see docs/benchmarks.md, smoothed track of a vehicle-day).
     /// </summary>
     /// <param name="fleetId">Owning fleet.</param>
     /// <param name="vehicleId">Vehicle within the fleet.</param>
@@ -170,22 +170,10 @@ public sealed class TrackHistoryReader
                     await setting.ExecuteNonQueryAsync(cancellationToken).ConfigureAwait(false);
                 }
 
-                var exporter = await connection.BeginBinaryExportAsync(sql, cancellationToken).ConfigureAwait(false);
-                await using (exporter.ConfigureAwait(false))
+                var copy = await connection.BeginRawBinaryCopyAsync(sql, cancellationToken).ConfigureAwait(false);
+                await using (copy.ConfigureAwait(false))
                 {
-                    while (await exporter.StartRowAsync(cancellationToken).ConfigureAwait(false) >= 0)
-                    {
-                        // Whole rows sit in the exporter's buffer almost always; the synchronous column reads
-                        // then cost no state machine (a row cut by the buffer's end is read on, synchronously).
-                        short kind = exporter.Read<short>();
-                        long timeUs = exporter.Read<long>();
-                        long key = exporter.Read<long>();
-                        double v0 = exporter.Read<double>();
-                        double? v1 = ReadNullable(exporter);
-                        double? v2 = ReadNullable(exporter);
-                        onRow(new ReplayMeasurementValues(kind, timeUs, key, v0, v1, v2));
-                        count++;
-                    }
+                    count = await new ReplayCopyDecoder(copy).DecodeAsync(onRow, cancellationToken).ConfigureAwait(false);
                 }
 
                 await transaction.CommitAsync(cancellationToken).ConfigureAwait(false);
@@ -219,16 +207,5 @@ public sealed class TrackHistoryReader
                 yield return row;
             }
         }
-    }
-
-    private static double? ReadNullable(NpgsqlBinaryExporter exporter)
-    {
-        if (exporter.IsNull)
-        {
-            exporter.Skip();
-            return null;
-        }
-
-        return exporter.Read<double>();
     }
 }
