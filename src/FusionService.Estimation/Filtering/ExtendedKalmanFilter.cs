@@ -193,38 +193,56 @@ public static class ExtendedKalmanFilter
             return false;
         }
 
-        // K = P Hᵀ S⁻¹, row by row: S kᵢ = (P Hᵀ)ᵢ.
+        // L⁻¹ (lower triangular, m x m) once; then B = P Hᵀ L⁻ᵀ, K = P Hᵀ S⁻¹ = B L⁻¹ and K ν = B w, row by row.
+        Span<double> lInv = stackalloc double[MaxMeasurementDimension * MaxMeasurementDimension];
+        lInv.Clear();
+        Span<double> unit = stackalloc double[MaxMeasurementDimension];
+        for (int c = 0; c < m; c++)
+        {
+            unit.Clear();
+            unit[c] = 1.0;
+            ForwardSubstitute(chol, m, unit[..m]);
+            for (int a = c; a < m; a++)
+            {
+                lInv[(a * m) + c] = unit[a];
+            }
+        }
+
+        Span<double> gainFactor = stackalloc double[N * MaxMeasurementDimension];
         Span<double> k = stackalloc double[N * MaxMeasurementDimension];
         for (int i = 0; i < N; i++)
         {
-            Span<double> row = k.Slice(i * m, m);
-            pht.Slice(i * m, m).CopyTo(row);
-            ForwardSubstitute(chol, m, row);
-            if (captureFactors)
+            double move = 0;
+            for (int a = 0; a < m; a++)
             {
-                row.CopyTo(((Span<double>)factors.Gain).Slice(i * m, m));
+                double sum = 0;
+                for (int c = 0; c <= a; c++)
+                {
+                    sum += lInv[(a * m) + c] * pht[(i * m) + c];
+                }
+
+                gainFactor[(i * m) + a] = sum;
+                move += sum * w[a];
             }
 
-            BackSubstitute(chol, m, row);
+            for (int col = 0; col < m; col++)
+            {
+                double sum = 0;
+                for (int a = col; a < m; a++)
+                {
+                    sum += gainFactor[(i * m) + a] * lInv[(a * m) + col];
+                }
+
+                k[(i * m) + col] = sum;
+            }
+
+            x[i] += move;
         }
 
         if (captureFactors)
         {
-            CaptureFactors(chol, h, w[..m], ref factors);
-        }
-
-        Span<double> sInvNu = stackalloc double[MaxMeasurementDimension];
-        w[..m].CopyTo(sInvNu);
-        BackSubstitute(chol, m, sInvNu[..m]);
-        for (int i = 0; i < N; i++)
-        {
-            double sum = 0;
-            for (int a = 0; a < m; a++)
-            {
-                sum += pht[(i * m) + a] * sInvNu[a];
-            }
-
-            x[i] += sum;
+            gainFactor[..(N * m)].CopyTo(factors.Gain);
+            CaptureFactors(lInv, h, w[..m], ref factors);
         }
 
         // A P with A = I - K H, using H P = (P Hᵀ)ᵀ, in place (P Hᵀ and K are already taken), a row of eight at a time:
@@ -311,28 +329,24 @@ public static class ExtendedKalmanFilter
     }
 
     /// <summary>w = L⁻¹ ν (already whitened) and W = Hᵀ L⁻ᵀ, row j of W being L⁻¹ times column j of H.</summary>
-    private static void CaptureFactors(ReadOnlySpan<double> chol, ReadOnlySpan<double> h, ReadOnlySpan<double> whitened, ref UpdateFactors factors)
+    private static void CaptureFactors(ReadOnlySpan<double> lInv, ReadOnlySpan<double> h, ReadOnlySpan<double> whitened, ref UpdateFactors factors)
     {
         int m = whitened.Length;
         factors.Dimension = m;
         whitened.CopyTo(factors.Whitened);
         Span<double> information = factors.Information;
-        Span<double> column = stackalloc double[MaxMeasurementDimension];
         for (int j = 0; j < N; j++)
         {
-            bool any = false;
             for (int a = 0; a < m; a++)
             {
-                column[a] = h[(a * N) + j];
-                any |= column[a] != 0;
-            }
+                double sum = 0;
+                for (int c = 0; c <= a; c++)
+                {
+                    sum += lInv[(a * m) + c] * h[(c * N) + j];
+                }
 
-            if (any)
-            {
-                ForwardSubstitute(chol, m, column[..m]);
+                information[(j * m) + a] = sum;
             }
-
-            column[..m].CopyTo(information.Slice(j * m, m));
         }
     }
 
@@ -364,31 +378,24 @@ public static class ExtendedKalmanFilter
     /// </summary>
     internal static bool IsPositiveDefinite(in Matrix8 matrix)
     {
-        ReadOnlySpan<double> a = matrix;
+        Span<double> a = stackalloc double[Matrix8.Length];
+        ((ReadOnlySpan<double>)matrix).CopyTo(a);
         ref double a0 = ref MemoryMarshal.GetReference(a);
-        Span<Vector256<double>> rows = stackalloc Vector256<double>[2 * N];
-        for (int i = 0; i < N; i++)
-        {
-            rows[2 * i] = Vector256.LoadUnsafe(ref a0, (nuint)(i * N));
-            rows[(2 * i) + 1] = Vector256.LoadUnsafe(ref a0, (nuint)((i * N) + 4));
-        }
-
         for (int j = 0; j < N; j++)
         {
-            double pivot = j < 4 ? rows[2 * j].GetElement(j) : rows[(2 * j) + 1].GetElement(j - 4);
+            double pivot = a[(j * N) + j];
             if (!(pivot > 0) || !double.IsFinite(pivot))
             {
                 return false;
             }
 
-            var pivotLo = rows[2 * j];
-            var pivotHi = rows[(2 * j) + 1];
+            var pivotLo = Vector256.LoadUnsafe(ref a0, (nuint)(j * N));
+            var pivotHi = Vector256.LoadUnsafe(ref a0, (nuint)((j * N) + 4));
             for (int i = j + 1; i < N; i++)
             {
-                double below = j < 4 ? rows[2 * i].GetElement(j) : rows[(2 * i) + 1].GetElement(j - 4);
-                var factor = Vector256.Create(below / pivot);
-                rows[2 * i] -= factor * pivotLo;
-                rows[(2 * i) + 1] -= factor * pivotHi;
+                var factor = Vector256.Create(a[(i * N) + j] / pivot);
+                (Vector256.LoadUnsafe(ref a0, (nuint)(i * N)) - (factor * pivotLo)).StoreUnsafe(ref a0, (nuint)(i * N));
+                (Vector256.LoadUnsafe(ref a0, (nuint)((i * N) + 4)) - (factor * pivotHi)).StoreUnsafe(ref a0, (nuint)((i * N) + 4));
             }
         }
 

@@ -533,18 +533,24 @@ public sealed class CompactingStepRecorder : IStepRecorder
     /// </summary>
     private static void MultiplyTransposed(in Matrix8 a, in Matrix8 f, ref Matrix8 result)
     {
-        Matrix8 fT = default;
-        Transpose(f, ref fT);
         if (!LowerRowsAreIdentity(f))
         {
+            Matrix8 fT = default;
+            Transpose(f, ref fT);
             MultiplyRows(a, fT, result);
             return;
         }
 
+        // Column l of f's first four rows: (a fᵀ)(i, 0..3) = Σ_l a(i, l) f(0..3, l).
+        ReadOnlySpan<double> fS = f;
+        Span<Vector256<double>> fColumns = stackalloc Vector256<double>[N];
+        for (int l = 0; l < N; l++)
+        {
+            fColumns[l] = Vector256.Create(fS[l], fS[N + l], fS[(2 * N) + l], fS[(3 * N) + l]);
+        }
+
         ReadOnlySpan<double> aS = a;
         ref double ar = ref MemoryMarshal.GetReference(aS);
-        ReadOnlySpan<double> fTs = fT;
-        ref double br = ref MemoryMarshal.GetReference(fTs);
         Span<double> rS = result;
         ref double rr = ref MemoryMarshal.GetReference(rS);
         for (int i = 0; i < N; i++)
@@ -552,7 +558,7 @@ public sealed class CompactingStepRecorder : IStepRecorder
             var lo = Vector256<double>.Zero;
             for (int l = 0; l < N; l++)
             {
-                lo += Vector256.Create(aS[(i * N) + l]) * Vector256.LoadUnsafe(ref br, (nuint)(l * N));
+                lo += Vector256.Create(aS[(i * N) + l]) * fColumns[l];
             }
 
             lo.StoreUnsafe(ref rr, (nuint)(i * N));
@@ -562,11 +568,12 @@ public sealed class CompactingStepRecorder : IStepRecorder
 
     private static bool LowerRowsAreIdentity(in Matrix8 f)
     {
+        ReadOnlySpan<double> fS = f;
         for (int i = 4; i < N; i++)
         {
             for (int j = 0; j < N; j++)
             {
-                if (f[(i * N) + j] != (i == j ? 1.0 : 0.0))
+                if (fS[(i * N) + j] != (i == j ? 1.0 : 0.0))
                 {
                     return false;
                 }
