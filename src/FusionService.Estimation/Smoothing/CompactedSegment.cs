@@ -85,8 +85,9 @@ public sealed class CompactedSegment
     }
 
     /// <summary>
-    /// The smoothed states as a <see cref="SmoothedSegment"/>. The arrays are trimmed to <see cref="Count"/> and shared
-    /// with the result, not copied; the prediction array, needed only by the smoother, is released.
+    /// The smoothed states as a <see cref="SmoothedSegment"/>, sharing the arrays (not copied); they are trimmed to
+    /// <see cref="Count"/> first only when less than half of them is used, so that room made up front for a long window
+    /// the data did not fill is not held on to. The prediction array, needed only by the smoother, is released.
     /// </summary>
     /// <exception cref="InvalidOperationException">The segment has not been smoothed.</exception>
     public SmoothedSegment ToSmoothedSegment()
@@ -96,12 +97,16 @@ public sealed class CompactedSegment
             throw new InvalidOperationException("smooth the segment first");
         }
 
-        Array.Resize(ref _times, Count);
-        Array.Resize(ref _planes, Count);
-        Array.Resize(ref _means, Count);
-        Array.Resize(ref _covariances, Count);
-        Array.Resize(ref _gains, Count);
+        if (Count < _times.Length / 2)
+        {
+            Array.Resize(ref _times, Count);
+            Array.Resize(ref _planes, Count);
+            Array.Resize(ref _means, Count);
+            Array.Resize(ref _covariances, Count);
+            Array.Resize(ref _gains, Count);
+        }
+
         _predictedNext = [];
-        return new SmoothedSegment(_times, _planes, _means, _covariances, _gains);
+        return new SmoothedSegment(_times, _planes, _means, _covariances, _gains, Count);
     }
 }

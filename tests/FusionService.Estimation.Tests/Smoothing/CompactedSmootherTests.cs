@@ -191,7 +191,7 @@ public sealed class CompactedSmootherTests(ITestOutputHelper output)
         long cut = whole[0].TimesUs[whole[0].Count / 2];
         var windowed = CompactedTrackReplay.Run(Processor, TrackState.Empty, all, 1_000_000, discardBeforeUs: cut);
         SmoothedSegment a = whole[^1], b = windowed[^1];
-        int offset = Array.IndexOf(a.TimesUs, b.TimesUs[0]);
+        int offset = a.TimesUs.IndexOf(b.TimesUs[0]);
         Assert.True(offset > 0, "the windowed run kept instants from the start");
         Assert.Equal(cut, b.TimesUs[0]);
         Assert.Equal(a.Count - offset, b.Count);
