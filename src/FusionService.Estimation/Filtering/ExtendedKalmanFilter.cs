@@ -391,9 +391,10 @@ public static class ExtendedKalmanFilter
 
             var pivotLo = Vector256.LoadUnsafe(ref a0, (nuint)(j * N));
             var pivotHi = Vector256.LoadUnsafe(ref a0, (nuint)((j * N) + 4));
+            double inverse = 1.0 / pivot;
             for (int i = j + 1; i < N; i++)
             {
-                var factor = Vector256.Create(a[(i * N) + j] / pivot);
+                var factor = Vector256.Create(a[(i * N) + j] * inverse);
                 (Vector256.LoadUnsafe(ref a0, (nuint)(i * N)) - (factor * pivotLo)).StoreUnsafe(ref a0, (nuint)(i * N));
                 (Vector256.LoadUnsafe(ref a0, (nuint)((i * N) + 4)) - (factor * pivotHi)).StoreUnsafe(ref a0, (nuint)((i * N) + 4));
             }
@@ -406,13 +407,16 @@ public static class ExtendedKalmanFilter
     public static void Symmetrize(ref Matrix8 covariance)
     {
         Span<double> p = covariance;
+        ref double p0 = ref MemoryMarshal.GetReference(p);
         for (int i = 0; i < N; i++)
         {
             for (int j = i + 1; j < N; j++)
             {
-                double mean = 0.5 * (p[(i * N) + j] + p[(j * N) + i]);
-                p[(i * N) + j] = mean;
-                p[(j * N) + i] = mean;
+                ref double upper = ref Unsafe.Add(ref p0, (i * N) + j);
+                ref double lower = ref Unsafe.Add(ref p0, (j * N) + i);
+                double mean = 0.5 * (upper + lower);
+                upper = mean;
+                lower = mean;
             }
         }
     }
