@@ -112,7 +112,7 @@ internal static class HistoryReadSplit
             }
 
             sw.Restart();
-            var sequential = CompactedTrackReplay.Run(processor, TrackState.Empty, read, 1_000_000);
+            var sequential = CompactedTrackReplay.Run(processor, TrackState.Empty, read, 1_000_000, expectedInstants: ExpectedInstants(fromUs, toUs));
             replayMs.Add(sw.Elapsed.TotalMilliseconds);
 
             sw.Restart();
@@ -131,7 +131,14 @@ internal static class HistoryReadSplit
         Print("COPY export overlapped with the replay", overlappedMs);
     }
 
-    /// <summary>The read and the replay as <c>SmoothedTrackBuilder</c> runs them: chunks of rows to a replay thread.</summary>
+    /// <summary>Room for one smoothed instant per second of the window, capped as <c>SmoothedTrackBuilder</c> caps it.</summary>
+    private static int ExpectedInstants(long fromUs, long toUs) => (int)Math.Min(((toUs - fromUs) / 1_000_000) + 2, 1 << 15);
+
+    /// <summary>
+    /// The read and the replay overlapped as <c>SmoothedTrackBuilder</c> runs them (chunks of rows to a replay thread),
+    /// except that this probe makes a new array per chunk and keeps every row, as the builder did before it reused its
+    /// chunk arrays and kept only wheel speeds (for /distance).
+    /// </summary>
     private static async Task<IReadOnlyList<SmoothedSegment>> ReadOverlappedAsync(
         TrackHistoryReader reader, TrackProcessor processor, Guid fleet, string vehicle, long fromUs, long toUs)
     {
@@ -139,7 +146,7 @@ internal static class HistoryReadSplit
         using var chunks = new BlockingCollection<Measurement[]>();
         var kept = new List<Measurement>();
         var replay = Task.Factory.StartNew(
-            () => CompactedTrackReplay.Run(processor, TrackState.Empty, Collect(chunks, kept), 1_000_000),
+            () => CompactedTrackReplay.Run(processor, TrackState.Empty, Collect(chunks, kept), 1_000_000, expectedInstants: ExpectedInstants(fromUs, toUs)),
             CancellationToken.None,
             TaskCreationOptions.LongRunning,
             TaskScheduler.Default);
