@@ -87,7 +87,8 @@ public sealed class FleetFeeder
         Task reporter = ReportLoopAsync(vans.Count, startTicks, progress, reporting.Token);
         try
         {
-            await Task.WhenAll(vans.Select((v, i) => FeedVanAsync(v, UsesWebSocket(i), zeroUs, startTicks, gate, cancellationToken))).ConfigureAwait(false);
+            long paceFromUs = _options.PaceFromUs ?? zeroUs;
+            await Task.WhenAll(vans.Select((v, i) => FeedVanAsync(v, UsesWebSocket(i), paceFromUs, startTicks, gate, cancellationToken))).ConfigureAwait(false);
         }
         finally
         {
@@ -160,7 +161,7 @@ public sealed class FleetFeeder
         _options.Transport == FeedTransport.WebSocket || (_options.Transport == FeedTransport.Mixed && vanPosition % 2 == 1);
 
     private async Task FeedVanAsync(
-        IReadOnlyList<TelemetryBatch> batches, bool webSocket, long zeroUs, long startTicks, SemaphoreSlim gate, CancellationToken cancellationToken)
+        IReadOnlyList<TelemetryBatch> batches, bool webSocket, long paceFromUs, long startTicks, SemaphoreSlim gate, CancellationToken cancellationToken)
     {
         VanSocket? socket = webSocket ? new VanSocket(this) : null;
         try
@@ -169,7 +170,7 @@ public sealed class FleetFeeder
             {
                 if (!double.IsPositiveInfinity(_options.AccelerationFactor))
                 {
-                    TimeSpan due = TimeSpan.FromSeconds((batch.ArrivalTimeUs - zeroUs) / 1e6 / _options.AccelerationFactor);
+                    TimeSpan due = TimeSpan.FromSeconds((batch.ArrivalTimeUs - paceFromUs) / 1e6 / _options.AccelerationFactor);
                     TimeSpan wait = due - _time.GetElapsedTime(startTicks);
                     if (wait > TimeSpan.Zero)
                     {

@@ -19,6 +19,13 @@ public sealed record FleetFeederOptions
     /// </summary>
     public double AccelerationFactor { get; init; } = 10.0;
 
+    /// <summary>
+    /// Scenario time, Unix microseconds, that the feeder's start stands for: batches that arrived before it are sent at
+    /// once (in order, each van's one after another), later ones (arrival time - this) / <see cref="AccelerationFactor"/>
+    /// after the start. Null (the default) takes the fleet's first arrival, so that nothing is sent at once.
+    /// </summary>
+    public long? PaceFromUs { get; init; }
+
     /// <summary>Largest number of batches in flight at once over all vans (each van sends its batches one after another). Default 4.</summary>
     public int MaxConcurrentRequests { get; init; } = 4;
 

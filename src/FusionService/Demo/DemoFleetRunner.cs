@@ -39,12 +39,16 @@ public sealed partial class DemoFleetRunner(
         long durationUs = fleet.Vans.Max(v => v.Truth.EndTimeUs) - fleet.Vans.Min(v => v.Truth.StartTimeUs);
         long nowUs = DateTimeOffset.UtcNow.ToUnixTimeMilliseconds() * 1000;
 
-        // Live at 1x; faster than that, the day ends now so no measurement lies in the future.
-        long startUs = demo.Acceleration <= 1.0 ? nowUs : nowUs - durationUs;
+        // Live at 1x, begun HeadStartMinutes ago (that backlog goes at once); faster than that, the day ends now. Either
+        // way no measurement lies in the future.
+        bool live = demo.Acceleration <= 1.0;
+        long headStartUs = (long)Math.Round(demo.HeadStartMinutes * 60e6);
+        long startUs = live ? nowUs - headStartUs : nowUs - durationUs;
         fleet = new DemoFleet(new DemoFleetOptions { VanCount = demo.Vans, Seed = demo.Seed, StartTimeUs = startUs });
 
         Console.Out.WriteLine();
-        Console.Out.WriteLine($"FusionService demo: fleet '{demo.FleetName}', {fleet.Vans.Count} vans, {demo.Acceleration:0.#}x, uploads over {demo.Transport}");
+        string pace = live ? $"live, the first {demo.HeadStartMinutes:0.#} min uploaded at once" : $"{demo.Acceleration:0.#}x";
+        Console.Out.WriteLine($"FusionService demo: fleet '{demo.FleetName}', {fleet.Vans.Count} vans, {pace}, uploads over {demo.Transport}");
         Console.Out.WriteLine($"  service        {baseUrl}");
         Console.Out.WriteLine($"  dashboard      {baseUrl} (sign in with the read key)");
         Console.Out.WriteLine($"  API docs       {new Uri(baseUrl, "swagger")}");
@@ -66,6 +70,7 @@ public sealed partial class DemoFleetRunner(
             ApiKey = ingest.Secret,
             Transport = demo.Transport,
             AccelerationFactor = demo.Acceleration,
+            PaceFromUs = live ? nowUs : null,
             ProgressInterval = TimeSpan.FromSeconds(demo.ProgressIntervalS),
         });
         // Stop feeding as soon as shutdown begins, before the server waits for open connections to close.

@@ -27,6 +27,14 @@ public sealed class DemoOptions
     [Range(1.0, 60.0)]
     public double Acceleration { get; set; } = 1.0;
 
+    /// <summary>
+    /// At 1x, how many minutes of the vans' day lie before the start, 0 to 60: they are uploaded at once as a backlog and
+    /// the rest live, so that the first vans are already out on their rounds when the dashboard opens (vans leave the
+    /// depot a minute apart). Ignored above 1x. Default 10.
+    /// </summary>
+    [Range(0.0, 60.0)]
+    public double HeadStartMinutes { get; set; } = 10;
+
     /// <summary>How the trackers upload: Http, WebSocket or Mixed (alternate vans). Default Mixed.</summary>
     public FeedTransport Transport { get; set; } = FeedTransport.Mixed;
 

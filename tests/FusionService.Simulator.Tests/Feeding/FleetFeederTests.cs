@@ -150,6 +150,33 @@ public sealed class FleetFeederTests(FleetFixture fixture)
     }
 
     [Fact]
+    public async Task Batches_that_arrived_before_the_pace_start_go_at_once_and_later_ones_at_their_times()
+    {
+        await using TestIngestServer server = await TestIngestServer.StartAsync();
+        using var http = new HttpClient();
+        IReadOnlyList<IReadOnlyList<TelemetryBatch>> vans = Sample(vans: 1, batches: 5);
+        long paceFromUs = vans[0][2].ArrivalTimeUs;
+        double factor = ((vans[0][^1].ArrivalTimeUs - paceFromUs) / 1e6) / 0.8;
+        long startTicks = Stopwatch.GetTimestamp();
+        await new FleetFeeder(http, Options(server, FeedTransport.Http) with { AccelerationFactor = factor, PaceFromUs = paceFromUs }).RunAsync(vans);
+        TestIngestServer.Post[] posts = [.. server.Posts];
+        Assert.Equal(5, posts.Length);
+        for (int i = 0; i < posts.Length; i++)
+        {
+            // Derived as in the test above, with the pace start at batch 2: batches 0 to 2 are due at once (negative or zero
+            // due times), 3 and 4 at (arrival - pace start) / factor; the last one 0.8 s after the start by construction.
+            double dueS = Math.Max(0, (vans[0][i].ArrivalTimeUs - paceFromUs) / 1e6 / factor);
+            double receivedS = Stopwatch.GetElapsedTime(startTicks, posts[i].ArrivedTicks).TotalSeconds;
+            Assert.True(receivedS >= dueS - 0.010, $"batch {i} received {receivedS} s after the start, due {dueS} s");
+        }
+
+        // The backlog went at once: the third batch well before the fourth is due (a generous bound for a loaded machine).
+        double fourthDueS = (vans[0][3].ArrivalTimeUs - paceFromUs) / 1e6 / factor;
+        Assert.True(Stopwatch.GetElapsedTime(startTicks, posts[2].ArrivedTicks).TotalSeconds < fourthDueS, "the backlog waited");
+        Assert.True(Stopwatch.GetElapsedTime(startTicks, posts[^1].ArrivedTicks) >= TimeSpan.FromSeconds(0.79));
+    }
+
+    [Fact]
     public async Task Refused_batches_count_as_failures_without_retries()
     {
         await using TestIngestServer server = await TestIngestServer.StartAsync(refuseAll: true);
