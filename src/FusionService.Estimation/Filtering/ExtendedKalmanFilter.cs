@@ -245,30 +245,8 @@ public static class ExtendedKalmanFilter
             CaptureFactors(lInv, h, w[..m], ref factors);
         }
 
-        // A P with A = I - K H, using H P = (P Hᵀ)ᵀ, in place (P Hᵀ and K are already taken), a row of eight at a time:
-        // row i -= Σ_a K(i, a) (P Hᵀ)(·, a).
-        ref double p0 = ref MemoryMarshal.GetReference(p);
-        Span<Vector256<double>> columns = stackalloc Vector256<double>[2 * MaxMeasurementDimension];
-        for (int a = 0; a < m; a++)
-        {
-            columns[2 * a] = Vector256.Create(pht[a], pht[m + a], pht[(2 * m) + a], pht[(3 * m) + a]);
-            columns[(2 * a) + 1] = Vector256.Create(pht[(4 * m) + a], pht[(5 * m) + a], pht[(6 * m) + a], pht[(7 * m) + a]);
-        }
-
-        for (int i = 0; i < N; i++)
-        {
-            var lo = Vector256.LoadUnsafe(ref p0, (nuint)(i * N));
-            var hi = Vector256.LoadUnsafe(ref p0, (nuint)((i * N) + 4));
-            for (int a = 0; a < m; a++)
-            {
-                var kia = Vector256.Create(k[(i * m) + a]);
-                lo -= kia * columns[2 * a];
-                hi -= kia * columns[(2 * a) + 1];
-            }
-
-            lo.StoreUnsafe(ref p0, (nuint)(i * N));
-            hi.StoreUnsafe(ref p0, (nuint)((i * N) + 4));
-        }
+        // A P with A = I - K H, using H P = (P Hᵀ)ᵀ, in place (P Hᵀ and K are already taken): P ← P - K (P Hᵀ)ᵀ.
+        OuterProductUpdate.Subtract(p, k, pht, m);
 
         Span<double> aph = stackalloc double[N * MaxMeasurementDimension];
         for (int i = 0; i < N; i++)
@@ -301,27 +279,13 @@ public static class ExtendedKalmanFilter
             }
         }
 
-        // Joseph's remaining terms: row i += Σ_a (K R - A P Hᵀ)(i, a) K(·, a).
-        for (int a = 0; a < m; a++)
+        // Joseph's remaining terms: P ← P + (K R - A P Hᵀ) Kᵀ = P - (A P Hᵀ - K R) Kᵀ.
+        for (int i = 0; i < N * m; i++)
         {
-            columns[2 * a] = Vector256.Create(k[a], k[m + a], k[(2 * m) + a], k[(3 * m) + a]);
-            columns[(2 * a) + 1] = Vector256.Create(k[(4 * m) + a], k[(5 * m) + a], k[(6 * m) + a], k[(7 * m) + a]);
+            aph[i] -= kr[i];
         }
 
-        for (int i = 0; i < N; i++)
-        {
-            var lo = Vector256.LoadUnsafe(ref p0, (nuint)(i * N));
-            var hi = Vector256.LoadUnsafe(ref p0, (nuint)((i * N) + 4));
-            for (int a = 0; a < m; a++)
-            {
-                var c = Vector256.Create(kr[(i * m) + a] - aph[(i * m) + a]);
-                lo += c * columns[2 * a];
-                hi += c * columns[(2 * a) + 1];
-            }
-
-            lo.StoreUnsafe(ref p0, (nuint)(i * N));
-            hi.StoreUnsafe(ref p0, (nuint)((i * N) + 4));
-        }
+        OuterProductUpdate.Subtract(p, aph, k, m);
 
         Symmetrize(ref covariance);
         RequirePositiveDefinite(covariance, x, "measurement update");

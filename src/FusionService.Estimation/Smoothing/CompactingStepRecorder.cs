@@ -322,9 +322,8 @@ public sealed class CompactingStepRecorder : IStepRecorder
         Span<double> sigmaS = sigma;
         ref double sigmaR = ref MemoryMarshal.GetReference(sigmaS);
         Span<double> pi = _pi;
-        ref double piR = ref MemoryMarshal.GetReference(pi);
         Span<double> a = stackalloc double[N * ExtendedKalmanFilter.MaxMeasurementDimension];
-        Span<Vector256<double>> columns = stackalloc Vector256<double>[4 * ExtendedKalmanFilter.MaxMeasurementDimension];
+        Span<Vector256<double>> columns = stackalloc Vector256<double>[2 * ExtendedKalmanFilter.MaxMeasurementDimension];
         foreach (ref readonly UpdateFactors update in CollectionsMarshal.AsSpan(_pairUpdates))
         {
             int m = update.Dimension;
@@ -349,7 +348,7 @@ public sealed class CompactingStepRecorder : IStepRecorder
                 }
             }
 
-            // μ += A w; then, with A's and B's columns as rows over j: Π(i, ·) -= A(i, c) A(·, c), Σ(i, ·) -= A(i, c) B(·, c).
+            // μ += A w, Π -= A Aᵀ, Σ -= A Bᵀ.
             for (int i = 0; i < N; i++)
             {
                 double shift = 0;
@@ -361,34 +360,8 @@ public sealed class CompactingStepRecorder : IStepRecorder
                 _mu[i] += shift;
             }
 
-            for (int c = 0; c < m; c++)
-            {
-                columns[4 * c] = Vector256.Create(a[c], a[m + c], a[(2 * m) + c], a[(3 * m) + c]);
-                columns[(4 * c) + 1] = Vector256.Create(a[(4 * m) + c], a[(5 * m) + c], a[(6 * m) + c], a[(7 * m) + c]);
-                columns[(4 * c) + 2] = Vector256.Create(gain[c], gain[m + c], gain[(2 * m) + c], gain[(3 * m) + c]);
-                columns[(4 * c) + 3] = Vector256.Create(gain[(4 * m) + c], gain[(5 * m) + c], gain[(6 * m) + c], gain[(7 * m) + c]);
-            }
-
-            for (int i = 0; i < N; i++)
-            {
-                var piLo = Vector256.LoadUnsafe(ref piR, (nuint)(i * N));
-                var piHi = Vector256.LoadUnsafe(ref piR, (nuint)((i * N) + 4));
-                var sLo = Vector256.LoadUnsafe(ref sigmaR, (nuint)(i * N));
-                var sHi = Vector256.LoadUnsafe(ref sigmaR, (nuint)((i * N) + 4));
-                for (int c = 0; c < m; c++)
-                {
-                    var aic = Vector256.Create(a[(i * m) + c]);
-                    piLo -= aic * columns[4 * c];
-                    piHi -= aic * columns[(4 * c) + 1];
-                    sLo -= aic * columns[(4 * c) + 2];
-                    sHi -= aic * columns[(4 * c) + 3];
-                }
-
-                piLo.StoreUnsafe(ref piR, (nuint)(i * N));
-                piHi.StoreUnsafe(ref piR, (nuint)((i * N) + 4));
-                sLo.StoreUnsafe(ref sigmaR, (nuint)(i * N));
-                sHi.StoreUnsafe(ref sigmaR, (nuint)((i * N) + 4));
-            }
+            OuterProductUpdate.Subtract(pi, a, a, m);
+            OuterProductUpdate.Subtract(sigmaS, a, gain, m);
         }
 
         _sigma = sigma;
