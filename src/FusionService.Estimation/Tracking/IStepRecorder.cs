@@ -6,8 +6,9 @@ namespace FusionService.Estimation.Tracking;
 
 /// <summary>
 /// Receives every forward step of the filter, for Rauch-Tung-Striebel smoothing. Calls come in order:
-/// <see cref="Start"/> when the filter (re)starts, then for each later measurement <see cref="Predicted"/> followed by
-/// <see cref="Posterior"/>.
+/// <see cref="Start"/> when the filter (re)starts, then for each later measurement <see cref="Predicted"/>, one
+/// <see cref="Updated"/> per applied update and <see cref="Adjusted"/> if anything else changed the state, then
+/// <see cref="Posterior"/> (not called when the measurement reset the track: a new <see cref="Start"/> follows).
 /// </summary>
 public interface IStepRecorder
 {
