@@ -27,8 +27,8 @@ public static class ExtendedKalmanFilter
     /// </summary>
     public static void PropagateCovariance(ref Matrix8 covariance, in Matrix8 jacobian)
     {
-        // Rows 0-3 of F P into a 4 x 8 scratch (rows 4-7 of F P are rows of P), then (F P) Fᵀ row by row in place: only
-        // columns 0-3 change. Eight (or four) columns at a time, each element summed over j in ascending order.
+        // Rows 0-3 of F P (rows 4-7 of F P are rows of P) computed into a scratch before they replace P's, eight columns
+        // at a time and each element summed over j in ascending order; then (F P) Fᵀ in place, where only columns 0-3 change.
         Span<double> p = covariance;
         ref double p0 = ref MemoryMarshal.GetReference(p);
         ReadOnlySpan<double> f = jacobian;
@@ -48,38 +48,13 @@ public static class ExtendedKalmanFilter
             top[(2 * i) + 1] = hi;
         }
 
-        // Column j of F's first four rows, for (F P) Fᵀ.
-        Span<Vector256<double>> fColumns = stackalloc Vector256<double>[N];
-        for (int j = 0; j < N; j++)
+        for (int i = 0; i < 4; i++)
         {
-            fColumns[j] = Vector256.Create(f[j], f[N + j], f[(2 * N) + j], f[(3 * N) + j]);
+            top[2 * i].StoreUnsafe(ref p0, (nuint)(i * N));
+            top[(2 * i) + 1].StoreUnsafe(ref p0, (nuint)((i * N) + 4));
         }
 
-        Span<double> row = stackalloc double[N];
-        ref double row0 = ref MemoryMarshal.GetReference(row);
-        for (int i = 0; i < N; i++)
-        {
-            if (i < 4)
-            {
-                top[2 * i].StoreUnsafe(ref row0);
-                top[(2 * i) + 1].StoreUnsafe(ref row0, 4);
-                top[(2 * i) + 1].StoreUnsafe(ref p0, (nuint)((i * N) + 4));
-            }
-            else
-            {
-                Vector256.LoadUnsafe(ref p0, (nuint)(i * N)).StoreUnsafe(ref row0);
-                Vector256.LoadUnsafe(ref p0, (nuint)((i * N) + 4)).StoreUnsafe(ref row0, 4);
-            }
-
-            var sum = Vector256<double>.Zero;
-            for (int j = 0; j < N; j++)
-            {
-                sum += Vector256.Create(row[j]) * fColumns[j];
-            }
-
-            sum.StoreUnsafe(ref p0, (nuint)(i * N));
-        }
-
+        CarriedOverTransitionProduct.Multiply(p, jacobian, p);
         Symmetrize(ref covariance);
     }
 

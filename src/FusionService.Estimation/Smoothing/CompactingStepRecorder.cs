@@ -499,61 +499,18 @@ public sealed class CompactingStepRecorder : IStepRecorder
         }
     }
 
-    /// <summary>
-    /// result = a fᵀ. When rows 4 to 7 of f are rows of the identity (the motion model carries yaw rate, acceleration, bias
-    /// and scale over), columns 4 to 7 of the result are those of a and only columns 0 to 3 are summed, in the same order
-    /// as the full product.
-    /// </summary>
+    /// <summary>result = a fᵀ, by <see cref="CarriedOverTransitionProduct"/> when f's rows 4 to 7 are rows of the identity.</summary>
     private static void MultiplyTransposed(in Matrix8 a, in Matrix8 f, ref Matrix8 result)
     {
-        if (!LowerRowsAreIdentity(f))
+        if (CarriedOverTransitionProduct.Applies(f))
         {
-            Matrix8 fT = default;
-            Transpose(f, ref fT);
-            MultiplyRows(a, fT, result);
+            CarriedOverTransitionProduct.Multiply(a, f, result);
             return;
         }
 
-        // Column l of f's first four rows: (a fᵀ)(i, 0..3) = Σ_l a(i, l) f(0..3, l).
-        ReadOnlySpan<double> fS = f;
-        Span<Vector256<double>> fColumns = stackalloc Vector256<double>[N];
-        for (int l = 0; l < N; l++)
-        {
-            fColumns[l] = Vector256.Create(fS[l], fS[N + l], fS[(2 * N) + l], fS[(3 * N) + l]);
-        }
-
-        ReadOnlySpan<double> aS = a;
-        ref double ar = ref MemoryMarshal.GetReference(aS);
-        Span<double> rS = result;
-        ref double rr = ref MemoryMarshal.GetReference(rS);
-        for (int i = 0; i < N; i++)
-        {
-            var lo = Vector256<double>.Zero;
-            for (int l = 0; l < N; l++)
-            {
-                lo += Vector256.Create(aS[(i * N) + l]) * fColumns[l];
-            }
-
-            lo.StoreUnsafe(ref rr, (nuint)(i * N));
-            Vector256.LoadUnsafe(ref ar, (nuint)((i * N) + 4)).StoreUnsafe(ref rr, (nuint)((i * N) + 4));
-        }
-    }
-
-    private static bool LowerRowsAreIdentity(in Matrix8 f)
-    {
-        ReadOnlySpan<double> fS = f;
-        for (int i = 4; i < N; i++)
-        {
-            for (int j = 0; j < N; j++)
-            {
-                if (fS[(i * N) + j] != (i == j ? 1.0 : 0.0))
-                {
-                    return false;
-                }
-            }
-        }
-
-        return true;
+        Matrix8 fT = default;
+        Transpose(f, ref fT);
+        MultiplyRows(a, fT, result);
     }
 
     /// <summary>

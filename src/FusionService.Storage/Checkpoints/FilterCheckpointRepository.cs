@@ -60,18 +60,8 @@ public sealed class FilterCheckpointRepository
     /// <param name="timeUs">Exclusive upper bound of what is deleted, Unix microseconds.</param>
     /// <param name="cancellationToken">Cancels the statement.</param>
     /// <returns>Number of checkpoints deleted.</returns>
-    public async Task<int> DeleteBeforeAsync(Guid fleetId, string vehicleId, long timeUs, CancellationToken cancellationToken = default)
-    {
-        ArgumentNullException.ThrowIfNull(vehicleId);
-        var connection = await _dataSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
-        await using (connection.ConfigureAwait(false))
-        {
-            return await connection.ExecuteAsync(new CommandDefinition(
-                "DELETE FROM filter_checkpoints WHERE fleet_id = @FleetId AND vehicle_id = @VehicleId AND time_us < @TimeUs",
-                new { FleetId = fleetId, VehicleId = vehicleId, TimeUs = timeUs },
-                cancellationToken: cancellationToken)).ConfigureAwait(false);
-        }
-    }
+    public Task<int> DeleteBeforeAsync(Guid fleetId, string vehicleId, long timeUs, CancellationToken cancellationToken = default) =>
+        DeleteAsync("time_us < @TimeUs", fleetId, vehicleId, timeUs, cancellationToken);
 
     /// <summary>Deletes the vehicle's checkpoints at or after <paramref name="timeUs"/> (kept: the older ones).</summary>
     /// <param name="fleetId">Owning fleet.</param>
@@ -79,14 +69,18 @@ public sealed class FilterCheckpointRepository
     /// <param name="timeUs">Inclusive lower bound of what is deleted, Unix microseconds.</param>
     /// <param name="cancellationToken">Cancels the statement.</param>
     /// <returns>Number of checkpoints deleted.</returns>
-    public async Task<int> DeleteFromAsync(Guid fleetId, string vehicleId, long timeUs, CancellationToken cancellationToken = default)
+    public Task<int> DeleteFromAsync(Guid fleetId, string vehicleId, long timeUs, CancellationToken cancellationToken = default) =>
+        DeleteAsync("time_us >= @TimeUs", fleetId, vehicleId, timeUs, cancellationToken);
+
+    /// <summary>Deletes the vehicle's checkpoints whose time meets <paramref name="timeCondition"/> (a constant of this class).</summary>
+    private async Task<int> DeleteAsync(string timeCondition, Guid fleetId, string vehicleId, long timeUs, CancellationToken cancellationToken)
     {
         ArgumentNullException.ThrowIfNull(vehicleId);
         var connection = await _dataSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
         await using (connection.ConfigureAwait(false))
         {
             return await connection.ExecuteAsync(new CommandDefinition(
-                "DELETE FROM filter_checkpoints WHERE fleet_id = @FleetId AND vehicle_id = @VehicleId AND time_us >= @TimeUs",
+                "DELETE FROM filter_checkpoints WHERE fleet_id = @FleetId AND vehicle_id = @VehicleId AND " + timeCondition,
                 new { FleetId = fleetId, VehicleId = vehicleId, TimeUs = timeUs },
                 cancellationToken: cancellationToken)).ConfigureAwait(false);
         }

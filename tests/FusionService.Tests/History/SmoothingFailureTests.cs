@@ -2,7 +2,6 @@
 using System.Net;
 using FusionService.Estimation.Measurements;
 using FusionService.Ingest;
-using FusionService.Storage.Measurements;
 using FusionService.Tests.Infrastructure;
 
 namespace FusionService.Tests.History;
@@ -38,12 +37,7 @@ public sealed class SmoothingFailureTests(ServiceFixture fixture)
         var rows = measurements.Select(m => IngestPipeline.ToRow(fleet.Id, Vehicle, m, DateTime.UtcNow)).ToList();
         int poisoned = rows.FindIndex(r => r.Kind == (short)SensorKind.WheelSpeed && r.TimeUs >= startUs + 30_000_000);
         rows[poisoned] = rows[poisoned] with { V0 = double.NaN };
-        await using (var connection = await fixture.Store.OpenConnectionAsync())
-        {
-            await using var transaction = await connection.BeginTransactionAsync();
-            Assert.Equal(rows.Count, (await MeasurementIngest.InsertNewAsync(connection, transaction, rows)).Count);
-            await transaction.CommitAsync();
-        }
+        await fixture.StoreWithoutTrackAsync(rows);
 
         using var client = fixture.Client(fleet.ReadKey);
         client.Timeout = TimeSpan.FromSeconds(60);

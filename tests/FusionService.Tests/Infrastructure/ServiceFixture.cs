@@ -4,6 +4,7 @@ using System.Net.Http.Headers;
 using System.Security.Cryptography;
 using FusionService.Storage.Cluster;
 using FusionService.Storage.Fleets;
+using FusionService.Storage.Measurements;
 using FusionService.Storage.Schemas;
 using Npgsql;
 
@@ -90,6 +91,18 @@ public sealed class ServiceFixture : IAsyncLifetime
         }
 
         return client;
+    }
+
+    /// <summary>
+    /// Commits <paramref name="rows"/> straight into the store as the ingest would, without handing them to any track (a
+    /// lost delivery, or data the ingest would never accept).
+    /// </summary>
+    public async Task StoreWithoutTrackAsync(IReadOnlyList<MeasurementRow> rows)
+    {
+        await using var connection = await Store.OpenConnectionAsync();
+        await using var transaction = await connection.BeginTransactionAsync();
+        Assert.Equal(rows.Count, (await MeasurementIngest.InsertNewAsync(connection, transaction, rows)).Count);
+        await transaction.CommitAsync();
     }
 
     /// <summary>Scalar query on the service's schema.</summary>

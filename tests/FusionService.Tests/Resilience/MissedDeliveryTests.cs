@@ -1,6 +1,5 @@
 // A committed batch that never reached its track (a grain call that timed out) is recovered from the store.
 using FusionService.Ingest;
-using FusionService.Storage.Measurements;
 using FusionService.Tests.Infrastructure;
 using FusionService.Tracking;
 using Microsoft.Extensions.DependencyInjection;
@@ -56,12 +55,6 @@ public sealed class MissedDeliveryTests(ServiceFixture fixture)
         Assert.Equal(uninterrupted.Response(Vehicle), await fixture.Client(fleet.ReadKey, host).StateAsync(Vehicle));
     }
 
-    private async Task StoreWithoutTrackAsync(Guid fleetId, string vehicle, IEnumerable<FusionService.Estimation.Measurements.Measurement> measurements)
-    {
-        var rows = measurements.Select(m => IngestPipeline.ToRow(fleetId, vehicle, m, DateTime.UtcNow)).ToList();
-        await using var connection = await fixture.Store.OpenConnectionAsync();
-        await using var transaction = await connection.BeginTransactionAsync();
-        Assert.Equal(rows.Count, (await MeasurementIngest.InsertNewAsync(connection, transaction, rows)).Count);
-        await transaction.CommitAsync();
-    }
+    private Task StoreWithoutTrackAsync(Guid fleetId, string vehicle, IEnumerable<FusionService.Estimation.Measurements.Measurement> measurements) =>
+        fixture.StoreWithoutTrackAsync([.. measurements.Select(m => IngestPipeline.ToRow(fleetId, vehicle, m, DateTime.UtcNow))]);
 }
