@@ -16,18 +16,33 @@ public sealed class CompactedSegment
     private Matrix8[] _covariances;
     private Matrix8[] _gains;
     private Vector8[] _predictedNext;
+    private readonly SegmentArrayPool? _pool;
 
     /// <summary>Creates an empty segment with room for <paramref name="capacity"/> instants before it grows.</summary>
     /// <param name="capacity">Initial capacity (at least 16 is taken).</param>
-    public CompactedSegment(int capacity = 16)
+    /// <param name="pool">Where the arrays come from and go back to (when the smoothed segment is disposed); null: new arrays.</param>
+    public CompactedSegment(int capacity = 16, SegmentArrayPool? pool = null)
     {
         capacity = Math.Max(capacity, 16);
-        _times = new long[capacity];
-        _planes = new LocalTangentPlane[capacity];
-        _means = new Vector8[capacity];
-        _covariances = new Matrix8[capacity];
-        _gains = new Matrix8[capacity];
-        _predictedNext = new Vector8[capacity];
+        _pool = pool;
+        if (pool is null)
+        {
+            _times = new long[capacity];
+            _planes = new LocalTangentPlane[capacity];
+            _means = new Vector8[capacity];
+            _covariances = new Matrix8[capacity];
+            _gains = new Matrix8[capacity];
+            _predictedNext = new Vector8[capacity];
+        }
+        else
+        {
+            _times = pool.RentTimes(capacity);
+            _planes = pool.RentPlanes(capacity);
+            _means = pool.RentVectors(capacity);
+            _covariances = pool.RentMatrices(capacity);
+            _gains = pool.RentMatrices(capacity);
+            _predictedNext = pool.RentVectors(capacity);
+        }
     }
 
     /// <summary>Number of recorded instants.</summary>
@@ -70,13 +85,7 @@ public sealed class CompactedSegment
     {
         if (Count == _times.Length)
         {
-            int size = _times.Length * 2;
-            Array.Resize(ref _times, size);
-            Array.Resize(ref _planes, size);
-            Array.Resize(ref _means, size);
-            Array.Resize(ref _covariances, size);
-            Array.Resize(ref _gains, size);
-            Array.Resize(ref _predictedNext, size);
+            Grow(_times.Length * 2);
         }
 
         _times[Count] = timeUs;
@@ -85,9 +94,10 @@ public sealed class CompactedSegment
     }
 
     /// <summary>
-    /// The smoothed states as a <see cref="SmoothedSegment"/>, sharing the arrays (not copied); they are trimmed to
-    /// <see cref="Count"/> first only when less than half of them is used, so that room made up front for a long window
-    /// the data did not fill is not held on to. The prediction array, needed only by the smoother, is released.
+    /// The smoothed states as a <see cref="SmoothedSegment"/>, sharing the arrays (not copied). Without a pool they are
+    /// trimmed to <see cref="Count"/> first when less than half of them is used, so that room made up front for a long
+    /// window the data did not fill is not held on to; pooled ones go back whole when the smoothed segment is disposed.
+    /// The prediction array, needed only by the smoother, is released.
     /// </summary>
     /// <exception cref="InvalidOperationException">The segment has not been smoothed.</exception>
     public SmoothedSegment ToSmoothedSegment()
@@ -97,7 +107,7 @@ public sealed class CompactedSegment
             throw new InvalidOperationException("smooth the segment first");
         }
 
-        if (Count < _times.Length / 2)
+        if (_pool is null && Count < _times.Length / 2)
         {
             Array.Resize(ref _times, Count);
             Array.Resize(ref _planes, Count);
@@ -106,7 +116,37 @@ public sealed class CompactedSegment
             Array.Resize(ref _gains, Count);
         }
 
+        _pool?.Return(_predictedNext);
         _predictedNext = [];
-        return new SmoothedSegment(_times, _planes, _means, _covariances, _gains, Count);
+        return new SmoothedSegment(_times, _planes, _means, _covariances, _gains, Count, _pool);
+    }
+
+    private void Grow(int size)
+    {
+        if (_pool is null)
+        {
+            Array.Resize(ref _times, size);
+            Array.Resize(ref _planes, size);
+            Array.Resize(ref _means, size);
+            Array.Resize(ref _covariances, size);
+            Array.Resize(ref _gains, size);
+            Array.Resize(ref _predictedNext, size);
+            return;
+        }
+
+        _times = Moved(_times, _pool.RentTimes(size), _pool.Return);
+        _planes = Moved(_planes, _pool.RentPlanes(size), _pool.Return);
+        _means = Moved(_means, _pool.RentVectors(size), _pool.Return);
+        _covariances = Moved(_covariances, _pool.RentMatrices(size), _pool.Return);
+        _gains = Moved(_gains, _pool.RentMatrices(size), _pool.Return);
+        _predictedNext = Moved(_predictedNext, _pool.RentVectors(size), _pool.Return);
+    }
+
+    /// <summary>Copies the first <see cref="Count"/> elements of <paramref name="from"/> into <paramref name="to"/> and gives <paramref name="from"/> back.</summary>
+    private T[] Moved<T>(T[] from, T[] to, Action<T[]> giveBack)
+    {
+        from.AsSpan(0, Count).CopyTo(to);
+        giveBack(from);
+        return to;
     }
 }

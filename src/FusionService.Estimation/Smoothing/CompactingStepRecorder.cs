@@ -49,6 +49,7 @@ public sealed class CompactingStepRecorder : IStepRecorder
 
     private readonly List<CompactedSegment> _segments = [];
     private int _expectedInstants;
+    private readonly SegmentArrayPool? _pool;
     private CompactedSegment? _segment;
     private int _r;
     private long _tR;
@@ -88,13 +89,15 @@ public sealed class CompactingStepRecorder : IStepRecorder
     /// or before it is kept. Default: keep everything.</param>
     /// <param name="expectedInstants">Room made in the first segment up front (it grows by doubling beyond it), so that a
     /// long window is not copied over and over while it fills; 0 lets it start small.</param>
-    public CompactingStepRecorder(long recordIntervalUs, long discardBeforeUs = long.MinValue, int expectedInstants = 0)
+    /// <param name="pool">Where the segments' arrays come from (see <see cref="SegmentArrayPool"/>); null: new arrays.</param>
+    public CompactingStepRecorder(long recordIntervalUs, long discardBeforeUs = long.MinValue, int expectedInstants = 0, SegmentArrayPool? pool = null)
     {
         ArgumentOutOfRangeException.ThrowIfNegative(recordIntervalUs);
         ArgumentOutOfRangeException.ThrowIfNegative(expectedInstants);
         RecordIntervalUs = recordIntervalUs;
         DiscardBeforeUs = discardBeforeUs;
         _expectedInstants = expectedInstants;
+        _pool = pool;
     }
 
     /// <summary>
@@ -116,7 +119,7 @@ public sealed class CompactingStepRecorder : IStepRecorder
     public void Start(long timeUs, in Vector8 x, in Matrix8 p, in LocalTangentPlane plane)
     {
         Complete();
-        _segment = new CompactedSegment(_expectedInstants);
+        _segment = new CompactedSegment(_expectedInstants, _pool);
         _expectedInstants = 0;
         _segments.Add(_segment);
         _r = _segment.Add(timeUs, plane);
@@ -555,45 +558,14 @@ public sealed class CompactingStepRecorder : IStepRecorder
         }
     }
 
-    private static bool IsIdentity(in Matrix8 f)
-    {
-        for (int i = 0; i < N; i++)
-        {
-            for (int j = 0; j < N; j++)
-            {
-                if (f[(i * N) + j] != (i == j ? 1.0 : 0.0))
-                {
-                    return false;
-                }
-            }
-        }
+    /// <summary>Whether <paramref name="f"/> is the identity bit for bit (what the filter hands over when no time passed).</summary>
+    private static bool IsIdentity(in Matrix8 f) => Same(f, IdentityMatrix8.Value);
 
-        return true;
-    }
+    /// <summary>Bitwise equality: a prediction over no time copies the posterior unchanged.</summary>
+    private static bool Same(in Vector8 a, in Vector8 b) =>
+        MemoryMarshal.AsBytes((ReadOnlySpan<double>)a).SequenceEqual(MemoryMarshal.AsBytes((ReadOnlySpan<double>)b));
 
-    private static bool Same(in Vector8 a, in Vector8 b)
-    {
-        for (int i = 0; i < N; i++)
-        {
-            if (a[i] != b[i])
-            {
-                return false;
-            }
-        }
-
-        return true;
-    }
-
-    private static bool Same(in Matrix8 a, in Matrix8 b)
-    {
-        for (int i = 0; i < Matrix8.Length; i++)
-        {
-            if (a[i] != b[i])
-            {
-                return false;
-            }
-        }
-
-        return true;
-    }
+    /// <summary>Bitwise equality, compared as bytes (vectorised) rather than element by element.</summary>
+    private static bool Same(in Matrix8 a, in Matrix8 b) =>
+        MemoryMarshal.AsBytes((ReadOnlySpan<double>)a).SequenceEqual(MemoryMarshal.AsBytes((ReadOnlySpan<double>)b));
 }

@@ -6,22 +6,26 @@ namespace FusionService.Estimation.Smoothing;
 /// <summary>The smoothed states of one continuous segment of a track, with the smoother gains that link them.</summary>
 /// <remarks>
 /// The arrays may be longer than <see cref="Count"/> (a recorder makes room up front); the properties show the first
-/// <see cref="Count"/> elements only, so nothing is copied to trim them.
+/// <see cref="Count"/> elements only, so nothing is copied to trim them. A segment whose arrays came from a
+/// <see cref="SegmentArrayPool"/> gives them back on <see cref="Dispose"/> and is empty afterwards; dispose it only when
+/// nothing reads it any more (spans taken before stay pointed at arrays another replay may then fill).
 /// </remarks>
-public sealed class SmoothedSegment
+public sealed class SmoothedSegment : IDisposable
 {
-    private readonly long[] _timesUs;
-    private readonly LocalTangentPlane[] _planes;
-    private readonly Vector8[] _means;
-    private readonly Matrix8[] _covariances;
-    private readonly Matrix8[] _gains;
+    private long[] _timesUs;
+    private LocalTangentPlane[] _planes;
+    private Vector8[] _means;
+    private Matrix8[] _covariances;
+    private Matrix8[] _gains;
+    private SegmentArrayPool? _pool;
 
     internal SmoothedSegment(long[] timesUs, LocalTangentPlane[] planes, Vector8[] means, Matrix8[] covariances, Matrix8[] gains)
         : this(timesUs, planes, means, covariances, gains, timesUs.Length)
     {
     }
 
-    internal SmoothedSegment(long[] timesUs, LocalTangentPlane[] planes, Vector8[] means, Matrix8[] covariances, Matrix8[] gains, int count)
+    internal SmoothedSegment(
+        long[] timesUs, LocalTangentPlane[] planes, Vector8[] means, Matrix8[] covariances, Matrix8[] gains, int count, SegmentArrayPool? pool = null)
     {
         ArgumentOutOfRangeException.ThrowIfNegative(count);
         if (count > timesUs.Length || count > planes.Length || count > means.Length || count > covariances.Length || count > gains.Length)
@@ -34,6 +38,7 @@ public sealed class SmoothedSegment
         _means = means;
         _covariances = covariances;
         _gains = gains;
+        _pool = pool;
         Count = count;
     }
 
@@ -52,6 +57,28 @@ public sealed class SmoothedSegment
     /// <summary>Smoother gains C(k) linking step k to step k + 1 (the last one is zero); Cov(x_k, x_k+1 | N) = C(k) P(k+1|N).</summary>
     public ReadOnlySpan<Matrix8> Gains => _gains.AsSpan(0, Count);
 
-    /// <summary>Number of steps.</summary>
-    public int Count { get; }
+    /// <summary>Number of steps (0 once disposed).</summary>
+    public int Count { get; private set; }
+
+    /// <summary>Gives pooled arrays back to their pool and empties the segment; does nothing for unpooled ones.</summary>
+    public void Dispose()
+    {
+        if (_pool is not { } pool)
+        {
+            return;
+        }
+
+        _pool = null;
+        Count = 0;
+        pool.Return(_timesUs);
+        pool.Return(_planes);
+        pool.Return(_means);
+        pool.Return(_covariances);
+        pool.Return(_gains);
+        _timesUs = [];
+        _planes = [];
+        _means = [];
+        _covariances = [];
+        _gains = [];
+    }
 }

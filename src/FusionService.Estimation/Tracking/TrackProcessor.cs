@@ -263,7 +263,7 @@ public sealed class TrackProcessor
         bool reanchor = Math.Abs(s.X[EastM]) > Options.ReanchorRadiusM || Math.Abs(s.X[NorthM]) > Options.ReanchorRadiusM;
         if (recorder is not null || reanchor)
         {
-            total = Identity();
+            total = IdentityMatrix8.Value;
         }
 
         if (reanchor)
@@ -308,7 +308,7 @@ public sealed class TrackProcessor
         double turn = Angles.WrapPi(Math.Atan2(aheadEnu.NorthM, aheadEnu.EastM) - heading);
         double c = Math.Cos(turn), si = Math.Sin(turn);
 
-        Matrix8 j = Identity();
+        Matrix8 j = IdentityMatrix8.Value;
         j[(EastM * N) + EastM] = c;
         j[(EastM * N) + NorthM] = -si;
         j[(NorthM * N) + EastM] = si;
@@ -580,17 +580,6 @@ public sealed class TrackProcessor
         double course = (0.5 * Math.PI) - headingRad;
         course %= 2.0 * Math.PI;
         return course < 0 ? course + (2.0 * Math.PI) : course;
-    }
-
-    private static Matrix8 Identity()
-    {
-        Matrix8 m = default;
-        for (int i = 0; i < N; i++)
-        {
-            m[(i * N) + i] = 1.0;
-        }
-
-        return m;
     }
 
     private static Matrix8 Multiply(in Matrix8 a, in Matrix8 b)

@@ -172,7 +172,7 @@ public static class HistoryEndpoints
         }
 
         long intervalUs = (long)Math.Round(options.Value.SmoothedIntervalS * 1e6);
-        var track = await smoother.BuildAsync(caller.FleetId, vehicle, fromUs, toUs, intervalUs, keepWheelSpeeds: true, http.RequestAborted).ConfigureAwait(false);
+        using var track = await smoother.BuildAsync(caller.FleetId, vehicle, fromUs, toUs, intervalUs, keepWheelSpeeds: true, http.RequestAborted).ConfigureAwait(false);
         DistanceEstimate smoothed = TrapezoidDistanceIntegrator.Integrate(track.Segments, fromUs, toUs);
         var odometer = new OdometerDistance();
         var scale = new ScaleLookup(track.Segments);

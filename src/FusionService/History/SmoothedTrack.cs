@@ -9,4 +9,16 @@ namespace FusionService.History;
 /// <param name="WheelSpeeds">Replayed wheel-speed measurements in canonical order (from the start of the replay); empty
 /// unless the build was asked to keep them.</param>
 /// <param name="FromCheckpoint">Whether the replay started from a stored checkpoint.</param>
-internal sealed record SmoothedTrack(IReadOnlyList<SmoothedSegment> Segments, IReadOnlyList<Measurement> WheelSpeeds, bool FromCheckpoint);
+/// <remarks>Dispose it when the response is written: the segments' arrays go back to the builder's pool.</remarks>
+internal sealed record SmoothedTrack(IReadOnlyList<SmoothedSegment> Segments, IReadOnlyList<Measurement> WheelSpeeds, bool FromCheckpoint)
+    : IDisposable
+{
+    /// <summary>Gives the segments' arrays back (the segments are empty afterwards).</summary>
+    public void Dispose()
+    {
+        foreach (SmoothedSegment segment in Segments)
+        {
+            segment.Dispose();
+        }
+    }
+}

@@ -18,7 +18,10 @@ namespace FusionService.History;
 /// </summary>
 internal sealed class SmoothedTrackBuilder(TrackProcessor processor, FusionDatabase database, IOptions<TrackHistoryOptions> options)
 {
-    /// <summary>Replays and smooths [<paramref name="fromUs"/>, <paramref name="toUs"/>).</summary>
+    /// <summary>Segment arrays shared by the requests (a vehicle-day's are about 36 MB; see <see cref="SegmentArrayPool"/>).</summary>
+    private readonly SegmentArrayPool _pool = new(MaxPreallocatedInstants);
+
+    /// <summary>Replays and smooths [<paramref name="fromUs"/>, <paramref name="toUs"/>); dispose the result when it has been written.</summary>
     /// <param name="fleetId">Caller's fleet.</param>
     /// <param name="vehicle">Vehicle id.</param>
     /// <param name="fromUs">Window start, Unix microseconds.</param>
@@ -54,7 +57,7 @@ internal sealed class SmoothedTrackBuilder(TrackProcessor processor, FusionDatab
         int expectedInstants = ExpectedInstants(fromUs, toUs, recordIntervalUs);
         Task<IReadOnlyList<SmoothedSegment>> replay = Task.Factory.StartNew(
             () => CompactedTrackReplay.Run(
-                processor, start, Collect(chunks, spare, skipUpTo, wheelSpeeds, stop.Token), recordIntervalUs, discardBeforeUs: fromUs, expectedInstants),
+                processor, start, Collect(chunks, spare, skipUpTo, wheelSpeeds, stop.Token), recordIntervalUs, discardBeforeUs: fromUs, expectedInstants, _pool),
             stop.Token,
             TaskCreationOptions.LongRunning,
             TaskScheduler.Default);

@@ -81,22 +81,25 @@ internal static class TrackPointSources
         }
     }
 
-    /// <summary>Smoothed states inside the window.</summary>
+    /// <summary>Smoothed states inside the window; <paramref name="track"/> is disposed when the enumeration ends.</summary>
     public static async IAsyncEnumerable<TrackPoint> SmoothedAsync(SmoothedTrack track, TrackRequest request)
     {
-        var decimator = new Decimator(request.StepUs);
-        for (int si = 0; si < track.Segments.Count; si++)
+        using (track)
         {
-            SmoothedSegment s = track.Segments[si];
-            for (int k = 0; k < s.Count; k++)
+            var decimator = new Decimator(request.StepUs);
+            for (int si = 0; si < track.Segments.Count; si++)
             {
-                long t = s.TimesUs[k];
-                if (t < request.FromUs || t >= request.ToUs || !decimator.Take(t))
+                SmoothedSegment s = track.Segments[si];
+                for (int k = 0; k < s.Count; k++)
                 {
-                    continue;
-                }
+                    long t = s.TimesUs[k];
+                    if (t < request.FromUs || t >= request.ToUs || !decimator.Take(t))
+                    {
+                        continue;
+                    }
 
-                yield return ToPoint(s, k, si);
+                    yield return ToPoint(s, k, si);
+                }
             }
         }
 
