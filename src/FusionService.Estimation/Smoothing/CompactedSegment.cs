@@ -94,6 +94,47 @@ public sealed class CompactedSegment
     }
 
     /// <summary>
+    /// Appends <paramref name="next"/>, the forward pass that continued from this segment's last state (a replay of the
+    /// same track split at a stored checkpoint): its first instant is that state, so it replaces this segment's last
+    /// one, whose link is already closed towards it. <paramref name="next"/> is empty afterwards (its pooled arrays go back).
+    /// </summary>
+    /// <exception cref="ArgumentException"><paramref name="next"/> does not start at this segment's last instant, or either is smoothed.</exception>
+    public void AppendContinuation(CompactedSegment next)
+    {
+        ArgumentNullException.ThrowIfNull(next);
+        if (IsSmoothed || next.IsSmoothed)
+        {
+            throw new ArgumentException("only segments not yet smoothed can be joined", nameof(next));
+        }
+
+        if (next.Count == 0)
+        {
+            return;
+        }
+
+        if (Count == 0 || _times[Count - 1] != next._times[0])
+        {
+            throw new ArgumentException("the continuation must start at this segment's last instant", nameof(next));
+        }
+
+        int at = Count - 1;
+        int length = at + next.Count;
+        if (length > _times.Length)
+        {
+            Grow(Math.Max(length, _times.Length * 2));
+        }
+
+        next._times.AsSpan(0, next.Count).CopyTo(_times.AsSpan(at));
+        next._planes.AsSpan(0, next.Count).CopyTo(_planes.AsSpan(at));
+        next._means.AsSpan(0, next.Count).CopyTo(_means.AsSpan(at));
+        next._covariances.AsSpan(0, next.Count).CopyTo(_covariances.AsSpan(at));
+        next._gains.AsSpan(0, next.Count).CopyTo(_gains.AsSpan(at));
+        next._predictedNext.AsSpan(0, next.Count).CopyTo(_predictedNext.AsSpan(at));
+        Count = length;
+        next.Release();
+    }
+
+    /// <summary>
     /// The smoothed states as a <see cref="SmoothedSegment"/>, sharing the arrays (not copied). Without a pool they are
     /// trimmed to <see cref="Count"/> first when less than half of them is used, so that room made up front for a long
     /// window the data did not fill is not held on to; pooled ones go back whole when the smoothed segment is disposed.
@@ -119,6 +160,28 @@ public sealed class CompactedSegment
         _pool?.Return(_predictedNext);
         _predictedNext = [];
         return new SmoothedSegment(_times, _planes, _means, _covariances, _gains, Count, _pool);
+    }
+
+    /// <summary>Empties the segment and gives pooled arrays back.</summary>
+    private void Release()
+    {
+        Count = 0;
+        if (_pool is { } pool)
+        {
+            pool.Return(_times);
+            pool.Return(_planes);
+            pool.Return(_means);
+            pool.Return(_covariances);
+            pool.Return(_gains);
+            pool.Return(_predictedNext);
+        }
+
+        _times = [];
+        _planes = [];
+        _means = [];
+        _covariances = [];
+        _gains = [];
+        _predictedNext = [];
     }
 
     private void Grow(int size)

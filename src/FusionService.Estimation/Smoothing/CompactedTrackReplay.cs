@@ -24,6 +24,15 @@ public static class CompactedTrackReplay
     /// <exception cref="ArgumentException">The measurements are not in canonical order.</exception>
     public static IReadOnlyList<SmoothedSegment> Run(
         TrackProcessor processor, in TrackState start, IEnumerable<Measurement> measurements, long recordIntervalUs, long discardBeforeUs = long.MinValue,
+        int expectedInstants = 0, SegmentArrayPool? pool = null) =>
+        Smooth([Forward(processor, start, measurements, recordIntervalUs, discardBeforeUs, expectedInstants, pool)]);
+
+    /// <summary>
+    /// The forward half of <see cref="Run"/>: filters and records, without smoothing. Parameters as for <see cref="Run"/>.
+    /// </summary>
+    /// <exception cref="ArgumentException">The measurements are not in canonical order.</exception>
+    public static ForwardPass Forward(
+        TrackProcessor processor, in TrackState start, IEnumerable<Measurement> measurements, long recordIntervalUs, long discardBeforeUs = long.MinValue,
         int expectedInstants = 0, SegmentArrayPool? pool = null)
     {
         ArgumentNullException.ThrowIfNull(processor);
@@ -64,8 +73,39 @@ public static class CompactedTrackReplay
         }
 
         recorder.Complete();
-        var result = new List<SmoothedSegment>(recorder.Segments.Count);
-        foreach (CompactedSegment segment in recorder.Segments)
+        return new ForwardPass(recorder.Segments, state);
+    }
+
+    /// <summary>
+    /// Smooths forward passes of consecutive stretches of one track: where a stretch started from the state the previous
+    /// one ended in (a stored checkpoint; the caller has checked that they are the same), the previous one's last
+    /// segment and its first are joined into one (<see cref="CompactedSegment.AppendContinuation"/>), so the backward
+    /// pass runs across the seam as if the stretches had been filtered in one go.
+    /// </summary>
+    /// <param name="parts">Forward passes in time order; each part after the first started from a running state.</param>
+    /// <returns>The smoothed segments in time order.</returns>
+    /// <exception cref="ArgumentException">A part does not begin where the previous one ended.</exception>
+    public static IReadOnlyList<SmoothedSegment> Smooth(IReadOnlyList<ForwardPass> parts)
+    {
+        ArgumentNullException.ThrowIfNull(parts);
+        var joined = new List<CompactedSegment>();
+        foreach (ForwardPass part in parts)
+        {
+            int from = 0;
+            if (joined.Count > 0 && part.Segments.Count > 0)
+            {
+                joined[^1].AppendContinuation(part.Segments[0]);
+                from = 1;
+            }
+
+            for (int i = from; i < part.Segments.Count; i++)
+            {
+                joined.Add(part.Segments[i]);
+            }
+        }
+
+        var result = new List<SmoothedSegment>(joined.Count);
+        foreach (CompactedSegment segment in joined)
         {
             CompactedRauchTungStriebelSmoother.Smooth(segment);
             result.Add(segment.ToSmoothedSegment());

@@ -1,0 +1,12 @@
+using FusionService.Estimation.Tracking;
+
+namespace FusionService.Estimation.Smoothing;
+
+/// <summary>
+/// The recorded forward pass of one stretch of a replay, before smoothing (<see cref="CompactedTrackReplay.Forward"/>),
+/// and the filter state it ended in: stretches of one track replayed side by side from stored checkpoints are joined
+/// by <see cref="CompactedTrackReplay.Smooth"/> when each one's end state is the next one's start.
+/// </summary>
+/// <param name="Segments">Closed segments in time order (a track reset starts a new one).</param>
+/// <param name="End">Filter state after the last measurement processed.</param>
+public sealed record ForwardPass(IReadOnlyList<CompactedSegment> Segments, TrackState End);
