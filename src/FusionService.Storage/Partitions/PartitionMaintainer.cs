@@ -1,9 +1,10 @@
-// Creates daily partitions ahead of time and drops those past the retention.
+// Creates daily partitions ahead of time and drops those (and old filter checkpoints) past the retention.
 using System.Buffers.Binary;
 using System.Globalization;
 using System.Security.Cryptography;
 using System.Text;
 using Dapper;
+using FusionService.Storage.Checkpoints;
 using FusionService.Storage.Logging;
 using Microsoft.Extensions.Logging;
 using Microsoft.Extensions.Logging.Abstractions;
@@ -89,7 +90,8 @@ public sealed class PartitionMaintainer
 
     /// <summary>
     /// Creates the partitions of <paramref name="today"/> - DaysBack through <paramref name="today"/> + DaysAhead
-    /// that are missing, then drops those of days before <paramref name="today"/> - RetentionDays.
+    /// that are missing, then drops those of days before <paramref name="today"/> - RetentionDays and deletes the filter
+    /// checkpoints older than that day (each vehicle keeps its newest, where its track restarts).
     /// </summary>
     /// <param name="today">The UTC day the window is centred on.</param>
     /// <param name="cancellationToken">Cancels the round between statements.</param>
@@ -97,8 +99,11 @@ public sealed class PartitionMaintainer
     {
         var created = await EnsurePartitionsAsync(
             today.AddDays(-_options.DaysBack), today.AddDays(_options.DaysAhead), cancellationToken).ConfigureAwait(false);
-        var dropped = await DropPartitionsBeforeAsync(today.AddDays(-_options.RetentionDays), cancellationToken).ConfigureAwait(false);
-        return new PartitionMaintenanceResult(created, dropped);
+        DateOnly firstKeptDay = today.AddDays(-_options.RetentionDays);
+        var dropped = await DropPartitionsBeforeAsync(firstKeptDay, cancellationToken).ConfigureAwait(false);
+        long firstKeptUs = (firstKeptDay.ToDateTime(TimeOnly.MinValue, DateTimeKind.Utc).Ticks - DateTime.UnixEpoch.Ticks) / 10;
+        int checkpoints = await new FilterCheckpointRepository(_dataSource).DeleteOlderThanAsync(firstKeptUs, cancellationToken).ConfigureAwait(false);
+        return new PartitionMaintenanceResult(created, dropped, checkpoints);
     }
 
     /// <summary>Creates the missing daily partitions from <paramref name="firstDay"/> through

@@ -171,8 +171,22 @@ public static class HistoryEndpoints
             return NotFound(vehicle);
         }
 
+        // The raw-fix polyline is read while the smoothed track is built (two connections; the build is the long part).
+        Task<double> polylineLength = PolylineLengthAsync(database, caller.FleetId, vehicle, fromUs, toUs, http.RequestAborted);
         long intervalUs = (long)Math.Round(options.Value.SmoothedIntervalS * 1e6);
-        using var track = await smoother.BuildAsync(caller.FleetId, vehicle, fromUs, toUs, intervalUs, keepWheelSpeeds: true, http.RequestAborted).ConfigureAwait(false);
+        SmoothedTrack track;
+        try
+        {
+            track = await smoother.BuildAsync(caller.FleetId, vehicle, fromUs, toUs, intervalUs, keepWheelSpeeds: true, http.RequestAborted).ConfigureAwait(false);
+        }
+        catch
+        {
+            // The polyline's own outcome does not matter any more; it must not go unobserved.
+            _ = polylineLength.ContinueWith(t => t.Exception, CancellationToken.None, TaskContinuationOptions.OnlyOnFaulted, TaskScheduler.Default);
+            throw;
+        }
+
+        using var disposeTrack = track;
         DistanceEstimate smoothed = TrapezoidDistanceIntegrator.Integrate(track.Segments, fromUs, toUs);
         var odometer = new OdometerDistance();
         var scale = new ScaleLookup(track.Segments);
@@ -184,9 +198,19 @@ public static class HistoryEndpoints
             }
         }
 
+        double rawLengthM = await polylineLength.ConfigureAwait(false);
+        return TypedResults.Ok(new DistanceResponse(
+            vehicle, HistoryTime.Format(fromUs), HistoryTime.Format(toUs), smoothed.DistanceM, smoothed.SigmaM, rawLengthM,
+            odometer.DistanceM, smoothed.StationaryS, Caution));
+    }
+
+    /// <summary>Length of the polyline through the stored GNSS fixes of the window (duplicates left out), metres.</summary>
+    private static async Task<double> PolylineLengthAsync(
+        FusionDatabase database, Guid fleetId, string vehicle, long fromUs, long toUs, CancellationToken cancellationToken)
+    {
         var polyline = new PolylineLength();
         await foreach (var s in new TrackHistoryReader(database.DataSource).StreamMeasurementsAsync(
-            caller.FleetId, vehicle, fromUs, toUs, (short)SensorKind.GnssPosition, (short)SensorKind.GnssPosition, http.RequestAborted).ConfigureAwait(false))
+            fleetId, vehicle, fromUs, toUs, (short)SensorKind.GnssPosition, (short)SensorKind.GnssPosition, cancellationToken).ConfigureAwait(false))
         {
             if (s.Outcome != Storage.Measurements.MeasurementOutcome.Duplicate && s.V1 is { } lon)
             {
@@ -194,9 +218,7 @@ public static class HistoryEndpoints
             }
         }
 
-        return TypedResults.Ok(new DistanceResponse(
-            vehicle, HistoryTime.Format(fromUs), HistoryTime.Format(toUs), smoothed.DistanceM, smoothed.SigmaM, polyline.LengthM,
-            odometer.DistanceM, smoothed.StationaryS, Caution));
+        return polyline.LengthM;
     }
 
     /// <summary>The format named by <paramref name="format"/>, else the best one the Accept header allows (JSON by default); null when unknown.</summary>

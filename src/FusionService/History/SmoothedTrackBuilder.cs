@@ -4,6 +4,7 @@ using FusionService.Database;
 using FusionService.Estimation.Measurements;
 using FusionService.Estimation.Smoothing;
 using FusionService.Estimation.Tracking;
+using FusionService.Operations;
 using FusionService.Storage.Checkpoints;
 using FusionService.Storage.History;
 using Microsoft.Extensions.Options;
@@ -14,9 +15,19 @@ namespace FusionService.History;
 /// Builds the smoothed track of one vehicle over a window: restores the newest stored checkpoint at or before the
 /// window start (as <c>VehicleTrackGrain</c> restores, but without skipping measurements stored as too late), replays
 /// every stored measurement after it except duplicates in canonical order, with no lag window (so late measurements the
-/// live filter could not use are in their place), and smooths with <see cref="CompactedTrackReplay"/>.
+/// live filter could not use are in their place), and smooths with the bounded-memory RTS smoother
+/// (<see cref="CompactedTrackReplay"/>).
 /// </summary>
-internal sealed class SmoothedTrackBuilder(TrackProcessor processor, FusionDatabase database, IOptions<TrackHistoryOptions> options)
+/// <remarks>
+/// A long window is replayed in stretches side by side (<see cref="TrackHistoryOptions.ReplayStretches"/>): split at
+/// the checkpoints the track stored inside it, each stretch filtered from its checkpoint on its own thread with its own
+/// read. A stretch is joined to the next only if it ended in exactly the state of the checkpoint the next one started
+/// from (compared byte for byte in the checkpoint encoding) — which fails when a measurement stored as too late lies
+/// before that checkpoint — otherwise the rest is replayed again from where it ended, so the result is always the one
+/// replay in a single stretch gives (<c>CompactedTrackReplay.Smooth</c>; tests: <c>SplitReplayTests</c>).
+/// </remarks>
+internal sealed class SmoothedTrackBuilder(
+    TrackProcessor processor, FusionDatabase database, IOptions<TrackHistoryOptions> options, ServiceMetrics metrics, ILogger<SmoothedTrackBuilder> logger)
 {
     /// <summary>Segment arrays shared by the requests (a vehicle-day's are about 36 MB; see <see cref="SegmentArrayPool"/>).</summary>
     private readonly SegmentArrayPool _pool = new(MaxPreallocatedInstants);
@@ -36,8 +47,8 @@ internal sealed class SmoothedTrackBuilder(TrackProcessor processor, FusionDatab
         long readFromUs = fromUs - leadUs;
         TrackState start = TrackState.Empty;
         Measurement? floor = null;
-        var checkpoint = await new FilterCheckpointRepository(database.DataSource)
-            .NewestCheckpointBeforeAsync(fleetId, vehicle, fromUs + 1, cancellationToken).ConfigureAwait(false);
+        var checkpoints = new FilterCheckpointRepository(database.DataSource);
+        var checkpoint = await checkpoints.NewestCheckpointBeforeAsync(fleetId, vehicle, fromUs + 1, cancellationToken).ConfigureAwait(false);
         if (checkpoint is { } row && row.PayloadVersion == TrackStateCodec.Version && row.TimeUs >= readFromUs)
         {
             var (state, last) = TrackStateCodec.Decode(row.Payload.Span);
@@ -46,18 +57,125 @@ internal sealed class SmoothedTrackBuilder(TrackProcessor processor, FusionDatab
             readFromUs = last.TimeUs;
         }
 
+        var seams = await SeamsAsync(checkpoints, fleetId, vehicle, Math.Max(fromUs, readFromUs), toUs, cancellationToken).ConfigureAwait(false);
+        var stretches = new List<Stretch>(seams.Count + 1);
+        Stretch first = new(start, floor, readFromUs, seams.Count > 0 ? seams[0].Last : null, toUs);
+        stretches.Add(first);
+        for (int i = 0; i < seams.Count; i++)
+        {
+            stretches.Add(new Stretch(seams[i].State, seams[i].Last, seams[i].Last.TimeUs, i + 1 < seams.Count ? seams[i + 1].Last : null, toUs));
+        }
+
+        var replays = stretches.Select(s => ReplayAsync(fleetId, vehicle, s, fromUs, toUs, recordIntervalUs, keepWheelSpeeds, cancellationToken)).ToList();
+        // WhenAll waits for every stretch, so none is left running when a failure is reported.
+        await Task.WhenAll(replays).ConfigureAwait(false);
+
+        var passes = new List<ForwardPass>(replays.Count);
+        var wheelSpeeds = new List<Measurement>();
+        int seamMisses = 0;
+        for (int i = 0; i < replays.Count; i++)
+        {
+            var (pass, wheels) = await replays[i].ConfigureAwait(false);
+            passes.Add(pass);
+            wheelSpeeds.AddRange(wheels);
+            if (i < seams.Count && !EndsAt(pass.End, seams[i]))
+            {
+                // The stretch did not end in the stored state (a measurement stored as too late before the checkpoint,
+                // say): the rest of the window is replayed again from where this stretch ended.
+                logger.LogInformation(
+                    "Smoothed track of {Vehicle}: the replay did not reach the stored checkpoint at {TimeUs}; replaying the rest of the window from there",
+                    vehicle, seams[i].Last.TimeUs);
+                var (rest, restWheels) = await ReplayAsync(
+                    fleetId, vehicle, new Stretch(pass.End, seams[i].Last, seams[i].Last.TimeUs, null, toUs), fromUs, toUs, recordIntervalUs, keepWheelSpeeds,
+                    cancellationToken).ConfigureAwait(false);
+                passes.Add(rest);
+                wheelSpeeds.AddRange(restWheels);
+                seamMisses++;
+                break;
+            }
+        }
+
+        metrics.CountSmoothingReplay(stretches.Count, seamMisses);
+        return new SmoothedTrack(CompactedTrackReplay.Smooth(passes), wheelSpeeds, floor is not null);
+    }
+
+    /// <summary>
+    /// Checkpoints inside the window to split the replay at: running states of the current encoding, at most
+    /// <see cref="TrackHistoryOptions.ReplayStretches"/> - 1 of them, spread so the stretches hold about as many
+    /// checkpoint intervals each (the track stores one per spacing of data time, so about as much data).
+    /// </summary>
+    private async Task<IReadOnlyList<Seam>> SeamsAsync(
+        FilterCheckpointRepository checkpoints, Guid fleetId, string vehicle, long afterUs, long beforeUs, CancellationToken cancellationToken)
+    {
+        int stretches = options.Value.ReplayStretches;
+        if (stretches <= 1)
+        {
+            return [];
+        }
+
+        var rows = await checkpoints.CheckpointsBetweenAsync(fleetId, vehicle, afterUs, beforeUs, cancellationToken).ConfigureAwait(false);
+        var usable = new List<Seam>(rows.Count);
+        foreach (var row in rows)
+        {
+            if (row.PayloadVersion != TrackStateCodec.Version)
+            {
+                continue;
+            }
+
+            var (state, last) = TrackStateCodec.Decode(row.Payload.Span);
+            if (state.Phase == TrackPhase.Running)
+            {
+                usable.Add(new Seam(state, last, row.Payload));
+            }
+        }
+
+        // With c checkpoints there are c + 1 intervals (the last one partial); stretch i starts at about i (c + 1) / n.
+        int parts = Math.Min(stretches, usable.Count + 1);
+        var seams = new List<Seam>(parts - 1);
+        for (int i = 1; i < parts; i++)
+        {
+            int index = (int)Math.Round(i * (usable.Count + 1) / (double)parts) - 1;
+            index = Math.Clamp(index, 0, usable.Count - 1);
+            if (seams.Count == 0 || VehicleTrack.CompareKey(usable[index].Last, seams[^1].Last) > 0)
+            {
+                seams.Add(usable[index]);
+            }
+        }
+
+        return seams;
+    }
+
+    /// <summary>Whether <paramref name="end"/> is the checkpoint's state, byte for byte in its encoding.</summary>
+    private static bool EndsAt(in TrackState end, Seam seam)
+    {
+        Span<byte> encoded = stackalloc byte[TrackStateCodec.EncodedLength];
+        TrackStateCodec.EncodeInto(end, seam.Last, encoded);
+        return encoded.SequenceEqual(seam.Payload.Span);
+    }
+
+    /// <summary>Reads one stretch's measurements and runs its forward pass, the two overlapped.</summary>
+    private async Task<(ForwardPass Pass, List<Measurement> WheelSpeeds)> ReplayAsync(
+        Guid fleetId, string vehicle, Stretch stretch, long fromUs, long toUs, long recordIntervalUs, bool keepWheelSpeeds, CancellationToken cancellationToken)
+    {
         // Reading (a PostgreSQL backend scanning the rows) and the replay (this process filtering them) overlap: the
-        // rows go over in chunks to a replay thread, so when a core is free the request takes about the longer of the
+        // rows go over in chunks to a replay thread, so when a core is free the stretch takes about the longer of the
         // two instead of their sum (on a loaded machine little is gained: docs/benchmarks.md, smoothed track of a vehicle-day).
-        List<Measurement>? wheelSpeeds = keepWheelSpeeds ? [] : null;
+        List<Measurement> wheelSpeeds = [];
         using var chunks = new BlockingCollection<Chunk>();
         using var spare = new BlockingCollection<Measurement[]>();
         using var stop = CancellationTokenSource.CreateLinkedTokenSource(cancellationToken);
-        Measurement? skipUpTo = floor;
-        int expectedInstants = ExpectedInstants(fromUs, toUs, recordIntervalUs);
-        Task<IReadOnlyList<SmoothedSegment>> replay = Task.Factory.StartNew(
-            () => CompactedTrackReplay.Run(
-                processor, start, Collect(chunks, spare, skipUpTo, wheelSpeeds, stop.Token), recordIntervalUs, discardBeforeUs: fromUs, expectedInstants, _pool),
+        long readToUs = stretch.Ceiling is { } ceiling ? Math.Min(ceiling.TimeUs + 1, toUs) : toUs;
+        int expectedInstants = ExpectedInstants(Math.Max(fromUs, stretch.ReadFromUs), readToUs, recordIntervalUs);
+        TrackState start = stretch.Start;
+        Task<ForwardPass> replay = Task.Factory.StartNew(
+            () => CompactedTrackReplay.Forward(
+                processor,
+                start,
+                Collect(chunks, spare, stretch.Floor, stretch.Ceiling, keepWheelSpeeds ? wheelSpeeds : null, stop.Token),
+                recordIntervalUs,
+                discardBeforeUs: fromUs,
+                expectedInstants,
+                _pool),
             stop.Token,
             TaskCreationOptions.LongRunning,
             TaskScheduler.Default);
@@ -87,8 +205,8 @@ internal sealed class SmoothedTrackBuilder(TrackProcessor processor, FusionDatab
             await reader.ReadReplayMeasurementsAsync(
                 fleetId,
                 vehicle,
-                readFromUs,
-                toUs,
+                stretch.ReadFromUs,
+                readToUs,
                 0,
                 (short)SensorKind.Imu,
                 s =>
@@ -133,8 +251,7 @@ internal sealed class SmoothedTrackBuilder(TrackProcessor processor, FusionDatab
             }
         }
 
-        var segments = await replay.ConfigureAwait(false);
-        return new SmoothedTrack(segments, wheelSpeeds ?? [], floor is not null);
+        return (await replay.ConfigureAwait(false), wheelSpeeds);
     }
 
     /// <summary>
@@ -155,11 +272,11 @@ internal sealed class SmoothedTrackBuilder(TrackProcessor processor, FusionDatab
 
     /// <summary>
     /// The measurements of <paramref name="chunks"/> in order, without those at or before <paramref name="floor"/> (already
-    /// in the checkpoint); wheel speeds also appended to <paramref name="wheelSpeeds"/> when given. Each finished chunk's
-    /// array goes back through <paramref name="spare"/>.
+    /// in the checkpoint) or after <paramref name="ceiling"/> (the next stretch's); wheel speeds also appended to
+    /// <paramref name="wheelSpeeds"/> when given. Each finished chunk's array goes back through <paramref name="spare"/>.
     /// </summary>
     private static IEnumerable<Measurement> Collect(
-        BlockingCollection<Chunk> chunks, BlockingCollection<Measurement[]> spare, Measurement? floor, List<Measurement>? wheelSpeeds,
+        BlockingCollection<Chunk> chunks, BlockingCollection<Measurement[]> spare, Measurement? floor, Measurement? ceiling, List<Measurement>? wheelSpeeds,
         CancellationToken cancellationToken)
     {
         foreach (Chunk chunk in chunks.GetConsumingEnumerable(cancellationToken))
@@ -167,7 +284,7 @@ internal sealed class SmoothedTrackBuilder(TrackProcessor processor, FusionDatab
             for (int i = 0; i < chunk.Count; i++)
             {
                 Measurement m = chunk.Items[i];
-                if (floor is { } f && VehicleTrack.CompareKey(m, f) <= 0)
+                if ((floor is { } f && VehicleTrack.CompareKey(m, f) <= 0) || (ceiling is { } c && VehicleTrack.CompareKey(m, c) > 0))
                 {
                     continue;
                 }
@@ -186,4 +303,13 @@ internal sealed class SmoothedTrackBuilder(TrackProcessor processor, FusionDatab
 
     /// <summary>The first <paramref name="Count"/> measurements of <paramref name="Items"/>.</summary>
     private readonly record struct Chunk(Measurement[] Items, int Count);
+
+    /// <summary>A stored checkpoint a replay may be split at: its state, the last measurement in it, and its encoding.</summary>
+    private sealed record Seam(TrackState State, Measurement Last, ReadOnlyMemory<byte> Payload);
+
+    /// <summary>
+    /// One stretch of a replay: the state it starts from and the last measurement in that state (null: the empty state),
+    /// where its read starts, the last measurement it takes (null: up to <paramref name="ToUs"/>).
+    /// </summary>
+    private sealed record Stretch(TrackState Start, Measurement? Floor, long ReadFromUs, Measurement? Ceiling, long ToUs);
 }

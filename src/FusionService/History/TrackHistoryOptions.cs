@@ -28,6 +28,14 @@ public sealed class TrackHistoryOptions
     [Range(0, 48)]
     public double ReplayLeadHours { get; set; } = 2;
 
+    /// <summary>
+    /// Stretches a smoothed-track replay is split into at most, each filtered on its own thread from a checkpoint the
+    /// track stored inside the window (see <c>Tracks:HistoryCheckpointSpacingMin</c>); 1 replays in one go. The result is
+    /// the same either way. Default: the number of processors, at most 8.
+    /// </summary>
+    [Range(1, 64)]
+    public int ReplayStretches { get; set; } = Math.Clamp(Environment.ProcessorCount, 1, 8);
+
     /// <summary>Points written between two flushes of a streamed response. Default 512.</summary>
     [Range(1, 1_000_000)]
     public int FlushEveryPoints { get; set; } = 512;

@@ -6,7 +6,8 @@ namespace FusionService.Operations;
 
 /// <summary>
 /// The service's metrics, written in the Prometheus text exposition format (version 0.0.4): messages ingested by
-/// status, measurements gated by the filter, the write-queue depth and a histogram of group-commit latency.
+/// status, measurements gated by the filter, smoothing replays and their stretches, the write-queue depth and a histogram
+/// of group-commit latency.
 /// </summary>
 public sealed class ServiceMetrics
 {
@@ -24,6 +25,9 @@ public sealed class ServiceMetrics
     private readonly long[] _lagBucketCounts = new long[LagBucketsS.Length];
     private long _lagCount;
     private double _lagSumS;
+    private long _smoothingReplays;
+    private long _smoothingStretches;
+    private long _smoothingSeamMisses;
 
     /// <summary>Reads the current depth of the ingest write queue (set by the writer).</summary>
     public Func<int> QueueDepth { get; set; } = () => 0;
@@ -44,6 +48,23 @@ public sealed class ServiceMetrics
 
     /// <summary>Counts a measurement rejected by the filter's gate.</summary>
     public void CountGated() => Interlocked.Increment(ref _gated);
+
+    /// <summary>
+    /// Counts one smoothing replay (smoothed track or distance request): the stretches it was split into and how many
+    /// times a stretch did not end in the stored checkpoint the next one started from (the rest was then replayed again).
+    /// </summary>
+    public void CountSmoothingReplay(int stretches, int seamMisses)
+    {
+        Interlocked.Increment(ref _smoothingReplays);
+        Interlocked.Add(ref _smoothingStretches, stretches);
+        Interlocked.Add(ref _smoothingSeamMisses, seamMisses);
+    }
+
+    /// <summary>Stretches replayed by all smoothing replays so far (a replay in one go counts one).</summary>
+    public long SmoothingStretches => Interlocked.Read(ref _smoothingStretches);
+
+    /// <summary>Stretches that did not end in the stored checkpoint the next one started from, so far.</summary>
+    public long SmoothingSeamMisses => Interlocked.Read(ref _smoothingSeamMisses);
 
     /// <summary>Records one group commit.</summary>
     public void ObserveCommit(double seconds, int rows)
@@ -93,6 +114,15 @@ public sealed class ServiceMetrics
         text.Append("# HELP fusion_gated_measurements_total Measurements rejected by the filter's chi-square gate.\n");
         text.Append("# TYPE fusion_gated_measurements_total counter\n");
         text.Append(c, $"fusion_gated_measurements_total {Interlocked.Read(ref _gated)}\n");
+        text.Append("# HELP fusion_smoothing_replays_total Smoothed-track and distance replays.\n");
+        text.Append("# TYPE fusion_smoothing_replays_total counter\n");
+        text.Append(c, $"fusion_smoothing_replays_total {Interlocked.Read(ref _smoothingReplays)}\n");
+        text.Append("# HELP fusion_smoothing_stretches_total Stretches those replays were split into (run side by side from stored checkpoints).\n");
+        text.Append("# TYPE fusion_smoothing_stretches_total counter\n");
+        text.Append(c, $"fusion_smoothing_stretches_total {SmoothingStretches}\n");
+        text.Append("# HELP fusion_smoothing_seam_misses_total Stretches that did not end in the next one's checkpoint (too-late data before it); the rest was replayed again.\n");
+        text.Append("# TYPE fusion_smoothing_seam_misses_total counter\n");
+        text.Append(c, $"fusion_smoothing_seam_misses_total {SmoothingSeamMisses}\n");
         text.Append("# HELP fusion_write_queue_depth Requests waiting for the group-commit writer.\n");
         text.Append("# TYPE fusion_write_queue_depth gauge\n");
         text.Append(c, $"fusion_write_queue_depth {QueueDepth()}\n");

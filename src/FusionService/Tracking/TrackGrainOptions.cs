@@ -13,6 +13,15 @@ public sealed class TrackGrainOptions
     [Range(0, 3600)]
     public double CheckpointIntervalS { get; set; } = 10;
 
+    /// <summary>
+    /// Data-time minutes between the filter checkpoints kept as history: a smoothed-track request starts its replay from
+    /// the newest one before its window and splits a long window at the ones inside it, replaying the stretches side by
+    /// side. A checkpoint is also written as soon as the track has moved on this far in data time (an upload of a past
+    /// day gets them too). 0 keeps only the newest checkpoint. Default 10.
+    /// </summary>
+    [Range(0, 1440)]
+    public double HistoryCheckpointSpacingMin { get; set; } = 10;
+
     /// <summary>Longest gap in data time between two stored fused states while data arrive, seconds. Default 1.</summary>
     [Range(0.01, 3600)]
     public double FusedStateIntervalS { get; set; } = 1;

@@ -44,6 +44,10 @@ internal sealed class VehicleTrackGrain(
     private string _vehicleId = string.Empty;
     private long _lastEmitUs = long.MinValue;
     private long _lastPersistedUs = long.MinValue;
+    private readonly long _historySpacingUs = (long)Math.Round(options.Value.HistoryCheckpointSpacingMin * 6e7);
+
+    // The newest stored checkpoint kept as history (see TrackGrainOptions.HistoryCheckpointSpacingMin).
+    private long _lastHistoryUs = long.MinValue;
     private DateTimeOffset _lastPersistAt;
     private VehicleAlertMonitor? _monitor;
     private bool _stale;
@@ -69,6 +73,7 @@ internal sealed class VehicleTrackGrain(
             floor = last;
             fromUs = last.TimeUs;
             _lastPersistedUs = last.TimeUs;
+            _lastHistoryUs = last.TimeUs;
         }
 
         var stored = await gate.RunAsync(
@@ -146,7 +151,7 @@ internal sealed class VehicleTrackGrain(
 
         FlushWrites();
         await (_monitor?.FlushAsync(live: true, time.GetUtcNow()) ?? Task.CompletedTask);
-        if ((time.GetUtcNow() - _lastPersistAt).TotalSeconds >= options.Value.CheckpointIntervalS)
+        if ((time.GetUtcNow() - _lastPersistAt).TotalSeconds >= options.Value.CheckpointIntervalS || HistoryCheckpointDue())
         {
             await PersistCheckpointAsync();
         }
@@ -218,11 +223,21 @@ internal sealed class VehicleTrackGrain(
                 anchor.LongitudeDeg,
                 TrackStateCodec.Version,
                 TrackStateCodec.Encode(state, lastMeasurement)));
-            await checkpoints.DeleteBeforeAsync(_fleetId, _vehicleId, lastMeasurement.TimeUs);
+            // The checkpoints between the newest one kept as history and this one are superseded by it.
+            await checkpoints.DeleteBetweenAsync(_fleetId, _vehicleId, _historySpacingUs > 0 ? _lastHistoryUs : long.MinValue, lastMeasurement.TimeUs);
             return true;
         });
         _lastPersistedUs = lastMeasurement.TimeUs;
+        if (_historySpacingUs > 0 && (_lastHistoryUs == long.MinValue || lastMeasurement.TimeUs - _lastHistoryUs >= _historySpacingUs))
+        {
+            _lastHistoryUs = lastMeasurement.TimeUs;
+        }
     }
+
+    /// <summary>Whether the track's base checkpoint has moved a history spacing past the newest one kept.</summary>
+    private bool HistoryCheckpointDue() =>
+        _historySpacingUs > 0 && _track.BaseCheckpoint.Last is { } last
+        && (_lastHistoryUs == long.MinValue || last.TimeUs - _lastHistoryUs >= _historySpacingUs);
 
     void ITrackObserver.OnOutcome(in Measurement m, in CoreOutcome outcome, in TrackState posterior, bool isReplay)
     {

@@ -1,4 +1,4 @@
-// Checkpoints: upsert replaces, newest strictly before an instant, per vehicle.
+// Checkpoints: upsert replaces, newest strictly before an instant, listing and deleting ranges, retention, per vehicle.
 using FusionService.Storage.Checkpoints;
 using FusionService.Storage.Fleets;
 using FusionService.Storage.Tests.Infrastructure;
@@ -31,19 +31,66 @@ public sealed class FilterCheckpointRepositoryTests(PostgresFixture server)
     }
 
     [Fact]
-    public async Task Delete_before_keeps_the_newer_checkpoints_of_that_vehicle_only()
+    public async Task Delete_between_keeps_both_bounds_and_the_other_vehicles()
     {
         await using var schema = await server.NewMigratedSchemaAsync();
         var fleet = await new FleetAdmin(schema.DataSource).CreateFleetAsync("pruned fleet");
         var repository = new FilterCheckpointRepository(schema.DataSource);
         var t = TestTimes.At(TestTimes.Day, 12, 0, 0, 0);
-        await repository.UpsertAsync(Checkpoint(fleet, "van-1", t, 1));
-        await repository.UpsertAsync(Checkpoint(fleet, "van-1", t + 10_000_000, 2));
-        await repository.UpsertAsync(Checkpoint(fleet, "van-2", t, 3));
-        Assert.Equal(1, await repository.DeleteBeforeAsync(fleet, "van-1", t + 10_000_000));
-        Assert.Equal(t + 10_000_000, (await repository.NewestCheckpointBeforeAsync(fleet, "van-1", long.MaxValue))?.TimeUs);
-        Assert.Null(await repository.NewestCheckpointBeforeAsync(fleet, "van-1", t + 10_000_000));
-        Assert.Equal(t, (await repository.NewestCheckpointBeforeAsync(fleet, "van-2", long.MaxValue))?.TimeUs);
+        for (int i = 0; i < 4; i++)
+        {
+            await repository.UpsertAsync(Checkpoint(fleet, "van-1", t + (i * 10_000_000), i));
+        }
+
+        await repository.UpsertAsync(Checkpoint(fleet, "van-2", t + 10_000_000, 9));
+        Assert.Equal(2, await repository.DeleteBetweenAsync(fleet, "van-1", t, t + 30_000_000));
+        var left = await repository.CheckpointsBetweenAsync(fleet, "van-1", long.MinValue, long.MaxValue);
+        Assert.Equal([t, t + 30_000_000], left.Select(c => c.TimeUs));
+        Assert.Equal(t + 10_000_000, (await repository.NewestCheckpointBeforeAsync(fleet, "van-2", long.MaxValue))?.TimeUs);
+    }
+
+    [Fact]
+    public async Task Checkpoints_between_are_strictly_inside_oldest_first_and_per_vehicle()
+    {
+        await using var schema = await server.NewMigratedSchemaAsync();
+        var fleet = await new FleetAdmin(schema.DataSource).CreateFleetAsync("listed fleet");
+        var repository = new FilterCheckpointRepository(schema.DataSource);
+        var t = TestTimes.At(TestTimes.Day, 12, 0, 0, 0);
+        foreach (int i in new[] { 3, 0, 2, 1 })
+        {
+            await repository.UpsertAsync(Checkpoint(fleet, "van-1", t + (i * 10_000_000), i));
+        }
+
+        await repository.UpsertAsync(Checkpoint(fleet, "van-2", t + 15_000_000, 9));
+        var inside = await repository.CheckpointsBetweenAsync(fleet, "van-1", t, t + 30_000_000);
+        Assert.Equal([t + 10_000_000, t + 20_000_000], inside.Select(c => c.TimeUs));
+        AssertSame(Checkpoint(fleet, "van-1", t + 10_000_000, 1), inside[0]);
+        Assert.Empty(await repository.CheckpointsBetweenAsync(fleet, "van-3", long.MinValue, long.MaxValue));
+    }
+
+    [Fact]
+    public async Task Retention_deletes_old_checkpoints_but_every_vehicle_keeps_its_newest()
+    {
+        await using var schema = await server.NewMigratedSchemaAsync();
+        var fleet = await new FleetAdmin(schema.DataSource).CreateFleetAsync("retained fleet");
+        var repository = new FilterCheckpointRepository(schema.DataSource);
+        var t = TestTimes.At(TestTimes.Day, 12, 0, 0, 0);
+        const long Day = 86_400_000_000;
+
+        // van-1: three old ones and a recent one; van-2 (parked for long): only old ones; van-3: only recent ones.
+        await repository.UpsertAsync(Checkpoint(fleet, "van-1", t - (3 * Day), 1));
+        await repository.UpsertAsync(Checkpoint(fleet, "van-1", t - (2 * Day), 2));
+        await repository.UpsertAsync(Checkpoint(fleet, "van-1", t - Day, 3));
+        await repository.UpsertAsync(Checkpoint(fleet, "van-1", t, 4));
+        await repository.UpsertAsync(Checkpoint(fleet, "van-2", t - (3 * Day), 5));
+        await repository.UpsertAsync(Checkpoint(fleet, "van-2", t - (2 * Day), 6));
+        await repository.UpsertAsync(Checkpoint(fleet, "van-3", t, 7));
+        await repository.UpsertAsync(Checkpoint(fleet, "van-3", t + 1, 8));
+
+        Assert.Equal(4, await repository.DeleteOlderThanAsync(t - (Day / 2)));
+        Assert.Equal([t], (await repository.CheckpointsBetweenAsync(fleet, "van-1", long.MinValue, long.MaxValue)).Select(c => c.TimeUs));
+        Assert.Equal([t - (2 * Day)], (await repository.CheckpointsBetweenAsync(fleet, "van-2", long.MinValue, long.MaxValue)).Select(c => c.TimeUs));
+        Assert.Equal([t, t + 1], (await repository.CheckpointsBetweenAsync(fleet, "van-3", long.MinValue, long.MaxValue)).Select(c => c.TimeUs));
     }
 
     [Fact]

@@ -40,10 +40,13 @@ internal sealed class HistoryDrive
         return new HistoryDrive(run, TelemetryDrive.FromRun(vehicle, run), startUs);
     }
 
-    /// <summary>Ingests the messages <paramref name="include"/> selects, in time order, in batches, then flushes the writers.</summary>
-    public async Task IngestAsync(ServiceFixture fixture, TestFleet fleet, Func<int, bool>? include = null)
+    /// <summary>
+    /// Ingests the messages <paramref name="include"/> selects, in time order, in batches, into <paramref name="host"/>
+    /// (default: the shared one), then flushes its writers.
+    /// </summary>
+    public async Task IngestAsync(ServiceFixture fixture, TestFleet fleet, Func<int, bool>? include = null, ServiceFactory? host = null)
     {
-        using var client = fixture.Client(fleet.IngestKey);
+        using var client = fixture.Client(fleet.IngestKey, host);
         var batch = new JsonArray();
         for (int i = 0; i < Drive.Messages.Count; i++)
         {
@@ -59,7 +62,7 @@ internal sealed class HistoryDrive
             }
         }
 
-        await fixture.Host.Services.GetRequiredService<TrackWriteQueue>().FlushAsync(CancellationToken.None);
+        await (host ?? fixture.Host).Services.GetRequiredService<TrackWriteQueue>().FlushAsync(CancellationToken.None);
     }
 
     /// <summary>Horizontal distance from a lat/lon to the truth at <paramref name="timeUs"/>, metres.</summary>
