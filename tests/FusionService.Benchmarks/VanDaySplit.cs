@@ -11,7 +11,9 @@ namespace FusionService.Benchmarks;
 /// <summary>
 /// Times the parts of <see cref="CompactedTrackReplay.Run"/> over <see cref="VanDayScenario"/> with a stopwatch
 /// (<c>./build.sh bench vanday-split [repeats]</c>): the forward filter with no recorder, the forward filter with the
-/// compacting recorder, and the compacted backward pass. Best and median of the repeats, milliseconds.
+/// compacting recorder, the compacted backward pass, and the whole smoothing as two stretches filtered side by side from
+/// the state at the middle measurement (as the service splits a window at a stored checkpoint). Best and median of the
+/// repeats, milliseconds.
 /// </summary>
 internal static class VanDaySplit
 {
@@ -24,7 +26,21 @@ internal static class VanDaySplit
         var filterMs = new List<double>();
         var recordMs = new List<double>();
         var backwardMs = new List<double>();
+        var stretchesMs = new List<double>();
+
+        // The state after the middle measurement, as a stored checkpoint would hold it, for the two-stretch replay.
+        int middle = day.Length / 2;
+        TrackState atMiddle = TrackState.Empty;
+        foreach (Measurement m in day.AsSpan(0, middle))
+        {
+            if (atMiddle.Phase != TrackPhase.Running || m.TimeUs >= atMiddle.TimeUs)
+            {
+                processor.Process(ref atMiddle, m);
+            }
+        }
+
         int instants = 0;
+        int stretchInstants = 0;
         ulong digest = 0;
         for (int r = 0; r < repeats; r++)
         {
@@ -70,12 +86,22 @@ internal static class VanDaySplit
 
             backwardMs.Add(sw.Elapsed.TotalMilliseconds);
             digest = Digest(smoothed);
+
+            // Two stretches side by side (as the service splits a window at a stored checkpoint), joined and smoothed.
+            sw.Restart();
+            long expected = (day[^1].TimeUs - day[0].TimeUs) / 2_000_000;
+            var firstHalf = Task.Run(() => CompactedTrackReplay.Forward(processor, TrackState.Empty, day[..middle], 1_000_000, expectedInstants: (int)expected));
+            var secondHalf = Task.Run(() => CompactedTrackReplay.Forward(processor, atMiddle, day[middle..], 1_000_000, expectedInstants: (int)expected));
+            var joined = CompactedTrackReplay.Smooth([firstHalf.Result, secondHalf.Result]);
+            stretchesMs.Add(sw.Elapsed.TotalMilliseconds);
+            stretchInstants = joined.Sum(s => s.Count);
         }
 
         Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"van day: {day.Length} measurements, {instants} smoothed instants, {repeats} repeats, digest of the smoothed means, covariances and gains {digest:x16}"));
         Print("forward filter, no recorder", filterMs);
         Print("forward filter + compacting recorder", recordMs);
         Print("compacted backward pass + segments", backwardMs);
+        Print($"two stretches side by side, joined, smoothed ({stretchInstants} instants)", stretchesMs);
     }
 
     /// <summary>A bitwise digest of every smoothed mean, covariance and gain, to compare two builds bit for bit.</summary>
