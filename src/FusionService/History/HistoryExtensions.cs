@@ -4,11 +4,16 @@ namespace FusionService.History;
 /// <summary>Registers the options and services of the track history and distance endpoints.</summary>
 public static class HistoryExtensions
 {
-    /// <summary>Binds and validates (at start-up) <see cref="TrackHistoryOptions"/> and adds <see cref="SmoothedTrackBuilder"/>.</summary>
+    /// <summary>
+    /// Binds and validates (at start-up) <see cref="TrackHistoryOptions"/> and adds <see cref="SmoothedTrackBuilder"/> and
+    /// the start-up <see cref="SmoothingWarmUp"/>.
+    /// </summary>
     public static IServiceCollection AddFusionHistory(this IServiceCollection services)
     {
         services.AddOptions<TrackHistoryOptions>().BindConfiguration(TrackHistoryOptions.Section).ValidateDataAnnotations().ValidateOnStart();
         services.AddSingleton<SmoothedTrackBuilder>();
+        services.AddSingleton<SmoothingWarmUp>();
+        services.AddHostedService(sp => sp.GetRequiredService<SmoothingWarmUp>());
         return services;
     }
 }

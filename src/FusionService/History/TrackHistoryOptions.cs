@@ -36,6 +36,13 @@ public sealed class TrackHistoryOptions
     [Range(1, 64)]
     public int ReplayStretches { get; set; } = Math.Clamp(Environment.ProcessorCount, 1, 8);
 
+    /// <summary>
+    /// Rounds of the smoothed-track code run at start-up on invented data, so that the first requests do not pay for
+    /// the compilation of their code (see <c>SmoothingWarmUp</c>); 0 turns it off. Default 4.
+    /// </summary>
+    [Range(0, 100)]
+    public int WarmUpRounds { get; set; } = 4;
+
     /// <summary>Points written between two flushes of a streamed response. Default 512.</summary>
     [Range(1, 1_000_000)]
     public int FlushEveryPoints { get; set; } = 512;

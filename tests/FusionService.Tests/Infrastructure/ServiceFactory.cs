@@ -35,6 +35,8 @@ public sealed class ServiceFactory(string connectionString, IReadOnlyDictionary<
             // Webhook deliveries are tested on hosts of their own; the shared host leaves the outbox to them.
             ["Webhooks:DispatcherEnabled"] = "false",
             ["Alerts:SilenceScanIntervalMs"] = "500",
+            // The start-up warm-up of the smoothing code would cost every test host CPU; SmoothingWarmUpTests turns it on.
+            ["Tracks:WarmUpRounds"] = "0",
         };
         if (overrides is not null)
         {
