@@ -143,7 +143,7 @@ public static class HistoryEndpoints
                     intervalUs = Math.Max(stepUs, 100_000);
                 }
 
-                var track = await smoother.BuildAsync(caller.FleetId, vehicle, fromUs, toUs, intervalUs, keepWheelSpeeds: false, http.RequestAborted).ConfigureAwait(false);
+                var track = await smoother.BuildAsync(caller.FleetId, vehicle, fromUs, toUs, intervalUs, keepDistanceInputs: false, http.RequestAborted).ConfigureAwait(false);
                 return new TrackStreamResult(header, trackFormat, TrackPointSources.SmoothedAsync(track, request), flushEvery);
         }
     }
@@ -171,54 +171,33 @@ public static class HistoryEndpoints
             return NotFound(vehicle);
         }
 
-        // The raw-fix polyline is read while the smoothed track is built (two connections; the build is the long part).
-        Task<double> polylineLength = PolylineLengthAsync(database, caller.FleetId, vehicle, fromUs, toUs, http.RequestAborted);
+        // The wheel speeds and the raw fixes come with the replay (it reads every stored measurement of the window).
         long intervalUs = (long)Math.Round(options.Value.SmoothedIntervalS * 1e6);
-        SmoothedTrack track;
-        try
-        {
-            track = await smoother.BuildAsync(caller.FleetId, vehicle, fromUs, toUs, intervalUs, keepWheelSpeeds: true, http.RequestAborted).ConfigureAwait(false);
-        }
-        catch
-        {
-            // The polyline's own outcome does not matter any more; it must not go unobserved.
-            _ = polylineLength.ContinueWith(t => t.Exception, CancellationToken.None, TaskContinuationOptions.OnlyOnFaulted, TaskScheduler.Default);
-            throw;
-        }
-
-        using var disposeTrack = track;
+        using var track = await smoother.BuildAsync(caller.FleetId, vehicle, fromUs, toUs, intervalUs, keepDistanceInputs: true, http.RequestAborted).ConfigureAwait(false);
         DistanceEstimate smoothed = TrapezoidDistanceIntegrator.Integrate(track.Segments, fromUs, toUs);
         var odometer = new OdometerDistance();
+        var polyline = new PolylineLength();
         var scale = new ScaleLookup(track.Segments);
-        foreach (Measurement m in track.WheelSpeeds)
+        foreach (Measurement m in track.DistanceInputs)
         {
-            if (m.Kind == SensorKind.WheelSpeed && m.TimeUs >= fromUs && m.TimeUs < toUs && scale.TryAt(m.TimeUs, out double k))
+            if (m.TimeUs < fromUs || m.TimeUs >= toUs)
+            {
+                continue;
+            }
+
+            if (m.Kind == SensorKind.GnssPosition)
+            {
+                polyline.Add(m.Value0, m.Value1);
+            }
+            else if (scale.TryAt(m.TimeUs, out double k))
             {
                 odometer.Add(m.TimeUs, m.Value0, k);
             }
         }
 
-        double rawLengthM = await polylineLength.ConfigureAwait(false);
         return TypedResults.Ok(new DistanceResponse(
-            vehicle, HistoryTime.Format(fromUs), HistoryTime.Format(toUs), smoothed.DistanceM, smoothed.SigmaM, rawLengthM,
+            vehicle, HistoryTime.Format(fromUs), HistoryTime.Format(toUs), smoothed.DistanceM, smoothed.SigmaM, polyline.LengthM,
             odometer.DistanceM, smoothed.StationaryS, Caution));
-    }
-
-    /// <summary>Length of the polyline through the stored GNSS fixes of the window (duplicates left out), metres.</summary>
-    private static async Task<double> PolylineLengthAsync(
-        FusionDatabase database, Guid fleetId, string vehicle, long fromUs, long toUs, CancellationToken cancellationToken)
-    {
-        var polyline = new PolylineLength();
-        await foreach (var s in new TrackHistoryReader(database.DataSource).StreamMeasurementsAsync(
-            fleetId, vehicle, fromUs, toUs, (short)SensorKind.GnssPosition, (short)SensorKind.GnssPosition, cancellationToken).ConfigureAwait(false))
-        {
-            if (s.Outcome != Storage.Measurements.MeasurementOutcome.Duplicate && s.V1 is { } lon)
-            {
-                polyline.Add(s.V0, lon);
-            }
-        }
-
-        return polyline.LengthM;
     }
 
     /// <summary>The format named by <paramref name="format"/>, else the best one the Accept header allows (JSON by default); null when unknown.</summary>

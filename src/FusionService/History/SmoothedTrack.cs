@@ -4,13 +4,13 @@ using FusionService.Estimation.Smoothing;
 
 namespace FusionService.History;
 
-/// <summary>Smoothed segments over a window and, when asked for, the wheel speeds replayed to get them.</summary>
+/// <summary>Smoothed segments over a window and, when asked for, the wheel speeds and GNSS positions replayed to get them.</summary>
 /// <param name="Segments">Smoothed segments in time order (instants before the window are dropped except the last one).</param>
-/// <param name="WheelSpeeds">Replayed wheel-speed measurements in canonical order (from the start of the replay); empty
-/// unless the build was asked to keep them.</param>
+/// <param name="DistanceInputs">Replayed wheel-speed and GNSS-position measurements in canonical order (from the start of
+/// the replay, without those already in its starting checkpoint); empty unless the build was asked to keep them.</param>
 /// <param name="FromCheckpoint">Whether the replay started from a stored checkpoint.</param>
 /// <remarks>Dispose it when the response is written: the segments' arrays go back to the builder's pool.</remarks>
-internal sealed record SmoothedTrack(IReadOnlyList<SmoothedSegment> Segments, IReadOnlyList<Measurement> WheelSpeeds, bool FromCheckpoint)
+internal sealed record SmoothedTrack(IReadOnlyList<SmoothedSegment> Segments, IReadOnlyList<Measurement> DistanceInputs, bool FromCheckpoint)
     : IDisposable
 {
     /// <summary>Gives the segments' arrays back (the segments are empty afterwards).</summary>

@@ -38,10 +38,11 @@ internal sealed class SmoothedTrackBuilder(
     /// <param name="fromUs">Window start, Unix microseconds.</param>
     /// <param name="toUs">Window end (exclusive), Unix microseconds.</param>
     /// <param name="recordIntervalUs">Spacing of the smoothed instants, microseconds.</param>
-    /// <param name="keepWheelSpeeds">Whether to keep the replayed wheel speeds in the result (for the wheel distance).</param>
+    /// <param name="keepDistanceInputs">Whether to keep the replayed wheel speeds and GNSS positions in the result (for the
+    /// wheel distance and the raw-fix polyline).</param>
     /// <param name="cancellationToken">Cancels the reads.</param>
     internal async Task<SmoothedTrack> BuildAsync(
-        Guid fleetId, string vehicle, long fromUs, long toUs, long recordIntervalUs, bool keepWheelSpeeds, CancellationToken cancellationToken)
+        Guid fleetId, string vehicle, long fromUs, long toUs, long recordIntervalUs, bool keepDistanceInputs, CancellationToken cancellationToken)
     {
         long leadUs = (long)Math.Round(options.Value.ReplayLeadHours * 3.6e9);
         long readFromUs = fromUs - leadUs;
@@ -59,25 +60,25 @@ internal sealed class SmoothedTrackBuilder(
 
         var seams = await SeamsAsync(checkpoints, fleetId, vehicle, Math.Max(fromUs, readFromUs), toUs, cancellationToken).ConfigureAwait(false);
         var stretches = new List<Stretch>(seams.Count + 1);
-        Stretch first = new(start, floor, readFromUs, seams.Count > 0 ? seams[0].Last : null, toUs);
+        Stretch first = new(start, floor, readFromUs, seams.Count > 0 ? seams[0].Last : null, toUs, KeepsCheckpointed: true);
         stretches.Add(first);
         for (int i = 0; i < seams.Count; i++)
         {
-            stretches.Add(new Stretch(seams[i].State, seams[i].Last, seams[i].Last.TimeUs, i + 1 < seams.Count ? seams[i + 1].Last : null, toUs));
+            stretches.Add(new Stretch(seams[i].State, seams[i].Last, seams[i].Last.TimeUs, i + 1 < seams.Count ? seams[i + 1].Last : null, toUs, KeepsCheckpointed: false));
         }
 
-        var replays = stretches.Select(s => ReplayAsync(fleetId, vehicle, s, fromUs, toUs, recordIntervalUs, keepWheelSpeeds, cancellationToken)).ToList();
+        var replays = stretches.Select(s => ReplayAsync(fleetId, vehicle, s, fromUs, toUs, recordIntervalUs, keepDistanceInputs, cancellationToken)).ToList();
         // WhenAll waits for every stretch, so none is left running when a failure is reported.
         await Task.WhenAll(replays).ConfigureAwait(false);
 
         var passes = new List<ForwardPass>(replays.Count);
-        var wheelSpeeds = new List<Measurement>();
+        var distanceInputs = new List<Measurement>();
         int seamMisses = 0;
         for (int i = 0; i < replays.Count; i++)
         {
-            var (pass, wheels) = await replays[i].ConfigureAwait(false);
+            var (pass, kept) = await replays[i].ConfigureAwait(false);
             passes.Add(pass);
-            wheelSpeeds.AddRange(wheels);
+            distanceInputs.AddRange(kept);
             if (i < seams.Count && !EndsAt(pass.End, seams[i]))
             {
                 // The stretch did not end in the stored state (a measurement stored as too late before the checkpoint,
@@ -85,18 +86,18 @@ internal sealed class SmoothedTrackBuilder(
                 logger.LogInformation(
                     "Smoothed track of {Vehicle}: the replay did not reach the stored checkpoint at {TimeUs}; replaying the rest of the window from there",
                     vehicle, seams[i].Last.TimeUs);
-                var (rest, restWheels) = await ReplayAsync(
-                    fleetId, vehicle, new Stretch(pass.End, seams[i].Last, seams[i].Last.TimeUs, null, toUs), fromUs, toUs, recordIntervalUs, keepWheelSpeeds,
+                var (rest, restKept) = await ReplayAsync(
+                    fleetId, vehicle, new Stretch(pass.End, seams[i].Last, seams[i].Last.TimeUs, null, toUs, KeepsCheckpointed: false), fromUs, toUs, recordIntervalUs, keepDistanceInputs,
                     cancellationToken).ConfigureAwait(false);
                 passes.Add(rest);
-                wheelSpeeds.AddRange(restWheels);
+                distanceInputs.AddRange(restKept);
                 seamMisses++;
                 break;
             }
         }
 
         metrics.CountSmoothingReplay(stretches.Count, seamMisses);
-        return new SmoothedTrack(CompactedTrackReplay.Smooth(passes), wheelSpeeds, floor is not null);
+        return new SmoothedTrack(CompactedTrackReplay.Smooth(passes), distanceInputs, floor is not null);
     }
 
     /// <summary>
@@ -154,13 +155,13 @@ internal sealed class SmoothedTrackBuilder(
     }
 
     /// <summary>Reads one stretch's measurements and runs its forward pass, the two overlapped.</summary>
-    private async Task<(ForwardPass Pass, List<Measurement> WheelSpeeds)> ReplayAsync(
-        Guid fleetId, string vehicle, Stretch stretch, long fromUs, long toUs, long recordIntervalUs, bool keepWheelSpeeds, CancellationToken cancellationToken)
+    private async Task<(ForwardPass Pass, List<Measurement> DistanceInputs)> ReplayAsync(
+        Guid fleetId, string vehicle, Stretch stretch, long fromUs, long toUs, long recordIntervalUs, bool keepDistanceInputs, CancellationToken cancellationToken)
     {
         // Reading (a PostgreSQL backend scanning the rows) and the replay (this process filtering them) overlap: the
         // rows go over in chunks to a replay thread, so when a core is free the stretch takes about the longer of the
         // two instead of their sum (on a loaded machine little is gained: docs/benchmarks.md, smoothed track of a vehicle-day).
-        List<Measurement> wheelSpeeds = [];
+        List<Measurement> distanceInputs = [];
         using var chunks = new BlockingCollection<Chunk>();
         using var spare = new BlockingCollection<Measurement[]>();
         using var stop = CancellationTokenSource.CreateLinkedTokenSource(cancellationToken);
@@ -171,7 +172,7 @@ internal sealed class SmoothedTrackBuilder(
             () => CompactedTrackReplay.Forward(
                 processor,
                 start,
-                Collect(chunks, spare, stretch.Floor, stretch.Ceiling, keepWheelSpeeds ? wheelSpeeds : null, stop.Token),
+                Collect(chunks, spare, stretch.Floor, stretch.Ceiling, keepDistanceInputs ? distanceInputs : null, stretch.KeepsCheckpointed, stop.Token),
                 recordIntervalUs,
                 discardBeforeUs: fromUs,
                 expectedInstants,
@@ -251,7 +252,7 @@ internal sealed class SmoothedTrackBuilder(
             }
         }
 
-        return (await replay.ConfigureAwait(false), wheelSpeeds);
+        return (await replay.ConfigureAwait(false), distanceInputs);
     }
 
     /// <summary>
@@ -272,26 +273,33 @@ internal sealed class SmoothedTrackBuilder(
 
     /// <summary>
     /// The measurements of <paramref name="chunks"/> in order, without those at or before <paramref name="floor"/> (already
-    /// in the checkpoint) or after <paramref name="ceiling"/> (the next stretch's); wheel speeds also appended to
-    /// <paramref name="wheelSpeeds"/> when given. Each finished chunk's array goes back through <paramref name="spare"/>.
+    /// in the checkpoint) or after <paramref name="ceiling"/> (the next stretch's); wheel speeds and GNSS positions also
+    /// appended to <paramref name="distanceInputs"/> when given, those in the checkpoint too when
+    /// <paramref name="keepCheckpointed"/> (the first stretch: its checkpoint may end inside the window). Each finished chunk's array goes back through <paramref name="spare"/>.
     /// </summary>
     private static IEnumerable<Measurement> Collect(
-        BlockingCollection<Chunk> chunks, BlockingCollection<Measurement[]> spare, Measurement? floor, Measurement? ceiling, List<Measurement>? wheelSpeeds,
-        CancellationToken cancellationToken)
+        BlockingCollection<Chunk> chunks, BlockingCollection<Measurement[]> spare, Measurement? floor, Measurement? ceiling, List<Measurement>? distanceInputs,
+        bool keepCheckpointed, CancellationToken cancellationToken)
     {
         foreach (Chunk chunk in chunks.GetConsumingEnumerable(cancellationToken))
         {
             for (int i = 0; i < chunk.Count; i++)
             {
                 Measurement m = chunk.Items[i];
-                if ((floor is { } f && VehicleTrack.CompareKey(m, f) <= 0) || (ceiling is { } c && VehicleTrack.CompareKey(m, c) > 0))
+                if (ceiling is { } c && VehicleTrack.CompareKey(m, c) > 0)
                 {
                     continue;
                 }
 
-                if (wheelSpeeds is not null && m.Kind == SensorKind.WheelSpeed)
+                bool checkpointed = floor is { } f && VehicleTrack.CompareKey(m, f) <= 0;
+                if (distanceInputs is not null && (m.Kind is SensorKind.WheelSpeed or SensorKind.GnssPosition) && (!checkpointed || keepCheckpointed))
                 {
-                    wheelSpeeds.Add(m);
+                    distanceInputs.Add(m);
+                }
+
+                if (checkpointed)
+                {
+                    continue;
                 }
 
                 yield return m;
@@ -309,7 +317,9 @@ internal sealed class SmoothedTrackBuilder(
 
     /// <summary>
     /// One stretch of a replay: the state it starts from and the last measurement in that state (null: the empty state),
-    /// where its read starts, the last measurement it takes (null: up to <paramref name="ToUs"/>).
+    /// where its read starts, the last measurement it takes (null: up to <paramref name="ToUs"/>), and whether the
+    /// distance inputs it keeps include those already in its starting checkpoint (only the first stretch's: the others'
+    /// are the previous stretch's last ones).
     /// </summary>
-    private sealed record Stretch(TrackState Start, Measurement? Floor, long ReadFromUs, Measurement? Ceiling, long ToUs);
+    private sealed record Stretch(TrackState Start, Measurement? Floor, long ReadFromUs, Measurement? Ceiling, long ToUs, bool KeepsCheckpointed);
 }

@@ -106,6 +106,18 @@ public sealed class TrackHistoryTests(ServiceFixture fixture, ITestOutputHelper 
         // The service's goal for distance: within 0.5 % of the true path length (invented requirement of this project).
         AssertNear.Equal(truth, smoothed, 0.005 * truth, "smoothed distance (m)");
         Assert.True(Math.Abs(raw - truth) > 0.005 * truth, $"raw polyline {raw} m unexpectedly within 0.5 % of {truth} m");
+
+        // The raw polyline goes through every fix sent in the window, in time order (lengths by Vincenty's inverse
+        // formula, the core's own PolylineLength; 1 mm of tolerance for the order of the sums).
+        var polyline = new FusionService.Estimation.Diagnostics.PolylineLength();
+        foreach (var fix in drive.Drive.Messages.SelectMany(m => m.Core)
+            .Where(m => m.Kind == FusionService.Estimation.Measurements.SensorKind.GnssPosition && m.TimeUs >= from && m.TimeUs < to)
+            .OrderBy(m => m.TimeUs))
+        {
+            polyline.Add(fix.Value0, fix.Value1);
+        }
+
+        AssertNear.Equal(polyline.LengthM, raw, 1e-3, "raw polyline through the fixes sent (m)");
         Assert.True(sd > 0 && sd < 0.01 * truth, $"distance sd {sd} m");
         Assert.True(stationary > 0.5 * stopped, $"stationary {stationary} s of {stopped} s stopped");
         Assert.Equal(HistoryDrive.Time(from), d.GetProperty("from").GetString());
