@@ -168,11 +168,7 @@ public sealed class CompactedSegment
         Count = 0;
         if (_pool is { } pool)
         {
-            pool.Return(_times);
-            pool.Return(_planes);
-            pool.Return(_means);
-            pool.Return(_covariances);
-            pool.Return(_gains);
+            pool.Return(_times, _planes, _means, _covariances, _gains);
             pool.Return(_predictedNext);
         }
 

@@ -44,6 +44,16 @@ public sealed class SegmentArrayPool
 
     internal Matrix8[] RentMatrices(int length) => _matrices.Rent(length);
 
+    /// <summary>Gives back the arrays a smoothed segment shows.</summary>
+    internal void Return(long[] times, LocalTangentPlane[] planes, Vector8[] means, Matrix8[] covariances, Matrix8[] gains)
+    {
+        Return(times);
+        Return(planes);
+        Return(means);
+        Return(covariances);
+        Return(gains);
+    }
+
     internal void Return(long[] array) => _times.Return(array);
 
     internal void Return(LocalTangentPlane[] array) => _planes.Return(array);

@@ -70,11 +70,7 @@ public sealed class SmoothedSegment : IDisposable
 
         _pool = null;
         Count = 0;
-        pool.Return(_timesUs);
-        pool.Return(_planes);
-        pool.Return(_means);
-        pool.Return(_covariances);
-        pool.Return(_gains);
+        pool.Return(_timesUs, _planes, _means, _covariances, _gains);
         _timesUs = [];
         _planes = [];
         _means = [];

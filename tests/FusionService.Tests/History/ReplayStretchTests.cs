@@ -52,7 +52,7 @@ public sealed class ReplayStretchTests(ServiceFixture fixture, ITestOutputHelper
         await drive.IngestAsync(fixture, fleet, i => i != late, host);
         await drive.IngestAsync(fixture, fleet, i => i == late, host);
         long tooLate = await fixture.CountAsync(
-            "SELECT count(*) FROM measurement_verdicts WHERE fleet_id = $1 AND vehicle_id = $2 AND outcome = 2", fleet.Id, Vehicle);
+            $"SELECT count(*) FROM {JudgedSql.OfVehicle} WHERE outcome = 2", fleet.Id, Vehicle);
         Assert.Equal(messages[late].Core.Length, tooLate); // the fix and the speed and course sent with it
 
         var (stretches, misses, compared) = await CompareWithOneGoAsync(host, fleet, drive, Vehicle, messages.SelectMany(m => m.Core));
