@@ -77,7 +77,7 @@ public sealed class FilterCheckpointRepository
     /// <param name="cancellationToken">Cancels the statement.</param>
     /// <returns>Number of checkpoints deleted.</returns>
     public Task<int> DeleteFromAsync(Guid fleetId, string vehicleId, long timeUs, CancellationToken cancellationToken = default) =>
-        DeleteAsync("time_us >= @TimeUs", fleetId, vehicleId, timeUs, cancellationToken);
+        DeleteAsync("time_us >= @TimeUs", fleetId, vehicleId, long.MinValue, timeUs, cancellationToken);
 
     /// <summary>Deletes the vehicle's checkpoints strictly between <paramref name="afterUs"/> and <paramref name="beforeUs"/>.</summary>
     /// <param name="fleetId">Owning fleet.</param>
@@ -87,7 +87,7 @@ public sealed class FilterCheckpointRepository
     /// <param name="cancellationToken">Cancels the statement.</param>
     /// <returns>Number of checkpoints deleted.</returns>
     public Task<int> DeleteBetweenAsync(Guid fleetId, string vehicleId, long afterUs, long beforeUs, CancellationToken cancellationToken = default) =>
-        DeleteAsync("time_us > @AfterUs AND time_us < @TimeUs", fleetId, vehicleId, beforeUs, cancellationToken, afterUs);
+        DeleteAsync("time_us > @AfterUs AND time_us < @TimeUs", fleetId, vehicleId, afterUs, beforeUs, cancellationToken);
 
     /// <summary>
     /// Deletes every vehicle's checkpoints older than <paramref name="beforeUs"/> except its newest one (retention: the
@@ -106,9 +106,12 @@ public sealed class FilterCheckpointRepository
         }
     }
 
-    /// <summary>Deletes the vehicle's checkpoints whose time meets <paramref name="timeCondition"/> (a constant of this class).</summary>
+    /// <summary>
+    /// Deletes the vehicle's checkpoints whose time meets <paramref name="timeCondition"/> (a constant of this class, over
+    /// @AfterUs and @TimeUs).
+    /// </summary>
     private async Task<int> DeleteAsync(
-        string timeCondition, Guid fleetId, string vehicleId, long timeUs, CancellationToken cancellationToken, long afterUs = long.MinValue)
+        string timeCondition, Guid fleetId, string vehicleId, long afterUs, long timeUs, CancellationToken cancellationToken)
     {
         ArgumentNullException.ThrowIfNull(vehicleId);
         var connection = await _dataSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
