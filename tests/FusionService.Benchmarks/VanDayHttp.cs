@@ -11,7 +11,8 @@ namespace FusionService.Benchmarks;
 /// Posts the invented van day of <see cref="VanDayScenario"/> (times shifted so that it ends 10 minutes ago) to a running
 /// service as NDJSON batches of 5,000 messages, waits until the vehicle's state has caught up with the last fix, and
 /// then times each history request <c>repeats</c> times with a stopwatch: time to the response headers and to the last
-/// byte of the body (<c>vanday-http --url URL --ingest-key KEY --read-key KEY [--repeats 3] [--pid SERVICE_PID]</c>).
+/// byte of the body (<c>vanday-http --url URL --ingest-key KEY --read-key KEY [--repeats 3] [--pid SERVICE_PID]
+/// [--batch 5000] [--companions 0]</c>; companions: other vans with the same day posted between the van's batches).
 /// With <c>--pid</c> it also prints the service's resident and peak resident memory (Linux /proc) before and after.
 /// A load tool, not a test: it asserts nothing.
 /// </summary>
@@ -28,20 +29,34 @@ internal static class VanDayHttp
 
         var day = VanDayScenario.Instance.Measurements;
         long shiftUs = (DateTimeOffset.UtcNow.ToUnixTimeMilliseconds() * 1000) - 600_000_000 - day[^1].TimeUs;
-        var messages = TelemetryMessages.FromMeasurements(
-            vehicle, [.. day.Select(m => Measurement.FromStored(m.TimeUs + shiftUs, m.OrderKey, m.Value0, m.Value1, m.Value2))]);
+        int batch = int.Parse(options.GetValueOrDefault("batch", "5000"), CultureInfo.InvariantCulture);
+        int companions = int.Parse(options.GetValueOrDefault("companions", "0"), CultureInfo.InvariantCulture);
+        var shifted = day.Select(m => Measurement.FromStored(m.TimeUs + shiftUs, m.OrderKey, m.Value0, m.Value1, m.Value2)).ToArray();
+        var messages = TelemetryMessages.FromMeasurements(vehicle, shifted);
+
+        // Companion vans (the same invented day under other ids) are posted batch by batch between the van's own, so that
+        // its rows share the day's partition and its pages with theirs, as in a fleet.
+        var fleet = new List<IReadOnlyList<TelemetryMessage>> { messages };
+        for (int c = 1; c <= companions; c++)
+        {
+            fleet.Add(TelemetryMessages.FromMeasurements(vehicle + "-c" + c.ToString(CultureInfo.InvariantCulture), shifted));
+        }
+
         long fromUs = day[0].TimeUs + shiftUs, toUs = day[^1].TimeUs + shiftUs + 1;
         Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
-            $"posting {messages.Count:N0} messages ({day.Length:N0} measurements, {(toUs - fromUs) / 3.6e9:F2} h) for {vehicle} in batches of 5,000"));
+            $"posting {messages.Count:N0} messages ({day.Length:N0} measurements, {(toUs - fromUs) / 3.6e9:F2} h) for {vehicle} in batches of {batch:N0}, with {companions} companion vans"));
         var post = Stopwatch.StartNew();
-        for (int i = 0; i < messages.Count; i += 5000)
+        for (int i = 0; i < messages.Count; i += batch)
         {
-            using var content = new ByteArrayContent(TelemetryJson.ToNdjson(messages.Skip(i).Take(5000)));
-            content.Headers.ContentType = new MediaTypeHeaderValue(TelemetryJson.NdjsonContentType);
-            using var request = new HttpRequestMessage(HttpMethod.Post, "v1/telemetry") { Content = content };
-            request.Headers.Authorization = new AuthenticationHeaderValue("Bearer", options["ingest-key"]);
-            using var response = await http.SendAsync(request);
-            response.EnsureSuccessStatusCode();
+            foreach (var van in fleet)
+            {
+                using var content = new ByteArrayContent(TelemetryJson.ToNdjson(van.Skip(i).Take(batch)));
+                content.Headers.ContentType = new MediaTypeHeaderValue(TelemetryJson.NdjsonContentType);
+                using var request = new HttpRequestMessage(HttpMethod.Post, "v1/telemetry") { Content = content };
+                request.Headers.Authorization = new AuthenticationHeaderValue("Bearer", options["ingest-key"]);
+                using var response = await http.SendAsync(request);
+                response.EnsureSuccessStatusCode();
+            }
         }
 
         Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"posted in {post.Elapsed.TotalSeconds:F1} s; waiting for the track to catch up"));
