@@ -76,12 +76,15 @@ public sealed class VehicleTrack
     /// evicted anything yet, whose base is the empty state). Every measurement after it that is still inside the lag
     /// window is held, so this is the checkpoint to persist for a restart.
     /// </summary>
-    public (TrackState State, Measurement? Last) BaseCheckpoint
+    public (TrackState State, Measurement? Last) BaseCheckpoint => (_checkpoints[0].Restore(), BaseCheckpointLast);
+
+    /// <summary>The last measurement in <see cref="BaseCheckpoint"/>, without decoding its state.</summary>
+    public Measurement? BaseCheckpointLast
     {
         get
         {
             CheckpointSlot c = _checkpoints[0];
-            return c.IsOrigin && !_hasFloor ? (c.Restore(), null) : (c.Restore(), c.Last);
+            return c.IsOrigin && !_hasFloor ? null : c.Last;
         }
     }
 

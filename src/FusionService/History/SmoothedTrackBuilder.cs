@@ -60,11 +60,11 @@ internal sealed class SmoothedTrackBuilder(
 
         var seams = await SeamsAsync(checkpoints, fleetId, vehicle, Math.Max(fromUs, readFromUs), toUs, cancellationToken).ConfigureAwait(false);
         var stretches = new List<Stretch>(seams.Count + 1);
-        Stretch first = new(start, floor, readFromUs, seams.Count > 0 ? seams[0].Last : null, toUs, KeepsCheckpointed: true);
+        Stretch first = new(start, floor, readFromUs, seams.Count > 0 ? seams[0].Last : null, KeepsCheckpointed: true);
         stretches.Add(first);
         for (int i = 0; i < seams.Count; i++)
         {
-            stretches.Add(new Stretch(seams[i].State, seams[i].Last, seams[i].Last.TimeUs, i + 1 < seams.Count ? seams[i + 1].Last : null, toUs, KeepsCheckpointed: false));
+            stretches.Add(new Stretch(seams[i].State, seams[i].Last, seams[i].Last.TimeUs, i + 1 < seams.Count ? seams[i + 1].Last : null, KeepsCheckpointed: false));
         }
 
         var replays = stretches.Select(s => ReplayAsync(fleetId, vehicle, s, fromUs, toUs, recordIntervalUs, keepDistanceInputs, cancellationToken)).ToList();
@@ -87,7 +87,7 @@ internal sealed class SmoothedTrackBuilder(
                     "Smoothed track of {Vehicle}: the replay did not reach the stored checkpoint at {TimeUs}; replaying the rest of the window from there",
                     vehicle, seams[i].Last.TimeUs);
                 var (rest, restKept) = await ReplayAsync(
-                    fleetId, vehicle, new Stretch(pass.End, seams[i].Last, seams[i].Last.TimeUs, null, toUs, KeepsCheckpointed: false), fromUs, toUs, recordIntervalUs, keepDistanceInputs,
+                    fleetId, vehicle, new Stretch(pass.End, seams[i].Last, seams[i].Last.TimeUs, null, KeepsCheckpointed: false), fromUs, toUs, recordIntervalUs, keepDistanceInputs,
                     cancellationToken).ConfigureAwait(false);
                 passes.Add(rest);
                 distanceInputs.AddRange(restKept);
@@ -275,7 +275,8 @@ internal sealed class SmoothedTrackBuilder(
     /// The measurements of <paramref name="chunks"/> in order, without those at or before <paramref name="floor"/> (already
     /// in the checkpoint) or after <paramref name="ceiling"/> (the next stretch's); wheel speeds and GNSS positions also
     /// appended to <paramref name="distanceInputs"/> when given, those in the checkpoint too when
-    /// <paramref name="keepCheckpointed"/> (the first stretch: its checkpoint may end inside the window). Each finished chunk's array goes back through <paramref name="spare"/>.
+    /// <paramref name="keepCheckpointed"/> (the first stretch: its checkpoint may end inside the window). Each finished
+    /// chunk's array goes back through <paramref name="spare"/>.
     /// </summary>
     private static IEnumerable<Measurement> Collect(
         BlockingCollection<Chunk> chunks, BlockingCollection<Measurement[]> spare, Measurement? floor, Measurement? ceiling, List<Measurement>? distanceInputs,
@@ -317,9 +318,9 @@ internal sealed class SmoothedTrackBuilder(
 
     /// <summary>
     /// One stretch of a replay: the state it starts from and the last measurement in that state (null: the empty state),
-    /// where its read starts, the last measurement it takes (null: up to <paramref name="ToUs"/>), and whether the
+    /// where its read starts, the last measurement it takes (null: up to the window's end), and whether the
     /// distance inputs it keeps include those already in its starting checkpoint (only the first stretch's: the others'
     /// are the previous stretch's last ones).
     /// </summary>
-    private sealed record Stretch(TrackState Start, Measurement? Floor, long ReadFromUs, Measurement? Ceiling, long ToUs, bool KeepsCheckpointed);
+    private sealed record Stretch(TrackState Start, Measurement? Floor, long ReadFromUs, Measurement? Ceiling, bool KeepsCheckpointed);
 }

@@ -236,7 +236,7 @@ internal sealed class VehicleTrackGrain(
 
     /// <summary>Whether the track's base checkpoint has moved a history spacing past the newest one kept.</summary>
     private bool HistoryCheckpointDue() =>
-        _historySpacingUs > 0 && _track.BaseCheckpoint.Last is { } last
+        _historySpacingUs > 0 && _track.BaseCheckpointLast is { } last
         && (_lastHistoryUs == long.MinValue || last.TimeUs - _lastHistoryUs >= _historySpacingUs);
 
     void ITrackObserver.OnOutcome(in Measurement m, in CoreOutcome outcome, in TrackState posterior, bool isReplay)
