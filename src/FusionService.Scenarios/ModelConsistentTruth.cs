@@ -43,7 +43,7 @@ public static class ModelConsistentTruth
         int steps = checked((int)(durationUs / options.StepUs));
         double dtS = options.StepUs / 1e6;
         var rng = new ScenarioRandom(seed, ProcessNoiseStream);
-        Vector8 x = default;
+        StateVector x = default;
         x[StateIndex.EastM] = options.InitialEastM;
         x[StateIndex.NorthM] = options.InitialNorthM;
         x[StateIndex.HeadingRad] = Angles.WrapPi(options.InitialHeadingRad);
@@ -52,7 +52,7 @@ public static class ModelConsistentTruth
         x[StateIndex.AccelMps2] = options.InitialAccelMps2;
         x[StateIndex.GyroBiasRps] = options.InitialGyroBiasRps;
         x[StateIndex.WheelScale] = options.InitialWheelScale;
-        for (int i = 0; i < Vector8.Length; i++)
+        for (int i = 0; i < StateVector.Length; i++)
         {
             if (!double.IsFinite(x[i]))
             {
@@ -63,7 +63,7 @@ public static class ModelConsistentTruth
         var samples = new TruthSample[steps + 1];
         var errors = new SensorErrorSample[steps + 1];
         Record(x, options.StartTimeUs, out samples[0], out errors[0]);
-        Span<double> z = stackalloc double[Vector8.Length];
+        Span<double> z = stackalloc double[StateVector.Length];
         for (int k = 1; k <= steps; k++)
         {
             Step(ref x, dtS, options, rng, z);
@@ -76,9 +76,9 @@ public static class ModelConsistentTruth
     /// <summary>The full eight-component state of a sample pair, in <see cref="StateIndex"/> order.</summary>
     /// <param name="motion">Motion components.</param>
     /// <param name="sensorErrors">Sensor-error components.</param>
-    public static Vector8 ToStateVector(in TruthSample motion, in SensorErrorSample sensorErrors)
+    public static StateVector ToStateVector(in TruthSample motion, in SensorErrorSample sensorErrors)
     {
-        Vector8 x = default;
+        StateVector x = default;
         x[StateIndex.EastM] = motion.EastM;
         x[StateIndex.NorthM] = motion.NorthM;
         x[StateIndex.HeadingRad] = motion.HeadingRad;
@@ -90,34 +90,34 @@ public static class ModelConsistentTruth
         return x;
     }
 
-    private static void Step(ref Vector8 x, double dtS, ModelConsistentTruthOptions options, ScenarioRandom rng, Span<double> z)
+    private static void Step(ref StateVector x, double dtS, ModelConsistentTruthOptions options, ScenarioRandom rng, Span<double> z)
     {
-        Matrix8 q = default;
+        StateMatrix q = default;
         CtraMotionModel.AddProcessNoise(ref q, x, dtS, options.Profile, options.Stationary);
         if (!options.SensorErrorsRandomWalk)
         {
-            for (int i = 0; i < Matrix8.Size; i++)
+            for (int i = 0; i < StateMatrix.Size; i++)
             {
-                q[(StateIndex.GyroBiasRps * Matrix8.Size) + i] = 0.0;
-                q[(i * Matrix8.Size) + StateIndex.GyroBiasRps] = 0.0;
-                q[(StateIndex.WheelScale * Matrix8.Size) + i] = 0.0;
-                q[(i * Matrix8.Size) + StateIndex.WheelScale] = 0.0;
+                q[(StateIndex.GyroBiasRps * StateMatrix.Size) + i] = 0.0;
+                q[(i * StateMatrix.Size) + StateIndex.GyroBiasRps] = 0.0;
+                q[(StateIndex.WheelScale * StateMatrix.Size) + i] = 0.0;
+                q[(i * StateMatrix.Size) + StateIndex.WheelScale] = 0.0;
             }
         }
 
-        SemidefiniteCholesky.Factor(q, out Matrix8 lower);
+        SemidefiniteCholesky.Factor(q, out StateMatrix lower);
         CtraMotionModel.Predict(ref x, dtS, out _);
         for (int i = 0; i < z.Length; i++)
         {
             z[i] = rng.NextGaussian();
         }
 
-        for (int i = 0; i < Matrix8.Size; i++)
+        for (int i = 0; i < StateMatrix.Size; i++)
         {
             double w = 0.0;
             for (int k = 0; k <= i; k++)
             {
-                w += lower[(i * Matrix8.Size) + k] * z[k];
+                w += lower[(i * StateMatrix.Size) + k] * z[k];
             }
 
             x[i] += w;
@@ -126,7 +126,7 @@ public static class ModelConsistentTruth
         x[StateIndex.HeadingRad] = Angles.WrapPi(x[StateIndex.HeadingRad]);
     }
 
-    private static void Record(in Vector8 x, long timeUs, out TruthSample sample, out SensorErrorSample errors)
+    private static void Record(in StateVector x, long timeUs, out TruthSample sample, out SensorErrorSample errors)
     {
         sample = new TruthSample(
             timeUs, x[StateIndex.EastM], x[StateIndex.NorthM], x[StateIndex.HeadingRad], x[StateIndex.SpeedMps], x[StateIndex.YawRateRps], x[StateIndex.AccelMps2]);

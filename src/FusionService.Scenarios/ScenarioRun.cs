@@ -73,7 +73,7 @@ public sealed class ScenarioRun
     /// and its sensor errors, or the suite's constant gyro bias and wheel scale when the truth carries none.
     /// </summary>
     /// <param name="timeUs">Time, Unix microseconds, within the truth.</param>
-    public Vector8 TrueStateAt(long timeUs)
+    public StateVector TrueStateAt(long timeUs)
     {
         TruthSample motion = Truth.At(timeUs);
         SensorErrorSample errors = Truth.SensorErrorsAt(timeUs) ?? new SensorErrorSample(timeUs, Suite.GyroBiasRps, Suite.WheelScale);

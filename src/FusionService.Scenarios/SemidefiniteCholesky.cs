@@ -12,9 +12,9 @@ internal static class SemidefiniteCholesky
 {
     private const double RelativePivotFloor = 1e-12;
 
-    public static void Factor(in Matrix8 a, out Matrix8 lower)
+    public static void Factor(in StateMatrix a, out StateMatrix lower)
     {
-        const int n = Matrix8.Size;
+        const int n = StateMatrix.Size;
         lower = default;
         for (int j = 0; j < n; j++)
         {

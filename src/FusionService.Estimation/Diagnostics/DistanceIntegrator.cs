@@ -23,7 +23,7 @@ public static class DistanceIntegrator
     /// <summary>Speed at or below which a smoothed step counts as stationary, m/s.</summary>
     public const double StandstillSpeedMps = 0.05;
 
-    private const int N = Matrix8.Size;
+    private const int N = StateMatrix.Size;
 
     /// <summary>Distance over [<paramref name="fromUs"/>, <paramref name="toUs"/>] (Unix microseconds) across all segments.</summary>
     public static DistanceEstimate Integrate(IEnumerable<SmoothedSegment> segments, long fromUs, long toUs)
@@ -80,7 +80,7 @@ public static class DistanceIntegrator
         w.Clear();
         for (int k = count - 1; k >= 0; k--)
         {
-            ref readonly Matrix8 p = ref s.Covariances[k];
+            ref readonly StateMatrix p = ref s.Covariances[k];
             if (gv[k] != 0 || ga[k] != 0)
             {
                 double pgv = (gv[k] * p[(SpeedMps * N) + SpeedMps]) + (ga[k] * p[(SpeedMps * N) + AccelMps2]);
@@ -100,7 +100,7 @@ public static class DistanceIntegrator
                 next[i] = w[i] + (p[(i * N) + SpeedMps] * gv[k]) + (p[(i * N) + AccelMps2] * ga[k]);
             }
 
-            ref readonly Matrix8 c = ref s.Gains[k - 1];
+            ref readonly StateMatrix c = ref s.Gains[k - 1];
             for (int i = 0; i < N; i++)
             {
                 double sum = 0;

@@ -25,7 +25,7 @@ public static class TrapezoidDistanceIntegrator
     /// <summary>Links between smoothed instants longer than this are integrated as chords, seconds.</summary>
     public const double GapS = 2.0;
 
-    private const int N = Matrix8.Size;
+    private const int N = StateMatrix.Size;
 
     /// <summary>Distance over [<paramref name="fromUs"/>, <paramref name="toUs"/>] (Unix microseconds) across all segments; gaps between segments count nothing.</summary>
     /// <exception cref="ArgumentException"><paramref name="toUs"/> precedes <paramref name="fromUs"/>.</exception>
@@ -123,7 +123,7 @@ public static class TrapezoidDistanceIntegrator
         w.Clear();
         for (int k = count - 1; k >= 0; k--)
         {
-            ref readonly Matrix8 p = ref s.Covariances[k];
+            ref readonly StateMatrix p = ref s.Covariances[k];
             if (gv[k] != 0 || ge[k] != 0 || gn[k] != 0)
             {
                 double pv = (p[(SpeedMps * N) + SpeedMps] * gv[k]) + (p[(SpeedMps * N) + EastM] * ge[k]) + (p[(SpeedMps * N) + NorthM] * gn[k]);
@@ -144,7 +144,7 @@ public static class TrapezoidDistanceIntegrator
                 next[i] = w[i] + (p[(i * N) + SpeedMps] * gv[k]) + (p[(i * N) + EastM] * ge[k]) + (p[(i * N) + NorthM] * gn[k]);
             }
 
-            ref readonly Matrix8 c = ref s.Gains[k - 1];
+            ref readonly StateMatrix c = ref s.Gains[k - 1];
             for (int i = 0; i < N; i++)
             {
                 double sum = 0;

@@ -18,14 +18,14 @@ public static class ExtendedKalmanFilter
     /// <summary>Largest measurement dimension an update accepts.</summary>
     public const int MaxMeasurementDimension = 3;
 
-    private const int N = Matrix8.Size;
+    private const int N = StateMatrix.Size;
 
     /// <summary>
     /// P ← F P Fᵀ for a transition Jacobian whose rows 4 to 7 are rows of the identity (true of
     /// <see cref="Models.CtraMotionModel"/>: yaw rate, acceleration, bias and scale are carried over), which
     /// halves the work of a dense product.
     /// </summary>
-    public static void PropagateCovariance(ref Matrix8 covariance, in Matrix8 jacobian)
+    public static void PropagateCovariance(ref StateMatrix covariance, in StateMatrix jacobian)
     {
         // Rows 0-3 of F P (rows 4-7 of F P are rows of P) computed into a scratch before they replace P's, eight columns
         // at a time and each element summed over j in ascending order; then (F P) Fᵀ in place, where only columns 0-3 change.
@@ -73,7 +73,7 @@ public static class ExtendedKalmanFilter
     /// <returns>Whether the update was applied.</returns>
     /// <exception cref="FilterDivergenceException">S or the updated covariance is not positive definite or not finite.</exception>
     public static bool TryUpdateJoseph(
-        ref Vector8 x, ref Matrix8 covariance, ReadOnlySpan<double> residual, ReadOnlySpan<double> h,
+        ref StateVector x, ref StateMatrix covariance, ReadOnlySpan<double> residual, ReadOnlySpan<double> h,
         ReadOnlySpan<double> r, double gateThreshold, out double nis)
     {
         UpdateFactors unused = default;
@@ -81,11 +81,11 @@ public static class ExtendedKalmanFilter
     }
 
     /// <summary>
-    /// <see cref="TryUpdateJoseph(ref Vector8, ref Matrix8, ReadOnlySpan{double}, ReadOnlySpan{double}, ReadOnlySpan{double}, double, out double)"/>
+    /// <see cref="TryUpdateJoseph(ref StateVector, ref StateMatrix, ReadOnlySpan{double}, ReadOnlySpan{double}, ReadOnlySpan{double}, double, out double)"/>
     /// that also hands out the update's <see cref="UpdateFactors"/> when it is applied and <paramref name="captureFactors"/> is set.
     /// </summary>
     public static bool TryUpdateJoseph(
-        ref Vector8 x, ref Matrix8 covariance, ReadOnlySpan<double> residual, ReadOnlySpan<double> h,
+        ref StateVector x, ref StateMatrix covariance, ReadOnlySpan<double> residual, ReadOnlySpan<double> h,
         ReadOnlySpan<double> r, double gateThreshold, out double nis, ref UpdateFactors factors, bool captureFactors)
     {
         int m = residual.Length;
@@ -293,7 +293,7 @@ public static class ExtendedKalmanFilter
     /// Throws <see cref="FilterDivergenceException"/> unless every state value is finite and the covariance is
     /// positive definite (its Cholesky factorisation succeeds).
     /// </summary>
-    public static void RequirePositiveDefinite(in Matrix8 covariance, in Vector8 x, string context)
+    public static void RequirePositiveDefinite(in StateMatrix covariance, in StateVector x, string context)
     {
         for (int i = 0; i < N; i++)
         {
@@ -315,9 +315,9 @@ public static class ExtendedKalmanFilter
     /// Computations</i>, 4th ed., section 4.2; from memory). Rows are eliminated eight columns at a time; the factor is
     /// not kept, so this is the divergence guard's test, not a solver.
     /// </summary>
-    internal static bool IsPositiveDefinite(in Matrix8 matrix)
+    internal static bool IsPositiveDefinite(in StateMatrix matrix)
     {
-        Span<double> a = stackalloc double[Matrix8.Length];
+        Span<double> a = stackalloc double[StateMatrix.Length];
         ((ReadOnlySpan<double>)matrix).CopyTo(a);
         ref double a0 = ref MemoryMarshal.GetReference(a);
         for (int j = 0; j < N; j++)
@@ -343,7 +343,7 @@ public static class ExtendedKalmanFilter
     }
 
     /// <summary>Replaces P by (P + Pᵀ) / 2.</summary>
-    public static void Symmetrize(ref Matrix8 covariance)
+    public static void Symmetrize(ref StateMatrix covariance)
     {
         Span<double> p = covariance;
         ref double p0 = ref MemoryMarshal.GetReference(p);

@@ -23,10 +23,10 @@ public struct UpdateFactors
     public Column3 Whitened;
 
     /// <summary>W = Hᵀ L⁻ᵀ, 8 x m row-major (element (i, a) at i * m + a).</summary>
-    public Block8x3 Information;
+    public StateBlock3 Information;
 
     /// <summary>B = P Hᵀ L⁻ᵀ with the covariance before the update, 8 x m row-major (element (i, a) at i * m + a).</summary>
-    public Block8x3 Gain;
+    public StateBlock3 Gain;
 
     /// <summary>Up to three doubles inline.</summary>
     [InlineArray(ExtendedKalmanFilter.MaxMeasurementDimension)]
@@ -37,7 +37,7 @@ public struct UpdateFactors
 
     /// <summary>Up to 8 x 3 doubles inline.</summary>
     [InlineArray(8 * ExtendedKalmanFilter.MaxMeasurementDimension)]
-    public struct Block8x3
+    public struct StateBlock3
     {
         private double _element0;
     }

@@ -10,10 +10,10 @@ namespace FusionService.Estimation.LinearAlgebra;
 /// </summary>
 internal static class CarriedOverTransitionProduct
 {
-    private const int N = Matrix8.Size;
+    private const int N = StateMatrix.Size;
 
     /// <summary>Whether rows 4 to 7 of <paramref name="f"/> are rows of the identity, as <see cref="Multiply"/> assumes.</summary>
-    internal static bool Applies(in Matrix8 f)
+    internal static bool Applies(in StateMatrix f)
     {
         ReadOnlySpan<double> fS = f;
         for (int i = 4; i < N; i++)
@@ -34,9 +34,9 @@ internal static class CarriedOverTransitionProduct
     /// <param name="a">A, 64 elements row-major.</param>
     /// <param name="f">F.</param>
     /// <param name="result">R, 64 elements; may be <paramref name="a"/>.</param>
-    internal static void Multiply(ReadOnlySpan<double> a, in Matrix8 f, Span<double> result)
+    internal static void Multiply(ReadOnlySpan<double> a, in StateMatrix f, Span<double> result)
     {
-        if (a.Length < Matrix8.Length || result.Length < Matrix8.Length)
+        if (a.Length < StateMatrix.Length || result.Length < StateMatrix.Length)
         {
             throw new ArgumentException("8 x 8 matrices expected");
         }

@@ -10,7 +10,7 @@ namespace FusionService.Estimation.LinearAlgebra;
 /// </summary>
 internal static class OuterProductUpdate
 {
-    private const int N = Matrix8.Size;
+    private const int N = StateMatrix.Size;
 
     /// <summary>Largest rank handled.</summary>
     internal const int MaxRank = 3;
@@ -22,7 +22,7 @@ internal static class OuterProductUpdate
     /// <param name="rank">m, 1 to <see cref="MaxRank"/>.</param>
     internal static void Subtract(Span<double> matrix, ReadOnlySpan<double> u, ReadOnlySpan<double> v, int rank)
     {
-        if (rank is < 1 or > MaxRank || matrix.Length < Matrix8.Length || u.Length < N * rank || v.Length < N * rank)
+        if (rank is < 1 or > MaxRank || matrix.Length < StateMatrix.Length || u.Length < N * rank || v.Length < N * rank)
         {
             throw new ArgumentException($"8 x 8 matrix and 8 x {rank} factors expected (rank 1 to {MaxRank})");
         }

@@ -34,12 +34,12 @@ public static class CtraMotionModel
     /// <param name="x">State, changed in place.</param>
     /// <param name="dtS">Time step, seconds, finite and non-negative.</param>
     /// <param name="jacobian">Receives the 8 x 8 transition Jacobian F.</param>
-    public static void Predict(ref Vector8 x, double dtS, out Matrix8 jacobian)
+    public static void Predict(ref StateVector x, double dtS, out StateMatrix jacobian)
     {
         jacobian = default;
-        for (int i = 0; i < Matrix8.Size; i++)
+        for (int i = 0; i < StateMatrix.Size; i++)
         {
-            jacobian[(i * Matrix8.Size) + i] = 1.0;
+            jacobian[(i * StateMatrix.Size) + i] = 1.0;
         }
 
         double theta = x[HeadingRad], v = x[SpeedMps], omega = x[YawRateRps], a = x[AccelMps2];
@@ -57,7 +57,7 @@ public static class CtraMotionModel
         x[HeadingRad] = Angles.WrapPi(theta + (omega * t));
         x[SpeedMps] = v + (a * t);
 
-        const int n = Matrix8.Size;
+        const int n = StateMatrix.Size;
         jacobian[(EastM * n) + HeadingRad] = dDeltaDTheta.Real;
         jacobian[(NorthM * n) + HeadingRad] = dDeltaDTheta.Imaginary;
         jacobian[(EastM * n) + SpeedMps] = dDeltaDv.Real;
@@ -86,11 +86,11 @@ public static class CtraMotionModel
     /// <param name="dtS">Time step, seconds.</param>
     /// <param name="profile">Noise densities.</param>
     /// <param name="stationary">When true the position random walk is switched off (a parked vehicle does not slip).</param>
-    public static void AddProcessNoise(ref Matrix8 covariance, in Vector8 x, double dtS, NoiseProfile profile, bool stationary)
+    public static void AddProcessNoise(ref StateMatrix covariance, in StateVector x, double dtS, NoiseProfile profile, bool stationary)
     {
         double t = dtS, t2 = t * t, t3 = t2 * t, t4 = t3 * t, t5 = t4 * t;
         double c = Math.Cos(x[HeadingRad]), s = Math.Sin(x[HeadingRad]), v = x[SpeedMps];
-        const int n = Matrix8.Size;
+        const int n = StateMatrix.Size;
 
         double qj = profile.JerkDensityM2PerS5;
         AddChain(ref covariance, c, s, 1.0, SpeedMps, AccelMps2, qj, t, t2, t3, t4, t5);
@@ -106,10 +106,10 @@ public static class CtraMotionModel
     }
 
     private static void AddChain(
-        ref Matrix8 p, double ux, double uy, double gain, int first, int second, double q,
+        ref StateMatrix p, double ux, double uy, double gain, int first, int second, double q,
         double t, double t2, double t3, double t4, double t5)
     {
-        const int n = Matrix8.Size;
+        const int n = StateMatrix.Size;
         double pp = q * gain * gain * t5 / 20.0;
         double p1 = q * gain * t4 / 8.0;
         double p2 = q * gain * t3 / 6.0;
@@ -126,10 +126,10 @@ public static class CtraMotionModel
         p[(second * n) + second] += q * t;
     }
 
-    private static void AddSymmetric(ref Matrix8 p, int i, int j, double value)
+    private static void AddSymmetric(ref StateMatrix p, int i, int j, double value)
     {
-        p[(i * Matrix8.Size) + j] += value;
-        p[(j * Matrix8.Size) + i] += value;
+        p[(i * StateMatrix.Size) + j] += value;
+        p[(j * StateMatrix.Size) + i] += value;
     }
 
     /// <summary>f₁, f₂, f₃ of the remarks: f_n(φ) = ∫₀¹ s^(n-1) e^{iφ s} ds.</summary>

@@ -16,7 +16,7 @@ namespace FusionService.Estimation.Smoothing;
 /// </remarks>
 public static class CompactedRauchTungStriebelSmoother
 {
-    private const int N = Matrix8.Size;
+    private const int N = StateMatrix.Size;
 
     /// <summary>Smooths <paramref name="segment"/> in place; a second call does nothing.</summary>
     /// <exception cref="FilterDivergenceException">A smoothed covariance has a non-finite entry.</exception>
@@ -28,22 +28,22 @@ public static class CompactedRauchTungStriebelSmoother
             return;
         }
 
-        Vector8[] means = segment.Means;
-        Matrix8[] covariances = segment.Covariances;
-        Matrix8[] gains = segment.Gains;
-        Vector8[] predicted = segment.PredictedNext;
+        StateVector[] means = segment.Means;
+        StateMatrix[] covariances = segment.Covariances;
+        StateMatrix[] gains = segment.Gains;
+        StateVector[] predicted = segment.PredictedNext;
         Span<double> dx = stackalloc double[N];
-        Span<double> gp = stackalloc double[Matrix8.Length];
+        Span<double> gp = stackalloc double[StateMatrix.Length];
         for (int k = segment.Count - 2; k >= 0; k--)
         {
-            ref readonly Matrix8 g = ref gains[k];
+            ref readonly StateMatrix g = ref gains[k];
             for (int i = 0; i < N; i++)
             {
                 dx[i] = means[k + 1][i] - predicted[k][i];
             }
 
             dx[HeadingRad] = Angles.WrapPi(dx[HeadingRad]);
-            ref Vector8 mean = ref means[k];
+            ref StateVector mean = ref means[k];
             for (int i = 0; i < N; i++)
             {
                 double sum = 0;
@@ -57,7 +57,7 @@ public static class CompactedRauchTungStriebelSmoother
 
             mean[HeadingRad] = Angles.WrapPi(mean[HeadingRad]);
 
-            ref readonly Matrix8 next = ref covariances[k + 1];
+            ref readonly StateMatrix next = ref covariances[k + 1];
             for (int i = 0; i < N; i++)
             {
                 for (int j = 0; j < N; j++)
@@ -72,7 +72,7 @@ public static class CompactedRauchTungStriebelSmoother
                 }
             }
 
-            ref Matrix8 cov = ref covariances[k];
+            ref StateMatrix cov = ref covariances[k];
             for (int i = 0; i < N; i++)
             {
                 for (int j = 0; j < N; j++)

@@ -12,10 +12,10 @@ public sealed class CompactedSegment
 {
     private long[] _times;
     private LocalTangentPlane[] _planes;
-    private Vector8[] _means;
-    private Matrix8[] _covariances;
-    private Matrix8[] _gains;
-    private Vector8[] _predictedNext;
+    private StateVector[] _means;
+    private StateMatrix[] _covariances;
+    private StateMatrix[] _gains;
+    private StateVector[] _predictedNext;
     private readonly SegmentArrayPool? _pool;
 
     /// <summary>Creates an empty segment with room for <paramref name="capacity"/> instants before it grows.</summary>
@@ -29,10 +29,10 @@ public sealed class CompactedSegment
         {
             _times = new long[capacity];
             _planes = new LocalTangentPlane[capacity];
-            _means = new Vector8[capacity];
-            _covariances = new Matrix8[capacity];
-            _gains = new Matrix8[capacity];
-            _predictedNext = new Vector8[capacity];
+            _means = new StateVector[capacity];
+            _covariances = new StateMatrix[capacity];
+            _gains = new StateMatrix[capacity];
+            _predictedNext = new StateVector[capacity];
         }
         else
         {
@@ -62,16 +62,16 @@ public sealed class CompactedSegment
     internal LocalTangentPlane[] Planes => _planes;
 
     /// <summary>Before smoothing: μ(k) = E[x(k) | data up to the prediction into k + 1]; the last one is x(K|K).</summary>
-    internal Vector8[] Means => _means;
+    internal StateVector[] Means => _means;
 
     /// <summary>Before smoothing: D(k) = Π(k) - G(k) P(k+1|·) G(k)ᵀ; the last one is P(K|K).</summary>
-    internal Matrix8[] Covariances => _covariances;
+    internal StateMatrix[] Covariances => _covariances;
 
     /// <summary>Equivalent smoother gains G(k) linking instant k to k + 1 (the last one is zero).</summary>
-    internal Matrix8[] Gains => _gains;
+    internal StateMatrix[] Gains => _gains;
 
     /// <summary>Prediction x(k+1|·) into instant k + 1 used in the link from k.</summary>
-    internal Vector8[] PredictedNext => _predictedNext;
+    internal StateVector[] PredictedNext => _predictedNext;
 
     /// <summary>Overwrites the time and plane of instant <paramref name="index"/>.</summary>
     internal void Replace(int index, long timeUs, in LocalTangentPlane plane)

@@ -45,7 +45,7 @@ namespace FusionService.Estimation.Smoothing;
 /// </remarks>
 public sealed class CompactingStepRecorder : IStepRecorder
 {
-    private const int N = Matrix8.Size;
+    private const int N = StateMatrix.Size;
 
     private readonly List<CompactedSegment> _segments = [];
     private int _expectedInstants;
@@ -53,20 +53,20 @@ public sealed class CompactingStepRecorder : IStepRecorder
     private CompactedSegment? _segment;
     private int _r;
     private long _tR;
-    private Vector8 _mu;
-    private Matrix8 _pi;
-    private Matrix8 _sigma;
+    private StateVector _mu;
+    private StateMatrix _pi;
+    private StateMatrix _sigma;
 
     private bool _hasPair;
-    private Matrix8 _sigmaPred;
-    private Vector8 _xPred;
+    private StateMatrix _sigmaPred;
+    private StateVector _xPred;
 
     // P(k|k-1) of the pending pair and of the step being predicted, in two slots swapped instead of copied.
     private CovariancePair _predicted;
     private int _pairSlot;
 
-    private Vector8 _xPost;
-    private Matrix8 _pPost;
+    private StateVector _xPost;
+    private StateMatrix _pPost;
     private long _tPost;
     private LocalTangentPlane _planePost;
 
@@ -79,8 +79,8 @@ public sealed class CompactingStepRecorder : IStepRecorder
     private bool _pairAdjusted;
     private List<UpdateFactors> _nextUpdates = [];
     private bool _nextAdjusted;
-    private Matrix8 _fNext;
-    private Vector8 _xNext;
+    private StateMatrix _fNext;
+    private StateVector _xNext;
 
     /// <summary>Creates a recorder.</summary>
     /// <param name="recordIntervalUs">Least spacing of recorded instants, microseconds, non-negative (0 records every distinct instant).</param>
@@ -116,7 +116,7 @@ public sealed class CompactingStepRecorder : IStepRecorder
     public IReadOnlyList<CompactedSegment> Segments => _segments;
 
     /// <inheritdoc />
-    public void Start(long timeUs, in Vector8 x, in Matrix8 p, in LocalTangentPlane plane)
+    public void Start(long timeUs, in StateVector x, in StateMatrix p, in LocalTangentPlane plane)
     {
         Complete();
         _segment = new CompactedSegment(_expectedInstants, _pool);
@@ -138,7 +138,7 @@ public sealed class CompactingStepRecorder : IStepRecorder
     }
 
     /// <inheritdoc />
-    public void Predicted(in Matrix8 f, in Vector8 xPredicted, in Matrix8 pPredicted)
+    public void Predicted(in StateMatrix f, in StateVector xPredicted, in StateMatrix pPredicted)
     {
         if (_segment is null)
         {
@@ -161,7 +161,7 @@ public sealed class CompactingStepRecorder : IStepRecorder
     }
 
     /// <inheritdoc />
-    public void Posterior(long timeUs, in Vector8 x, in Matrix8 p, in LocalTangentPlane plane)
+    public void Posterior(long timeUs, in StateVector x, in StateMatrix p, in LocalTangentPlane plane)
     {
         if (_segment is null)
         {
@@ -275,19 +275,19 @@ public sealed class CompactingStepRecorder : IStepRecorder
             return;
         }
 
-        Matrix8 gT = default;
+        StateMatrix gT = default;
         SolveGainTransposed(_sigmaPred, _predicted[_pairSlot], ref gT);
 
         // D = Π - Σ⁻ Gᵀ.
-        Matrix8 product = default;
+        StateMatrix product = default;
         MultiplyRows(_sigmaPred, gT, product);
-        Matrix8 d = _pi;
-        for (int i = 0; i < Matrix8.Length; i++)
+        StateMatrix d = _pi;
+        for (int i = 0; i < StateMatrix.Length; i++)
         {
             d[i] -= product[i];
         }
 
-        Matrix8 g = default;
+        StateMatrix g = default;
         Transpose(gT, ref g);
         s.Means[_r] = _mu;
         s.Covariances[_r] = d;
@@ -321,7 +321,7 @@ public sealed class CompactingStepRecorder : IStepRecorder
             return;
         }
 
-        Matrix8 sigma = _sigmaPred;
+        StateMatrix sigma = _sigmaPred;
         Span<double> sigmaS = sigma;
         ref double sigmaR = ref MemoryMarshal.GetReference(sigmaS);
         Span<double> pi = _pi;
@@ -377,7 +377,7 @@ public sealed class CompactingStepRecorder : IStepRecorder
     /// </summary>
     private void AbsorbPairThroughInverse()
     {
-        Matrix8 gT = default;
+        StateMatrix gT = default;
         SolveGainTransposed(_sigmaPred, _predicted[_pairSlot], ref gT);
         ReadOnlySpan<double> gTs = gT;
         ref double gTr = ref MemoryMarshal.GetReference(gTs);
@@ -404,7 +404,7 @@ public sealed class CompactingStepRecorder : IStepRecorder
         (Vector256.LoadUnsafe(ref muR, 4) + hi).StoreUnsafe(ref muR, 4);
 
         // Σ ← G P⁺, skipping zero gains as the scalar form did.
-        Matrix8 sigma = default;
+        StateMatrix sigma = default;
         ReadOnlySpan<double> post = _pPost;
         ref double postR = ref MemoryMarshal.GetReference(post);
         Span<double> sigmaS = sigma;
@@ -431,15 +431,15 @@ public sealed class CompactingStepRecorder : IStepRecorder
         }
 
         // Π ← Π + (Σ - Σ⁻) Gᵀ.
-        Matrix8 diff = default;
-        for (int i = 0; i < Matrix8.Length; i++)
+        StateMatrix diff = default;
+        for (int i = 0; i < StateMatrix.Length; i++)
         {
             diff[i] = sigma[i] - _sigmaPred[i];
         }
 
-        Matrix8 product = default;
+        StateMatrix product = default;
         MultiplyRows(diff, gT, product);
-        for (int i = 0; i < Matrix8.Length; i++)
+        for (int i = 0; i < StateMatrix.Length; i++)
         {
             _pi[i] += product[i];
         }
@@ -453,10 +453,10 @@ public sealed class CompactingStepRecorder : IStepRecorder
     /// substitution on whole rows of Σ⁻ᵀ at once: the same operations in the same order as a solve per row of G, so the
     /// result is the same to the last bit.
     /// </summary>
-    private static void SolveGainTransposed(in Matrix8 sigmaPred, in Matrix8 pPred, ref Matrix8 gT)
+    private static void SolveGainTransposed(in StateMatrix sigmaPred, in StateMatrix pPred, ref StateMatrix gT)
     {
-        Span<double> chol = stackalloc double[Matrix8.Length];
-        for (int i = 0; i < Matrix8.Length; i++)
+        Span<double> chol = stackalloc double[StateMatrix.Length];
+        for (int i = 0; i < StateMatrix.Length; i++)
         {
             chol[i] = pPred[i];
         }
@@ -503,7 +503,7 @@ public sealed class CompactingStepRecorder : IStepRecorder
     }
 
     /// <summary>result = a fᵀ, by <see cref="CarriedOverTransitionProduct"/> when f's rows 4 to 7 are rows of the identity.</summary>
-    private static void MultiplyTransposed(in Matrix8 a, in Matrix8 f, ref Matrix8 result)
+    private static void MultiplyTransposed(in StateMatrix a, in StateMatrix f, ref StateMatrix result)
     {
         if (CarriedOverTransitionProduct.Applies(f))
         {
@@ -511,7 +511,7 @@ public sealed class CompactingStepRecorder : IStepRecorder
             return;
         }
 
-        Matrix8 fT = default;
+        StateMatrix fT = default;
         Transpose(f, ref fT);
         MultiplyRows(a, fT, result);
     }
@@ -544,10 +544,10 @@ public sealed class CompactingStepRecorder : IStepRecorder
     [System.Runtime.CompilerServices.InlineArray(2)]
     private struct CovariancePair
     {
-        private Matrix8 _element0;
+        private StateMatrix _element0;
     }
 
-    private static void Transpose(in Matrix8 a, ref Matrix8 result)
+    private static void Transpose(in StateMatrix a, ref StateMatrix result)
     {
         for (int i = 0; i < N; i++)
         {
@@ -559,13 +559,13 @@ public sealed class CompactingStepRecorder : IStepRecorder
     }
 
     /// <summary>Whether <paramref name="f"/> is the identity bit for bit (what the filter hands over when no time passed).</summary>
-    private static bool IsIdentity(in Matrix8 f) => Same(f, IdentityMatrix8.Value);
+    private static bool IsIdentity(in StateMatrix f) => Same(f, StateIdentity.Value);
 
     /// <summary>Bitwise equality: a prediction over no time copies the posterior unchanged.</summary>
-    private static bool Same(in Vector8 a, in Vector8 b) =>
+    private static bool Same(in StateVector a, in StateVector b) =>
         MemoryMarshal.AsBytes((ReadOnlySpan<double>)a).SequenceEqual(MemoryMarshal.AsBytes((ReadOnlySpan<double>)b));
 
     /// <summary>Bitwise equality, compared as bytes (vectorised) rather than element by element.</summary>
-    private static bool Same(in Matrix8 a, in Matrix8 b) =>
+    private static bool Same(in StateMatrix a, in StateMatrix b) =>
         MemoryMarshal.AsBytes((ReadOnlySpan<double>)a).SequenceEqual(MemoryMarshal.AsBytes((ReadOnlySpan<double>)b));
 }

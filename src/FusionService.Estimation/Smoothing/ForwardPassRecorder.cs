@@ -14,13 +14,13 @@ public sealed class ForwardPassRecorder : IStepRecorder
     public IReadOnlyList<IReadOnlyList<ForwardStep>> Segments => _segments;
 
     /// <inheritdoc />
-    public void Start(long timeUs, in Vector8 x, in Matrix8 p, in LocalTangentPlane plane)
+    public void Start(long timeUs, in StateVector x, in StateMatrix p, in LocalTangentPlane plane)
     {
         _segments.Add([new ForwardStep { TimeUs = timeUs, Plane = plane, Filtered = x, FilteredCovariance = p }]);
     }
 
     /// <inheritdoc />
-    public void Predicted(in Matrix8 f, in Vector8 xPredicted, in Matrix8 pPredicted)
+    public void Predicted(in StateMatrix f, in StateVector xPredicted, in StateMatrix pPredicted)
     {
         _pending = new ForwardStep
         {
@@ -32,7 +32,7 @@ public sealed class ForwardPassRecorder : IStepRecorder
     }
 
     /// <inheritdoc />
-    public void Posterior(long timeUs, in Vector8 x, in Matrix8 p, in LocalTangentPlane plane)
+    public void Posterior(long timeUs, in StateVector x, in StateMatrix p, in LocalTangentPlane plane)
     {
         ForwardStep step = _pending;
         step.TimeUs = timeUs;

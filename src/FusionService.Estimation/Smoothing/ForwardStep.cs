@@ -16,20 +16,20 @@ public struct ForwardStep
     public LocalTangentPlane Plane;
 
     /// <summary>Filtered mean x(k|k).</summary>
-    public Vector8 Filtered;
+    public StateVector Filtered;
 
     /// <summary>Filtered covariance P(k|k).</summary>
-    public Matrix8 FilteredCovariance;
+    public StateMatrix FilteredCovariance;
 
     /// <summary>Whether the prediction fields are set (false for a segment's first step).</summary>
     public bool HasPrediction;
 
     /// <summary>Transition Jacobian F from the previous step into this one.</summary>
-    public Matrix8 Transition;
+    public StateMatrix Transition;
 
     /// <summary>Predicted mean x(k|k-1).</summary>
-    public Vector8 Predicted;
+    public StateVector Predicted;
 
     /// <summary>Predicted covariance P(k|k-1).</summary>
-    public Matrix8 PredictedCovariance;
+    public StateMatrix PredictedCovariance;
 }

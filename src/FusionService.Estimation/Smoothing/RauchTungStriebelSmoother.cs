@@ -17,7 +17,7 @@ namespace FusionService.Estimation.Smoothing;
 /// </remarks>
 public static class RauchTungStriebelSmoother
 {
-    private const int N = Matrix8.Size;
+    private const int N = StateMatrix.Size;
 
     /// <summary>Smooths one segment as recorded by <see cref="ForwardPassRecorder"/>.</summary>
     /// <exception cref="FilterDivergenceException">A predicted covariance is not positive definite.</exception>
@@ -27,9 +27,9 @@ public static class RauchTungStriebelSmoother
         int count = segment.Count;
         var times = new long[count];
         var planes = new LocalTangentPlane[count];
-        var means = new Vector8[count];
-        var covariances = new Matrix8[count];
-        var gains = new Matrix8[count];
+        var means = new StateVector[count];
+        var covariances = new StateMatrix[count];
+        var gains = new StateMatrix[count];
         if (count == 0)
         {
             return new SmoothedSegment(times, planes, means, covariances, gains);
@@ -40,7 +40,7 @@ public static class RauchTungStriebelSmoother
         planes[count - 1] = last.Plane;
         means[count - 1] = last.Filtered;
         covariances[count - 1] = last.FilteredCovariance;
-        Span<double> chol = stackalloc double[Matrix8.Length];
+        Span<double> chol = stackalloc double[StateMatrix.Length];
         Span<double> column = stackalloc double[N];
         Span<double> dx = stackalloc double[N];
         for (int k = count - 2; k >= 0; k--)
@@ -55,7 +55,7 @@ public static class RauchTungStriebelSmoother
             }
 
             // C(k)ᵀ solves P(k+1|k) Cᵀ = F P(k|k).
-            for (int i = 0; i < Matrix8.Length; i++)
+            for (int i = 0; i < StateMatrix.Length; i++)
             {
                 chol[i] = next.PredictedCovariance[i];
             }
@@ -65,7 +65,7 @@ public static class RauchTungStriebelSmoother
                 throw new FilterDivergenceException($"predicted covariance at step {k + 1} is not positive definite");
             }
 
-            Matrix8 gain = default;
+            StateMatrix gain = default;
             for (int col = 0; col < N; col++)
             {
                 // Column col of Cᵀ = row col of C.
@@ -94,7 +94,7 @@ public static class RauchTungStriebelSmoother
             }
 
             dx[HeadingRad] = Angles.WrapPi(dx[HeadingRad]);
-            Vector8 mean = step.Filtered;
+            StateVector mean = step.Filtered;
             for (int i = 0; i < N; i++)
             {
                 double sum = 0;
@@ -108,14 +108,14 @@ public static class RauchTungStriebelSmoother
 
             mean[HeadingRad] = Angles.WrapPi(mean[HeadingRad]);
 
-            Matrix8 dp = default;
-            for (int i = 0; i < Matrix8.Length; i++)
+            StateMatrix dp = default;
+            for (int i = 0; i < StateMatrix.Length; i++)
             {
                 dp[i] = covariances[k + 1][i] - next.PredictedCovariance[i];
             }
 
-            Matrix8 cov = step.FilteredCovariance;
-            Matrix8 cdp = default;
+            StateMatrix cov = step.FilteredCovariance;
+            StateMatrix cdp = default;
             for (int i = 0; i < N; i++)
             {
                 for (int j = 0; j < N; j++)

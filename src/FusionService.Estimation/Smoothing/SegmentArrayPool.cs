@@ -18,8 +18,8 @@ public sealed class SegmentArrayPool
 {
     private readonly ArrayPool<long> _times;
     private readonly ArrayPool<LocalTangentPlane> _planes;
-    private readonly ArrayPool<Vector8> _vectors;
-    private readonly ArrayPool<Matrix8> _matrices;
+    private readonly ArrayPool<StateVector> _vectors;
+    private readonly ArrayPool<StateMatrix> _matrices;
 
     /// <summary>Creates a pool.</summary>
     /// <param name="maxInstants">Longest array kept, in instants; longer ones are made and dropped as without a pool.</param>
@@ -32,20 +32,20 @@ public sealed class SegmentArrayPool
         _planes = ArrayPool<LocalTangentPlane>.Create(maxInstants, segmentsKept);
 
         // Means and predictions (two per segment), covariances and gains (two per segment).
-        _vectors = ArrayPool<Vector8>.Create(maxInstants, 2 * segmentsKept);
-        _matrices = ArrayPool<Matrix8>.Create(maxInstants, 2 * segmentsKept);
+        _vectors = ArrayPool<StateVector>.Create(maxInstants, 2 * segmentsKept);
+        _matrices = ArrayPool<StateMatrix>.Create(maxInstants, 2 * segmentsKept);
     }
 
     internal long[] RentTimes(int length) => _times.Rent(length);
 
     internal LocalTangentPlane[] RentPlanes(int length) => _planes.Rent(length);
 
-    internal Vector8[] RentVectors(int length) => _vectors.Rent(length);
+    internal StateVector[] RentVectors(int length) => _vectors.Rent(length);
 
-    internal Matrix8[] RentMatrices(int length) => _matrices.Rent(length);
+    internal StateMatrix[] RentMatrices(int length) => _matrices.Rent(length);
 
     /// <summary>Gives back the arrays a smoothed segment shows.</summary>
-    internal void Return(long[] times, LocalTangentPlane[] planes, Vector8[] means, Matrix8[] covariances, Matrix8[] gains)
+    internal void Return(long[] times, LocalTangentPlane[] planes, StateVector[] means, StateMatrix[] covariances, StateMatrix[] gains)
     {
         Return(times);
         Return(planes);
@@ -58,7 +58,7 @@ public sealed class SegmentArrayPool
 
     internal void Return(LocalTangentPlane[] array) => _planes.Return(array);
 
-    internal void Return(Vector8[] array) => _vectors.Return(array);
+    internal void Return(StateVector[] array) => _vectors.Return(array);
 
-    internal void Return(Matrix8[] array) => _matrices.Return(array);
+    internal void Return(StateMatrix[] array) => _matrices.Return(array);
 }

@@ -14,18 +14,18 @@ public sealed class SmoothedSegment : IDisposable
 {
     private long[] _timesUs;
     private LocalTangentPlane[] _planes;
-    private Vector8[] _means;
-    private Matrix8[] _covariances;
-    private Matrix8[] _gains;
+    private StateVector[] _means;
+    private StateMatrix[] _covariances;
+    private StateMatrix[] _gains;
     private SegmentArrayPool? _pool;
 
-    internal SmoothedSegment(long[] timesUs, LocalTangentPlane[] planes, Vector8[] means, Matrix8[] covariances, Matrix8[] gains)
+    internal SmoothedSegment(long[] timesUs, LocalTangentPlane[] planes, StateVector[] means, StateMatrix[] covariances, StateMatrix[] gains)
         : this(timesUs, planes, means, covariances, gains, timesUs.Length)
     {
     }
 
     internal SmoothedSegment(
-        long[] timesUs, LocalTangentPlane[] planes, Vector8[] means, Matrix8[] covariances, Matrix8[] gains, int count, SegmentArrayPool? pool = null)
+        long[] timesUs, LocalTangentPlane[] planes, StateVector[] means, StateMatrix[] covariances, StateMatrix[] gains, int count, SegmentArrayPool? pool = null)
     {
         ArgumentOutOfRangeException.ThrowIfNegative(count);
         if (count > timesUs.Length || count > planes.Length || count > means.Length || count > covariances.Length || count > gains.Length)
@@ -49,13 +49,13 @@ public sealed class SmoothedSegment : IDisposable
     public ReadOnlySpan<LocalTangentPlane> Planes => _planes.AsSpan(0, Count);
 
     /// <summary>Smoothed means x(k|N).</summary>
-    public ReadOnlySpan<Vector8> Means => _means.AsSpan(0, Count);
+    public ReadOnlySpan<StateVector> Means => _means.AsSpan(0, Count);
 
     /// <summary>Smoothed covariances P(k|N).</summary>
-    public ReadOnlySpan<Matrix8> Covariances => _covariances.AsSpan(0, Count);
+    public ReadOnlySpan<StateMatrix> Covariances => _covariances.AsSpan(0, Count);
 
     /// <summary>Smoother gains C(k) linking step k to step k + 1 (the last one is zero); Cov(x_k, x_k+1 | N) = C(k) P(k+1|N).</summary>
-    public ReadOnlySpan<Matrix8> Gains => _gains.AsSpan(0, Count);
+    public ReadOnlySpan<StateMatrix> Gains => _gains.AsSpan(0, Count);
 
     /// <summary>Number of steps (0 once disposed).</summary>
     public int Count { get; private set; }

@@ -13,13 +13,13 @@ namespace FusionService.Estimation.Tracking;
 public interface IStepRecorder
 {
     /// <summary>The filter started (or restarted after a reset) with this state; a new smoothing segment begins.</summary>
-    void Start(long timeUs, in Vector8 x, in Matrix8 p, in LocalTangentPlane plane);
+    void Start(long timeUs, in StateVector x, in StateMatrix p, in LocalTangentPlane plane);
 
     /// <summary>Prediction to the next measurement: transition Jacobian F (including any re-anchoring), predicted mean and covariance.</summary>
-    void Predicted(in Matrix8 f, in Vector8 xPredicted, in Matrix8 pPredicted);
+    void Predicted(in StateMatrix f, in StateVector xPredicted, in StateMatrix pPredicted);
 
     /// <summary>State after the measurement at <paramref name="timeUs"/> (equal to the prediction if it was gated).</summary>
-    void Posterior(long timeUs, in Vector8 x, in Matrix8 p, in LocalTangentPlane plane);
+    void Posterior(long timeUs, in StateVector x, in StateMatrix p, in LocalTangentPlane plane);
 
     /// <summary>
     /// A measurement update between <see cref="Predicted"/> and <see cref="Posterior"/> was applied, with these factors

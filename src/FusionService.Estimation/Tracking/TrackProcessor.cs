@@ -15,7 +15,7 @@ namespace FusionService.Estimation.Tracking;
 /// </summary>
 public sealed class TrackProcessor
 {
-    private const int N = Matrix8.Size;
+    private const int N = StateMatrix.Size;
     private const double MicrosecondsPerSecond = 1e6;
 
     /// <summary>Creates a processor; validates both arguments.</summary>
@@ -227,7 +227,7 @@ public sealed class TrackProcessor
         recorder?.Start(timeUs, s.X, s.P, s.Plane);
     }
 
-    private static void SetVariance(ref Matrix8 p, int i, double variance) => p[(i * N) + i] = variance;
+    private static void SetVariance(ref StateMatrix p, int i, double variance) => p[(i * N) + i] = variance;
 
     private MeasurementOutcome ProcessRunning(ref TrackState s, in Measurement m, IStepRecorder? recorder)
     {
@@ -259,11 +259,11 @@ public sealed class TrackProcessor
     private void PredictTo(ref TrackState s, long timeUs, IStepRecorder? recorder)
     {
         // The composite transition is only needed by a recorder (smoothing) or a re-anchoring; skip building it otherwise.
-        Matrix8 total = default;
+        StateMatrix total = default;
         bool reanchor = Math.Abs(s.X[EastM]) > Options.ReanchorRadiusM || Math.Abs(s.X[NorthM]) > Options.ReanchorRadiusM;
         if (recorder is not null || reanchor)
         {
-            total = IdentityMatrix8.Value;
+            total = StateIdentity.Value;
         }
 
         if (reanchor)
@@ -276,8 +276,8 @@ public sealed class TrackProcessor
         while (remainingS > 0)
         {
             double stepS = Math.Min(remainingS, Options.MaxPredictionStepS);
-            Vector8 prior = s.X;
-            CtraMotionModel.Predict(ref s.X, stepS, out Matrix8 f);
+            StateVector prior = s.X;
+            CtraMotionModel.Predict(ref s.X, stepS, out StateMatrix f);
             ExtendedKalmanFilter.PropagateCovariance(ref s.P, f);
             CtraMotionModel.AddProcessNoise(ref s.P, prior, stepS, Profile, s.Stationary);
             if (recorder is not null)
@@ -298,7 +298,7 @@ public sealed class TrackProcessor
     /// Moves the local plane's anchor to the current position: position becomes (0, 0) and heading turns by the
     /// convergence between the two planes; the covariance is rotated with it, so the output does not jump.
     /// </summary>
-    private static void Reanchor(ref TrackState s, ref Matrix8 jacobian)
+    private static void Reanchor(ref TrackState s, ref StateMatrix jacobian)
     {
         double e = s.X[EastM], n = s.X[NorthM], heading = s.X[HeadingRad];
         GeodeticPoint here = s.Plane.ToGeodetic(OnPlane(e, n));
@@ -308,7 +308,7 @@ public sealed class TrackProcessor
         double turn = Angles.WrapPi(Math.Atan2(aheadEnu.NorthM, aheadEnu.EastM) - heading);
         double c = Math.Cos(turn), si = Math.Sin(turn);
 
-        Matrix8 j = IdentityMatrix8.Value;
+        StateMatrix j = StateIdentity.Value;
         j[(EastM * N) + EastM] = c;
         j[(EastM * N) + NorthM] = -si;
         j[(NorthM * N) + EastM] = si;
@@ -549,7 +549,7 @@ public sealed class TrackProcessor
     }
 
     /// <summary>
-    /// <see cref="ExtendedKalmanFilter.TryUpdateJoseph(ref Vector8, ref Matrix8, ReadOnlySpan{double}, ReadOnlySpan{double}, ReadOnlySpan{double}, double, out double)"/>
+    /// <see cref="ExtendedKalmanFilter.TryUpdateJoseph(ref StateVector, ref StateMatrix, ReadOnlySpan{double}, ReadOnlySpan{double}, ReadOnlySpan{double}, double, out double)"/>
     /// on the track's state; an applied update's factors go to the recorder, if any.
     /// </summary>
     private static bool Update(
@@ -582,9 +582,9 @@ public sealed class TrackProcessor
         return course < 0 ? course + (2.0 * Math.PI) : course;
     }
 
-    private static Matrix8 Multiply(in Matrix8 a, in Matrix8 b)
+    private static StateMatrix Multiply(in StateMatrix a, in StateMatrix b)
     {
-        Matrix8 c = default;
+        StateMatrix c = default;
         for (int i = 0; i < N; i++)
         {
             for (int k = 0; k < N; k++)

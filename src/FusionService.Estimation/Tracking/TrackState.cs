@@ -10,10 +10,10 @@ namespace FusionService.Estimation.Tracking;
 public struct TrackState
 {
     /// <summary>State vector (see <see cref="Models.StateIndex"/>), in the frame of <see cref="Plane"/>.</summary>
-    public Vector8 X;
+    public StateVector X;
 
     /// <summary>State covariance.</summary>
-    public Matrix8 P;
+    public StateMatrix P;
 
     /// <summary>Time of the state, Unix microseconds.</summary>
     public long TimeUs;

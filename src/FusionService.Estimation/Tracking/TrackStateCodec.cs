@@ -36,16 +36,16 @@ public static class TrackStateCodec
 
         var w = new Writer(destination);
         w.Byte(Version);
-        for (int i = 0; i < Vector8.Length; i++)
+        for (int i = 0; i < StateVector.Length; i++)
         {
             w.Double(state.X[i]);
         }
 
-        for (int i = 0; i < Matrix8.Size; i++)
+        for (int i = 0; i < StateMatrix.Size; i++)
         {
-            for (int j = i; j < Matrix8.Size; j++)
+            for (int j = i; j < StateMatrix.Size; j++)
             {
-                w.Double(state.P[(i * Matrix8.Size) + j]);
+                w.Double(state.P[(i * StateMatrix.Size) + j]);
             }
         }
 
@@ -95,18 +95,18 @@ public static class TrackStateCodec
 
         var r = new Reader(data[1..]);
         var s = default(TrackState);
-        for (int i = 0; i < Vector8.Length; i++)
+        for (int i = 0; i < StateVector.Length; i++)
         {
             s.X[i] = r.Double();
         }
 
-        for (int i = 0; i < Matrix8.Size; i++)
+        for (int i = 0; i < StateMatrix.Size; i++)
         {
-            for (int j = i; j < Matrix8.Size; j++)
+            for (int j = i; j < StateMatrix.Size; j++)
             {
                 double v = r.Double();
-                s.P[(i * Matrix8.Size) + j] = v;
-                s.P[(j * Matrix8.Size) + i] = v;
+                s.P[(i * StateMatrix.Size) + j] = v;
+                s.P[(j * StateMatrix.Size) + i] = v;
             }
         }
 

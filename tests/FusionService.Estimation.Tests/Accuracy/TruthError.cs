@@ -9,7 +9,7 @@ namespace FusionService.Estimation.Tests.Accuracy;
 internal static class TruthError
 {
     /// <summary>Squared horizontal distance, m², between the plane point (east, north) and the truth state.</summary>
-    public static double HorizontalSq(ScenarioRun run, in LocalTangentPlane plane, double east, double north, in Vector8 truth)
+    public static double HorizontalSq(ScenarioRun run, in LocalTangentPlane plane, double east, double north, in StateVector truth)
     {
         GeodeticPoint p = plane.ToGeodetic(new EnuPoint(east, north, -((east * east) + (north * north)) / (2 * Wgs84.SemiMajorAxisM)));
         run.Truth.ToLocalM(p.LatitudeDeg, p.LongitudeDeg, out double e, out double n);

@@ -192,7 +192,7 @@ public sealed class FilterConsistencyTests(ITestOutputHelper output)
     {
         // The filter starts at the truth plus a draw from its own initial covariance, so the initial error is consistent.
         long startUs = scenario.Truth.StartTimeUs;
-        Vector8 truth = scenario.TrueStateAt(startUs);
+        StateVector truth = scenario.TrueStateAt(startUs);
         double[] sigma = [3, 3, 0.05, 0.5, 0.02, 0.5, Profile.InitialGyroBiasSigmaRps, Profile.InitialWheelScaleSigma];
         TrackState s = TrackState.Empty;
         for (int i = 0; i < 8; i++)
@@ -209,7 +209,7 @@ public sealed class FilterConsistencyTests(ITestOutputHelper output)
         return s;
     }
 
-    private static double Nees(TrackState state, Vector8 truth)
+    private static double Nees(TrackState state, StateVector truth)
     {
         var e = Vector<double>.Build.Dense(8);
         var p = Matrix<double>.Build.Dense(8, 8);

@@ -19,19 +19,19 @@ public sealed class CtraJacobianTests
         var random = new Random(1234);
         for (int trial = 0; trial < 50; trial++)
         {
-            Vector8 x = RandomState(random, yawRateRps);
+            StateVector x = RandomState(random, yawRateRps);
             double dt = 0.01 + (random.NextDouble() * 1.5);
-            Vector8 propagated = x;
-            CtraMotionModel.Predict(ref propagated, dt, out Matrix8 analytic);
-            for (int j = 0; j < Vector8.Length; j++)
+            StateVector propagated = x;
+            CtraMotionModel.Predict(ref propagated, dt, out StateMatrix analytic);
+            for (int j = 0; j < StateVector.Length; j++)
             {
                 double h = 1e-6 * Math.Max(1.0, Math.Abs(x[j]));
-                Vector8 plus = x, minus = x;
+                StateVector plus = x, minus = x;
                 plus[j] += h;
                 minus[j] -= h;
                 CtraMotionModel.Predict(ref plus, dt, out _);
                 CtraMotionModel.Predict(ref minus, dt, out _);
-                for (int i = 0; i < Vector8.Length; i++)
+                for (int i = 0; i < StateVector.Length; i++)
                 {
                     double diff = plus[i] - minus[i];
                     if (i == HeadingRad)
@@ -42,7 +42,7 @@ public sealed class CtraJacobianTests
                     double numeric = diff / (2 * h);
                     // Central differences of these smooth functions are good to about 1e-7 absolute here
                     // (round-off eps * |x| / h with |x| up to 1e3 m, plus O(h^2) truncation).
-                    AssertNear.Equal(numeric, analytic[(i * Matrix8.Size) + j], 2e-6 * Math.Max(1.0, Math.Abs(numeric)), $"dF[{i},{j}] at omega={yawRateRps}, dt={dt}");
+                    AssertNear.Equal(numeric, analytic[(i * StateMatrix.Size) + j], 2e-6 * Math.Max(1.0, Math.Abs(numeric)), $"dF[{i},{j}] at omega={yawRateRps}, dt={dt}");
                 }
             }
         }
@@ -52,7 +52,7 @@ public sealed class CtraJacobianTests
     public void Zero_yaw_rate_is_straight_line_constant_acceleration()
     {
         // Derived: with omega = 0 the CTRA model reduces to s = v T + a T^2 / 2 along the heading.
-        Vector8 x = default;
+        StateVector x = default;
         x[HeadingRad] = 0.7;
         x[SpeedMps] = 12.0;
         x[AccelMps2] = -1.5;
@@ -69,7 +69,7 @@ public sealed class CtraJacobianTests
     {
         // Derived: at constant speed v and yaw rate omega the path is a circle of radius v / omega; after 2 pi / omega
         // seconds the vehicle is back where it started, heading unchanged.
-        Vector8 x = default;
+        StateVector x = default;
         x[SpeedMps] = 8.0;
         x[YawRateRps] = 0.2;
         x[WheelScale] = 1.0;
@@ -90,8 +90,8 @@ public sealed class CtraJacobianTests
         var random = new Random(99);
         for (int trial = 0; trial < 100; trial++)
         {
-            Vector8 x = RandomState(random, random.NextDouble() - 0.5);
-            Matrix8 q = default;
+            StateVector x = RandomState(random, random.NextDouble() - 0.5);
+            StateMatrix q = default;
             CtraMotionModel.AddProcessNoise(ref q, x, 0.01 + random.NextDouble(), NoiseProfile.DeliveryVan, stationary: false);
             var dense = MathNet.Numerics.LinearAlgebra.Matrix<double>.Build.Dense(8, 8, (i, j) => q[(i * 8) + j]);
             Assert.True((dense - dense.Transpose()).FrobeniusNorm() == 0, "Q must be exactly symmetric");
@@ -100,9 +100,9 @@ public sealed class CtraJacobianTests
         }
     }
 
-    private static Vector8 RandomState(Random random, double yawRateRps)
+    private static StateVector RandomState(Random random, double yawRateRps)
     {
-        Vector8 x = default;
+        StateVector x = default;
         x[EastM] = (random.NextDouble() - 0.5) * 2000;
         x[NorthM] = (random.NextDouble() - 0.5) * 2000;
         x[HeadingRad] = (random.NextDouble() - 0.5) * 2 * Math.PI;

@@ -17,7 +17,7 @@ namespace FusionService.Estimation.Tests.Reference;
 public sealed class FixedSizeFilterAgreementTests
 {
     private const double RelativeTolerance = 1e-12;
-    private const int N = Matrix8.Size;
+    private const int N = StateMatrix.Size;
 
     [Theory]
     [InlineData(1)]
@@ -30,9 +30,9 @@ public sealed class FixedSizeFilterAgreementTests
         var random = new Random(seed);
         var p = Dense.RandomSpd(random, N, 0.1);
         var f = RandomTransition(random);
-        var fixedSize = ToMatrix8(p);
+        var fixedSize = ToStateMatrix(p);
 
-        ExtendedKalmanFilter.PropagateCovariance(ref fixedSize, ToMatrix8(f));
+        ExtendedKalmanFilter.PropagateCovariance(ref fixedSize, ToStateMatrix(f));
         var dense = DenseKalmanFilter.Predict(new GaussianEstimate(Vector<double>.Build.Dense(N), p), f, Dense.Zero(N, N));
 
         RelativeAssert.Relative(dense.Covariance, ToDense(fixedSize), RelativeTolerance, "F P Fᵀ");
@@ -50,8 +50,8 @@ public sealed class FixedSizeFilterAgreementTests
     {
         var random = new Random(seed);
         var (x, p, h, r, residual) = RandomUpdateCase(random, measurementDimension, residualScale: 1.0);
-        var xFixed = ToVector8(x);
-        var pFixed = ToMatrix8(p);
+        var xFixed = ToStateVector(x);
+        var pFixed = ToStateMatrix(p);
 
         bool applied = ExtendedKalmanFilter.TryUpdateJoseph(
             ref xFixed, ref pFixed, residual.ToArray(), RowMajor(h), RowMajor(r), double.PositiveInfinity, out double nis);
@@ -77,8 +77,8 @@ public sealed class FixedSizeFilterAgreementTests
     {
         var random = new Random(seed);
         var (x, p, h, r, residual) = RandomUpdateCase(random, measurementDimension, residualScale: 1.0);
-        var xFixed = ToVector8(x);
-        var pFixed = ToMatrix8(p);
+        var xFixed = ToStateVector(x);
+        var pFixed = ToStateMatrix(p);
         UpdateFactors factors = default;
 
         bool applied = ExtendedKalmanFilter.TryUpdateJoseph(
@@ -125,7 +125,7 @@ public sealed class FixedSizeFilterAgreementTests
             }
 
             bool expected = values.Min() > 0;
-            Assert.Equal(expected, ExtendedKalmanFilter.IsPositiveDefinite(ToMatrix8(shifted)));
+            Assert.Equal(expected, ExtendedKalmanFilter.IsPositiveDefinite(ToStateMatrix(shifted)));
             if (expected)
             {
                 definite++;
@@ -137,11 +137,11 @@ public sealed class FixedSizeFilterAgreementTests
         }
 
         Assert.True(definite > 50 && indefinite > 50, $"{definite} definite and {indefinite} indefinite cases");
-        var withNaN = ToMatrix8(Dense.RandomSpd(random, N, 0.1));
+        var withNaN = ToStateMatrix(Dense.RandomSpd(random, N, 0.1));
         withNaN[(3 * N) + 5] = double.NaN;
         withNaN[(5 * N) + 3] = double.NaN;
         Assert.False(ExtendedKalmanFilter.IsPositiveDefinite(withNaN));
-        var withInfinity = ToMatrix8(Dense.RandomSpd(random, N, 0.1));
+        var withInfinity = ToStateMatrix(Dense.RandomSpd(random, N, 0.1));
         withInfinity[(2 * N) + 2] = double.PositiveInfinity;
         Assert.False(ExtendedKalmanFilter.IsPositiveDefinite(withInfinity));
     }
@@ -154,8 +154,8 @@ public sealed class FixedSizeFilterAgreementTests
     {
         var random = new Random(seed);
         var (x, p, h, r, residual) = RandomUpdateCase(random, measurementDimension, residualScale: 100.0);
-        var xFixed = ToVector8(x);
-        var pFixed = ToMatrix8(p);
+        var xFixed = ToStateVector(x);
+        var pFixed = ToStateMatrix(p);
         double threshold = new ChiSquareGate().Threshold(measurementDimension);
 
         bool applied = ExtendedKalmanFilter.TryUpdateJoseph(
@@ -199,9 +199,9 @@ public sealed class FixedSizeFilterAgreementTests
 
     private static double[] RowMajor(Matrix<double> matrix) => matrix.ToRowMajorArray();
 
-    private static Matrix8 ToMatrix8(Matrix<double> matrix)
+    private static StateMatrix ToStateMatrix(Matrix<double> matrix)
     {
-        var result = default(Matrix8);
+        var result = default(StateMatrix);
         for (int i = 0; i < N; i++)
         {
             for (int j = 0; j < N; j++)
@@ -213,11 +213,11 @@ public sealed class FixedSizeFilterAgreementTests
         return result;
     }
 
-    private static Matrix<double> ToDense(Matrix8 matrix) => Matrix<double>.Build.Dense(N, N, (i, j) => matrix[(i * N) + j]);
+    private static Matrix<double> ToDense(StateMatrix matrix) => Matrix<double>.Build.Dense(N, N, (i, j) => matrix[(i * N) + j]);
 
-    private static Vector8 ToVector8(Vector<double> vector)
+    private static StateVector ToStateVector(Vector<double> vector)
     {
-        var result = default(Vector8);
+        var result = default(StateVector);
         for (int i = 0; i < N; i++)
         {
             result[i] = vector[i];
@@ -226,5 +226,5 @@ public sealed class FixedSizeFilterAgreementTests
         return result;
     }
 
-    private static Vector<double> ToDense(Vector8 vector) => Vector<double>.Build.Dense(N, i => vector[i]);
+    private static Vector<double> ToDense(StateVector vector) => Vector<double>.Build.Dense(N, i => vector[i]);
 }

@@ -31,8 +31,8 @@ internal sealed class ReferenceVehicleEkf
         _gate = new ChiSquareGate(options.GateProbability);
         _plane = running.Plane;
         TimeUs = running.TimeUs;
-        Vector8 x = running.X;
-        Matrix8 p = running.P;
+        StateVector x = running.X;
+        StateMatrix p = running.P;
         _estimate = new GaussianEstimate(
             Vector<double>.Build.Dense(8, i => x[i]),
             Matrix<double>.Build.Dense(8, 8, (i, j) => p[(i * 8) + j]));
@@ -118,15 +118,15 @@ internal sealed class ReferenceVehicleEkf
         while (remaining > 0)
         {
             double step = Math.Min(remaining, _options.MaxPredictionStepS);
-            Vector8 x = default;
+            StateVector x = default;
             for (int i = 0; i < 8; i++)
             {
                 x[i] = _estimate.Mean[i];
             }
 
-            Vector8 prior = x;
-            CtraMotionModel.Predict(ref x, step, out Matrix8 f);
-            Matrix8 q = default;
+            StateVector prior = x;
+            CtraMotionModel.Predict(ref x, step, out StateMatrix f);
+            StateMatrix q = default;
             CtraMotionModel.AddProcessNoise(ref q, prior, step, _profile, stationary: false);
             GaussianEstimate predicted = DenseKalmanFilter.Predict(
                 _estimate,

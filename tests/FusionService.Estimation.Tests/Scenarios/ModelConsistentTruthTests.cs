@@ -69,14 +69,14 @@ public class ModelConsistentTruthTests
 
     private static double Mahalanobis2(TruthTrajectory truth, int k, ModelConsistentTruthOptions options, int[] components)
     {
-        Vector8 x = ModelConsistentTruth.ToStateVector(truth.Samples[k], truth.SensorErrors![k]);
-        Vector8 next = ModelConsistentTruth.ToStateVector(truth.Samples[k + 1], truth.SensorErrors![k + 1]);
+        StateVector x = ModelConsistentTruth.ToStateVector(truth.Samples[k], truth.SensorErrors![k]);
+        StateVector next = ModelConsistentTruth.ToStateVector(truth.Samples[k + 1], truth.SensorErrors![k + 1]);
         double dtS = truth.SamplePeriodUs / 1e6;
-        Matrix8 q = default;
+        StateMatrix q = default;
         CtraMotionModel.AddProcessNoise(ref q, x, dtS, options.Profile, options.Stationary);
         CtraMotionModel.Predict(ref x, dtS, out _);
         int n = components.Length;
-        var qm = Matrix<double>.Build.Dense(n, n, (i, j) => q[(components[i] * Matrix8.Size) + components[j]]);
+        var qm = Matrix<double>.Build.Dense(n, n, (i, j) => q[(components[i] * StateMatrix.Size) + components[j]]);
         var w = Vector<double>.Build.Dense(n, i =>
             components[i] == StateIndex.HeadingRad ? Angles.WrapPi(next[components[i]] - x[components[i]]) : next[components[i]] - x[components[i]]);
         return w.DotProduct(qm.Cholesky().Solve(w));

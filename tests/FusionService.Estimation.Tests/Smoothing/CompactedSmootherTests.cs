@@ -89,8 +89,8 @@ public sealed class CompactedSmootherTests(ITestOutputHelper output)
 
                 int j = lastIndexAt[c.TimesUs[k]];
                 string at = string.Create(CultureInfo.InvariantCulture, $" at instant {k} of segment {s}");
-                Vector8 x = c.Means[k], y = f.Means[j];
-                Matrix8 p = c.Covariances[k], q = f.Covariances[j];
+                StateVector x = c.Means[k], y = f.Means[j];
+                StateMatrix p = c.Covariances[k], q = f.Covariances[j];
 
                 // Tolerances: 1 µm of position, 1 nrad of heading, 1 µm/s of speed, 1e-9 m² of position variance (derived:
                 // the two are the same algebra, so only round-off may differ).
@@ -197,7 +197,7 @@ public sealed class CompactedSmootherTests(ITestOutputHelper output)
         Assert.Equal(a.Count - offset, b.Count);
         for (int k = 0; k < b.Count; k++)
         {
-            for (int i = 0; i < Vector8.Length; i++)
+            for (int i = 0; i < StateVector.Length; i++)
             {
                 Assert.Equal(a.Means[k + offset][i], b.Means[k][i]);
             }
@@ -230,7 +230,7 @@ public sealed class CompactedSmootherTests(ITestOutputHelper output)
         return distance;
     }
 
-    private static void AssertSymmetricPositiveDefinite(Matrix8 p, string at)
+    private static void AssertSymmetricPositiveDefinite(StateMatrix p, string at)
     {
         var values = new double[8, 8];
         for (int i = 0; i < 8; i++)
@@ -262,9 +262,9 @@ public sealed class CompactedSmootherTests(ITestOutputHelper output)
 
         public int Posteriors { get; private set; }
 
-        public void Start(long timeUs, in Vector8 x, in Matrix8 p, in FusionService.Estimation.Geodesy.LocalTangentPlane plane) => inner.Start(timeUs, x, p, plane);
+        public void Start(long timeUs, in StateVector x, in StateMatrix p, in FusionService.Estimation.Geodesy.LocalTangentPlane plane) => inner.Start(timeUs, x, p, plane);
 
-        public void Predicted(in Matrix8 f, in Vector8 xPredicted, in Matrix8 pPredicted) => inner.Predicted(f, xPredicted, pPredicted);
+        public void Predicted(in StateMatrix f, in StateVector xPredicted, in StateMatrix pPredicted) => inner.Predicted(f, xPredicted, pPredicted);
 
         public void Updated(in FusionService.Estimation.Filtering.UpdateFactors factors)
         {
@@ -278,7 +278,7 @@ public sealed class CompactedSmootherTests(ITestOutputHelper output)
             inner.Adjusted();
         }
 
-        public void Posterior(long timeUs, in Vector8 x, in Matrix8 p, in FusionService.Estimation.Geodesy.LocalTangentPlane plane)
+        public void Posterior(long timeUs, in StateVector x, in StateMatrix p, in FusionService.Estimation.Geodesy.LocalTangentPlane plane)
         {
             Posteriors++;
             inner.Posterior(timeUs, x, p, plane);

@@ -63,8 +63,8 @@ public sealed class SegmentArrayPoolTests
         var pool = new SegmentArrayPool();
         var first = CompactedTrackReplay.Run(Processor, TrackState.Empty, all, 1_000_000, expectedInstants: 4096, pool: pool);
         Assert.True(first[0].Count > 100);
-        ref readonly Matrix8 firstCovariance = ref first[0].Covariances[0];
-        ref readonly Matrix8 firstGain = ref first[0].Gains[0];
+        ref readonly StateMatrix firstCovariance = ref first[0].Covariances[0];
+        ref readonly StateMatrix firstGain = ref first[0].Gains[0];
         first[0].Dispose();
         Assert.Equal(0, first[0].Count);
         Assert.True(first[0].Covariances.IsEmpty);
@@ -72,7 +72,7 @@ public sealed class SegmentArrayPoolTests
 
         var second = CompactedTrackReplay.Run(Processor, TrackState.Empty, all, 1_000_000, expectedInstants: 4096, pool: pool);
         // Covariances and gains come from one bucket of 8 x 8 arrays, so either of the first segment's may come back.
-        ref Matrix8 secondCovariance = ref Unsafe.AsRef(in second[0].Covariances[0]);
+        ref StateMatrix secondCovariance = ref Unsafe.AsRef(in second[0].Covariances[0]);
         Assert.True(
             Unsafe.AreSame(ref Unsafe.AsRef(in firstCovariance), ref secondCovariance) || Unsafe.AreSame(ref Unsafe.AsRef(in firstGain), ref secondCovariance),
             "the second replay should get one of the first one's 8 x 8 arrays back from the pool");
@@ -87,7 +87,7 @@ public sealed class SegmentArrayPoolTests
         Assert.Equal(count, segments[0].Count);
     }
 
-    private static ReadOnlySpan<byte> Bits(in Vector8 v) => MemoryMarshal.AsBytes((ReadOnlySpan<double>)v);
+    private static ReadOnlySpan<byte> Bits(in StateVector v) => MemoryMarshal.AsBytes((ReadOnlySpan<double>)v);
 
-    private static ReadOnlySpan<byte> Bits(in Matrix8 m) => MemoryMarshal.AsBytes((ReadOnlySpan<double>)m);
+    private static ReadOnlySpan<byte> Bits(in StateMatrix m) => MemoryMarshal.AsBytes((ReadOnlySpan<double>)m);
 }

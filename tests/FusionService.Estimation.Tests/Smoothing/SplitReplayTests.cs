@@ -78,8 +78,8 @@ public sealed class SplitReplayTests(ITestOutputHelper output)
                 int j = atTime[b.TimesUs[k]];
 
                 string at = string.Create(CultureInfo.InvariantCulture, $" at {b.TimesUs[k]} us");
-                Vector8 x = b.Means[k], y = a.Means[j];
-                Matrix8 p = b.Covariances[k], q = a.Covariances[j];
+                StateVector x = b.Means[k], y = a.Means[j];
+                StateMatrix p = b.Covariances[k], q = a.Covariances[j];
 
                 // Tolerances as in CompactedSmootherTests (derived: the same algebra, so only round-off may differ).
                 AssertNear.Equal(y[EastM], x[EastM], 1e-6, "smoothed east (m)" + at);

@@ -36,7 +36,7 @@ public sealed class InnovationOutcomeTests
 
             Assert.Equal(1, recorder.Predictions);
             Assert.Equal(processor.InnovationDimension(m), outcome.Dimension);
-            Vector8 prior = recorder.PriorX;
+            StateVector prior = recorder.PriorX;
             (double e0, double e1) = Expected(processor, m, prior, recorder.Plane);
             AssertNear.Equal(e0, outcome.Innovation0, 1e-9, "innovation component 0 (m, m/s or rad/s)");
             if (outcome.Dimension == 2)
@@ -62,7 +62,7 @@ public sealed class InnovationOutcomeTests
 
             if (m.Kind == SensorKind.GnssPosition)
             {
-                Matrix8 p = recorder.PriorP;
+                StateMatrix p = recorder.PriorP;
                 double r = m.Value2 * (double)m.Value2;
                 double a = p[0] + r, b = p[1], c = p[N + 1] + r;
                 double det = (a * c) - (b * b);
@@ -82,9 +82,9 @@ public sealed class InnovationOutcomeTests
         Assert.True(other > 1000, $"only {other} motion samples checked");
     }
 
-    private const int N = Matrix8.Size;
+    private const int N = StateMatrix.Size;
 
-    private static (double, double) Expected(TrackProcessor processor, in Measurement m, in Vector8 x, LocalTangentPlane plane)
+    private static (double, double) Expected(TrackProcessor processor, in Measurement m, in StateVector x, LocalTangentPlane plane)
     {
         switch (m.Kind)
         {
@@ -104,21 +104,21 @@ public sealed class InnovationOutcomeTests
     private sealed class Capture : IStepRecorder
     {
         public int Predictions;
-        public Vector8 PriorX;
-        public Matrix8 PriorP;
-        public Vector8 PosteriorX;
+        public StateVector PriorX;
+        public StateMatrix PriorP;
+        public StateVector PosteriorX;
         public LocalTangentPlane Plane;
 
-        public void Start(long timeUs, in Vector8 x, in Matrix8 p, in LocalTangentPlane plane) => Plane = plane;
+        public void Start(long timeUs, in StateVector x, in StateMatrix p, in LocalTangentPlane plane) => Plane = plane;
 
-        public void Predicted(in Matrix8 f, in Vector8 xPredicted, in Matrix8 pPredicted)
+        public void Predicted(in StateMatrix f, in StateVector xPredicted, in StateMatrix pPredicted)
         {
             Predictions++;
             PriorX = xPredicted;
             PriorP = pPredicted;
         }
 
-        public void Posterior(long timeUs, in Vector8 x, in Matrix8 p, in LocalTangentPlane plane)
+        public void Posterior(long timeUs, in StateVector x, in StateMatrix p, in LocalTangentPlane plane)
         {
             PosteriorX = x;
             Plane = plane;

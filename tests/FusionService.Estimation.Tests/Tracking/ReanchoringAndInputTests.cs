@@ -44,7 +44,7 @@ public sealed class ReanchoringAndInputTests(ITestOutputHelper output)
             GeodeticPoint p = TrackProcessor.PositionOf(track.Current);
             worstDifferenceM = Math.Max(worstDifferenceM, VincentyInverse.Compute(p, TrackProcessor.PositionOf(singlePlane.Current)).DistanceM);
             EnuPoint enu = reference.ToEnu(p);
-            Vector8 t = truth[m.TimeUs];
+            StateVector t = truth[m.TimeUs];
             worstErrorM = Math.Max(worstErrorM, Math.Sqrt(Math.Pow(enu.EastM - t[EastM], 2) + Math.Pow(enu.NorthM - t[NorthM], 2)));
             if (previous is GeodeticPoint q)
             {
@@ -89,16 +89,16 @@ public sealed class ReanchoringAndInputTests(ITestOutputHelper output)
     [Fact]
     public void A_covariance_that_is_not_positive_definite_raises_instead_of_returning_nan()
     {
-        Vector8 x = default;
-        Matrix8 p = default;
+        StateVector x = default;
+        StateMatrix p = default;
         for (int i = 0; i < 8; i++)
         {
             p[(i * 8) + i] = 1;
         }
 
         p[(SpeedMps * 8) + SpeedMps] = -1;
-        Vector8 copy = x;
-        Matrix8 pCopy = p;
+        StateVector copy = x;
+        StateMatrix pCopy = p;
         var error = Assert.Throws<FilterDivergenceException>(() =>
             ExtendedKalmanFilter.TryUpdateJoseph(ref copy, ref pCopy, [0.1], [0, 0, 0, 1, 0, 0, 0, 0], [0.0025], double.PositiveInfinity, out _));
         Assert.Contains("not positive definite", error.Message, StringComparison.Ordinal);

@@ -17,7 +17,7 @@ internal sealed class SimpleDrive
 
     public List<Measurement> Measurements { get; } = [];
 
-    public List<(long TimeUs, Vector8 Truth)> Truth { get; } = [];
+    public List<(long TimeUs, StateVector Truth)> Truth { get; } = [];
 
     /// <summary>Message keys of GNSS fixes displaced by an injected 30-100 m jump.</summary>
     public HashSet<ulong> Outliers { get; } = [];
@@ -28,7 +28,7 @@ internal sealed class SimpleDrive
         var drive = new SimpleDrive();
         var random = new Random(seed);
         var plane = new LocalTangentPlane(Origin);
-        Vector8 x = default;
+        StateVector x = default;
         x[HeadingRad] = 0.3;
         x[SpeedMps] = 10.0;
         x[WheelScale] = wheelScale;
