@@ -83,6 +83,8 @@ public static class ExtendedKalmanFilter
     /// <summary>
     /// <see cref="TryUpdateJoseph(ref StateVector, ref StateMatrix, ReadOnlySpan{double}, ReadOnlySpan{double}, ReadOnlySpan{double}, double, out double)"/>
     /// that also hands out the update's <see cref="UpdateFactors"/> when it is applied and <paramref name="captureFactors"/> is set.
+    /// <see cref="UpdateFactors.Dimension"/> and <see cref="UpdateFactors.Whitened"/> (w = L⁻¹ ν, the innovation in units of
+    /// its own standard deviation) are written whenever the NIS is formed, gated or not.
     /// </summary>
     public static bool TryUpdateJoseph(
         ref StateVector x, ref StateMatrix covariance, ReadOnlySpan<double> residual, ReadOnlySpan<double> h,
@@ -153,9 +155,11 @@ public static class ExtendedKalmanFilter
         residual.CopyTo(w);
         ForwardSubstitute(chol, m, w[..m]);
         nis = 0;
+        factors.Dimension = m;
         for (int a = 0; a < m; a++)
         {
             nis += w[a] * w[a];
+            factors.Whitened[a] = w[a];
         }
 
         if (!double.IsFinite(nis))
@@ -271,8 +275,6 @@ public static class ExtendedKalmanFilter
     private static void CaptureFactors(ReadOnlySpan<double> lInv, ReadOnlySpan<double> h, ReadOnlySpan<double> whitened, ref UpdateFactors factors)
     {
         int m = whitened.Length;
-        factors.Dimension = m;
-        whitened.CopyTo(factors.Whitened);
         Span<double> information = factors.Information;
         for (int j = 0; j < N; j++)
         {

@@ -31,14 +31,30 @@ public readonly record struct MeasurementOutcome(
     /// </summary>
     public double Innovation1 { get; init; } = double.NaN;
 
+    /// <summary>
+    /// First component of the whitened innovation w = L⁻¹ ν, where S = H P Hᵀ + R = L Lᵀ (lower Cholesky factor):
+    /// dimensionless, standard normal and white over time for a consistent filter, so its sample autocorrelation tests the
+    /// filter's whiteness (Mehra 1970). For GNSS position the first component is the east offset over its standard
+    /// deviation. NaN when <see cref="Dimension"/> is 0.
+    /// </summary>
+    public double Whitened0 { get; init; } = double.NaN;
+
+    /// <summary>Second component of the whitened innovation (see <see cref="Whitened0"/>) when <see cref="Dimension"/> is 2; NaN otherwise.</summary>
+    public double Whitened1 { get; init; } = double.NaN;
+
     /// <summary>An outcome without an innovation.</summary>
     public static MeasurementOutcome Of(OutcomeKind kind) => new(kind, double.NaN, 0, double.NaN, false, 0);
 
-    /// <summary>This outcome carrying <paramref name="innovation"/> (one or two components; see <see cref="Innovation0"/>).</summary>
-    public MeasurementOutcome WithInnovation(ReadOnlySpan<double> innovation) => this with
+    /// <summary>
+    /// This outcome carrying <paramref name="innovation"/> and its whitened form <paramref name="whitened"/> (one or two
+    /// components each; see <see cref="Innovation0"/> and <see cref="Whitened0"/>).
+    /// </summary>
+    public MeasurementOutcome WithInnovation(ReadOnlySpan<double> innovation, ReadOnlySpan<double> whitened = default) => this with
     {
         Innovation0 = innovation.Length > 0 ? innovation[0] : double.NaN,
         Innovation1 = innovation.Length > 1 ? innovation[1] : double.NaN,
+        Whitened0 = whitened.Length > 0 ? whitened[0] : double.NaN,
+        Whitened1 = whitened.Length > 1 ? whitened[1] : double.NaN,
     };
 
     /// <summary>Human-readable reason, for logs and the audit trail.</summary>

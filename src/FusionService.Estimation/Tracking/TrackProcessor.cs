@@ -338,7 +338,8 @@ public sealed class TrackProcessor
         h[N + NorthM] = 1.0;
         Span<double> r = [sigma * sigma, 0, 0, sigma * sigma];
         double threshold = Gate.Threshold(2);
-        bool accepted = Update(ref s, residual, h, r, threshold, out double nis, recorder);
+        Span<double> whitened = [double.NaN, double.NaN];
+        bool accepted = Update(ref s, residual, h, r, threshold, out double nis, recorder, whitened);
         var fix = new HeldFix(true, m.TimeUs, enu.EastM, enu.NorthM, sigma);
         if (accepted)
         {
@@ -349,7 +350,7 @@ public sealed class TrackProcessor
             }
 
             s.Fix = fix;
-            return new MeasurementOutcome(OutcomeKind.Accepted, nis, 2, threshold, s.Stationary, 0).WithInnovation(residual);
+            return new MeasurementOutcome(OutcomeKind.Accepted, nis, 2, threshold, s.Stationary, 0).WithInnovation(residual, whitened);
         }
 
         if (s.RejectedFixes == 0)
@@ -364,7 +365,7 @@ public sealed class TrackProcessor
             && offsetM >= Options.ResetDistanceM;
         if (!sustained)
         {
-            return new MeasurementOutcome(OutcomeKind.Gated, nis, 2, threshold, s.Stationary, 0).WithInnovation(residual);
+            return new MeasurementOutcome(OutcomeKind.Gated, nis, 2, threshold, s.Stationary, 0).WithInnovation(residual, whitened);
         }
 
         // A real relocation (ferry, tow truck, long tunnel): start again from this fix, keeping the calibration.
@@ -374,7 +375,7 @@ public sealed class TrackProcessor
         s.Fix = new HeldFix(true, m.TimeUs, 0, 0, sigma);
         s.Course = default;
         s.RejectedFixes = 0;
-        return new MeasurementOutcome(OutcomeKind.TrackReset, nis, 2, threshold, s.Stationary, offsetM).WithInnovation(residual);
+        return new MeasurementOutcome(OutcomeKind.TrackReset, nis, 2, threshold, s.Stationary, offsetM).WithInnovation(residual, whitened);
     }
 
     /// <summary>
@@ -521,15 +522,16 @@ public sealed class TrackProcessor
     {
         int dim = residual.Length;
         double threshold = Gate.Threshold(dim);
-        if (Update(ref s, residual, h, r, threshold, out double nis, recorder))
+        Span<double> whitened = [double.NaN, double.NaN, double.NaN];
+        if (Update(ref s, residual, h, r, threshold, out double nis, recorder, whitened[..dim]))
         {
             rejections = 0;
-            return new MeasurementOutcome(OutcomeKind.Accepted, nis, dim, threshold, s.Stationary, 0).WithInnovation(residual);
+            return new MeasurementOutcome(OutcomeKind.Accepted, nis, dim, threshold, s.Stationary, 0).WithInnovation(residual, whitened);
         }
 
         if (++rejections < Options.RecoverAfterRejections)
         {
-            return new MeasurementOutcome(OutcomeKind.Gated, nis, dim, threshold, s.Stationary, 0).WithInnovation(residual);
+            return new MeasurementOutcome(OutcomeKind.Gated, nis, dim, threshold, s.Stationary, 0).WithInnovation(residual, whitened);
         }
 
         for (int row = 0; row < dim; row++)
@@ -545,27 +547,25 @@ public sealed class TrackProcessor
         rejections = 0;
         recorder?.Adjusted();
         Update(ref s, residual, h, r, double.PositiveInfinity, out _, recorder);
-        return new MeasurementOutcome(OutcomeKind.Accepted, nis, dim, threshold, s.Stationary, 0) { Recovered = true }.WithInnovation(residual);
+        return new MeasurementOutcome(OutcomeKind.Accepted, nis, dim, threshold, s.Stationary, 0) { Recovered = true }.WithInnovation(residual, whitened);
     }
 
     /// <summary>
-    /// <see cref="ExtendedKalmanFilter.TryUpdateJoseph(ref StateVector, ref StateMatrix, ReadOnlySpan{double}, ReadOnlySpan{double}, ReadOnlySpan{double}, double, out double)"/>
-    /// on the track's state; an applied update's factors go to the recorder, if any.
+    /// <see cref="ExtendedKalmanFilter.TryUpdateJoseph(ref StateVector, ref StateMatrix, ReadOnlySpan{double}, ReadOnlySpan{double}, ReadOnlySpan{double}, double, out double, ref UpdateFactors, bool)"/>
+    /// on the track's state; an applied update's factors go to the recorder, if any. <paramref name="whitened"/> receives
+    /// the whitened innovation L⁻¹ ν (S = L Lᵀ), gated or not.
     /// </summary>
     private static bool Update(
         ref TrackState s, ReadOnlySpan<double> residual, ReadOnlySpan<double> h, ReadOnlySpan<double> r, double threshold, out double nis,
-        IStepRecorder? recorder)
+        IStepRecorder? recorder, Span<double> whitened = default)
     {
-        if (recorder is null)
-        {
-            return ExtendedKalmanFilter.TryUpdateJoseph(ref s.X, ref s.P, residual, h, r, threshold, out nis);
-        }
-
         UpdateFactors factors = default;
-        bool applied = ExtendedKalmanFilter.TryUpdateJoseph(ref s.X, ref s.P, residual, h, r, threshold, out nis, ref factors, captureFactors: true);
+        bool applied = ExtendedKalmanFilter.TryUpdateJoseph(
+            ref s.X, ref s.P, residual, h, r, threshold, out nis, ref factors, captureFactors: recorder is not null);
+        ((ReadOnlySpan<double>)factors.Whitened)[..Math.Min(whitened.Length, factors.Dimension)].CopyTo(whitened);
         if (applied)
         {
-            recorder.Updated(factors);
+            recorder?.Updated(factors);
         }
 
         return applied;

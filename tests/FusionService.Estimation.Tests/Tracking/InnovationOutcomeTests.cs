@@ -68,11 +68,24 @@ public sealed class InnovationOutcomeTests
                 double det = (a * c) - (b * b);
                 double nis = ((c * e0 * e0) - (2 * b * e0 * e1) + (a * e1 * e1)) / det;
                 AssertNear.Equal(nis, outcome.Nis, 1e-9 * Math.Max(1, nis), "GNSS position NIS (dimensionless)");
+
+                // Whitened innovation L⁻¹ ν with S = [[a, b], [b, c]] = L Lᵀ written out (Cholesky of a 2 x 2; derived).
+                double l11 = Math.Sqrt(a), l21 = b / l11, l22 = Math.Sqrt(c - (l21 * l21));
+                AssertNear.Equal(e0 / l11, outcome.Whitened0, 1e-9 * Math.Max(1, Math.Abs(e0 / l11)), "whitened east (dimensionless)");
+                AssertNear.Equal((e1 - (l21 * e0 / l11)) / l22, outcome.Whitened1, 1e-9 * Math.Max(1, Math.Abs(outcome.Whitened1)), "whitened north (dimensionless)");
                 AssertNear.AtMost(Math.Sqrt((e0 * e0) + (e1 * e1)), outcome.PositionShiftM, 1e-9, "a position fix moves the estimate less than its residual (m)");
                 checkedGnss++;
             }
             else
             {
+                if (outcome.Dimension == 1)
+                {
+                    // A 1-D whitened innovation is ν / sqrt(S): its square is the NIS and its sign the innovation's (derived).
+                    AssertNear.Equal(outcome.Nis, outcome.Whitened0 * outcome.Whitened0, 1e-9 * Math.Max(1, outcome.Nis), "whitened² = NIS (dimensionless)");
+                    Assert.Equal(Math.Sign(outcome.Innovation0), Math.Sign(outcome.Whitened0));
+                    Assert.True(double.IsNaN(outcome.Whitened1), "second whitened component of a 1-D innovation must be NaN");
+                }
+
                 other++;
             }
         }
