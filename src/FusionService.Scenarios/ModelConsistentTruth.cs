@@ -63,7 +63,7 @@ public static class ModelConsistentTruth
         var samples = new TruthSample[steps + 1];
         var errors = new SensorErrorSample[steps + 1];
         Record(x, options.StartTimeUs, out samples[0], out errors[0]);
-        Span<double> z = stackalloc double[StateVector.Length];
+        Span<double> z = stackalloc double[StateIndex.VehicleCount];
         for (int k = 1; k <= steps; k++)
         {
             Step(ref x, dtS, options, rng, z);
@@ -73,7 +73,7 @@ public static class ModelConsistentTruth
         return new TruthTrajectory(options.OriginLatitudeDeg, options.OriginLongitudeDeg, samples, errors);
     }
 
-    /// <summary>The full eight-component state of a sample pair, in <see cref="StateIndex"/> order.</summary>
+    /// <summary>The vehicle's eight components of a sample pair, in <see cref="StateIndex"/> order (the GNSS error states zero).</summary>
     /// <param name="motion">Motion components.</param>
     /// <param name="sensorErrors">Sensor-error components.</param>
     public static StateVector ToStateVector(in TruthSample motion, in SensorErrorSample sensorErrors)
@@ -112,7 +112,8 @@ public static class ModelConsistentTruth
             z[i] = rng.NextGaussian();
         }
 
-        for (int i = 0; i < StateMatrix.Size; i++)
+        // The vehicle's components only: the GNSS error states belong to the receiver, not to the motion.
+        for (int i = 0; i < StateIndex.VehicleCount; i++)
         {
             double w = 0.0;
             for (int k = 0; k <= i; k++)

@@ -1,6 +1,7 @@
 // Stopwatch split of the van day's smoothing work: filter alone, filter with the compacting recorder, backward pass.
 using System.Diagnostics;
 using System.Globalization;
+using FusionService.Estimation.LinearAlgebra;
 using FusionService.Estimation.Measurements;
 using FusionService.Estimation.Models;
 using FusionService.Estimation.Smoothing;
@@ -113,12 +114,12 @@ internal static class VanDaySplit
         {
             for (int k = 0; k < s.Count; k++)
             {
-                for (int i = 0; i < 8; i++)
+                for (int i = 0; i < StateVector.Length; i++)
                 {
                     Mix(s.Means[k][i]);
                 }
 
-                for (int i = 0; i < 64; i++)
+                for (int i = 0; i < StateMatrix.Length; i++)
                 {
                     Mix(s.Covariances[k][i]);
                     Mix(s.Gains[k][i]);

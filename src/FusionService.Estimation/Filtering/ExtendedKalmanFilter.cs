@@ -1,6 +1,5 @@
 using System.Runtime.CompilerServices;
 using System.Runtime.InteropServices;
-using System.Runtime.Intrinsics;
 using FusionService.Estimation.LinearAlgebra;
 
 namespace FusionService.Estimation.Filtering;
@@ -21,40 +20,89 @@ public static class ExtendedKalmanFilter
     private const int N = StateMatrix.Size;
 
     /// <summary>
-    /// P ← F P Fᵀ for a transition Jacobian whose rows 4 to 7 are rows of the identity (true of
-    /// <see cref="Models.CtraMotionModel"/>: yaw rate, acceleration, bias and scale are carried over), which
-    /// halves the work of a dense product.
+    /// P ← F P Fᵀ. When rows 4 and on of F hold only their diagonal element (true of every prediction step: yaw rate,
+    /// acceleration, bias and scale are carried over and the GNSS error states decay by their Gauss-Markov factor) only
+    /// rows and columns 0 to 3 are summed, which is most of the saving over a dense product; any other F (a re-anchoring's
+    /// rotation) takes the dense product.
     /// </summary>
     public static void PropagateCovariance(ref StateMatrix covariance, in StateMatrix jacobian)
     {
-        // Rows 0-3 of F P (rows 4-7 of F P are rows of P) computed into a scratch before they replace P's, eight columns
-        // at a time and each element summed over j in ascending order; then (F P) Fᵀ in place, where only columns 0-3 change.
         Span<double> p = covariance;
         ref double p0 = ref MemoryMarshal.GetReference(p);
         ReadOnlySpan<double> f = jacobian;
-        Span<Vector256<double>> top = stackalloc Vector256<double>[8];
+        if (!CarriedOverTransitionProduct.Applies(jacobian))
+        {
+            PropagateDense(ref covariance, jacobian);
+            return;
+        }
+
+        // Rows 0-3 of F P computed into a scratch before they replace P's, a whole row at a time and each element summed
+        // over j in ascending order; rows 4 and on of F P are P's scaled by F's diagonal. Then (F P) Fᵀ in place.
+        Span<StateRow> top = stackalloc StateRow[4];
         for (int i = 0; i < 4; i++)
         {
-            var lo = Vector256<double>.Zero;
-            var hi = Vector256<double>.Zero;
+            var row = StateRow.Zero;
             for (int j = 0; j < N; j++)
             {
-                var fij = Vector256.Create(f[(i * N) + j]);
-                lo += fij * Vector256.LoadUnsafe(ref p0, (nuint)(j * N));
-                hi += fij * Vector256.LoadUnsafe(ref p0, (nuint)((j * N) + 4));
+                row += StateRow.Broadcast(f[(i * N) + j]) * StateRow.Load(ref p0, j * N);
             }
 
-            top[2 * i] = lo;
-            top[(2 * i) + 1] = hi;
+            top[i] = row;
+        }
+
+        for (int i = 4; i < N; i++)
+        {
+            double fii = f[(i * N) + i];
+            if (fii != 1.0)
+            {
+                (StateRow.Broadcast(fii) * StateRow.Load(ref p0, i * N)).Store(ref p0, i * N);
+            }
         }
 
         for (int i = 0; i < 4; i++)
         {
-            top[2 * i].StoreUnsafe(ref p0, (nuint)(i * N));
-            top[(2 * i) + 1].StoreUnsafe(ref p0, (nuint)((i * N) + 4));
+            top[i].Store(ref p0, i * N);
         }
 
         CarriedOverTransitionProduct.Multiply(p, jacobian, p);
+        Symmetrize(ref covariance);
+    }
+
+    /// <summary>P ← F P Fᵀ by two dense products.</summary>
+    private static void PropagateDense(ref StateMatrix covariance, in StateMatrix jacobian)
+    {
+        StateMatrix fp = default;
+        for (int i = 0; i < N; i++)
+        {
+            for (int k = 0; k < N; k++)
+            {
+                double fik = jacobian[(i * N) + k];
+                if (fik == 0)
+                {
+                    continue;
+                }
+
+                for (int j = 0; j < N; j++)
+                {
+                    fp[(i * N) + j] += fik * covariance[(k * N) + j];
+                }
+            }
+        }
+
+        for (int i = 0; i < N; i++)
+        {
+            for (int j = 0; j < N; j++)
+            {
+                double sum = 0;
+                for (int k = 0; k < N; k++)
+                {
+                    sum += fp[(i * N) + k] * jacobian[(j * N) + k];
+                }
+
+                covariance[(i * N) + j] = sum;
+            }
+        }
+
         Symmetrize(ref covariance);
     }
 
@@ -66,7 +114,7 @@ public static class ExtendedKalmanFilter
     /// <param name="x">State, updated in place when accepted.</param>
     /// <param name="covariance">Covariance, updated in place when accepted.</param>
     /// <param name="residual">Innovation ν = z - h(x), length m (angles already wrapped).</param>
-    /// <param name="h">Measurement Jacobian, m x 8 row-major.</param>
+    /// <param name="h">Measurement Jacobian, m x n row-major (n = <see cref="StateMatrix.Size"/>).</param>
     /// <param name="r">Measurement noise covariance, m x m row-major, symmetric positive definite.</param>
     /// <param name="gateThreshold">NIS above which the measurement is rejected; +∞ disables the gate.</param>
     /// <param name="nis">Receives the NIS.</param>
@@ -314,7 +362,7 @@ public static class ExtendedKalmanFilter
     /// <summary>
     /// Whether a symmetric matrix is positive definite and finite: symmetric Gaussian elimination without pivoting (the
     /// LDLᵀ factorisation) meets only positive, finite pivots exactly when it is (Golub and Van Loan, <i>Matrix
-    /// Computations</i>, 4th ed., section 4.2; from memory). Rows are eliminated eight columns at a time; the factor is
+    /// Computations</i>, 4th ed., section 4.2; from memory). Rows are eliminated a whole row at a time; the factor is
     /// not kept, so this is the divergence guard's test, not a solver.
     /// </summary>
     internal static bool IsPositiveDefinite(in StateMatrix matrix)
@@ -330,14 +378,11 @@ public static class ExtendedKalmanFilter
                 return false;
             }
 
-            var pivotLo = Vector256.LoadUnsafe(ref a0, (nuint)(j * N));
-            var pivotHi = Vector256.LoadUnsafe(ref a0, (nuint)((j * N) + 4));
+            var pivotRow = StateRow.Load(ref a0, j * N);
             double inverse = 1.0 / pivot;
             for (int i = j + 1; i < N; i++)
             {
-                var factor = Vector256.Create(a[(i * N) + j] * inverse);
-                (Vector256.LoadUnsafe(ref a0, (nuint)(i * N)) - (factor * pivotLo)).StoreUnsafe(ref a0, (nuint)(i * N));
-                (Vector256.LoadUnsafe(ref a0, (nuint)((i * N) + 4)) - (factor * pivotHi)).StoreUnsafe(ref a0, (nuint)((i * N) + 4));
+                (StateRow.Load(ref a0, i * N) - (StateRow.Broadcast(a[(i * N) + j] * inverse) * pivotRow)).Store(ref a0, i * N);
             }
         }
 

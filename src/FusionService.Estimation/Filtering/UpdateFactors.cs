@@ -22,10 +22,10 @@ public struct UpdateFactors
     /// <summary>w = L⁻¹ ν, length m.</summary>
     public Column3 Whitened;
 
-    /// <summary>W = Hᵀ L⁻ᵀ, 8 x m row-major (element (i, a) at i * m + a).</summary>
+    /// <summary>W = Hᵀ L⁻ᵀ, n x m row-major (element (i, a) at i * m + a).</summary>
     public StateBlock3 Information;
 
-    /// <summary>B = P Hᵀ L⁻ᵀ with the covariance before the update, 8 x m row-major (element (i, a) at i * m + a).</summary>
+    /// <summary>B = P Hᵀ L⁻ᵀ with the covariance before the update, n x m row-major (element (i, a) at i * m + a).</summary>
     public StateBlock3 Gain;
 
     /// <summary>Up to three doubles inline.</summary>
@@ -35,8 +35,8 @@ public struct UpdateFactors
         private double _element0;
     }
 
-    /// <summary>Up to 8 x 3 doubles inline.</summary>
-    [InlineArray(8 * ExtendedKalmanFilter.MaxMeasurementDimension)]
+    /// <summary>Up to n x 3 doubles inline (n = <see cref="Models.StateIndex.Count"/>).</summary>
+    [InlineArray(Models.StateIndex.Count * ExtendedKalmanFilter.MaxMeasurementDimension)]
     public struct StateBlock3
     {
         private double _element0;

@@ -50,6 +50,20 @@ public sealed record NoiseProfile
     /// <summary>Initial standard deviation of longitudinal acceleration, m/s^2. Default 1.5.</summary>
     public double InitialAccelSigmaMps2 { get; init; } = 1.5;
 
+    /// <summary>
+    /// Share of a GNSS fix's reported error variance that is correlated over time (see <see cref="GnssErrorModel"/>), in
+    /// (0, 1); the rest is white. Default 0.8: consumer receivers' errors are dominated by slowly varying atmospheric,
+    /// orbit and clock errors and multipath (common practice; chosen so that the 95 % ellipse holds across the range of
+    /// splits and correlation times in docs/estimation.md, measured there).
+    /// </summary>
+    public double GnssCorrelatedFraction { get; init; } = 0.8;
+
+    /// <summary>
+    /// Correlation time τ of the GNSS error's correlated part, seconds. Default 60 (real errors decorrelate over tens of
+    /// seconds to minutes; common practice, measured across 20-120 s in docs/estimation.md).
+    /// </summary>
+    public double GnssErrorTimeConstantS { get; init; } = 60.0;
+
     /// <summary>The delivery-van defaults.</summary>
     public static NoiseProfile DeliveryVan { get; } = new();
 
@@ -69,6 +83,11 @@ public sealed record NoiseProfile
         Check(InitialSpeedSigmaMps, nameof(InitialSpeedSigmaMps));
         Check(InitialYawRateSigmaRps, nameof(InitialYawRateSigmaRps));
         Check(InitialAccelSigmaMps2, nameof(InitialAccelSigmaMps2));
+        Check(GnssErrorTimeConstantS, nameof(GnssErrorTimeConstantS));
+        if (!(GnssCorrelatedFraction > 0 && GnssCorrelatedFraction < 1))
+        {
+            throw new ArgumentException($"{nameof(GnssCorrelatedFraction)} must lie in (0, 1), was {GnssCorrelatedFraction}.", nameof(GnssCorrelatedFraction));
+        }
     }
 
     private static void Check(double value, string name)

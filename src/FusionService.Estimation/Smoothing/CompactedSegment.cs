@@ -55,7 +55,7 @@ public sealed class CompactedSegment
     public ReadOnlySpan<long> TimesUs => _times.AsSpan(0, Count);
 
     /// <summary>Approximate bytes held by the arrays.</summary>
-    public long ApproximateBytes => (long)_times.Length * (8 + 80 + 64 + 512 + 512 + 64);
+    public long ApproximateBytes => (long)_times.Length * (8 + 80 + (2 * StateVector.Length * sizeof(double)) + (2 * StateMatrix.Length * sizeof(double)));
 
     internal long[] Times => _times;
 

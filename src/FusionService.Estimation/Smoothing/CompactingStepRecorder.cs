@@ -1,5 +1,4 @@
 using System.Runtime.InteropServices;
-using System.Runtime.Intrinsics;
 using FusionService.Estimation.Filtering;
 using FusionService.Estimation.Geodesy;
 using FusionService.Estimation.LinearAlgebra;
@@ -38,7 +37,7 @@ namespace FusionService.Estimation.Smoothing;
 /// true conditional ones, so it is exact for the linearised model, not for the non-linear CTRA motion. Steps without
 /// elapsed time and without re-anchoring (F = I, prediction equal to the previous posterior, C = I) are merged with
 /// their neighbours. Between recorded instants the fold needs no inverse: the filter hands over each update's factors
-/// (<see cref="UpdateFactors"/>, the fixed-point smoother's form of the same sums), so the 8 x 8 Cholesky solve for G is
+/// (<see cref="UpdateFactors"/>, the fixed-point smoother's form of the same sums), so the n x n Cholesky solve for G is
 /// made once per recorded instant, and per step only where the posterior was changed by more than updates
 /// (<see cref="IStepRecorder.Adjusted"/>). Heading differences are wrapped to (-π, π].
 /// </para>
@@ -326,7 +325,7 @@ public sealed class CompactingStepRecorder : IStepRecorder
         ref double sigmaR = ref MemoryMarshal.GetReference(sigmaS);
         Span<double> pi = _pi;
         Span<double> a = stackalloc double[N * ExtendedKalmanFilter.MaxMeasurementDimension];
-        Span<Vector256<double>> columns = stackalloc Vector256<double>[2 * ExtendedKalmanFilter.MaxMeasurementDimension];
+        Span<StateRow> columns = stackalloc StateRow[ExtendedKalmanFilter.MaxMeasurementDimension];
         foreach (ref readonly UpdateFactors update in CollectionsMarshal.AsSpan(_pairUpdates))
         {
             int m = update.Dimension;
@@ -337,17 +336,15 @@ public sealed class CompactingStepRecorder : IStepRecorder
             // A = Σ W, row by row: A(i, c) = Σ(i, ·) · W(·, c).
             for (int c = 0; c < m; c++)
             {
-                columns[2 * c] = Vector256.Create(information[c], information[m + c], information[(2 * m) + c], information[(3 * m) + c]);
-                columns[(2 * c) + 1] = Vector256.Create(information[(4 * m) + c], information[(5 * m) + c], information[(6 * m) + c], information[(7 * m) + c]);
+                columns[c] = StateRow.Gather(information, c, m);
             }
 
             for (int i = 0; i < N; i++)
             {
-                var lo = Vector256.LoadUnsafe(ref sigmaR, (nuint)(i * N));
-                var hi = Vector256.LoadUnsafe(ref sigmaR, (nuint)((i * N) + 4));
+                var row = StateRow.Load(ref sigmaR, i * N);
                 for (int c = 0; c < m; c++)
                 {
-                    a[(i * m) + c] = Vector256.Sum((lo * columns[2 * c]) + (hi * columns[(2 * c) + 1]));
+                    a[(i * m) + c] = StateRow.Dot(row, columns[c]);
                 }
             }
 
@@ -383,8 +380,7 @@ public sealed class CompactingStepRecorder : IStepRecorder
         ref double gTr = ref MemoryMarshal.GetReference(gTs);
 
         // μ ← μ + G [x⁺ - x⁻], G's columns taken as rows of Gᵀ.
-        Vector256<double> lo = Vector256<double>.Zero;
-        Vector256<double> hi = Vector256<double>.Zero;
+        var shift = StateRow.Zero;
         for (int j = 0; j < N; j++)
         {
             double dxj = _xPost[j] - _xPred[j];
@@ -393,15 +389,12 @@ public sealed class CompactingStepRecorder : IStepRecorder
                 dxj = Angles.WrapPi(dxj);
             }
 
-            var v = Vector256.Create(dxj);
-            lo += Vector256.LoadUnsafe(ref gTr, (nuint)(j * N)) * v;
-            hi += Vector256.LoadUnsafe(ref gTr, (nuint)((j * N) + 4)) * v;
+            shift += StateRow.Load(ref gTr, j * N) * StateRow.Broadcast(dxj);
         }
 
         Span<double> mu = _mu;
         ref double muR = ref MemoryMarshal.GetReference(mu);
-        (Vector256.LoadUnsafe(ref muR) + lo).StoreUnsafe(ref muR);
-        (Vector256.LoadUnsafe(ref muR, 4) + hi).StoreUnsafe(ref muR, 4);
+        (StateRow.Load(ref muR, 0) + shift).Store(ref muR, 0);
 
         // Σ ← G P⁺, skipping zero gains as the scalar form did.
         StateMatrix sigma = default;
@@ -411,8 +404,7 @@ public sealed class CompactingStepRecorder : IStepRecorder
         ref double sigmaR = ref MemoryMarshal.GetReference(sigmaS);
         for (int i = 0; i < N; i++)
         {
-            lo = Vector256<double>.Zero;
-            hi = Vector256<double>.Zero;
+            var row = StateRow.Zero;
             for (int l = 0; l < N; l++)
             {
                 double gil = gTs[(l * N) + i];
@@ -421,13 +413,10 @@ public sealed class CompactingStepRecorder : IStepRecorder
                     continue;
                 }
 
-                var v = Vector256.Create(gil);
-                lo += v * Vector256.LoadUnsafe(ref postR, (nuint)(l * N));
-                hi += v * Vector256.LoadUnsafe(ref postR, (nuint)((l * N) + 4));
+                row += StateRow.Broadcast(gil) * StateRow.Load(ref postR, l * N);
             }
 
-            lo.StoreUnsafe(ref sigmaR, (nuint)(i * N));
-            hi.StoreUnsafe(ref sigmaR, (nuint)((i * N) + 4));
+            row.Store(ref sigmaR, i * N);
         }
 
         // Π ← Π + (Σ - Σ⁻) Gᵀ.
@@ -471,38 +460,28 @@ public sealed class CompactingStepRecorder : IStepRecorder
         ref double tr = ref MemoryMarshal.GetReference(t);
         for (int c = 0; c < N; c++)
         {
-            var lo = Vector256.LoadUnsafe(ref tr, (nuint)(c * N));
-            var hi = Vector256.LoadUnsafe(ref tr, (nuint)((c * N) + 4));
+            var row = StateRow.Load(ref tr, c * N);
             for (int k = 0; k < c; k++)
             {
-                var v = Vector256.Create(chol[(c * N) + k]);
-                lo -= v * Vector256.LoadUnsafe(ref tr, (nuint)(k * N));
-                hi -= v * Vector256.LoadUnsafe(ref tr, (nuint)((k * N) + 4));
+                row -= StateRow.Broadcast(chol[(c * N) + k]) * StateRow.Load(ref tr, k * N);
             }
 
-            var diagonal = Vector256.Create(chol[(c * N) + c]);
-            (lo / diagonal).StoreUnsafe(ref tr, (nuint)(c * N));
-            (hi / diagonal).StoreUnsafe(ref tr, (nuint)((c * N) + 4));
+            (row / StateRow.Broadcast(chol[(c * N) + c])).Store(ref tr, c * N);
         }
 
         for (int c = N - 1; c >= 0; c--)
         {
-            var lo = Vector256.LoadUnsafe(ref tr, (nuint)(c * N));
-            var hi = Vector256.LoadUnsafe(ref tr, (nuint)((c * N) + 4));
+            var row = StateRow.Load(ref tr, c * N);
             for (int k = c + 1; k < N; k++)
             {
-                var v = Vector256.Create(chol[(k * N) + c]);
-                lo -= v * Vector256.LoadUnsafe(ref tr, (nuint)(k * N));
-                hi -= v * Vector256.LoadUnsafe(ref tr, (nuint)((k * N) + 4));
+                row -= StateRow.Broadcast(chol[(k * N) + c]) * StateRow.Load(ref tr, k * N);
             }
 
-            var diagonal = Vector256.Create(chol[(c * N) + c]);
-            (lo / diagonal).StoreUnsafe(ref tr, (nuint)(c * N));
-            (hi / diagonal).StoreUnsafe(ref tr, (nuint)((c * N) + 4));
+            (row / StateRow.Broadcast(chol[(c * N) + c])).Store(ref tr, c * N);
         }
     }
 
-    /// <summary>result = a fᵀ, by <see cref="CarriedOverTransitionProduct"/> when f's rows 4 to 7 are rows of the identity.</summary>
+    /// <summary>result = a fᵀ, by <see cref="CarriedOverTransitionProduct"/> when f's rows 4 and on are diagonal.</summary>
     private static void MultiplyTransposed(in StateMatrix a, in StateMatrix f, ref StateMatrix result)
     {
         if (CarriedOverTransitionProduct.Applies(f))
@@ -526,17 +505,13 @@ public sealed class CompactingStepRecorder : IStepRecorder
         ref double rr = ref MemoryMarshal.GetReference(result);
         for (int i = 0; i < N; i++)
         {
-            var lo = Vector256<double>.Zero;
-            var hi = Vector256<double>.Zero;
+            var row = StateRow.Zero;
             for (int l = 0; l < N; l++)
             {
-                var v = Vector256.Create(a[(i * N) + l]);
-                lo += v * Vector256.LoadUnsafe(ref br, (nuint)(l * N));
-                hi += v * Vector256.LoadUnsafe(ref br, (nuint)((l * N) + 4));
+                row += StateRow.Broadcast(a[(i * N) + l]) * StateRow.Load(ref br, l * N);
             }
 
-            lo.StoreUnsafe(ref rr, (nuint)(i * N));
-            hi.StoreUnsafe(ref rr, (nuint)((i * N) + 4));
+            row.Store(ref rr, i * N);
         }
     }
 

@@ -113,7 +113,7 @@ public sealed class TrackProcessor
                 if (dtS > 0 && dtS <= Options.TwoFixMaxAgeS && distanceM > Options.TwoFixHeadingSigmas * sigmaM)
                 {
                     double heading = Math.Atan2(dn, de);
-                    Start(ref s, fix, heading, sigmaM / distanceM, distanceM / dtS, sigmaM / dtS, m.TimeUs, recorder);
+                    Start(ref s, fix, fix.SigmaM, heading, sigmaM / distanceM, distanceM / dtS, sigmaM / dtS, m.TimeUs, recorder);
                     return MeasurementOutcome.Of(OutcomeKind.Initialising);
                 }
 
@@ -180,14 +180,20 @@ public sealed class TrackProcessor
             fix.EastM + (travelled * Math.Cos(course.HeadingRad)),
             fix.NorthM + (travelled * Math.Sin(course.HeadingRad)),
             Math.Sqrt((fix.SigmaM * fix.SigmaM) + (0.25 * travelled * travelled)));
-        Start(ref s, moved, course.HeadingRad, course.HeadingSigmaRad, course.SpeedMps, course.SpeedSigmaMps, timeUs, recorder);
+        Start(ref s, moved, fix.SigmaM, course.HeadingRad, course.HeadingSigmaRad, course.SpeedMps, course.SpeedSigmaMps, timeUs, recorder);
     }
 
     private void StartStationary(ref TrackState s, HeldFix fix, long timeUs, IStepRecorder? recorder) =>
-        Start(ref s, fix with { TimeUs = timeUs }, 0.0, Math.PI / Math.Sqrt(3.0), 0.0, Options.StationarySpeedSigmaMps, timeUs, recorder);
+        Start(ref s, fix with { TimeUs = timeUs }, fix.SigmaM, 0.0, Math.PI / Math.Sqrt(3.0), 0.0, Options.StationarySpeedSigmaMps, timeUs, recorder);
 
+    /// <summary>
+    /// Starts the track at <paramref name="fix"/> (whose sigma may include a carry along the course), with the GNSS error
+    /// states at zero: the fix reads position + correlated error + white noise with the correlated share
+    /// f σ_fix² of <paramref name="fixSigmaM"/>'s variance, so the position's error is minus the fix's and its covariance
+    /// with the correlated error is -f σ_fix² (derived; positive definite for 0 &lt; f &lt; 1).
+    /// </summary>
     private void Start(
-        ref TrackState s, HeldFix fix, double headingRad, double headingSigmaRad, double speedMps, double speedSigmaMps,
+        ref TrackState s, HeldFix fix, double fixSigmaM, double headingRad, double headingSigmaRad, double speedMps, double speedSigmaMps,
         long timeUs, IStepRecorder? recorder)
     {
         double bias = 0.0, scale = 1.0;
@@ -218,6 +224,12 @@ public sealed class TrackProcessor
         SetVariance(ref s.P, AccelMps2, Profile.InitialAccelSigmaMps2 * Profile.InitialAccelSigmaMps2);
         SetVariance(ref s.P, GyroBiasRps, biasVar);
         SetVariance(ref s.P, WheelScale, scaleVar);
+        double correlatedVar = CorrelatedVariance(fixSigmaM);
+        SetVariance(ref s.P, GnssErrorEastM, correlatedVar);
+        SetVariance(ref s.P, GnssErrorNorthM, correlatedVar);
+        SetCovariance(ref s.P, EastM, GnssErrorEastM, -correlatedVar);
+        SetCovariance(ref s.P, NorthM, GnssErrorNorthM, -correlatedVar);
+        s.GnssCorrelatedVarianceM2 = correlatedVar;
         s.TimeUs = timeUs;
         s.Phase = TrackPhase.Running;
         s.Fix = fix with { TimeUs = timeUs };
@@ -229,9 +241,19 @@ public sealed class TrackProcessor
 
     private static void SetVariance(ref StateMatrix p, int i, double variance) => p[(i * N) + i] = variance;
 
+    private static void SetCovariance(ref StateMatrix p, int i, int j, double covariance)
+    {
+        p[(i * N) + j] = covariance;
+        p[(j * N) + i] = covariance;
+    }
+
+    /// <summary>Correlated share f σ² of a fix's reported per-axis variance, square metres.</summary>
+    private double CorrelatedVariance(double fixSigmaM) => Profile.GnssCorrelatedFraction * fixSigmaM * fixSigmaM;
+
     private MeasurementOutcome ProcessRunning(ref TrackState s, in Measurement m, IStepRecorder? recorder)
     {
-        PredictTo(ref s, m.TimeUs, recorder);
+        double correlatedVar = m.Kind == SensorKind.GnssPosition ? CorrelatedVariance(m.Value2) : double.NaN;
+        PredictTo(ref s, m.TimeUs, correlatedVar, recorder);
         double eastBefore = s.X[EastM], northBefore = s.X[NorthM];
         MeasurementOutcome outcome = m.Kind switch
         {
@@ -256,7 +278,12 @@ public sealed class TrackProcessor
         return outcome;
     }
 
-    private void PredictTo(ref TrackState s, long timeUs, IStepRecorder? recorder)
+    /// <summary>
+    /// Predicts to <paramref name="timeUs"/>. A GNSS fix about to be fused gives <paramref name="correlatedVarianceM2"/>,
+    /// the correlated share of its reported variance: the error states' stationary variance follows it, any rise added as
+    /// process noise at the end of the prediction (see <see cref="GnssErrorModel"/>); NaN leaves it as it is.
+    /// </summary>
+    private void PredictTo(ref TrackState s, long timeUs, double correlatedVarianceM2, IStepRecorder? recorder)
     {
         // The composite transition is only needed by a recorder (smoothing) or a re-anchoring; skip building it otherwise.
         StateMatrix total = default;
@@ -278,8 +305,10 @@ public sealed class TrackProcessor
             double stepS = Math.Min(remainingS, Options.MaxPredictionStepS);
             StateVector prior = s.X;
             CtraMotionModel.Predict(ref s.X, stepS, out StateMatrix f);
+            GnssErrorModel.Predict(ref s.X, ref f, stepS, Profile.GnssErrorTimeConstantS);
             ExtendedKalmanFilter.PropagateCovariance(ref s.P, f);
             CtraMotionModel.AddProcessNoise(ref s.P, prior, stepS, Profile, s.Stationary);
+            GnssErrorModel.AddProcessNoise(ref s.P, stepS, Profile.GnssErrorTimeConstantS, s.GnssCorrelatedVarianceM2);
             if (recorder is not null)
             {
                 // F I = F: the usual single step needs no product.
@@ -288,6 +317,18 @@ public sealed class TrackProcessor
             }
 
             remainingS -= stepS;
+        }
+
+        if (correlatedVarianceM2 > s.GnssCorrelatedVarianceM2)
+        {
+            double rise = correlatedVarianceM2 - s.GnssCorrelatedVarianceM2;
+            s.P[(GnssErrorEastM * N) + GnssErrorEastM] += rise;
+            s.P[(GnssErrorNorthM * N) + GnssErrorNorthM] += rise;
+        }
+
+        if (!double.IsNaN(correlatedVarianceM2))
+        {
+            s.GnssCorrelatedVarianceM2 = correlatedVarianceM2;
         }
 
         s.TimeUs = timeUs;
@@ -313,6 +354,13 @@ public sealed class TrackProcessor
         j[(EastM * N) + NorthM] = -si;
         j[(NorthM * N) + EastM] = si;
         j[(NorthM * N) + NorthM] = c;
+        j[(GnssErrorEastM * N) + GnssErrorEastM] = c;
+        j[(GnssErrorEastM * N) + GnssErrorNorthM] = -si;
+        j[(GnssErrorNorthM * N) + GnssErrorEastM] = si;
+        j[(GnssErrorNorthM * N) + GnssErrorNorthM] = c;
+        double errorEast = s.X[GnssErrorEastM], errorNorth = s.X[GnssErrorNorthM];
+        s.X[GnssErrorEastM] = (c * errorEast) - (si * errorNorth);
+        s.X[GnssErrorNorthM] = (si * errorEast) + (c * errorNorth);
         s.X[EastM] = 0;
         s.X[NorthM] = 0;
         s.X[HeadingRad] = Angles.WrapPi(heading + turn);
@@ -331,12 +379,15 @@ public sealed class TrackProcessor
     {
         EnuPoint enu = s.Plane.ToEnu(GeodeticPoint.FromDegrees(m.Value0, m.Value1));
         double sigma = m.Value2;
-        Span<double> residual = [enu.EastM - s.X[EastM], enu.NorthM - s.X[NorthM]];
+        Span<double> residual = [enu.EastM - (s.X[EastM] + s.X[GnssErrorEastM]), enu.NorthM - (s.X[NorthM] + s.X[GnssErrorNorthM])];
         Span<double> h = stackalloc double[2 * N];
         h.Clear();
         h[EastM] = 1.0;
+        h[GnssErrorEastM] = 1.0;
         h[N + NorthM] = 1.0;
-        Span<double> r = [sigma * sigma, 0, 0, sigma * sigma];
+        h[N + GnssErrorNorthM] = 1.0;
+        double whiteVar = (1.0 - Profile.GnssCorrelatedFraction) * sigma * sigma;
+        Span<double> r = [whiteVar, 0, 0, whiteVar];
         double threshold = Gate.Threshold(2);
         Span<double> whitened = [double.NaN, double.NaN];
         bool accepted = Update(ref s, residual, h, r, threshold, out double nis, recorder, whitened);

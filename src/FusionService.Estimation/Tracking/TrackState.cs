@@ -57,6 +57,12 @@ public struct TrackState
     /// <summary>Consecutive gated inertial samples.</summary>
     public int ImuRejections;
 
+    /// <summary>
+    /// Stationary variance per axis of the correlated GNSS error the error states currently follow, square metres
+    /// (the correlated share of the last fix's reported variance; see <see cref="Models.GnssErrorModel"/>).
+    /// </summary>
+    public double GnssCorrelatedVarianceM2;
+
     /// <summary>Number of track resets so far.</summary>
     public int Resets;
 

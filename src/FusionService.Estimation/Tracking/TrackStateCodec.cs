@@ -13,10 +13,10 @@ namespace FusionService.Estimation.Tracking;
 public static class TrackStateCodec
 {
     /// <summary>Format version written in the first byte.</summary>
-    public const byte Version = 2;
+    public const byte Version = 3;
 
     /// <summary>Size of an encoded checkpoint, bytes.</summary>
-    public const int EncodedLength = 1 + (8 * 8) + (36 * 8) + 8 + 1 + (3 * 8) + 3 + 8 + 1 + (1 + 8 + (3 * 8)) + (1 + 8 + (4 * 8)) + 8 + 4 + 4 + (8 + 8 + 8 + 8 + 4) + 12;
+    public const int EncodedLength = 1 + (StateVector.Length * 8) + (StateMatrix.Size * (StateMatrix.Size + 1) / 2 * 8) + 8 + 1 + (3 * 8) + 3 + 8 + 1 + (1 + 8 + (3 * 8)) + (1 + 8 + (4 * 8)) + 8 + 4 + 4 + (8 + 8 + 8 + 8 + 4) + 12 + 8;
 
     /// <summary>Encodes a state and the last measurement it includes.</summary>
     public static byte[] Encode(in TrackState state, in Measurement last)
@@ -77,6 +77,7 @@ public static class TrackStateCodec
         w.Int(state.VelocityRejections);
         w.Int(state.WheelRejections);
         w.Int(state.ImuRejections);
+        w.Double(state.GnssCorrelatedVarianceM2);
         w.Long(last.TimeUs);
         w.Long((long)last.OrderKey);
         w.Double(last.Value0);
@@ -131,6 +132,7 @@ public static class TrackStateCodec
         s.VelocityRejections = r.Int();
         s.WheelRejections = r.Int();
         s.ImuRejections = r.Int();
+        s.GnssCorrelatedVarianceM2 = r.Double();
         long timeUs = r.Long();
         ulong orderKey = (ulong)r.Long();
         Measurement last = Measurement.FromStored(timeUs, orderKey, r.Double(), r.Double(), r.Float());

@@ -133,7 +133,7 @@ public static class DiagnosticsReport
     }
 
     /// <summary>Index of the diagonal element (i, i) in the row-major packed upper triangle of the 8 x 8 covariance.</summary>
-    public static int PackedDiagonalIndex(int i) => (i * StateIndex.Count) - (i * (i - 1) / 2);
+    public static int PackedDiagonalIndex(int i) => (i * StateIndex.VehicleCount) - (i * (i - 1) / 2);
 
     /// <summary>The API name of a verdict.</summary>
     public static string VerdictName(ConsistencyVerdict verdict) => verdict switch

@@ -278,9 +278,10 @@ internal sealed class VehicleTrackGrain(
         var position = TrackProcessor.PositionOf(s);
         var packed = new double[FusedStateRow.PackedCovarianceLength];
         int k = 0;
-        for (int i = 0; i < StateIndex.Count; i++)
+        // The vehicle's own components only; the GNSS error states describe the receiver, not the van.
+        for (int i = 0; i < StateIndex.VehicleCount; i++)
         {
-            for (int j = i; j < StateIndex.Count; j++)
+            for (int j = i; j < StateIndex.VehicleCount; j++)
             {
                 packed[k++] = s.P[(i * StateIndex.Count) + j];
             }

@@ -25,7 +25,8 @@ public sealed class FilterConsistencyTests(ITestOutputHelper output)
     // A gentler process than the van default keeps the model-consistent truth physical for the 30 s runs: the triple
     // integrator's speed spread grows like sqrt(q T³ / 3), 4.2 m/s here against a start at 18 m/s (GNSS reports |v|,
     // which the filter does not model for reversing).
-    private static readonly NoiseProfile Profile = NoiseProfile.DeliveryVan with
+    // The scenario's GNSS error is white, so the filter is told so (WhiteGnssProfile).
+    private static readonly NoiseProfile Profile = WhiteGnssProfile.DeliveryVan with
     {
         JerkDensityM2PerS5 = 0.002,
         YawAccelDensityRad2PerS3 = 0.001,
@@ -195,11 +196,17 @@ public sealed class FilterConsistencyTests(ITestOutputHelper output)
         StateVector truth = scenario.TrueStateAt(startUs);
         double[] sigma = [3, 3, 0.05, 0.5, 0.02, 0.5, Profile.InitialGyroBiasSigmaRps, Profile.InitialWheelScaleSigma];
         TrackState s = TrackState.Empty;
-        for (int i = 0; i < 8; i++)
+        for (int i = 0; i < VehicleCount; i++)
         {
             s.X[i] = truth[i] + (sigma[i] * Normal.Sample(random, 0, 1));
-            s.P[(i * 8) + i] = sigma[i] * sigma[i];
+            s.P[(i * StateMatrix.Size) + i] = sigma[i] * sigma[i];
         }
+
+        // The correlated GNSS error states start at zero with the correlated share of the fixes' variance.
+        double sigmaM = SensorSuite.ForProfile(Profile).GnssSigmaM;
+        s.GnssCorrelatedVarianceM2 = Profile.GnssCorrelatedFraction * sigmaM * sigmaM;
+        s.P[(GnssErrorEastM * StateMatrix.Size) + GnssErrorEastM] = s.GnssCorrelatedVarianceM2;
+        s.P[(GnssErrorNorthM * StateMatrix.Size) + GnssErrorNorthM] = s.GnssCorrelatedVarianceM2;
 
         s.TimeUs = startUs;
         s.Phase = TrackPhase.Running;
@@ -211,14 +218,15 @@ public sealed class FilterConsistencyTests(ITestOutputHelper output)
 
     private static double Nees(TrackState state, StateVector truth)
     {
-        var e = Vector<double>.Build.Dense(8);
-        var p = Matrix<double>.Build.Dense(8, 8);
-        for (int i = 0; i < 8; i++)
+        // NEES of the vehicle's eight components (the marginal of the state; the scenario's GNSS error is white).
+        var e = Vector<double>.Build.Dense(VehicleCount);
+        var p = Matrix<double>.Build.Dense(VehicleCount, VehicleCount);
+        for (int i = 0; i < VehicleCount; i++)
         {
             e[i] = state.X[i] - truth[i];
-            for (int j = 0; j < 8; j++)
+            for (int j = 0; j < VehicleCount; j++)
             {
-                p[i, j] = state.P[(i * 8) + j];
+                p[i, j] = state.P[(i * StateMatrix.Size) + j];
             }
         }
 

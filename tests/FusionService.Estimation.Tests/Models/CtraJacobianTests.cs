@@ -93,7 +93,7 @@ public sealed class CtraJacobianTests
             StateVector x = RandomState(random, random.NextDouble() - 0.5);
             StateMatrix q = default;
             CtraMotionModel.AddProcessNoise(ref q, x, 0.01 + random.NextDouble(), NoiseProfile.DeliveryVan, stationary: false);
-            var dense = MathNet.Numerics.LinearAlgebra.Matrix<double>.Build.Dense(8, 8, (i, j) => q[(i * 8) + j]);
+            var dense = MathNet.Numerics.LinearAlgebra.Matrix<double>.Build.Dense(StateMatrix.Size, StateMatrix.Size, (i, j) => q[(i * StateMatrix.Size) + j]);
             Assert.True((dense - dense.Transpose()).FrobeniusNorm() == 0, "Q must be exactly symmetric");
             double smallest = dense.Evd(MathNet.Numerics.LinearAlgebra.Symmetricity.Symmetric).EigenValues.Select(c => c.Real).Min();
             Assert.True(smallest > -1e-15 * dense.FrobeniusNorm(), $"Q has a negative eigenvalue {smallest}");

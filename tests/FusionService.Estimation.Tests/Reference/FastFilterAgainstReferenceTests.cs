@@ -34,14 +34,14 @@ public sealed class FastFilterAgainstReferenceTests
             OutcomeKind fast = processor.Process(ref state, m).Kind;
             OutcomeKind dense = reference.Process(m);
             Assert.Equal(dense, fast);
-            for (int a = 0; a < 8; a++)
+            for (int a = 0; a < StateIndex.Count; a++)
             {
                 double expected = reference.Mean[a];
                 AssertNear.Equal(expected, state.X[a], 1e-9 * Math.Max(1.0, Math.Abs(expected)), $"state[{a}] after measurement {i}");
-                for (int b = 0; b < 8; b++)
+                for (int b = 0; b < StateIndex.Count; b++)
                 {
                     double scale = Math.Sqrt(reference.Covariance[a, a] * reference.Covariance[b, b]);
-                    AssertNear.Equal(reference.Covariance[a, b], state.P[(a * 8) + b], 1e-9 * scale, $"P[{a},{b}] after measurement {i}");
+                    AssertNear.Equal(reference.Covariance[a, b], state.P[(a * StateIndex.Count) + b], 1e-9 * scale, $"P[{a},{b}] after measurement {i}");
                 }
             }
 

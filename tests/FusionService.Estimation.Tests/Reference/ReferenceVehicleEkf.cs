@@ -13,7 +13,8 @@ namespace FusionService.Estimation.Tests.Reference;
 /// <summary>
 /// The vehicle EKF written the straightforward way with MathNet dense matrices (<see cref="DenseKalmanFilter"/>), as an
 /// oracle for the fast fixed-size filter and as the baseline of the benchmarks. It shares only the motion model
-/// (<see cref="CtraMotionModel"/>) with the fast filter; measurement models, covariance algebra and gating are its own.
+/// (<see cref="CtraMotionModel"/>) with the fast filter; measurement models, the Gauss-Markov GNSS error (φ = exp(-Δt/τ),
+/// driving variance σ² (1 - φ²), Brown and Hwang 2012; from memory), covariance algebra and gating are its own.
 /// It covers the running phase on moving data (no standstill, no reset, no re-anchoring).
 /// </summary>
 internal sealed class ReferenceVehicleEkf
@@ -22,7 +23,9 @@ internal sealed class ReferenceVehicleEkf
     private readonly NoiseProfile _profile;
     private readonly ChiSquareGate _gate;
     private readonly LocalTangentPlane _plane;
+    private const int N = StateIndex.Count;
     private GaussianEstimate _estimate;
+    private double _correlatedVarianceM2;
 
     public ReferenceVehicleEkf(in TrackState running, TrackOptions options, NoiseProfile profile)
     {
@@ -31,11 +34,12 @@ internal sealed class ReferenceVehicleEkf
         _gate = new ChiSquareGate(options.GateProbability);
         _plane = running.Plane;
         TimeUs = running.TimeUs;
+        _correlatedVarianceM2 = running.GnssCorrelatedVarianceM2;
         StateVector x = running.X;
         StateMatrix p = running.P;
         _estimate = new GaussianEstimate(
-            Vector<double>.Build.Dense(8, i => x[i]),
-            Matrix<double>.Build.Dense(8, 8, (i, j) => p[(i * 8) + j]));
+            Vector<double>.Build.Dense(N, i => x[i]),
+            Matrix<double>.Build.Dense(N, N, (i, j) => p[(i * N) + j]));
     }
 
     public long TimeUs { get; private set; }
@@ -47,8 +51,23 @@ internal sealed class ReferenceVehicleEkf
     public OutcomeKind Process(in Measurement m)
     {
         Predict(m.TimeUs);
+        if (m.Kind == SensorKind.GnssPosition)
+        {
+            // The error process's stationary variance follows the fix's reported one; a rise enters as process noise.
+            double target = _profile.GnssCorrelatedFraction * m.Value2 * m.Value2;
+            if (target > _correlatedVarianceM2)
+            {
+                Matrix<double> raised = _estimate.Covariance.Clone();
+                raised[GnssErrorEastM, GnssErrorEastM] += target - _correlatedVarianceM2;
+                raised[GnssErrorNorthM, GnssErrorNorthM] += target - _correlatedVarianceM2;
+                _estimate = new GaussianEstimate(_estimate.Mean, raised);
+            }
+
+            _correlatedVarianceM2 = target;
+        }
+
         Vector<double> x = _estimate.Mean;
-        var h = Matrix<double>.Build.Dense(2, 8);
+        var h = Matrix<double>.Build.Dense(2, N);
         Vector<double> residual;
         Matrix<double> r;
         switch (m.Kind)
@@ -56,9 +75,12 @@ internal sealed class ReferenceVehicleEkf
             case SensorKind.GnssPosition:
                 EnuPoint enu = _plane.ToEnu(GeodeticPoint.FromDegrees(m.Value0, m.Value1));
                 h[0, EastM] = 1;
+                h[0, GnssErrorEastM] = 1;
                 h[1, NorthM] = 1;
-                residual = Vector<double>.Build.DenseOfArray([enu.EastM - x[EastM], enu.NorthM - x[NorthM]]);
-                r = Matrix<double>.Build.DenseDiagonal(2, 2, (double)m.Value2 * m.Value2);
+                h[1, GnssErrorNorthM] = 1;
+                residual = Vector<double>.Build.DenseOfArray(
+                    [enu.EastM - x[EastM] - x[GnssErrorEastM], enu.NorthM - x[NorthM] - x[GnssErrorNorthM]]);
+                r = Matrix<double>.Build.DenseDiagonal(2, 2, (1 - _profile.GnssCorrelatedFraction) * m.Value2 * m.Value2);
                 break;
             case SensorKind.GnssVelocity when m.Value0 >= _options.CourseMinSpeedMps && !double.IsNaN(m.Value1):
                 double courseSigma = Math.Max(m.Value2 / m.Value0, _options.CourseSigmaFloorRad);
@@ -69,20 +91,20 @@ internal sealed class ReferenceVehicleEkf
                 r = Matrix<double>.Build.DenseOfDiagonalArray([(double)m.Value2 * m.Value2, courseSigma * courseSigma]);
                 break;
             case SensorKind.GnssVelocity:
-                h = Matrix<double>.Build.Dense(1, 8);
+                h = Matrix<double>.Build.Dense(1, N);
                 h[0, SpeedMps] = 1;
                 residual = Vector<double>.Build.DenseOfArray([m.Value0 - x[SpeedMps]]);
                 r = Matrix<double>.Build.DenseOfDiagonalArray([(double)m.Value2 * m.Value2]);
                 break;
             case SensorKind.WheelSpeed:
-                h = Matrix<double>.Build.Dense(1, 8);
+                h = Matrix<double>.Build.Dense(1, N);
                 h[0, SpeedMps] = x[WheelScale];
                 h[0, WheelScale] = x[SpeedMps];
                 residual = Vector<double>.Build.DenseOfArray([m.Value0 - (x[SpeedMps] * x[WheelScale])]);
                 r = Matrix<double>.Build.DenseOfDiagonalArray([_profile.WheelSpeedSigmaMps * _profile.WheelSpeedSigmaMps]);
                 break;
             case SensorKind.Imu when double.IsNaN(m.Value1):
-                h = Matrix<double>.Build.Dense(1, 8);
+                h = Matrix<double>.Build.Dense(1, N);
                 h[0, YawRateRps] = 1;
                 h[0, GyroBiasRps] = 1;
                 residual = Vector<double>.Build.DenseOfArray([m.Value0 - x[YawRateRps] - x[GyroBiasRps]]);
@@ -119,7 +141,7 @@ internal sealed class ReferenceVehicleEkf
         {
             double step = Math.Min(remaining, _options.MaxPredictionStepS);
             StateVector x = default;
-            for (int i = 0; i < 8; i++)
+            for (int i = 0; i < N; i++)
             {
                 x[i] = _estimate.Mean[i];
             }
@@ -128,11 +150,18 @@ internal sealed class ReferenceVehicleEkf
             CtraMotionModel.Predict(ref x, step, out StateMatrix f);
             StateMatrix q = default;
             CtraMotionModel.AddProcessNoise(ref q, prior, step, _profile, stationary: false);
-            GaussianEstimate predicted = DenseKalmanFilter.Predict(
-                _estimate,
-                Matrix<double>.Build.Dense(8, 8, (i, j) => f[(i * 8) + j]),
-                Matrix<double>.Build.Dense(8, 8, (i, j) => q[(i * 8) + j]));
-            _estimate = new GaussianEstimate(Vector<double>.Build.Dense(8, i => x[i]), predicted.Covariance);
+            var fDense = Matrix<double>.Build.Dense(N, N, (i, j) => f[(i * N) + j]);
+            var qDense = Matrix<double>.Build.Dense(N, N, (i, j) => q[(i * N) + j]);
+            double phi = Math.Exp(-step / _profile.GnssErrorTimeConstantS);
+            foreach (int i in new[] { GnssErrorEastM, GnssErrorNorthM })
+            {
+                fDense[i, i] = phi;
+                qDense[i, i] = _correlatedVarianceM2 * (1 - (phi * phi));
+                x[i] = phi * _estimate.Mean[i];
+            }
+
+            GaussianEstimate predicted = DenseKalmanFilter.Predict(_estimate, fDense, qDense);
+            _estimate = new GaussianEstimate(Vector<double>.Build.Dense(N, i => x[i]), predicted.Covariance);
             remaining -= step;
         }
 

@@ -19,6 +19,8 @@ namespace FusionService.Estimation.Tests.Smoothing;
 /// </summary>
 public sealed class CompactedSmootherTests(ITestOutputHelper output)
 {
+    private const int N = StateMatrix.Size;
+
     private static readonly Lazy<(ScenarioRun Run, Measurement[] All)> Round = new(() =>
     {
         TruthTrajectory truth = new DeliveryNetwork().PlanRound(1, stopCount: 5, seed: 4242, minDwellS: 20, maxDwellS: 60).Drive();
@@ -103,9 +105,9 @@ public sealed class CompactedSmootherTests(ITestOutputHelper output)
                 AssertNear.Equal(y[GyroBiasRps], x[GyroBiasRps], 1e-10, "smoothed gyro bias (rad/s)" + at);
                 AssertNear.Equal(y[WheelScale], x[WheelScale], 1e-9, "smoothed wheel scale" + at);
                 AssertNear.Equal(q[0], p[0], 1e-9, "smoothed east variance (m²)" + at);
-                AssertNear.Equal(q[9], p[9], 1e-9, "smoothed north variance (m²)" + at);
+                AssertNear.Equal(q[N + 1], p[N + 1], 1e-9, "smoothed north variance (m²)" + at);
                 AssertNear.Equal(q[1], p[1], 1e-9, "smoothed east-north covariance (m²)" + at);
-                AssertNear.Equal(q[(SpeedMps * 8) + SpeedMps], p[(SpeedMps * 8) + SpeedMps], 1e-12, "smoothed speed variance (m²/s²)" + at);
+                AssertNear.Equal(q[(SpeedMps * N) + SpeedMps], p[(SpeedMps * N) + SpeedMps], 1e-12, "smoothed speed variance (m²/s²)" + at);
                 AssertSymmetricPositiveDefinite(p, at);
                 Assert.InRange(x[HeadingRad], -Math.PI, Math.PI);
                 worstPositionM = Math.Max(worstPositionM, Math.Max(Math.Abs(x[EastM] - y[EastM]), Math.Abs(x[NorthM] - y[NorthM])));
@@ -232,21 +234,21 @@ public sealed class CompactedSmootherTests(ITestOutputHelper output)
 
     private static void AssertSymmetricPositiveDefinite(StateMatrix p, string at)
     {
-        var values = new double[8, 8];
-        for (int i = 0; i < 8; i++)
+        var values = new double[N, N];
+        for (int i = 0; i < N; i++)
         {
-            for (int j = 0; j < 8; j++)
+            for (int j = 0; j < N; j++)
             {
-                values[i, j] = p[(i * 8) + j];
+                values[i, j] = p[(i * N) + j];
             }
         }
 
         var dense = MathNet.Numerics.LinearAlgebra.Matrix<double>.Build.DenseOfArray(values);
-        for (int i = 0; i < 8; i++)
+        for (int i = 0; i < N; i++)
         {
-            for (int j = 0; j < 8; j++)
+            for (int j = 0; j < N; j++)
             {
-                Assert.Equal(p[(i * 8) + j], p[(j * 8) + i]);
+                Assert.Equal(p[(i * N) + j], p[(j * N) + i]);
             }
         }
 

@@ -88,7 +88,7 @@ public sealed class SplitReplayTests(ITestOutputHelper output)
                 AssertNear.Equal(y[SpeedMps], x[SpeedMps], 1e-6, "smoothed speed (m/s)" + at);
                 AssertNear.Equal(y[WheelScale], x[WheelScale], 1e-9, "smoothed wheel scale" + at);
                 AssertNear.Equal(q[0], p[0], 1e-9, "smoothed east variance (m²)" + at);
-                AssertNear.Equal(q[9], p[9], 1e-9, "smoothed north variance (m²)" + at);
+                AssertNear.Equal(q[StateMatrix.Size + 1], p[StateMatrix.Size + 1], 1e-9, "smoothed north variance (m²)" + at);
                 worstPositionM = Math.Max(worstPositionM, Math.Max(Math.Abs(x[EastM] - y[EastM]), Math.Abs(x[NorthM] - y[NorthM])));
                 compared++;
             }

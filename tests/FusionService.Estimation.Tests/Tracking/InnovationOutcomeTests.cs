@@ -62,9 +62,14 @@ public sealed class InnovationOutcomeTests
 
             if (m.Kind == SensorKind.GnssPosition)
             {
+                // H = [I I] over (position, correlated GNSS error), R the white share of the reported variance:
+                // S = Ppp + Ppe + Pep + Pee + R (docs/estimation.md; derived).
                 StateMatrix p = recorder.PriorP;
-                double r = m.Value2 * (double)m.Value2;
-                double a = p[0] + r, b = p[1], c = p[N + 1] + r;
+                double r = (1 - processor.Profile.GnssCorrelatedFraction) * m.Value2 * (double)m.Value2;
+                int ee = GnssErrorEastM, en = GnssErrorNorthM;
+                double a = p[0] + (2 * p[ee]) + p[(ee * N) + ee] + r;
+                double b = p[1] + p[en] + p[(ee * N) + NorthM] + p[(ee * N) + en];
+                double c = p[N + 1] + (2 * p[N + en]) + p[(en * N) + en] + r;
                 double det = (a * c) - (b * b);
                 double nis = ((c * e0 * e0) - (2 * b * e0 * e1) + (a * e1 * e1)) / det;
                 AssertNear.Equal(nis, outcome.Nis, 1e-9 * Math.Max(1, nis), "GNSS position NIS (dimensionless)");
@@ -103,7 +108,7 @@ public sealed class InnovationOutcomeTests
         {
             case SensorKind.GnssPosition:
                 EnuPoint enu = plane.ToEnu(GeodeticPoint.FromDegrees(m.Value0, m.Value1));
-                return (enu.EastM - x[EastM], enu.NorthM - x[NorthM]);
+                return (enu.EastM - (x[EastM] + x[GnssErrorEastM]), enu.NorthM - (x[NorthM] + x[GnssErrorNorthM]));
             case SensorKind.GnssVelocity:
                 double heading = processor.InnovationDimension(m) == 2 ? Angles.WrapPi(TrackProcessor.CourseToHeading(m.Value1) - x[HeadingRad]) : double.NaN;
                 return (m.Value0 - x[SpeedMps], heading);

@@ -1,3 +1,4 @@
+using FusionService.Estimation.LinearAlgebra;
 using FusionService.Estimation.Measurements;
 using FusionService.Estimation.Models;
 using FusionService.Estimation.Smoothing;
@@ -111,12 +112,12 @@ public sealed class OrderIndependenceTests(ITestOutputHelper output)
 
     internal static void AssertBitwiseEqual(in TrackState expected, in TrackState actual)
     {
-        for (int i = 0; i < 8; i++)
+        for (int i = 0; i < StateVector.Length; i++)
         {
             Assert.Equal(BitConverter.DoubleToInt64Bits(expected.X[i]), BitConverter.DoubleToInt64Bits(actual.X[i]));
         }
 
-        for (int i = 0; i < 64; i++)
+        for (int i = 0; i < StateMatrix.Length; i++)
         {
             Assert.Equal(BitConverter.DoubleToInt64Bits(expected.P[i]), BitConverter.DoubleToInt64Bits(actual.P[i]));
         }

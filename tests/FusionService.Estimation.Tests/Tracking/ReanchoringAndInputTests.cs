@@ -17,8 +17,9 @@ public sealed class ReanchoringAndInputTests(ITestOutputHelper output)
         // Re-anchor every 500 m so a 7 km drive crosses many planes; the fused position must stay on the truth and
         // move smoothly (consecutive epochs differ by about speed x 1 s, never by a plane offset).
         var drive = SimpleDrive.Create(seed: 81, durationS: 700);
-        var track = new VehicleTrack(new TrackOptions { ReanchorRadiusM = 500 }, NoiseProfile.DeliveryVan);
-        var singlePlane = new VehicleTrack(new TrackOptions { ReanchorRadiusM = 1e7 }, NoiseProfile.DeliveryVan);
+        // The drive's GNSS error is white: the filter is told so (WhiteGnssProfile).
+        var track = new VehicleTrack(new TrackOptions { ReanchorRadiusM = 500 }, WhiteGnssProfile.DeliveryVan);
+        var singlePlane = new VehicleTrack(new TrackOptions { ReanchorRadiusM = 1e7 }, WhiteGnssProfile.DeliveryVan);
         double worstDifferenceM = 0;
         var reference = new LocalTangentPlane(SimpleDrive.Origin);
         var truth = drive.Truth.ToDictionary(t => t.TimeUs, t => t.Truth);
@@ -91,16 +92,16 @@ public sealed class ReanchoringAndInputTests(ITestOutputHelper output)
     {
         StateVector x = default;
         StateMatrix p = default;
-        for (int i = 0; i < 8; i++)
+        for (int i = 0; i < StateMatrix.Size; i++)
         {
-            p[(i * 8) + i] = 1;
+            p[(i * StateMatrix.Size) + i] = 1;
         }
 
-        p[(SpeedMps * 8) + SpeedMps] = -1;
+        p[(SpeedMps * StateMatrix.Size) + SpeedMps] = -1;
         StateVector copy = x;
         StateMatrix pCopy = p;
         var error = Assert.Throws<FilterDivergenceException>(() =>
-            ExtendedKalmanFilter.TryUpdateJoseph(ref copy, ref pCopy, [0.1], [0, 0, 0, 1, 0, 0, 0, 0], [0.0025], double.PositiveInfinity, out _));
+            ExtendedKalmanFilter.TryUpdateJoseph(ref copy, ref pCopy, [0.1], [0, 0, 0, 1, 0, 0, 0, 0, 0, 0], [0.0025], double.PositiveInfinity, out _));
         Assert.Contains("not positive definite", error.Message, StringComparison.Ordinal);
     }
 
