@@ -66,4 +66,24 @@ public class GeneratorDefaultsTests
         Assert.True(run.OutlierCount > 0 && run.MeasurementTruths.Any(t => t.InUrbanCanyon), "the golden run exercises outliers and a canyon");
         Assert.Equal(GoldenSha256, Sha256(run));
     }
+
+    [Fact]
+    public void Issue12_new_options_set_to_off_reproduce_the_recorded_output_and_flag_nothing()
+    {
+        // Zero correlated fraction (any tau), no episodes, no HDOP, no course rounding, no carried spans: the same bits.
+        SensorSuite off = GoldenSuite() with
+        {
+            GnssCorrelatedVarianceFraction = 0.0,
+            GnssCorrelationTauS = 120.0,
+            GnssMultipathEpisodes = [],
+            GnssRandomMultipath = null,
+            GnssMultipathReportedSigmaScale = 3.0,
+            GnssReportedHdop = null,
+            GnssCourseResolutionDeg = null,
+            CarriedSpans = [],
+        };
+        ScenarioRun run = GoldenRun(off);
+        Assert.Equal(GoldenSha256, Sha256(run));
+        Assert.All(run.MeasurementTruths, t => Assert.False(t.InMultipath || t.IsCarried || t.CorrelatedErrorEastM != 0 || t.CorrelatedErrorNorthM != 0));
+    }
 }
