@@ -19,6 +19,10 @@ namespace FusionService.Scenarios;
 /// The noise-free reading of Value1: true longitude (degrees), true course of motion (radians clockwise from north,
 /// in [0, 2π)), NaN for wheel speed, or true acceleration (m/s², NaN without accelerometer), by kind.
 /// </param>
+/// <param name="InMultipath">The measurement time lies in a multipath episode (GNSS position fixes other than outliers carry its bias).</param>
+/// <param name="IsCarried">The measurement time lies in a carried span (wheel and IMU read a standstill while the truth moves).</param>
+/// <param name="CorrelatedErrorEastM">GNSS position only: the time-correlated (Gauss-Markov) part of <paramref name="ErrorEastM"/>, metres; 0 when none was applied (option off, outlier, urban canyon).</param>
+/// <param name="CorrelatedErrorNorthM">GNSS position only: the time-correlated part of <paramref name="ErrorNorthM"/>, metres; 0 when none was applied.</param>
 public readonly record struct MeasurementTruth(
     ulong MessageKey,
     SensorKind Kind,
@@ -28,4 +32,8 @@ public readonly record struct MeasurementTruth(
     double ErrorEastM,
     double ErrorNorthM,
     double NoiseFreeValue0,
-    double NoiseFreeValue1);
+    double NoiseFreeValue1,
+    bool InMultipath = false,
+    bool IsCarried = false,
+    double CorrelatedErrorEastM = 0.0,
+    double CorrelatedErrorNorthM = 0.0);

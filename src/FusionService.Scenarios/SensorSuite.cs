@@ -1,4 +1,5 @@
 // What sensors a simulated van carries and how they err.
+using FusionService.Estimation.Measurements;
 using FusionService.Estimation.Models;
 
 namespace FusionService.Scenarios;
@@ -33,6 +34,60 @@ public sealed record SensorSuite
 
     /// <summary>Spans with no GNSS at all (neither position nor velocity). Default none.</summary>
     public IReadOnlyList<TimeInterval> GnssOutages { get; init; } = [];
+
+    /// <summary>
+    /// Fraction of the open-sky GNSS position error variance that is time-correlated, in [0, 1]. Default 0 (white errors,
+    /// the output of the generator before the option existed). Per axis the error is a first-order Gauss-Markov part of
+    /// standard deviation <see cref="GnssCorrelatedSigmaM"/> (time constant <see cref="GnssCorrelationTauS"/>, started
+    /// from its stationary distribution) plus a white part of <see cref="GnssWhiteSigmaM"/>; the reported accuracy
+    /// <see cref="GnssSigmaM"/> describes the total: σ_total² = σ_corr² + σ_white².
+    /// </summary>
+    /// <remarks>Brown and Hwang 2012, the first-order Gauss-Markov process (from memory); see <see cref="FirstOrderGaussMarkov"/>.</remarks>
+    public double GnssCorrelatedVarianceFraction { get; init; }
+
+    /// <summary>Time constant τ of the correlated GNSS position error, seconds, positive. Default 60 (consumer receivers: tens of seconds to minutes; an invented demo value).</summary>
+    public double GnssCorrelationTauS { get; init; } = 60.0;
+
+    /// <summary>Per-axis standard deviation of the correlated part: <see cref="GnssSigmaM"/> sqrt(fraction), metres.</summary>
+    public double GnssCorrelatedSigmaM => GnssSigmaM * Math.Sqrt(GnssCorrelatedVarianceFraction);
+
+    /// <summary>Per-axis standard deviation of the white part: <see cref="GnssSigmaM"/> sqrt(1 - fraction), metres.</summary>
+    public double GnssWhiteSigmaM => GnssSigmaM * Math.Sqrt(1.0 - GnssCorrelatedVarianceFraction);
+
+    /// <summary>Explicit multipath episodes: their bias is added to each position fix inside (not to outliers). Default none.</summary>
+    public IReadOnlyList<MultipathEpisode> GnssMultipathEpisodes { get; init; } = [];
+
+    /// <summary>Random multipath episodes over the whole truth, drawn from their own stream, besides the explicit ones; null (default) for none.</summary>
+    public MultipathProcess? GnssRandomMultipath { get; init; }
+
+    /// <summary>
+    /// Factor on the reported accuracy of fixes inside a multipath episode, at least 1: the receiver notices a little,
+    /// far less than the bias (mildly optimistic). Default 1.5 (invented demo value).
+    /// </summary>
+    public double GnssMultipathReportedSigmaScale { get; init; } = 1.5;
+
+    /// <summary>
+    /// A receiver that reports only HDOP: when set, every fix reports <see cref="HorizontalAccuracy.FromHdop"/>(HDOP,
+    /// <see cref="GnssUereM"/>) as its accuracy instead of the configured sigmas (a constant geometry), whatever the true
+    /// error; null (default) reports the configured sigmas. The errors themselves are unchanged, so the reported accuracy
+    /// may over- or under-state them.
+    /// </summary>
+    public double? GnssReportedHdop { get; init; }
+
+    /// <summary>User equivalent range error assumed with <see cref="GnssReportedHdop"/>, metres (1 sigma). Default 5, the ingest's default.</summary>
+    public double GnssUereM { get; init; } = 5.0;
+
+    /// <summary>
+    /// Resolution to which GNSS course is reported, degrees; null (default) reports full precision. Rounding to a
+    /// resolution makes a course within half a step below 360° read exactly 360° (2π radians), as some receivers write it.
+    /// </summary>
+    public double? GnssCourseResolutionDeg { get; init; }
+
+    /// <summary>
+    /// Spans in which the van is carried (towed, lifted, on a ferry): the truth moves and GNSS reports it, but the wheel
+    /// sensor reads exactly 0 and the IMU reads a standstill (gyro bias + noise, acceleration noise only). Default none.
+    /// </summary>
+    public IReadOnlyList<TimeInterval> CarriedSpans { get; init; } = [];
 
     /// <summary>Whether GNSS speed and course are produced. Default true.</summary>
     public bool GnssVelocityEnabled { get; init; } = true;
@@ -119,6 +174,47 @@ public sealed record SensorSuite
         if (!(OutlierMaxM >= OutlierMinM) || !double.IsFinite(OutlierMaxM))
         {
             throw new ArgumentException($"OutlierMaxM must be finite and not below OutlierMinM, was {OutlierMaxM}.", nameof(OutlierMaxM));
+        }
+
+        if (!(GnssCorrelatedVarianceFraction >= 0 && GnssCorrelatedVarianceFraction <= 1))
+        {
+            throw new ArgumentException($"GnssCorrelatedVarianceFraction must be within [0, 1], was {GnssCorrelatedVarianceFraction}.", nameof(GnssCorrelatedVarianceFraction));
+        }
+
+        Positive(GnssCorrelationTauS, nameof(GnssCorrelationTauS));
+        if (!double.IsFinite(GnssMultipathReportedSigmaScale) || GnssMultipathReportedSigmaScale < 1)
+        {
+            throw new ArgumentException($"GnssMultipathReportedSigmaScale must be finite and at least 1, was {GnssMultipathReportedSigmaScale}.", nameof(GnssMultipathReportedSigmaScale));
+        }
+
+        if (GnssReportedHdop is double hdop)
+        {
+            Positive(hdop, nameof(GnssReportedHdop));
+        }
+
+        Positive(GnssUereM, nameof(GnssUereM));
+        if (GnssCourseResolutionDeg is double resolution)
+        {
+            Positive(resolution, nameof(GnssCourseResolutionDeg));
+        }
+
+        ArgumentNullException.ThrowIfNull(GnssMultipathEpisodes);
+        foreach (MultipathEpisode episode in GnssMultipathEpisodes)
+        {
+            if (episode.Span.EndTimeUs < episode.Span.StartTimeUs || !double.IsFinite(episode.BiasEastM) || !double.IsFinite(episode.BiasNorthM))
+            {
+                throw new ArgumentException($"multipath episode {episode} is inconsistent (span order, finite bias).", nameof(GnssMultipathEpisodes));
+            }
+        }
+
+        GnssRandomMultipath?.Validate();
+        ArgumentNullException.ThrowIfNull(CarriedSpans);
+        foreach (TimeInterval span in CarriedSpans)
+        {
+            if (span.EndTimeUs < span.StartTimeUs)
+            {
+                throw new ArgumentException($"carried span {span} ends before it starts.", nameof(CarriedSpans));
+            }
         }
 
         ArgumentNullException.ThrowIfNull(UrbanCanyons);
