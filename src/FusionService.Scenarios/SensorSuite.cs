@@ -137,8 +137,12 @@ public sealed record SensorSuite
     /// <summary>1-sigma longitudinal accelerometer noise, m/s². Default <see cref="NoiseProfile.AccelSigmaMps2"/> of the delivery van.</summary>
     public double AccelSigmaMps2 { get; init; } = NoiseProfile.DeliveryVan.AccelSigmaMps2;
 
-    /// <summary>A suite with the defaults and the sample-noise sigmas of <paramref name="profile"/>.</summary>
-    /// <param name="profile">Noise profile whose wheel, gyro and accelerometer sigmas to use.</param>
+    /// <summary>
+    /// A suite with the defaults, the sample-noise sigmas of <paramref name="profile"/> and its GNSS error model: the
+    /// correlated share <see cref="NoiseProfile.GnssCorrelatedFraction"/> with time constant
+    /// <see cref="NoiseProfile.GnssErrorTimeConstantS"/> (data the filter's model describes).
+    /// </summary>
+    /// <param name="profile">Noise profile whose wheel, gyro and accelerometer sigmas and GNSS error model to use.</param>
     public static SensorSuite ForProfile(NoiseProfile profile)
     {
         ArgumentNullException.ThrowIfNull(profile);
@@ -147,6 +151,8 @@ public sealed record SensorSuite
             WheelSpeedSigmaMps = profile.WheelSpeedSigmaMps,
             GyroSigmaRps = profile.GyroSigmaRps,
             AccelSigmaMps2 = profile.AccelSigmaMps2,
+            GnssCorrelatedVarianceFraction = profile.GnssCorrelatedFraction,
+            GnssCorrelationTauS = profile.GnssErrorTimeConstantS,
         };
     }
 

@@ -2,6 +2,7 @@
 using System.Collections.ObjectModel;
 using System.Globalization;
 using FusionService.Estimation.Measurements;
+using FusionService.Estimation.Models;
 using FusionService.Scenarios;
 
 namespace FusionService.Simulator.Fleet;
@@ -186,6 +187,10 @@ public sealed class DemoFleet
             UrbanCanyons = [.. SpansInside(truth, CanyonZone).Select(span => new UrbanCanyon(
                 span, CanyonBiasEastM, CanyonBiasNorthM, CanyonSigmaM, CanyonDegreesOfFreedom, CanyonReportedSigmaM))],
             GnssOutages = SpansInside(truth, UnderpassZone),
+
+            // A consumer receiver: most of its error drifts slowly (the filter's default model of it).
+            GnssCorrelatedVarianceFraction = NoiseProfile.DeliveryVan.GnssCorrelatedFraction,
+            GnssCorrelationTauS = NoiseProfile.DeliveryVan.GnssErrorTimeConstantS,
         };
         int measurementSeed = unchecked((seed * 31) + (index * 7_777) + 3);
         Measurement[] measurements = fault == DemoFaultKind.TowedAway
