@@ -42,7 +42,7 @@ public static class TelemetryEndpoints
                 + "and listed in the message's dropped_fields (field and reason) while the rest is stored: a bad course_deg keeps "
                 + "the position and the speed, a bad speed_mps or speed_accuracy_mps keeps the position without the velocity; "
                 + "a bad accel_mps2 keeps the yaw rate. "
-                + "a 2xx means every accepted message is committed in PostgreSQL. A message with the same vehicle, kind, time and id "
+                + "A 2xx means every accepted message is committed in PostgreSQL. A message with the same vehicle, kind, time and id "
                 + "(or, without id, the same content) as a stored one is a duplicate and changes nothing. "
                 + "400 when the body is not valid JSON or no message is valid (problem details list every error); "
                 + "413 when the body or the message count is over the limit; 503 with Retry-After when the write queue is full "
