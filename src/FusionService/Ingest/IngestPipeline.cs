@@ -85,7 +85,7 @@ public sealed class IngestPipeline(
             if (inserted.Remove(MeasurementKey.Of(first)))
             {
                 accepted++;
-                results[i] = new IngestMessageResult(i, "accepted");
+                results[i] = new IngestMessageResult(i, "accepted", DroppedFields: Dropped(message));
                 if (!fresh.TryGetValue(message.VehicleId, out var list))
                 {
                     fresh[message.VehicleId] = list = [];
@@ -99,7 +99,7 @@ public sealed class IngestPipeline(
             else
             {
                 duplicate++;
-                results[i] = new IngestMessageResult(i, "duplicate");
+                results[i] = new IngestMessageResult(i, "duplicate", DroppedFields: Dropped(message));
                 repeated.Add(message);
             }
         }
@@ -114,6 +114,9 @@ public sealed class IngestPipeline(
 
         return new IngestResponse(accepted, duplicate, rejected, results!);
     }
+
+    private static IReadOnlyList<DroppedField>? Dropped(ParsedMessage message) =>
+        message.DroppedFields.Count > 0 ? message.DroppedFields : null;
 
     /// <summary>The stored row of a core measurement (NaN values are stored as SQL NULL).</summary>
     public static MeasurementRow ToRow(Guid fleetId, string vehicleId, in Measurement m, DateTime receivedUtc) => new(

@@ -33,8 +33,16 @@ public static class TelemetryEndpoints
                 + "gnss: lat_deg, lon_deg, accuracy_m with accuracy_kind (one_sigma (default) | cep50 | r68 | r95 | drms) or hdop "
                 + "(multiplied by the configured UERE), optional speed_mps, course_deg (clockwise from north), speed_accuracy_mps; "
                 + "wheel: speed_mps; imu: yaw_rate_dps (positive = left turn), optional accel_mps2. "
-                + "Each message is judged on its own: 200 lists accepted / duplicate / rejected (field and reason) per message; "
-                + "a 2xx means every accepted message is committed in PostgreSQL. A message with the same vehicle, kind, time and id "
+                + string.Create(CultureInfo.InvariantCulture,
+                    $"Plausibility bounds: accuracy_m at most {TelemetryMessageParser.MaxAccuracyM:0} m, hdop at most {TelemetryMessageParser.MaxHdop:0.##}, "
+                    + $"speed_mps (gnss) within [0, {TelemetryMessageParser.MaxGnssSpeedMps:0}] m/s, speed_accuracy_mps at most "
+                    + $"{TelemetryMessageParser.MaxSpeedAccuracyMps:0} m/s; course_deg within [0, 360], 360 read as 0. ")
+                + "Each message is judged on its own: 200 lists accepted / duplicate / rejected (field and reason) per message. "
+                + "A bad required field (or an accuracy_m beyond its bound) rejects the message; a bad optional field is left out "
+                + "and listed in the message's dropped_fields (field and reason) while the rest is stored: a bad course_deg keeps "
+                + "the position and the speed, a bad speed_mps or speed_accuracy_mps keeps the position without the velocity; "
+                + "a bad accel_mps2 keeps the yaw rate. "
+                + "A 2xx means every accepted message is committed in PostgreSQL. A message with the same vehicle, kind, time and id "
                 + "(or, without id, the same content) as a stored one is a duplicate and changes nothing. "
                 + "400 when the body is not valid JSON or no message is valid (problem details list every error); "
                 + "413 when the body or the message count is over the limit; 503 with Retry-After when the write queue is full "
@@ -53,7 +61,9 @@ public static class TelemetryEndpoints
             .WithDescription(
                 "Open a WebSocket (HTTP/1.1 GET with Upgrade) carrying 'Authorization: Bearer <ingest key>'. Send text frames "
                 + "{\"seq\": n, \"messages\": [...]} with messages as for POST /v1/telemetry. Each frame is answered, after the "
-                + "durable commit, with {\"seq\": n, \"accepted\": a, \"duplicate\": d, \"rejected\": [{\"index\", \"field\", \"reason\"}]}; "
+                + "durable commit, with {\"seq\": n, \"accepted\": a, \"duplicate\": d, \"rejected\": [{\"index\", \"field\", \"reason\"}], "
+                + "\"dropped_fields\": [{\"index\", \"field\", \"reason\"}]} (dropped_fields: optional fields of stored messages "
+                + "that were invalid and left out, as for POST /v1/telemetry); "
                 + "a frame that cannot be stored is answered {\"seq\": n, \"error\": reason, \"retry_after_s\": s} and nothing of it "
                 + "is stored; resend it." + Caution)
             .ProducesProblem(StatusCodes.Status400BadRequest)
@@ -253,6 +263,9 @@ public static class TelemetryEndpoints
                     ["duplicate"] = response.Duplicate,
                     ["rejected"] = response.Results.Where(r => r.Status == "rejected")
                         .Select(r => new Dictionary<string, object?> { ["index"] = r.Index, ["field"] = r.Field, ["reason"] = r.Reason })
+                        .ToList(),
+                    ["dropped_fields"] = response.Results
+                        .SelectMany(r => (r.DroppedFields ?? []).Select(d => new Dictionary<string, object?> { ["index"] = r.Index, ["field"] = d.Field, ["reason"] = d.Reason }))
                         .ToList(),
                 };
             }

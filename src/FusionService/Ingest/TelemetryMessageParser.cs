@@ -13,6 +13,24 @@ namespace FusionService.Ingest;
 /// cep50, r68, r95, drms) or <c>hdop</c>, optional <c>speed_mps</c>, <c>course_deg</c>, <c>speed_accuracy_mps</c>;
 /// wheel: <c>speed_mps</c>; imu: <c>yaw_rate_dps</c>, optional <c>accel_mps2</c>.
 /// </summary>
+/// <remarks>
+/// <para>A bad required field rejects the message with the field and the reason. A bad optional field is left out
+/// and listed in <see cref="ParsedMessage.DroppedFields"/>; the rest of the message is used, never dropped for it:</para>
+/// <list type="bullet">
+/// <item><c>course_deg</c> in [0, 360]; 360.0 (which receivers emit for a course just below north) is read as 0.
+/// A course that is not a number or outside [0, 360] is dropped: the speed is kept with the course absent.</item>
+/// <item><c>speed_mps</c> (gnss) in [0, <see cref="MaxGnssSpeedMps"/>]; a bad one drops the velocity measurement
+/// (with its course and speed accuracy), the position is kept.</item>
+/// <item><c>speed_accuracy_mps</c> in (0, <see cref="MaxSpeedAccuracyMps"/>]; a bad one drops the velocity
+/// measurement (speed and course), the position is kept. Without it the configured default accuracy is used.</item>
+/// <item><c>course_deg</c> or <c>speed_accuracy_mps</c> without a usable <c>speed_mps</c> are dropped.</item>
+/// <item><c>hdop</c> beside <c>accuracy_m</c> is not used; a bad one is dropped.</item>
+/// <item><c>accel_mps2</c> (imu) in [-50, 50] m/s^2; a bad one is dropped, the yaw rate kept.</item>
+/// </list>
+/// <para>The position accuracy is required: <c>accuracy_m</c> in (0, <see cref="MaxAccuracyM"/>] m, or without it
+/// <c>hdop</c> in (0, <see cref="MaxHdop"/>]. Values beyond these plausibility bounds (such as 1e50) reject the
+/// message: no receiver reports them, and the filter cannot use them.</para>
+/// </remarks>
 /// <param name="options">Ingest options (UERE, default speed accuracy).</param>
 /// <param name="minTimeUs">Earliest accepted time, Unix microseconds (start of the storage window).</param>
 /// <param name="maxTimeUs">Latest accepted time, Unix microseconds (server clock plus the allowed skew).</param>
@@ -24,7 +42,26 @@ public sealed partial class TelemetryMessageParser(IngestOptions options, long m
     /// <summary>Longest message id, characters.</summary>
     public const int MaxIdLength = 200;
 
+    /// <summary>Largest accepted <c>accuracy_m</c>, metres (any <c>accuracy_kind</c>). A plausibility bound, common
+    /// practice rather than a standard: a consumer receiver's worst usable fix (cold start, deep urban canyon) reports
+    /// tens to a few hundred metres; 10 km leaves ample room and keeps absurd values (1e50) out of the filter.</summary>
+    public const double MaxAccuracyM = 10_000;
+
+    /// <summary>Largest accepted <c>hdop</c>: 99.99, the largest value the NMEA 0183 GGA field holds (receivers send it
+    /// when they have no usable geometry).</summary>
+    public const double MaxHdop = 99.99;
+
+    /// <summary>Largest accepted GNSS <c>speed_mps</c>, m/s (540 km/h): a road vehicle's GNSS speed above it is a
+    /// receiver fault.</summary>
+    public const double MaxGnssSpeedMps = 150;
+
+    /// <summary>Largest accepted <c>speed_accuracy_mps</c>, m/s. A plausibility bound, common practice: receivers
+    /// state Doppler speed accuracy in tenths of a m/s to a few m/s; a stated accuracy above 50 m/s says the speed is
+    /// unknown, and absurd values (1e308) are kept out of the filter.</summary>
+    public const double MaxSpeedAccuracyMps = 50;
+
     private const double DegToRad = Math.PI / 180.0;
+    private const string HdopRange = "must be within (0, 99.99] (the range of the NMEA 0183 GGA field)";
 
     /// <summary>Parses one message.</summary>
     /// <returns>The message, or null with <paramref name="rejection"/> set.</returns>
@@ -95,64 +132,124 @@ public sealed partial class TelemetryMessageParser(IngestOptions options, long m
             throw new FieldException("lon_deg", "must be within [-180, 180] degrees");
         }
 
-        double sigmaM;
-        double? accuracy = OptionalNumber(m, "accuracy_m");
-        double? hdop = OptionalNumber(m, "hdop");
-        if (accuracy is double value)
+        var dropped = new List<DroppedField>();
+        double sigmaM = ParsePositionSigma(m, dropped);
+        var (speed, courseRad, speedSigma) = ParseVelocity(m, dropped);
+        ulong key = id is null
+            ? MessageKeys.FromContent("gnss", timeUs, [lat, lon, sigmaM, speed ?? double.NaN, courseRad, speed is null ? double.NaN : speedSigma])
+            : MessageKeys.FromId(id);
+        var position = Measurement.GnssPosition(timeUs, key, lat, lon, sigmaM);
+        Measurement[] measurements = speed is double s
+            ? [position, Measurement.GnssVelocity(timeUs, key, s, courseRad, speedSigma)]
+            : [position];
+        return new ParsedMessage(vehicle, measurements) { DroppedFields = dropped };
+    }
+
+    // The position needs an accuracy: a bad accuracy_m (or, without it, a bad hdop) rejects the message. An hdop given
+    // beside accuracy_m is not used, so a bad one is only dropped.
+    private double ParsePositionSigma(JsonElement m, List<DroppedField> dropped)
+    {
+        if (IsGiven(m, "accuracy_m"))
         {
+            double value = RequiredNumber(m, "accuracy_m");
             if (value <= 0)
             {
                 throw new FieldException("accuracy_m", "must be positive");
             }
 
-            sigmaM = HorizontalAccuracy.ToSigmaPerAxisM(value, ParseAccuracyKind(m));
-        }
-        else if (hdop is double dop)
-        {
-            if (dop <= 0)
+            if (value > MaxAccuracyM)
             {
-                throw new FieldException("hdop", "must be positive");
+                throw new FieldException("accuracy_m", string.Create(CultureInfo.InvariantCulture,
+                    $"must be at most {MaxAccuracyM:0} m (plausibility bound for a GNSS fix); got {value:G6} m"));
             }
 
-            sigmaM = HorizontalAccuracy.FromHdop(dop, options.HdopUereM);
-        }
-        else
-        {
-            throw new FieldException("accuracy_m", "is required (or give hdop)");
+            var convention = ParseAccuracyKind(m);
+            double? ignoredHdop = OptionalNumberOrDrop(m, "hdop", dropped);
+            if (ignoredHdop is <= 0 or > MaxHdop)
+            {
+                dropped.Add(new DroppedField("hdop", HdopRange + "; not needed, accuracy_m gives the accuracy"));
+            }
+
+            return HorizontalAccuracy.ToSigmaPerAxisM(value, convention);
         }
 
-        double? speed = OptionalNumber(m, "speed_mps");
-        double? course = OptionalNumber(m, "course_deg");
-        double? speedAccuracy = OptionalNumber(m, "speed_accuracy_mps");
-        if (speed is null && (course is not null || speedAccuracy is not null))
+        if (IsGiven(m, "hdop"))
         {
-            throw new FieldException("speed_mps", "is required when course_deg or speed_accuracy_mps is given");
+            double dop = RequiredNumber(m, "hdop");
+            if (dop is <= 0 or > MaxHdop)
+            {
+                throw new FieldException("hdop", HdopRange);
+            }
+
+            return HorizontalAccuracy.FromHdop(dop, options.HdopUereM);
         }
 
-        if (speed is < 0 or > 150)
+        throw new FieldException("accuracy_m", "is required (or give hdop)");
+    }
+
+    // Speed, course and speed accuracy are optional: a bad one is dropped, never the position. Without a usable speed
+    // (or its accuracy) there is no velocity measurement; a bad course leaves the speed with the course absent (NaN).
+    private (double? SpeedMps, double CourseRad, double SpeedSigmaMps) ParseVelocity(JsonElement m, List<DroppedField> dropped)
+    {
+        double? speed = OptionalNumberOrDrop(m, "speed_mps", dropped);
+        if (speed is < 0 or > MaxGnssSpeedMps)
         {
-            throw new FieldException("speed_mps", "must be within [0, 150] m/s");
+            dropped.Add(new DroppedField("speed_mps", string.Create(CultureInfo.InvariantCulture, $"must be within [0, {MaxGnssSpeedMps:0}] m/s")));
+            speed = null;
         }
 
-        if (course is < 0 or >= 360)
+        double? course = OptionalNumberOrDrop(m, "course_deg", dropped);
+        if (course == 360)
         {
-            throw new FieldException("course_deg", "must be within [0, 360) degrees clockwise from north");
+            // Receivers round a course just below north up to 360.0; it is the same direction as 0.
+            course = 0;
+        }
+        else if (course is < 0 or > 360)
+        {
+            dropped.Add(new DroppedField("course_deg", "must be within [0, 360] degrees clockwise from north"));
+            course = null;
         }
 
-        if (speedAccuracy is <= 0)
+        int before = dropped.Count;
+        double? speedAccuracy = OptionalNumberOrDrop(m, "speed_accuracy_mps", dropped);
+        if (speedAccuracy is <= 0 or > MaxSpeedAccuracyMps)
         {
-            throw new FieldException("speed_accuracy_mps", "must be positive");
+            dropped.Add(new DroppedField("speed_accuracy_mps", string.Create(CultureInfo.InvariantCulture,
+                $"must be within (0, {MaxSpeedAccuracyMps:0}] m/s (plausibility bound for a GNSS speed accuracy)")));
+            speedAccuracy = null;
         }
 
-        double courseRad = course is double c ? c * DegToRad : double.NaN;
-        double speedSigma = speedAccuracy ?? options.DefaultSpeedAccuracyMps;
-        ulong key = id is null
-            ? MessageKeys.FromContent("gnss", timeUs, [lat, lon, sigmaM, speed ?? double.NaN, courseRad, speed is null ? double.NaN : speedSigma])
-            : MessageKeys.FromId(id);
-        var position = Measurement.GnssPosition(timeUs, key, lat, lon, sigmaM);
-        return speed is double s
-            ? new ParsedMessage(vehicle, [position, Measurement.GnssVelocity(timeUs, key, s, courseRad, speedSigma)])
-            : new ParsedMessage(vehicle, [position]);
+        bool speedAccuracyBad = dropped.Count > before;
+        if (speed is null)
+        {
+            string why = IsGiven(m, "speed_mps") ? "not used: speed_mps is invalid" : "not used without speed_mps";
+            if (course is not null)
+            {
+                dropped.Add(new DroppedField("course_deg", why));
+            }
+
+            if (speedAccuracy is not null)
+            {
+                dropped.Add(new DroppedField("speed_accuracy_mps", why));
+            }
+
+            return (null, double.NaN, double.NaN);
+        }
+
+        if (speedAccuracyBad)
+        {
+            // The stated accuracy is the only weight the speed has; without a sound one, the velocity is not used.
+            const string Why = "not used: speed_accuracy_mps is invalid, so the speed has no usable accuracy";
+            dropped.Add(new DroppedField("speed_mps", Why));
+            if (course is not null)
+            {
+                dropped.Add(new DroppedField("course_deg", Why));
+            }
+
+            return (null, double.NaN, double.NaN);
+        }
+
+        return (speed, course is double c ? c * DegToRad : double.NaN, speedAccuracy ?? options.DefaultSpeedAccuracyMps);
     }
 
     private static ParsedMessage ParseWheel(JsonElement m, string vehicle, long timeUs, string? id)
@@ -176,14 +273,16 @@ public sealed partial class TelemetryMessageParser(IngestOptions options, long m
             throw new FieldException("yaw_rate_dps", "must be within [-572.9, 572.9] deg/s (10 rad/s)");
         }
 
-        double accel = OptionalNumber(m, "accel_mps2") ?? double.NaN;
+        var dropped = new List<DroppedField>();
+        double accel = OptionalNumberOrDrop(m, "accel_mps2", dropped) ?? double.NaN;
         if (accel is < -50 or > 50)
         {
-            throw new FieldException("accel_mps2", "must be within [-50, 50] m/s^2");
+            dropped.Add(new DroppedField("accel_mps2", "must be within [-50, 50] m/s^2"));
+            accel = double.NaN;
         }
 
         ulong key = id is null ? MessageKeys.FromContent("imu", timeUs, [yawRateRps, accel]) : MessageKeys.FromId(id);
-        return new ParsedMessage(vehicle, [Measurement.Imu(timeUs, key, yawRateRps, accel)]);
+        return new ParsedMessage(vehicle, [Measurement.Imu(timeUs, key, yawRateRps, accel)]) { DroppedFields = dropped };
     }
 
     private long ParseTime(JsonElement m)
@@ -268,6 +367,26 @@ public sealed partial class TelemetryMessageParser(IngestOptions options, long m
 
     private static double RequiredNumber(JsonElement m, string name) =>
         OptionalNumber(m, name) ?? throw new FieldException(name, "is required");
+
+    private static bool IsGiven(JsonElement m, string name) =>
+        m.TryGetProperty(name, out var e) && e.ValueKind != JsonValueKind.Null;
+
+    // An optional number that is present but not a finite number is dropped (recorded) and read as absent.
+    private static double? OptionalNumberOrDrop(JsonElement m, string name, List<DroppedField> dropped)
+    {
+        if (!m.TryGetProperty(name, out var e) || e.ValueKind == JsonValueKind.Null)
+        {
+            return null;
+        }
+
+        if (e.ValueKind != JsonValueKind.Number || !e.TryGetDouble(out double value) || !double.IsFinite(value))
+        {
+            dropped.Add(new DroppedField(name, "must be a finite number"));
+            return null;
+        }
+
+        return value;
+    }
 
     private static double? OptionalNumber(JsonElement m, string name)
     {

@@ -99,6 +99,40 @@ public sealed class NmeaEndpointTests(ServiceFixture fixture)
     }
 
     [Fact]
+    public async Task Issue12_a_bad_rmc_speed_or_course_is_dropped_and_named_while_the_fix_is_stored()
+    {
+        var fleet = await fixture.NewFleetAsync();
+        var t = DateTime.UtcNow.AddMinutes(-2);
+        t = new DateTime(t.Year, t.Month, t.Day, t.Hour, t.Minute, t.Second, DateTimeKind.Utc);
+        var north = Epoch(t, "4612.345", "00828.278", "15.5", "360.0", "1.2");
+        var badCourse = Epoch(t.AddSeconds(1), "4612.346", "00828.289", "15.6", "361.5", "1.0");
+        var badSpeed = Epoch(t.AddSeconds(2), "4612.347", "00828.301", "fast", "91.8", "2.0");
+        string body = string.Join("\r\n", north.Rmc, north.Gga, badCourse.Rmc, badCourse.Gga, badSpeed.Rmc, badSpeed.Gga) + "\r\n";
+
+        using var client = fixture.Client(fleet.IngestKey);
+        using var response = await client.PostAsync("/v1/vehicles/van-rmc/nmea", Text(body));
+        string text = await response.Content.ReadAsStringAsync();
+        Assert.True(response.StatusCode == HttpStatusCode.OK, text);
+        var answer = JsonDocument.Parse(text).RootElement;
+        Assert.Equal((6, 0), (answer.GetProperty("accepted").GetInt32(), answer.GetProperty("rejected").GetInt32()));
+        var results = answer.GetProperty("results").EnumerateArray().ToDictionary(r => r.GetProperty("line").GetInt32());
+        static string[] Dropped(JsonElement line) => line.TryGetProperty("dropped_fields", out var list)
+            ? [.. list.EnumerateArray().Select(d => d.GetProperty("field").GetString()!)]
+            : [];
+        Assert.Empty(Dropped(results[1]));
+        Assert.Equal(["course"], Dropped(results[3]));
+        Assert.Equal(["speed", "course"], Dropped(results[5]));
+        Assert.Empty(Dropped(results[4]));
+
+        long Us(DateTime utc) => (new DateTimeOffset(utc).UtcTicks - DateTime.UnixEpoch.Ticks) / 10;
+        const string Velocities = "SELECT count(*) FROM measurements WHERE fleet_id = $1 AND kind = 1 AND time_us = $2";
+        Assert.Equal(3, await fixture.CountAsync("SELECT count(*) FROM measurements WHERE fleet_id = $1 AND kind = 0", fleet.Id));
+        Assert.Equal(1, await fixture.CountAsync(Velocities + " AND v1 = 0", fleet.Id, Us(t)));
+        Assert.Equal(1, await fixture.CountAsync(Velocities + " AND v1 IS NULL", fleet.Id, Us(t.AddSeconds(1))));
+        Assert.Equal(0, await fixture.CountAsync(Velocities, fleet.Id, Us(t.AddSeconds(2))));
+    }
+
+    [Fact]
     public async Task Issue4_a_body_of_only_bad_lines_is_400_with_every_line_reported()
     {
         var fleet = await fixture.NewFleetAsync();

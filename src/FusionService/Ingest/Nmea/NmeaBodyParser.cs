@@ -19,6 +19,9 @@ namespace FusionService.Ingest.Nmea;
 /// RMC also speed (knots x 1852 / 3600 = m/s) and course. Without one, it takes the date of the nearest valid RMC
 /// before it in the body, moved by a day when the times of day lie more than 12 h apart (midnight); without any, the
 /// GGA is rejected.</item>
+/// <item>Speed and course are optional: an RMC speed or course that is not a number, or a course above 360, is
+/// dropped (listed for the RMC line) and the fix kept; a course without a valid speed is dropped too. A course of
+/// 360 is read as 0.</item>
 /// <item>RMC status V (void) and mode indicators N (not valid) and E (estimated) are ignored. An RMC without a GGA of
 /// the same epoch is rejected: it states no accuracy.</item>
 /// <item>Two-digit years are read as 2000-2099.</item>
@@ -113,7 +116,10 @@ public static class NmeaBodyParser
             {
                 paired.Add(partner.Line);
                 long time = StartOfDayUs(partner.Date) + gga.TimeOfDayUs;
-                fixes.Add(new NmeaFix(time, gga.LatDeg, gga.LonDeg, gga.Hdop, partner.SpeedMps, partner.SpeedMps is null ? null : partner.CourseDeg, [gga.Line, partner.Line]));
+                fixes.Add(new NmeaFix(time, gga.LatDeg, gga.LonDeg, gga.Hdop, partner.SpeedMps, partner.SpeedMps is null ? null : partner.CourseDeg, [gga.Line, partner.Line])
+                {
+                    DroppedFields = partner.DroppedFields,
+                });
                 continue;
             }
 
@@ -274,26 +280,38 @@ public static class NmeaBodyParser
 
         _ = ReadCoordinate(f[2], f[3], 2) ?? throw new FieldException("latitude", "'" + f[2] + "," + f[3] + "' is not a latitude ddmm.mmmm,N|S");
         _ = ReadCoordinate(f[4], f[5], 3) ?? throw new FieldException("longitude", "'" + f[4] + "," + f[5] + "' is not a longitude dddmm.mmmm,E|W");
+        // Speed and course are optional: a bad one is dropped (and said so), never the RMC's date or the fix.
+        var dropped = new List<DroppedField>();
         double? speed = null;
         if (f[6].Length > 0)
         {
-            if (!double.TryParse(f[6], NumberStyles.AllowDecimalPoint, CultureInfo.InvariantCulture, out double knots))
+            if (double.TryParse(f[6], NumberStyles.AllowDecimalPoint, CultureInfo.InvariantCulture, out double knots))
             {
-                throw new FieldException("speed", "'" + f[6] + "' is not a speed in knots");
+                speed = knots * KnotsToMps;
             }
-
-            speed = knots * KnotsToMps;
+            else
+            {
+                dropped.Add(new DroppedField("speed", "'" + f[6] + "' is not a speed in knots"));
+            }
         }
 
         double? course = null;
         if (f[7].Length > 0)
         {
-            if (!double.TryParse(f[7], NumberStyles.AllowDecimalPoint, CultureInfo.InvariantCulture, out double degrees) || degrees > 360)
+            if (double.TryParse(f[7], NumberStyles.AllowDecimalPoint, CultureInfo.InvariantCulture, out double degrees) && degrees <= 360)
             {
-                throw new FieldException("course", "'" + f[7] + "' is not a course in [0, 360] degrees");
+                course = degrees >= 360 ? 0 : degrees;
             }
+            else
+            {
+                dropped.Add(new DroppedField("course", "'" + f[7] + "' is not a course in [0, 360] degrees"));
+            }
+        }
 
-            course = degrees >= 360 ? 0 : degrees;
+        if (speed is null && course is not null)
+        {
+            dropped.Add(new DroppedField("course", "not used without a valid speed"));
+            course = null;
         }
 
         if (f[8].Length != 6
@@ -305,7 +323,7 @@ public static class NmeaBodyParser
             throw new FieldException("date", "'" + f[8] + "' is not a date ddmmyy");
         }
 
-        return new Rmc(line, time, new DateOnly(2000 + year, month, day), speed, course, null, null);
+        return new Rmc(line, time, new DateOnly(2000 + year, month, day), speed, course, null, null) { DroppedFields = dropped };
     }
 
     private static long StartOfDayUs(DateOnly date) =>
@@ -313,7 +331,10 @@ public static class NmeaBodyParser
 
     private sealed record Gga(int Line, long TimeOfDayUs, double LatDeg, double LonDeg, double Hdop, string? IgnoredReason);
 
-    private sealed record Rmc(int Line, long TimeOfDayUs, DateOnly Date, double? SpeedMps, double? CourseDeg, string? IgnoredField, string? IgnoredReason);
+    private sealed record Rmc(int Line, long TimeOfDayUs, DateOnly Date, double? SpeedMps, double? CourseDeg, string? IgnoredField, string? IgnoredReason)
+    {
+        public IReadOnlyList<DroppedField> DroppedFields { get; init; } = [];
+    }
 
     private sealed class FieldException(string field, string message) : Exception(message)
     {

@@ -31,6 +31,8 @@ public static class NmeaEndpoints
                 + "GGA gives the fix (position; HDOP x the configured UERE as accuracy, as for the JSON field hdop); fix quality 0, 6, 7 and 8 "
                 + "are ignored with the reason. GGA has no date: it takes the date, speed (knots x 1852/3600 = m/s) and course of the RMC "
                 + "of the same epoch in the body, else the date of the nearest RMC before it, else it is rejected. RMC status V is ignored; "
+                + "an RMC speed or course that is not valid (or a speed above 150 m/s) is left out and listed in the RMC line's "
+                + "dropped_fields while the fix is stored; a course of 360 is read as 0; "
                 + "an RMC without the GGA of its epoch is rejected (it states no accuracy). Other sentences are ignored. "
                 + "Each fix becomes the same message POST /v1/telemetry would make of kind gnss (without id, so an identical resend is a "
                 + "duplicate) and goes through the same durable commit: a 2xx means every accepted line is stored. 200 lists "
@@ -106,11 +108,14 @@ public static class NmeaEndpoints
 
             foreach (var r in response.Results)
             {
-                foreach (int line in parsed.Fixes[r.Index].Lines)
+                var fix = parsed.Fixes[r.Index];
+                // Speed and course come from the RMC (the fix's second line): what was dropped of them is said there.
+                var dropped = fix.DroppedFields.Concat((r.DroppedFields ?? []).Select(ToNmeaField)).ToList();
+                for (int i = 0; i < fix.Lines.Count; i++)
                 {
                     results.Add(r.Status == "rejected"
-                        ? new NmeaLineResult(line, "rejected", r.Field, r.Reason)
-                        : new NmeaLineResult(line, r.Status));
+                        ? new NmeaLineResult(fix.Lines[i], "rejected", r.Field, r.Reason)
+                        : new NmeaLineResult(fix.Lines[i], r.Status, DroppedFields: i == 1 && dropped.Count > 0 ? dropped : null));
                 }
             }
         }
@@ -155,6 +160,14 @@ public static class NmeaEndpoints
 
         return message;
     }
+
+    // The JSON message's field names as the RMC names them (the message is made of the fix by ToMessage).
+    private static DroppedField ToNmeaField(DroppedField dropped) => dropped.Field switch
+    {
+        "speed_mps" => new DroppedField("speed", dropped.Reason),
+        "course_deg" => new DroppedField("course", dropped.Reason.Replace("speed_mps", "speed", StringComparison.Ordinal)),
+        _ => dropped,
+    };
 
     private static ProblemHttpResult Problem(int status, string title, string detail) =>
         TypedResults.Problem(title: title, detail: detail, statusCode: status);

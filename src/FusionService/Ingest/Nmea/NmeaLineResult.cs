@@ -6,4 +6,6 @@ namespace FusionService.Ingest.Nmea;
 /// <param name="Status">accepted (stored now), duplicate (stored before), rejected (with field and reason) or ignored (a valid sentence that carries no usable fix, with the reason).</param>
 /// <param name="Field">For rejected or ignored lines: the field at fault (empty for the whole line).</param>
 /// <param name="Reason">For rejected or ignored lines: why.</param>
-public sealed record NmeaLineResult(int Line, string Status, string? Field = null, string? Reason = null);
+/// <param name="DroppedFields">For an accepted or duplicate line: its fields (speed, course) that were invalid and left
+/// out while the fix was stored; absent when every field was used.</param>
+public sealed record NmeaLineResult(int Line, string Status, string? Field = null, string? Reason = null, IReadOnlyList<DroppedField>? DroppedFields = null);
