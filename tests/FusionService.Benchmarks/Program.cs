@@ -20,6 +20,12 @@ if (args.Length > 0 && string.Equals(args[0], "history-split", StringComparison.
     return;
 }
 
+if (args.Length > 0 && string.Equals(args[0], "consistency", StringComparison.Ordinal))
+{
+    ConsistencyReport.Run(args.Length > 1 ? int.Parse(args[1], System.Globalization.CultureInfo.InvariantCulture) : 4);
+    return;
+}
+
 if (args.Length > 0 && string.Equals(args[0], "vanday-http", StringComparison.Ordinal))
 {
     await VanDayHttp.RunAsync(args);

@@ -1,0 +1,148 @@
+// Monte Carlo consistency of the filter on realistic GNSS error: containment, NEES, RMSE, gating and resets.
+using System.Diagnostics;
+using System.Globalization;
+using FusionService.Estimation.Geodesy;
+using FusionService.Estimation.LinearAlgebra;
+using FusionService.Estimation.Measurements;
+using FusionService.Estimation.Models;
+using FusionService.Estimation.Smoothing;
+using FusionService.Estimation.Tracking;
+using FusionService.Scenarios;
+using static FusionService.Estimation.Models.StateIndex;
+
+namespace FusionService.Benchmarks;
+
+/// <summary>
+/// `./build.sh bench consistency [runs]`: runs the filter with its default options and noise profile over the realistic
+/// drives of <see cref="RealisticDrives"/> (clean sky, multipath, outage, tow, park beside a building, HDOP-only) and over
+/// a grid of GNSS error correlation times (20, 60, 120 s) and correlated shares (50, 80, 95 %) of the clean-sky drive,
+/// each with <c>runs</c> seeds, and prints per case: how often the truth lies inside the 95 % ellipse of the filtered
+/// and of the smoothed position (at every whole second the track has a state), the mean position NEES (2 for a
+/// consistent filter; Bar-Shalom, Li and Kirubarajan 2001), horizontal RMSE of raw fixes, filtered and smoothed
+/// positions, the share of fixes outside multipath that were gated, and the track resets.
+/// </summary>
+internal static class ConsistencyReport
+{
+    // Upper 5 % point of chi-square with 2 dof, -2 ln 0.05 (NIST/SEMATECH handbook 1.3.6.7.4; derived).
+    private const double Inside95 = 5.991464547107979;
+
+    public static void Run(int runs)
+    {
+        var processor = new TrackProcessor(new TrackOptions(), NoiseProfile.DeliveryVan);
+        Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
+            $"filter defaults: correlated share {processor.Profile.GnssCorrelatedFraction}, time constant {processor.Profile.GnssErrorTimeConstantS} s; {runs} seeds per case"));
+        Console.WriteLine("case                         in95 filt  in95 smooth  NEES filt  NEES smooth  RMSE raw  filt  smooth (m)  clean fixes gated  resets");
+        foreach (string name in new[] { "clean-sky", "multipath", "outage", "tow", "park-3h", "hdop-only" })
+        {
+            Report(name, processor, Enumerable.Range(0, runs).Select(r => RealisticDrives.All(r * 100).Single(d => d.Name == name)));
+        }
+
+        foreach (double tauS in new[] { 20.0, 60.0, 120.0 })
+        {
+            foreach (double share in new[] { 0.5, 0.8, 0.95 })
+            {
+                string label = string.Create(CultureInfo.InvariantCulture, $"clean tau {tauS:F0} s share {share:F2}");
+                Report(label, processor, Enumerable.Range(0, runs).Select(r =>
+                {
+                    RealisticDrive d = RealisticDrives.CleanSky(1201 + (r * 100));
+                    return d with { Suite = d.Suite with { GnssCorrelationTauS = tauS, GnssCorrelatedVarianceFraction = share } };
+                }));
+            }
+        }
+    }
+
+    private static void Report(string label, TrackProcessor processor, IEnumerable<RealisticDrive> drives)
+    {
+        var clock = Stopwatch.StartNew();
+        var filtered = new Tally();
+        var smoothed = new Tally();
+        double rawSq = 0;
+        long raw = 0, cleanFixes = 0, cleanGated = 0, resets = 0;
+        foreach (RealisticDrive drive in drives)
+        {
+            ScenarioRun run = drive.Generate();
+            foreach (MeasurementTruth t in run.MeasurementTruths)
+            {
+                if (t.Kind == SensorKind.GnssPosition)
+                {
+                    rawSq += (t.ErrorEastM * t.ErrorEastM) + (t.ErrorNorthM * t.ErrorNorthM);
+                    raw++;
+                }
+            }
+
+            ReplayResult replay = TrackReplay.Run(processor, TrackState.Empty, run.Measurements);
+            foreach ((Measurement m, MeasurementOutcome o) in replay.Outcomes)
+            {
+                if (o.Kind == OutcomeKind.TrackReset)
+                {
+                    resets++;
+                }
+
+                if (m.Kind == SensorKind.GnssPosition && run.GetMeasurementTruth(m.MessageKey) is { IsOutlier: false, InMultipath: false, InUrbanCanyon: false }
+                    && o.Kind is OutcomeKind.Accepted or OutcomeKind.Gated or OutcomeKind.TrackReset)
+                {
+                    cleanFixes++;
+                    cleanGated += o.Kind == OutcomeKind.Accepted ? 0 : 1;
+                }
+            }
+
+            foreach (IReadOnlyList<ForwardStep> segment in replay.Forward)
+            {
+                foreach (ForwardStep step in segment)
+                {
+                    filtered.Add(run.Truth, step.TimeUs, step.Plane, step.Filtered, step.FilteredCovariance);
+                }
+            }
+
+            foreach (SmoothedSegment segment in replay.Smoothed)
+            {
+                for (int k = 0; k < segment.Count; k++)
+                {
+                    smoothed.Add(run.Truth, segment.TimesUs[k], segment.Planes[k], segment.Means[k], segment.Covariances[k]);
+                }
+            }
+        }
+
+        Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
+            $"{label,-28} {filtered.Containment,8:P1}  {smoothed.Containment,10:P1}  {filtered.MeanNees,9:F2}  {smoothed.MeanNees,11:F2}  {Math.Sqrt(rawSq / raw),8:F2}  {filtered.Rmse,4:F2}  {smoothed.Rmse,6:F2}  {(double)cleanGated / Math.Max(1, cleanFixes),17:P2}  {resets,6}   ({clock.Elapsed.TotalSeconds:F0} s)"));
+    }
+
+    private sealed class Tally
+    {
+        private long _count;
+        private long _inside;
+        private double _nees;
+        private double _squared;
+        private long _lastUs = long.MinValue;
+
+        public double Containment => (double)_inside / Math.Max(1, _count);
+
+        public double MeanNees => _nees / Math.Max(1, _count);
+
+        public double Rmse => Math.Sqrt(_squared / Math.Max(1, _count));
+
+        /// <summary>Adds the state at <paramref name="timeUs"/> if it is the first one at or after a whole second.</summary>
+        public void Add(TruthTrajectory truth, long timeUs, in LocalTangentPlane plane, in StateVector x, in StateMatrix p)
+        {
+            long second = timeUs / 1_000_000;
+            if (second == _lastUs || !truth.Covers(timeUs))
+            {
+                return;
+            }
+
+            _lastUs = second;
+            double e = x[EastM], n = x[NorthM];
+            GeodeticPoint position = plane.ToGeodetic(new EnuPoint(e, n, -((e * e) + (n * n)) / (2.0 * Wgs84.SemiMajorAxisM)));
+            truth.ToLocalM(position.LatitudeDeg, position.LongitudeDeg, out double eastM, out double northM);
+            TruthSample t = truth.At(timeUs);
+            double de = eastM - t.EastM, dn = northM - t.NorthM;
+            const int N = StateMatrix.Size;
+            double a = p[0], b = p[1], c = p[N + 1];
+            double d2 = ((c * de * de) - (2 * b * de * dn) + (a * dn * dn)) / ((a * c) - (b * b));
+            _count++;
+            _inside += d2 <= Inside95 ? 1 : 0;
+            _nees += d2;
+            _squared += (de * de) + (dn * dn);
+        }
+    }
+}

@@ -1,0 +1,76 @@
+using FusionService.Estimation.Geodesy;
+using FusionService.Estimation.LinearAlgebra;
+using FusionService.Estimation.Measurements;
+using FusionService.Estimation.Models;
+using FusionService.Estimation.Smoothing;
+using FusionService.Estimation.Tracking;
+using FusionService.Scenarios;
+using Xunit.Abstractions;
+using static FusionService.Estimation.Models.StateIndex;
+
+namespace FusionService.Estimation.Tests.Consistency;
+
+/// <summary>
+/// Issue 12: on drives whose GNSS error is correlated over a minute (a consumer receiver, <see cref="RealisticDrives"/>),
+/// the filter with its default options must not claim more than it knows: the truth lies inside the filtered 95 % ellipse
+/// at least 93 % of the time (the lower end of the product's 93-97 % target). The smoothed ellipse does not meet that yet
+/// on these drives (measured 88 % with `./build.sh bench consistency`, docs/estimation.md, "Known limits"); the guard here
+/// is that it stays far from the 26-52 % the service gave before the correlated error was modelled (at least 80 %).
+/// </summary>
+public sealed class CorrelatedGnssContainmentTests(ITestOutputHelper output)
+{
+    // Upper 5 % point of chi-square with 2 dof, -2 ln 0.05 (NIST/SEMATECH handbook 1.3.6.7.4; derived).
+    private const double Inside95 = 5.991464547107979;
+
+    [Fact]
+    public void Issue12_truth_lies_inside_the_95_percent_ellipse_on_correlated_clean_sky_drives()
+    {
+        var processor = new TrackProcessor(new TrackOptions(), NoiseProfile.DeliveryVan);
+        long filtered = 0, filteredInside = 0, smoothed = 0, smoothedInside = 0;
+        for (int r = 0; r < 3; r++)
+        {
+            ScenarioRun run = RealisticDrives.CleanSky(1201 + (r * 100)).Generate();
+            ReplayResult replay = TrackReplay.Run(processor, TrackState.Empty, run.Measurements);
+            foreach (IReadOnlyList<ForwardStep> segment in replay.Forward)
+            {
+                foreach (ForwardStep step in segment)
+                {
+                    if (step.TimeUs % 1_000_000 == 0 && run.Truth.Covers(step.TimeUs))
+                    {
+                        filtered++;
+                        filteredInside += Mahalanobis2(run.Truth, step.TimeUs, step.Plane, step.Filtered, step.FilteredCovariance) <= Inside95 ? 1 : 0;
+                    }
+                }
+            }
+
+            foreach (SmoothedSegment segment in replay.Smoothed)
+            {
+                for (int k = 0; k < segment.Count; k++)
+                {
+                    if (segment.TimesUs[k] % 1_000_000 == 0 && run.Truth.Covers(segment.TimesUs[k]))
+                    {
+                        smoothed++;
+                        smoothedInside += Mahalanobis2(run.Truth, segment.TimesUs[k], segment.Planes[k], segment.Means[k], segment.Covariances[k]) <= Inside95 ? 1 : 0;
+                    }
+                }
+            }
+        }
+
+        double filteredShare = (double)filteredInside / filtered, smoothedShare = (double)smoothedInside / smoothed;
+        output.WriteLine($"inside the 95 % ellipse: filtered {filteredShare:P1} of {filtered} s, smoothed {smoothedShare:P1} of {smoothed} s");
+        Assert.True(filtered > 3000 && smoothed > 3000, "too few whole-second states compared");
+        Assert.True(filteredShare >= 0.93, $"filtered containment {filteredShare:P1}");
+        Assert.True(smoothedShare >= 0.80, $"smoothed containment {smoothedShare:P1}");
+    }
+
+    private static double Mahalanobis2(TruthTrajectory truth, long timeUs, LocalTangentPlane plane, in StateVector x, in StateMatrix p)
+    {
+        double e = x[EastM], n = x[NorthM];
+        GeodeticPoint position = plane.ToGeodetic(new EnuPoint(e, n, -((e * e) + (n * n)) / (2.0 * Wgs84.SemiMajorAxisM)));
+        truth.ToLocalM(position.LatitudeDeg, position.LongitudeDeg, out double eastM, out double northM);
+        TruthSample t = truth.At(timeUs);
+        double de = eastM - t.EastM, dn = northM - t.NorthM;
+        double a = p[0], b = p[1], c = p[StateMatrix.Size + 1];
+        return ((c * de * de) - (2 * b * de * dn) + (a * dn * dn)) / ((a * c) - (b * b));
+    }
+}
