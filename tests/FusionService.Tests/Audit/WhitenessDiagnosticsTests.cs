@@ -13,9 +13,6 @@ namespace FusionService.Tests.Audit;
 [Collection(ServiceTests.Name)]
 public sealed class WhitenessDiagnosticsTests(ServiceFixture fixture)
 {
-    // check-values.md section 10: tau = 45 s at dt = 1 s gives phi = 0.978023 (derived).
-    private const double Phi = 0.978023;
-
     /// <summary>
     /// An invented drive of two laps round a block (about 2.6 km), white GNSS noise stated truthfully: the GNSS position
     /// innovations are white; the same truth with a Gauss-Markov error (sigma 4 m, tau 45 s) added to every fix, the stated accuracy
@@ -38,7 +35,7 @@ public sealed class WhitenessDiagnosticsTests(ServiceFixture fixture)
             new RouteDriverOptions { StartTimeUs = startUs },
             seed: 1201);
         var run = MeasurementGenerator.Generate(truth, SensorSuite.ForProfile(NoiseProfile.DeliveryVan), seed: 1202);
-        var measurements = gaussMarkov ? WithGaussMarkovError(run.Measurements, sigmaM: 4.0, seed: 1203) : [.. run.Measurements];
+        var measurements = gaussMarkov ? GaussMarkovGnssError.Add(run.Measurements, sigmaM: 4.0, seed: 1203) : [.. run.Measurements];
         var messages = ScenarioTelemetry.Messages(vehicle, measurements);
         await ScenarioTelemetry.IngestAsync(fixture, fixture.Client(fleet.IngestKey), messages.Select(m => m.Message));
 
@@ -77,40 +74,5 @@ public sealed class WhitenessDiagnosticsTests(ServiceFixture fixture)
         {
             Assert.Equal(gnss.GetProperty("nis_verdict").GetString(), gnss.GetProperty("verdict").GetString());
         }
-    }
-
-    /// <summary>
-    /// Adds to every GNSS position a first-order Gauss-Markov error per axis (phi = exp(-dt/tau), driving variance
-    /// sigma² (1 - phi²); Brown and Hwang 2012, check-values.md section 10) and states the total 1-sigma accuracy.
-    /// </summary>
-    private static List<Measurement> WithGaussMarkovError(IReadOnlyList<Measurement> all, double sigmaM, int seed)
-    {
-        var random = new Random(seed);
-        double Gauss() => Math.Sqrt(-2 * Math.Log(1 - random.NextDouble())) * Math.Cos(2 * Math.PI * random.NextDouble());
-        double east = sigmaM * Gauss(), north = sigmaM * Gauss(), drive = sigmaM * Math.Sqrt(1 - (Phi * Phi));
-        var list = new List<Measurement>(all.Count);
-        bool first = true;
-        foreach (var m in all)
-        {
-            if (m.Kind != SensorKind.GnssPosition)
-            {
-                list.Add(m);
-                continue;
-            }
-
-            if (!first)
-            {
-                east = (Phi * east) + (drive * Gauss());
-                north = (Phi * north) + (drive * Gauss());
-            }
-
-            first = false;
-            double latDeg = m.Value0 + (north / 111_132.0);
-            double lonDeg = m.Value1 + (east / (111_320.0 * Math.Cos(m.Value0 * Math.PI / 180)));
-            double total = Math.Sqrt((m.Value2 * m.Value2) + (sigmaM * sigmaM));
-            list.Add(Measurement.GnssPosition(m.TimeUs, m.MessageKey, latDeg, lonDeg, total));
-        }
-
-        return list;
     }
 }
