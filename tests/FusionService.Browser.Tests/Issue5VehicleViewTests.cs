@@ -60,6 +60,12 @@ public sealed class Issue5VehicleViewTests(DashboardFixture fixture)
         Assert.False(string.IsNullOrEmpty(page.Driver.FindElement(By.Id("smoothed-path")).GetDomAttribute("d")), "the smoothed path has no geometry");
         Assert.NotEmpty(page.Driver.FindElements(By.CssSelector("#nis-gnss_position canvas")));
 
+        // Issue 12: the NIS panel shows the whiteness verdict of each sensor from the diagnostics endpoint.
+        var whiteness = page.Driver.FindElements(By.CssSelector("#whiteness-panel tr[data-whiteness]"));
+        Assert.Equal(4, whiteness.Count);
+        Assert.Contains(whiteness, r => r.GetDomAttribute("data-sensor") == "gnss_position"
+            && r.GetDomAttribute("data-whiteness") is "white" or "correlated" or "insufficient_data");
+
         DashboardPage.WaitFor(
             () => page.Driver.FindElements(By.CssSelector("#alerts-list li.alert[data-vehicle='van-07'][data-state='open'] button.acknowledge")).Count > 0,
             TimeSpan.FromSeconds(180), "an open alert for van-07 in the alerts list");

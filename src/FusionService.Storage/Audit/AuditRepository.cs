@@ -24,7 +24,7 @@ public sealed class AuditRepository
     // One pass over the range's measurements with their verdicts: each verdict is looked up per measurement, so the
     // diagnostics read the range once for outcome counts, NIS and resets rather than once for each.
     private const string VerdictsSql = "SELECT kind AS Kind, time_us AS TimeUs, v0 AS V0, v1 AS V1, outcome AS Outcome, nis AS Nis, "
-        + "track_reset AS TrackReset FROM " + Judged + " ORDER BY time_us, kind, message_key";
+        + "track_reset AS TrackReset, w0 AS W0, w1 AS W1 FROM " + Judged + " ORDER BY time_us, kind, message_key";
 
     private const string LatencySql = """
         SELECT kind AS Kind, count(*) AS Count,

@@ -11,4 +11,7 @@ namespace FusionService.Storage.Audit;
 /// <param name="Outcome">The latest verdict.</param>
 /// <param name="Nis">Normalised innovation squared of that verdict, or null.</param>
 /// <param name="TrackReset">True when the measurement restarted the track.</param>
-public readonly record struct VerdictSample(short Kind, long TimeUs, double V0, double? V1, MeasurementOutcome Outcome, double? Nis, bool TrackReset);
+/// <param name="W0">First component of the whitened innovation of that verdict (dimensionless), or null (migration 0006).</param>
+/// <param name="W1">Second component of the whitened innovation for 2-D measurements, or null.</param>
+public readonly record struct VerdictSample(
+    short Kind, long TimeUs, double V0, double? V1, MeasurementOutcome Outcome, double? Nis, bool TrackReset, float? W0, float? W1);

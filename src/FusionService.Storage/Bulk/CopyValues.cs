@@ -11,4 +11,10 @@ internal static class CopyValues
         value is double present
             ? importer.WriteAsync(present, NpgsqlDbType.Double, cancellationToken)
             : importer.WriteNullAsync(cancellationToken);
+
+    /// <summary>Writes <paramref name="value"/> as <c>real</c>, or SQL NULL when it has no value.</summary>
+    public static Task WriteNullableAsync(Npgsql.NpgsqlBinaryImporter importer, float? value, CancellationToken cancellationToken) =>
+        value is float present
+            ? importer.WriteAsync(present, NpgsqlDbType.Real, cancellationToken)
+            : importer.WriteNullAsync(cancellationToken);
 }

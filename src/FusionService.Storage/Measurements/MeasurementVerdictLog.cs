@@ -7,14 +7,14 @@ using NpgsqlTypes;
 namespace FusionService.Storage.Measurements;
 
 /// <summary>
-/// Appends the filter's verdicts to <c>measurement_verdicts</c> (migration 0005) in one binary COPY. Nothing is
+/// Appends the filter's verdicts to <c>measurement_verdicts</c> (migrations 0005 and 0006) in one binary COPY. Nothing is
 /// updated: a later verdict on the same measurement is a new row with a higher <c>verdict_id</c>, and readers take the
 /// latest through <c>judged_measurements(...)</c>.
 /// </summary>
 public static class MeasurementVerdictLog
 {
     private const string Copy =
-        "COPY measurement_verdicts (fleet_id, vehicle_id, kind, time_us, message_key, measured_at, outcome, nis, track_reset) "
+        "COPY measurement_verdicts (fleet_id, vehicle_id, kind, time_us, message_key, measured_at, outcome, nis, track_reset, w0, w1) "
         + "FROM STDIN (FORMAT BINARY)";
 
     /// <summary>
@@ -66,6 +66,8 @@ public static class MeasurementVerdictLog
                     await importer.WriteAsync((short)verdict.Outcome, NpgsqlDbType.Smallint, cancellationToken).ConfigureAwait(false);
                     await CopyValues.WriteNullableAsync(importer, verdict.Nis, cancellationToken).ConfigureAwait(false);
                     await importer.WriteAsync(verdict.TrackReset, NpgsqlDbType.Boolean, cancellationToken).ConfigureAwait(false);
+                    await CopyValues.WriteNullableAsync(importer, verdict.Whitened0, cancellationToken).ConfigureAwait(false);
+                    await CopyValues.WriteNullableAsync(importer, verdict.Whitened1, cancellationToken).ConfigureAwait(false);
                 }
 
                 return (int)await importer.CompleteAsync(cancellationToken).ConfigureAwait(false);

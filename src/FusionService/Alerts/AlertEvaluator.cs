@@ -10,7 +10,8 @@ using FusionService.Storage.Alerts;
 namespace FusionService.Alerts;
 
 /// <summary>
-/// Evaluates the per-vehicle alert rules (<c>gated_burst</c>, <c>inconsistent_sensor</c>, <c>gnss_silent_while_moving</c>,
+/// Evaluates the per-vehicle alert rules (<c>gated_burst</c>, <c>inconsistent_sensor</c> (mean NIS and, through
+/// <see cref="WhitenessWindow"/>, innovation whiteness), <c>gnss_silent_while_moving</c>,
 /// <c>track_reset</c>, <c>wheel_scale_out_of_band</c>; see their settings types for the definitions and defaults) from
 /// the outcomes of one vehicle's track, on data time: "now" is the newest measurement time seen, so the result does not
 /// depend on when or in which batches the data arrived. <see cref="TakeChanges"/> returns what changed since the last
@@ -27,6 +28,7 @@ public sealed class AlertEvaluator
     private readonly HashSet<EventKey> _counted = [];
     private readonly HashSet<EventKey> _resets = [];
     private readonly NisWindow[] _nis = [new(), new(), new(), new()];
+    private readonly WhitenessWindow?[] _whiteness = new WhitenessWindow?[4];
     private readonly Dictionary<(int Count, int Dof, double Probability), (double Lower, double Upper)> _intervals = [];
     private long _nowUs = long.MinValue;
     private long _lastGnssUs = long.MinValue;
@@ -238,6 +240,8 @@ public sealed class AlertEvaluator
     private void ObserveNis(SensorKind sensor, long t, in MeasurementOutcome outcome, InconsistentSensorRule rule)
     {
         var w = _nis[(int)sensor];
+        var white = Whiteness(sensor, rule);
+        white?.Add(outcome);
         w.Sum += outcome.Nis;
         w.Dof += outcome.Dimension;
         w.Count++;
@@ -256,6 +260,7 @@ public sealed class AlertEvaluator
 
         bool outside = (rule.FlagTooPessimistic && mean < band.Lower) || mean > band.Upper;
         w.ConsecutiveOut = outside ? w.ConsecutiveOut + 1 : 0;
+        white?.Close(Math.Min(InnovationWhitenessTest.DefaultMinimumSamples, rule.WindowSamples));
         w.LastMean = mean;
         w.LastBand = band;
         w.LastCount = w.Count;
@@ -263,7 +268,7 @@ public sealed class AlertEvaluator
         w.Sum = 0;
         w.Dof = 0;
         w.Count = 0;
-        if (w.ConsecutiveOut < rule.ConsecutiveWindows)
+        if (!Flagged((int)sensor, rule))
         {
             return;
         }
@@ -274,17 +279,20 @@ public sealed class AlertEvaluator
         e.Count = opening ? 1 : e.Count + 1;
         var sensors = new JsonArray();
         var names = new List<string>();
+        var sentences = new List<string>();
         for (int k = 0; k < SensorCount; k++)
         {
             var x = _nis[k];
-            if (x.ConsecutiveOut < rule.ConsecutiveWindows)
+            bool nisOut = x.ConsecutiveOut >= rule.ConsecutiveWindows;
+            var wx = _whiteness[k];
+            bool correlated = wx is not null && wx.ConsecutiveCorrelated >= rule.ConsecutiveWindows;
+            if (!nisOut && !correlated)
             {
                 continue;
             }
 
             string name = AlertKinds.SensorName((SensorKind)k);
-            names.Add(name);
-            sensors.Add(new JsonObject
+            var entry = new JsonObject
             {
                 ["sensor"] = name,
                 ["mean_nis"] = x.LastMean,
@@ -292,14 +300,74 @@ public sealed class AlertEvaluator
                 ["nis_dof"] = x.LastDof,
                 ["nis_interval"] = new JsonObject { ["lower"] = x.LastBand.Lower, ["upper"] = x.LastBand.Upper },
                 ["probability"] = rule.Probability,
-                ["verdict"] = x.LastMean > x.LastBand.Upper ? "too_optimistic" : "too_pessimistic",
+                ["verdict"] = nisOut ? (x.LastMean > x.LastBand.Upper ? "too_optimistic" : "too_pessimistic") : "correlated",
                 ["windows_out_of_band"] = x.ConsecutiveOut,
-            });
+            };
+            if (wx?.Last is { } r)
+            {
+                entry["whiteness"] = new JsonObject
+                {
+                    ["verdict"] = correlated ? "correlated" : "white",
+                    ["lag1"] = Num(r.Lag1),
+                    ["band"] = Num(r.BandHalfWidth),
+                    ["ljung_box_q"] = Num(r.LjungBoxQ),
+                    ["critical_value"] = r.CriticalValue,
+                    ["dof"] = r.Dof,
+                    ["windows_correlated"] = wx.ConsecutiveCorrelated,
+                };
+            }
+
+            sensors.Add(entry);
+            if (nisOut)
+            {
+                names.Add(name);
+            }
+
+            if (correlated && wx!.Last is { } c)
+            {
+                sentences.Add(Inv($"{PlainErrors((SensorKind)k)} keep pulling the same way: successive measurements disagree with the track in a correlated way (lag-1 autocorrelation {c.Lag1:0.00}, expected within ±{c.BandHalfWidth:0.00}) for {rule.ConsecutiveWindows} windows of {rule.WindowSamples} samples, so the stated uncertainty is too small"));
+            }
         }
 
-        e.Summary = Inv($"Mean NIS of {string.Join(", ", names)} outside its {rule.Probability * 100:0.#} % chi-square band for {rule.ConsecutiveWindows} windows of {rule.WindowSamples} samples");
+        if (names.Count > 0)
+        {
+            sentences.Insert(0, Inv($"Mean NIS of {string.Join(", ", names)} outside its {rule.Probability * 100:0.#} % chi-square band for {rule.ConsecutiveWindows} windows of {rule.WindowSamples} samples"));
+        }
+
+        e.Summary = string.Join("; ", sentences);
         e.Details = new JsonObject { ["sensors"] = sensors, ["windows"] = e.Count };
     }
+
+    private static string PlainErrors(SensorKind sensor) => sensor switch
+    {
+        SensorKind.GnssPosition => "GNSS position errors",
+        SensorKind.GnssVelocity => "GNSS speed and course errors",
+        SensorKind.WheelSpeed => "Wheel-speed errors",
+        _ => "IMU errors",
+    };
+
+    /// <summary>The sensor's whiteness window when the rule tests it, made on first use and remade when the lags change.</summary>
+    private WhitenessWindow? Whiteness(SensorKind sensor, InconsistentSensorRule rule)
+    {
+        int k = (int)sensor;
+        if (!RuleChecks.Includes(rule.WhitenessSensors, sensor))
+        {
+            _whiteness[k] = null;
+            return null;
+        }
+
+        if (_whiteness[k] is not { } window || window.Lags != rule.WhitenessLags)
+        {
+            window = new WhitenessWindow(rule.WhitenessLags);
+            _whiteness[k] = window;
+        }
+
+        return window;
+    }
+
+    private bool Flagged(int k, InconsistentSensorRule rule) =>
+        _nis[k].ConsecutiveOut >= rule.ConsecutiveWindows
+        || (_whiteness[k] is { } w && RuleChecks.Includes(rule.WhitenessSensors, (SensorKind)k) && w.ConsecutiveCorrelated >= rule.ConsecutiveWindows);
 
     private void ObserveWheelScale(in TrackState posterior, WheelScaleRule rule)
     {
@@ -366,7 +434,8 @@ public sealed class AlertEvaluator
             return;
         }
 
-        if (kind == AlertKinds.InconsistentSensor && !disabled && Array.Exists(_nis, w => w.ConsecutiveOut >= Settings.InconsistentSensor.ConsecutiveWindows))
+        if (kind == AlertKinds.InconsistentSensor && !disabled
+            && Enumerable.Range(0, SensorCount).Any(k => Flagged(k, Settings.InconsistentSensor)))
         {
             return;
         }

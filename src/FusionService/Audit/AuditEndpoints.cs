@@ -29,14 +29,20 @@ public static class AuditEndpoints
             .WithResponseExample(200, "diagnostics.json")
             .RequireApiKey(ApiKeyRole.Read, ApiKeyRole.Admin)
             .WithName("GetVehicleDiagnostics")
-            .WithSummary("Sensor verdicts, NIS consistency, calibration and GNSS outages of one vehicle")
+            .WithSummary("Sensor verdicts, NIS consistency, innovation whiteness, calibration and GNSS outages of one vehicle")
             .WithDescription(
                 "Query: from, to (" + TimeFormats + "; measurement time, [from, to), at most Audit:MaxDiagnosticsWindowHours, default 24 h). "
                 + "Per sensor (gnss_position, gnss_velocity, wheel, imu): counts accepted, gated, duplicate (per UTC day of measurement "
                 + "time, over the whole days the window touches) and too_late; the mean NIS of the fused measurements with the two-sided "
                 + "95 % chi-square interval for the mean of N values of dimension m, [chi2(0.025; N m), chi2(0.975; N m)] / N, and the "
-                + "verdict consistent | too_optimistic (mean above: stated accuracies too small) | too_pessimistic | insufficient_data "
-                + "(fewer than Audit:NisMinimumCount, default 10); arrival latency percentiles p50/p95/p99 of received_at - measured_at in ms. "
+                + "nis_verdict consistent | too_optimistic (mean above: stated accuracies too small) | too_pessimistic | insufficient_data "
+                + "(fewer than Audit:NisMinimumCount, default 10); whiteness: per component of the whitened innovation w = L^-1 nu "
+                + "(S = L L^T) of the fused measurements, in time order, the sample autocorrelations r(1..h) about zero (h = "
+                + "Audit:WhitenessLags, default 10, in measurements of that sensor), the 95 % band 1.96/sqrt(N), the Ljung-Box "
+                + "Q = N (N + 2) sum r(k)^2 / (N - k) against the chi-square critical value with h dof at 0.05 divided by the number "
+                + "of components, and white | correlated | insufficient_data (fewer than Audit:WhitenessMinimumCount, default 50); "
+                + "verdict: nis_verdict, except correlated when the mean NIS is consistent (or too few) but the innovations are "
+                + "correlated (a mean NIS cannot see correlation); arrival latency percentiles p50/p95/p99 of received_at - measured_at in ms. "
                 + "Calibration: wheel-speed scale and gyro bias (deg/s) with standard deviations from the newest fused state in the window. "
                 + "gnss_outages: gaps between consecutive GNSS position fixes longer than Audit:GnssOutageMinGapS (default 5 s) during which "
                 + "a fused speed reached Audit:MovingSpeedMps (default 1 m/s). track_resets: fixes that re-initialised the track. "

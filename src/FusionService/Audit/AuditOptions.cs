@@ -25,6 +25,14 @@ public sealed class AuditOptions
     [Range(1, 1_000_000)]
     public int NisMinimumCount { get; set; } = 10;
 
+    /// <summary>Number of lags h of the whiteness test of each sensor's innovations (in measurements of that sensor). Default 10.</summary>
+    [Range(1, 100)]
+    public int WhitenessLags { get; set; } = Estimation.Diagnostics.InnovationWhitenessTest.DefaultLags;
+
+    /// <summary>Fewest fused measurements with an innovation for a whiteness verdict other than insufficient_data. Default 50.</summary>
+    [Range(2, 1_000_000)]
+    public int WhitenessMinimumCount { get; set; } = Estimation.Diagnostics.InnovationWhitenessTest.DefaultMinimumSamples;
+
     /// <summary>Largest <c>window_s</c> of an explanation, seconds; larger requests are answered 400. Default 300.</summary>
     [Range(0.001, 86400)]
     public double MaxExplainWindowS { get; set; } = 300;

@@ -12,7 +12,8 @@ namespace FusionService.Audit;
 
 /// <summary>
 /// Builds a <see cref="DiagnosticsResponse"/>: outcome counts, duplicate counts, the mean NIS of the fused measurements
-/// per sensor judged by <see cref="NisConsistencyTest"/>, latency percentiles, the calibration of the newest fused
+/// per sensor judged by <see cref="NisConsistencyTest"/>, the whiteness of their whitened innovations
+/// (<see cref="InnovationWhitenessTest"/>, over the stored <c>w0</c>/<c>w1</c> of each verdict), latency percentiles, the calibration of the newest fused
 /// state, GNSS outages (<see cref="GnssOutageDetector"/>) and track resets.
 /// </summary>
 public static class DiagnosticsReport
@@ -21,7 +22,9 @@ public static class DiagnosticsReport
 
     private const string Caution =
         "Diagnostics of estimates: the NIS verdict tests whether the stated sensor accuracies and the filter's noise settings "
-        + "agree with the data (95 % two-sided chi-square interval for the mean NIS); it does not prove any single position. "
+        + "agree with the data (95 % two-sided chi-square interval for the mean NIS), and the whiteness test whether the "
+        + "innovations are independent from one measurement to the next (Ljung-Box, 5 %); correlated innovations mean the "
+        + "stated uncertainty is too small even when the mean NIS looks right. Neither proves any single position. "
         + "Duplicates are counted per UTC day of measurement time over the whole days the window touches.";
 
     /// <summary>Builds the report of [<paramref name="fromUs"/>, <paramref name="toUs"/>) (Unix microseconds).</summary>
@@ -46,6 +49,7 @@ public static class DiagnosticsReport
         var mixed = new bool[4];
         var outcomeCounts = new Dictionary<(int Kind, StoredOutcome Outcome), long>();
         var resets = new List<long>();
+        var whitened = new AutocorrelationAccumulator?[4, 2];
         await foreach (var sample in audit.VerdictsAsync(fleetId, vehicle, fromUs, toUs, cancellationToken).ConfigureAwait(false))
         {
             int k = sample.Kind;
@@ -63,6 +67,8 @@ public static class DiagnosticsReport
 
             var m = Measurement.FromStored(0, (ulong)(byte)k << 56, sample.V0, sample.V1 ?? double.NaN, 0f);
             int dimension = processor.InnovationDimension(m);
+            AddWhitened(whitened, k, 0, sample.W0, options.WhitenessLags);
+            AddWhitened(whitened, k, 1, sample.W1, options.WhitenessLags);
             nisCount[k]++;
             nisSum[k] += nis;
             nisDof[k] += dimension;
@@ -88,6 +94,12 @@ public static class DiagnosticsReport
                 verdict = NisConsistencyTest.Judge(mean.Value, n, dof, options.NisMinimumCount);
             }
 
+            var whiteness = Whiteness(kind, whitened, options);
+            // A mean NIS inside its band says nothing about correlation: correlated innovations are not consistent.
+            // A mean NIS outside its band is the plainer fault and keeps its name.
+            string overall = whiteness?.Verdict == "correlated" && verdict is ConsistencyVerdict.Consistent or ConsistencyVerdict.Insufficient
+                ? "correlated"
+                : VerdictName(verdict);
             var l = latency.Where(x => x.Kind == k).Select(x => (LatencySummary?)x).FirstOrDefault();
             sensors.Add(new SensorDiagnostics(
                 SensorNames.Of(kind),
@@ -99,8 +111,10 @@ public static class DiagnosticsReport
                 nisCount[k] > 0 && !mixed[k] ? dimensionSeen[k] : null,
                 nisCount[k],
                 interval,
+                overall,
+                l is { } s ? new LatencyPercentilesResponse(s.P50Ms, s.P95Ms, s.P99Ms) : null,
                 VerdictName(verdict),
-                l is { } s ? new LatencyPercentilesResponse(s.P50Ms, s.P95Ms, s.P99Ms) : null));
+                whiteness));
         }
 
         CalibrationResponse? calibration = null;
@@ -131,6 +145,80 @@ public static class DiagnosticsReport
             [.. resets.Select(t => new TrackResetResponse(QueryTime.ToTime(t)))],
             Caution);
     }
+
+    /// <summary>The API name of a whiteness verdict: white, correlated or insufficient_data.</summary>
+    public static string WhitenessName(WhitenessVerdict verdict) => verdict switch
+    {
+        WhitenessVerdict.White => "white",
+        WhitenessVerdict.Correlated => "correlated",
+        _ => "insufficient_data",
+    };
+
+    /// <summary>The API name of innovation component <paramref name="component"/> (0 or 1) of <paramref name="kind"/>.</summary>
+    public static string ComponentName(SensorKind kind, int component) => (kind, component) switch
+    {
+        (SensorKind.GnssPosition, 0) => "east",
+        (SensorKind.GnssPosition, _) => "north",
+        (SensorKind.GnssVelocity, 0) => "speed",
+        (SensorKind.GnssVelocity, _) => "heading",
+        (SensorKind.WheelSpeed, _) => "speed",
+        (SensorKind.Imu, 0) => "yaw_rate",
+        _ => "acceleration",
+    };
+
+    private static void AddWhitened(AutocorrelationAccumulator?[,] whitened, int kind, int component, float? w, int lags)
+    {
+        if (w is not { } value || !float.IsFinite(value))
+        {
+            return;
+        }
+
+        (whitened[kind, component] ??= new AutocorrelationAccumulator(lags)).Add(value);
+    }
+
+    private static WhitenessResponse? Whiteness(SensorKind kind, AutocorrelationAccumulator?[,] whitened, AuditOptions options)
+    {
+        const double significance = 0.05;
+        int k = (int)kind;
+        int components = (whitened[k, 0] is null ? 0 : 1) + (whitened[k, 1] is null ? 0 : 1);
+        if (components == 0)
+        {
+            return null;
+        }
+
+        // Bonferroni: each of m components at alpha / m keeps the sensor's false-alarm rate at most alpha.
+        double each = significance / components;
+        var results = new List<WhitenessComponentResponse>(components);
+        bool anyCorrelated = false, allDecided = true;
+        for (int c = 0; c < 2; c++)
+        {
+            if (whitened[k, c] is not { } accumulator)
+            {
+                continue;
+            }
+
+            var r = InnovationWhitenessTest.Test(accumulator, each, options.WhitenessMinimumCount);
+            anyCorrelated |= r.Verdict == WhitenessVerdict.Correlated;
+            allDecided &= r.Verdict != WhitenessVerdict.TooFewSamples;
+            results.Add(new WhitenessComponentResponse(
+                ComponentName(kind, c),
+                r.SampleCount,
+                Finite(r.Lag1),
+                Finite(r.BandHalfWidth),
+                [.. r.Autocorrelation.Select(Finite)],
+                r.LagsOutsideBand,
+                Finite(r.LjungBoxQ),
+                r.CriticalValue,
+                r.Dof,
+                each,
+                WhitenessName(r.Verdict)));
+        }
+
+        string verdict = anyCorrelated ? "correlated" : allDecided ? "white" : "insufficient_data";
+        return new WhitenessResponse(verdict, options.WhitenessLags, significance, results);
+    }
+
+    private static double? Finite(double value) => double.IsFinite(value) ? value : null;
 
     /// <summary>Index of the diagonal element (i, i) in the row-major packed upper triangle of the 8 x 8 covariance.</summary>
     public static int PackedDiagonalIndex(int i) => (i * StateIndex.VehicleCount) - (i * (i - 1) / 2);

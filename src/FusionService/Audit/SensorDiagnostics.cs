@@ -1,4 +1,4 @@
-// Counts, NIS consistency and latency of one sensor.
+// Counts, NIS consistency, whiteness and latency of one sensor.
 namespace FusionService.Audit;
 
 /// <summary>Diagnostics of one sensor of one vehicle in the window.</summary>
@@ -11,8 +11,14 @@ namespace FusionService.Audit;
 /// <param name="NisDof">Dimension m of each NIS when all share one (null when none or mixed).</param>
 /// <param name="NisCount">Number N of NIS values in the mean.</param>
 /// <param name="NisInterval">Two-sided 95 % interval for the mean NIS of a consistent filter (null when none).</param>
-/// <param name="Verdict">consistent, too_optimistic, too_pessimistic or insufficient_data.</param>
+/// <param name="Verdict">
+/// Overall consistency of the sensor: the NIS verdict (<paramref name="NisVerdict"/>), except that a sensor whose mean NIS
+/// is consistent but whose innovations are correlated (<paramref name="Whiteness"/>) is <c>correlated</c>, not consistent.
+/// One of consistent, correlated, too_optimistic, too_pessimistic, insufficient_data.
+/// </param>
 /// <param name="LatencyMs">Arrival latency percentiles, milliseconds (null when the sensor sent nothing).</param>
+/// <param name="NisVerdict">Verdict of the mean NIS alone: consistent, too_optimistic, too_pessimistic or insufficient_data.</param>
+/// <param name="Whiteness">Autocorrelation and Ljung-Box test of the whitened innovations of the fused measurements (null when none carried one).</param>
 public sealed record SensorDiagnostics(
     string Sensor,
     long Accepted,
@@ -24,4 +30,6 @@ public sealed record SensorDiagnostics(
     long NisCount,
     NisIntervalResponse? NisInterval,
     string Verdict,
-    LatencyPercentilesResponse? LatencyMs);
+    LatencyPercentilesResponse? LatencyMs,
+    string NisVerdict,
+    WhitenessResponse? Whiteness);

@@ -258,7 +258,11 @@ internal sealed class VehicleTrackGrain(
             key,
             ToStored(outcome.Kind),
             double.IsFinite(outcome.Nis) && outcome.Nis >= 0 ? outcome.Nis : null,
-            outcome.Kind == OutcomeKind.TrackReset));
+            outcome.Kind == OutcomeKind.TrackReset)
+        {
+            Whitened0 = StoredWhitened(outcome.Whitened0),
+            Whitened1 = StoredWhitened(outcome.Whitened1),
+        });
 
         if (!posterior.HasPlane || posterior.Phase != TrackPhase.Running)
         {
@@ -272,6 +276,9 @@ internal sealed class VehicleTrackGrain(
             _lastEmitUs = t;
         }
     }
+
+    /// <summary>A whitened innovation component as stored (<c>real</c>), null when there is none or it does not fit.</summary>
+    private static float? StoredWhitened(double w) => double.IsFinite(w) && Math.Abs(w) < float.MaxValue ? (float)w : null;
 
     private FusedStateRow ToFusedRow(in TrackState s)
     {

@@ -94,6 +94,33 @@ public sealed class MeasurementIngestTests(PostgresFixture server)
     }
 
     [Fact]
+    public async Task Issue12_whitened_innovations_are_stored_with_the_latest_verdict()
+    {
+        var (schema, fleet) = await NewStoreAsync();
+        await using var _ = schema;
+        long t = TestTimes.At(TestTimes.Day, 11, 0, 0, 0);
+        await InsertAsync(schema, [Row(fleet, "van-1", t, 1), Row(fleet, "van-1", t, 2)]);
+        var k1 = new MeasurementKey(fleet, "van-1", 2, t, 1);
+        var k2 = new MeasurementKey(fleet, "van-1", 2, t, 2);
+        await MeasurementVerdictLog.AppendAsync(schema.DataSource,
+        [
+            new(k1, MeasurementOutcome.Accepted, 1.25, false) { Whitened0 = 0.5f, Whitened1 = -1.0f },
+            new(k2, MeasurementOutcome.Initialising, null, false),
+        ]);
+        await MeasurementVerdictLog.AppendAsync(schema.DataSource, [new(k1, MeasurementOutcome.Accepted, 4.0, false) { Whitened0 = -2.0f }]);
+
+        var samples = new List<FusionService.Storage.Audit.VerdictSample>();
+        await foreach (var sample in new FusionService.Storage.Audit.AuditRepository(schema.DataSource).VerdictsAsync(fleet, "van-1", t, t + 1))
+        {
+            samples.Add(sample);
+        }
+
+        // Exact in real: the values are small binary fractions.
+        Assert.Equal(((float?)-2.0f, (float?)null), (samples[0].W0, samples[0].W1));
+        Assert.Equal(((float?)null, (float?)null), (samples[1].W0, samples[1].W1));
+    }
+
+    [Fact]
     public async Task Transactions_creating_the_same_new_vehicles_in_opposite_orders_both_commit()
     {
         // Each of 20 rounds: two transactions store one row for each of 40 new vehicles, one in ascending and one in

@@ -178,6 +178,37 @@ public sealed class AlertEvaluatorTests
         Assert.True(sensor.GetProperty("mean_nis").GetDouble() > upper);
     }
 
+    [Fact]
+    public void Issue12_correlated_gnss_error_raises_inconsistent_sensor_in_plain_words()
+    {
+        // A clean round whose fixes carry a Gauss-Markov error (sigma 4 m, tau 45 s at 1 Hz, check-values.md section 10)
+        // with the total accuracy stated: the whitened GNSS innovations of each 100-fix window are correlated.
+        var (truth, suite) = EvaluatorRun.CleanRound(seed: 509);
+        var measurements = GaussMarkovGnssError.Add(MeasurementGenerator.Generate(truth, suite, 509).Measurements, sigmaM: 4.0, seed: 1209);
+        var settings = AlertRuleSettings.Default with { InconsistentSensor = new InconsistentSensorRule { Sensors = ["gnss_position"] } };
+        var observations = EvaluatorRun.Run(measurements, settings);
+        var raised = observations.First(o => o.Kind == AlertKinds.InconsistentSensor && !o.Resolve);
+        Assert.Contains("GNSS position errors keep pulling the same way", raised.Summary, StringComparison.Ordinal);
+        using var details = JsonDocument.Parse(raised.DetailsJson);
+        var sensor = details.RootElement.GetProperty("sensors").EnumerateArray().Single(s => s.GetProperty("sensor").GetString() == "gnss_position");
+        var whiteness = sensor.GetProperty("whiteness");
+        Assert.Equal("correlated", whiteness.GetProperty("verdict").GetString());
+        Assert.True(whiteness.GetProperty("ljung_box_q").GetDouble() > whiteness.GetProperty("critical_value").GetDouble());
+        // Two components at 0.05 / 2 each (Bonferroni): chi-square 0.975 quantile with 10 dof (MathNet, a reference library).
+        AssertNear.Equal(ChiSquared.InvCDF(10, 0.975), whiteness.GetProperty("critical_value").GetDouble(), 1e-9, "critical value of Q");
+        Assert.True(whiteness.GetProperty("lag1").GetDouble() > whiteness.GetProperty("band").GetDouble());
+    }
+
+    [Fact]
+    public void Issue12_whiteness_is_not_judged_for_sensors_left_out()
+    {
+        var (truth, suite) = EvaluatorRun.CleanRound(seed: 509);
+        var measurements = GaussMarkovGnssError.Add(MeasurementGenerator.Generate(truth, suite, 509).Measurements, sigmaM: 4.0, seed: 1209);
+        var settings = AlertRuleSettings.Default with { InconsistentSensor = new InconsistentSensorRule { Sensors = ["gnss_position"], WhitenessSensors = [] } };
+        var observations = EvaluatorRun.Run(measurements, settings);
+        Assert.DoesNotContain(observations, o => o.Kind == AlertKinds.InconsistentSensor && o.Summary.Contains("pulling", StringComparison.Ordinal));
+    }
+
     [Theory]
     [InlineData(899.0, false)]
     [InlineData(900.0, false)]

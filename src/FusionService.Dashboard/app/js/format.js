@@ -50,8 +50,15 @@ export const SENSOR_WORDS = {
   imu: 'gyro and accelerometer',
 };
 
+export const WHITENESS_WORDS = {
+  white: 'independent over time',
+  correlated: 'errors keep pulling the same way',
+  insufficient_data: 'too few values to judge',
+};
+
 export const VERDICT_WORDS = {
   consistent: 'consistent',
+  correlated: 'errors persist over time',
   too_optimistic: 'noisier than the model says',
   too_pessimistic: 'quieter than the model says',
   insufficient_data: 'too few values to judge',

@@ -5,7 +5,7 @@ import { describeError, getJson, query } from './api.js';
 import { LocalMap } from './localMap.js';
 import { centroid, createFrame, ellipseRotationSvgDeg } from './localFrame.js';
 import { drawNisChart } from './nisChart.js';
-import { escapeHtml, num, SENSOR_WORDS, utcDateTime, utcTime, utcTimeTenths, VERDICT_WORDS } from './format.js';
+import { escapeHtml, num, SENSOR_WORDS, utcDateTime, utcTime, utcTimeTenths, VERDICT_WORDS, WHITENESS_WORDS } from './format.js';
 
 const EXPLAIN_WINDOW_S = 10;
 const NIS_WINDOW_S = 120;
@@ -108,6 +108,7 @@ export class VehicleView {
 
     this.diagnostics = diagnostics.status === 'fulfilled' ? diagnostics.value : null;
     this.renderDiagnostics(diagnostics);
+    this.renderWhiteness(diagnostics);
     this.renderCalibration();
     this.renderDistance(distance);
     this.renderGnssNis();
@@ -295,6 +296,32 @@ export class VehicleView {
       <table class="grid small"><thead><tr><th>sensor</th><th>accepted</th><th>gated</th><th>duplicate</th><th>too late</th>
         <th>mean NIS</th><th>verdict</th><th>delay p50 / p95 / p99</th></tr></thead><tbody>${rows}</tbody></table>
       <p class="small">GNSS outages: ${escapeHtml(outages)}. Track restarts: ${escapeHtml(resets)}.</p>`);
+  }
+
+  /** Whiteness of each sensor's innovations (diagnostics endpoint): verdict, lag-1 autocorrelation and its band. */
+  renderWhiteness(result) {
+    if (result.status !== 'fulfilled') {
+      this.set('#whiteness-panel', `<p class="not-available">${escapeHtml(describeError(result.reason, 'Whiteness'))}</p>`);
+      return;
+    }
+    const rows = (result.value.sensors ?? []).map((s) => {
+      const w = s.whiteness;
+      if (!w) {
+        return `<tr data-sensor="${escapeHtml(s.sensor)}" data-whiteness="none"><td>${escapeHtml(SENSOR_WORDS[s.sensor] ?? s.sensor)}</td>
+          <td colspan="3" class="muted">no innovations in the window</td></tr>`;
+      }
+      const parts = (w.components ?? []).map((c) => `${escapeHtml(c.component)} ${num(c.lag1, 2)} (± ${num(c.band, 2)}${
+        Math.abs(c.lag1 ?? 0) > (c.band ?? Infinity) ? ', outside' : ''})`).join('; ');
+      const tests = (w.components ?? []).map((c) => `${num(c.ljung_box_q, 1)} / ${num(c.critical_value, 1)}`).join('; ');
+      const n = (w.components ?? []).map((c) => c.samples).join(' / ');
+      return `<tr data-sensor="${escapeHtml(s.sensor)}" data-whiteness="${escapeHtml(w.verdict)}">
+        <td>${escapeHtml(SENSOR_WORDS[s.sensor] ?? s.sensor)}</td>
+        <td class="${w.verdict === 'correlated' ? 'whiteness-correlated' : ''}">${escapeHtml(WHITENESS_WORDS[w.verdict] ?? w.verdict)}</td>
+        <td class="n">${parts}</td><td class="n">${tests} (${escapeHtml(String(n))} values)</td></tr>`;
+    }).join('');
+    this.set('#whiteness-panel', `
+      <table class="grid small"><thead><tr><th>sensor</th><th>over time</th><th>lag-1 autocorrelation (95 % band)</th>
+        <th>Ljung-Box Q / limit</th></tr></thead><tbody>${rows}</tbody></table>`);
   }
 
   renderCalibration() {
