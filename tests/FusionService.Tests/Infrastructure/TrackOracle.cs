@@ -1,4 +1,5 @@
 // The uninterrupted reference: the estimation core run directly on the same measurements.
+using FusionService.Estimation.LinearAlgebra;
 using FusionService.Estimation.Measurements;
 using FusionService.Estimation.Models;
 using FusionService.Estimation.Tracking;
@@ -34,14 +35,14 @@ internal sealed class TrackOracle
     {
         ref readonly TrackState s = ref _track.Current;
         var position = TrackProcessor.PositionOf(s);
-        var x = new double[8];
-        var p = new double[64];
-        for (int i = 0; i < 8; i++)
+        var x = new double[StateVector.Length];
+        var p = new double[StateMatrix.Length];
+        for (int i = 0; i < x.Length; i++)
         {
             x[i] = s.X[i];
         }
 
-        for (int i = 0; i < 64; i++)
+        for (int i = 0; i < p.Length; i++)
         {
             p[i] = s.P[i];
         }
