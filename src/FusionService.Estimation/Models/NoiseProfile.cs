@@ -52,12 +52,12 @@ public sealed record NoiseProfile
 
     /// <summary>
     /// Share of a GNSS fix's reported error variance that is correlated over time (see <see cref="GnssErrorModel"/>), in
-    /// (0, 1); the rest is white. Default 0.6: consumer receivers' errors are dominated by slowly varying atmospheric,
-    /// orbit and clock errors and multipath (common practice); among the settings compared in docs/estimation.md
-    /// (`./build.sh bench consistency`) this one keeps the 95 % ellipse closest to its nominal containment across
-    /// correlation times of 20-120 s and correlated shares of 50-95 %.
+    /// (0, 1); the rest is white. Default 0.75: consumer receivers' errors are dominated by slowly varying atmospheric,
+    /// orbit and clock errors and multipath (common practice). Of the settings compared in docs/estimation.md
+    /// (`./build.sh bench consistency`), 0.6 left the smoothed ellipse over-confident on rounds with long stops (76-88 %
+    /// clean sky) and 0.75 kept both ellipses at or above 93 % on every realistic drive, conservative for live positions.
     /// </summary>
-    public double GnssCorrelatedFraction { get; init; } = 0.6;
+    public double GnssCorrelatedFraction { get; init; } = 0.75;
 
     /// <summary>
     /// Correlation time τ of the GNSS error's correlated part, seconds. Default 60 (real errors decorrelate over tens of

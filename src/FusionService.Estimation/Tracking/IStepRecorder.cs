@@ -6,7 +6,8 @@ namespace FusionService.Estimation.Tracking;
 
 /// <summary>
 /// Receives every forward step of the filter, for Rauch-Tung-Striebel smoothing. Calls come in order:
-/// <see cref="Start"/> when the filter (re)starts, then for each later measurement <see cref="Predicted"/>, one
+/// <see cref="Start"/> when the filter (re)starts or re-initialises its motion (a carried vehicle recognised; then it
+/// may follow a <see cref="Predicted"/> without its <see cref="Posterior"/>), then for each later measurement <see cref="Predicted"/>, one
 /// <see cref="Updated"/> per applied update and <see cref="Adjusted"/> if anything else changed the state, then
 /// <see cref="Posterior"/> (not called when the measurement reset the track: a new <see cref="Start"/> follows).
 /// </summary>

@@ -42,6 +42,12 @@ public readonly record struct MeasurementOutcome(
     /// <summary>Second component of the whitened innovation (see <see cref="Whitened0"/>) when <see cref="Dimension"/> is 2; NaN otherwise.</summary>
     public double Whitened1 { get; init; } = double.NaN;
 
+    /// <summary>
+    /// True when the track takes the vehicle to be carried after this measurement (towed, on a ferry, lifted: GNSS moves
+    /// while the wheels read zero); wheel samples are then <see cref="OutcomeKind.Unused"/>.
+    /// </summary>
+    public bool Carried { get; init; }
+
     /// <summary>An outcome without an innovation.</summary>
     public static MeasurementOutcome Of(OutcomeKind kind) => new(kind, double.NaN, 0, double.NaN, false, 0);
 
@@ -69,6 +75,7 @@ public readonly record struct MeasurementOutcome(
         OutcomeKind.Initialising => $"{sensor} used to start the track",
         OutcomeKind.BeforeStart => $"{sensor} arrived before the first position fix; not fused",
         OutcomeKind.TrackReset => $"{sensor} re-initialised the track position after sustained rejection",
+        OutcomeKind.Unused when Carried => $"{sensor} set aside: GNSS shows the vehicle moving while its wheels are still (carried)",
         OutcomeKind.Unused => $"{sensor} carried nothing usable",
         _ => Kind.ToString(),
     };

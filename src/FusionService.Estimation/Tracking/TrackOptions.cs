@@ -63,6 +63,19 @@ public sealed record TrackOptions
     /// <summary>The track re-anchors its local plane when it is this far from the anchor, metres (see LocalTangentPlane.MaxRadiusForScaleErrorM). Default 10,000.</summary>
     public double ReanchorRadiusM { get; init; } = 10_000.0;
 
+    /// <summary>
+    /// GNSS speed at or above which a vehicle whose wheels read zero is taken to be carried (towed, on a ferry, lifted),
+    /// m/s. Default 1.5: Doppler speed is far less affected by multipath than position, and a parked receiver's speed
+    /// noise stays well below this (common practice).
+    /// </summary>
+    public double CarriedMinSpeedMps { get; init; } = 1.5;
+
+    /// <summary>How long GNSS must show that speed while the wheels read zero before the vehicle counts as carried, seconds. Default 5.</summary>
+    public double CarriedAfterS { get; init; } = 5.0;
+
+    /// <summary>How long GNSS speed must stay below <see cref="CarriedMinSpeedMps"/> before a carry ends, seconds. Default 3.</summary>
+    public double CarriedEndAfterS { get; init; } = 3.0;
+
     /// <summary>Throws <see cref="ArgumentException"/> naming the first invalid option.</summary>
     public void Validate()
     {
@@ -84,6 +97,9 @@ public sealed record TrackOptions
         Require(TwoFixMaxAgeS > 0, nameof(TwoFixMaxAgeS), "must be positive");
         Require(HeadingReacquireSigmaRad > 0, nameof(HeadingReacquireSigmaRad), "must be positive");
         Require(ReanchorRadiusM > 0, nameof(ReanchorRadiusM), "must be positive");
+        Require(CarriedMinSpeedMps > 0 && double.IsFinite(CarriedMinSpeedMps), nameof(CarriedMinSpeedMps), "must be finite and positive");
+        Require(CarriedAfterS >= 0 && double.IsFinite(CarriedAfterS), nameof(CarriedAfterS), "must be finite and non-negative");
+        Require(CarriedEndAfterS >= 0 && double.IsFinite(CarriedEndAfterS), nameof(CarriedEndAfterS), "must be finite and non-negative");
     }
 
     private static void Require(bool condition, string name, string why)

@@ -254,6 +254,18 @@ public sealed class TrackProcessor
     {
         double correlatedVar = m.Kind == SensorKind.GnssPosition ? CorrelatedVariance(m.Value2) : double.NaN;
         PredictTo(ref s, m.TimeUs, correlatedVar, recorder);
+        if (m.Kind == SensorKind.GnssVelocity && CarriedMotion.Observe(ref s, m, Options))
+        {
+            // The standstill constraint held the track while the vehicle was carried off: restart its motion from this GNSS
+            // velocity (used, like a track start, to initialise rather than fused) and begin a new smoothing segment, so that
+            // smoothing does not cross the jump in the state.
+            bool hasCourse = m.Value0 >= Options.CourseMinSpeedMps && !double.IsNaN(m.Value1);
+            double courseSigma = Math.Max(m.Value2 / m.Value0, Options.CourseSigmaFloorRad);
+            CarriedMotion.Begin(ref s, m, hasCourse ? CourseToHeading(m.Value1) : double.NaN, courseSigma, Profile.InitialAccelSigmaMps2);
+            recorder?.Start(m.TimeUs, s.X, s.P, s.Plane);
+            return MeasurementOutcome.Of(OutcomeKind.Initialising) with { Carried = true };
+        }
+
         double eastBefore = s.X[EastM], northBefore = s.X[NorthM];
         MeasurementOutcome outcome = m.Kind switch
         {
@@ -266,6 +278,11 @@ public sealed class TrackProcessor
 
         if (s.Phase == TrackPhase.Running)
         {
+            if (s.Carried)
+            {
+                outcome = outcome with { Carried = true };
+            }
+
             if (outcome.Kind == OutcomeKind.Accepted)
             {
                 double de = s.X[EastM] - eastBefore, dn = s.X[NorthM] - northBefore;
@@ -468,6 +485,7 @@ public sealed class TrackProcessor
     {
         double speed = m.Value0, speedSigma = m.Value2;
         bool useCourse = speed >= Options.CourseMinSpeedMps && !double.IsNaN(m.Value1);
+
         Span<double> h = stackalloc double[2 * N];
         h.Clear();
         h[SpeedMps] = 1.0;
@@ -487,6 +505,11 @@ public sealed class TrackProcessor
 
     private MeasurementOutcome UpdateWheelSpeed(ref TrackState s, in Measurement m, IStepRecorder? recorder)
     {
+        if (s.Carried && !CarriedMotion.WheelsTurn(ref s, m, Options))
+        {
+            return MeasurementOutcome.Of(OutcomeKind.Unused);
+        }
+
         double v = s.X[SpeedMps], k = s.X[WheelScale];
         Span<double> residual = [m.Value0 - (v * k)];
         Span<double> h = stackalloc double[N];

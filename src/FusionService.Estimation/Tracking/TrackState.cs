@@ -63,6 +63,27 @@ public struct TrackState
     /// </summary>
     public double GnssCorrelatedVarianceM2;
 
+    /// <summary>
+    /// Whether the vehicle is being carried (towed, on a ferry, lifted): GNSS reports steady motion while the wheels read
+    /// zero. Wheel speed and the standstill constraint are set aside meanwhile (see <see cref="CarriedMotion"/>).
+    /// </summary>
+    public bool Carried;
+
+    /// <summary>When the current carry began (the first GNSS speed that showed it), Unix microseconds; valid while <see cref="Carried"/>.</summary>
+    public long CarriedSinceUs;
+
+    /// <summary>Consecutive GNSS speeds showing motion while the wheels read zero (evidence of a carry not yet taken).</summary>
+    public int CarryEvidence;
+
+    /// <summary>Time of the first of <see cref="CarryEvidence"/>, Unix microseconds.</summary>
+    public long CarryEvidenceSinceUs;
+
+    /// <summary>Consecutive GNSS speeds below the carry threshold while carried.</summary>
+    public int CarrySlow;
+
+    /// <summary>Time of the first of <see cref="CarrySlow"/>, Unix microseconds.</summary>
+    public long CarrySlowSinceUs;
+
     /// <summary>Number of track resets so far.</summary>
     public int Resets;
 

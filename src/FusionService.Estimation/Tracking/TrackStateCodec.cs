@@ -16,7 +16,7 @@ public static class TrackStateCodec
     public const byte Version = 3;
 
     /// <summary>Size of an encoded checkpoint, bytes.</summary>
-    public const int EncodedLength = 1 + (StateVector.Length * 8) + (StateMatrix.Size * (StateMatrix.Size + 1) / 2 * 8) + 8 + 1 + (3 * 8) + 3 + 8 + 1 + (1 + 8 + (3 * 8)) + (1 + 8 + (4 * 8)) + 8 + 4 + 4 + (8 + 8 + 8 + 8 + 4) + 12 + 8;
+    public const int EncodedLength = 1 + (StateVector.Length * 8) + (StateMatrix.Size * (StateMatrix.Size + 1) / 2 * 8) + 8 + 1 + (3 * 8) + 3 + 8 + 1 + (1 + 8 + (3 * 8)) + (1 + 8 + (4 * 8)) + 8 + 4 + 4 + (8 + 8 + 8 + 8 + 4) + 12 + 8 + (1 + 8 + 4 + 8 + 4 + 8);
 
     /// <summary>Encodes a state and the last measurement it includes.</summary>
     public static byte[] Encode(in TrackState state, in Measurement last)
@@ -78,6 +78,12 @@ public static class TrackStateCodec
         w.Int(state.WheelRejections);
         w.Int(state.ImuRejections);
         w.Double(state.GnssCorrelatedVarianceM2);
+        w.Bool(state.Carried);
+        w.Long(state.CarriedSinceUs);
+        w.Int(state.CarryEvidence);
+        w.Long(state.CarryEvidenceSinceUs);
+        w.Int(state.CarrySlow);
+        w.Long(state.CarrySlowSinceUs);
         w.Long(last.TimeUs);
         w.Long((long)last.OrderKey);
         w.Double(last.Value0);
@@ -133,6 +139,12 @@ public static class TrackStateCodec
         s.WheelRejections = r.Int();
         s.ImuRejections = r.Int();
         s.GnssCorrelatedVarianceM2 = r.Double();
+        s.Carried = r.Bool();
+        s.CarriedSinceUs = r.Long();
+        s.CarryEvidence = r.Int();
+        s.CarryEvidenceSinceUs = r.Long();
+        s.CarrySlow = r.Int();
+        s.CarrySlowSinceUs = r.Long();
         long timeUs = r.Long();
         ulong orderKey = (ulong)r.Long();
         Measurement last = Measurement.FromStored(timeUs, orderKey, r.Double(), r.Double(), r.Float());

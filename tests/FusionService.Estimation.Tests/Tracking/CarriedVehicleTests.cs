@@ -1,0 +1,98 @@
+using FusionService.Estimation.Geodesy;
+using FusionService.Estimation.Measurements;
+using FusionService.Estimation.Models;
+using FusionService.Estimation.Smoothing;
+using FusionService.Estimation.Tracking;
+using FusionService.Scenarios;
+using Xunit.Abstractions;
+using static FusionService.Estimation.Models.StateIndex;
+
+namespace FusionService.Estimation.Tests.Tracking;
+
+/// <summary>
+/// Issue 12, carried vehicles and long parks, on the invented drives of <see cref="RealisticDrives"/> (a consumer
+/// receiver whose error is 75 % correlated over 60 s). The targets are the issue's own (product requirements, not
+/// published values): a towed van is recognised within 20 s of lift-off, without a reset storm, and its error after
+/// lift-off stays within 3 times that of a plain GNSS-only filter on the same fixes; a van parked 3 h beside a building
+/// is never relocated and its smoothed path stays under 50 m.
+/// </summary>
+public sealed class CarriedVehicleTests(ITestOutputHelper output)
+{
+    [Fact]
+    public void Issue12_a_towed_van_is_recognised_within_20_s_and_follows_gnss_without_resets()
+    {
+        RealisticDrive drive = RealisticDrives.Tow();
+        ScenarioRun run = drive.Generate();
+        long liftUs = drive.Suite.CarriedSpans[0].StartTimeUs;
+        var processor = new TrackProcessor(new TrackOptions(), NoiseProfile.DeliveryVan);
+        ReplayResult all = TrackReplay.Run(processor, TrackState.Empty, run.Measurements);
+        ReplayResult gnssOnly = TrackReplay.Run(
+            processor, TrackState.Empty, run.Measurements.Where(m => m.Kind is SensorKind.GnssPosition or SensorKind.GnssVelocity));
+
+        long recognisedUs = all.Outcomes.Where(o => o.Outcome.Carried && o.Measurement.TimeUs >= liftUs).Select(o => o.Measurement.TimeUs).DefaultIfEmpty(long.MaxValue).Min();
+        int resets = all.Outcomes.Count(o => o.Outcome.Kind == OutcomeKind.TrackReset);
+        double rmse = RmseAfter(run.Truth, all, liftUs), baseline = RmseAfter(run.Truth, gnssOnly, liftUs);
+        output.WriteLine($"recognised {(recognisedUs - liftUs) / 1e6:F1} s after lift-off; {resets} resets; RMSE after lift-off {rmse:F2} m, GNSS-only filter {baseline:F2} m");
+
+        Assert.True(recognisedUs - liftUs <= 20_000_000, $"carry recognised {(recognisedUs - liftUs) / 1e6} s after lift-off");
+        Assert.Equal(0, resets);
+        Assert.True(rmse <= 3.0 * baseline, $"RMSE {rmse:F2} m against a GNSS-only {baseline:F2} m");
+        Assert.DoesNotContain(all.Outcomes, o => o.Outcome.Carried && o.Measurement.TimeUs < liftUs);
+    }
+
+    [Fact]
+    public void Issue12_a_van_parked_3_h_beside_a_building_is_never_relocated_and_its_smoothed_path_stays_short()
+    {
+        ScenarioRun run = RealisticDrives.ParkBesideBuilding().Generate();
+        var processor = new TrackProcessor(new TrackOptions(), NoiseProfile.DeliveryVan);
+        ReplayResult replay = TrackReplay.Run(processor, TrackState.Empty, run.Measurements);
+        int resets = replay.Outcomes.Count(o => o.Outcome.Kind == OutcomeKind.TrackReset);
+        bool carried = replay.Outcomes.Any(o => o.Outcome.Carried);
+        double pathM = 0;
+        GeodeticPoint? previous = null;
+        foreach (SmoothedSegment segment in replay.Smoothed)
+        {
+            for (int k = 0; k < segment.Count; k++)
+            {
+                double e = segment.Means[k][EastM], n = segment.Means[k][NorthM];
+                GeodeticPoint p = segment.Planes[k].ToGeodetic(new EnuPoint(e, n, -((e * e) + (n * n)) / (2.0 * Wgs84.SemiMajorAxisM)));
+                if (previous is GeodeticPoint q)
+                {
+                    pathM += VincentyInverse.Compute(q, p).DistanceM;
+                }
+
+                previous = p;
+            }
+        }
+
+        output.WriteLine($"{resets} resets, carried {carried}, smoothed path {pathM:F1} m over 3 h");
+        Assert.Equal(0, resets);
+        Assert.False(carried, "a parked van was taken for a carried one");
+        Assert.True(pathM <= 50.0, $"smoothed path {pathM:F1} m");
+    }
+
+    private static double RmseAfter(TruthTrajectory truth, ReplayResult replay, long fromUs)
+    {
+        double sum = 0;
+        int count = 0;
+        foreach (IReadOnlyList<ForwardStep> segment in replay.Forward)
+        {
+            foreach (ForwardStep step in segment)
+            {
+                if (step.TimeUs < fromUs || step.TimeUs % 1_000_000 != 0 || !truth.Covers(step.TimeUs))
+                {
+                    continue;
+                }
+
+                double e = step.Filtered[EastM], n = step.Filtered[NorthM];
+                GeodeticPoint p = step.Plane.ToGeodetic(new EnuPoint(e, n, -((e * e) + (n * n)) / (2.0 * Wgs84.SemiMajorAxisM)));
+                truth.ToLocalM(p.LatitudeDeg, p.LongitudeDeg, out double east, out double north);
+                TruthSample t = truth.At(step.TimeUs);
+                sum += ((east - t.EastM) * (east - t.EastM)) + ((north - t.NorthM) * (north - t.NorthM));
+                count++;
+            }
+        }
+
+        return Math.Sqrt(sum / count);
+    }
+}
