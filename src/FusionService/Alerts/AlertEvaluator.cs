@@ -12,7 +12,7 @@ namespace FusionService.Alerts;
 /// <summary>
 /// Evaluates the per-vehicle alert rules (<c>gated_burst</c>, <c>inconsistent_sensor</c> (mean NIS and, through
 /// <see cref="WhitenessWindow"/>, innovation whiteness), <c>gnss_silent_while_moving</c>,
-/// <c>track_reset</c>, <c>wheel_scale_out_of_band</c>; see their settings types for the definitions and defaults) from
+/// <c>track_reset</c>, <c>wheel_scale_out_of_band</c>, <c>moved_without_driving</c>; see their settings types for the definitions and defaults) from
 /// the outcomes of one vehicle's track, on data time: "now" is the newest measurement time seen, so the result does not
 /// depend on when or in which batches the data arrived. <see cref="TakeChanges"/> returns what changed since the last
 /// call as absolute observations (count so far, start, newest time), which the store applies idempotently; a track that
@@ -92,6 +92,11 @@ public sealed class AlertEvaluator
             && outcome.Dimension > 0 && double.IsFinite(outcome.Nis) && (int)m.Kind < SensorCount && RuleChecks.Includes(s.InconsistentSensor.Sensors, m.Kind))
         {
             ObserveNis(m.Kind, t, outcome, s.InconsistentSensor);
+        }
+
+        if (s.MovedWithoutDriving.Enabled && outcome.Carried)
+        {
+            ObserveCarried(m, posterior);
         }
 
         if (posterior.HasPlane && posterior.Phase == TrackPhase.Running)
@@ -424,6 +429,29 @@ public sealed class AlertEvaluator
         Clear(AlertKinds.InconsistentSensor, s.InconsistentSensor.ClearS, !s.InconsistentSensor.Enabled);
         Clear(AlertKinds.GnssSilentWhileMoving, s.GnssSilentWhileMoving.ClearS, !s.GnssSilentWhileMoving.Enabled);
         Clear(AlertKinds.WheelScaleOutOfBand, s.WheelScaleOutOfBand.ClearS, !s.WheelScaleOutOfBand.Enabled);
+        Clear(AlertKinds.MovedWithoutDriving, s.MovedWithoutDriving.ClearS, !s.MovedWithoutDriving.Enabled);
+    }
+
+    /// <summary>Opens or extends <c>moved_without_driving</c> while the track takes the vehicle to be carried.</summary>
+    private void ObserveCarried(in Measurement m, in TrackState posterior)
+    {
+        var e = _episodes[AlertKinds.MovedWithoutDriving];
+        bool opening = !e.Open || e.StartUs != posterior.CarriedSinceUs;
+        Raise(e, posterior.CarriedSinceUs, m.TimeUs);
+        if (!opening && m.Kind != SensorKind.GnssVelocity)
+        {
+            return;
+        }
+
+        e.Count = 1;
+        double speedMps = Math.Abs(posterior.X[StateIndex.SpeedMps]);
+        e.Summary = Inv($"Moving at {speedMps:0.0} m/s by GNSS while the wheels are still: towed, on a ferry or lifted? Wheel speed is set aside until they turn again");
+        e.Details = new JsonObject
+        {
+            ["carried_since"] = Time(posterior.CarriedSinceUs),
+            ["speed_mps"] = speedMps,
+            ["last_seen_at"] = Time(m.TimeUs),
+        };
     }
 
     private void Clear(string kind, double clearS, bool disabled)

@@ -21,11 +21,14 @@ public static class AlertKinds
     /// <summary>The estimated wheel-speed scale lies outside the accepted band, with a small enough uncertainty.</summary>
     public const string WheelScaleOutOfBand = "wheel_scale_out_of_band";
 
+    /// <summary>The vehicle moves without driving: GNSS shows steady motion while its wheels are still (towed, ferried, lifted).</summary>
+    public const string MovedWithoutDriving = "moved_without_driving";
+
     /// <summary>Nothing received from the vehicle for longer than the threshold.</summary>
     public const string VehicleSilent = "vehicle_silent";
 
     /// <summary>Every kind, in the order above.</summary>
-    public static IReadOnlyList<string> All { get; } = [GatedBurst, InconsistentSensor, GnssSilentWhileMoving, TrackReset, WheelScaleOutOfBand, VehicleSilent];
+    public static IReadOnlyList<string> All { get; } = [GatedBurst, InconsistentSensor, GnssSilentWhileMoving, TrackReset, WheelScaleOutOfBand, MovedWithoutDriving, VehicleSilent];
 
     /// <summary>
     /// Severity of a kind: <c>critical</c> for a track reset (the position jumped), <c>info</c> for the wheel scale (a

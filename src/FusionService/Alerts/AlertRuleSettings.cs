@@ -25,6 +25,9 @@ public sealed record AlertRuleSettings
     /// <summary>Thresholds of <c>wheel_scale_out_of_band</c>.</summary>
     public WheelScaleRule WheelScaleOutOfBand { get; init; } = new();
 
+    /// <summary>Thresholds of <c>moved_without_driving</c>.</summary>
+    public MovedWithoutDrivingRule MovedWithoutDriving { get; init; } = new();
+
     /// <summary>Thresholds of <c>vehicle_silent</c>.</summary>
     public VehicleSilentRule VehicleSilent { get; init; } = new();
 
@@ -35,5 +38,6 @@ public sealed record AlertRuleSettings
         ?? (GnssSilentWhileMoving is null ? "gnss_silent_while_moving: must be an object" : GnssSilentWhileMoving.Validate("gnss_silent_while_moving"))
         ?? (TrackReset is null ? "track_reset: must be an object" : TrackReset.Validate("track_reset"))
         ?? (WheelScaleOutOfBand is null ? "wheel_scale_out_of_band: must be an object" : WheelScaleOutOfBand.Validate("wheel_scale_out_of_band"))
+        ?? (MovedWithoutDriving is null ? "moved_without_driving: must be an object" : MovedWithoutDriving.Validate("moved_without_driving"))
         ?? (VehicleSilent is null ? "vehicle_silent: must be an object" : VehicleSilent.Validate("vehicle_silent"));
 }

@@ -76,6 +76,29 @@ public sealed class AlertEvaluatorTests
         Assert.True(details.RootElement.GetProperty("resets").GetInt32() >= 1);
     }
 
+    /// <summary>
+    /// Issue 12: the invented tow of <see cref="RealisticDrives.Tow"/> (wheels still, GNSS moving at 4 m/s) raises one
+    /// <c>moved_without_driving</c> within 20 s of lift-off (the issue's target), no <c>track_reset</c>, and resolves once
+    /// the van is set down and drives on.
+    /// </summary>
+    [Fact]
+    public void Issue12_a_tow_raises_moved_without_driving_within_20_s_and_no_reset()
+    {
+        RealisticDrive tow = RealisticDrives.Tow();
+        long liftUs = tow.Suite.CarriedSpans[0].StartTimeUs;
+        var observations = EvaluatorRun.Run(tow.Generate().Measurements);
+        var raised = observations.Where(o => o.Kind == AlertKinds.MovedWithoutDriving && !o.Resolve).ToList();
+        Assert.NotEmpty(raised);
+        long startUs = raised[0].StartedAt.ToUnixTimeMilliseconds() * 1000;
+        long firstSeenUs = raised.Min(o => o.LastSeenAt.ToUnixTimeMilliseconds() * 1000);
+        Assert.InRange(startUs - liftUs, 0, 20_000_000);
+        Assert.InRange(firstSeenUs - liftUs, 0, 20_000_000);
+        Assert.All(raised, o => Assert.Equal(raised[0].StartedAt, o.StartedAt));
+        Assert.Contains("wheels are still", raised[0].Summary, StringComparison.Ordinal);
+        Assert.Single(observations, o => o.Kind == AlertKinds.MovedWithoutDriving && o.Resolve);
+        Assert.DoesNotContain(observations, o => o.Kind == AlertKinds.TrackReset);
+    }
+
     [Fact]
     public void Forty_five_seconds_without_gnss_while_driving_raises_gnss_silent_while_moving()
     {

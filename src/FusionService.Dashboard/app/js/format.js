@@ -39,6 +39,7 @@ export const ALERT_KIND_WORDS = {
   gnss_silent_while_moving: 'no GNSS while moving',
   track_reset: 'track restarted',
   wheel_scale_out_of_band: 'wheel scale out of range',
+  moved_without_driving: 'moving with wheels still (towed?)',
   vehicle_silent: 'van has gone quiet',
 };
 
