@@ -14,13 +14,9 @@ internal readonly struct StateRow
     private readonly Vector256<double> _middle;
     private readonly Vector128<double> _high;
 
-    static StateRow()
-    {
-        if (StateMatrix.Size != 10)
-        {
-            throw new InvalidOperationException($"StateRow holds 10 elements, the state has {StateMatrix.Size}");
-        }
-    }
+    // Fails to compile (division by a constant zero) unless the state has exactly the ten elements a row holds. A static
+    // constructor would do the same check at run time but costs a class-initialisation check on every use.
+    private const int RowHoldsTheState = 1 / (StateMatrix.Size == 10 ? 1 : 0);
 
     private StateRow(Vector256<double> low, Vector256<double> middle, Vector128<double> high)
     {
@@ -45,6 +41,7 @@ internal readonly struct StateRow
         Vector128.LoadUnsafe(ref origin, (nuint)(offset + 8)));
 
     /// <summary>Elements start, start + stride, ..., start + 9 stride of <paramref name="source"/> (a column of a row-major block).</summary>
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
     internal static StateRow Gather(ReadOnlySpan<double> source, int start, int stride) => new(
         Vector256.Create(source[start], source[start + stride], source[start + (2 * stride)], source[start + (3 * stride)]),
         Vector256.Create(source[start + (4 * stride)], source[start + (5 * stride)], source[start + (6 * stride)], source[start + (7 * stride)]),
@@ -64,11 +61,15 @@ internal readonly struct StateRow
     internal static double Dot(StateRow a, StateRow b) =>
         Vector256.Sum(a._low * b._low) + Vector256.Sum(a._middle * b._middle) + Vector128.Sum(a._high * b._high);
 
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
     public static StateRow operator +(StateRow a, StateRow b) => new(a._low + b._low, a._middle + b._middle, a._high + b._high);
 
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
     public static StateRow operator -(StateRow a, StateRow b) => new(a._low - b._low, a._middle - b._middle, a._high - b._high);
 
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
     public static StateRow operator *(StateRow a, StateRow b) => new(a._low * b._low, a._middle * b._middle, a._high * b._high);
 
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
     public static StateRow operator /(StateRow a, StateRow b) => new(a._low / b._low, a._middle / b._middle, a._high / b._high);
 }
