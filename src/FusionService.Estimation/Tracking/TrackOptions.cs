@@ -45,6 +45,13 @@ public sealed record TrackOptions
     /// <summary>GNSS must be rejected continuously this long before the track may reset, seconds. Default 15.</summary>
     public double ResetAfterS { get; init; } = 15.0;
 
+    /// <summary>
+    /// The same for a track held still by the standstill constraint (wheels at zero), seconds. Default 120: multipath
+    /// episodes beside buildings last 5-40 s (common practice), and a van moved with its wheels still shows GNSS speed and
+    /// is followed as carried instead; only a van moved while its GNSS was silent needs this relocation.
+    /// </summary>
+    public double ResetAfterStationaryS { get; init; } = 120.0;
+
     /// <summary>...and the rejected fix must lie at least this far from the track, metres. Default 75.</summary>
     public double ResetDistanceM { get; init; } = 75.0;
 
@@ -92,6 +99,7 @@ public sealed record TrackOptions
         Require(RecoverAfterRejections >= 1, nameof(RecoverAfterRejections), "must be at least 1");
         Require(ResetAfterS >= 0, nameof(ResetAfterS), "must be non-negative");
         Require(ResetDistanceM >= 0, nameof(ResetDistanceM), "must be non-negative");
+        Require(ResetAfterStationaryS >= 0 && double.IsFinite(ResetAfterStationaryS), nameof(ResetAfterStationaryS), "must be finite and non-negative");
         Require(ResetMinRejectedFixes >= 1, nameof(ResetMinRejectedFixes), "must be at least 1");
         Require(TwoFixHeadingSigmas > 0, nameof(TwoFixHeadingSigmas), "must be positive");
         Require(TwoFixMaxAgeS > 0, nameof(TwoFixMaxAgeS), "must be positive");

@@ -428,7 +428,11 @@ public sealed class TrackProcessor
 
         s.RejectedFixes++;
         double offsetM = Math.Sqrt((residual[0] * residual[0]) + (residual[1] * residual[1]));
-        bool sustained = (m.TimeUs - s.RejectedSinceUs) / MicrosecondsPerSecond >= Options.ResetAfterS
+        // A van whose wheels and standstill constraint say it stands is relocated on positions alone only after a much
+        // longer disagreement: multipath beside a building biases fixes by tens of metres for tens of seconds, while a
+        // van really moved with its wheels still would have shown GNSS speed and been followed as carried.
+        double resetAfterS = s.Stationary ? Options.ResetAfterStationaryS : Options.ResetAfterS;
+        bool sustained = (m.TimeUs - s.RejectedSinceUs) / MicrosecondsPerSecond >= resetAfterS
             && s.RejectedFixes >= Options.ResetMinRejectedFixes
             && offsetM >= Options.ResetDistanceM;
         if (!sustained)

@@ -71,6 +71,39 @@ public sealed class CarriedVehicleTests(ITestOutputHelper output)
         Assert.True(pathM <= 50.0, $"smoothed path {pathM:F1} m");
     }
 
+    /// <summary>
+    /// Issue 12, relocation only with corroboration: beside a building, multipath of 80-120 m (beyond the 75 m reset
+    /// distance) for 20-40 s must not relocate a van whose wheels say it stands; the same van's fixes moving 500 m away
+    /// for good (it was moved while its GNSS was silent) relocate it, but only after the longer standstill wait.
+    /// </summary>
+    [Fact]
+    public void Issue12_a_standing_van_is_relocated_by_positions_only_after_a_long_disagreement()
+    {
+        RealisticDrive park = RealisticDrives.ParkBesideBuilding();
+        RealisticDrive strongMultipath = park with
+        {
+            Suite = park.Suite with { GnssRandomMultipath = new MultipathProcess { MeanGapS = 300.0, BiasMinM = 80.0, BiasMaxM = 120.0, DurationMinS = 20.0, DurationMaxS = 40.0 } },
+        };
+        ScenarioRun run = strongMultipath.Generate();
+        var options = new TrackOptions();
+        var processor = new TrackProcessor(options, NoiseProfile.DeliveryVan);
+        ReplayResult replay = TrackReplay.Run(processor, TrackState.Empty, run.Measurements);
+        int episodes = MeasurementGenerator.MultipathEpisodesOf(strongMultipath.Truth, strongMultipath.Suite, strongMultipath.Seed).Count;
+        Assert.True(episodes >= 20, $"only {episodes} multipath episodes");
+        Assert.Equal(0, replay.Outcomes.Count(o => o.Outcome.Kind == OutcomeKind.TrackReset));
+
+        // From an hour in, every fix lies 500 m north: the van stands elsewhere now.
+        long movedUs = run.Truth.StartTimeUs + 3_600_000_000;
+        double degreesPer500M = 500.0 / 111_200.0;
+        var moved = run.Measurements.Where(m => m.TimeUs < movedUs + 600_000_000).Select(m => m.Kind == SensorKind.GnssPosition && m.TimeUs >= movedUs
+            ? Measurement.GnssPosition(m.TimeUs, m.MessageKey, m.Value0 + degreesPer500M, m.Value1, m.Value2)
+            : m);
+        ReplayResult relocated = TrackReplay.Run(processor, TrackState.Empty, moved);
+        long resetUs = relocated.Outcomes.Where(o => o.Outcome.Kind == OutcomeKind.TrackReset).Select(o => o.Measurement.TimeUs).DefaultIfEmpty(long.MaxValue).Min();
+        output.WriteLine($"{episodes} episodes of 80-120 m, no reset; moved 500 m: reset {(resetUs - movedUs) / 1e6:F0} s later");
+        Assert.InRange(resetUs - movedUs, (long)(options.ResetAfterStationaryS * 1e6), (long)((options.ResetAfterStationaryS + 30) * 1e6));
+    }
+
     private static double RmseAfter(TruthTrajectory truth, ReplayResult replay, long fromUs)
     {
         double sum = 0;
