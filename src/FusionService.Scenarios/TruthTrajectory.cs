@@ -171,6 +171,19 @@ public sealed class TruthTrajectory
     public void ToLocalM(double latitudeDeg, double longitudeDeg, out double eastM, out double northM) =>
         _frame.ToLocalM(latitudeDeg, longitudeDeg, out eastM, out northM);
 
+    /// <summary>
+    /// Offset, metres east and north in this trajectory's frame, of a filter position given in the filter's own tangent
+    /// plane (<paramref name="plane"/>, point (<paramref name="eastM"/>, <paramref name="northM"/>) on the ellipsoid) from the
+    /// true position at <paramref name="timeUs"/>; compared through latitude and longitude, so the two frames may differ.
+    /// </summary>
+    public (double EastM, double NorthM) OffsetOf(long timeUs, in LocalTangentPlane plane, double eastM, double northM)
+    {
+        GeodeticPoint p = plane.ToGeodetic(new EnuPoint(eastM, northM, -((eastM * eastM) + (northM * northM)) / (2.0 * Wgs84.SemiMajorAxisM)));
+        ToLocalM(p.LatitudeDeg, p.LongitudeDeg, out double east, out double north);
+        TruthSample truth = At(timeUs);
+        return (east - truth.EastM, north - truth.NorthM);
+    }
+
     private static double Lerp(double a, double b, double fraction) => a + ((b - a) * fraction);
 
     private int Locate(long timeUs, out double fraction)

@@ -143,11 +143,7 @@ internal static class ConsistencyReport
             }
 
             _lastUs = second;
-            double e = x[EastM], n = x[NorthM];
-            GeodeticPoint position = plane.ToGeodetic(new EnuPoint(e, n, -((e * e) + (n * n)) / (2.0 * Wgs84.SemiMajorAxisM)));
-            truth.ToLocalM(position.LatitudeDeg, position.LongitudeDeg, out double eastM, out double northM);
-            TruthSample t = truth.At(timeUs);
-            double de = eastM - t.EastM, dn = northM - t.NorthM;
+            (double de, double dn) = truth.OffsetOf(timeUs, plane, x[EastM], x[NorthM]);
             const int N = StateMatrix.Size;
             double a = p[0], b = p[1], c = p[N + 1];
             double d2 = ((c * de * de) - (2 * b * de * dn) + (a * dn * dn)) / ((a * c) - (b * b));

@@ -22,6 +22,7 @@ namespace FusionService.Estimation.Tracking;
 internal static class CarriedMotion
 {
     private const double MicrosecondsPerSecond = 1e6;
+    private const int TrackStateSize = LinearAlgebra.StateMatrix.Size;
 
     /// <summary>
     /// Takes a GNSS velocity sample as evidence for or against a carry; returns true when the vehicle has just been
@@ -108,8 +109,6 @@ internal static class CarriedMotion
         End(ref s);
         return true;
     }
-
-    private const int TrackStateSize = LinearAlgebra.StateMatrix.Size;
 
     private static void End(ref TrackState s)
     {

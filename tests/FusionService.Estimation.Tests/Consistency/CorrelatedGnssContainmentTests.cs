@@ -65,11 +65,7 @@ public sealed class CorrelatedGnssContainmentTests(ITestOutputHelper output)
 
     private static double Mahalanobis2(TruthTrajectory truth, long timeUs, LocalTangentPlane plane, in StateVector x, in StateMatrix p)
     {
-        double e = x[EastM], n = x[NorthM];
-        GeodeticPoint position = plane.ToGeodetic(new EnuPoint(e, n, -((e * e) + (n * n)) / (2.0 * Wgs84.SemiMajorAxisM)));
-        truth.ToLocalM(position.LatitudeDeg, position.LongitudeDeg, out double eastM, out double northM);
-        TruthSample t = truth.At(timeUs);
-        double de = eastM - t.EastM, dn = northM - t.NorthM;
+        (double de, double dn) = truth.OffsetOf(timeUs, plane, x[EastM], x[NorthM]);
         double a = p[0], b = p[1], c = p[StateMatrix.Size + 1];
         return ((c * de * de) - (2 * b * de * dn) + (a * dn * dn)) / ((a * c) - (b * b));
     }

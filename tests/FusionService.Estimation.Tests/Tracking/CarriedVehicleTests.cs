@@ -117,11 +117,8 @@ public sealed class CarriedVehicleTests(ITestOutputHelper output)
                     continue;
                 }
 
-                double e = step.Filtered[EastM], n = step.Filtered[NorthM];
-                GeodeticPoint p = step.Plane.ToGeodetic(new EnuPoint(e, n, -((e * e) + (n * n)) / (2.0 * Wgs84.SemiMajorAxisM)));
-                truth.ToLocalM(p.LatitudeDeg, p.LongitudeDeg, out double east, out double north);
-                TruthSample t = truth.At(step.TimeUs);
-                sum += ((east - t.EastM) * (east - t.EastM)) + ((north - t.NorthM) * (north - t.NorthM));
+                (double de, double dn) = truth.OffsetOf(step.TimeUs, step.Plane, step.Filtered[EastM], step.Filtered[NorthM]);
+                sum += (de * de) + (dn * dn);
                 count++;
             }
         }
