@@ -50,9 +50,30 @@ internal static class ConsistencyReport
                 }));
             }
         }
+
+        ReportFaultyStreams(processor, runs);
     }
 
-    private static void Report(string label, TrackProcessor processor, IEnumerable<RealisticDrive> drives)
+    /// <summary>
+    /// One stream replaced by a consistently wrong one, beside the same drives without that stream: a wheel channel
+    /// scaled 1.3 x, a gyro with the wrong sign, a GNSS course 30 degrees off the path.
+    /// </summary>
+    private static void ReportFaultyStreams(TrackProcessor processor, int runs)
+    {
+        IEnumerable<RealisticDrive> Drives() => Enumerable.Range(0, runs).Select(r => RealisticDrives.CleanSky(1201 + (r * 100)));
+        const double CourseOffsetRad = 30.0 * Math.PI / 180.0;
+        Report("wheel reads 1.3 x", processor, Drives(), m => m.Kind == SensorKind.WheelSpeed ? Measurement.WheelSpeed(m.TimeUs, m.MessageKey, 1.3 * m.Value0) : m);
+        Report("  without the wheel", processor, Drives(), m => m.Kind == SensorKind.WheelSpeed ? null : m);
+        Report("gyro sign flipped", processor, Drives(), m => m.Kind == SensorKind.Imu ? Measurement.Imu(m.TimeUs, m.MessageKey, -m.Value0, m.Value1) : m);
+        Report("  without the IMU", processor, Drives(), m => m.Kind == SensorKind.Imu ? null : m);
+        Report("course 30 deg off", processor, Drives(), m => m.Kind == SensorKind.GnssVelocity && !double.IsNaN(m.Value1)
+            ? Measurement.GnssVelocity(m.TimeUs, m.MessageKey, m.Value0, (m.Value1 + CourseOffsetRad) % (2 * Math.PI), m.Value2) : m);
+        Report("  without the course", processor, Drives(), m => m.Kind == SensorKind.GnssVelocity
+            ? Measurement.GnssVelocity(m.TimeUs, m.MessageKey, m.Value0, double.NaN, m.Value2) : m);
+    }
+
+    private static void Report(
+        string label, TrackProcessor processor, IEnumerable<RealisticDrive> drives, Func<Measurement, Measurement?>? alter = null)
     {
         var clock = Stopwatch.StartNew();
         var filtered = new Tally();
@@ -72,7 +93,10 @@ internal static class ConsistencyReport
                 }
             }
 
-            ReplayResult replay = TrackReplay.Run(processor, TrackState.Empty, run.Measurements);
+            List<Measurement> measurements = alter is null
+                ? [.. run.Measurements]
+                : [.. run.Measurements.Select(alter).Where(m => m is not null).Select(m => m!.Value)];
+            ReplayResult replay = TrackReplay.Run(processor, TrackState.Empty, measurements);
             foreach ((Measurement m, MeasurementOutcome o) in replay.Outcomes)
             {
                 if (o.Kind == OutcomeKind.TrackReset)
@@ -97,7 +121,7 @@ internal static class ConsistencyReport
             }
 
             ReplayResult baseline = TrackReplay.Run(
-                processor, TrackState.Empty, run.Measurements.Where(m => m.Kind is SensorKind.GnssPosition or SensorKind.GnssVelocity));
+                processor, TrackState.Empty, measurements.Where(m => m.Kind is SensorKind.GnssPosition or SensorKind.GnssVelocity));
             foreach (IReadOnlyList<ForwardStep> segment in baseline.Forward)
             {
                 foreach (ForwardStep step in segment)
