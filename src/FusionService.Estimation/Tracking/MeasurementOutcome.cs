@@ -48,6 +48,13 @@ public readonly record struct MeasurementOutcome(
     /// </summary>
     public bool Carried { get; init; }
 
+    /// <summary>
+    /// True when all or part of the measurement was set aside because its stream is isolated (it kept disagreeing with
+    /// independent streams; see <see cref="StreamAgreement"/>): an inertial sample is then <see cref="OutcomeKind.Unused"/>,
+    /// a GNSS velocity is fused as speed only (dimension 1).
+    /// </summary>
+    public bool Isolated { get; init; }
+
     /// <summary>An outcome without an innovation.</summary>
     public static MeasurementOutcome Of(OutcomeKind kind) => new(kind, double.NaN, 0, double.NaN, false, 0);
 
@@ -66,6 +73,8 @@ public readonly record struct MeasurementOutcome(
     /// <summary>Human-readable reason, for logs and the audit trail.</summary>
     public string Describe(SensorKind sensor) => Kind switch
     {
+        OutcomeKind.Accepted when Isolated => FormattableString.Invariant($"{sensor} fused as speed only, NIS {Nis:F2} (gate {GateThreshold:F2}): its course is isolated, it disagrees with the path of the fixes"),
+        OutcomeKind.Gated when Isolated => FormattableString.Invariant($"{sensor} speed rejected by the gate: NIS {Nis:F2} exceeds {GateThreshold:F2}; its course is isolated, it disagrees with the path of the fixes"),
         OutcomeKind.Accepted when Recovered => FormattableString.Invariant($"{sensor} fused after repeated rejection (NIS {Nis:F2} above {GateThreshold:F2}): the motion changed faster than modelled, its uncertainty was raised"),
         OutcomeKind.Accepted => FormattableString.Invariant($"{sensor} fused, NIS {Nis:F2} (dimension {Dimension}, gate {GateThreshold:F2})"),
         OutcomeKind.Gated => FormattableString.Invariant($"{sensor} rejected by the gate: NIS {Nis:F2} exceeds {GateThreshold:F2} for dimension {Dimension}"),
@@ -76,6 +85,7 @@ public readonly record struct MeasurementOutcome(
         OutcomeKind.BeforeStart => $"{sensor} arrived before the first position fix; not fused",
         OutcomeKind.TrackReset => $"{sensor} re-initialised the track position after sustained rejection",
         OutcomeKind.Unused when Carried => $"{sensor} set aside: GNSS shows the vehicle moving while its wheels are still (carried)",
+        OutcomeKind.Unused when Isolated => $"{sensor} set aside: the gyro is isolated, its turns disagree with the GNSS course",
         OutcomeKind.Unused => $"{sensor} carried nothing usable",
         _ => Kind.ToString(),
     };

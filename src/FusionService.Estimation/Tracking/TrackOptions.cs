@@ -83,6 +83,42 @@ public sealed record TrackOptions
     /// <summary>How long GNSS speed must stay below <see cref="CarriedMinSpeedMps"/> before a carry ends, seconds. Default 3.</summary>
     public double CarriedEndAfterS { get; init; } = 3.0;
 
+    /// <summary>
+    /// A change of GNSS course at least this large is a turn on which the gyro is judged (see <see cref="StreamAgreement"/>),
+    /// radians. Default 0.6 (about 34 degrees): large against the course noise of two samples (about 0.1 rad at 5 m/s).
+    /// </summary>
+    public double TurnMinRad { get; init; } = 0.6;
+
+    /// <summary>Fixed part of how far the integrated gyro may differ from the course's turn, radians. Default 0.15.</summary>
+    public double TurnToleranceRad { get; init; } = 0.15;
+
+    /// <summary>
+    /// Part of the turn the integrated gyro may also differ by (scale error, timing). Default 0.3: a gyro with the wrong
+    /// sign differs by twice the turn, one badly scaled by more than 30 % is worth isolating too.
+    /// </summary>
+    public double TurnToleranceFraction { get; init; } = 0.3;
+
+    /// <summary>Consecutive disagreeing turns that isolate the gyro. Default 1: on clean drives the mismatch stays within 0.11 rad, a third of the tolerance, while a gyro of the wrong sign misses by twice the turn.</summary>
+    public int IsolateAfterDisagreements { get; init; } = 1;
+
+    /// <summary>Consecutive agreeing turns that re-admit an isolated gyro. Default 2.</summary>
+    public int ReadmitAfterAgreements { get; init; } = 2;
+
+    /// <summary>
+    /// Shortest chord between two GNSS fixes whose bearing is compared with the course, metres (at least 8 times the fixes'
+    /// reported accuracy as well). Default 40.
+    /// </summary>
+    public double ChordMinLengthM { get; init; } = 25.0;
+
+    /// <summary>
+    /// Median offset of the course from the chords' bearings beyond which the course is isolated, radians. Default 0.3
+    /// (about 17 degrees).
+    /// </summary>
+    public double CourseIsolateOffsetRad { get; init; } = 0.3;
+
+    /// <summary>Median offset below which an isolated course is re-admitted, radians. Default 0.15 (about 9 degrees).</summary>
+    public double CourseReadmitOffsetRad { get; init; } = 0.15;
+
     /// <summary>Throws <see cref="ArgumentException"/> naming the first invalid option.</summary>
     public void Validate()
     {
@@ -108,6 +144,14 @@ public sealed record TrackOptions
         Require(CarriedMinSpeedMps > 0 && double.IsFinite(CarriedMinSpeedMps), nameof(CarriedMinSpeedMps), "must be finite and positive");
         Require(CarriedAfterS >= 0 && double.IsFinite(CarriedAfterS), nameof(CarriedAfterS), "must be finite and non-negative");
         Require(CarriedEndAfterS >= 0 && double.IsFinite(CarriedEndAfterS), nameof(CarriedEndAfterS), "must be finite and non-negative");
+        Require(TurnMinRad > 0 && TurnMinRad < Math.PI, nameof(TurnMinRad), "must lie in (0, π)");
+        Require(TurnToleranceRad >= 0 && double.IsFinite(TurnToleranceRad), nameof(TurnToleranceRad), "must be finite and non-negative");
+        Require(TurnToleranceFraction >= 0 && double.IsFinite(TurnToleranceFraction), nameof(TurnToleranceFraction), "must be finite and non-negative");
+        Require(IsolateAfterDisagreements >= 1, nameof(IsolateAfterDisagreements), "must be at least 1");
+        Require(ReadmitAfterAgreements >= 1, nameof(ReadmitAfterAgreements), "must be at least 1");
+        Require(ChordMinLengthM > 0 && double.IsFinite(ChordMinLengthM), nameof(ChordMinLengthM), "must be finite and positive");
+        Require(CourseIsolateOffsetRad > 0 && CourseIsolateOffsetRad < Math.PI, nameof(CourseIsolateOffsetRad), "must lie in (0, π)");
+        Require(CourseReadmitOffsetRad > 0 && CourseReadmitOffsetRad <= CourseIsolateOffsetRad, nameof(CourseReadmitOffsetRad), "must be positive and at most CourseIsolateOffsetRad");
     }
 
     private static void Require(bool condition, string name, string why)

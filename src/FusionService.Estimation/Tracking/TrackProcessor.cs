@@ -134,7 +134,7 @@ public sealed class TrackProcessor
 
             case SensorKind.GnssVelocity:
             {
-                if (!(m.Value0 >= Options.CourseMinSpeedMps) || double.IsNaN(m.Value1))
+                if (!(m.Value0 >= Options.CourseMinSpeedMps) || double.IsNaN(m.Value1) || s.Agreement.CourseIsolated)
                 {
                     return MeasurementOutcome.Of(OutcomeKind.BeforeStart);
                 }
@@ -254,6 +254,14 @@ public sealed class TrackProcessor
     {
         double correlatedVar = m.Kind == SensorKind.GnssPosition ? CorrelatedVariance(m.Value2) : double.NaN;
         PredictTo(ref s, m.TimeUs, correlatedVar, recorder);
+        if (ObserveAgreement(ref s, m))
+        {
+            // The states the isolated stream fed were just widened: smoothing must not carry that step back into the time the
+            // stream was still fused, so a new segment begins here (as at a reset), with a zero-length step into this update.
+            recorder?.Start(m.TimeUs, s.X, s.P, s.Plane);
+            recorder?.Predicted(StateIdentity.Value, s.X, s.P);
+        }
+
         if (m.Kind == SensorKind.GnssVelocity && CarriedMotion.Observe(ref s, m, Options))
         {
             // The standstill constraint held the track while the vehicle was carried off: restart its motion from this GNSS
@@ -294,6 +302,75 @@ public sealed class TrackProcessor
 
         return outcome;
     }
+
+    /// <summary>
+    /// Feeds <paramref name="m"/> to the stream checks (<see cref="StreamAgreement"/>). When a stream has just been isolated
+    /// the states it fed may be wrong with a small variance (a gyro of the wrong sign turned the heading the wrong way);
+    /// their variance is raised so the streams still trusted can pull them back without a reset. Returns whether it was.
+    /// </summary>
+    private bool ObserveAgreement(ref TrackState s, in Measurement m)
+    {
+        bool gyroWasIsolated = s.Agreement.GyroIsolated, courseWasIsolated = s.Agreement.CourseIsolated;
+        switch (m.Kind)
+        {
+            case SensorKind.Imu when !s.Carried:
+                s.Agreement.ObserveImu(m);
+                break;
+            case SensorKind.GnssVelocity when !s.Carried:
+                s.Agreement.ObserveVelocity(m, Options, s.X[GyroBiasRps]);
+                break;
+            case SensorKind.GnssVelocity or SensorKind.Imu:
+                s.Agreement.SuspendTurn();
+                break;
+            case SensorKind.GnssPosition:
+                s.Agreement.ObserveFix(m, Options);
+                break;
+        }
+
+        bool adjusted = false;
+        if (!gyroWasIsolated && s.Agreement.GyroIsolated)
+        {
+            s.P[(YawRateRps * N) + YawRateRps] += Profile.InitialYawRateSigmaRps * Profile.InitialYawRateSigmaRps;
+            s.P[(GyroBiasRps * N) + GyroBiasRps] += Profile.InitialGyroBiasSigmaRps * Profile.InitialGyroBiasSigmaRps;
+            adjusted = true;
+        }
+
+        if ((!gyroWasIsolated && s.Agreement.GyroIsolated) || (!courseWasIsolated && s.Agreement.CourseIsolated))
+        {
+            s.P[(HeadingRad * N) + HeadingRad] += IsolationHeadingVarianceRad2;
+            adjusted = true;
+        }
+
+        if (!courseWasIsolated && s.Agreement.CourseIsolated && m.Kind == SensorKind.GnssPosition)
+        {
+            // A wrong course carries the position along the wrong heading while the GNSS error states explain the growing
+            // offset from the fixes; widen the position by that offset so the fix that isolated the course pulls it back.
+            // The error states' estimate is part of that explanation: they start again from their stationary distribution.
+            EnuPoint fix = s.Plane.ToEnu(GeodeticPoint.FromDegrees(m.Value0, m.Value1));
+            double offsetEastM = fix.EastM - s.X[EastM], offsetNorthM = fix.NorthM - s.X[NorthM];
+            s.P[(EastM * N) + EastM] += offsetEastM * offsetEastM;
+            s.P[(NorthM * N) + NorthM] += offsetNorthM * offsetNorthM;
+            RestartErrorState(ref s, GnssErrorEastM);
+            RestartErrorState(ref s, GnssErrorNorthM);
+        }
+
+        return adjusted;
+    }
+
+    private static void RestartErrorState(ref TrackState s, int i)
+    {
+        s.X[i] = 0;
+        for (int j = 0; j < N; j++)
+        {
+            s.P[(i * N) + j] = 0;
+            s.P[(j * N) + i] = 0;
+        }
+
+        s.P[(i * N) + i] = s.GnssCorrelatedVarianceM2;
+    }
+
+    /// <summary>Variance added to the heading when a stream that fed it is isolated, rad² (0.5 rad, about 30 degrees, squared).</summary>
+    private const double IsolationHeadingVarianceRad2 = 0.25;
 
     /// <summary>
     /// Predicts to <paramref name="timeUs"/>. A GNSS fix about to be fused gives <paramref name="correlatedVarianceM2"/>,
@@ -488,7 +565,18 @@ public sealed class TrackProcessor
     private MeasurementOutcome UpdateGnssVelocity(ref TrackState s, in Measurement m, IStepRecorder? recorder)
     {
         double speed = m.Value0, speedSigma = m.Value2;
-        bool useCourse = speed >= Options.CourseMinSpeedMps && !double.IsNaN(m.Value1);
+        bool hasCourse = speed >= Options.CourseMinSpeedMps && !double.IsNaN(m.Value1);
+        if (hasCourse && s.Agreement.CourseIsolated)
+        {
+            Span<double> speedOnly = [speed - s.X[SpeedMps]];
+            Span<double> speedVar = [speedSigma * speedSigma];
+            Span<double> h1 = stackalloc double[N];
+            h1.Clear();
+            h1[SpeedMps] = 1.0;
+            return Gated(ref s, ref s.VelocityRejections, speedOnly, h1, speedVar, SpeedMps, -1, recorder) with { Isolated = true };
+        }
+
+        bool useCourse = hasCourse;
 
         Span<double> h = stackalloc double[2 * N];
         h.Clear();
@@ -566,6 +654,11 @@ public sealed class TrackProcessor
 
     private MeasurementOutcome UpdateImu(ref TrackState s, in Measurement m, IStepRecorder? recorder)
     {
+        if (s.Agreement.GyroIsolated)
+        {
+            return MeasurementOutcome.Of(OutcomeKind.Unused) with { Isolated = true };
+        }
+
         Span<double> h = stackalloc double[2 * N];
         h.Clear();
         h[YawRateRps] = 1.0;

@@ -84,9 +84,15 @@ public struct TrackState
     /// <summary>Time of the first of <see cref="CarrySlow"/>, Unix microseconds.</summary>
     public long CarrySlowSinceUs;
 
+    /// <summary>
+    /// Which streams agree with the others, and the evidence so far (see <see cref="StreamAgreement"/>); an isolated stream
+    /// is not fused until it agrees again. Kept across resets: it is about the sensors, not the track.
+    /// </summary>
+    public StreamAgreement Agreement;
+
     /// <summary>Number of track resets so far.</summary>
     public int Resets;
 
     /// <summary>A fresh track.</summary>
-    public static TrackState Empty => new() { WheelZeroSinceUs = long.MinValue, TimeUs = long.MinValue };
+    public static TrackState Empty => new() { WheelZeroSinceUs = long.MinValue, TimeUs = long.MinValue, Agreement = StreamAgreement.Empty };
 }

@@ -13,10 +13,13 @@ namespace FusionService.Estimation.Tracking;
 public static class TrackStateCodec
 {
     /// <summary>Format version written in the first byte.</summary>
-    public const byte Version = 3;
+    public const byte Version = 4;
 
     /// <summary>Size of an encoded checkpoint, bytes.</summary>
-    public const int EncodedLength = 1 + (StateVector.Length * 8) + (StateMatrix.Size * (StateMatrix.Size + 1) / 2 * 8) + 8 + 1 + (3 * 8) + 3 + 8 + 1 + (1 + 8 + (3 * 8)) + (1 + 8 + (4 * 8)) + 8 + 4 + 4 + (8 + 8 + 8 + 8 + 4) + 12 + 8 + (1 + 8 + 4 + 8 + 4 + 8);
+    public const int EncodedLength = 1 + (StateVector.Length * 8) + (StateMatrix.Size * (StateMatrix.Size + 1) / 2 * 8) + 8 + 1 + (3 * 8) + 3 + 8 + 1 + (1 + 8 + (3 * 8)) + (1 + 8 + (4 * 8)) + 8 + 4 + 4 + (8 + 8 + 8 + 8 + 4) + 12 + 8 + (1 + 8 + 4 + 8 + 4 + 8) + AgreementLength;
+
+    // StreamAgreement: 2 flags, 6 times, 5 counters, 13 doubles and the ring of chord offsets.
+    private const int AgreementLength = 2 + (6 * 8) + (5 * 4) + (13 * 8) + (ChordOffsetRing.Length * 8);
 
     /// <summary>Encodes a state and the last measurement it includes.</summary>
     public static byte[] Encode(in TrackState state, in Measurement last)
@@ -84,6 +87,7 @@ public static class TrackStateCodec
         w.Long(state.CarryEvidenceSinceUs);
         w.Int(state.CarrySlow);
         w.Long(state.CarrySlowSinceUs);
+        WriteAgreement(ref w, state.Agreement);
         w.Long(last.TimeUs);
         w.Long((long)last.OrderKey);
         w.Double(last.Value0);
@@ -145,10 +149,85 @@ public static class TrackStateCodec
         s.CarryEvidenceSinceUs = r.Long();
         s.CarrySlow = r.Int();
         s.CarrySlowSinceUs = r.Long();
+        s.Agreement = ReadAgreement(ref r);
         long timeUs = r.Long();
         ulong orderKey = (ulong)r.Long();
         Measurement last = Measurement.FromStored(timeUs, orderKey, r.Double(), r.Double(), r.Float());
         return (s, last);
+    }
+
+    private static void WriteAgreement(ref Writer w, in StreamAgreement a)
+    {
+        w.Bool(a.GyroIsolated);
+        w.Long(a.GyroIsolatedSinceUs);
+        w.Bool(a.CourseIsolated);
+        w.Long(a.CourseIsolatedSinceUs);
+        w.Int(a.TurnDisagreements);
+        w.Int(a.TurnAgreements);
+        w.Double(a.LastTurnMismatchRad);
+        w.Double(a.LastTurnRad);
+        w.Double(a.CourseOffsetRad);
+        w.Long(a.TurnStartUs);
+        w.Long(a.LastCourseUs);
+        w.Double(a.LastCourseHeadingRad);
+        w.Double(a.CourseTurnRad);
+        w.Double(a.GyroTurnRad);
+        w.Double(a.GyroCoveredS);
+        w.Long(a.LastImuUs);
+        w.Double(a.LastImuRateRps);
+        w.Long(a.ChordStartUs);
+        w.Double(a.ChordStartLatDeg);
+        w.Double(a.ChordStartLonDeg);
+        w.Double(a.ChordStartSigmaM);
+        w.Double(a.ChordCourseSin);
+        w.Double(a.ChordCourseCos);
+        w.Int(a.ChordCourseSamples);
+        for (int i = 0; i < ChordOffsetRing.Length; i++)
+        {
+            w.Double(a.Offsets[i]);
+        }
+
+        w.Int(a.OffsetCount);
+        w.Int(a.OffsetNext);
+    }
+
+    private static StreamAgreement ReadAgreement(ref Reader r)
+    {
+        var a = new StreamAgreement
+        {
+            GyroIsolated = r.Bool(),
+            GyroIsolatedSinceUs = r.Long(),
+            CourseIsolated = r.Bool(),
+            CourseIsolatedSinceUs = r.Long(),
+            TurnDisagreements = r.Int(),
+            TurnAgreements = r.Int(),
+            LastTurnMismatchRad = r.Double(),
+            LastTurnRad = r.Double(),
+            CourseOffsetRad = r.Double(),
+            TurnStartUs = r.Long(),
+            LastCourseUs = r.Long(),
+            LastCourseHeadingRad = r.Double(),
+            CourseTurnRad = r.Double(),
+            GyroTurnRad = r.Double(),
+            GyroCoveredS = r.Double(),
+            LastImuUs = r.Long(),
+            LastImuRateRps = r.Double(),
+            ChordStartUs = r.Long(),
+            ChordStartLatDeg = r.Double(),
+            ChordStartLonDeg = r.Double(),
+            ChordStartSigmaM = r.Double(),
+            ChordCourseSin = r.Double(),
+            ChordCourseCos = r.Double(),
+            ChordCourseSamples = r.Int(),
+        };
+        for (int i = 0; i < ChordOffsetRing.Length; i++)
+        {
+            a.Offsets[i] = r.Double();
+        }
+
+        a.OffsetCount = r.Int();
+        a.OffsetNext = r.Int();
+        return a;
     }
 
     private ref struct Writer(Span<byte> buffer)

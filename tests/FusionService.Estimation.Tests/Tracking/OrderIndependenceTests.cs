@@ -125,5 +125,8 @@ public sealed class OrderIndependenceTests(ITestOutputHelper output)
         Assert.Equal(expected.TimeUs, actual.TimeUs);
         Assert.Equal(expected.Phase, actual.Phase);
         Assert.Equal(expected.Resets, actual.Resets);
+
+        // Everything else a checkpoint carries (held fix and course, carry and stream-agreement evidence) byte for byte.
+        Assert.Equal(TrackStateCodec.Encode(expected, default), TrackStateCodec.Encode(actual, default));
     }
 }
