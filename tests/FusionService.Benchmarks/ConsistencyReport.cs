@@ -27,12 +27,18 @@ internal static class ConsistencyReport
     // Upper 5 % point of chi-square with 2 dof, -2 ln 0.05 (NIST/SEMATECH handbook 1.3.6.7.4; derived).
     private const double Inside95 = 5.991464547107979;
 
-    public static void Run(int runs)
+    public static void Run(int runs, bool onlyFaultyStreams = false)
     {
         var processor = new TrackProcessor(new TrackOptions(), NoiseProfile.DeliveryVan);
         Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
             $"filter defaults: correlated share {processor.Profile.GnssCorrelatedFraction}, time constant {processor.Profile.GnssErrorTimeConstantS} s; {runs} seeds per case"));
-        Console.WriteLine("case                         in95 filt  in95 smooth  NEES filt  NEES smooth  RMSE raw  filt  smooth  GNSS-only (m)  clean fixes gated  resets");
+        Console.WriteLine("case                         in95 filt  in95 smooth  NEES filt  NEES smooth  RMSE raw  filt  smooth  GNSS-only (m)  clean fixes gated  resets  isolated (drives, first after)");
+        if (onlyFaultyStreams)
+        {
+            ReportFaultyStreams(processor, runs);
+            return;
+        }
+
         foreach (string name in new[] { "clean-sky", "multipath", "outage", "tow", "park-3h", "hdop-only" })
         {
             Report(name, processor, Enumerable.Range(0, runs).Select(r => RealisticDrives.All(r * 100).Single(d => d.Name == name)));
@@ -81,8 +87,12 @@ internal static class ConsistencyReport
         var gnssOnly = new Tally();
         double rawSq = 0;
         long raw = 0, cleanFixes = 0, cleanGated = 0, resets = 0;
+        var isolatedAfterS = new List<double>();
+        var isolatedStreams = new SortedSet<string>(StringComparer.Ordinal);
+        int driveCount = 0;
         foreach (RealisticDrive drive in drives)
         {
+            driveCount++;
             ScenarioRun run = drive.Generate();
             foreach (MeasurementTruth t in run.MeasurementTruths)
             {
@@ -97,8 +107,19 @@ internal static class ConsistencyReport
                 ? [.. run.Measurements]
                 : [.. run.Measurements.Select(alter).Where(m => m is not null).Select(m => m!.Value)];
             ReplayResult replay = TrackReplay.Run(processor, TrackState.Empty, measurements);
+            bool isolated = false;
             foreach ((Measurement m, MeasurementOutcome o) in replay.Outcomes)
             {
+                if (o.Isolated)
+                {
+                    isolatedStreams.Add(m.Kind == SensorKind.Imu ? "gyro" : "course");
+                    if (!isolated)
+                    {
+                        isolated = true;
+                        isolatedAfterS.Add((m.TimeUs - measurements[0].TimeUs) / 1e6);
+                    }
+                }
+
                 if (o.Kind == OutcomeKind.TrackReset)
                 {
                     resets++;
@@ -140,7 +161,18 @@ internal static class ConsistencyReport
         }
 
         Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
-            $"{label,-28} {filtered.Containment,8:P1}  {smoothed.Containment,10:P1}  {filtered.MeanNees,9:F2}  {smoothed.MeanNees,11:F2}  {Math.Sqrt(rawSq / raw),8:F2}  {filtered.Rmse,4:F2}  {smoothed.Rmse,6:F2}  {gnssOnly.Rmse,13:F2}  {(double)cleanGated / Math.Max(1, cleanFixes),17:P2}  {resets,6}   ({clock.Elapsed.TotalSeconds:F0} s)"));
+            $"{label,-28} {filtered.Containment,8:P1}  {smoothed.Containment,10:P1}  {filtered.MeanNees,9:F2}  {smoothed.MeanNees,11:F2}  {Math.Sqrt(rawSq / raw),8:F2}  {filtered.Rmse,4:F2}  {smoothed.Rmse,6:F2}  {gnssOnly.Rmse,13:F2}  {(double)cleanGated / Math.Max(1, cleanFixes),17:P2}  {resets,6}  {Isolation(isolatedAfterS, isolatedStreams, driveCount),-30} ({clock.Elapsed.TotalSeconds:F0} s)"));
+    }
+
+    private static string Isolation(List<double> afterS, SortedSet<string> streams, int drives)
+    {
+        if (afterS.Count == 0)
+        {
+            return "none";
+        }
+
+        afterS.Sort();
+        return string.Create(CultureInfo.InvariantCulture, $"{string.Join('+', streams)} {afterS.Count}/{drives}, {afterS[0]:F0}-{afterS[^1]:F0} s");
     }
 
     private sealed class Tally

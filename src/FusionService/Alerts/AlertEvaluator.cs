@@ -12,7 +12,7 @@ namespace FusionService.Alerts;
 /// <summary>
 /// Evaluates the per-vehicle alert rules (<c>gated_burst</c>, <c>inconsistent_sensor</c> (mean NIS and, through
 /// <see cref="WhitenessWindow"/>, innovation whiteness), <c>gnss_silent_while_moving</c>,
-/// <c>track_reset</c>, <c>wheel_scale_out_of_band</c>, <c>moved_without_driving</c>; see their settings types for the definitions and defaults) from
+/// <c>track_reset</c>, <c>wheel_scale_out_of_band</c>, <c>moved_without_driving</c>, <c>sensor_isolated</c>; see their settings types for the definitions and defaults) from
 /// the outcomes of one vehicle's track, on data time: "now" is the newest measurement time seen, so the result does not
 /// depend on when or in which batches the data arrived. <see cref="TakeChanges"/> returns what changed since the last
 /// call as absolute observations (count so far, start, newest time), which the store applies idempotently; a track that
@@ -97,6 +97,11 @@ public sealed class AlertEvaluator
         if (s.MovedWithoutDriving.Enabled && outcome.Carried)
         {
             ObserveCarried(m, posterior);
+        }
+
+        if (s.SensorIsolated.Enabled && (posterior.Agreement.GyroIsolated || posterior.Agreement.CourseIsolated))
+        {
+            ObserveIsolated(m, posterior.Agreement);
         }
 
         if (posterior.HasPlane && posterior.Phase == TrackPhase.Running)
@@ -430,7 +435,74 @@ public sealed class AlertEvaluator
         Clear(AlertKinds.GnssSilentWhileMoving, s.GnssSilentWhileMoving.ClearS, !s.GnssSilentWhileMoving.Enabled);
         Clear(AlertKinds.WheelScaleOutOfBand, s.WheelScaleOutOfBand.ClearS, !s.WheelScaleOutOfBand.Enabled);
         Clear(AlertKinds.MovedWithoutDriving, s.MovedWithoutDriving.ClearS, !s.MovedWithoutDriving.Enabled);
+        Clear(AlertKinds.SensorIsolated, s.SensorIsolated.ClearS, !s.SensorIsolated.Enabled);
     }
+
+    /// <summary>
+    /// Opens or extends <c>sensor_isolated</c> while a stream is isolated (<see cref="StreamAgreement"/>). One alert per
+    /// vehicle; its details name every isolated stream with its evidence, refreshed when the set changes.
+    /// </summary>
+    private void ObserveIsolated(in Measurement m, in StreamAgreement agreement)
+    {
+        var e = _episodes[AlertKinds.SensorIsolated];
+        long sinceUs = agreement.GyroIsolated && agreement.CourseIsolated
+            ? Math.Min(agreement.GyroIsolatedSinceUs, agreement.CourseIsolatedSinceUs)
+            : agreement.GyroIsolated ? agreement.GyroIsolatedSinceUs : agreement.CourseIsolatedSinceUs;
+        var streams = new JsonArray();
+        if (agreement.GyroIsolated)
+        {
+            streams.Add("imu");
+        }
+
+        if (agreement.CourseIsolated)
+        {
+            streams.Add("gnss_course");
+        }
+
+        bool changed = !e.Open || e.Details?["streams"]?.ToJsonString() != streams.ToJsonString();
+        bool wasDirty = e.Dirty;
+        Raise(e, sinceUs, m.TimeUs);
+        if (!changed)
+        {
+            // An isolation may last all day: refresh the stored alert once a minute of data, not with every sample.
+            if (_nowUs - e.DetailsUs < IsolatedRefreshUs)
+            {
+                e.Dirty = wasDirty;
+            }
+            else
+            {
+                e.DetailsUs = _nowUs;
+            }
+
+            return;
+        }
+
+        e.DetailsUs = _nowUs;
+        e.Count = 1;
+        var parts = new List<string>(2);
+        var details = new JsonObject { ["streams"] = streams };
+        if (agreement.GyroIsolated)
+        {
+            parts.Add(Inv($"the gyro (its last turn read {Degrees(agreement.LastTurnRad + agreement.LastTurnMismatchRad):0} degrees where the GNSS course turned {Degrees(agreement.LastTurnRad):0}: wrong sign or axis?)"));
+            details["imu_isolated_since"] = Time(agreement.GyroIsolatedSinceUs);
+            details["imu_turn_mismatch_rad"] = Num(agreement.LastTurnMismatchRad);
+            details["gnss_course_turn_rad"] = Num(agreement.LastTurnRad);
+        }
+
+        if (agreement.CourseIsolated)
+        {
+            parts.Add(Inv($"the GNSS course ({Degrees(agreement.CourseOffsetRad):0} degrees off the path of the fixes: receiver misconfigured?)"));
+            details["gnss_course_isolated_since"] = Time(agreement.CourseIsolatedSinceUs);
+            details["gnss_course_offset_rad"] = Num(agreement.CourseOffsetRad);
+        }
+
+        e.Summary = "No longer fused, disagrees with the other sensors: " + string.Join("; ", parts);
+        e.Details = details;
+    }
+
+    private const long IsolatedRefreshUs = 60_000_000;
+
+    private static double Degrees(double rad) => rad * 180.0 / Math.PI;
 
     /// <summary>Opens or extends <c>moved_without_driving</c> while the track takes the vehicle to be carried.</summary>
     private void ObserveCarried(in Measurement m, in TrackState posterior)

@@ -24,11 +24,14 @@ public static class AlertKinds
     /// <summary>The vehicle moves without driving: GNSS shows steady motion while its wheels are still (towed, ferried, lifted).</summary>
     public const string MovedWithoutDriving = "moved_without_driving";
 
+    /// <summary>A stream is no longer fused because it keeps disagreeing with independent ones (a gyro, a GNSS course).</summary>
+    public const string SensorIsolated = "sensor_isolated";
+
     /// <summary>Nothing received from the vehicle for longer than the threshold.</summary>
     public const string VehicleSilent = "vehicle_silent";
 
     /// <summary>Every kind, in the order above.</summary>
-    public static IReadOnlyList<string> All { get; } = [GatedBurst, InconsistentSensor, GnssSilentWhileMoving, TrackReset, WheelScaleOutOfBand, MovedWithoutDriving, VehicleSilent];
+    public static IReadOnlyList<string> All { get; } = [GatedBurst, InconsistentSensor, GnssSilentWhileMoving, TrackReset, WheelScaleOutOfBand, MovedWithoutDriving, SensorIsolated, VehicleSilent];
 
     /// <summary>
     /// Severity of a kind: <c>critical</c> for a track reset (the position jumped), <c>info</c> for the wheel scale (a

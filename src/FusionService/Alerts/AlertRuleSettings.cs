@@ -28,6 +28,9 @@ public sealed record AlertRuleSettings
     /// <summary>Thresholds of <c>moved_without_driving</c>.</summary>
     public MovedWithoutDrivingRule MovedWithoutDriving { get; init; } = new();
 
+    /// <summary>Thresholds of <c>sensor_isolated</c>.</summary>
+    public SensorIsolatedRule SensorIsolated { get; init; } = new();
+
     /// <summary>Thresholds of <c>vehicle_silent</c>.</summary>
     public VehicleSilentRule VehicleSilent { get; init; } = new();
 
@@ -39,5 +42,6 @@ public sealed record AlertRuleSettings
         ?? (TrackReset is null ? "track_reset: must be an object" : TrackReset.Validate("track_reset"))
         ?? (WheelScaleOutOfBand is null ? "wheel_scale_out_of_band: must be an object" : WheelScaleOutOfBand.Validate("wheel_scale_out_of_band"))
         ?? (MovedWithoutDriving is null ? "moved_without_driving: must be an object" : MovedWithoutDriving.Validate("moved_without_driving"))
+        ?? (SensorIsolated is null ? "sensor_isolated: must be an object" : SensorIsolated.Validate("sensor_isolated"))
         ?? (VehicleSilent is null ? "vehicle_silent: must be an object" : VehicleSilent.Validate("vehicle_silent"));
 }

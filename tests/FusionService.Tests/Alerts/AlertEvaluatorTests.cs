@@ -99,6 +99,32 @@ public sealed class AlertEvaluatorTests
         Assert.DoesNotContain(observations, o => o.Kind == AlertKinds.TrackReset);
     }
 
+    /// <summary>
+    /// Issue 12, step 9: a stream replaced by a consistently wrong one raises <c>sensor_isolated</c> naming it — the
+    /// clean-sky round of <see cref="RealisticDrives.CleanSky"/> with a gyro of the wrong sign, then with a GNSS course
+    /// 30 degrees off the path. One alert, open to the end (the stream stays wrong), and no track reset.
+    /// </summary>
+    [Theory]
+    [InlineData("imu")]
+    [InlineData("gnss_course")]
+    public void Issue12_a_wrong_stream_raises_sensor_isolated_naming_it(string stream)
+    {
+        double offsetRad = 30.0 * Math.PI / 180.0;
+        var measurements = RealisticDrives.CleanSky().Generate().Measurements.Select(m => stream == "imu"
+            ? (m.Kind == SensorKind.Imu ? Measurement.Imu(m.TimeUs, m.MessageKey, -m.Value0, m.Value1) : m)
+            : (m.Kind == SensorKind.GnssVelocity && !double.IsNaN(m.Value1) ? Measurement.GnssVelocity(m.TimeUs, m.MessageKey, m.Value0, (m.Value1 + offsetRad) % (2 * Math.PI), m.Value2) : m));
+        var observations = EvaluatorRun.Run(measurements);
+        var raised = observations.Where(o => o.Kind == AlertKinds.SensorIsolated && !o.Resolve).ToList();
+        Assert.NotEmpty(raised);
+        Assert.All(raised, o => Assert.Equal(raised[0].StartedAt, o.StartedAt));
+        Assert.Equal("warning", raised[0].Severity);
+        using var details = JsonDocument.Parse(raised[^1].DetailsJson);
+        Assert.Equal([stream], details.RootElement.GetProperty("streams").EnumerateArray().Select(e => e.GetString()));
+        Assert.Contains(stream == "imu" ? "the gyro" : "the GNSS course", raised[0].Summary, StringComparison.Ordinal);
+        Assert.DoesNotContain(observations, o => o.Kind == AlertKinds.SensorIsolated && o.Resolve);
+        Assert.DoesNotContain(observations, o => o.Kind == AlertKinds.TrackReset);
+    }
+
     [Fact]
     public void Forty_five_seconds_without_gnss_while_driving_raises_gnss_silent_while_moving()
     {

@@ -40,6 +40,7 @@ export const ALERT_KIND_WORDS = {
   track_reset: 'track restarted',
   wheel_scale_out_of_band: 'wheel scale out of range',
   moved_without_driving: 'moving with wheels still (towed?)',
+  sensor_isolated: 'sensor ignored: disagrees with the others',
   vehicle_silent: 'van has gone quiet',
 };
 
