@@ -1,5 +1,6 @@
 using FusionService.Estimation.LinearAlgebra;
 using FusionService.Estimation.Smoothing;
+using FusionService.Estimation.Tracking;
 using static FusionService.Estimation.Models.StateIndex;
 
 namespace FusionService.Estimation.Diagnostics;
@@ -29,25 +30,48 @@ public static class TrapezoidDistanceIntegrator
 
     /// <summary>Distance over [<paramref name="fromUs"/>, <paramref name="toUs"/>] (Unix microseconds) across all segments; gaps between segments count nothing.</summary>
     /// <exception cref="ArgumentException"><paramref name="toUs"/> precedes <paramref name="fromUs"/>.</exception>
-    public static DistanceEstimate Integrate(IEnumerable<SmoothedSegment> segments, long fromUs, long toUs)
+    public static DistanceEstimate Integrate(IEnumerable<SmoothedSegment> segments, long fromUs, long toUs) =>
+        Integrate(segments, fromUs, toUs, []);
+
+    /// <summary>
+    /// As <see cref="Integrate(IEnumerable{SmoothedSegment}, long, long)"/>, and the part of the distance covered while
+    /// the vehicle was carried: each link between smoothed instants counts as carried when its middle lies in one of
+    /// <paramref name="carried"/> (a carry starts a new smoothing segment, so links rarely straddle its start).
+    /// </summary>
+    public static DistanceEstimate Integrate(IEnumerable<SmoothedSegment> segments, long fromUs, long toUs, IReadOnlyList<CarriedInterval> carried)
     {
+        ArgumentNullException.ThrowIfNull(carried);
         ArgumentNullException.ThrowIfNull(segments);
         if (toUs < fromUs)
         {
             throw new ArgumentException($"interval end {toUs} precedes its start {fromUs}", nameof(toUs));
         }
 
-        double distance = 0, variance = 0, stationary = 0, covered = 0;
+        double distance = 0, variance = 0, stationary = 0, covered = 0, carriedM = 0;
         foreach (SmoothedSegment segment in segments)
         {
-            Integrate(segment, fromUs, toUs, ref distance, ref variance, ref stationary, ref covered);
+            Integrate(segment, fromUs, toUs, carried, ref distance, ref variance, ref stationary, ref covered, ref carriedM);
         }
 
-        return new DistanceEstimate(distance, Math.Sqrt(Math.Max(variance, 0)), stationary, covered);
+        return new DistanceEstimate(distance, Math.Sqrt(Math.Max(variance, 0)), stationary, covered, carriedM);
+    }
+
+    private static bool InAny(IReadOnlyList<CarriedInterval> intervals, long timeUs)
+    {
+        for (int i = 0; i < intervals.Count; i++)
+        {
+            if (intervals[i].Contains(timeUs))
+            {
+                return true;
+            }
+        }
+
+        return false;
     }
 
     private static void Integrate(
-        SmoothedSegment s, long fromUs, long toUs, ref double distance, ref double variance, ref double stationary, ref double covered)
+        SmoothedSegment s, long fromUs, long toUs, IReadOnlyList<CarriedInterval> carried,
+        ref double distance, ref double variance, ref double stationary, ref double covered, ref double carriedM)
     {
         int count = s.Count;
         if (count < 2)
@@ -73,6 +97,8 @@ public static class TrapezoidDistanceIntegrator
             double u0 = (t0 - s.TimesUs[k]) / (double)span, u1 = (t1 - s.TimesUs[k]) / (double)span;
             double partS = (t1 - t0) / 1e6;
             covered += partS;
+            bool isCarried = carried.Count > 0 && InAny(carried, t0 + ((t1 - t0) / 2));
+            double before = distance;
             if (tau > GapS)
             {
                 // Chord: k+1's position in k's plane.
@@ -103,6 +129,7 @@ public static class TrapezoidDistanceIntegrator
                     stationary += partS;
                 }
 
+                carriedM += isCarried ? distance - before : 0;
                 continue;
             }
 
@@ -112,6 +139,7 @@ public static class TrapezoidDistanceIntegrator
             gv[k + 1] += wk1;
             double vk = s.Means[k][SpeedMps], vk1 = s.Means[k + 1][SpeedMps];
             distance += (wk * vk) + (wk1 * vk1);
+            carriedM += isCarried ? distance - before : 0;
             if (Math.Abs(vk) <= DistanceIntegrator.StandstillSpeedMps && Math.Abs(vk1) <= DistanceIntegrator.StandstillSpeedMps)
             {
                 stationary += partS;

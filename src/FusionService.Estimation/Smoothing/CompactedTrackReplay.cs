@@ -44,6 +44,8 @@ public static class CompactedTrackReplay
             recorder.Start(state.TimeUs, state.X, state.P, state.Plane);
         }
 
+        var carried = new List<CarriedInterval>();
+        long carriedSinceUs = state.Carried ? Math.Max(state.CarriedSinceUs, state.TimeUs) : long.MinValue;
         bool first = true;
         Measurement previous = default;
         foreach (Measurement m in measurements)
@@ -70,10 +72,24 @@ public static class CompactedTrackReplay
             }
 
             processor.Process(ref state, m, recorder);
+            if (state.Carried && carriedSinceUs == long.MinValue)
+            {
+                carriedSinceUs = state.CarriedSinceUs;
+            }
+            else if (!state.Carried && carriedSinceUs != long.MinValue)
+            {
+                CarriedInterval.Append(carried, new CarriedInterval(carriedSinceUs, m.TimeUs));
+                carriedSinceUs = long.MinValue;
+            }
+        }
+
+        if (carriedSinceUs != long.MinValue)
+        {
+            CarriedInterval.Append(carried, new CarriedInterval(carriedSinceUs, state.TimeUs));
         }
 
         recorder.Complete();
-        return new ForwardPass(recorder.Segments, state);
+        return new ForwardPass(recorder.Segments, state, carried);
     }
 
     /// <summary>

@@ -9,4 +9,5 @@ namespace FusionService.Estimation.Smoothing;
 /// </summary>
 /// <param name="Segments">Closed segments in time order (a track reset starts a new one).</param>
 /// <param name="End">Filter state after the last measurement processed.</param>
-public sealed record ForwardPass(IReadOnlyList<CompactedSegment> Segments, TrackState End);
+/// <param name="Carried">The times the track took the vehicle to be carried, in time order.</param>
+public sealed record ForwardPass(IReadOnlyList<CompactedSegment> Segments, TrackState End, IReadOnlyList<CarriedInterval> Carried);

@@ -56,7 +56,8 @@ public static class HistoryEndpoints
             .WithSummary("Distance travelled by one vehicle, with its standard deviation")
             .WithDescription(
                 "Over [from, to) (" + TimeHelp + "), at most Tracks:MaxWindowHours apart: smoothed_m and smoothed_sd_m from "
-                + "the RTS-smoothed speed (the standard deviation uses the smoothed cross-covariances), raw_polyline_m through "
+                + "the RTS-smoothed speed (the standard deviation uses the smoothed cross-covariances), split into driven_m and carried_m "
+                + "(carried: towed, ferried or lifted, GNSS moving while the wheels read zero), raw_polyline_m through "
                 + "every stored GNSS fix (ellipsoidal), wheel_m from the wheel-speed readings divided by the smoothed wheel-speed "
                 + "scale, stationary_s while the smoothed speed was at most 0.05 m/s. Example: GET /v1/vehicles/van-07/distance"
                 + "?from=2026-05-01T08:00:00Z&to=2026-05-01T16:00:00Z. Needs a read or admin key; another fleet's vehicle is 404. "
@@ -174,7 +175,7 @@ public static class HistoryEndpoints
         // The wheel speeds and the raw fixes come with the replay (it reads every stored measurement of the window).
         long intervalUs = (long)Math.Round(options.Value.SmoothedIntervalS * 1e6);
         using var track = await smoother.BuildAsync(caller.FleetId, vehicle, fromUs, toUs, intervalUs, keepDistanceInputs: true, http.RequestAborted).ConfigureAwait(false);
-        DistanceEstimate smoothed = TrapezoidDistanceIntegrator.Integrate(track.Segments, fromUs, toUs);
+        DistanceEstimate smoothed = TrapezoidDistanceIntegrator.Integrate(track.Segments, fromUs, toUs, track.Carried);
         var odometer = new OdometerDistance();
         var polyline = new PolylineLength();
         var scale = new ScaleLookup(track.Segments);
@@ -196,8 +197,8 @@ public static class HistoryEndpoints
         }
 
         return TypedResults.Ok(new DistanceResponse(
-            vehicle, HistoryTime.Format(fromUs), HistoryTime.Format(toUs), smoothed.DistanceM, smoothed.SigmaM, polyline.LengthM,
-            odometer.DistanceM, smoothed.StationaryS, Caution));
+            vehicle, HistoryTime.Format(fromUs), HistoryTime.Format(toUs), smoothed.DistanceM, smoothed.SigmaM,
+            smoothed.DistanceM - smoothed.CarriedM, smoothed.CarriedM, polyline.LengthM, odometer.DistanceM, smoothed.StationaryS, Caution));
     }
 
     /// <summary>The format named by <paramref name="format"/>, else the best one the Accept header allows (JSON by default); null when unknown.</summary>

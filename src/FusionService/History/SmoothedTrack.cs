@@ -1,6 +1,7 @@
 // The result of a smoothing replay for one request.
 using FusionService.Estimation.Measurements;
 using FusionService.Estimation.Smoothing;
+using FusionService.Estimation.Tracking;
 
 namespace FusionService.History;
 
@@ -9,8 +10,10 @@ namespace FusionService.History;
 /// <param name="DistanceInputs">Replayed wheel-speed and GNSS-position measurements in canonical order (from the start of
 /// the replay, without those already in its starting checkpoint); empty unless the build was asked to keep them.</param>
 /// <param name="FromCheckpoint">Whether the replay started from a stored checkpoint.</param>
+/// <param name="Carried">The times the replayed track took the vehicle to be carried (towed, ferried, lifted), in time order.</param>
 /// <remarks>Dispose it when the response is written: the segments' arrays go back to the builder's pool.</remarks>
-internal sealed record SmoothedTrack(IReadOnlyList<SmoothedSegment> Segments, IReadOnlyList<Measurement> DistanceInputs, bool FromCheckpoint)
+internal sealed record SmoothedTrack(
+    IReadOnlyList<SmoothedSegment> Segments, IReadOnlyList<Measurement> DistanceInputs, bool FromCheckpoint, IReadOnlyList<CarriedInterval> Carried)
     : IDisposable
 {
     /// <summary>Gives the segments' arrays back (the segments are empty afterwards).</summary>

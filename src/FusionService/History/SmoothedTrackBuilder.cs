@@ -97,7 +97,16 @@ internal sealed class SmoothedTrackBuilder(
         }
 
         metrics.CountSmoothingReplay(stretches.Count, seamMisses);
-        return new SmoothedTrack(CompactedTrackReplay.Smooth(passes), distanceInputs, floor is not null);
+        var carried = new List<CarriedInterval>();
+        foreach (ForwardPass pass in passes)
+        {
+            foreach (CarriedInterval interval in pass.Carried)
+            {
+                CarriedInterval.Append(carried, interval);
+            }
+        }
+
+        return new SmoothedTrack(CompactedTrackReplay.Smooth(passes), distanceInputs, floor is not null, carried);
     }
 
     /// <summary>

@@ -105,6 +105,8 @@ public sealed class TrackHistoryTests(ServiceFixture fixture, ITestOutputHelper 
 
         // The service's goal for distance: within 0.5 % of the true path length (invented requirement of this project).
         AssertNear.Equal(truth, smoothed, 0.005 * truth, "smoothed distance (m)");
+        Assert.Equal(0.0, d.GetProperty("carried_m").GetDouble());
+        Assert.Equal(smoothed, d.GetProperty("driven_m").GetDouble());
         Assert.True(Math.Abs(raw - truth) > 0.005 * truth, $"raw polyline {raw} m unexpectedly within 0.5 % of {truth} m");
 
         // The raw polyline goes through every fix sent in the window, in time order (lengths by Vincenty's inverse

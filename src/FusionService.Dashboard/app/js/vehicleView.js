@@ -346,6 +346,7 @@ export class VehicleView {
     this.set('#distance-panel', `
       <dl class="pairs">
         <dt>smoothed path</dt><dd id="distance-smoothed">${num(d.smoothed_m / 1000, 3, 'km')} ± ${num(d.smoothed_sd_m, 1, 'm')}</dd>
+        <dt>of which driven / carried (towed, ferried)</dt><dd id="distance-split">${num(d.driven_m / 1000, 3, 'km')} / ${num(d.carried_m / 1000, 3, 'km')}</dd>
         <dt>raw fixes joined up</dt><dd>${num(d.raw_polyline_m / 1000, 3, 'km')}</dd>
         <dt>wheel-speed sum</dt><dd>${num(d.wheel_m / 1000, 3, 'km')}</dd>
         <dt>time standing still</dt><dd>${num(d.stationary_s / 60, 1, 'min')}</dd>
