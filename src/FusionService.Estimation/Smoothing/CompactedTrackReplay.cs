@@ -20,7 +20,7 @@ public static class CompactedTrackReplay
     /// one at or before it (see <see cref="CompactingStepRecorder"/>).</param>
     /// <param name="expectedInstants">Room for this many smoothed instants made up front (see <see cref="CompactingStepRecorder"/>); 0 to let it grow from small.</param>
     /// <param name="pool">Where the segments' arrays come from; dispose the returned segments to give them back (null: new arrays).</param>
-    /// <returns>The smoothed segments, in time order (a track reset starts a new one).</returns>
+    /// <returns>The smoothed segments, in time order (a track reset, a carry, an isolated stream or a GNSS error restart starts a new one).</returns>
     /// <exception cref="ArgumentException">The measurements are not in canonical order.</exception>
     public static IReadOnlyList<SmoothedSegment> Run(
         TrackProcessor processor, in TrackState start, IEnumerable<Measurement> measurements, long recordIntervalUs, long discardBeforeUs = long.MinValue,

@@ -7,7 +7,7 @@ namespace FusionService.Estimation.Smoothing;
 /// and the filter state it ended in: stretches of one track replayed side by side from stored checkpoints are joined
 /// by <see cref="CompactedTrackReplay.Smooth"/> when each one's end state is the next one's start.
 /// </summary>
-/// <param name="Segments">Closed segments in time order (a track reset starts a new one).</param>
+/// <param name="Segments">Closed segments in time order (a track reset, a carry, an isolated stream or a GNSS error restart starts a new one).</param>
 /// <param name="End">Filter state after the last measurement processed.</param>
 /// <param name="Carried">The times the track took the vehicle to be carried, in time order.</param>
 public sealed record ForwardPass(IReadOnlyList<CompactedSegment> Segments, TrackState End, IReadOnlyList<CarriedInterval> Carried);

@@ -10,7 +10,7 @@ public sealed class ForwardPassRecorder : IStepRecorder
     private readonly List<List<ForwardStep>> _segments = [];
     private ForwardStep _pending;
 
-    /// <summary>The recorded segments; a track reset starts a new one.</summary>
+    /// <summary>The recorded segments; a track reset, a carry, an isolated stream or a GNSS error restart starts a new one.</summary>
     public IReadOnlyList<IReadOnlyList<ForwardStep>> Segments => _segments;
 
     /// <inheritdoc />

@@ -55,6 +55,12 @@ public readonly record struct MeasurementOutcome(
     /// </summary>
     public bool Isolated { get; init; }
 
+    /// <summary>
+    /// True when this GNSS fix, gated against the GNSS error states' estimate, was the one that showed them stale (a
+    /// multipath bias they had absorbed is gone): they started again and the fix was fused against that.
+    /// </summary>
+    public bool ErrorRestarted { get; init; }
+
     /// <summary>An outcome without an innovation.</summary>
     public static MeasurementOutcome Of(OutcomeKind kind) => new(kind, double.NaN, 0, double.NaN, false, 0);
 
@@ -75,6 +81,7 @@ public readonly record struct MeasurementOutcome(
     {
         OutcomeKind.Accepted when Isolated => FormattableString.Invariant($"{sensor} fused as speed only, NIS {Nis:F2} (gate {GateThreshold:F2}): its course is isolated, it disagrees with the path of the fixes"),
         OutcomeKind.Gated when Isolated => FormattableString.Invariant($"{sensor} speed rejected by the gate: NIS {Nis:F2} exceeds {GateThreshold:F2}; its course is isolated, it disagrees with the path of the fixes"),
+        OutcomeKind.Accepted when ErrorRestarted => FormattableString.Invariant($"{sensor} fused, NIS {Nis:F2}, after the GNSS error estimate was dropped: the fixes no longer show the bias it held (a multipath episode ended)"),
         OutcomeKind.Accepted when Recovered => FormattableString.Invariant($"{sensor} fused after repeated rejection (NIS {Nis:F2} above {GateThreshold:F2}): the motion changed faster than modelled, its uncertainty was raised"),
         OutcomeKind.Accepted => FormattableString.Invariant($"{sensor} fused, NIS {Nis:F2} (dimension {Dimension}, gate {GateThreshold:F2})"),
         OutcomeKind.Gated => FormattableString.Invariant($"{sensor} rejected by the gate: NIS {Nis:F2} exceeds {GateThreshold:F2} for dimension {Dimension}"),

@@ -119,6 +119,13 @@ public sealed record TrackOptions
     /// <summary>Median offset below which an isolated course is re-admitted, radians. Default 0.15 (about 9 degrees).</summary>
     public double CourseReadmitOffsetRad { get; init; } = 0.15;
 
+    /// <summary>
+    /// Gated GNSS fixes in a row that agree with the position when the GNSS error states are ignored (their stationary
+    /// distribution instead, 99 % gate) after which the error states start again: the bias they absorbed during a multipath
+    /// episode is gone. Default 3 (3 s at 1 Hz; one outlier never does it).
+    /// </summary>
+    public int ErrorRestartAfterFixes { get; init; } = 3;
+
     /// <summary>Throws <see cref="ArgumentException"/> naming the first invalid option.</summary>
     public void Validate()
     {
@@ -144,6 +151,7 @@ public sealed record TrackOptions
         Require(CarriedMinSpeedMps > 0 && double.IsFinite(CarriedMinSpeedMps), nameof(CarriedMinSpeedMps), "must be finite and positive");
         Require(CarriedAfterS >= 0 && double.IsFinite(CarriedAfterS), nameof(CarriedAfterS), "must be finite and non-negative");
         Require(CarriedEndAfterS >= 0 && double.IsFinite(CarriedEndAfterS), nameof(CarriedEndAfterS), "must be finite and non-negative");
+        Require(ErrorRestartAfterFixes >= 1, nameof(ErrorRestartAfterFixes), "must be at least 1");
         Require(TurnMinRad > 0 && TurnMinRad < Math.PI, nameof(TurnMinRad), "must lie in (0, π)");
         Require(TurnToleranceRad >= 0 && double.IsFinite(TurnToleranceRad), nameof(TurnToleranceRad), "must be finite and non-negative");
         Require(TurnToleranceFraction >= 0 && double.IsFinite(TurnToleranceFraction), nameof(TurnToleranceFraction), "must be finite and non-negative");

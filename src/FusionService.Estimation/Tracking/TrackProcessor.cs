@@ -357,6 +357,39 @@ public sealed class TrackProcessor
         return adjusted;
     }
 
+    /// <summary>
+    /// Whether a gated fix says the GNSS error states are stale rather than the fix wrong: judged against the position alone
+    /// with the error at its stationary distribution N(0, f σ²) — the error states' estimate ignored — the fix passes the
+    /// 99 % chi-square gate, and it is the <see cref="TrackOptions.ErrorRestartAfterFixes"/>-th such fix in a row. A multipath
+    /// bias of 15-60 m held for a while is absorbed by the error states (the fixes agree with each other); when the
+    /// episode ends the clean fixes disagree with position + absorbed bias and were gated until it decayed. A one-off
+    /// outlier is not enough, and a new episode's biased fixes fail the test against the stationary error.
+    /// </summary>
+    private bool ErrorStateLooksStale(ref TrackState s, ReadOnlySpan<double> residual, double whiteVar)
+    {
+        double e = residual[0] + s.X[GnssErrorEastM], n = residual[1] + s.X[GnssErrorNorthM];
+        double stationary = s.GnssCorrelatedVarianceM2;
+        double s00 = s.P[(EastM * N) + EastM] + stationary + whiteVar;
+        double s11 = s.P[(NorthM * N) + NorthM] + stationary + whiteVar;
+        double s01 = s.P[(EastM * N) + NorthM];
+        double nisAgainstStationary = ((s11 * e * e) - (2 * s01 * e * n) + (s00 * n * n)) / ((s00 * s11) - (s01 * s01));
+        if (!(nisAgainstStationary <= ErrorRestartGate.Threshold(2)))
+        {
+            s.StaleErrorEvidence = 0;
+            return false;
+        }
+
+        if (++s.StaleErrorEvidence < Options.ErrorRestartAfterFixes)
+        {
+            return false;
+        }
+
+        s.StaleErrorEvidence = 0;
+        return true;
+    }
+
+    private static readonly ChiSquareGate ErrorRestartGate = new(0.99);
+
     private static void RestartErrorState(ref TrackState s, int i)
     {
         s.X[i] = 0;
@@ -485,17 +518,33 @@ public sealed class TrackProcessor
         double threshold = Gate.Threshold(2);
         Span<double> whitened = [double.NaN, double.NaN];
         bool accepted = Update(ref s, residual, h, r, threshold, out double nis, recorder, whitened);
+        bool restarted = false;
+        if (!accepted && ErrorStateLooksStale(ref s, residual, whiteVar))
+        {
+            // The error states hold a bias the fixes no longer show (a multipath episode ended): start them again from their
+            // stationary distribution and take this fix against that.
+            RestartErrorState(ref s, GnssErrorEastM);
+            RestartErrorState(ref s, GnssErrorNorthM);
+            recorder?.Start(m.TimeUs, s.X, s.P, s.Plane);
+            recorder?.Predicted(StateIdentity.Value, s.X, s.P);
+            residual[0] = enu.EastM - s.X[EastM];
+            residual[1] = enu.NorthM - s.X[NorthM];
+            accepted = Update(ref s, residual, h, r, threshold, out nis, recorder, whitened);
+            restarted = true;
+        }
+
         var fix = new HeldFix(true, m.TimeUs, enu.EastM, enu.NorthM, sigma);
         if (accepted)
         {
             s.RejectedFixes = 0;
+            s.StaleErrorEvidence = 0;
             if (ReacquireHeading(ref s, fix))
             {
                 recorder?.Adjusted();
             }
 
             s.Fix = fix;
-            return new MeasurementOutcome(OutcomeKind.Accepted, nis, 2, threshold, s.Stationary, 0).WithInnovation(residual, whitened);
+            return new MeasurementOutcome(OutcomeKind.Accepted, nis, 2, threshold, s.Stationary, 0) { ErrorRestarted = restarted }.WithInnovation(residual, whitened);
         }
 
         if (s.RejectedFixes == 0)

@@ -48,6 +48,9 @@ public struct TrackState
     /// <summary>Number of consecutive gated GNSS fixes.</summary>
     public int RejectedFixes;
 
+    /// <summary>Consecutive gated GNSS fixes that agree with the position when the error states are ignored (see <see cref="TrackOptions.ErrorRestartAfterFixes"/>).</summary>
+    public int StaleErrorEvidence;
+
     /// <summary>Consecutive gated GNSS velocity measurements.</summary>
     public int VelocityRejections;
 

@@ -10,7 +10,7 @@ namespace FusionService.History;
 /// <param name="SemiMajorM">95 % ellipse semi-major axis, metres.</param>
 /// <param name="SemiMinorM">95 % ellipse semi-minor axis, metres.</param>
 /// <param name="OrientationDeg">Ellipse major-axis direction, degrees clockwise from north, in (-90, 90].</param>
-/// <param name="Segment">Index of the continuous piece of track the point belongs to (a track reset starts a new one).</param>
+/// <param name="Segment">Index of the continuous piece of track the point belongs to: smoothing does not cross from one to the next. A track reset, a carry, an isolated sensor stream and dropped GNSS error estimates (a multipath episode ended) each start a new one.</param>
 /// <param name="Outcome">Raw fixes only: the live filter's verdict (snake_case name), else null.</param>
 /// <param name="Nis">Raw fixes only: normalised innovation squared, or null.</param>
 /// <param name="AccuracyM">Raw fixes only: the fix's 1-sigma per-axis horizontal accuracy, metres, or null.</param>

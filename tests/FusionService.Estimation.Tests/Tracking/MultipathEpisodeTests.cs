@@ -1,0 +1,152 @@
+using FusionService.Estimation.Geodesy;
+using FusionService.Estimation.LinearAlgebra;
+using FusionService.Estimation.Measurements;
+using FusionService.Estimation.Models;
+using FusionService.Estimation.Smoothing;
+using FusionService.Estimation.Tracking;
+using FusionService.Scenarios;
+using Xunit.Abstractions;
+using static FusionService.Estimation.Models.StateIndex;
+
+namespace FusionService.Estimation.Tests.Tracking;
+
+/// <summary>
+/// Issue 12, step 4, on the invented drives of <see cref="RealisticDrives"/>: multipath episodes of 15-60 m over about a
+/// third of a round, and a 3 min GNSS outage. The targets are the issue's own (product requirements, not published
+/// values): at most 1 % of the fixes outside multipath gated (also in the minute after the outage), smoothed RMSE at most
+/// twice that of the same drive without the episodes, and the truth inside the filtered and smoothed 95 % ellipses at
+/// least 93 % of the time.
+/// </summary>
+public sealed class MultipathEpisodeTests(ITestOutputHelper output)
+{
+    // Upper 5 % point of chi-square with 2 dof, -2 ln 0.05 (NIST/SEMATECH handbook 1.3.6.7.4; derived).
+    private const double Inside95 = 5.991464547107979;
+
+    private static readonly TrackProcessor Processor = new(new TrackOptions(), NoiseProfile.DeliveryVan);
+
+    [Fact]
+    public void Issue12_after_multipath_episodes_clean_fixes_pass_and_smoothing_stays_within_twice_the_clean_sky_error()
+    {
+        long clean = 0, cleanGated = 0, filtered = 0, filteredInside = 0, smoothed = 0, smoothedInside = 0;
+        int restarts = 0;
+        foreach (int seed in new[] { 1202, 1302, 1402, 1502 })
+        {
+            RealisticDrive drive = RealisticDrives.Multipath(seed);
+            ScenarioRun run = drive.Generate();
+            ReplayResult replay = TrackReplay.Run(Processor, TrackState.Empty, run.Measurements);
+            ScenarioRun withoutEpisodes = (drive with { Suite = drive.Suite with { GnssRandomMultipath = null } }).Generate();
+            ReplayResult cleanReplay = TrackReplay.Run(Processor, TrackState.Empty, withoutEpisodes.Measurements);
+
+            foreach ((Measurement m, MeasurementOutcome o) in replay.Outcomes)
+            {
+                restarts += o.ErrorRestarted ? 1 : 0;
+                if (m.Kind == SensorKind.GnssPosition && run.GetMeasurementTruth(m.MessageKey) is { IsOutlier: false, InMultipath: false, InUrbanCanyon: false }
+                    && o.Kind is OutcomeKind.Accepted or OutcomeKind.Gated or OutcomeKind.TrackReset)
+                {
+                    clean++;
+                    cleanGated += o.Kind == OutcomeKind.Accepted ? 0 : 1;
+                }
+            }
+
+            Assert.DoesNotContain(replay.Outcomes, o => o.Outcome.Kind == OutcomeKind.TrackReset);
+            (double rmse, long n, long inside) = Smoothed(run, replay);
+            (double cleanRmse, _, _) = Smoothed(withoutEpisodes, cleanReplay);
+            smoothed += n;
+            smoothedInside += inside;
+            (long fn, long fInside) = Filtered(run, replay);
+            filtered += fn;
+            filteredInside += fInside;
+            output.WriteLine($"seed {seed}: smoothed RMSE {rmse:F2} m, same drive without the episodes {cleanRmse:F2} m");
+            Assert.True(rmse <= 2.0 * cleanRmse, $"seed {seed}: smoothed RMSE {rmse:F2} m against {cleanRmse:F2} m without the episodes");
+        }
+
+        double gatedShare = (double)cleanGated / clean;
+        double filteredShare = (double)filteredInside / filtered, smoothedShare = (double)smoothedInside / smoothed;
+        output.WriteLine($"clean fixes gated {cleanGated} of {clean} ({100 * gatedShare:F2} %); error states restarted {restarts} times; inside 95 %: filtered {100 * filteredShare:F1} %, smoothed {100 * smoothedShare:F1} %");
+        Assert.True(gatedShare <= 0.01, $"{100 * gatedShare:F2} % of clean fixes gated");
+        Assert.True(restarts > 0, "no episode end was recognised");
+        Assert.True(filteredShare >= 0.93, $"filtered containment {100 * filteredShare:F1} %");
+        Assert.True(smoothedShare >= 0.93, $"smoothed containment {100 * smoothedShare:F1} %");
+    }
+
+    [Fact]
+    public void Issue12_in_the_minute_after_a_3_min_outage_at_most_1_percent_of_clean_fixes_are_gated()
+    {
+        long clean = 0, gated = 0;
+        foreach (int seed in new[] { 1203, 1303, 1403, 1503 })
+        {
+            RealisticDrive drive = RealisticDrives.Outage(seed);
+            ScenarioRun run = drive.Generate();
+            long endUs = drive.Suite.GnssOutages[0].EndTimeUs;
+            ReplayResult replay = TrackReplay.Run(Processor, TrackState.Empty, run.Measurements);
+            foreach ((Measurement m, MeasurementOutcome o) in replay.Outcomes)
+            {
+                if (m.Kind == SensorKind.GnssPosition && m.TimeUs >= endUs && m.TimeUs < endUs + 60_000_000
+                    && run.GetMeasurementTruth(m.MessageKey) is { IsOutlier: false, InMultipath: false, InUrbanCanyon: false })
+                {
+                    clean++;
+                    gated += o.Kind == OutcomeKind.Accepted ? 0 : 1;
+                }
+            }
+        }
+
+        output.WriteLine($"{gated} of {clean} clean fixes gated in the minute after the outage");
+        Assert.True(clean >= 200, $"only {clean} fixes after the outages");
+        Assert.True(gated <= 0.01 * clean, $"{gated} of {clean} gated");
+    }
+
+    private static (double Rmse, long Count, long Inside) Smoothed(ScenarioRun run, ReplayResult replay)
+    {
+        double sum = 0;
+        long count = 0, inside = 0, lastSecond = long.MinValue;
+        foreach (SmoothedSegment segment in replay.Smoothed)
+        {
+            for (int k = 0; k < segment.Count; k++)
+            {
+                long second = segment.TimesUs[k] / 1_000_000;
+                if (second == lastSecond || !run.Truth.Covers(segment.TimesUs[k]))
+                {
+                    continue;
+                }
+
+                lastSecond = second;
+                (double de, double dn) = run.Truth.OffsetOf(segment.TimesUs[k], segment.Planes[k], segment.Means[k][EastM], segment.Means[k][NorthM]);
+                sum += (de * de) + (dn * dn);
+                count++;
+                inside += Mahalanobis2(segment.Covariances[k], de, dn) <= Inside95 ? 1 : 0;
+            }
+        }
+
+        return (Math.Sqrt(sum / count), count, inside);
+    }
+
+    private static (long Count, long Inside) Filtered(ScenarioRun run, ReplayResult replay)
+    {
+        long count = 0, inside = 0, lastSecond = long.MinValue;
+        foreach (IReadOnlyList<ForwardStep> segment in replay.Forward)
+        {
+            foreach (ForwardStep step in segment)
+            {
+                long second = step.TimeUs / 1_000_000;
+                if (second == lastSecond || !run.Truth.Covers(step.TimeUs))
+                {
+                    continue;
+                }
+
+                lastSecond = second;
+                (double de, double dn) = run.Truth.OffsetOf(step.TimeUs, step.Plane, step.Filtered[EastM], step.Filtered[NorthM]);
+                count++;
+                inside += Mahalanobis2(step.FilteredCovariance, de, dn) <= Inside95 ? 1 : 0;
+            }
+        }
+
+        return (count, inside);
+    }
+
+    private static double Mahalanobis2(in StateMatrix p, double de, double dn)
+    {
+        const int N = StateMatrix.Size;
+        double a = p[(EastM * N) + EastM], b = p[(EastM * N) + NorthM], c = p[(NorthM * N) + NorthM];
+        return ((c * de * de) - (2 * b * de * dn) + (a * dn * dn)) / ((a * c) - (b * b));
+    }
+}
