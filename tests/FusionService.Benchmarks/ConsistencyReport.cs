@@ -13,7 +13,7 @@ using static FusionService.Estimation.Models.StateIndex;
 namespace FusionService.Benchmarks;
 
 /// <summary>
-/// `./build.sh bench consistency [runs]`: runs the filter with its default options and noise profile over the realistic
+/// `./build.sh bench consistency [runs, default 16] [faulty]`: runs the filter with its default options and noise profile over the realistic
 /// drives of <see cref="RealisticDrives"/> (clean sky, multipath, outage, tow, park beside a building, HDOP-only) and over
 /// a grid of GNSS error correlation times (20, 60, 120 s) and correlated shares (50, 80, 95 %) of the clean-sky drive,
 /// each with <c>runs</c> seeds, and prints per case: how often the truth lies inside the 95 % ellipse of the filtered

@@ -52,6 +52,14 @@ public sealed record TrackOptions
     /// </summary>
     public double ResetAfterStationaryS { get; init; } = 120.0;
 
+    /// <summary>
+    /// A moving track whose GNSS fixes have all been gated this long, but lie closer than <see cref="ResetDistanceM"/>, takes
+    /// its position from them again (its position variance raised by the offset, no reset), seconds. Default 60: longer
+    /// than the 5-40 s multipath episodes of urban driving (common practice), so an episode's biased fixes stay gated while
+    /// a track that started inside one comes back. A standing van waits <see cref="ResetAfterStationaryS"/>.
+    /// </summary>
+    public double RecoverPositionAfterS { get; init; } = 60.0;
+
     /// <summary>...and the rejected fix must lie at least this far from the track, metres. Default 75.</summary>
     public double ResetDistanceM { get; init; } = 75.0;
 
@@ -151,6 +159,7 @@ public sealed record TrackOptions
         Require(CarriedMinSpeedMps > 0 && double.IsFinite(CarriedMinSpeedMps), nameof(CarriedMinSpeedMps), "must be finite and positive");
         Require(CarriedAfterS >= 0 && double.IsFinite(CarriedAfterS), nameof(CarriedAfterS), "must be finite and non-negative");
         Require(CarriedEndAfterS >= 0 && double.IsFinite(CarriedEndAfterS), nameof(CarriedEndAfterS), "must be finite and non-negative");
+        Require(RecoverPositionAfterS >= 0 && double.IsFinite(RecoverPositionAfterS), nameof(RecoverPositionAfterS), "must be finite and non-negative");
         Require(ErrorRestartAfterFixes >= 1, nameof(ErrorRestartAfterFixes), "must be at least 1");
         Require(TurnMinRad > 0 && TurnMinRad < Math.PI, nameof(TurnMinRad), "must lie in (0, π)");
         Require(TurnToleranceRad >= 0 && double.IsFinite(TurnToleranceRad), nameof(TurnToleranceRad), "must be finite and non-negative");

@@ -563,6 +563,13 @@ public sealed class TrackProcessor
             && offsetM >= Options.ResetDistanceM;
         if (!sustained)
         {
+            double rejectedS = (m.TimeUs - s.RejectedSinceUs) / MicrosecondsPerSecond;
+            double recoverAfterS = s.Stationary ? Options.ResetAfterStationaryS : Options.RecoverPositionAfterS;
+            if (rejectedS >= recoverAfterS && s.RejectedFixes >= Options.ResetMinRejectedFixes)
+            {
+                return RecoverPosition(ref s, m, fix, residual, whitened, nis, threshold, recorder);
+            }
+
             return new MeasurementOutcome(OutcomeKind.Gated, nis, 2, threshold, s.Stationary, 0).WithInnovation(residual, whitened);
         }
 
@@ -574,6 +581,41 @@ public sealed class TrackProcessor
         s.Course = default;
         s.RejectedFixes = 0;
         return new MeasurementOutcome(OutcomeKind.TrackReset, nis, 2, threshold, s.Stationary, offsetM).WithInnovation(residual, whitened);
+    }
+
+    /// <summary>
+    /// Fixes have disagreed with the track for longer than a multipath episode lasts (<see cref="TrackOptions.RecoverPositionAfterS"/>)
+    /// but by less than a relocation (<see cref="TrackOptions.ResetDistanceM"/>): the track, not the fixes, is wrong (it
+    /// started inside a multipath episode, say). The position's variance is raised by the squared offset on each axis and
+    /// the GNSS error states start again (covariance inflation, as for the motion sensors), the fix is fused, and a new
+    /// smoothing segment begins so the jump is not smoothed back into the time before.
+    /// </summary>
+    private MeasurementOutcome RecoverPosition(
+        ref TrackState s, in Measurement m, HeldFix fix, Span<double> residual, ReadOnlySpan<double> whitened, double nis, double threshold,
+        IStepRecorder? recorder)
+    {
+        // Offset of the fix from the position itself (the error states' estimate goes with the restart).
+        Span<double> offset = [residual[0] + s.X[GnssErrorEastM], residual[1] + s.X[GnssErrorNorthM]];
+        s.P[(EastM * N) + EastM] += offset[0] * offset[0];
+        s.P[(NorthM * N) + NorthM] += offset[1] * offset[1];
+        RestartErrorState(ref s, GnssErrorEastM);
+        RestartErrorState(ref s, GnssErrorNorthM);
+        recorder?.Start(m.TimeUs, s.X, s.P, s.Plane);
+        recorder?.Predicted(StateIdentity.Value, s.X, s.P);
+        Span<double> h = stackalloc double[2 * N];
+        h.Clear();
+        h[EastM] = 1.0;
+        h[GnssErrorEastM] = 1.0;
+        h[N + NorthM] = 1.0;
+        h[N + GnssErrorNorthM] = 1.0;
+        double whiteVar = (1.0 - Profile.GnssCorrelatedFraction) * fix.SigmaM * fix.SigmaM;
+        Span<double> r = [whiteVar, 0, 0, whiteVar];
+        Update(ref s, offset, h, r, double.PositiveInfinity, out _, recorder);
+        s.RejectedFixes = 0;
+        s.StaleErrorEvidence = 0;
+        s.Fix = fix;
+        double shiftM = Math.Sqrt((offset[0] * offset[0]) + (offset[1] * offset[1]));
+        return new MeasurementOutcome(OutcomeKind.Accepted, nis, 2, threshold, s.Stationary, shiftM) { Recovered = true }.WithInnovation(residual, whitened);
     }
 
     /// <summary>

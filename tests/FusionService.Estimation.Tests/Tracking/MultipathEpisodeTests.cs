@@ -95,6 +95,30 @@ public sealed class MultipathEpisodeTests(ITestOutputHelper output)
         Assert.True(gated <= 0.01 * clean, $"{gated} of {clean} gated");
     }
 
+    [Fact]
+    public void Issue12_a_track_that_started_inside_a_multipath_episode_comes_back_to_the_fixes_without_a_reset()
+    {
+        // Seed 1802 starts the round inside a 23 m episode: the track is anchored 25 m off and the clean fixes after the
+        // episode disagree with it by less than a relocation (75 m). After 60 s moving (120 s standing) of fixes gated in
+        // a row the position is taken from them again.
+        RealisticDrive drive = RealisticDrives.Multipath(1802);
+        ScenarioRun run = drive.Generate();
+        ReplayResult replay = TrackReplay.Run(Processor, TrackState.Empty, run.Measurements);
+        Measurement first = replay.Outcomes.First(o => o.Measurement.Kind == SensorKind.GnssPosition && o.Outcome.Kind == OutcomeKind.Accepted).Measurement;
+        Assert.True(run.GetMeasurementTruth(first.MessageKey).InMultipath, "the scenario no longer starts inside an episode");
+        var recovered = replay.Outcomes.Where(o => o.Measurement.Kind == SensorKind.GnssPosition && o.Outcome.Recovered).ToList();
+        Assert.NotEmpty(recovered);
+        Assert.DoesNotContain(replay.Outcomes, o => o.Outcome.Kind == OutcomeKind.TrackReset);
+        long backUs = recovered[0].Measurement.TimeUs;
+        output.WriteLine($"position taken from the fixes again {(backUs - first.TimeUs) / 1e6:F0} s after the start, shifted {recovered[0].Outcome.PositionShiftM:F1} m");
+        Assert.InRange(recovered[0].Outcome.PositionShiftM, 15.0, 40.0);
+
+        ForwardStep after = replay.Forward.SelectMany(s => s).First(s => s.TimeUs >= backUs + 5_000_000 && run.Truth.Covers(s.TimeUs));
+        (double de, double dn) = run.Truth.OffsetOf(after.TimeUs, after.Plane, after.Filtered[EastM], after.Filtered[NorthM]);
+        output.WriteLine($"filtered error 5 s later {Math.Sqrt((de * de) + (dn * dn)):F1} m");
+        Assert.True(Math.Sqrt((de * de) + (dn * dn)) < 8.0, $"still {Math.Sqrt((de * de) + (dn * dn)):F1} m off");
+    }
+
     private static (double Rmse, long Count, long Inside) Smoothed(ScenarioRun run, ReplayResult replay)
     {
         double sum = 0;
