@@ -30,6 +30,18 @@ public sealed record TrackOptions
     /// <summary>Wheel speed must read zero this long before the stationary constraint applies, seconds. Default 2.</summary>
     public double StationaryAfterS { get; init; } = 2.0;
 
+    /// <summary>
+    /// A vehicle with no wheel-speed sample for this long is taken to have no wheel speed: its standstill is then judged
+    /// from GNSS speed (<see cref="GnssStillSpeedMps"/>), seconds. Default 10.
+    /// </summary>
+    public double NoWheelAfterS { get; init; } = 10.0;
+
+    /// <summary>
+    /// For a vehicle without wheel speed, GNSS speed at or below this (with a speed accuracy no worse) counts as standing
+    /// still, m/s. Default 0.3: three times a consumer receiver's 0.1 m/s Doppler noise (common practice).
+    /// </summary>
+    public double GnssStillSpeedMps { get; init; } = 0.3;
+
     /// <summary>Standard deviation of the stationary pseudo-measurement of speed, m/s. Default 0.005.</summary>
     public double StationarySpeedSigmaMps { get; init; } = 0.005;
 
@@ -145,6 +157,8 @@ public sealed record TrackOptions
         Require(CourseSigmaFloorRad > 0, nameof(CourseSigmaFloorRad), "must be positive");
         Require(ZeroSpeedThresholdMps >= 0, nameof(ZeroSpeedThresholdMps), "must be non-negative");
         Require(StationaryAfterS >= 0, nameof(StationaryAfterS), "must be non-negative");
+        Require(NoWheelAfterS > 0 && double.IsFinite(NoWheelAfterS), nameof(NoWheelAfterS), "must be finite and positive");
+        Require(GnssStillSpeedMps >= 0 && double.IsFinite(GnssStillSpeedMps), nameof(GnssStillSpeedMps), "must be finite and non-negative");
         Require(StationarySpeedSigmaMps > 0, nameof(StationarySpeedSigmaMps), "must be positive");
         Require(StationaryYawRateSigmaRps > 0, nameof(StationaryYawRateSigmaRps), "must be positive");
         Require(RecoverAfterRejections >= 1, nameof(RecoverAfterRejections), "must be at least 1");

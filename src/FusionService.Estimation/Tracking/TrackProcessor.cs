@@ -278,7 +278,7 @@ public sealed class TrackProcessor
         MeasurementOutcome outcome = m.Kind switch
         {
             SensorKind.GnssPosition => UpdateGnssPosition(ref s, m, recorder),
-            SensorKind.GnssVelocity => UpdateGnssVelocity(ref s, m, recorder),
+            SensorKind.GnssVelocity => UpdateGnssVelocityAndStandstill(ref s, m, recorder),
             SensorKind.WheelSpeed => UpdateWheelSpeed(ref s, m, recorder),
             SensorKind.Imu => UpdateImu(ref s, m, recorder),
             _ => throw new ArgumentOutOfRangeException(nameof(m), m.Kind, "unknown sensor kind"),
@@ -653,6 +653,43 @@ public sealed class TrackProcessor
         return true;
     }
 
+    /// <summary>
+    /// GNSS velocity, and for a vehicle that sends no wheel speed (none for <see cref="TrackOptions.NoWheelAfterS"/>) the
+    /// standstill from Doppler instead: speed at most <see cref="TrackOptions.GnssStillSpeedMps"/> (with a speed accuracy no
+    /// worse than that) for <see cref="TrackOptions.StationaryAfterS"/> applies the stationary constraint, as zero wheel
+    /// speed does (zero-velocity updates from GNSS Doppler; common practice). Without it a wheel-less van at a stop
+    /// integrated its Doppler noise into phantom motion that the GNSS error states then explained (61 % containment).
+    /// </summary>
+    private MeasurementOutcome UpdateGnssVelocityAndStandstill(ref TrackState s, in Measurement m, IStepRecorder? recorder)
+    {
+        MeasurementOutcome outcome = UpdateGnssVelocity(ref s, m, recorder);
+        if (s.LastWheelUs != long.MinValue && (m.TimeUs - s.LastWheelUs) / MicrosecondsPerSecond <= Options.NoWheelAfterS)
+        {
+            return outcome;
+        }
+
+        bool still = Math.Abs(m.Value0) <= Options.GnssStillSpeedMps && m.Value2 <= Options.GnssStillSpeedMps;
+        if (!still)
+        {
+            s.GnssStillSinceUs = long.MinValue;
+            s.Stationary = false;
+            return outcome;
+        }
+
+        if (s.GnssStillSinceUs == long.MinValue)
+        {
+            s.GnssStillSinceUs = m.TimeUs;
+        }
+
+        s.Stationary = (m.TimeUs - s.GnssStillSinceUs) / MicrosecondsPerSecond >= Options.StationaryAfterS;
+        if (s.Stationary)
+        {
+            ApplyStationaryConstraint(ref s, recorder);
+        }
+
+        return outcome with { Stationary = s.Stationary };
+    }
+
     private MeasurementOutcome UpdateGnssVelocity(ref TrackState s, in Measurement m, IStepRecorder? recorder)
     {
         double speed = m.Value0, speedSigma = m.Value2;
@@ -715,6 +752,8 @@ public sealed class TrackProcessor
 
     private void TrackZeroSpeed(ref TrackState s, in Measurement m)
     {
+        s.LastWheelUs = m.TimeUs;
+        s.GnssStillSinceUs = long.MinValue;
         if (Math.Abs(m.Value0) > Options.ZeroSpeedThresholdMps)
         {
             s.WheelZeroSinceUs = long.MinValue;

@@ -33,6 +33,15 @@ public struct TrackState
     /// <summary>Start of the current run of zero wheel speed, Unix microseconds, or <see cref="long.MinValue"/>.</summary>
     public long WheelZeroSinceUs;
 
+    /// <summary>Time of the last wheel-speed sample, Unix microseconds, or <see cref="long.MinValue"/> when none was seen.</summary>
+    public long LastWheelUs;
+
+    /// <summary>
+    /// Start of the current run of GNSS speeds showing a standstill, for a vehicle without wheel speed (see
+    /// <see cref="TrackOptions.NoWheelAfterS"/>), Unix microseconds, or <see cref="long.MinValue"/>.
+    /// </summary>
+    public long GnssStillSinceUs;
+
     /// <summary>Whether the calibration states (gyro bias, wheel scale) carry over from before a reset.</summary>
     public bool HasCalibration;
 
@@ -97,5 +106,5 @@ public struct TrackState
     public int Resets;
 
     /// <summary>A fresh track.</summary>
-    public static TrackState Empty => new() { WheelZeroSinceUs = long.MinValue, TimeUs = long.MinValue, Agreement = StreamAgreement.Empty };
+    public static TrackState Empty => new() { WheelZeroSinceUs = long.MinValue, TimeUs = long.MinValue, LastWheelUs = long.MinValue, GnssStillSinceUs = long.MinValue, Agreement = StreamAgreement.Empty };
 }

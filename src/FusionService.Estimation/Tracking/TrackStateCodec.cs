@@ -16,7 +16,7 @@ public static class TrackStateCodec
     public const byte Version = 4;
 
     /// <summary>Size of an encoded checkpoint, bytes.</summary>
-    public const int EncodedLength = 1 + (StateVector.Length * 8) + (StateMatrix.Size * (StateMatrix.Size + 1) / 2 * 8) + 8 + 1 + (3 * 8) + 3 + 8 + 1 + (1 + 8 + (3 * 8)) + (1 + 8 + (4 * 8)) + 8 + 4 + 4 + (8 + 8 + 8 + 8 + 4) + 12 + 8 + (1 + 8 + 4 + 8 + 4 + 8) + 4 + AgreementLength;
+    public const int EncodedLength = 1 + (StateVector.Length * 8) + (StateMatrix.Size * (StateMatrix.Size + 1) / 2 * 8) + 8 + 1 + (3 * 8) + 3 + 8 + 1 + (1 + 8 + (3 * 8)) + (1 + 8 + (4 * 8)) + 8 + 4 + 4 + (8 + 8 + 8 + 8 + 4) + 12 + 8 + (1 + 8 + 4 + 8 + 4 + 8) + 4 + 16 + AgreementLength;
 
     // StreamAgreement: 2 flags, 6 times, 5 counters, 13 doubles and the ring of chord offsets.
     private const int AgreementLength = 2 + (6 * 8) + (5 * 4) + (13 * 8) + (ChordOffsetRing.Length * 8);
@@ -81,6 +81,8 @@ public static class TrackStateCodec
         w.Int(state.WheelRejections);
         w.Int(state.ImuRejections);
         w.Int(state.StaleErrorEvidence);
+        w.Long(state.LastWheelUs);
+        w.Long(state.GnssStillSinceUs);
         w.Double(state.GnssCorrelatedVarianceM2);
         w.Bool(state.Carried);
         w.Long(state.CarriedSinceUs);
@@ -144,6 +146,8 @@ public static class TrackStateCodec
         s.WheelRejections = r.Int();
         s.ImuRejections = r.Int();
         s.StaleErrorEvidence = r.Int();
+        s.LastWheelUs = r.Long();
+        s.GnssStillSinceUs = r.Long();
         s.GnssCorrelatedVarianceM2 = r.Double();
         s.Carried = r.Bool();
         s.CarriedSinceUs = r.Long();
