@@ -47,7 +47,7 @@ public sealed class FleetViewTests(DashboardFixture fixture)
               return { vehicle: g.dataset.vehicle, rx: Number(e.getAttribute('rx')), ry: Number(e.getAttribute('ry')),
                        semiMajorM: Number(e.dataset.semiMajorM), transform: e.getAttribute('transform') };
             });
-            const bar = document.querySelector('#fleet-map .scale-bar-line').getAttribute('d');
+            const bar = document.querySelector('#fleet-map .scale-bar').dataset.lengthPx;
             const lengthM = Number(document.querySelector('#fleet-map .scale-bar-label').dataset.lengthM);
             const rows = document.querySelectorAll('#van-table tbody tr').length;
             return JSON.stringify({ vans, bar, lengthM, rows });
@@ -57,9 +57,9 @@ public sealed class FleetViewTests(DashboardFixture fixture)
         var vans = root.GetProperty("vans").EnumerateArray().ToList();
         Assert.Equal(vans.Count, root.GetProperty("rows").GetInt32());
 
-        // Scale bar path "M0,-6 V0 H<px> V-6": its pixels per metre are the map's.
+        // The scale bar's length in pixels over its length in metres: the map's pixels per metre.
         string bar = root.GetProperty("bar").GetString()!;
-        double barPx = DashboardPage.Number(bar.Split('H')[1].Split(' ')[0]);
+        double barPx = DashboardPage.Number(bar);
         double lengthM = root.GetProperty("lengthM").GetDouble();
         Assert.True(lengthM > 0 && barPx > 0, "scale bar: " + bar);
         double pxPerM = barPx / lengthM;

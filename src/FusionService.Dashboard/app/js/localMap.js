@@ -88,15 +88,22 @@ export class LocalMap {
     const lengthM = niceLengthM(140 / this.pxPerM());
     const px = lengthM * this.pxPerM();
     this.overlay.selectAll('*').remove();
-    const bar = this.overlay.append('g').attr('class', 'scale-bar').attr('transform', `translate(16,${height - 22})`);
-    bar.append('rect').attr('x', -6).attr('y', -18).attr('width', px + 12).attr('height', 28).attr('class', 'scale-bar-back');
-    bar.append('path').attr('d', `M0,-6 V0 H${px} V-6`).attr('class', 'scale-bar-line');
-    bar.append('text').attr('x', px / 2).attr('y', -7).attr('text-anchor', 'middle').attr('class', 'scale-bar-label')
+    // Scale: a bar of four alternating ink and paper segments with its length at the ends ("0" and the length).
+    const bar = this.overlay.append('g').attr('class', 'scale-bar').attr('data-length-px', px)
+      .attr('transform', `translate(16,${height - 26})`);
+    const segments = 4;
+    for (let i = 0; i < segments; i++) {
+      bar.append('rect').attr('x', (i * px) / segments).attr('y', 0).attr('width', px / segments).attr('height', 5)
+        .attr('class', i % 2 === 0 ? 'scale-bar-ink' : 'scale-bar-paper');
+    }
+    bar.append('text').attr('x', 0).attr('y', 17).attr('text-anchor', 'start').attr('class', 'scale-bar-end').text('0');
+    bar.append('text').attr('x', px).attr('y', 17).attr('text-anchor', 'end').attr('class', 'scale-bar-label')
       .attr('data-length-m', lengthM).text(formatLengthM(lengthM));
-    const north = this.overlay.append('g').attr('class', 'north-mark').attr('transform', `translate(${this.size().width - 24},${height - 36})`);
-    north.append('circle').attr('r', 17).attr('cy', 2).attr('class', 'north-back');
-    north.append('path').attr('d', 'M0,-14 L6,4 L0,0 L-6,4 Z');
-    north.append('text').attr('y', 18).attr('text-anchor', 'middle').text('N');
+    // North: a plain needle with the letter above it.
+    const north = this.overlay.append('g').attr('class', 'north-mark').attr('transform', `translate(${this.size().width - 20},${height - 30})`);
+    north.append('line').attr('x1', 0).attr('y1', 12).attr('x2', 0).attr('y2', 0).attr('class', 'north-needle-tail');
+    north.append('line').attr('x1', 0).attr('y1', 0).attr('x2', 0).attr('y2', -10).attr('class', 'north-needle');
+    north.append('text').attr('y', -14).attr('text-anchor', 'middle').text('N');
   }
 
   renderTiles() {
