@@ -14,7 +14,8 @@ namespace FusionService.Tracking;
 /// Grains never wait here (a grain call that waits can outlive Orleans' response timeout and have later calls
 /// dropped); the bound is kept one step earlier: the <see cref="TrackDispatcher"/> waits in
 /// <see cref="WaitForRoomAsync"/> while more than <see cref="TrackGrainOptions.WriteQueueCapacity"/> rows are
-/// queued. A failed write is retried with the same rows; at shutdown the queue is drained. Register it before the
+/// queued. A failed write is retried with the same rows; a stop drains the queue however the loop ended (a
+/// write in progress is finished, not cancelled, then every queued row is written, retrying while the store refuses). Register it before the
 /// Orleans silo, so it stops after the grains have deactivated.
 /// </summary>
 public sealed class TrackWriteQueue : BackgroundService
@@ -153,31 +154,68 @@ public sealed class TrackWriteQueue : BackgroundService
     /// <inheritdoc />
     protected override async Task ExecuteAsync(CancellationToken stoppingToken)
     {
-        try
+        while (!stoppingToken.IsCancellationRequested)
         {
-            while (!stoppingToken.IsCancellationRequested)
+            try
             {
                 await Task.Delay(_options.FlushIntervalMs, stoppingToken).ConfigureAwait(false);
-                await FlushOnceAsync(stoppingToken).ConfigureAwait(false);
             }
+            catch (OperationCanceledException)
+            {
+                break;
+            }
+
+            // A write in progress is never cut short by the stop: a cancelled COPY can surface as an Npgsql or IO
+            // error rather than a cancellation, and the rows must be drained below either way.
+            await FlushOnceAsync(CancellationToken.None).ConfigureAwait(false);
         }
-        catch (OperationCanceledException) when (stoppingToken.IsCancellationRequested)
+
+        await DrainAsync().ConfigureAwait(false);
+    }
+
+    /// <summary>
+    /// Writes everything still queued at a stop, retrying for up to <see cref="TrackGrainOptions.DrainTimeoutS"/>
+    /// while the store refuses. Rows still unwritten after that are logged; their measurements stay pending in the
+    /// store and are judged again when their track next activates.
+    /// </summary>
+    private async Task DrainAsync()
+    {
+        using var drain = new CancellationTokenSource(TimeSpan.FromSeconds(_options.DrainTimeoutS));
+        while (QueuedRows > 0 && !drain.IsCancellationRequested)
         {
-            using var drain = new CancellationTokenSource(TimeSpan.FromSeconds(10));
-            await FlushOnceAsync(drain.Token).ConfigureAwait(false);
+            if (await FlushOnceAsync(drain.Token).ConfigureAwait(false))
+            {
+                continue;
+            }
+
+            await Task.Delay(Math.Max(_options.FlushIntervalMs, 100), drain.Token).ConfigureAwait(ConfigureAwaitOptions.SuppressThrowing);
+        }
+
+        if (QueuedRows > 0)
+        {
+            _logger.LogError(
+                "Stopped with {Rows} outcome and fused-state rows unwritten; their measurements are judged again when their tracks activate",
+                QueuedRows);
         }
     }
 
-    private async Task FlushOnceAsync(CancellationToken cancellationToken)
+    /// <summary>One flush; false when it failed (logged, rows kept for the next one).</summary>
+    private async Task<bool> FlushOnceAsync(CancellationToken cancellationToken)
     {
         try
         {
             await FlushAsync(cancellationToken).ConfigureAwait(false);
+            return true;
+        }
+        catch (OperationCanceledException) when (cancellationToken.IsCancellationRequested)
+        {
+            return false;
         }
         catch (Exception ex) when (ex is Npgsql.NpgsqlException or InvalidOperationException or TimeoutException or IOException)
         {
             _logger.LogWarning(ex, "Writing {Outcomes} outcomes and {States} fused states failed; retrying", _outcomes.Count, _states.Count);
             _database.NoteFailure(ex);
+            return false;
         }
         catch (ArgumentException ex)
         {
@@ -186,6 +224,7 @@ public sealed class TrackWriteQueue : BackgroundService
             Written(_outcomes.Count + _states.Count);
             _outcomes.Clear();
             _states.Clear();
+            return true;
         }
     }
 }
