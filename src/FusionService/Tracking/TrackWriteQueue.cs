@@ -202,9 +202,15 @@ public sealed class TrackWriteQueue : BackgroundService
     /// <summary>One flush; false when it failed (logged, rows kept for the next one).</summary>
     private async Task<bool> FlushOnceAsync(CancellationToken cancellationToken)
     {
+        bool writing = QueuedRows > 0;
         try
         {
             await FlushAsync(cancellationToken).ConfigureAwait(false);
+            if (writing)
+            {
+                _database.NoteSuccess();
+            }
+
             return true;
         }
         catch (OperationCanceledException) when (cancellationToken.IsCancellationRequested)
@@ -213,8 +219,14 @@ public sealed class TrackWriteQueue : BackgroundService
         }
         catch (Exception ex) when (ex is Npgsql.NpgsqlException or InvalidOperationException or TimeoutException or IOException)
         {
-            _logger.LogWarning(ex, "Writing {Outcomes} outcomes and {States} fused states failed; retrying", _outcomes.Count, _states.Count);
-            _database.NoteFailure(ex);
+            if (_database.NoteFailure(ex))
+            {
+                _logger.LogDebug(ex, "Writing {Outcomes} outcomes and {States} fused states failed; retrying", _outcomes.Count, _states.Count);
+            }
+            else
+            {
+                _logger.LogWarning(ex, "Writing {Outcomes} outcomes and {States} fused states failed; retrying", _outcomes.Count, _states.Count);
+            }
             return false;
         }
         catch (ArgumentException ex)
