@@ -20,8 +20,15 @@ namespace FusionService.Tracking;
 /// </summary>
 public sealed class TrackWriteQueue : BackgroundService
 {
-    private readonly Channel<(IReadOnlyList<MeasurementOutcomeUpdate> Outcomes, IReadOnlyList<FusedStateRow> States)> _channel =
-        Channel.CreateUnbounded<(IReadOnlyList<MeasurementOutcomeUpdate>, IReadOnlyList<FusedStateRow>)>(new UnboundedChannelOptions { SingleReader = true });
+    private readonly Channel<(IReadOnlyList<MeasurementOutcomeUpdate> Outcomes, IReadOnlyList<FusedStateRow> States, long Ticket)> _channel =
+        Channel.CreateUnbounded<(IReadOnlyList<MeasurementOutcomeUpdate>, IReadOnlyList<FusedStateRow>, long)>(new UnboundedChannelOptions { SingleReader = true });
+
+    // Tickets number the Enqueue calls in channel order (taken under _enqueueGate); _readThrough is the newest ticket a
+    // flush has taken from the channel, _writtenThrough the newest whose rows (and every earlier one's) are written.
+    private readonly Lock _enqueueGate = new();
+    private long _tickets;
+    private long _readThrough;
+    private long _writtenThrough;
 
     private readonly FusionDatabase _database;
     private readonly TrackGrainOptions _options;
@@ -45,21 +52,65 @@ public sealed class TrackWriteQueue : BackgroundService
     /// <summary>Rows (outcome updates and fused states) queued and not yet written.</summary>
     public long QueuedRows => Interlocked.Read(ref _queuedRows);
 
-    /// <summary>Queues writes; never waits (see <see cref="WaitForRoomAsync"/> for the bound).</summary>
-    public void Enqueue(IReadOnlyList<MeasurementOutcomeUpdate> outcomes, IReadOnlyList<FusedStateRow> states)
+    /// <summary>The newest ticket whose rows, and those of every earlier ticket, are durably written.</summary>
+    public long WrittenThrough => Interlocked.Read(ref _writtenThrough);
+
+    /// <summary>The newest ticket handed out by <see cref="Enqueue"/> (0 before the first).</summary>
+    public long LastTicket => Interlocked.Read(ref _tickets);
+
+    /// <summary>
+    /// Queues writes; never waits (see <see cref="WaitForRoomAsync"/> for the bound). Returns the call's ticket: once
+    /// <see cref="WrittenThrough"/> reaches it, these rows and every row queued before them are stored.
+    /// </summary>
+    public long Enqueue(IReadOnlyList<MeasurementOutcomeUpdate> outcomes, IReadOnlyList<FusedStateRow> states)
     {
         ArgumentNullException.ThrowIfNull(outcomes);
         ArgumentNullException.ThrowIfNull(states);
         if (outcomes.Count == 0 && states.Count == 0)
         {
-            return;
+            return LastTicket;
         }
 
         Interlocked.Add(ref _queuedRows, outcomes.Count + states.Count);
-        if (!_channel.Writer.TryWrite((outcomes, states)))
+        lock (_enqueueGate)
         {
-            throw new InvalidOperationException("the track write queue is closed");
+            long ticket = Interlocked.Increment(ref _tickets);
+            if (!_channel.Writer.TryWrite((outcomes, states, ticket)))
+            {
+                throw new InvalidOperationException("the track write queue is closed");
+            }
+
+            return ticket;
         }
+    }
+
+    /// <summary>Completes with true once <see cref="WrittenThrough"/> reaches <paramref name="ticket"/>, false when <paramref name="cancellationToken"/> fires first.</summary>
+    public async Task<bool> WaitWrittenAsync(long ticket, CancellationToken cancellationToken)
+    {
+        while (WrittenThrough < ticket)
+        {
+            Task written;
+            lock (_roomGate)
+            {
+                written = _written.Task;
+            }
+
+            if (WrittenThrough >= ticket)
+            {
+                break;
+            }
+
+            try
+            {
+                await written.WaitAsync(cancellationToken).ConfigureAwait(false);
+            }
+            catch (OperationCanceledException) when (cancellationToken.IsCancellationRequested)
+            {
+                return false;
+            }
+        }
+
+        return true;
     }
 
     /// <summary>Completes when fewer than <see cref="TrackGrainOptions.WriteQueueCapacity"/> rows are queued.</summary>
@@ -111,11 +162,20 @@ public sealed class TrackWriteQueue : BackgroundService
         {
             _outcomes.AddRange(item.Outcomes);
             _states.AddRange(item.States);
+            _readThrough = item.Ticket;
         }
 
         // The two writes touch different tables: run them at once on two connections. Each list is cleared only
         // when its own write succeeded, so a failed one is retried with the same rows at the next flush.
         await Task.WhenAll(WriteOutcomesAsync(cancellationToken), WriteStatesAsync(cancellationToken)).ConfigureAwait(false);
+        AllWritten();
+    }
+
+    /// <summary>Every row taken from the channel so far is written (or dropped for good): move <see cref="WrittenThrough"/>.</summary>
+    private void AllWritten()
+    {
+        Interlocked.Exchange(ref _writtenThrough, _readThrough);
+        Signal();
     }
 
     private async Task WriteOutcomesAsync(CancellationToken cancellationToken)
@@ -141,6 +201,11 @@ public sealed class TrackWriteQueue : BackgroundService
     private void Written(int rows)
     {
         Interlocked.Add(ref _queuedRows, -rows);
+        Signal();
+    }
+
+    private void Signal()
+    {
         TaskCompletionSource done;
         lock (_roomGate)
         {
@@ -236,6 +301,7 @@ public sealed class TrackWriteQueue : BackgroundService
             Written(_outcomes.Count + _states.Count);
             _outcomes.Clear();
             _states.Clear();
+            AllWritten();
             return true;
         }
     }
