@@ -22,10 +22,17 @@ namespace FusionService.Storage.Cluster;
 /// <para>A <c>postmaster.pid</c> left by a crashed run is removed when no server uses the data directory any
 /// more, including the case where its PID now belongs to an unrelated process (PostgreSQL itself would refuse to
 /// start then).</para>
+/// <para>The process that started the server records itself (PID and start time) in <c>fusion-owner.pid</c> in the
+/// data directory. A server found running at start whose owner is gone (the owner was killed, so nothing stopped
+/// the server) is stopped with <c>pg_ctl stop -m fast</c> and a new one is started: never two servers on one data
+/// directory. A server whose owner lives, or whose owner is not recorded, is left alone and the start refused.</para>
 /// </remarks>
 public sealed class EmbeddedPostgres : IAsyncDisposable
 {
     private const string SuperUser = "postgres";
+
+    /// <summary>The file in the data directory naming the process that started the running server.</summary>
+    public const string OwnerFileName = "fusion-owner.pid";
     private const int MaxPortAttempts = 3;
     private static readonly TimeSpan ToolTimeout = TimeSpan.FromSeconds(120);
 
@@ -142,6 +149,7 @@ public sealed class EmbeddedPostgres : IAsyncDisposable
                 var started = await cluster.TryStartServerAsync(options, cancellationToken).ConfigureAwait(false);
                 if (started is null)
                 {
+                    WriteOwner(dataDirectory);
                     await cluster.EnsureDatabaseAsync(cancellationToken).ConfigureAwait(false);
                     return cluster;
                 }
@@ -200,6 +208,7 @@ public sealed class EmbeddedPostgres : IAsyncDisposable
 
             _running = false;
             AppDomain.CurrentDomain.ProcessExit -= OnProcessExit;
+            TryDeleteFile(Path.Combine(DataDirectory, OwnerFileName));
             TryDelete(_socketDirectory);
             StorageLog.ClusterStopped(_logger, DataDirectory);
         }
@@ -284,6 +293,32 @@ public sealed class EmbeddedPostgres : IAsyncDisposable
         // A live PID may have been reused by an unrelated process after a crash (common in containers, where
         // PIDs are small), so "alive" is confirmed by looking at the process's working directory.
         var users = ProcFs.ProcessesWorkingIn(dataDirectory);
+        if (status.ExitCode == 0 && pid is int orphan && users.Contains(orphan)
+            && ProcFs.CommandName(orphan) is "postgres" && DeadOwner(dataDirectory) is int deadOwner)
+        {
+            // The process that started this server was killed, so nothing will stop it: stop it now (a fast stop
+            // ends its sessions and writes a shutdown checkpoint), then start a server of our own as usual.
+            StorageLog.OrphanedServerStopping(logger, orphan, dataDirectory, deadOwner);
+            var stop = await ProcessRunner.RunAsync(
+                account, binaries.PgCtl, ["stop", "-D", dataDirectory, "-m", "fast", "-w"], ToolTimeout, cancellationToken).ConfigureAwait(false);
+            if (stop.ExitCode != 0)
+            {
+                throw new EmbeddedPostgresException(string.Create(
+                    CultureInfo.InvariantCulture,
+                    $"The PostgreSQL server (PID {orphan}) left on data directory '{dataDirectory}' by process {deadOwner}, which is gone, could not be stopped: {stop.Diagnostics}"));
+            }
+
+            TryDeleteFile(Path.Combine(dataDirectory, OwnerFileName));
+            users = ProcFs.ProcessesWorkingIn(dataDirectory);
+            if (users.Count == 0 && !File.Exists(pidFile))
+            {
+                return;
+            }
+
+            status = await ProcessRunner.RunAsync(
+                account, binaries.PgCtl, ["status", "-D", dataDirectory], ToolTimeout, cancellationToken).ConfigureAwait(false);
+        }
+
         if (status.ExitCode == 0 && pid is int alive && users.Contains(alive))
         {
             throw new EmbeddedPostgresException(string.Create(
@@ -303,6 +338,61 @@ public sealed class EmbeddedPostgres : IAsyncDisposable
 
         File.Delete(pidFile);
         StorageLog.StalePidFileRemoved(logger, pid ?? 0, dataDirectory);
+    }
+
+    /// <summary>Records this process as the one that started the server on <paramref name="dataDirectory"/>.</summary>
+    private static void WriteOwner(string dataDirectory)
+    {
+        int pid = Environment.ProcessId;
+        File.WriteAllText(
+            Path.Combine(dataDirectory, OwnerFileName),
+            string.Create(CultureInfo.InvariantCulture, $"{pid}\n{ProcFs.StartTime(pid)}\n"));
+    }
+
+    /// <summary>
+    /// The PID of the recorded owner of the server on <paramref name="dataDirectory"/> when that process is gone (no
+    /// process with that PID and start time), or null when it lives, or when no owner is recorded (unknown: left alone).
+    /// </summary>
+    private static int? DeadOwner(string dataDirectory)
+    {
+        string[] lines;
+        try
+        {
+            lines = File.ReadAllLines(Path.Combine(dataDirectory, OwnerFileName));
+        }
+        catch (IOException)
+        {
+            return null;
+        }
+        catch (UnauthorizedAccessException)
+        {
+            return null;
+        }
+
+        if (lines.Length < 2
+            || !int.TryParse(lines[0], NumberStyles.None, CultureInfo.InvariantCulture, out int owner)
+            || !long.TryParse(lines[1], NumberStyles.None, CultureInfo.InvariantCulture, out long started))
+        {
+            return null;
+        }
+
+        return ProcFs.StartTime(owner) == started ? null : owner;
+    }
+
+    private static void TryDeleteFile(string file)
+    {
+        try
+        {
+            File.Delete(file);
+        }
+        catch (IOException)
+        {
+            // Best effort: a stale owner file names a process that is gone, which reads as "no owner".
+        }
+        catch (UnauthorizedAccessException)
+        {
+            // Same.
+        }
     }
 
     private static bool IsSettingName(string name) =>

@@ -24,6 +24,32 @@ internal static class ProcFs
         }
     }
 
+    /// <summary>
+    /// When process <paramref name="pid"/> started, in clock ticks after boot (field 22 of <c>/proc/PID/stat</c>,
+    /// proc(5)), or null. A PID with the same start time is the same process, not a later one that reused the number.
+    /// </summary>
+    public static long? StartTime(int pid)
+    {
+        string stat;
+        try
+        {
+            stat = File.ReadAllText(Path.Combine("/proc", pid.ToString(CultureInfo.InvariantCulture), "stat"));
+        }
+        catch (IOException)
+        {
+            return null;
+        }
+        catch (UnauthorizedAccessException)
+        {
+            return null;
+        }
+
+        // The command name (field 2) is in parentheses and may hold spaces: count fields after its closing one.
+        int close = stat.LastIndexOf(')');
+        var fields = close < 0 ? [] : stat[(close + 1)..].Split(' ', StringSplitOptions.RemoveEmptyEntries);
+        return fields.Length > 19 && long.TryParse(fields[19], NumberStyles.None, CultureInfo.InvariantCulture, out long ticks) ? ticks : null;
+    }
+
     /// <summary>The working directory of process <paramref name="pid"/>, or null when it cannot be read.</summary>
     public static string? WorkingDirectory(int pid)
     {

@@ -22,6 +22,10 @@ internal static partial class StorageLog
         Message = "Removed stale postmaster.pid (PID {Pid}, no server running) from {DataDirectory}")]
     public static partial void StalePidFileRemoved(ILogger logger, int pid, string dataDirectory);
 
+    [LoggerMessage(EventId = 4106, Level = LogLevel.Warning,
+        Message = "Stopping PostgreSQL (PID {Pid}) left running on {DataDirectory} by process {OwnerPid}, which is gone")]
+    public static partial void OrphanedServerStopping(ILogger logger, int pid, string dataDirectory, int ownerPid);
+
     [LoggerMessage(EventId = 4104, Level = LogLevel.Information, Message = "Created database {Database}")]
     public static partial void DatabaseCreated(ILogger logger, string database);
 

@@ -18,6 +18,20 @@ public sealed class MeasurementRepository(NpgsqlDataSource dataSource)
         ORDER BY time_us, kind, message_key
         """;
 
+    // Stored rows among the given keys that no verdict has judged yet (measured_at is given for partition pruning).
+    private const string PendingSql = """
+        SELECT m.fleet_id, m.vehicle_id, m.kind, m.time_us, m.message_key
+        FROM unnest($1::uuid[], $2::text[], $3::smallint[], $4::bigint[], $5::bigint[], $6::timestamptz[])
+             AS k(fleet_id, vehicle_id, kind, time_us, message_key, measured_at)
+        JOIN measurements m ON m.fleet_id = k.fleet_id AND m.vehicle_id = k.vehicle_id AND m.kind = k.kind
+             AND m.time_us = k.time_us AND m.message_key = k.message_key AND m.measured_at = k.measured_at
+        WHERE m.outcome = 4
+          AND NOT EXISTS (
+              SELECT 1 FROM measurement_verdicts d
+              WHERE d.fleet_id = m.fleet_id AND d.vehicle_id = m.vehicle_id AND d.time_us = m.time_us
+                AND d.kind = m.kind AND d.message_key = m.message_key AND d.measured_at = m.measured_at)
+        """;
+
     private readonly NpgsqlDataSource _dataSource = dataSource ?? throw new ArgumentNullException(nameof(dataSource));
 
     /// <summary>
@@ -47,5 +61,45 @@ public sealed class MeasurementRepository(NpgsqlDataSource dataSource)
                 new CommandDefinition(RangeSql, parameters, cancellationToken: cancellationToken)).ConfigureAwait(false);
             return rows.AsList();
         }
+    }
+
+    /// <summary>
+    /// The keys among <paramref name="keys"/> whose stored measurement has no verdict yet (outcome pending): stored
+    /// by a commit whose delivery to the track was lost (for example a COMMIT that reached the server while the
+    /// client saw it fail, and was then resent as a duplicate).
+    /// </summary>
+    /// <param name="keys">Keys of stored measurements (any fleet or vehicle).</param>
+    /// <param name="cancellationToken">Cancels the query.</param>
+    /// <returns>The pending ones among them.</returns>
+    public async Task<HashSet<MeasurementKey>> PendingAmongAsync(IReadOnlyCollection<MeasurementKey> keys, CancellationToken cancellationToken = default)
+    {
+        ArgumentNullException.ThrowIfNull(keys);
+        var pending = new HashSet<MeasurementKey>();
+        if (keys.Count == 0)
+        {
+            return pending;
+        }
+
+        var connection = await _dataSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
+        await using (connection.ConfigureAwait(false))
+        {
+            await using var command = new NpgsqlCommand(PendingSql, connection);
+            command.Parameters.Add(new NpgsqlParameter { Value = keys.Select(k => k.FleetId).ToArray() });
+            command.Parameters.Add(new NpgsqlParameter { Value = keys.Select(k => k.VehicleId).ToArray() });
+            command.Parameters.Add(new NpgsqlParameter { Value = keys.Select(k => k.Kind).ToArray() });
+            command.Parameters.Add(new NpgsqlParameter { Value = keys.Select(k => k.TimeUs).ToArray() });
+            command.Parameters.Add(new NpgsqlParameter { Value = keys.Select(k => k.MessageKey).ToArray() });
+            command.Parameters.Add(new NpgsqlParameter { Value = keys.Select(k => UnixMicroseconds.ToDateTimeUtc(k.TimeUs)).ToArray() });
+            var reader = await command.ExecuteReaderAsync(cancellationToken).ConfigureAwait(false);
+            await using (reader.ConfigureAwait(false))
+            {
+                while (await reader.ReadAsync(cancellationToken).ConfigureAwait(false))
+                {
+                    pending.Add(new MeasurementKey(reader.GetGuid(0), reader.GetString(1), reader.GetInt16(2), reader.GetInt64(3), reader.GetInt64(4)));
+                }
+            }
+        }
+
+        return pending;
     }
 }

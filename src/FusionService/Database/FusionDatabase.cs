@@ -24,6 +24,9 @@ public sealed class FusionDatabase : IAsyncDisposable
     private readonly ILogger<FusionDatabase> _logger;
     private EmbeddedPostgres? _embedded;
     private NpgsqlDataSource? _dataSource;
+    private int _down;
+    private long _downSince;
+    private long _failuresWhileDown;
 
     /// <summary>Creates the (not yet started) store.</summary>
     public FusionDatabase(IConfiguration configuration, IOptions<DatabaseOptions> options, ILoggerFactory loggerFactory)
@@ -145,10 +148,14 @@ public sealed class FusionDatabase : IAsyncDisposable
 
     /// <summary>
     /// Call when a database operation failed: after a connection-level failure (server restarted, network cut) the
-    /// pooled idle connections are dead too, so the pool is cleared and the next attempt opens fresh ones.
+    /// pooled idle connections are dead too, so the pool is cleared and the next attempt opens fresh ones. The first
+    /// connection-level failure after the store last answered logs one warning (the reason, no stack trace); further
+    /// failures log nothing until <see cref="NoteSuccess"/> logs that it answers again: one line per state change.
     /// </summary>
-    public void NoteFailure(Exception exception)
+    /// <returns>True when the failure was connection-level (the outage is logged here; callers need not log it).</returns>
+    public bool NoteFailure(Exception exception)
     {
+        ArgumentNullException.ThrowIfNull(exception);
         bool connectionLevel = exception switch
         {
             PostgresException pg => pg.SqlState.StartsWith("08", StringComparison.Ordinal) || pg.SqlState.StartsWith("57P", StringComparison.Ordinal),
@@ -158,8 +165,34 @@ public sealed class FusionDatabase : IAsyncDisposable
         if (connectionLevel)
         {
             _dataSource?.Clear();
+            Interlocked.Increment(ref _failuresWhileDown);
+            if (Interlocked.CompareExchange(ref _down, 1, 0) == 0)
+            {
+                _downSince = System.Diagnostics.Stopwatch.GetTimestamp();
+                Interlocked.Exchange(ref _failuresWhileDown, 1);
+                _logger.LogWarning(
+                    "The database is unavailable ({Reason}); requests that need it are answered 503 and background writes retry. The next line comes when it answers again",
+                    exception.GetBaseException().Message);
+            }
+        }
+
+        return connectionLevel;
+    }
+
+    /// <summary>Call when a database operation succeeded: ends an outage noted by <see cref="NoteFailure"/> with one log line.</summary>
+    public void NoteSuccess()
+    {
+        if (Volatile.Read(ref _down) == 1 && Interlocked.Exchange(ref _down, 0) == 1)
+        {
+            _logger.LogInformation(
+                "The database answers again after {DownS:F1} s ({Failures} failed operations meanwhile)",
+                System.Diagnostics.Stopwatch.GetElapsedTime(_downSince).TotalSeconds,
+                Interlocked.Read(ref _failuresWhileDown));
         }
     }
+
+    /// <summary>True between a connection-level failure and the next success.</summary>
+    public bool IsDown => Volatile.Read(ref _down) == 1;
 
     /// <summary>Closes the data source and stops the embedded cluster (if this store started one).</summary>
     public async Task StopAsync(CancellationToken cancellationToken)

@@ -149,8 +149,15 @@ public sealed class GroupCommitWriter : BackgroundService
         }
         catch (Exception ex) when (ex is not OperationCanceledException || !cancellationToken.IsCancellationRequested)
         {
-            _logger.LogWarning(ex, "Group commit of {Rows} rows from {Requests} requests failed", rowCount, batch.Count);
-            _database.NoteFailure(ex);
+            // A database outage is logged once by the store (down, then up again), not once per failed commit.
+            if (_database.NoteFailure(ex))
+            {
+                _logger.LogDebug(ex, "Group commit of {Rows} rows from {Requests} requests failed", rowCount, batch.Count);
+            }
+            else
+            {
+                _logger.LogWarning(ex, "Group commit of {Rows} rows from {Requests} requests failed", rowCount, batch.Count);
+            }
             foreach (var request in batch)
             {
                 request.Completion.TrySetException(new ServiceUnavailableException("the database is unavailable", ex));
@@ -159,6 +166,7 @@ public sealed class GroupCommitWriter : BackgroundService
             return;
         }
 
+        _database.NoteSuccess();
         long sequence = _clock.Advance();
         _metrics.ObserveCommit(watch.Elapsed.TotalSeconds, rowCount);
         foreach (var request in batch)

@@ -15,7 +15,8 @@ namespace FusionService.Ingest;
 /// The ingest path shared by HTTP and WebSocket: validates each message on its own, commits the valid ones through
 /// the <see cref="GroupCommitWriter"/>, answers accepted / duplicate / rejected per message, and hands the newly
 /// stored measurements to their vehicles' track grains through the <see cref="TrackDispatcher"/> (answering after the
-/// commit or after the tracks too, by <see cref="IngestOptions.AcknowledgeAfter"/>).
+/// commit or after the tracks too, by <see cref="IngestOptions.AcknowledgeAfter"/>). A duplicate whose stored outcome
+/// is still pending (its first commit's answer was lost) is handed to its track too.
 /// </summary>
 public sealed class IngestPipeline(
     GroupCommitWriter writer,
@@ -24,7 +25,8 @@ public sealed class IngestPipeline(
     IOptions<DatabaseOptions> database,
     ServiceMetrics metrics,
     TimeProvider time,
-    DuplicateCounter duplicates)
+    DuplicateCounter duplicates,
+    FusionDatabase store)
 {
     /// <summary>A parser with the accepted time window as of now.</summary>
     public TelemetryMessageParser CreateParser()
@@ -106,6 +108,7 @@ public sealed class IngestPipeline(
 
         metrics.CountMessages(accepted, duplicate, rejected);
         await duplicates.RecordAsync(fleetId, repeated).ConfigureAwait(false);
+        await AddPendingAsync(fleetId, repeated, received, fresh).ConfigureAwait(false);
         var processed = await tracks.DispatchAsync(fleetId, fresh, sequence).ConfigureAwait(false);
         if (options.Value.AcknowledgeAfter == AcknowledgeAfter.Tracking)
         {
@@ -113,6 +116,56 @@ public sealed class IngestPipeline(
         }
 
         return new IngestResponse(accepted, duplicate, rejected, results!);
+    }
+
+    /// <summary>
+    /// Adds to <paramref name="fresh"/> the measurements of resent messages whose stored outcome is still pending:
+    /// their first commit reached the server but its answer did not reach the client (503), so no track was handed
+    /// them then. A track that has them already answers a repeat as a duplicate.
+    /// </summary>
+    private async Task AddPendingAsync(Guid fleetId, List<ParsedMessage> repeated, DateTime received, Dictionary<string, List<TrackMeasurement>> fresh)
+    {
+        if (repeated.Count == 0)
+        {
+            return;
+        }
+
+        var keys = new List<MeasurementKey>();
+        foreach (var message in repeated)
+        {
+            foreach (var m in message.Measurements)
+            {
+                keys.Add(MeasurementKey.Of(ToRow(fleetId, message.VehicleId, m, received)));
+            }
+        }
+
+        HashSet<MeasurementKey> pending;
+        try
+        {
+            pending = await new MeasurementRepository(store.DataSource).PendingAmongAsync(keys).ConfigureAwait(false);
+        }
+        catch (Npgsql.NpgsqlException ex)
+        {
+            // The duplicate answer is still right; the pending rows are judged when the track next activates.
+            store.NoteFailure(ex);
+            return;
+        }
+
+        foreach (var message in repeated)
+        {
+            foreach (var m in message.Measurements)
+            {
+                if (pending.Contains(MeasurementKey.Of(ToRow(fleetId, message.VehicleId, m, received))))
+                {
+                    if (!fresh.TryGetValue(message.VehicleId, out var list))
+                    {
+                        fresh[message.VehicleId] = list = [];
+                    }
+
+                    list.Add(TrackMeasurement.From(m));
+                }
+            }
+        }
     }
 
     private static IReadOnlyList<DroppedField>? Dropped(ParsedMessage message) =>

@@ -37,6 +37,13 @@ public sealed class TrackGrainOptions
     [Range(1, 60_000)]
     public int FlushIntervalMs { get; set; } = 50;
 
+    /// <summary>
+    /// Seconds a stop spends writing the queued outcome and fused-state rows, retrying while the store refuses.
+    /// Default 10.
+    /// </summary>
+    [Range(0.1, 600)]
+    public double DrainTimeoutS { get; set; } = 10;
+
     /// <summary>Largest number of track grains reading or writing the store at once (restores, checkpoints). Default 8.</summary>
     [Range(1, 1000)]
     public int MaxConcurrentStoreCalls { get; set; } = 8;

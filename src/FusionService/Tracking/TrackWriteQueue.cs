@@ -14,13 +14,21 @@ namespace FusionService.Tracking;
 /// Grains never wait here (a grain call that waits can outlive Orleans' response timeout and have later calls
 /// dropped); the bound is kept one step earlier: the <see cref="TrackDispatcher"/> waits in
 /// <see cref="WaitForRoomAsync"/> while more than <see cref="TrackGrainOptions.WriteQueueCapacity"/> rows are
-/// queued. A failed write is retried with the same rows; at shutdown the queue is drained. Register it before the
+/// queued. A failed write is retried with the same rows; a stop drains the queue however the loop ended (a
+/// write in progress is finished, not cancelled, then every queued row is written, retrying while the store refuses). Register it before the
 /// Orleans silo, so it stops after the grains have deactivated.
 /// </summary>
 public sealed class TrackWriteQueue : BackgroundService
 {
-    private readonly Channel<(IReadOnlyList<MeasurementOutcomeUpdate> Outcomes, IReadOnlyList<FusedStateRow> States)> _channel =
-        Channel.CreateUnbounded<(IReadOnlyList<MeasurementOutcomeUpdate>, IReadOnlyList<FusedStateRow>)>(new UnboundedChannelOptions { SingleReader = true });
+    private readonly Channel<(IReadOnlyList<MeasurementOutcomeUpdate> Outcomes, IReadOnlyList<FusedStateRow> States, long Ticket)> _channel =
+        Channel.CreateUnbounded<(IReadOnlyList<MeasurementOutcomeUpdate>, IReadOnlyList<FusedStateRow>, long)>(new UnboundedChannelOptions { SingleReader = true });
+
+    // Tickets number the Enqueue calls in channel order (taken under _enqueueGate); _readThrough is the newest ticket a
+    // flush has taken from the channel, _writtenThrough the newest whose rows (and every earlier one's) are written.
+    private readonly Lock _enqueueGate = new();
+    private long _tickets;
+    private long _readThrough;
+    private long _writtenThrough;
 
     private readonly FusionDatabase _database;
     private readonly TrackGrainOptions _options;
@@ -44,21 +52,65 @@ public sealed class TrackWriteQueue : BackgroundService
     /// <summary>Rows (outcome updates and fused states) queued and not yet written.</summary>
     public long QueuedRows => Interlocked.Read(ref _queuedRows);
 
-    /// <summary>Queues writes; never waits (see <see cref="WaitForRoomAsync"/> for the bound).</summary>
-    public void Enqueue(IReadOnlyList<MeasurementOutcomeUpdate> outcomes, IReadOnlyList<FusedStateRow> states)
+    /// <summary>The newest ticket whose rows, and those of every earlier ticket, are durably written.</summary>
+    public long WrittenThrough => Interlocked.Read(ref _writtenThrough);
+
+    /// <summary>The newest ticket handed out by <see cref="Enqueue"/> (0 before the first).</summary>
+    public long LastTicket => Interlocked.Read(ref _tickets);
+
+    /// <summary>
+    /// Queues writes; never waits (see <see cref="WaitForRoomAsync"/> for the bound). Returns the call's ticket: once
+    /// <see cref="WrittenThrough"/> reaches it, these rows and every row queued before them are stored.
+    /// </summary>
+    public long Enqueue(IReadOnlyList<MeasurementOutcomeUpdate> outcomes, IReadOnlyList<FusedStateRow> states)
     {
         ArgumentNullException.ThrowIfNull(outcomes);
         ArgumentNullException.ThrowIfNull(states);
         if (outcomes.Count == 0 && states.Count == 0)
         {
-            return;
+            return LastTicket;
         }
 
         Interlocked.Add(ref _queuedRows, outcomes.Count + states.Count);
-        if (!_channel.Writer.TryWrite((outcomes, states)))
+        lock (_enqueueGate)
         {
-            throw new InvalidOperationException("the track write queue is closed");
+            long ticket = Interlocked.Increment(ref _tickets);
+            if (!_channel.Writer.TryWrite((outcomes, states, ticket)))
+            {
+                throw new InvalidOperationException("the track write queue is closed");
+            }
+
+            return ticket;
         }
+    }
+
+    /// <summary>Completes with true once <see cref="WrittenThrough"/> reaches <paramref name="ticket"/>, false when <paramref name="cancellationToken"/> fires first.</summary>
+    public async Task<bool> WaitWrittenAsync(long ticket, CancellationToken cancellationToken)
+    {
+        while (WrittenThrough < ticket)
+        {
+            Task written;
+            lock (_roomGate)
+            {
+                written = _written.Task;
+            }
+
+            if (WrittenThrough >= ticket)
+            {
+                break;
+            }
+
+            try
+            {
+                await written.WaitAsync(cancellationToken).ConfigureAwait(false);
+            }
+            catch (OperationCanceledException) when (cancellationToken.IsCancellationRequested)
+            {
+                return false;
+            }
+        }
+
+        return true;
     }
 
     /// <summary>Completes when fewer than <see cref="TrackGrainOptions.WriteQueueCapacity"/> rows are queued.</summary>
@@ -110,11 +162,20 @@ public sealed class TrackWriteQueue : BackgroundService
         {
             _outcomes.AddRange(item.Outcomes);
             _states.AddRange(item.States);
+            _readThrough = item.Ticket;
         }
 
         // The two writes touch different tables: run them at once on two connections. Each list is cleared only
         // when its own write succeeded, so a failed one is retried with the same rows at the next flush.
         await Task.WhenAll(WriteOutcomesAsync(cancellationToken), WriteStatesAsync(cancellationToken)).ConfigureAwait(false);
+        AllWritten();
+    }
+
+    /// <summary>Every row taken from the channel so far is written (or dropped for good): move <see cref="WrittenThrough"/>.</summary>
+    private void AllWritten()
+    {
+        Interlocked.Exchange(ref _writtenThrough, _readThrough);
+        Signal();
     }
 
     private async Task WriteOutcomesAsync(CancellationToken cancellationToken)
@@ -140,6 +201,11 @@ public sealed class TrackWriteQueue : BackgroundService
     private void Written(int rows)
     {
         Interlocked.Add(ref _queuedRows, -rows);
+        Signal();
+    }
+
+    private void Signal()
+    {
         TaskCompletionSource done;
         lock (_roomGate)
         {
@@ -153,31 +219,80 @@ public sealed class TrackWriteQueue : BackgroundService
     /// <inheritdoc />
     protected override async Task ExecuteAsync(CancellationToken stoppingToken)
     {
-        try
+        while (!stoppingToken.IsCancellationRequested)
         {
-            while (!stoppingToken.IsCancellationRequested)
+            try
             {
                 await Task.Delay(_options.FlushIntervalMs, stoppingToken).ConfigureAwait(false);
-                await FlushOnceAsync(stoppingToken).ConfigureAwait(false);
             }
+            catch (OperationCanceledException)
+            {
+                break;
+            }
+
+            // A write in progress is never cut short by the stop: a cancelled COPY can surface as an Npgsql or IO
+            // error rather than a cancellation, and the rows must be drained below either way.
+            await FlushOnceAsync(CancellationToken.None).ConfigureAwait(false);
         }
-        catch (OperationCanceledException) when (stoppingToken.IsCancellationRequested)
+
+        await DrainAsync().ConfigureAwait(false);
+    }
+
+    /// <summary>
+    /// Writes everything still queued at a stop, retrying for up to <see cref="TrackGrainOptions.DrainTimeoutS"/>
+    /// while the store refuses. Rows still unwritten after that are logged; their measurements stay pending in the
+    /// store and are judged again when their track next activates.
+    /// </summary>
+    private async Task DrainAsync()
+    {
+        using var drain = new CancellationTokenSource(TimeSpan.FromSeconds(_options.DrainTimeoutS));
+        while (QueuedRows > 0 && !drain.IsCancellationRequested)
         {
-            using var drain = new CancellationTokenSource(TimeSpan.FromSeconds(10));
-            await FlushOnceAsync(drain.Token).ConfigureAwait(false);
+            if (await FlushOnceAsync(drain.Token).ConfigureAwait(false))
+            {
+                continue;
+            }
+
+            await Task.Delay(Math.Max(_options.FlushIntervalMs, 100), drain.Token).ConfigureAwait(ConfigureAwaitOptions.SuppressThrowing);
+        }
+
+        if (QueuedRows > 0)
+        {
+            _logger.LogError(
+                "Stopped with {Rows} outcome and fused-state rows unwritten; their measurements are judged again when their tracks activate",
+                QueuedRows);
         }
     }
 
-    private async Task FlushOnceAsync(CancellationToken cancellationToken)
+    /// <summary>One flush; false when it failed (logged, rows kept for the next one).</summary>
+    private async Task<bool> FlushOnceAsync(CancellationToken cancellationToken)
     {
+        bool writing = QueuedRows > 0;
         try
         {
             await FlushAsync(cancellationToken).ConfigureAwait(false);
+            if (writing)
+            {
+                _database.NoteSuccess();
+            }
+
+            return true;
+        }
+        catch (OperationCanceledException) when (cancellationToken.IsCancellationRequested)
+        {
+            return false;
         }
         catch (Exception ex) when (ex is Npgsql.NpgsqlException or InvalidOperationException or TimeoutException or IOException)
         {
-            _logger.LogWarning(ex, "Writing {Outcomes} outcomes and {States} fused states failed; retrying", _outcomes.Count, _states.Count);
-            _database.NoteFailure(ex);
+            if (_database.NoteFailure(ex))
+            {
+                _logger.LogDebug(ex, "Writing {Outcomes} outcomes and {States} fused states failed; retrying", _outcomes.Count, _states.Count);
+            }
+            else
+            {
+                _logger.LogWarning(ex, "Writing {Outcomes} outcomes and {States} fused states failed; retrying", _outcomes.Count, _states.Count);
+            }
+            return false;
         }
         catch (ArgumentException ex)
         {
@@ -186,6 +301,8 @@ public sealed class TrackWriteQueue : BackgroundService
             Written(_outcomes.Count + _states.Count);
             _outcomes.Clear();
             _states.Clear();
+            AllWritten();
+            return true;
         }
     }
 }

@@ -20,7 +20,8 @@ namespace FusionService.Tracking;
 /// re-processes the stored measurements after it in canonical order (skipping those stored as too late), which
 /// gives the state an uninterrupted track would have. Each batch emits fused states (at every GNSS position epoch
 /// and at least every <see cref="TrackGrainOptions.FusedStateIntervalS"/> of data time) and outcome updates to the
-/// <see cref="TrackWriteQueue"/>; the base checkpoint is stored periodically and at deactivation.
+/// <see cref="TrackWriteQueue"/>; the base checkpoint is stored periodically and at deactivation, each time only after
+/// the queue has written every verdict and fused state queued before it.
 /// </summary>
 internal sealed class VehicleTrackGrain(
     TrackProcessor processor,
@@ -51,6 +52,12 @@ internal sealed class VehicleTrackGrain(
     private DateTimeOffset _lastPersistAt;
     private VehicleAlertMonitor? _monitor;
     private bool _stale;
+
+    // The write-queue ticket of this grain's newest rows, and a base checkpoint taken when one was due, kept until the
+    // verdicts and fused states it covers are written (a checkpoint stored before them would, after a crash, make the
+    // restore skip measurements whose verdicts were lost, leaving them pending for good).
+    private long _lastTicket;
+    private (TrackState State, Measurement Last, long Ticket)? _candidate;
 
     // Commits of this process up to this number were finished before the restore read the store, so it holds them.
     private long _restoredThrough;
@@ -151,9 +158,22 @@ internal sealed class VehicleTrackGrain(
 
         FlushWrites();
         await (_monitor?.FlushAsync(live: true, time.GetUtcNow()) ?? Task.CompletedTask);
-        if ((time.GetUtcNow() - _lastPersistAt).TotalSeconds >= options.Value.CheckpointIntervalS || HistoryCheckpointDue())
+        if (_candidate is { } ready && writes.WrittenThrough >= ready.Ticket)
         {
-            await PersistCheckpointAsync();
+            _candidate = null;
+            await StoreCheckpointAsync(ready.State, ready.Last);
+        }
+
+        if (_candidate is null && !_stale
+            && ((time.GetUtcNow() - _lastPersistAt).TotalSeconds >= options.Value.CheckpointIntervalS || HistoryCheckpointDue()))
+        {
+            // Due: take the base checkpoint now, store it once the rows it covers are written (never waiting here).
+            _lastPersistAt = time.GetUtcNow();
+            var (state, last) = _track.BaseCheckpoint;
+            if (last is { } lastMeasurement && lastMeasurement.TimeUs != _lastPersistedUs)
+            {
+                _candidate = (state, lastMeasurement, _lastTicket);
+            }
         }
     }
 
@@ -186,6 +206,7 @@ internal sealed class VehicleTrackGrain(
     public async Task RebuildAsync(long fromUs)
     {
         _stale = true;
+        _candidate = null;
         _outcomes.Clear();
         _states.Clear();
         DeactivateOnIdle();
@@ -204,9 +225,35 @@ internal sealed class VehicleTrackGrain(
             return;
         }
 
+        FlushWrites();
         var (state, last) = _track.BaseCheckpoint;
         _lastPersistAt = time.GetUtcNow();
         if (last is not { } lastMeasurement || lastMeasurement.TimeUs == _lastPersistedUs)
+        {
+            return;
+        }
+
+        // Only after the verdicts and fused states the checkpoint covers are stored.
+        using var wait = new CancellationTokenSource(TimeSpan.FromSeconds(options.Value.DrainTimeoutS));
+        if (!await writes.WaitWrittenAsync(_lastTicket, wait.Token))
+        {
+            logger.LogInformation("Track {Key} stores no checkpoint: its verdicts are not written yet", this.GetPrimaryKeyString());
+            return;
+        }
+
+        // A checkpoint taken earlier and still waiting goes first: it may be one kept as history.
+        if (_candidate is { } earlier)
+        {
+            _candidate = null;
+            await StoreCheckpointAsync(earlier.State, earlier.Last);
+        }
+
+        await StoreCheckpointAsync(state, lastMeasurement);
+    }
+
+    private async Task StoreCheckpointAsync(TrackState state, Measurement lastMeasurement)
+    {
+        if (_stale || lastMeasurement.TimeUs == _lastPersistedUs)
         {
             return;
         }
@@ -330,7 +377,7 @@ internal sealed class VehicleTrackGrain(
             return;
         }
 
-        writes.Enqueue([.. _outcomes], [.. _states]);
+        _lastTicket = writes.Enqueue([.. _outcomes], [.. _states]);
         _outcomes.Clear();
         _states.Clear();
     }

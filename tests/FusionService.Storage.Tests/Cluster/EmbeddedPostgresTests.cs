@@ -93,6 +93,63 @@ public sealed class EmbeddedPostgresTests
     }
 
     [Fact]
+    public async Task Issue13_a_server_left_running_by_a_killed_owner_is_stopped_and_a_new_one_starts()
+    {
+        // The owner is a real process that is killed with SIGKILL while its server runs, as after kill -9 of the
+        // service: the server outlives it. The next start must stop that server and start its own.
+        var dataDirectory = NewDataDirectoryPath();
+        var first = await EmbeddedPostgres.StartAsync(Persistent(dataDirectory));
+        EmbeddedPostgres? second = null;
+        using var owner = StartSleeperAsClusterAccount(out var ownerPid);
+        try
+        {
+            await ExecuteAsync(first.ConnectionString, "CREATE TABLE kept (id int); INSERT INTO kept VALUES (13)");
+            NpgsqlConnection.ClearAllPools();
+            var ownerStart = File.ReadAllLines("/proc/" + ownerPid.ToString(CultureInfo.InvariantCulture) + "/stat")[0];
+            string startTicks = ownerStart[(ownerStart.LastIndexOf(')') + 2)..].Split(' ')[19];
+            await File.WriteAllTextAsync(
+                Path.Combine(dataDirectory, EmbeddedPostgres.OwnerFileName),
+                ownerPid.ToString(CultureInfo.InvariantCulture) + "\n" + startTicks + "\n");
+            int orphanPid = int.Parse(File.ReadLines(Path.Combine(dataDirectory, "postmaster.pid")).First(), CultureInfo.InvariantCulture);
+
+            // While the recorded owner lives, the server is its and the start is refused.
+            var refused = await Assert.ThrowsAsync<EmbeddedPostgresException>(() => EmbeddedPostgres.StartAsync(Persistent(dataDirectory)));
+            Assert.Contains("already running", refused.Message, StringComparison.Ordinal);
+
+            // SIGKILL to the recorded process itself (under runuser it is the child, not the runuser process).
+            using (var recorded = Process.GetProcessById(ownerPid))
+            {
+                recorded.Kill();
+                await recorded.WaitForExitAsync();
+            }
+
+            await owner.WaitForExitAsync();
+            second = await EmbeddedPostgres.StartAsync(Persistent(dataDirectory));
+
+            Assert.Equal(13, await ScalarAsync<int>(second.ConnectionString, "SELECT id FROM kept"));
+            Assert.True(Exited(orphanPid), "the orphaned server was stopped");
+            Assert.NotEqual(orphanPid, int.Parse(File.ReadLines(Path.Combine(dataDirectory, "postmaster.pid")).First(), CultureInfo.InvariantCulture));
+            Assert.NotEqual(first.Port, second.Port);
+            Assert.False(Listening(first.Port));
+            var ownerLines = File.ReadAllLines(Path.Combine(dataDirectory, EmbeddedPostgres.OwnerFileName));
+            Assert.Equal(Environment.ProcessId.ToString(CultureInfo.InvariantCulture), ownerLines[0]);
+        }
+        finally
+        {
+            if (second is not null)
+            {
+                await second.DisposeAsync();
+            }
+
+            owner.Kill(entireProcessTree: true);
+
+            // The first handle's server is gone (stopped above); disposing it must not touch anything else.
+            await first.DisposeAsync();
+            DeleteFolder(dataDirectory);
+        }
+    }
+
+    [Fact]
     public async Task A_second_start_on_a_running_cluster_is_refused()
     {
         var dataDirectory = NewDataDirectoryPath();
@@ -258,6 +315,20 @@ public sealed class EmbeddedPostgresTests
     }
 
     // A long-running process owned by the account the cluster runs under, whose PID we know.
+    /// <summary>Whether process <paramref name="pid"/> has ended: gone, or a zombie not yet reaped by its parent (proc(5): state Z).</summary>
+    private static bool Exited(int pid)
+    {
+        try
+        {
+            var stat = File.ReadAllText("/proc/" + pid.ToString(CultureInfo.InvariantCulture) + "/stat");
+            return stat[(stat.LastIndexOf(')') + 2)..].StartsWith('Z');
+        }
+        catch (IOException)
+        {
+            return true;
+        }
+    }
+
     private static Process StartSleeperAsClusterAccount(out int pid)
     {
         var account = ServiceAccount.Detect();
