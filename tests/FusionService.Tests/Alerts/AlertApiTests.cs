@@ -140,6 +140,8 @@ public sealed class AlertApiTests(ServiceFixture fixture)
         Assert.Equal(HttpStatusCode.Forbidden, (await ingest.GetAsync("/v1/alert-rules")).StatusCode);
         Assert.Equal(HttpStatusCode.Forbidden, (await ingest.PostAsync("/v1/alerts/" + Guid.NewGuid().ToString("D") + "/acknowledge", null)).StatusCode);
         Assert.Equal(HttpStatusCode.Forbidden, (await read.PostAsync("/v1/alerts/" + Guid.NewGuid().ToString("D") + "/acknowledge", null)).StatusCode);
+        Assert.Equal(HttpStatusCode.Forbidden, (await read.GetAsync("/v1/webhooks/" + Guid.NewGuid().ToString("D") + "/dead-letters")).StatusCode);
+        Assert.Equal(HttpStatusCode.Forbidden, (await read.PostAsync("/v1/webhooks/" + Guid.NewGuid().ToString("D") + "/dead-letters/requeue", null)).StatusCode);
         Assert.Equal(HttpStatusCode.Forbidden, (await read.GetAsync("/v1/webhooks")).StatusCode);
         Assert.Equal(HttpStatusCode.Forbidden, (await read.PostAsJsonAsync("/v1/webhooks", new { url = "https://example.invalid/", secret = "0123456789abcdef" })).StatusCode);
         Assert.Equal(HttpStatusCode.Forbidden, (await read.DeleteAsync("/v1/webhooks/" + Guid.NewGuid().ToString("D"))).StatusCode);
