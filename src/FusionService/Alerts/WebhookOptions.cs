@@ -63,7 +63,7 @@ public sealed class WebhookOptions
     [Range(1, 1000)]
     public int MaxPerFleet { get; set; } = 10;
 
-    /// <summary>Attempts per delivery before it is dead-lettered. Default 15 (about 3.7 h of retrying with the default delays).</summary>
+    /// <summary>Attempts per delivery before it is dead-lettered. Default 15 (with the default delays at least 4.1 h of retrying: 2 + 4 + ... + 2048 s, then 3 x 3600 s).</summary>
     [Range(1, 1000)]
     public int MaxAttempts { get; set; } = 15;
 
