@@ -190,6 +190,31 @@ public sealed class WebhookSafetyTests(ServiceFixture fixture)
     }
 
     [Fact]
+    public async Task Issue14_an_open_circuit_stops_attempts_to_a_failing_receiver_while_its_delivery_is_due()
+    {
+        var fleet = await fixture.NewFleetAsync();
+        using var receiver = new WebhookReceiver { Status = _ => 500 };
+        var settings = new Dictionary<string, string?>(WebhookDeliveryTests.Dispatching, StringComparer.Ordinal)
+        {
+            ["Webhooks:BaseDelayS"] = "0.1",
+            ["Webhooks:MaxDelayS"] = "0.1",
+            ["Webhooks:BreakerFailures"] = "2",
+            ["Webhooks:BreakerOpenS"] = "600",
+        };
+        await using var host = new ServiceFactory(fixture.ConnectionString, settings);
+        string id = await CreateAsync(fixture.Client(fleet.AdminKey, host), receiver.Url);
+        await AlertDrive.IngestAsync(fixture.Client(fleet.IngestKey, host), AlertDrive.WithJumps("van-breaker", seed: 1406));
+        await receiver.WaitForAsync(r => r.Length >= 2, TimeSpan.FromSeconds(40));
+
+        // Two failures open the circuit for 600 s: the rows fall due again after 0.1 s, yet no third request is made.
+        await Task.Delay(3000);
+        Assert.Equal(2, receiver.Requests.Count);
+        Assert.True(await fixture.CountAsync(
+            "SELECT count(*) FROM webhook_outbox WHERE webhook_id = $1 AND delivered_at IS NULL AND dead_lettered_at IS NULL AND next_attempt_at <= now()", Guid.Parse(id)) >= 1);
+        Assert.True(host.Services.GetRequiredService<WebhookDispatcher>().Breaker.IsOpen(Guid.Parse(id)));
+    }
+
+    [Fact]
     public async Task Issue14_delivered_rows_are_purged_after_the_keep_time_and_every_row_after_the_retention()
     {
         var fleet = await fixture.NewFleetAsync();
