@@ -12,7 +12,7 @@ namespace FusionService.Storage.Alerts;
 public sealed class AlertRepository
 {
     private const string Columns =
-        "alert_id, fleet_id, vehicle_id, kind, severity, state, started_at, ended_at, last_seen_at, count, summary, details::text, updated_at";
+        "alert_id, fleet_id, vehicle_id, kind, severity, state, started_at, ended_at, last_seen_at, count, summary, details::text, updated_at, acknowledged_at, acknowledged_by_key_id, acknowledged_by_label";
 
     private readonly NpgsqlDataSource _dataSource;
 
@@ -170,19 +170,20 @@ public sealed class AlertRepository
     }
 
     /// <summary>
-    /// Marks an open alert acknowledged (an acknowledged or resolved alert is returned unchanged). Null when the fleet
-    /// has no such alert.
+    /// Marks an open alert acknowledged by the API key <paramref name="keyId"/> (its id and current label are stored with
+    /// the time); an acknowledged or resolved alert is returned unchanged. Null when the fleet has no such alert.
     /// </summary>
-    public async Task<AlertRow?> AcknowledgeAsync(Guid fleetId, Guid alertId, CancellationToken cancellationToken = default)
+    public async Task<AlertRow?> AcknowledgeAsync(Guid fleetId, Guid alertId, Guid keyId, CancellationToken cancellationToken = default)
     {
         var connection = await _dataSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
         await using (connection.ConfigureAwait(false))
         {
             return await ReadOneAsync(
                 connection,
-                "UPDATE alerts SET state = CASE WHEN state = 'open' THEN 'acknowledged' ELSE state END, "
-                + "updated_at = CASE WHEN state = 'open' THEN now() ELSE updated_at END WHERE fleet_id = $1 AND alert_id = $2 RETURNING " + Columns,
-                [fleetId, alertId],
+                "UPDATE alerts SET state = 'acknowledged', updated_at = now(), acknowledged_at = now(), acknowledged_by_key_id = $3, "
+                + "acknowledged_by_label = (SELECT label FROM api_keys WHERE key_id = $3) "
+                + "WHERE fleet_id = $1 AND alert_id = $2 AND state = 'open' RETURNING " + Columns,
+                [fleetId, alertId, keyId],
                 cancellationToken).ConfigureAwait(false);
         }
     }
@@ -253,7 +254,10 @@ public sealed class AlertRepository
                 reader.GetInt32(9),
                 reader.GetString(10),
                 reader.GetString(11),
-                reader.GetFieldValue<DateTimeOffset>(12)));
+                reader.GetFieldValue<DateTimeOffset>(12),
+                reader.IsDBNull(13) ? null : reader.GetFieldValue<DateTimeOffset>(13),
+                reader.IsDBNull(14) ? null : reader.GetGuid(14),
+                reader.IsDBNull(15) ? null : reader.GetString(15)));
         }
 
         return list;

@@ -15,6 +15,9 @@ namespace FusionService.Storage.Alerts;
 /// <param name="Summary">One plain sentence.</param>
 /// <param name="DetailsJson">The numbers behind the alert as a JSON object.</param>
 /// <param name="UpdatedAt">Time of the last change (server clock).</param>
+/// <param name="AcknowledgedAt">When it was acknowledged (server clock); null if never.</param>
+/// <param name="AcknowledgedByKeyId">The API key that acknowledged it; null if never.</param>
+/// <param name="AcknowledgedByLabel">That key's label at the time; null if never.</param>
 public sealed record AlertRow(
     Guid AlertId,
     Guid FleetId,
@@ -28,4 +31,7 @@ public sealed record AlertRow(
     int Count,
     string Summary,
     string DetailsJson,
-    DateTimeOffset UpdatedAt);
+    DateTimeOffset UpdatedAt,
+    DateTimeOffset? AcknowledgedAt,
+    Guid? AcknowledgedByKeyId,
+    string? AcknowledgedByLabel);

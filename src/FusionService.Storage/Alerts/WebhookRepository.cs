@@ -3,7 +3,7 @@ using Npgsql;
 
 namespace FusionService.Storage.Alerts;
 
-/// <summary>Creates, lists and deletes <c>webhooks</c>; every call is scoped to one fleet.</summary>
+/// <summary>Creates, lists and deletes <c>webhooks</c>; every API call is scoped to one fleet.</summary>
 public sealed class WebhookRepository
 {
     private readonly NpgsqlDataSource _dataSource;
@@ -16,22 +16,81 @@ public sealed class WebhookRepository
         _dataSource = dataSource;
     }
 
-    /// <summary>Adds a subscription; <paramref name="secret"/> (16-200 characters) signs its deliveries.</summary>
-    public async Task<WebhookRow> CreateAsync(Guid fleetId, string url, string secret, CancellationToken cancellationToken = default)
+    /// <summary>
+    /// Adds a subscription whose signing secret is given already encrypted (<paramref name="protectedSecret"/>); null when
+    /// the fleet has <paramref name="maxPerFleet"/> subscriptions already (counted under a lock on the fleet's row, so
+    /// concurrent requests cannot pass the cap together).
+    /// </summary>
+    public async Task<WebhookRow?> CreateAsync(
+        Guid fleetId, string url, string protectedSecret, int maxPerFleet = int.MaxValue, CancellationToken cancellationToken = default)
     {
         ArgumentNullException.ThrowIfNull(url);
-        ArgumentNullException.ThrowIfNull(secret);
+        ArgumentNullException.ThrowIfNull(protectedSecret);
         var connection = await _dataSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
         await using (connection.ConfigureAwait(false))
         {
-            await using var command = new NpgsqlCommand(
-                "INSERT INTO webhooks (webhook_id, fleet_id, url, secret) VALUES ($1, $2, $3, $4) RETURNING webhook_id, fleet_id, url, created_at", connection);
-            command.Parameters.Add(new NpgsqlParameter { Value = Guid.CreateVersion7() });
-            command.Parameters.Add(new NpgsqlParameter { Value = fleetId });
-            command.Parameters.Add(new NpgsqlParameter { Value = url });
-            command.Parameters.Add(new NpgsqlParameter { Value = secret });
-            var rows = await ReadAsync(command, cancellationToken).ConfigureAwait(false);
-            return rows[0];
+            var transaction = await connection.BeginTransactionAsync(cancellationToken).ConfigureAwait(false);
+            await using (transaction.ConfigureAwait(false))
+            {
+                await using (var lockFleet = new NpgsqlCommand("SELECT 1 FROM fleets WHERE fleet_id = $1 FOR UPDATE", connection, transaction))
+                {
+                    lockFleet.Parameters.Add(new NpgsqlParameter { Value = fleetId });
+                    await lockFleet.ExecuteNonQueryAsync(cancellationToken).ConfigureAwait(false);
+                }
+
+                await using (var count = new NpgsqlCommand("SELECT count(*) FROM webhooks WHERE fleet_id = $1", connection, transaction))
+                {
+                    count.Parameters.Add(new NpgsqlParameter { Value = fleetId });
+                    long existing = (long)(await count.ExecuteScalarAsync(cancellationToken).ConfigureAwait(false) ?? 0L);
+                    if (existing >= maxPerFleet)
+                    {
+                        return null;
+                    }
+                }
+
+                await using var command = new NpgsqlCommand(
+                    "INSERT INTO webhooks (webhook_id, fleet_id, url, secret_protected) VALUES ($1, $2, $3, $4) RETURNING webhook_id, fleet_id, url, created_at",
+                    connection,
+                    transaction);
+                command.Parameters.Add(new NpgsqlParameter { Value = Guid.CreateVersion7() });
+                command.Parameters.Add(new NpgsqlParameter { Value = fleetId });
+                command.Parameters.Add(new NpgsqlParameter { Value = url });
+                command.Parameters.Add(new NpgsqlParameter { Value = protectedSecret });
+                var rows = await ReadAsync(command, cancellationToken).ConfigureAwait(false);
+                await transaction.CommitAsync(cancellationToken).ConfigureAwait(false);
+                return rows[0];
+            }
+        }
+    }
+
+    /// <summary>Subscriptions whose secret is still stored in plain text (written before migration 0009), as (id, secret).</summary>
+    public async Task<IReadOnlyList<(Guid WebhookId, string Secret)>> ListPlaintextSecretsAsync(CancellationToken cancellationToken = default)
+    {
+        var list = new List<(Guid, string)>();
+        var connection = await _dataSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
+        await using (connection.ConfigureAwait(false))
+        {
+            await using var command = new NpgsqlCommand("SELECT webhook_id, secret FROM webhooks WHERE secret IS NOT NULL", connection);
+            await using var reader = await command.ExecuteReaderAsync(cancellationToken).ConfigureAwait(false);
+            while (await reader.ReadAsync(cancellationToken).ConfigureAwait(false))
+            {
+                list.Add((reader.GetGuid(0), reader.GetString(1)));
+            }
+        }
+
+        return list;
+    }
+
+    /// <summary>Stores the encrypted secret of a subscription and clears its plain-text one.</summary>
+    public async Task ReplacePlaintextSecretAsync(Guid webhookId, string protectedSecret, CancellationToken cancellationToken = default)
+    {
+        var connection = await _dataSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
+        await using (connection.ConfigureAwait(false))
+        {
+            await using var command = new NpgsqlCommand("UPDATE webhooks SET secret_protected = $2, secret = NULL WHERE webhook_id = $1", connection);
+            command.Parameters.Add(new NpgsqlParameter { Value = webhookId });
+            command.Parameters.Add(new NpgsqlParameter { Value = protectedSecret });
+            await command.ExecuteNonQueryAsync(cancellationToken).ConfigureAwait(false);
         }
     }
 

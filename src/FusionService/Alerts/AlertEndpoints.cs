@@ -39,11 +39,12 @@ public static class AlertEndpoints
             .ProducesProblem(StatusCodes.Status403Forbidden);
         alerts.MapPost("/{id}/acknowledge", AcknowledgeAlert)
             .WithResponseExample(200, "alert-acknowledged.json")
-            .RequireApiKey(ApiKeyRole.Read, ApiKeyRole.Admin)
+            .RequireApiKey(ApiKeyRole.Admin)
             .WithName("AcknowledgeAlert")
             .WithSummary("Acknowledge an alert")
-            .WithDescription("Marks an open alert acknowledged and returns it (an acknowledged or resolved alert is returned unchanged). "
-                + "404 for an unknown id or another fleet's alert. Needs a read or admin key.")
+            .WithDescription("Marks an open alert acknowledged and returns it with 'acknowledged': {at, key_id, key_label} naming the key "
+                + "that did it (an acknowledged or resolved alert is returned unchanged). 404 for an unknown id or another fleet's alert. "
+                + "Needs an admin key: a read key can see alerts but not acknowledge them (403).")
             .ProducesProblem(StatusCodes.Status401Unauthorized)
             .ProducesProblem(StatusCodes.Status403Forbidden)
             .ProducesProblem(StatusCodes.Status404NotFound);
@@ -146,24 +147,16 @@ public static class AlertEndpoints
             return NotFound(id);
         }
 
-        var before = await new AlertRepository(database.DataSource).GetAsync(caller.FleetId, alertId, http.RequestAborted).ConfigureAwait(false);
-        if (before is null)
+        var changed = await new AlertRepository(database.DataSource).AcknowledgeAsync(caller.FleetId, alertId, caller.KeyId, http.RequestAborted).ConfigureAwait(false);
+        if (changed is null)
         {
-            return NotFound(id);
+            // Already acknowledged or resolved (possibly by a concurrent request): answered unchanged.
+            var now = await new AlertRepository(database.DataSource).GetAsync(caller.FleetId, alertId, http.RequestAborted).ConfigureAwait(false);
+            return now is null ? NotFound(id) : TypedResults.Ok(AlertResponse.From(now));
         }
 
-        var row = await new AlertRepository(database.DataSource).AcknowledgeAsync(caller.FleetId, alertId, http.RequestAborted).ConfigureAwait(false);
-        if (row is null)
-        {
-            return NotFound(id);
-        }
-
-        if (row.State != before.State)
-        {
-            publisher.Publish([row]);
-        }
-
-        return TypedResults.Ok(AlertResponse.From(row));
+        publisher.Publish([changed]);
+        return TypedResults.Ok(AlertResponse.From(changed));
     }
 
     /// <summary>Handles <c>GET /v1/alert-rules</c>.</summary>

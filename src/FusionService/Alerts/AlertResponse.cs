@@ -17,6 +17,7 @@ namespace FusionService.Alerts;
 /// <param name="Count">Occurrences grouped into the alert.</param>
 /// <param name="Summary">One plain sentence.</param>
 /// <param name="Details">The numbers behind it (kind-specific; units in the key names).</param>
+/// <param name="Acknowledged">Who acknowledged it and when; left out while nobody has.</param>
 public sealed record AlertResponse(
     Guid Id,
     Guid FleetId,
@@ -28,7 +29,8 @@ public sealed record AlertResponse(
     [property: JsonIgnore(Condition = JsonIgnoreCondition.Never)] DateTimeOffset? EndedAt,
     int Count,
     string Summary,
-    JsonElement Details)
+    JsonElement Details,
+    AlertAcknowledgement? Acknowledged = null)
 {
     /// <summary>The response for a stored row.</summary>
     public static AlertResponse From(AlertRow row)
@@ -37,6 +39,7 @@ public sealed record AlertResponse(
         using var details = JsonDocument.Parse(row.DetailsJson);
         return new AlertResponse(
             row.AlertId, row.FleetId, row.VehicleId, row.Kind, row.Severity, row.State, row.StartedAt, row.EndedAt, row.Count, row.Summary,
-            details.RootElement.Clone());
+            details.RootElement.Clone(),
+            row.AcknowledgedAt is { } at ? new AlertAcknowledgement(at, row.AcknowledgedByKeyId, row.AcknowledgedByLabel ?? string.Empty) : null);
     }
 }

@@ -7,9 +7,11 @@ namespace FusionService.Alerts;
 
 /// <summary>
 /// Signs webhook deliveries: <c>Fusion-Webhook-Signature: hmac-sha256=&lt;lower-case hex&gt;</c> of
-/// HMAC-SHA256(key = UTF-8 secret, message = UTF-8 "&lt;timestamp&gt;\n&lt;body&gt;") (HMAC: RFC 2104 / FIPS 198-1;
-/// SHA-256: FIPS 180-4), with <c>Fusion-Webhook-Timestamp</c> the Unix time in seconds of the attempt. A receiver
-/// recomputes it over the raw body, compares in constant time, and rejects old timestamps to stop replays.
+/// HMAC-SHA256(key = UTF-8 secret, message = UTF-8 "&lt;delivery id&gt;\n&lt;timestamp&gt;\n&lt;body&gt;") (HMAC: RFC 2104 /
+/// FIPS 198-1; SHA-256: FIPS 180-4), where the delivery id is the <c>Fusion-Webhook-Id</c> header (lower-case UUID with
+/// hyphens), the timestamp the <c>Fusion-Webhook-Timestamp</c> header (Unix seconds of the attempt, decimal) and the body
+/// the raw request body. A receiver recomputes it over the headers and raw body, compares in constant time, rejects old
+/// timestamps to stop replays, and drops a delivery id it has already processed.
 /// </summary>
 public static class WebhookSigner
 {
@@ -28,12 +30,18 @@ public static class WebhookSigner
     /// <summary>HMAC-SHA256 of <paramref name="message"/> under <paramref name="key"/>.</summary>
     public static byte[] Mac(ReadOnlySpan<byte> key, ReadOnlySpan<byte> message) => HMACSHA256.HashData(key, message);
 
-    /// <summary>The header value for <paramref name="body"/> sent at <paramref name="unixSeconds"/>.</summary>
-    public static string Sign(string secret, long unixSeconds, string body)
+    /// <summary>The signed string: "&lt;delivery id&gt;\n&lt;timestamp&gt;\n&lt;body&gt;".</summary>
+    public static string SignedString(Guid deliveryId, long unixSeconds, string body)
+    {
+        ArgumentNullException.ThrowIfNull(body);
+        return deliveryId.ToString("D") + "\n" + unixSeconds.ToString(CultureInfo.InvariantCulture) + "\n" + body;
+    }
+
+    /// <summary>The header value for delivery <paramref name="deliveryId"/> with <paramref name="body"/> sent at <paramref name="unixSeconds"/>.</summary>
+    public static string Sign(string secret, Guid deliveryId, long unixSeconds, string body)
     {
         ArgumentNullException.ThrowIfNull(secret);
-        ArgumentNullException.ThrowIfNull(body);
-        var message = Encoding.UTF8.GetBytes(unixSeconds.ToString(CultureInfo.InvariantCulture) + "\n" + body);
+        var message = Encoding.UTF8.GetBytes(SignedString(deliveryId, unixSeconds, body));
         return Scheme + Convert.ToHexStringLower(Mac(Encoding.UTF8.GetBytes(secret), message));
     }
 }

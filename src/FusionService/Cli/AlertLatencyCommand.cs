@@ -25,7 +25,7 @@ public static class AlertLatencyCommand
     public static bool Matches(string[] args) => args is ["alert-latency", ..];
 
     /// <summary>Runs the measurement and prints one line per sample and a summary.</summary>
-    /// <returns>0, 2 for bad arguments, 1 when a webhook did not arrive within 60 s.</returns>
+    /// <returns>0, 2 for bad arguments or a refused webhook registration, 1 when a webhook did not arrive within 60 s.</returns>
     public static async Task<int> RunAsync(string[] args, TextWriter output, TextWriter error, CancellationToken cancellationToken)
     {
         ArgumentNullException.ThrowIfNull(args);
@@ -94,7 +94,17 @@ public static class AlertLatencyCommand
         };
         admin.Headers.Authorization = new AuthenticationHeaderValue("Bearer", adminKey);
         using var created = await client.SendAsync(admin, cancellationToken).ConfigureAwait(false);
-        string webhookId = (string)JsonNode.Parse(await created.Content.ReadAsStringAsync(cancellationToken).ConfigureAwait(false))!["id"]!;
+        string createdBody = await created.Content.ReadAsStringAsync(cancellationToken).ConfigureAwait(false);
+        if (!created.IsSuccessStatusCode)
+        {
+            // The service refuses a plain-http loopback receiver unless started with Webhooks:AllowHttp and
+            // Webhooks:AllowedNetworks containing 127.0.0.0/8.
+            await error.WriteLineAsync("the webhook was not registered (HTTP " + ((int)created.StatusCode).ToString(CultureInfo.InvariantCulture) + "): " + createdBody
+                + "; start the service with Webhooks__AllowHttp=true Webhooks__AllowedNetworks__0=127.0.0.0/8").ConfigureAwait(false);
+            return 2;
+        }
+
+        string webhookId = (string)JsonNode.Parse(createdBody)!["id"]!;
         var latenciesMs = new List<double>();
         int exit = 0;
         try

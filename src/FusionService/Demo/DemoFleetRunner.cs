@@ -34,6 +34,7 @@ public sealed partial class DemoFleetRunner(
             ?? await admin.CreateFleetAsync(demo.FleetName, stoppingToken).ConfigureAwait(false);
         CreatedApiKey ingest = await admin.CreateApiKeyAsync(fleetId, ApiKeyRole.Ingest, "demo trackers", stoppingToken).ConfigureAwait(false);
         CreatedApiKey read = await admin.CreateApiKeyAsync(fleetId, ApiKeyRole.Read, "demo reader", stoppingToken).ConfigureAwait(false);
+        CreatedApiKey operate = await admin.CreateApiKeyAsync(fleetId, ApiKeyRole.Admin, "demo admin", stoppingToken).ConfigureAwait(false);
 
         var fleet = new DemoFleet(new DemoFleetOptions { VanCount = demo.Vans, Seed = demo.Seed });
         long durationUs = fleet.Vans.Max(v => v.Truth.EndTimeUs) - fleet.Vans.Min(v => v.Truth.StartTimeUs);
@@ -50,9 +51,10 @@ public sealed partial class DemoFleetRunner(
         string pace = live ? $"live, the first {demo.HeadStartMinutes:0.#} min uploaded at once" : $"{demo.Acceleration:0.#}x";
         Console.Out.WriteLine($"FusionService demo: fleet '{demo.FleetName}', {fleet.Vans.Count} vans, {pace}, uploads over {demo.Transport}");
         Console.Out.WriteLine($"  service        {baseUrl}");
-        Console.Out.WriteLine($"  dashboard      {baseUrl} (sign in with the read key)");
+        Console.Out.WriteLine($"  dashboard      {baseUrl} (sign in with the read key, or the admin key to acknowledge alerts)");
         Console.Out.WriteLine($"  API docs       {new Uri(baseUrl, "swagger")}");
         Console.Out.WriteLine($"  read key       {read.Secret}");
+        Console.Out.WriteLine($"  admin key      {operate.Secret} (acknowledges alerts; manages webhooks)");
         Console.Out.WriteLine($"  ingest key     {ingest.Secret}");
         Console.Out.WriteLine($"  try            curl -H 'Authorization: Bearer {read.Secret}' {new Uri(baseUrl, "v1/vehicles")}");
         foreach (DemoFault fault in fleet.Faults)

@@ -7,7 +7,8 @@ namespace FusionService.Security;
 /// <param name="FleetId">The key's fleet: the only fleet the request can see.</param>
 /// <param name="Role">The key's role.</param>
 /// <param name="KeyHash">Hex SHA-256 of the secret (the rate-limit partition).</param>
-public sealed record ApiCaller(Guid FleetId, ApiKeyRole Role, string KeyHash)
+/// <param name="KeyId">The key's id (recorded where the API keeps who did something, e.g. an acknowledgement).</param>
+public sealed record ApiCaller(Guid FleetId, ApiKeyRole Role, string KeyHash, Guid KeyId)
 {
     private const string ItemKey = "FusionService.ApiCaller";
 

@@ -32,7 +32,7 @@ public sealed class ApiKeyResolver(FusionDatabase database, IOptions<SecurityOpt
             return null;
         }
 
-        var caller = new ApiCaller(found.FleetId, found.Role, hash);
+        var caller = new ApiCaller(found.FleetId, found.Role, hash, found.KeyId);
         _cache[hash] = (caller, now.AddSeconds(options.Value.KeyCacheSeconds));
         return caller;
     }

@@ -38,6 +38,9 @@ public sealed class DashboardFixture : IAsyncLifetime
     /// <summary>A read key of the demo fleet.</summary>
     public string ReadKey { get; private set; } = string.Empty;
 
+    /// <summary>An admin key of the demo fleet (acknowledging alerts needs one since issue 14).</summary>
+    public string AdminKey { get; private set; } = string.Empty;
+
     /// <summary>The browser.</summary>
     public ChromeDriver Driver { get; private set; } = null!;
 
@@ -75,6 +78,7 @@ public sealed class DashboardFixture : IAsyncLifetime
         }
 
         ReadKey = (await admin.CreateApiKeyAsync(fleetId.Value, ApiKeyRole.Read, "browser test")).Secret;
+        AdminKey = (await admin.CreateApiKeyAsync(fleetId.Value, ApiKeyRole.Admin, "browser test admin")).Secret;
         Driver = StartBrowser(_profileDirectory);
     }
 

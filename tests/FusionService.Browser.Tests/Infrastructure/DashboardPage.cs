@@ -26,11 +26,11 @@ internal sealed class DashboardPage(DashboardFixture fixture)
         Driver.FindElement(By.Id("sign-in-button")).Click();
     }
 
-    /// <summary>Signs in with the fixture's read key and waits for the fleet view.</summary>
-    public void SignIn()
+    /// <summary>Signs in with <paramref name="key"/> (default: the fixture's read key) and waits for the fleet view.</summary>
+    public void SignIn(string? key = null)
     {
         OpenSignedOut();
-        SubmitKey(fixture.ReadKey);
+        SubmitKey(key ?? fixture.ReadKey);
         WaitFor(() => Visible("#fleet-view"), TimeSpan.FromSeconds(20), "the fleet view after sign-in");
     }
 

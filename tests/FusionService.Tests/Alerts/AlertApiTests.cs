@@ -11,7 +11,7 @@ namespace FusionService.Tests.Alerts;
 public sealed class AlertApiTests(ServiceFixture fixture)
 {
     [Fact]
-    public async Task Gated_burst_is_listed_filtered_acknowledged_and_invisible_to_other_fleets()
+    public async Task Gated_burst_is_listed_filtered_acknowledged_by_admin_only_and_invisible_to_other_fleets()
     {
         var fleet = await fixture.NewFleetAsync();
         var other = await fixture.NewFleetAsync();
@@ -43,15 +43,35 @@ public sealed class AlertApiTests(ServiceFixture fixture)
 
         using var otherRead = fixture.Client(other.ReadKey);
         Assert.Empty(await ListAsync(otherRead, string.Empty));
-        await AssertProblemAsync(await otherRead.PostAsync("/v1/alerts/" + id + "/acknowledge", null), HttpStatusCode.NotFound, "id:");
-        await AssertProblemAsync(await read.PostAsync("/v1/alerts/" + Guid.NewGuid().ToString("D") + "/acknowledge", null), HttpStatusCode.NotFound, "id:");
+        using var admin = fixture.Client(fleet.AdminKey);
+        using var otherAdmin = fixture.Client(other.AdminKey);
+        await AssertProblemAsync(await otherAdmin.PostAsync("/v1/alerts/" + id + "/acknowledge", null), HttpStatusCode.NotFound, "id:");
+        await AssertProblemAsync(await admin.PostAsync("/v1/alerts/" + Guid.NewGuid().ToString("D") + "/acknowledge", null), HttpStatusCode.NotFound, "id:");
 
-        using var acknowledged = await read.PostAsync("/v1/alerts/" + id + "/acknowledge", null);
+        // Issue 14: a read key sees alerts but cannot acknowledge them; an admin key can, and the alert keeps who and when.
+        await AssertProblemAsync(await read.PostAsync("/v1/alerts/" + id + "/acknowledge", null), HttpStatusCode.Forbidden, "this endpoint needs a key with role admin; the key has role read");
+        Assert.Single(await ListAsync(read, "state=open"));
+        Assert.False(alert.TryGetProperty("acknowledged", out _));
+
+        var before = DateTimeOffset.UtcNow;
+        using var acknowledged = await admin.PostAsync("/v1/alerts/" + id + "/acknowledge", null);
         Assert.Equal(HttpStatusCode.OK, acknowledged.StatusCode);
         var body = await acknowledged.Content.ReadFromJsonAsync<JsonElement>();
         Assert.Equal("acknowledged", body.GetProperty("state").GetString());
         Assert.Equal(id, body.GetProperty("id").GetString());
-        Assert.Single(await ListAsync(read, "state=acknowledged"));
+        var by = body.GetProperty("acknowledged");
+        Assert.Equal("test", by.GetProperty("key_label").GetString());
+        Assert.InRange(by.GetProperty("at").GetDateTimeOffset(), before.AddSeconds(-5), DateTimeOffset.UtcNow.AddSeconds(5));
+        Assert.Equal(1, await fixture.CountAsync(
+            "SELECT count(*) FROM alerts a JOIN api_keys k ON k.key_id = a.acknowledged_by_key_id WHERE a.alert_id = $1 AND k.role = 'admin' AND k.key_id = $2",
+            Guid.Parse(id), by.GetProperty("key_id").GetGuid()));
+
+        // The list shows the same acknowledgement; acknowledging again changes nothing.
+        var listed = Assert.Single(await ListAsync(read, "state=acknowledged"));
+        Assert.Equal(by.GetProperty("at").GetDateTimeOffset(), listed.GetProperty("acknowledged").GetProperty("at").GetDateTimeOffset());
+        using var again = await admin.PostAsync("/v1/alerts/" + id + "/acknowledge", null);
+        var againBody = await again.Content.ReadFromJsonAsync<JsonElement>();
+        Assert.Equal(by.GetProperty("at").GetDateTimeOffset(), againBody.GetProperty("acknowledged").GetProperty("at").GetDateTimeOffset());
         Assert.Equal(1, await fixture.CountAsync("SELECT count(*) FROM alerts WHERE fleet_id = $1", fleet.Id));
     }
 
@@ -119,6 +139,9 @@ public sealed class AlertApiTests(ServiceFixture fixture)
         Assert.Equal(HttpStatusCode.Forbidden, (await ingest.GetAsync("/v1/alerts")).StatusCode);
         Assert.Equal(HttpStatusCode.Forbidden, (await ingest.GetAsync("/v1/alert-rules")).StatusCode);
         Assert.Equal(HttpStatusCode.Forbidden, (await ingest.PostAsync("/v1/alerts/" + Guid.NewGuid().ToString("D") + "/acknowledge", null)).StatusCode);
+        Assert.Equal(HttpStatusCode.Forbidden, (await read.PostAsync("/v1/alerts/" + Guid.NewGuid().ToString("D") + "/acknowledge", null)).StatusCode);
+        Assert.Equal(HttpStatusCode.Forbidden, (await read.GetAsync("/v1/webhooks/" + Guid.NewGuid().ToString("D") + "/dead-letters")).StatusCode);
+        Assert.Equal(HttpStatusCode.Forbidden, (await read.PostAsync("/v1/webhooks/" + Guid.NewGuid().ToString("D") + "/dead-letters/requeue", null)).StatusCode);
         Assert.Equal(HttpStatusCode.Forbidden, (await read.GetAsync("/v1/webhooks")).StatusCode);
         Assert.Equal(HttpStatusCode.Forbidden, (await read.PostAsJsonAsync("/v1/webhooks", new { url = "https://example.invalid/", secret = "0123456789abcdef" })).StatusCode);
         Assert.Equal(HttpStatusCode.Forbidden, (await read.DeleteAsync("/v1/webhooks/" + Guid.NewGuid().ToString("D"))).StatusCode);

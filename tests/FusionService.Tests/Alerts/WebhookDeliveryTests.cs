@@ -11,15 +11,19 @@ namespace FusionService.Tests.Alerts;
 [Collection(ServiceTests.Name)]
 public sealed class WebhookDeliveryTests(ServiceFixture fixture)
 {
-    private const string Secret = "whsec-0123456789abcdef";
+    internal const string Secret = "whsec-0123456789abcdef";
 
-    private static readonly Dictionary<string, string?> Dispatching = new(StringComparer.Ordinal)
+    internal static readonly Dictionary<string, string?> Dispatching = new(StringComparer.Ordinal)
     {
         ["Webhooks:DispatcherEnabled"] = "true",
         ["Webhooks:BaseDelayS"] = "0.5",
         ["Webhooks:MaxDelayS"] = "2",
         ["Webhooks:TimeoutS"] = "5",
         ["Webhooks:LeaseS"] = "10",
+
+        // The receiver is a plain-http listener on loopback, which the service refuses unless told otherwise.
+        ["Webhooks:AllowHttp"] = "true",
+        ["Webhooks:AllowedNetworks:0"] = "127.0.0.0/8",
     };
 
     [Fact]
@@ -82,20 +86,22 @@ public sealed class WebhookDeliveryTests(ServiceFixture fixture)
         Assert.Equal(3, list.GetProperty("alerts")[0].GetProperty("count").GetInt32());
     }
 
-    private static async Task SubscribeAsync(HttpClient admin, string url)
+    internal static async Task SubscribeAsync(HttpClient admin, string url)
     {
         using var response = await admin.PostAsJsonAsync("/v1/webhooks", new { url, secret = Secret });
         Assert.Equal(System.Net.HttpStatusCode.Created, response.StatusCode);
     }
 
-    // HMAC-SHA256 (RFC 2104 / FIPS 198-1) computed here with .NET's HMACSHA256, independently of the service's signer.
-    private static void AssertSigned(WebhookReceiver.Received r)
+    // HMAC-SHA256 (RFC 2104 / FIPS 198-1) computed here with .NET's HMACSHA256, independently of the service's signer, over
+    // the signed string documented in docs/api-alerts.md: "<delivery id>\n<timestamp>\n<body>".
+    internal static void AssertSigned(WebhookReceiver.Received r, string secret = Secret)
     {
+        Assert.NotNull(r.Id);
         Assert.NotNull(r.Timestamp);
         long unix = long.Parse(r.Timestamp!, NumberStyles.Integer, CultureInfo.InvariantCulture);
         Assert.InRange(unix, DateTimeOffset.UtcNow.AddMinutes(-5).ToUnixTimeSeconds(), DateTimeOffset.UtcNow.AddMinutes(1).ToUnixTimeSeconds());
-        using var hmac = new HMACSHA256(Encoding.UTF8.GetBytes(Secret));
-        string expected = "hmac-sha256=" + Convert.ToHexStringLower(hmac.ComputeHash(Encoding.UTF8.GetBytes(r.Timestamp + "\n" + r.Body)));
+        using var hmac = new HMACSHA256(Encoding.UTF8.GetBytes(secret));
+        string expected = "hmac-sha256=" + Convert.ToHexStringLower(hmac.ComputeHash(Encoding.UTF8.GetBytes(r.Id + "\n" + r.Timestamp + "\n" + r.Body)));
         Assert.Equal(expected, r.Signature);
     }
 }

@@ -24,6 +24,9 @@ internal sealed class WebhookReceiver : IDisposable
 
     public Func<int, int> Status { get; set; } = _ => 200;
 
+    /// <summary>Writes headers or a body of the answer after its status is set (the response is closed afterwards).</summary>
+    public Func<HttpListenerResponse, Task>? Answer { get; set; }
+
     public ConcurrentQueue<Received> Requests { get; } = new();
 
     public async Task<Received[]> WaitForAsync(Func<Received[], bool> done, TimeSpan timeout)
@@ -79,6 +82,20 @@ internal sealed class WebhookReceiver : IDisposable
                 body,
                 status));
             context.Response.StatusCode = status;
+            if (Answer is { } answer)
+            {
+                try
+                {
+                    await answer(context.Response);
+                }
+                catch (Exception ex) when (ex is HttpListenerException or IOException or ObjectDisposedException)
+                {
+                    // The client stopped reading and closed the connection.
+                    context.Response.Abort();
+                    continue;
+                }
+            }
+
             context.Response.Close();
         }
     }

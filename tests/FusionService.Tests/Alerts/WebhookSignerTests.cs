@@ -20,12 +20,31 @@ public sealed class WebhookSignerTests
     }
 
     [Fact]
-    public void Signature_is_hmac_of_timestamp_newline_body()
+    public void Issue14_signature_is_hmac_of_delivery_id_timestamp_and_body()
     {
         const string Secret = "0123456789abcdef-secret", Body = """{"id":"x","kind":"gated_burst"}""";
+        var id = Guid.Parse("01a2364c-77f0-7b1e-9c25-3f0d8e6a4b11");
+
+        // The documented signed string, written out here by hand (docs/api-alerts.md), signed with .NET's HMACSHA256.
         using var reference = new System.Security.Cryptography.HMACSHA256(Encoding.UTF8.GetBytes(Secret));
-        string expected = "hmac-sha256=" + Convert.ToHexStringLower(reference.ComputeHash(Encoding.UTF8.GetBytes("1796198400\n" + Body)));
-        Assert.Equal(expected, WebhookSigner.Sign(Secret, 1_796_198_400, Body));
+        string expected = "hmac-sha256=" + Convert.ToHexStringLower(reference.ComputeHash(
+            Encoding.UTF8.GetBytes("01a2364c-77f0-7b1e-9c25-3f0d8e6a4b11\n1796198400\n" + Body)));
+        Assert.Equal(expected, WebhookSigner.Sign(Secret, id, 1_796_198_400, Body));
+
+        // Another delivery id or timestamp gives another signature: a receiver cannot be fed a body under a reused id.
+        Assert.NotEqual(expected, WebhookSigner.Sign(Secret, Guid.Parse("01a2364c-77f0-7b1e-9c25-3f0d8e6a4b12"), 1_796_198_400, Body));
+        Assert.NotEqual(expected, WebhookSigner.Sign(Secret, id, 1_796_198_401, Body));
+    }
+
+    // The worked example of docs/api-alerts.md. Derived: the hex was computed outside the project on 4 Dec 2026 with
+    // Python 3's hmac module and with `openssl dgst -sha256 -hmac` (OpenSSL 3), both giving the same digest.
+    [Fact]
+    public void Issue14_documented_example_signature_matches_python_and_openssl()
+    {
+        const string Body = """{"id":"01a235e9-b7db-7659-8aa6-0b9d9a9b7c56","state":"open"}""";
+        Assert.Equal(
+            "hmac-sha256=bd5455ff2a04b2e1e767c85623be20bdd94edfeefc8f4074042177bc99f5f50f",
+            WebhookSigner.Sign("a-long-random-secret-0123456789", Guid.Parse("01a2364c-77f0-7b1e-9c25-3f0d8e6a4b11"), 1_796_198_400, Body));
     }
 
     [Theory]

@@ -59,8 +59,9 @@ public sealed class OpenApiExampleTests(ServiceFixture fixture)
             }
         }
 
-        // 14 examples on the history, audit, NMEA, alert and webhook endpoints; all but the track and the NMEA text typed.
-        Assert.Equal(14, examples);
-        Assert.Equal(12, checkedTyped);
+        // 16 examples on the history, audit, NMEA, alert and webhook endpoints (dead letters and re-queue since issue 14);
+        // all but the track and the NMEA text typed.
+        Assert.Equal(16, examples);
+        Assert.Equal(14, checkedTyped);
     }
 }
