@@ -102,7 +102,7 @@ public sealed partial class TelemetryMessageParser(IngestOptions options, long m
         string? id = null;
         if (m.TryGetProperty("id", out var idElement) && idElement.ValueKind != JsonValueKind.Null)
         {
-            if (idElement.ValueKind != JsonValueKind.String || idElement.GetString() is not { Length: > 0 and <= MaxIdLength } text)
+            if (idElement.ValueKind != JsonValueKind.String || ReadText(idElement, "id") is not { Length: > 0 and <= MaxIdLength } text)
             {
                 throw new FieldException("id", "must be a string of 1-200 characters");
             }
@@ -295,7 +295,7 @@ public sealed partial class TelemetryMessageParser(IngestOptions options, long m
         long timeUs;
         if (t.ValueKind == JsonValueKind.String)
         {
-            string text = t.GetString()!;
+            string text = ReadText(t, "time");
             if (!Rfc3339Pattern().IsMatch(text)
                 || !DateTimeOffset.TryParse(text, CultureInfo.InvariantCulture, DateTimeStyles.None, out var instant))
             {
@@ -339,7 +339,7 @@ public sealed partial class TelemetryMessageParser(IngestOptions options, long m
             return AccuracyConvention.OneSigmaPerAxis;
         }
 
-        return (k.ValueKind == JsonValueKind.String ? k.GetString() : null) switch
+        return (k.ValueKind == JsonValueKind.String ? ReadText(k, "accuracy_kind") : null) switch
         {
             "one_sigma" => AccuracyConvention.OneSigmaPerAxis,
             "cep50" => AccuracyConvention.Cep50,
@@ -357,12 +357,26 @@ public sealed partial class TelemetryMessageParser(IngestOptions options, long m
             throw new FieldException(name, "is required");
         }
 
-        if (e.ValueKind != JsonValueKind.String || e.GetString() is not { Length: > 0 } text)
+        if (e.ValueKind != JsonValueKind.String || ReadText(e, name) is not { Length: > 0 } text)
         {
             throw new FieldException(name, "must be a non-empty string");
         }
 
         return text;
+    }
+
+    // A JSON string as text. Invalid UTF-8 bytes or an escaped lone surrogate ("\ud800") cannot become a .NET
+    // string: System.Text.Json throws InvalidOperationException for them, which would otherwise fail the whole batch.
+    private static string ReadText(JsonElement e, string name)
+    {
+        try
+        {
+            return e.GetString()!;
+        }
+        catch (InvalidOperationException)
+        {
+            throw new FieldException(name, "is not valid Unicode text (invalid UTF-8 or an unpaired surrogate escape)");
+        }
     }
 
     private static double RequiredNumber(JsonElement m, string name) =>
@@ -403,10 +417,11 @@ public sealed partial class TelemetryMessageParser(IngestOptions options, long m
         return value;
     }
 
-    [GeneratedRegex("^[A-Za-z0-9._:-]{1,128}$", RegexOptions.CultureInvariant)]
+    // \z, not $: '$' also matches before a final newline, which would let "van-1\n" pass as a look-alike of "van-1".
+    [GeneratedRegex(@"^[A-Za-z0-9._:-]{1,128}\z", RegexOptions.CultureInvariant)]
     private static partial Regex VehicleIdPattern();
 
-    [GeneratedRegex(@"^\d{4}-\d{2}-\d{2}[Tt]\d{2}:\d{2}:\d{2}(\.\d{1,7})?([Zz]|[+-]\d{2}:\d{2})$", RegexOptions.CultureInvariant)]
+    [GeneratedRegex(@"^\d{4}-\d{2}-\d{2}[Tt]\d{2}:\d{2}:\d{2}(\.\d{1,7})?([Zz]|[+-]\d{2}:\d{2})\z", RegexOptions.CultureInvariant)]
     private static partial Regex Rfc3339Pattern();
 
     private sealed class FieldException(string field, string message) : Exception(message)
