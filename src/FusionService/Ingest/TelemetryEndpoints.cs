@@ -97,7 +97,10 @@ public static class TelemetryEndpoints
             var messages = new List<(JsonElement, string?)>();
             if (ndjson)
             {
-                SplitNdjson(body, documents, messages);
+                if (SplitNdjson(body, limits.MaxMessages, documents, messages) is { } tooMany)
+                {
+                    return TooLarge(tooMany);
+                }
             }
             else
             {
@@ -188,9 +191,26 @@ public static class TelemetryEndpoints
         var caller = ApiCaller.Of(http);
         var limits = options.Value;
         using var socket = await http.WebSockets.AcceptWebSocketAsync().ConfigureAwait(false);
+        try
+        {
+            await ReceiveFramesAsync(socket, caller, pipeline, limits, http.RequestAborted).ConfigureAwait(false);
+        }
+        catch (WebSocketException)
+        {
+            // The client broke the protocol (the socket sent its close frame) or the connection: nothing to answer.
+        }
+        catch (OperationCanceledException) when (http.RequestAborted.IsCancellationRequested)
+        {
+            // The connection is gone.
+        }
+
+        return TypedResults.Empty;
+    }
+
+    private static async Task ReceiveFramesAsync(WebSocket socket, ApiCaller caller, IngestPipeline pipeline, IngestOptions limits, CancellationToken cancel)
+    {
         var buffer = new byte[64 * 1024];
         var frame = new MemoryStream();
-        var cancel = http.RequestAborted;
         while (socket.State == WebSocketState.Open)
         {
             frame.SetLength(0);
@@ -201,14 +221,19 @@ public static class TelemetryEndpoints
                 if (received.MessageType == WebSocketMessageType.Close)
                 {
                     await socket.CloseOutputAsync(WebSocketCloseStatus.NormalClosure, "bye", cancel).ConfigureAwait(false);
-                    return TypedResults.Empty;
+                    return;
                 }
 
                 frame.Write(buffer, 0, received.Count);
                 if (frame.Length > limits.MaxBodyBytes)
                 {
-                    await socket.CloseAsync(WebSocketCloseStatus.MessageTooBig, "frame exceeds the size limit", cancel).ConfigureAwait(false);
-                    return TypedResults.Empty;
+                    // Close at once (1009 with the limit in the reason) rather than read the rest of the frame; the
+                    // connection ends when the handler returns.
+                    await socket.CloseOutputAsync(
+                        WebSocketCloseStatus.MessageTooBig,
+                        string.Create(CultureInfo.InvariantCulture, $"frame exceeds the limit of {limits.MaxBodyBytes} bytes"),
+                        cancel).ConfigureAwait(false);
+                    return;
                 }
             }
             while (!received.EndOfMessage);
@@ -216,8 +241,6 @@ public static class TelemetryEndpoints
             var ack = await AcknowledgeAsync(frame.ToArray(), caller, pipeline, limits, cancel).ConfigureAwait(false);
             await socket.SendAsync(JsonSerializer.SerializeToUtf8Bytes(ack), WebSocketMessageType.Text, true, cancel).ConfigureAwait(false);
         }
-
-        return TypedResults.Empty;
     }
 
     private static async Task<Dictionary<string, object?>> AcknowledgeAsync(
@@ -236,7 +259,9 @@ public static class TelemetryEndpoints
         using (document)
         {
             var root = document.RootElement;
-            long? seq = root.ValueKind == JsonValueKind.Object && root.TryGetProperty("seq", out var s) && s.TryGetInt64(out long n) ? n : null;
+            // TryGetInt64 throws on a non-number: check the kind first, so {"seq":"x"} is answered, not the socket aborted.
+            long? seq = root.ValueKind == JsonValueKind.Object && root.TryGetProperty("seq", out var s)
+                && s.ValueKind == JsonValueKind.Number && s.TryGetInt64(out long n) ? n : null;
             if (seq is null)
             {
                 return new() { ["seq"] = null, ["error"] = "seq: is required (an integer)" };
@@ -276,10 +301,54 @@ public static class TelemetryEndpoints
         }
     }
 
-    private static void SplitNdjson(byte[] body, List<JsonDocument> documents, List<(JsonElement, string?)> messages)
+    // Splits an NDJSON body into its messages. The non-empty lines are counted first (a byte scan, nothing allocated),
+    // so a body over the message limit is refused before any line is parsed; a line that cannot start a JSON object is
+    // rejected without a parse (and without an exception); only lines starting with '{' are parsed.
+    private static string? SplitNdjson(byte[] body, int maxMessages, List<JsonDocument> documents, List<(JsonElement, string?)> messages)
+    {
+        int count = 0;
+        foreach (var range in NdjsonLines(body))
+        {
+            if (!IsBlank(body.AsSpan(range)) && ++count > maxMessages)
+            {
+                return string.Create(CultureInfo.InvariantCulture, $"body: more than {maxMessages} messages (the limit)");
+            }
+        }
+
+        int line = 0;
+        foreach (var range in NdjsonLines(body))
+        {
+            line++;
+            var span = body.AsSpan(range);
+            if (IsBlank(span))
+            {
+                continue;
+            }
+
+            if (span.TrimStart(" \t\r"u8)[0] != (byte)'{')
+            {
+                messages.Add((default, string.Create(CultureInfo.InvariantCulture, $"line {line}: not a JSON object (each line must be one message)")));
+                continue;
+            }
+
+            try
+            {
+                var document = JsonDocument.Parse(body.AsMemory(range));
+                documents.Add(document);
+                messages.Add((document.RootElement, null));
+            }
+            catch (JsonException ex)
+            {
+                messages.Add((default, string.Create(CultureInfo.InvariantCulture, $"line {line}: not valid JSON ({ex.Message})")));
+            }
+        }
+
+        return null;
+    }
+
+    private static IEnumerable<Range> NdjsonLines(byte[] body)
     {
         int start = 0;
-        int line = 0;
         while (start <= body.Length)
         {
             int end = Array.IndexOf(body, (byte)'\n', start);
@@ -288,25 +357,12 @@ public static class TelemetryEndpoints
                 end = body.Length;
             }
 
-            line++;
-            var span = body.AsMemory(start, end - start);
-            if (!span.Span.Trim(" \t\r"u8).IsEmpty)
-            {
-                try
-                {
-                    var document = JsonDocument.Parse(span);
-                    documents.Add(document);
-                    messages.Add((document.RootElement, null));
-                }
-                catch (JsonException ex)
-                {
-                    messages.Add((default, string.Create(CultureInfo.InvariantCulture, $"line {line}: not valid JSON ({ex.Message})")));
-                }
-            }
-
+            yield return new Range(start, end);
             start = end + 1;
         }
     }
+
+    private static bool IsBlank(ReadOnlySpan<byte> line) => line.Trim(" \t\r"u8).IsEmpty;
 
     private static async Task<byte[]?> ReadLimitedAsync(Stream body, int limit, CancellationToken cancellationToken)
     {
