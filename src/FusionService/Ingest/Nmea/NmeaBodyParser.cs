@@ -169,6 +169,7 @@ public static class NmeaBodyParser
         if (integerDigits != degreeDigits + 2
             || !int.TryParse(value.AsSpan(0, degreeDigits), NumberStyles.None, CultureInfo.InvariantCulture, out int degrees)
             || !double.TryParse(value.AsSpan(degreeDigits), NumberStyles.AllowDecimalPoint, CultureInfo.InvariantCulture, out double minutes)
+            || !double.IsFinite(minutes)
             || minutes >= 60)
         {
             return null;
@@ -285,7 +286,8 @@ public static class NmeaBodyParser
         double? speed = null;
         if (f[6].Length > 0)
         {
-            if (double.TryParse(f[6], NumberStyles.AllowDecimalPoint, CultureInfo.InvariantCulture, out double knots))
+            // double.TryParse reads "NaN" and "Infinity" whatever the NumberStyles: they are not speeds.
+            if (double.TryParse(f[6], NumberStyles.AllowDecimalPoint, CultureInfo.InvariantCulture, out double knots) && double.IsFinite(knots))
             {
                 speed = knots * KnotsToMps;
             }
@@ -298,7 +300,7 @@ public static class NmeaBodyParser
         double? course = null;
         if (f[7].Length > 0)
         {
-            if (double.TryParse(f[7], NumberStyles.AllowDecimalPoint, CultureInfo.InvariantCulture, out double degrees) && degrees <= 360)
+            if (double.TryParse(f[7], NumberStyles.AllowDecimalPoint, CultureInfo.InvariantCulture, out double degrees) && double.IsFinite(degrees) && degrees <= 360)
             {
                 course = degrees >= 360 ? 0 : degrees;
             }
