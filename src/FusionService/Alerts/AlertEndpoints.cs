@@ -103,9 +103,9 @@ public static class AlertEndpoints
         DateTimeOffset? fromTime = null, toTime = null;
         if (from is not null)
         {
-            if (!QueryTime.TryParse(from, out long fromUs))
+            if (QueryTime.Check(from, out long fromUs) is { } fromProblem)
             {
-                return BadRequest("from: must be an RFC 3339 date-time with offset or Unix milliseconds");
+                return BadRequest("from: " + fromProblem);
             }
 
             fromTime = QueryTime.ToTime(fromUs);
@@ -113,9 +113,9 @@ public static class AlertEndpoints
 
         if (to is not null)
         {
-            if (!QueryTime.TryParse(to, out long toUs))
+            if (QueryTime.Check(to, out long toUs) is { } toProblem)
             {
-                return BadRequest("to: must be an RFC 3339 date-time with offset or Unix milliseconds");
+                return BadRequest("to: " + toProblem);
             }
 
             toTime = QueryTime.ToTime(toUs);

@@ -80,14 +80,14 @@ public static class AuditEndpoints
     {
         var caller = ApiCaller.Of(http);
         var settings = options.Value;
-        if (!QueryTime.TryParse(from, out long fromUs))
+        if (QueryTime.Check(from, out long fromUs) is { } fromProblem)
         {
-            return BadRequest("from", from is null ? "is required (" + TimeFormats + ")" : "'" + from + "' is not " + TimeFormats);
+            return BadRequest("from", fromProblem);
         }
 
-        if (!QueryTime.TryParse(to, out long toUs))
+        if (QueryTime.Check(to, out long toUs) is { } toProblem)
         {
-            return BadRequest("to", to is null ? "is required (" + TimeFormats + ")" : "'" + to + "' is not " + TimeFormats);
+            return BadRequest("to", toProblem);
         }
 
         if (toUs <= fromUs)
@@ -124,9 +124,9 @@ public static class AuditEndpoints
     {
         var caller = ApiCaller.Of(http);
         var settings = options.Value;
-        if (!QueryTime.TryParse(time, out long timeUs))
+        if (QueryTime.Check(time, out long timeUs) is { } timeProblem)
         {
-            return BadRequest("time", time is null ? "is required (" + TimeFormats + ")" : "'" + time + "' is not " + TimeFormats);
+            return BadRequest("time", timeProblem);
         }
 
         double windowS = 10;

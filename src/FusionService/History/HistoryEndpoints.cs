@@ -3,6 +3,7 @@ using FusionService.Database;
 using FusionService.Estimation.Diagnostics;
 using FusionService.Estimation.Measurements;
 using FusionService.Estimation.Smoothing;
+using FusionService.Http;
 using FusionService.Security;
 using FusionService.Storage.Fleets;
 using FusionService.Storage.History;
@@ -247,14 +248,14 @@ public static class HistoryEndpoints
 
     private static WindowProblem? Window(string? from, string? to, TrackHistoryOptions options)
     {
-        if (!HistoryTime.TryParse(from, out long fromUs))
+        if (QueryTime.Check(from, out long fromUs) is { } fromProblem)
         {
-            return new(BadRequest("from: is required, as " + TimeHelp));
+            return new(BadRequest("from: " + fromProblem));
         }
 
-        if (!HistoryTime.TryParse(to, out long toUs))
+        if (QueryTime.Check(to, out long toUs) is { } toProblem)
         {
-            return new(BadRequest("to: is required, as " + TimeHelp));
+            return new(BadRequest("to: " + toProblem));
         }
 
         if (toUs <= fromUs)
