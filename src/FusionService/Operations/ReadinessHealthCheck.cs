@@ -6,7 +6,7 @@ using Npgsql;
 namespace FusionService.Operations;
 
 /// <summary>Ready when PostgreSQL answers, every migration this build knows is recorded, and the silo is active.</summary>
-internal sealed class ReadinessHealthCheck(FusionDatabase database, SiloStatus silo) : IHealthCheck
+internal sealed partial class ReadinessHealthCheck(FusionDatabase database, SiloStatus silo, ILogger<ReadinessHealthCheck> logger) : IHealthCheck
 {
     public async Task<HealthCheckResult> CheckHealthAsync(HealthCheckContext context, CancellationToken cancellationToken = default)
     {
@@ -39,8 +39,14 @@ internal sealed class ReadinessHealthCheck(FusionDatabase database, SiloStatus s
         }
         catch (Exception ex) when (ex is NpgsqlException or InvalidOperationException or TimeoutException)
         {
+            // The exception's message can name hosts, users or database objects: it goes to the log, not to whoever
+            // can reach this unauthenticated endpoint.
+            LogUnreachable(logger, ex);
             database.NoteFailure(ex);
-            return HealthCheckResult.Unhealthy("PostgreSQL unreachable: " + ex.Message);
+            return HealthCheckResult.Unhealthy("PostgreSQL unreachable");
         }
     }
+
+    [LoggerMessage(Level = LogLevel.Warning, Message = "Readiness: PostgreSQL unreachable")]
+    private static partial void LogUnreachable(ILogger logger, Exception exception);
 }
