@@ -37,6 +37,7 @@ public static class DashboardExtensions
                 + "(it copies the dashboard there) or set Dashboard:Enabled=false");
         }
 
+        string policy = DashboardContentSecurityPolicy.For(options);
         var files = new PhysicalFileProvider(folder);
         app.UseDefaultFiles(new DefaultFilesOptions { FileProvider = files });
         app.UseStaticFiles(new StaticFileOptions
@@ -48,6 +49,7 @@ public static class DashboardExtensions
                 headers.CacheControl = "no-cache";
                 headers.XContentTypeOptions = "nosniff";
                 headers["Referrer-Policy"] = "no-referrer";
+                headers.ContentSecurityPolicy = policy;
             },
         });
         app.MapGet("/settings.json", (IOptions<DashboardOptions> current) => TypedResults.Ok(new DashboardSettingsResponse(
