@@ -7,6 +7,7 @@ using FusionService.Storage.Alerts;
 using FusionService.Storage.Fleets;
 using Microsoft.AspNetCore.Http.HttpResults;
 using FusionService.Http;
+using FusionService.Ingest;
 
 using FusionService.Operations;
 
@@ -93,6 +94,12 @@ public static class AlertEndpoints
         if (state is not null && !States.Contains(state, StringComparer.Ordinal))
         {
             return BadRequest("state: must be one of open, acknowledged, resolved");
+        }
+
+        // Checked here, not left to the query: PostgreSQL refuses text with a NUL character (%00), which made a 500.
+        if (vehicle is not null && !TelemetryMessageParser.IsValidVehicleId(vehicle))
+        {
+            return BadRequest("vehicle: " + TelemetryMessageParser.VehicleIdRule);
         }
 
         if (kind is not null && !AlertKinds.All.Contains(kind, StringComparer.Ordinal))

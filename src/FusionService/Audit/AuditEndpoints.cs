@@ -160,7 +160,7 @@ public static class AuditEndpoints
     }
 
     private static async Task<bool> VehicleExistsAsync(FusionDatabase database, Guid fleetId, string vehicle, CancellationToken cancellationToken) =>
-        vehicle.Length <= 128 && !vehicle.Contains('/', StringComparison.Ordinal)
+        Ingest.TelemetryMessageParser.IsValidVehicleId(vehicle)
         && await new VehicleRepository(database.DataSource).ExistsAsync(fleetId, vehicle, cancellationToken).ConfigureAwait(false);
 
     private static ProblemHttpResult BadRequest(string parameter, string problem) =>

@@ -243,7 +243,7 @@ public static class HistoryEndpoints
     }
 
     private static async Task<bool> VehicleExistsAsync(FusionDatabase database, Guid fleetId, string vehicle, CancellationToken cancel) =>
-        vehicle.Length <= 128 && !vehicle.Contains('/', StringComparison.Ordinal)
+        Ingest.TelemetryMessageParser.IsValidVehicleId(vehicle)
         && await new VehicleRepository(database.DataSource).ExistsAsync(fleetId, vehicle, cancel).ConfigureAwait(false);
 
     private static WindowProblem? Window(string? from, string? to, TrackHistoryOptions options)

@@ -34,9 +34,10 @@ public static class TelemetryEndpoints
                 + "(multiplied by the configured UERE), optional speed_mps, course_deg (clockwise from north), speed_accuracy_mps; "
                 + "wheel: speed_mps; imu: yaw_rate_dps (positive = left turn), optional accel_mps2. "
                 + string.Create(CultureInfo.InvariantCulture,
-                    $"Plausibility bounds: accuracy_m at most {TelemetryMessageParser.MaxAccuracyM:0} m, hdop at most {TelemetryMessageParser.MaxHdop:0.##}, "
-                    + $"speed_mps (gnss) within [0, {TelemetryMessageParser.MaxGnssSpeedMps:0}] m/s, speed_accuracy_mps at most "
-                    + $"{TelemetryMessageParser.MaxSpeedAccuracyMps:0} m/s; course_deg within [0, 360], 360 read as 0. ")
+                    $"Plausibility bounds: accuracy_m within [{TelemetryMessageParser.MinAccuracyM:0.##}, {TelemetryMessageParser.MaxAccuracyM:0}] m, "
+                    + $"hdop within [{TelemetryMessageParser.MinHdop:0.##}, {TelemetryMessageParser.MaxHdop:0.##}], "
+                    + $"speed_mps (gnss) within [0, {TelemetryMessageParser.MaxGnssSpeedMps:0}] m/s, speed_accuracy_mps within "
+                    + $"[{TelemetryMessageParser.MinSpeedAccuracyMps:0.##}, {TelemetryMessageParser.MaxSpeedAccuracyMps:0}] m/s; course_deg within [0, 360], 360 read as 0. ")
                 + "Each message is judged on its own: 200 lists accepted / duplicate / rejected (field and reason) per message. "
                 + "A bad required field (or an accuracy_m beyond its bound) rejects the message; a bad optional field is left out "
                 + "and listed in the message's dropped_fields (field and reason) while the rest is stored: a bad course_deg keeps "

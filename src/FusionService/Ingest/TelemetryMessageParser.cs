@@ -21,14 +21,14 @@ namespace FusionService.Ingest;
 /// A course that is not a number or outside [0, 360] is dropped: the speed is kept with the course absent.</item>
 /// <item><c>speed_mps</c> (gnss) in [0, <see cref="MaxGnssSpeedMps"/>]; a bad one drops the velocity measurement
 /// (with its course and speed accuracy), the position is kept.</item>
-/// <item><c>speed_accuracy_mps</c> in (0, <see cref="MaxSpeedAccuracyMps"/>]; a bad one drops the velocity
+/// <item><c>speed_accuracy_mps</c> in [<see cref="MinSpeedAccuracyMps"/>, <see cref="MaxSpeedAccuracyMps"/>]; a bad one drops the velocity
 /// measurement (speed and course), the position is kept. Without it the configured default accuracy is used.</item>
 /// <item><c>course_deg</c> or <c>speed_accuracy_mps</c> without a usable <c>speed_mps</c> are dropped.</item>
 /// <item><c>hdop</c> beside <c>accuracy_m</c> is not used; a bad one is dropped.</item>
 /// <item><c>accel_mps2</c> (imu) in [-50, 50] m/s^2; a bad one is dropped, the yaw rate kept.</item>
 /// </list>
-/// <para>The position accuracy is required: <c>accuracy_m</c> in (0, <see cref="MaxAccuracyM"/>] m, or without it
-/// <c>hdop</c> in (0, <see cref="MaxHdop"/>]. Values beyond these plausibility bounds (such as 1e50) reject the
+/// <para>The position accuracy is required: <c>accuracy_m</c> in [<see cref="MinAccuracyM"/>, <see cref="MaxAccuracyM"/>] m, or
+/// without it <c>hdop</c> in [<see cref="MinHdop"/>, <see cref="MaxHdop"/>]. Values beyond these plausibility bounds (such as 1e50 or 1e-320) reject the
 /// message: no receiver reports them, and the filter cannot use them.</para>
 /// </remarks>
 /// <param name="options">Ingest options (UERE, default speed accuracy).</param>
@@ -47,6 +47,18 @@ public sealed partial class TelemetryMessageParser(IngestOptions options, long m
     /// tens to a few hundred metres; 10 km leaves ample room and keeps absurd values (1e50) out of the filter.</summary>
     public const double MaxAccuracyM = 10_000;
 
+    /// <summary>Smallest accepted <c>accuracy_m</c>, metres: 1 cm, what an RTK-fixed receiver reports (common practice).
+    /// Smaller positive values (1e-320) would give the filter a measurement variance of practically zero, which no
+    /// receiver can claim and which breaks the covariance update's positive definiteness.</summary>
+    public const double MinAccuracyM = 0.01;
+
+    /// <summary>Smallest accepted <c>hdop</c>: 0.01, the smallest non-zero value the two-decimal NMEA 0183 GGA field holds.</summary>
+    public const double MinHdop = 0.01;
+
+    /// <summary>Smallest accepted <c>speed_accuracy_mps</c>, m/s: 1 cm/s, below what any receiver states for its Doppler speed
+    /// (common practice; a near-zero variance would break the covariance update as for <see cref="MinAccuracyM"/>).</summary>
+    public const double MinSpeedAccuracyMps = 0.01;
+
     /// <summary>Largest accepted <c>hdop</c>: 99.99, the largest value the NMEA 0183 GGA field holds (receivers send it
     /// when they have no usable geometry).</summary>
     public const double MaxHdop = 99.99;
@@ -61,7 +73,14 @@ public sealed partial class TelemetryMessageParser(IngestOptions options, long m
     public const double MaxSpeedAccuracyMps = 50;
 
     private const double DegToRad = Math.PI / 180.0;
-    private const string HdopRange = "must be within (0, 99.99] (the range of the NMEA 0183 GGA field)";
+    private const string HdopRange = "must be within [0.01, 99.99] (the range of the NMEA 0183 GGA field)";
+
+    /// <summary>What a vehicle id may be, for error messages.</summary>
+    public const string VehicleIdRule = "must be 1-128 characters of A-Z a-z 0-9 . _ : -";
+
+    /// <summary>Whether <paramref name="vehicle"/> is a vehicle id the ingest accepts (so one that can exist).</summary>
+    public static bool IsValidVehicleId(string vehicle) =>
+        vehicle.Length <= MaxVehicleIdLength && VehicleIdPattern().IsMatch(vehicle);
 
     /// <summary>Parses one message.</summary>
     /// <returns>The message, or null with <paramref name="rejection"/> set.</returns>
@@ -87,9 +106,9 @@ public sealed partial class TelemetryMessageParser(IngestOptions options, long m
         }
 
         string vehicle = RequiredString(m, "vehicle");
-        if (vehicle.Length > MaxVehicleIdLength || !VehicleIdPattern().IsMatch(vehicle))
+        if (!IsValidVehicleId(vehicle))
         {
-            throw new FieldException("vehicle", "must be 1-128 characters of A-Z a-z 0-9 . _ : -");
+            throw new FieldException("vehicle", VehicleIdRule);
         }
 
         string kind = RequiredString(m, "kind");
@@ -157,6 +176,12 @@ public sealed partial class TelemetryMessageParser(IngestOptions options, long m
                 throw new FieldException("accuracy_m", "must be positive");
             }
 
+            if (value < MinAccuracyM)
+            {
+                throw new FieldException("accuracy_m", string.Create(CultureInfo.InvariantCulture,
+                    $"must be at least {MinAccuracyM:0.##} m (no receiver is more accurate); got {value:G6} m"));
+            }
+
             if (value > MaxAccuracyM)
             {
                 throw new FieldException("accuracy_m", string.Create(CultureInfo.InvariantCulture,
@@ -165,7 +190,7 @@ public sealed partial class TelemetryMessageParser(IngestOptions options, long m
 
             var convention = ParseAccuracyKind(m);
             double? ignoredHdop = OptionalNumberOrDrop(m, "hdop", dropped);
-            if (ignoredHdop is <= 0 or > MaxHdop)
+            if (ignoredHdop is < MinHdop or > MaxHdop)
             {
                 dropped.Add(new DroppedField("hdop", HdopRange + "; not needed, accuracy_m gives the accuracy"));
             }
@@ -176,7 +201,7 @@ public sealed partial class TelemetryMessageParser(IngestOptions options, long m
         if (IsGiven(m, "hdop"))
         {
             double dop = RequiredNumber(m, "hdop");
-            if (dop is <= 0 or > MaxHdop)
+            if (dop is < MinHdop or > MaxHdop)
             {
                 throw new FieldException("hdop", HdopRange);
             }
@@ -212,10 +237,10 @@ public sealed partial class TelemetryMessageParser(IngestOptions options, long m
 
         int before = dropped.Count;
         double? speedAccuracy = OptionalNumberOrDrop(m, "speed_accuracy_mps", dropped);
-        if (speedAccuracy is <= 0 or > MaxSpeedAccuracyMps)
+        if (speedAccuracy is < MinSpeedAccuracyMps or > MaxSpeedAccuracyMps)
         {
             dropped.Add(new DroppedField("speed_accuracy_mps", string.Create(CultureInfo.InvariantCulture,
-                $"must be within (0, {MaxSpeedAccuracyMps:0}] m/s (plausibility bound for a GNSS speed accuracy)")));
+                $"must be within [{MinSpeedAccuracyMps:0.##}, {MaxSpeedAccuracyMps:0}] m/s (plausibility bounds for a GNSS speed accuracy)")));
             speedAccuracy = null;
         }
 

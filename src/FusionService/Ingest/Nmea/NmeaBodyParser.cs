@@ -248,9 +248,9 @@ public static class NmeaBodyParser
             throw new FieldException("hdop", "is empty; the HDOP states the fix's accuracy and is required");
         }
 
-        if (!double.TryParse(f[7], NumberStyles.AllowDecimalPoint, CultureInfo.InvariantCulture, out double hdop) || !(hdop > 0) || hdop > 99.99)
+        if (!double.TryParse(f[7], NumberStyles.AllowDecimalPoint, CultureInfo.InvariantCulture, out double hdop) || !(hdop >= 0.01) || hdop > 99.99)
         {
-            throw new FieldException("hdop", "'" + f[7] + "' is not an HDOP in (0, 99.99]");
+            throw new FieldException("hdop", "'" + f[7] + "' is not an HDOP in [0.01, 99.99]");
         }
 
         return new Gga(line, time, lat, lon, hdop, null);
