@@ -84,7 +84,7 @@ public static class TelemetryEndpoints
             return TooLarge(string.Create(CultureInfo.InvariantCulture, $"body: {http.Request.ContentLength} bytes exceeds the limit of {limits.MaxBodyBytes} bytes"));
         }
 
-        var body = await ReadLimitedAsync(http.Request.Body, limits.MaxBodyBytes, http.RequestAborted).ConfigureAwait(false);
+        var body = await ReadLimitedAsync(http.Request.Body, http.Request.ContentLength, limits.MaxBodyBytes, http.RequestAborted).ConfigureAwait(false);
         if (body is null)
         {
             return TooLarge(string.Create(CultureInfo.InvariantCulture, $"body: exceeds the limit of {limits.MaxBodyBytes} bytes"));
@@ -365,9 +365,11 @@ public static class TelemetryEndpoints
 
     private static bool IsBlank(ReadOnlySpan<byte> line) => line.Trim(" \t\r"u8).IsEmpty;
 
-    private static async Task<byte[]?> ReadLimitedAsync(Stream body, int limit, CancellationToken cancellationToken)
+    // Reads the body, at most limit bytes (null beyond). With a Content-Length the buffer is allocated once at its size
+    // and returned without a copy; a chunked body grows it.
+    private static async Task<byte[]?> ReadLimitedAsync(Stream body, long? contentLength, int limit, CancellationToken cancellationToken)
     {
-        var buffer = new MemoryStream();
+        var buffer = new MemoryStream(contentLength is long n && n <= limit ? (int)n : 0);
         var chunk = new byte[81920];
         int read;
         while ((read = await body.ReadAsync(chunk, cancellationToken).ConfigureAwait(false)) > 0)
@@ -379,7 +381,7 @@ public static class TelemetryEndpoints
             }
         }
 
-        return buffer.ToArray();
+        return buffer.Length == buffer.Capacity ? buffer.GetBuffer() : buffer.ToArray();
     }
 
     private static ProblemHttpResult BadRequest(string title, string detail) =>
