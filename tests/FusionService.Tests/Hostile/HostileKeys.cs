@@ -1,0 +1,12 @@
+// The keys the hostile run sends, as Authorization header values.
+namespace FusionService.Tests.Hostile;
+
+/// <summary>Keys of the run's fleet and of another fleet.</summary>
+internal sealed record HostileKeys(string IngestSecret, string ReadSecret, string OtherFleetIngestSecret)
+{
+    public string Ingest => "Bearer " + IngestSecret;
+
+    public string Read => "Bearer " + ReadSecret;
+
+    public string OtherFleetIngest => "Bearer " + OtherFleetIngestSecret;
+}
