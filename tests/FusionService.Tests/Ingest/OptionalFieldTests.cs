@@ -55,9 +55,10 @@ public sealed class OptionalFieldTests(ServiceFixture fixture)
 
     public static TheoryData<string, string> BadSpeedAccuracies => new()
     {
-        { "-1", "(0, 50] m/s" },
-        { "0", "(0, 50] m/s" },
-        { "1e308", "(0, 50] m/s" },
+        { "-1", "[0.01, 50] m/s" },
+        { "0", "[0.01, 50] m/s" },
+        { "1e-320", "[0.01, 50] m/s" },
+        { "1e308", "[0.01, 50] m/s" },
         { "\"fast\"", "finite number" },
     };
 
