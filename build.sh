@@ -4,6 +4,7 @@
 #   ./build.sh run     the service with its own PostgreSQL under ./data/pg and the invented demo fleet feeding it
 #   ./build.sh serve   the service alone (no demo fleet)
 #   ./build.sh bench   run the BenchmarkDotNet suite (see docs/benchmarks.md)
+#   ./build.sh cluster-bench [SECONDS]   ingest with 1, 2, 3 processes in cluster mode, and recovery after a kill -9
 set -euo pipefail
 cd "$(dirname "$0")"
 root=$(pwd)
@@ -119,8 +120,14 @@ case "${1:-test}" in
     shift || true
     dotnet run -c Release --project tests/FusionService.Benchmarks -- "$@"
     ;;
+  cluster-bench)
+    ensure_prerequisites
+    shift || true
+    dotnet build FusionService.sln -c Release -nologo -v quiet
+    tests/FusionService.Benchmarks/cluster-bench.sh "$@"
+    ;;
   *)
-    echo "usage: ./build.sh [test|run|serve|keys create ...|load ...|alert-latency ...|bench [BenchmarkDotNet args]]" >&2
+    echo "usage: ./build.sh [test|run|serve|keys create ...|load ...|alert-latency ...|bench [BenchmarkDotNet args]|cluster-bench [seconds]]" >&2
     exit 2
     ;;
 esac

@@ -1,7 +1,10 @@
 // Registration of the vehicle tracks and the Orleans silo.
 using FusionService.Estimation.Models;
 using FusionService.Estimation.Tracking;
+using FusionService.Database;
+using FusionService.Tracking.Cluster;
 using Orleans.Configuration;
+using Orleans.Runtime;
 
 namespace FusionService.Tracking;
 
@@ -10,9 +13,12 @@ public static class TrackingExtensions
 {
     /// <summary>
     /// Adds the track processor (default options, delivery-van noise profile), <see cref="TrackWriteQueue"/> and an
-    /// Orleans silo with localhost clustering. Ports come from <c>Orleans:SiloPort</c> and <c>Orleans:GatewayPort</c>
-    /// (defaults 11111 and 30000). Replacing the clustering provider is the only change a multi-silo deployment needs:
-    /// the grains keep no Orleans state.
+    /// Orleans silo (section <c>Orleans</c>, see <see cref="OrleansSiloSettings"/>). Clustering is localhost (one silo)
+    /// by default; <c>Orleans:ClusterMode=Postgres</c> joins every process with the same <c>Orleans:ClusterId</c> on
+    /// the same PostgreSQL into one cluster, its membership kept by <see cref="PostgresMembershipTable"/>. The grain
+    /// directory stays Orleans' own in-memory distributed directory (the grains keep no Orleans state, so nothing
+    /// else is shared). New activations prefer the silo that calls first: the process a vehicle's messages arrive at
+    /// hosts its track unless another already does.
     /// </summary>
     public static WebApplicationBuilder AddFusionTracking(this WebApplicationBuilder builder)
     {
@@ -24,17 +30,54 @@ public static class TrackingExtensions
         builder.Services.AddSingleton<TrackStoreGate>();
         builder.Services.AddSingleton<TrackDispatcher>();
         builder.Services.AddHostedService(sp => sp.GetRequiredService<TrackWriteQueue>());
-        builder.UseOrleans(silo => silo.UseLocalhostClustering());
+        var settings = OrleansSiloSettings.From(builder.Configuration);
+        if (settings.Clustering == ClusteringMode.Postgres
+            && string.IsNullOrEmpty(builder.Configuration.GetConnectionString(FusionDatabase.ConnectionStringName)))
+        {
+            throw new InvalidOperationException(
+                "Orleans:ClusterMode=Postgres needs ConnectionStrings:Fusion (ConnectionStrings__Fusion): the processes of a "
+                + "cluster share one PostgreSQL server, and an embedded one is private to its process.");
+        }
+
+        builder.UseOrleans(silo =>
+        {
+            silo.Services.AddSingleton<PlacementStrategy, PreferLocalPlacement>();
+            if (settings.Clustering == ClusteringMode.Localhost)
+            {
+                silo.UseLocalhostClustering();
+                return;
+            }
+
+            silo.Configure<ClusterOptions>(cluster =>
+            {
+                cluster.ClusterId = settings.ClusterId;
+                cluster.ServiceId = "fusionservice";
+            });
+            silo.Configure<ClusterMembershipOptions>(membership =>
+            {
+                membership.ProbeTimeout = TimeSpan.FromSeconds(settings.ProbeTimeoutS);
+                membership.NumMissedProbesLimit = settings.MissedProbesLimit;
+            });
+            silo.Services.AddSingleton<IMembershipTable, PostgresMembershipTable>();
+        });
 
         // After the silo: hosted services stop in reverse order, so deliveries in flight finish before the silo stops.
         builder.Services.AddHostedService(sp => sp.GetRequiredService<TrackDispatcher>());
+
+        // Ports and address are read when the options are built, so that configuration added after this call (the
+        // tests' host factory) still counts.
         builder.Services.AddOptions<EndpointOptions>().PostConfigure<IConfiguration>((endpoints, configuration) =>
         {
-            endpoints.SiloPort = configuration.GetValue("Orleans:SiloPort", 11111);
-            endpoints.GatewayPort = configuration.GetValue("Orleans:GatewayPort", 30000);
+            var late = OrleansSiloSettings.From(configuration);
+            endpoints.SiloPort = late.SiloPort;
+            endpoints.GatewayPort = late.GatewayPort;
+            if (late.Clustering == ClusteringMode.Postgres && late.AdvertisedAddress is not null)
+            {
+                endpoints.AdvertisedIPAddress = System.Net.IPAddress.Parse(late.AdvertisedAddress);
+            }
         });
         builder.Services.AddOptions<DevelopmentClusterMembershipOptions>().PostConfigure<IConfiguration>((membership, configuration) =>
-            membership.PrimarySiloEndpoint = new System.Net.IPEndPoint(System.Net.IPAddress.Loopback, configuration.GetValue("Orleans:SiloPort", 11111)));
+            membership.PrimarySiloEndpoint = new System.Net.IPEndPoint(System.Net.IPAddress.Loopback, OrleansSiloSettings.From(configuration).SiloPort));
         return builder;
     }
 }

@@ -1,0 +1,85 @@
+// docker-compose.yml cannot be run here (no Docker engine): its structure and its settings are checked instead.
+using FusionService.Tracking.Cluster;
+using Microsoft.Extensions.Configuration;
+using Npgsql;
+using YamlDotNet.RepresentationModel;
+
+namespace FusionService.Tests.Deployment;
+
+public sealed class ComposeFileTests
+{
+    private static readonly string Root = FindRoot();
+
+    [Fact]
+    public void Three_replicas_form_one_postgres_cluster_behind_the_proxy()
+    {
+        var services = Map(Load("docker-compose.yml"), "services");
+        var postgres = Map(services, "postgres");
+        var service = Map(services, "fusionservice");
+        var proxy = Map(services, "proxy");
+
+        Assert.Equal("3", Scalar(Map(service, "deploy"), "replicas"));
+        var environment = Map(service, "environment");
+
+        // The replicas' settings are ones the service itself accepts, in cluster mode.
+        var configuration = new ConfigurationBuilder()
+            .AddInMemoryCollection(environment.Children.Select(e => new KeyValuePair<string, string?>(
+                ((YamlScalarNode)e.Key).Value!.Replace("__", ":", StringComparison.Ordinal), ((YamlScalarNode)e.Value).Value)))
+            .Build();
+        var orleans = OrleansSiloSettings.From(configuration);
+        Assert.Equal(ClusteringMode.Postgres, orleans.Clustering);
+        Assert.Contains(orleans.SiloPort.ToString(System.Globalization.CultureInfo.InvariantCulture), Sequence(service, "expose"));
+        Assert.Contains("8080", Sequence(service, "expose"));
+
+        // Their connection string names the compose PostgreSQL with its database, user and password.
+        var connection = new NpgsqlConnectionStringBuilder(configuration.GetConnectionString("Fusion"));
+        var pg = Map(postgres, "environment");
+        Assert.Equal("postgres", connection.Host);
+        Assert.Equal(Scalar(pg, "POSTGRES_DB"), connection.Database);
+        Assert.Equal(Scalar(pg, "POSTGRES_USER"), connection.Username);
+        Assert.Equal(Scalar(pg, "POSTGRES_PASSWORD"), connection.Password);
+        Assert.Equal("service_healthy", Scalar(Map(Map(service, "depends_on"), "postgres"), "condition"));
+
+        // Only the proxy is published; its configuration file exists and forwards to the replicas' port 8080.
+        Assert.False(service.Children.ContainsKey(new YamlScalarNode("ports")), "the replicas must not publish a host port (3 would clash)");
+        Assert.Equal(["8080:8080"], Sequence(proxy, "ports"));
+        string mount = Sequence(proxy, "volumes").Single();
+        string file = mount.Split(':')[0];
+        Assert.True(File.Exists(Path.Combine(Root, file)), "the proxy's configuration " + file + " is missing");
+        string nginx = File.ReadAllText(Path.Combine(Root, file));
+        Assert.Contains("server fusionservice:8080", nginx, StringComparison.Ordinal);
+        Assert.Contains("proxy_pass http://fusionservice;", nginx, StringComparison.Ordinal);
+        Assert.Equal("deploy/Dockerfile", Scalar(Map(service, "build"), "dockerfile"));
+        Assert.True(File.Exists(Path.Combine(Root, "deploy", "Dockerfile")));
+    }
+
+    private static YamlMappingNode Load(string name)
+    {
+        var stream = new YamlStream();
+        using var reader = new StreamReader(Path.Combine(Root, name));
+        stream.Load(reader);
+        return (YamlMappingNode)Assert.Single(stream.Documents).RootNode;
+    }
+
+    private static YamlMappingNode Map(YamlMappingNode node, string key) =>
+        Assert.IsType<YamlMappingNode>(node.Children[new YamlScalarNode(key)]);
+
+    private static string Scalar(YamlMappingNode node, string key) =>
+        Assert.IsType<YamlScalarNode>(node.Children[new YamlScalarNode(key)]).Value!;
+
+    private static string[] Sequence(YamlMappingNode node, string key) =>
+        [.. Assert.IsType<YamlSequenceNode>(node.Children[new YamlScalarNode(key)]).Children.Select(c => ((YamlScalarNode)c).Value!)];
+
+    private static string FindRoot()
+    {
+        for (var dir = new DirectoryInfo(AppContext.BaseDirectory); dir is not null; dir = dir.Parent)
+        {
+            if (File.Exists(Path.Combine(dir.FullName, "FusionService.sln")))
+            {
+                return dir.FullName;
+            }
+        }
+
+        throw new InvalidOperationException("FusionService.sln not found above " + AppContext.BaseDirectory);
+    }
+}
