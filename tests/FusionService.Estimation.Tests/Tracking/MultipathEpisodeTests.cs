@@ -1,5 +1,3 @@
-using FusionService.Estimation.Geodesy;
-using FusionService.Estimation.LinearAlgebra;
 using FusionService.Estimation.Measurements;
 using FusionService.Estimation.Models;
 using FusionService.Estimation.Smoothing;
@@ -19,9 +17,6 @@ namespace FusionService.Estimation.Tests.Tracking;
 /// </summary>
 public sealed class MultipathEpisodeTests(ITestOutputHelper output)
 {
-    // Upper 5 % point of chi-square with 2 dof, -2 ln 0.05 (NIST/SEMATECH handbook 1.3.6.7.4; derived).
-    private const double Inside95 = 5.991464547107979;
-
     private static readonly TrackProcessor Processor = new(new TrackOptions(), NoiseProfile.DeliveryVan);
 
     [Fact]
@@ -49,11 +44,11 @@ public sealed class MultipathEpisodeTests(ITestOutputHelper output)
             }
 
             Assert.DoesNotContain(replay.Outcomes, o => o.Outcome.Kind == OutcomeKind.TrackReset);
-            (double rmse, long n, long inside) = Smoothed(run, replay);
-            (double cleanRmse, _, _) = Smoothed(withoutEpisodes, cleanReplay);
+            (double rmse, long n, long inside) = TruthTally.Smoothed(run, replay);
+            (double cleanRmse, _, _) = TruthTally.Smoothed(withoutEpisodes, cleanReplay);
             smoothed += n;
             smoothedInside += inside;
-            (long fn, long fInside) = Filtered(run, replay);
+            (_, long fn, long fInside) = TruthTally.Filtered(run, replay);
             filtered += fn;
             filteredInside += fInside;
             output.WriteLine($"seed {seed}: smoothed RMSE {rmse:F2} m, same drive without the episodes {cleanRmse:F2} m");
@@ -117,60 +112,5 @@ public sealed class MultipathEpisodeTests(ITestOutputHelper output)
         (double de, double dn) = run.Truth.OffsetOf(after.TimeUs, after.Plane, after.Filtered[EastM], after.Filtered[NorthM]);
         output.WriteLine($"filtered error 5 s later {Math.Sqrt((de * de) + (dn * dn)):F1} m");
         Assert.True(Math.Sqrt((de * de) + (dn * dn)) < 8.0, $"still {Math.Sqrt((de * de) + (dn * dn)):F1} m off");
-    }
-
-    private static (double Rmse, long Count, long Inside) Smoothed(ScenarioRun run, ReplayResult replay)
-    {
-        double sum = 0;
-        long count = 0, inside = 0, lastSecond = long.MinValue;
-        foreach (SmoothedSegment segment in replay.Smoothed)
-        {
-            for (int k = 0; k < segment.Count; k++)
-            {
-                long second = segment.TimesUs[k] / 1_000_000;
-                if (second == lastSecond || !run.Truth.Covers(segment.TimesUs[k]))
-                {
-                    continue;
-                }
-
-                lastSecond = second;
-                (double de, double dn) = run.Truth.OffsetOf(segment.TimesUs[k], segment.Planes[k], segment.Means[k][EastM], segment.Means[k][NorthM]);
-                sum += (de * de) + (dn * dn);
-                count++;
-                inside += Mahalanobis2(segment.Covariances[k], de, dn) <= Inside95 ? 1 : 0;
-            }
-        }
-
-        return (Math.Sqrt(sum / count), count, inside);
-    }
-
-    private static (long Count, long Inside) Filtered(ScenarioRun run, ReplayResult replay)
-    {
-        long count = 0, inside = 0, lastSecond = long.MinValue;
-        foreach (IReadOnlyList<ForwardStep> segment in replay.Forward)
-        {
-            foreach (ForwardStep step in segment)
-            {
-                long second = step.TimeUs / 1_000_000;
-                if (second == lastSecond || !run.Truth.Covers(step.TimeUs))
-                {
-                    continue;
-                }
-
-                lastSecond = second;
-                (double de, double dn) = run.Truth.OffsetOf(step.TimeUs, step.Plane, step.Filtered[EastM], step.Filtered[NorthM]);
-                count++;
-                inside += Mahalanobis2(step.FilteredCovariance, de, dn) <= Inside95 ? 1 : 0;
-            }
-        }
-
-        return (count, inside);
-    }
-
-    private static double Mahalanobis2(in StateMatrix p, double de, double dn)
-    {
-        const int N = StateMatrix.Size;
-        double a = p[(EastM * N) + EastM], b = p[(EastM * N) + NorthM], c = p[(NorthM * N) + NorthM];
-        return ((c * de * de) - (2 * b * de * dn) + (a * dn * dn)) / ((a * c) - (b * b));
     }
 }

@@ -5,7 +5,6 @@ using FusionService.Estimation.Smoothing;
 using FusionService.Estimation.Tracking;
 using FusionService.Scenarios;
 using Xunit.Abstractions;
-using static FusionService.Estimation.Models.StateIndex;
 
 namespace FusionService.Estimation.Tests.Tracking;
 
@@ -156,37 +155,12 @@ public sealed class StreamIsolationTests(ITestOutputHelper output)
 
     private void AssertIsolatedAndClose(ScenarioRun run, ReplayResult faulty, ReplayResult without, SensorKind kind, string stream)
     {
-        double rmseFaulty = SmoothedRmse(run, faulty), rmseWithout = SmoothedRmse(run, without);
+        double rmseFaulty = TruthTally.Smoothed(run, faulty).RmseM, rmseWithout = TruthTally.Smoothed(run, without).RmseM;
         int resets = faulty.Outcomes.Count(o => o.Outcome.Kind == OutcomeKind.TrackReset);
         long firstUs = faulty.Outcomes.Where(o => o.Outcome.Isolated && o.Measurement.Kind == kind).Select(o => o.Measurement.TimeUs).DefaultIfEmpty(long.MaxValue).Min();
         output.WriteLine($"{stream}: isolated {(firstUs - run.Measurements[0].TimeUs) / 1e6:F0} s into the drive; smoothed RMSE {rmseFaulty:F2} m, without the stream {rmseWithout:F2} m; {resets} resets");
         Assert.True(firstUs != long.MaxValue, $"the {stream} was never isolated");
         Assert.True(rmseFaulty <= 1.5 * rmseWithout, $"smoothed RMSE {rmseFaulty:F2} m, without the {stream} {rmseWithout:F2} m");
         Assert.True(resets <= 2, $"{resets} resets");
-    }
-
-    /// <summary>Horizontal RMSE of the smoothed track at the first step of each second the truth covers, metres.</summary>
-    private static double SmoothedRmse(ScenarioRun run, ReplayResult replay)
-    {
-        double sum = 0;
-        long count = 0, lastSecond = long.MinValue;
-        foreach (SmoothedSegment segment in replay.Smoothed)
-        {
-            for (int k = 0; k < segment.Count; k++)
-            {
-                long second = segment.TimesUs[k] / 1_000_000;
-                if (second == lastSecond || !run.Truth.Covers(segment.TimesUs[k]))
-                {
-                    continue;
-                }
-
-                lastSecond = second;
-                (double de, double dn) = run.Truth.OffsetOf(segment.TimesUs[k], segment.Planes[k], segment.Means[k][EastM], segment.Means[k][NorthM]);
-                sum += (de * de) + (dn * dn);
-                count++;
-            }
-        }
-
-        return Math.Sqrt(sum / count);
     }
 }

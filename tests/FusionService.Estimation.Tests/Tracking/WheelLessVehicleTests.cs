@@ -1,11 +1,9 @@
-using FusionService.Estimation.LinearAlgebra;
 using FusionService.Estimation.Measurements;
 using FusionService.Estimation.Models;
 using FusionService.Estimation.Smoothing;
 using FusionService.Estimation.Tracking;
 using FusionService.Scenarios;
 using Xunit.Abstractions;
-using static FusionService.Estimation.Models.StateIndex;
 
 namespace FusionService.Estimation.Tests.Tracking;
 
@@ -18,9 +16,6 @@ namespace FusionService.Estimation.Tests.Tracking;
 /// </summary>
 public sealed class WheelLessVehicleTests(ITestOutputHelper output)
 {
-    // Upper 5 % point of chi-square with 2 dof, -2 ln 0.05 (NIST/SEMATECH handbook 1.3.6.7.4; derived).
-    private const double Inside95 = 5.991464547107979;
-
     [Fact]
     public void Issue12_a_van_without_wheel_speed_stands_still_at_its_stops_and_keeps_an_honest_ellipse()
     {
@@ -42,9 +37,13 @@ public sealed class WheelLessVehicleTests(ITestOutputHelper output)
                 }
             }
 
-            Tally(run, wheelLess, ref count, ref inside, ref sumSq);
-            long ignored = 0;
-            Tally(run, withWheels, ref countWheels, ref ignored, ref sumSqWheels);
+            (double rmseRun, long n, long nInside) = TruthTally.Filtered(run, wheelLess);
+            count += n;
+            inside += nInside;
+            sumSq += rmseRun * rmseRun * n;
+            (double rmseWheelsRun, long nWheels, _) = TruthTally.Filtered(run, withWheels);
+            countWheels += nWheels;
+            sumSqWheels += rmseWheelsRun * rmseWheelsRun * nWheels;
         }
 
         double share = (double)inside / count, rmse = Math.Sqrt(sumSq / count), rmseWheels = Math.Sqrt(sumSqWheels / countWheels);
@@ -67,30 +66,5 @@ public sealed class WheelLessVehicleTests(ITestOutputHelper output)
         }
 
         return true;
-    }
-
-    private static void Tally(ScenarioRun run, ReplayResult replay, ref long count, ref long inside, ref double sumSq)
-    {
-        long lastSecond = long.MinValue;
-        foreach (IReadOnlyList<ForwardStep> segment in replay.Forward)
-        {
-            foreach (ForwardStep step in segment)
-            {
-                long second = step.TimeUs / 1_000_000;
-                if (second == lastSecond || !run.Truth.Covers(step.TimeUs))
-                {
-                    continue;
-                }
-
-                lastSecond = second;
-                (double de, double dn) = run.Truth.OffsetOf(step.TimeUs, step.Plane, step.Filtered[EastM], step.Filtered[NorthM]);
-                const int N = StateMatrix.Size;
-                double a = step.FilteredCovariance[(EastM * N) + EastM], b = step.FilteredCovariance[(EastM * N) + NorthM], c = step.FilteredCovariance[(NorthM * N) + NorthM];
-                double d2 = ((c * de * de) - (2 * b * de * dn) + (a * dn * dn)) / ((a * c) - (b * b));
-                count++;
-                inside += d2 <= Inside95 ? 1 : 0;
-                sumSq += (de * de) + (dn * dn);
-            }
-        }
     }
 }
