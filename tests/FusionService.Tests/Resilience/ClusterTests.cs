@@ -28,8 +28,8 @@ public sealed class ClusterTests(ServiceFixture fixture, ITestOutputHelper outpu
         using var clientB = Client(urlB, fleet.IngestKey);
         using var readA = Client(urlA, fleet.ReadKey);
         using var readB = Client(urlB, fleet.ReadKey);
-        await WaitUntilReadyAsync(clientA, a);
-        await WaitUntilReadyAsync(clientB, b);
+        await ServiceProcessReadiness.WaitUntilReadyAsync(clientA, a);
+        await ServiceProcessReadiness.WaitUntilReadyAsync(clientB, b);
 
         // Both processes are members of the cluster (rows of the migration's membership table, status 3 = Active
         // in Orleans' SiloStatus).
@@ -125,30 +125,5 @@ public sealed class ClusterTests(ServiceFixture fixture, ITestOutputHelper outpu
         process.BeginOutputReadLine();
         process.BeginErrorReadLine();
         return process;
-    }
-
-    private static async Task WaitUntilReadyAsync(HttpClient client, Process service)
-    {
-        var deadline = DateTime.UtcNow.AddSeconds(60);
-        while (DateTime.UtcNow < deadline)
-        {
-            Assert.False(service.HasExited, "the service process exited during start-up");
-            try
-            {
-                using var response = await client.GetAsync("/health/ready");
-                if (response.IsSuccessStatusCode)
-                {
-                    return;
-                }
-            }
-            catch (HttpRequestException)
-            {
-                // Not listening yet.
-            }
-
-            await Task.Delay(200);
-        }
-
-        Assert.Fail("the service process did not become ready within 60 s");
     }
 }

@@ -26,7 +26,7 @@ public sealed class CrashRestartTests(ServiceFixture fixture, ITestOutputHelper 
         using (var service = StartServiceProcess(port))
         {
             using var client = new HttpClient { BaseAddress = new Uri("http://127.0.0.1:" + port.ToString(CultureInfo.InvariantCulture)) };
-            await WaitUntilReadyAsync(client, service);
+            await ServiceProcessReadiness.WaitUntilReadyAsync(client, service);
             client.DefaultRequestHeaders.Authorization = new AuthenticationHeaderValue("Bearer", fleet.IngestKey);
             for (int from = 0; from < KillAfter; from += 100)
             {
@@ -85,30 +85,5 @@ public sealed class CrashRestartTests(ServiceFixture fixture, ITestOutputHelper 
         process.BeginOutputReadLine();
         process.BeginErrorReadLine();
         return process;
-    }
-
-    private static async Task WaitUntilReadyAsync(HttpClient client, Process service)
-    {
-        var deadline = DateTime.UtcNow.AddSeconds(60);
-        while (DateTime.UtcNow < deadline)
-        {
-            Assert.False(service.HasExited, "the service process exited during start-up");
-            try
-            {
-                using var response = await client.GetAsync("/health/ready");
-                if (response.IsSuccessStatusCode)
-                {
-                    return;
-                }
-            }
-            catch (HttpRequestException)
-            {
-                // Not listening yet.
-            }
-
-            await Task.Delay(200);
-        }
-
-        Assert.Fail("the service process did not become ready within 60 s");
     }
 }
