@@ -73,17 +73,20 @@ public sealed class HostileInputRunTests(ServiceFixture fixture)
         GC.Collect();
         GC.WaitForPendingFinalizers();
         long baselineB = GC.GetTotalMemory(forceFullCollection: true);
-        long peakB = baselineB;
+        long peakLiveB = baselineB;
         long baselineWorkingSetB = Environment.WorkingSet;
         long peakWorkingSetB = baselineWorkingSetB;
         using var sampling = new CancellationTokenSource();
         var sampler = Task.Run(async () =>
         {
+            // Live memory, not garbage: a blocking full collection first, so the figure does not depend on how much
+            // garbage this machine's GC lets pile up between collections (its budgets grow with cache size and cores).
             while (!sampling.IsCancellationRequested)
             {
-                peakB = Math.Max(peakB, GC.GetTotalMemory(forceFullCollection: false));
+                GC.Collect(GC.MaxGeneration, GCCollectionMode.Forced, blocking: true);
+                peakLiveB = Math.Max(peakLiveB, GC.GetTotalMemory(forceFullCollection: false));
                 peakWorkingSetB = Math.Max(peakWorkingSetB, Environment.WorkingSet);
-                await Task.Delay(50);
+                await Task.Delay(250);
             }
         });
 
@@ -144,13 +147,14 @@ public sealed class HostileInputRunTests(ServiceFixture fixture)
         long retainedB = GC.GetTotalMemory(forceFullCollection: true) - baselineB;
         Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
             $"hostile run: {requests.Count} HTTP requests + {WebSockets} WebSockets in {elapsed.TotalSeconds:0.0} s; {validMeasurements} valid measurements stored; "
-            + $"million-line NDJSON allocated {millionAllocatedB / 1048576.0:0.0} MB; managed heap (garbage included) peaked "
-            + $"{(peakB - baselineB) / 1048576.0:0} MB and the working set {(peakWorkingSetB - baselineWorkingSetB) / 1048576.0:0} MB "
+            + $"million-line NDJSON allocated {millionAllocatedB / 1048576.0:0.0} MB; live managed heap peaked "
+            + $"{(peakLiveB - baselineB) / 1048576.0:0} MB and the working set {(peakWorkingSetB - baselineWorkingSetB) / 1048576.0:0} MB "
             + $"over the baseline ({baselineWorkingSetB / 1048576.0:0} MB); {retainedB / 1048576.0:0} MB retained after a full collection"));
 
-        // The working set includes the uncollected garbage of the large bodies (large-object heap, collected with gen 2)
-        // and the client's side of the run; the bound is what six concurrent 4 MiB bodies may cost, with room to spare.
-        Assert.True(peakWorkingSetB - baselineWorkingSetB < 1L << 30, $"working set grew {(peakWorkingSetB - baselineWorkingSetB) / 1048576.0:0} MB (limit 1024 MB)");
+        // Live memory while under attack: the bodies in flight (six workers, 4 MiB each at most, read once into one
+        // buffer, both the client's and the service's copy) and the pools. The working set is printed, not asserted: it
+        // also holds garbage, whose amount is the GC's budget on this machine, not the service's doing.
+        Assert.True(peakLiveB - baselineB < 256L << 20, $"live managed heap grew {(peakLiveB - baselineB) / 1048576.0:0} MB during the run (limit 256 MB)");
         // What stays after a full collection is pools (Kestrel's memory pool, ArrayPool, connection pools), grain
         // activations and caches filled once: 45-57 MB measured. Keeping the bodies would exceed the bound many times
         // over: the oversized ones alone add up to more than 100 MB.
