@@ -4,9 +4,9 @@
 
 -- vehicle_latest_states: the newest stored fused state of each vehicle (the row of fused_states with the greatest
 -- time_us). Written in the same transaction as the fused states (FusedStateUpserter); a re-processed older instant
--- never replaces a newer one.
+-- never replaces a newer one. No foreign key, like fused_states: the fused-state write must never fail on one.
 CREATE TABLE vehicle_latest_states (
-    fleet_id                uuid             NOT NULL REFERENCES fleets (fleet_id) ON DELETE CASCADE,
+    fleet_id                uuid             NOT NULL,
     vehicle_id              text             NOT NULL,
     time_us                 bigint           NOT NULL,
     lat_deg                 double precision NOT NULL,
@@ -38,7 +38,7 @@ INSERT INTO vehicle_latest_states (fleet_id, vehicle_id, time_us, lat_deg, lon_d
                                    ellipse_major_m, ellipse_minor_m, ellipse_orientation_rad)
 SELECT DISTINCT ON (f.fleet_id, f.vehicle_id) f.fleet_id, f.vehicle_id, f.time_us, f.lat_deg, f.lon_deg, f.heading_rad,
        f.speed_mps, f.ellipse_major_m, f.ellipse_minor_m, f.ellipse_orientation_rad
-FROM fused_states f JOIN fleets USING (fleet_id)
+FROM fused_states f
 ORDER BY f.fleet_id, f.vehicle_id, f.time_us DESC;
 
 INSERT INTO vehicle_receipts (fleet_id, vehicle_id, kind, last_received_at, last_measured_at)
