@@ -8,7 +8,7 @@ namespace FusionService.Storage.Alerts;
 /// <param name="Kind">One alert kind.</param>
 /// <param name="From">Alerts still active at or after this instant (ended_at null or at/after it).</param>
 /// <param name="To">Alerts started at or before this instant.</param>
-/// <param name="Limit">Most rows returned (1-1000).</param>
+/// <param name="Limit">Most rows returned (1-1001: a page of up to 1000 and one to tell whether more follow).</param>
 /// <param name="SeverityFirst">Order critical, warning, info first, then newest start first; otherwise newest start first.</param>
 /// <param name="After">Paging: only rows after this one in the chosen order; null to start at the first.</param>
 public sealed record AlertQuery(

@@ -16,6 +16,9 @@ public sealed class AlertRepository
 
     private const string RankSql = "(CASE severity WHEN 'critical' THEN 3 WHEN 'warning' THEN 2 WHEN 'info' THEN 1 ELSE 0 END)";
 
+    // A page of at most 1000 plus one row that tells the caller whether another page follows.
+    private const int MaxRows = 1001;
+
     private readonly NpgsqlDataSource _dataSource;
 
     /// <summary>Creates the repository.</summary>
@@ -161,7 +164,7 @@ public sealed class AlertRepository
             command.Parameters.Add(new NpgsqlParameter { Value = (object?)query.Kind ?? DBNull.Value, NpgsqlDbType = NpgsqlDbType.Text });
             command.Parameters.Add(new NpgsqlParameter { Value = (object?)query.From ?? DBNull.Value, NpgsqlDbType = NpgsqlDbType.TimestampTz });
             command.Parameters.Add(new NpgsqlParameter { Value = (object?)query.To ?? DBNull.Value, NpgsqlDbType = NpgsqlDbType.TimestampTz });
-            command.Parameters.Add(new NpgsqlParameter { Value = Math.Clamp(query.Limit, 1, 1000) });
+            command.Parameters.Add(new NpgsqlParameter { Value = Math.Clamp(query.Limit, 1, MaxRows) });
             command.Parameters.Add(new NpgsqlParameter { Value = (object?)query.After?.SeverityRank ?? DBNull.Value, NpgsqlDbType = NpgsqlDbType.Integer });
             command.Parameters.Add(new NpgsqlParameter { Value = (object?)query.After?.StartedAt ?? DBNull.Value, NpgsqlDbType = NpgsqlDbType.TimestampTz });
             command.Parameters.Add(new NpgsqlParameter { Value = (object?)query.After?.AlertId ?? DBNull.Value, NpgsqlDbType = NpgsqlDbType.Uuid });

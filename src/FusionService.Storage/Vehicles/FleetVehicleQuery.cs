@@ -9,7 +9,7 @@ namespace FusionService.Storage.Vehicles;
 /// <param name="Statuses">Only vehicles in these states (<see cref="FleetVehicleRow.Status"/>); null for all.</param>
 /// <param name="WithOpenAlerts">true: only vehicles with an open alert; false: only without; null: all.</param>
 /// <param name="After">Only vehicle ids after this one in byte order (paging); null to start at the first.</param>
-/// <param name="Limit">Most rows returned (1-1000).</param>
+/// <param name="Limit">Most rows returned (1-1001: a page of up to 1000 and one to tell whether more follow).</param>
 public sealed record FleetVehicleQuery(
     Guid FleetId,
     DateTimeOffset NowUtc,

@@ -45,6 +45,9 @@ public sealed class FleetVehicleRepository(NpgsqlDataSource dataSource)
         LIMIT $8
         """;
 
+    // A page of at most 1000 plus one row that tells the caller whether another page follows.
+    private const int MaxRows = 1001;
+
     private readonly NpgsqlDataSource _dataSource = dataSource ?? throw new ArgumentNullException(nameof(dataSource));
 
     /// <summary>The vehicles of the fleet that have an estimate and pass the filters, in byte order of their ids.</summary>
@@ -63,7 +66,7 @@ public sealed class FleetVehicleRepository(NpgsqlDataSource dataSource)
             command.Parameters.Add(new NpgsqlParameter { Value = (object?)query.After ?? DBNull.Value, NpgsqlDbType = NpgsqlDbType.Text });
             command.Parameters.Add(new NpgsqlParameter { Value = query.Statuses is null ? DBNull.Value : query.Statuses.ToArray(), NpgsqlDbType = NpgsqlDbType.Array | NpgsqlDbType.Text });
             command.Parameters.Add(new NpgsqlParameter { Value = (object?)query.WithOpenAlerts ?? DBNull.Value, NpgsqlDbType = NpgsqlDbType.Boolean });
-            command.Parameters.Add(new NpgsqlParameter { Value = Math.Clamp(query.Limit, 1, 1000) });
+            command.Parameters.Add(new NpgsqlParameter { Value = Math.Clamp(query.Limit, 1, MaxRows) });
             var reader = await command.ExecuteReaderAsync(cancellationToken).ConfigureAwait(false);
             await using (reader.ConfigureAwait(false))
             {
