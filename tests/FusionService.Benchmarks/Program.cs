@@ -20,6 +20,14 @@ if (args.Length > 0 && string.Equals(args[0], "history-split", StringComparison.
     return;
 }
 
+if (args.Length > 0 && string.Equals(args[0], "fleet-list", StringComparison.Ordinal))
+{
+    await FleetListSplit.RunAsync(
+        args.Length > 1 ? int.Parse(args[1], System.Globalization.CultureInfo.InvariantCulture) : 12,
+        args.Length > 2 ? int.Parse(args[2], System.Globalization.CultureInfo.InvariantCulture) : 20);
+    return;
+}
+
 if (args.Length > 0 && string.Equals(args[0], "consistency", StringComparison.Ordinal))
 {
     ConsistencyReport.Run(

@@ -8,7 +8,7 @@ using FusionService.Scenarios;
 namespace FusionService.Simulator.Fleet;
 
 /// <summary>
-/// An invented demo scenario: the parcel depot of the invented town of Brackenholt (a 10 x 8 street grid of 120 m
+/// An invented demo scenario: the parcel depot of the invented town of Brackenholt, placed on open sea (a 10 x 8 street grid of 120 m
 /// blocks, <see cref="DeliveryNetwork"/>), 8-20 vans leaving it one after another on delivery rounds with stops of a
 /// few minutes, and deliberate faults, listed by <see cref="Faults"/>:
 /// <list type="bullet">
@@ -29,6 +29,16 @@ public sealed class DemoFleet
 {
     /// <summary>Invented name of the demo town.</summary>
     public const string TownName = "Brackenholt";
+
+    /// <summary>
+    /// Latitude of the depot, degrees: the invented town lies in the open North Pacific (46.12 N, 170.47 E), about 800 km
+    /// from the nearest island and farther from any mainland, so that no real street, village or valley lies beneath it
+    /// and it can never be taken for a real place (with map tiles on it lies on open water).
+    /// </summary>
+    public const double DepotLatitudeDeg = 46.12;
+
+    /// <summary>Longitude of the depot, degrees (see <see cref="DepotLatitudeDeg"/>).</summary>
+    public const double DepotLongitudeDeg = 170.47;
 
     /// <summary>Index of the van with the 3 % wheel-size error ("van-03").</summary>
     public const int WheelSizeVanIndex = 2;
@@ -79,7 +89,7 @@ public sealed class DemoFleet
     {
         Options = options ?? new DemoFleetOptions();
         Options.Validate();
-        Network = new DeliveryNetwork(laneCount: 10, streetCount: 8, blockM: 120.0, originLatitudeDeg: 46.12, originLongitudeDeg: 8.47);
+        Network = new DeliveryNetwork(laneCount: 10, streetCount: 8, blockM: 120.0, originLatitudeDeg: DepotLatitudeDeg, originLongitudeDeg: DepotLongitudeDeg);
         CanyonZone = new FaultZone("Tanners' Quarter", 360.0, 720.0, 240.0, 480.0);
         UnderpassZone = new FaultZone(
             string.Create(CultureInfo.InvariantCulture, $"railway underpass on {Network.LaneName(1)}"), 105.0, 135.0, 92.0, 148.0);

@@ -21,7 +21,7 @@ namespace FusionService.Simulator.Load;
 public sealed class LoadGenerator
 {
     private const double BaseLatitudeDeg = 46.12;
-    private const double BaseLongitudeDeg = 8.47;
+    private const double BaseLongitudeDeg = 170.47; // open sea, as the demo town (DemoFleet.DepotLongitudeDeg)
     private const long StepUs = 100_000;
 
     private readonly HttpClient _http;

@@ -14,6 +14,11 @@ public sealed class AlertRepository
     private const string Columns =
         "alert_id, fleet_id, vehicle_id, kind, severity, state, started_at, ended_at, last_seen_at, count, summary, details::text, updated_at, acknowledged_at, acknowledged_by_key_id, acknowledged_by_label";
 
+    private const string RankSql = "(CASE severity WHEN 'critical' THEN 3 WHEN 'warning' THEN 2 WHEN 'info' THEN 1 ELSE 0 END)";
+
+    // A page of at most 1000 plus one row that tells the caller whether another page follows.
+    private const int MaxRows = 1001;
+
     private readonly NpgsqlDataSource _dataSource;
 
     /// <summary>Creates the repository.</summary>
@@ -136,17 +141,22 @@ public sealed class AlertRepository
         return new AlertApplyResult(changed, deliveries);
     }
 
-    /// <summary>Alerts of <paramref name="query"/>'s fleet matching its filters, newest start first.</summary>
+    /// <summary>Alerts of <paramref name="query"/>'s fleet matching its filters, newest start first (or severity first).</summary>
     public async Task<IReadOnlyList<AlertRow>> ListAsync(AlertQuery query, CancellationToken cancellationToken = default)
     {
         ArgumentNullException.ThrowIfNull(query);
+        string order = query.SeverityFirst ? RankSql + " DESC, started_at DESC, alert_id DESC" : "started_at DESC, alert_id DESC";
+        string after = query.SeverityFirst
+            ? "AND ($8::int IS NULL OR (" + RankSql + ", started_at, alert_id) < ($8, $9, $10)) "
+            : "AND ($8::int IS NULL OR (started_at, alert_id) < ($9, $10)) ";
         var connection = await _dataSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
         await using (connection.ConfigureAwait(false))
         {
             await using var command = new NpgsqlCommand(
-                "SELECT " + Columns + " FROM alerts WHERE fleet_id = $1 AND ($2::text IS NULL OR state = $2) AND ($3::text IS NULL OR vehicle_id = $3) "
+                "SELECT " + Columns + " FROM alerts WHERE fleet_id = $1 "
+                + "AND ($2::text IS NULL OR state = $2 OR ($2 = 'unresolved' AND state <> 'resolved')) AND ($3::text IS NULL OR vehicle_id = $3) "
                 + "AND ($4::text IS NULL OR kind = $4) AND ($5::timestamptz IS NULL OR ended_at IS NULL OR ended_at >= $5) "
-                + "AND ($6::timestamptz IS NULL OR started_at <= $6) ORDER BY started_at DESC, alert_id DESC LIMIT $7",
+                + "AND ($6::timestamptz IS NULL OR started_at <= $6) " + after + "ORDER BY " + order + " LIMIT $7",
                 connection);
             command.Parameters.Add(new NpgsqlParameter { Value = query.FleetId });
             command.Parameters.Add(new NpgsqlParameter { Value = (object?)query.State ?? DBNull.Value, NpgsqlDbType = NpgsqlDbType.Text });
@@ -154,10 +164,22 @@ public sealed class AlertRepository
             command.Parameters.Add(new NpgsqlParameter { Value = (object?)query.Kind ?? DBNull.Value, NpgsqlDbType = NpgsqlDbType.Text });
             command.Parameters.Add(new NpgsqlParameter { Value = (object?)query.From ?? DBNull.Value, NpgsqlDbType = NpgsqlDbType.TimestampTz });
             command.Parameters.Add(new NpgsqlParameter { Value = (object?)query.To ?? DBNull.Value, NpgsqlDbType = NpgsqlDbType.TimestampTz });
-            command.Parameters.Add(new NpgsqlParameter { Value = Math.Clamp(query.Limit, 1, 1000) });
+            command.Parameters.Add(new NpgsqlParameter { Value = Math.Clamp(query.Limit, 1, MaxRows) });
+            command.Parameters.Add(new NpgsqlParameter { Value = (object?)query.After?.SeverityRank ?? DBNull.Value, NpgsqlDbType = NpgsqlDbType.Integer });
+            command.Parameters.Add(new NpgsqlParameter { Value = (object?)query.After?.StartedAt ?? DBNull.Value, NpgsqlDbType = NpgsqlDbType.TimestampTz });
+            command.Parameters.Add(new NpgsqlParameter { Value = (object?)query.After?.AlertId ?? DBNull.Value, NpgsqlDbType = NpgsqlDbType.Uuid });
             return await ReadAllAsync(command, cancellationToken).ConfigureAwait(false);
         }
     }
+
+    /// <summary>The rank of a severity in the severity-first order: 3 critical, 2 warning, 1 info (0 for anything else).</summary>
+    public static int SeverityRank(string severity) => severity switch
+    {
+        "critical" => 3,
+        "warning" => 2,
+        "info" => 1,
+        _ => 0,
+    };
 
     /// <summary>The alert <paramref name="alertId"/> of <paramref name="fleetId"/>, or null (also for another fleet's alert).</summary>
     public async Task<AlertRow?> GetAsync(Guid fleetId, Guid alertId, CancellationToken cancellationToken = default)

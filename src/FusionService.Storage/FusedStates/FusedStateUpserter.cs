@@ -5,7 +5,8 @@ namespace FusionService.Storage.FusedStates;
 
 /// <summary>
 /// Stores fused states, replacing a stored one of the same vehicle and instant: a track that re-processes after a
-/// late measurement emits a newer estimate for an instant it has already reported, and the newer one wins.
+/// late measurement emits a newer estimate for an instant it has already reported, and the newer one wins. Keeps
+/// <c>vehicle_latest_states</c> (the newest state per vehicle, read by the fleet list) in the same transaction.
 /// </summary>
 public static class FusedStateUpserter
 {
@@ -20,6 +21,24 @@ public static class FusedStateUpserter
             gyro_bias_rps = EXCLUDED.gyro_bias_rps, wheel_scale = EXCLUDED.wheel_scale, covariance = EXCLUDED.covariance,
             ellipse_major_m = EXCLUDED.ellipse_major_m, ellipse_minor_m = EXCLUDED.ellipse_minor_m,
             ellipse_orientation_rad = EXCLUDED.ellipse_orientation_rad
+        """;
+
+    // The newest state per vehicle for the fleet list, in the same transaction; rows taken in one order (fleet, then the
+    // id's bytes) like the vehicle inserts of the ingest path, and an older instant (a re-processed one) never replaces
+    // a newer one.
+    private const string UpsertLatest = """
+        INSERT INTO vehicle_latest_states AS l (fleet_id, vehicle_id, time_us, lat_deg, lon_deg, heading_rad, speed_mps,
+                                                ellipse_major_m, ellipse_minor_m, ellipse_orientation_rad, updated_at)
+        SELECT DISTINCT ON (fleet_id, vehicle_id COLLATE "C") fleet_id, vehicle_id, time_us, lat_deg, lon_deg, heading_rad,
+               speed_mps, ellipse_major_m, ellipse_minor_m, ellipse_orientation_rad, now()
+        FROM fused_staging
+        ORDER BY fleet_id, vehicle_id COLLATE "C", time_us DESC
+        ON CONFLICT (fleet_id, vehicle_id) DO UPDATE SET
+            time_us = EXCLUDED.time_us, lat_deg = EXCLUDED.lat_deg, lon_deg = EXCLUDED.lon_deg,
+            heading_rad = EXCLUDED.heading_rad, speed_mps = EXCLUDED.speed_mps, ellipse_major_m = EXCLUDED.ellipse_major_m,
+            ellipse_minor_m = EXCLUDED.ellipse_minor_m, ellipse_orientation_rad = EXCLUDED.ellipse_orientation_rad,
+            updated_at = EXCLUDED.updated_at
+        WHERE l.time_us <= EXCLUDED.time_us
         """;
 
     /// <summary>
@@ -62,6 +81,11 @@ public static class FusedStateUpserter
                 await using (var upsert = new NpgsqlCommand(Upsert, connection, transaction))
                 {
                     stored = await upsert.ExecuteNonQueryAsync(cancellationToken).ConfigureAwait(false);
+                }
+
+                await using (var latest = new NpgsqlCommand(UpsertLatest, connection, transaction))
+                {
+                    await latest.ExecuteNonQueryAsync(cancellationToken).ConfigureAwait(false);
                 }
 
                 await transaction.CommitAsync(cancellationToken).ConfigureAwait(false);

@@ -34,6 +34,15 @@ public static class MeasurementIngest
         "INSERT INTO vehicles (fleet_id, vehicle_id) SELECT f, v FROM unnest($1::uuid[], $2::text[]) AS u(f, v) "
         + "ORDER BY f, v COLLATE \"C\" ON CONFLICT DO NOTHING";
 
+    // The newest receipt per vehicle and sensor kind (vehicle_receipts, read by the fleet list), in the order of the
+    // vehicle inserts for the same reason; never moves a time backwards.
+    private const string UpsertReceipts =
+        "INSERT INTO vehicle_receipts AS r (fleet_id, vehicle_id, kind, last_received_at, last_measured_at) "
+        + "SELECT f, v, k, rec, mea FROM unnest($1::uuid[], $2::text[], $3::smallint[], $4::timestamptz[], $5::timestamptz[]) AS u(f, v, k, rec, mea) "
+        + "ORDER BY f, v COLLATE \"C\", k "
+        + "ON CONFLICT (fleet_id, vehicle_id, kind) DO UPDATE SET last_received_at = GREATEST(r.last_received_at, EXCLUDED.last_received_at), "
+        + "last_measured_at = GREATEST(r.last_measured_at, EXCLUDED.last_measured_at)";
+
     private const string UniqueViolation = "23505";
 
     private const string InsertNew =
@@ -85,6 +94,7 @@ public static class MeasurementIngest
             await InsertVehiclesAsync(connection, transaction, unique, cancellationToken).ConfigureAwait(false);
             await MeasurementWriter.WriteAsync(connection, transaction, unique, cancellationToken).ConfigureAwait(false);
             await transaction.ReleaseAsync("optimistic_copy", cancellationToken).ConfigureAwait(false);
+            await RecordReceiptsAsync(connection, transaction, unique, cancellationToken).ConfigureAwait(false);
             return inserted;
         }
         catch (PostgresException ex) when (ex.SqlState == UniqueViolation)
@@ -127,7 +137,30 @@ public static class MeasurementIngest
             }
         }
 
+        await RecordReceiptsAsync(connection, transaction, unique, cancellationToken).ConfigureAwait(false);
         return inserted;
+    }
+
+    // Every received row counts, a duplicate of a stored one too: the vehicle was heard from.
+    private static async Task RecordReceiptsAsync(
+        NpgsqlConnection connection, NpgsqlTransaction transaction, List<MeasurementRow> rows, CancellationToken cancellationToken)
+    {
+        var newest = new Dictionary<(Guid FleetId, string VehicleId, short Kind), (DateTime ReceivedAt, long TimeUs)>();
+        foreach (var row in rows)
+        {
+            var key = (row.FleetId, row.VehicleId, row.Kind);
+            newest[key] = newest.TryGetValue(key, out var seen)
+                ? (row.ReceivedAtUtc > seen.ReceivedAt ? row.ReceivedAtUtc : seen.ReceivedAt, Math.Max(seen.TimeUs, row.TimeUs))
+                : (row.ReceivedAtUtc, row.TimeUs);
+        }
+
+        await using var upsert = new NpgsqlCommand(UpsertReceipts, connection, transaction);
+        upsert.Parameters.Add(new NpgsqlParameter { Value = newest.Keys.Select(k => k.FleetId).ToArray(), NpgsqlDbType = NpgsqlDbType.Array | NpgsqlDbType.Uuid });
+        upsert.Parameters.Add(new NpgsqlParameter { Value = newest.Keys.Select(k => k.VehicleId).ToArray(), NpgsqlDbType = NpgsqlDbType.Array | NpgsqlDbType.Text });
+        upsert.Parameters.Add(new NpgsqlParameter { Value = newest.Keys.Select(k => k.Kind).ToArray(), NpgsqlDbType = NpgsqlDbType.Array | NpgsqlDbType.Smallint });
+        upsert.Parameters.Add(new NpgsqlParameter { Value = newest.Values.Select(v => v.ReceivedAt).ToArray(), NpgsqlDbType = NpgsqlDbType.Array | NpgsqlDbType.TimestampTz });
+        upsert.Parameters.Add(new NpgsqlParameter { Value = newest.Values.Select(v => UnixMicroseconds.ToDateTimeUtc(v.TimeUs)).ToArray(), NpgsqlDbType = NpgsqlDbType.Array | NpgsqlDbType.TimestampTz });
+        await upsert.ExecuteNonQueryAsync(cancellationToken).ConfigureAwait(false);
     }
 
     private static async Task InsertVehiclesAsync(

@@ -20,7 +20,7 @@ public static class AlertEndpoints
         " Alerts are derived from estimates and can be wrong both ways: do not use them for safety-critical decisions."
         + " They describe where vehicles and their drivers were: personal data.";
 
-    private static readonly string[] States = ["open", "acknowledged", "resolved"];
+    private static readonly string[] States = ["open", "acknowledged", "resolved", "unresolved"];
 
     /// <summary>Maps the alert endpoints.</summary>
     public static IEndpointRouteBuilder MapAlertEndpoints(this IEndpointRouteBuilder app)
@@ -30,11 +30,16 @@ public static class AlertEndpoints
             .WithResponseExample(200, "alerts.json")
             .RequireApiKey(ApiKeyRole.Read, ApiKeyRole.Admin)
             .WithName("ListAlerts")
-            .WithSummary("Alerts of the caller's fleet")
-            .WithDescription("Alerts, newest start first. Filters: state (open|acknowledged|resolved), vehicle, kind (gated_burst, "
-                + "inconsistent_sensor, gnss_silent_while_moving, track_reset, wheel_scale_out_of_band, moved_without_driving, sensor_isolated, vehicle_silent), from/to (RFC 3339 "
-                + "or Unix milliseconds: alerts still active at or after from and started at or before to), limit (1-1000, default 100). "
-                + "Example: GET /v1/alerts?state=open&kind=gated_burst&limit=20. Needs a read or admin key." + Caution)
+            .WithSummary("What needs attention in the fleet")
+            .WithDescription("Alerts of the caller's fleet, newest start first, or with sort=severity critical first, then warning, "
+                + "then info, newest start first within each. Each alert has a plain-language summary, the rule's technical_summary "
+                + "with the numbers behind it, who acknowledged it and when, and links to the van at the alert's time. "
+                + "Filters: state (open = not yet acknowledged, acknowledged, resolved, unresolved = open or acknowledged), vehicle, "
+                + "kind (gated_burst, inconsistent_sensor, gnss_silent_while_moving, track_reset, wheel_scale_out_of_band, "
+                + "moved_without_driving, sensor_isolated, vehicle_silent), from/to (RFC 3339 or Unix milliseconds: alerts still active "
+                + "at or after from and started at or before to). Paging: limit (1-1000, default 100) and cursor=<next_cursor of the "
+                + "previous page>, with the same filters and sort. Example: GET /v1/alerts?state=unresolved&sort=severity&limit=20. "
+                + "400 names the bad parameter. Needs a read or admin key." + Caution + LocationCaution.Documentation)
             .ProducesProblem(StatusCodes.Status400BadRequest)
             .ProducesProblem(StatusCodes.Status401Unauthorized)
             .ProducesProblem(StatusCodes.Status403Forbidden);
@@ -88,12 +93,13 @@ public static class AlertEndpoints
 
     /// <summary>Handles <c>GET /v1/alerts</c>.</summary>
     internal static async Task<Results<Ok<AlertListResponse>, ProblemHttpResult>> ListAlerts(
-        HttpContext http, FusionDatabase database, string? state = null, string? vehicle = null, string? kind = null, string? from = null, string? to = null, string? limit = null)
+        HttpContext http, FusionDatabase database, string? state = null, string? vehicle = null, string? kind = null, string? from = null, string? to = null,
+        string? limit = null, string? sort = null, string? cursor = null)
     {
         var caller = ApiCaller.Of(http);
         if (state is not null && !States.Contains(state, StringComparer.Ordinal))
         {
-            return BadRequest("state: must be one of open, acknowledged, resolved");
+            return BadRequest("state: must be one of open, acknowledged, resolved, unresolved");
         }
 
         // Checked here, not left to the query: PostgreSQL refuses text with a NUL character (%00), which made a 500.
@@ -139,9 +145,26 @@ public static class AlertEndpoints
             return BadRequest("limit: must be an integer from 1 to 1000");
         }
 
+        if (sort is not null and not "newest" and not "severity")
+        {
+            return BadRequest("sort: must be newest or severity");
+        }
+
+        AlertPosition? after = null;
+        if (cursor is not null && (after = AlertCursor.Decode(cursor)) is null)
+        {
+            return BadRequest("cursor: not a cursor of this list; pass next_cursor of the previous page unchanged");
+        }
+
+        bool severityFirst = sort == "severity";
         var rows = await new AlertRepository(database.DataSource)
-            .ListAsync(new AlertQuery(caller.FleetId, state, vehicle, kind, fromTime, toTime, count), http.RequestAborted).ConfigureAwait(false);
-        return TypedResults.Ok(new AlertListResponse([.. rows.Select(AlertResponse.From)]));
+            .ListAsync(new AlertQuery(caller.FleetId, state, vehicle, kind, fromTime, toTime, count + 1, severityFirst, after), http.RequestAborted).ConfigureAwait(false);
+        var page = rows.Take(count).ToList();
+        string? next = rows.Count > count
+            ? AlertCursor.Encode(new AlertPosition(AlertRepository.SeverityRank(page[^1].Severity), page[^1].StartedAt, page[^1].AlertId))
+            : null;
+        LocationCaution.AddHeader(http);
+        return TypedResults.Ok(new AlertListResponse([.. page.Select(r => AlertResponse.From(r))], next, LocationCaution.Text));
     }
 
     /// <summary>Handles <c>POST /v1/alerts/{id}/acknowledge</c>.</summary>

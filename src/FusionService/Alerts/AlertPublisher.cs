@@ -25,7 +25,7 @@ public sealed class AlertPublisher(
     public VehicleActivity Activity => activity;
 
     /// <summary>The webhook body of a stored alert: the API's alert JSON.</summary>
-    public static string PayloadOf(AlertRow row) => JsonSerializer.Serialize(AlertResponse.From(row), AlertJson.Options);
+    public static string PayloadOf(AlertRow row) => JsonSerializer.Serialize(AlertResponse.From(row, withCaution: true), AlertJson.Options);
 
     /// <summary>A monitor for one vehicle's track grain.</summary>
     public VehicleAlertMonitor CreateMonitor(Guid fleetId, string vehicleId) => new(this, fleetId, vehicleId);
@@ -60,7 +60,7 @@ public sealed class AlertPublisher(
         ArgumentNullException.ThrowIfNull(changed);
         foreach (var row in changed)
         {
-            hub.PublishAlert(AlertResponse.From(row));
+            hub.PublishAlert(AlertResponse.From(row, withCaution: true));
         }
     }
 }

@@ -2,13 +2,14 @@
 namespace FusionService.Alerts;
 
 /// <summary>
-/// <c>gated_burst</c>: at least <see cref="MinCount"/> measurements rejected by the chi-square gate within
-/// <see cref="WindowS"/> seconds of data time open one alert; every further gated measurement while it is open adds
-/// to its count; it resolves after <see cref="ClearS"/> seconds of data without a gated measurement. The defaults are
-/// a design choice (about three 1 Hz fixes out of thirty), not taken from a published source. Only the sensors in
-/// <see cref="Sensors"/> count (default GNSS positions only: the filter routinely gates single wheel and IMU samples and
-/// GNSS velocities at stops and sharp changes of motion, dozens per clean round, which says nothing about a fault).
+/// <c>gated_burst</c>: at least <c>min_count</c> measurements rejected by the chi-square gate within <c>window_s</c>
+/// seconds of data time open one alert; every further rejected measurement while it is open adds to its count; it
+/// resolves after <c>clear_s</c> seconds of data without a rejected measurement. Only the sensors listed in
+/// <c>sensors</c> count (default GNSS positions only: the filter routinely rejects single wheel and IMU samples and GNSS
+/// velocities at stops and sharp changes of motion, which says nothing about a fault).
 /// </summary>
+/// <remarks>The defaults are a design choice (about three 1 Hz fixes out of thirty), not taken from a published
+/// source.</remarks>
 public sealed record GatedBurstRule
 {
     /// <summary>Whether the rule runs. Default true.</summary>

@@ -2,11 +2,12 @@
 namespace FusionService.Alerts;
 
 /// <summary>
-/// <c>gnss_silent_while_moving</c>: no GNSS position (accepted or not) for more than <see cref="SilentS"/> seconds of data
-/// while the estimated speed exceeds <see cref="MinSpeedMps"/>; it resolves after <see cref="ClearS"/> seconds of data in
-/// which the condition did not hold. Defaults (30 s, 2 m/s, 30 s) are a design choice: trackers compute a fix every
-/// second (common practice), so half a minute without one while driving is more than an underpass.
+/// <c>gnss_silent_while_moving</c>: no GNSS position (accepted or not) for more than <c>silent_s</c> seconds of data
+/// while the estimated speed exceeds <c>min_speed_mps</c>; it resolves after <c>clear_s</c> seconds of data in which the
+/// condition did not hold. Defaults 30 s, 2 m/s and 30 s: half a minute without a fix while driving is more than an
+/// underpass.
 /// </summary>
+/// <remarks>The defaults are a design choice: trackers compute a fix every second (common practice).</remarks>
 public sealed record GnssSilentRule
 {
     /// <summary>Whether the rule runs. Default true.</summary>

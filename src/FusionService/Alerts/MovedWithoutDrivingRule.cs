@@ -2,11 +2,12 @@
 namespace FusionService.Alerts;
 
 /// <summary>
-/// <c>moved_without_driving</c>: the track takes the vehicle to be carried — towed, on a ferry, lifted: GNSS reports steady
-/// motion while the wheels read zero (the core's <c>TrackOptions.CarriedMinSpeedMps</c> and <c>CarriedAfterS</c>, by
-/// default 1.5 m/s for 5 s). It stays open while the carry lasts and resolves after <see cref="ClearS"/> seconds of data
-/// without one (default 60, a design choice).
+/// <c>moved_without_driving</c>: the vehicle seems to be carried (towed, on a ferry, lifted): GNSS reports steady motion
+/// while the wheels read zero (by default 1.5 m/s or more for 5 s). It stays open while the carry lasts and resolves
+/// after <c>clear_s</c> seconds of data without one (default 60).
 /// </summary>
+/// <remarks>The detection is the core's <c>TrackOptions.CarriedMinSpeedMps</c> and <c>CarriedAfterS</c>; the default of
+/// <see cref="ClearS"/> is a design choice.</remarks>
 public sealed record MovedWithoutDrivingRule
 {
     /// <summary>Whether the rule runs. Default true.</summary>

@@ -2,11 +2,13 @@
 namespace FusionService.Alerts;
 
 /// <summary>
-/// <c>sensor_isolated</c>: the track has stopped fusing a stream because it keeps disagreeing with independent ones — a gyro
-/// whose turns do not match the GNSS course (wrong sign, wrong axis), or a GNSS course that does not match the path of the
-/// fixes (the core's <c>StreamAgreement</c> and its <c>TrackOptions</c>). It stays open while the stream is isolated and
-/// resolves after <see cref="ClearS"/> seconds of data once it is re-admitted (default 60, a design choice).
+/// <c>sensor_isolated</c>: the track has stopped using a sensor stream because it keeps disagreeing with the others: a
+/// gyro whose turns do not match the GNSS course (wrong sign, wrong axis), or a GNSS course that does not match the path
+/// of the fixes. It stays open while the stream is set aside and resolves after <c>clear_s</c> seconds of data once it
+/// is used again (default 60).
 /// </summary>
+/// <remarks>The detection is the core's <c>StreamAgreement</c> with its <c>TrackOptions</c>; the default of
+/// <see cref="ClearS"/> is a design choice.</remarks>
 public sealed record SensorIsolatedRule
 {
     /// <summary>Whether the rule runs. Default true.</summary>

@@ -2,10 +2,11 @@
 namespace FusionService.Alerts;
 
 /// <summary>
-/// <c>track_reset</c>: a measurement re-initialised the track position after sustained rejection (a jump or a
-/// relocation such as towing). Further resets while the alert is unresolved add to its count; it resolves after
-/// <see cref="ClearS"/> seconds of data without a reset (default 600, a design choice).
+/// <c>track_reset</c>: the position estimate was started afresh at a new place after the filter kept rejecting the
+/// GNSS fixes (a jump or a relocation such as towing). Further resets while the alert is unresolved add to its count; it
+/// resolves after <c>clear_s</c> seconds of data without a reset (default 600).
 /// </summary>
+/// <remarks>The default of <see cref="ClearS"/> is a design choice.</remarks>
 public sealed record TrackResetRule
 {
     /// <summary>Whether the rule runs. Default true.</summary>

@@ -2,11 +2,11 @@
 namespace FusionService.Alerts;
 
 /// <summary>
-/// <c>vehicle_silent</c>: nothing received from a vehicle (server clock, any sensor) for more than
-/// <see cref="SilentS"/> seconds. Checked by <see cref="VehicleSilenceScanner"/> every few seconds; the alert resolves
-/// at the first scan after a measurement arrives again. Default 900 s: trackers upload every 5-60 s while moving
-/// (common practice), so a quarter of an hour of nothing is not an upload pattern.
+/// <c>vehicle_silent</c>: nothing received from a vehicle (server clock, any sensor) for more than <c>silent_s</c>
+/// seconds. Checked every few seconds; the alert resolves at the first check after a measurement arrives again.
+/// Default 900 s: trackers upload every 5-60 s while moving, so a quarter of an hour of nothing is not an upload pattern.
 /// </summary>
+/// <remarks>Checked by <see cref="VehicleSilenceScanner"/>; the upload interval is common practice.</remarks>
 public sealed record VehicleSilentRule
 {
     /// <summary>Whether the rule runs. Default true.</summary>

@@ -194,6 +194,7 @@ public sealed class WebhookDispatcher(
             request.Headers.Add(WebhookSigner.IdHeader, d.DeliveryId.ToString("D"));
             request.Headers.Add(WebhookSigner.TimestampHeader, unixSeconds.ToString(CultureInfo.InvariantCulture));
             request.Headers.Add(WebhookSigner.SignatureHeader, WebhookSigner.Sign(secret, d.DeliveryId, unixSeconds, d.Payload));
+            request.Headers.Add(Http.LocationCaution.HeaderName, Http.LocationCaution.Text);
             using var timeout = CancellationTokenSource.CreateLinkedTokenSource(stoppingToken);
             timeout.CancelAfter(TimeSpan.FromSeconds(o.TimeoutS));
             using var response = await clients.CreateClient(ClientName)

@@ -4,15 +4,15 @@ using System.Globalization;
 namespace FusionService.Alerts;
 
 /// <summary>
-/// <c>wheel_scale_out_of_band</c>: the online estimate of the wheel-speed scale factor lies outside the band
-/// [<see cref="Lower"/>, <see cref="Upper"/>] by more than <see cref="ConfidenceZ"/> of its standard deviation, and that
-/// standard deviation is at most <see cref="MaxSd"/> (so the estimate is settled). Default band 0.97-1.03: uncalibrated
-/// odometer scale errors of 0.5-2 % are usual (from memory), so a scale error beyond 3 % points at a wrong tyre size or
-/// a worn or under-inflated tyre. z = 1.96 is the two-sided 95 % normal quantile (derived). Because the estimate is
-/// tested after every measurement, the condition must hold for <see cref="HoldS"/> seconds of data in a row before the
-/// alert opens (otherwise a van whose true scale sits at the band's edge would alert on a passing excursion). The alert resolves after
-/// <see cref="ClearS"/> seconds of data in which the condition did not hold.
+/// <c>wheel_scale_out_of_band</c>: the estimated wheel-speed scale factor lies outside the band [<c>lower</c>,
+/// <c>upper</c>] by more than <c>confidence_z</c> of its standard deviation, and that standard deviation is at most
+/// <c>max_sd</c> (so the estimate is settled). A scale error beyond 3 % (the default band 0.97-1.03) points at a wrong
+/// tyre size or a worn or under-inflated tyre. The condition must hold for <c>hold_s</c> seconds of data in a row before
+/// the alert opens, and the alert resolves after <c>clear_s</c> seconds of data in which it did not hold.
 /// </summary>
+/// <remarks>Uncalibrated odometer scale errors of 0.5-2 % are usual (from memory); z = 1.96 is the two-sided 95 % normal
+/// quantile (derived). The hold keeps a van whose true scale sits at the band's edge from alerting on a passing
+/// excursion.</remarks>
 public sealed record WheelScaleRule
 {
     /// <summary>Whether the rule runs. Default true.</summary>

@@ -5,7 +5,7 @@ namespace FusionService.Audit;
 /// <param name="Time">Measurement time.</param>
 /// <param name="Sensor">gnss_position, gnss_velocity, wheel or imu.</param>
 /// <param name="Values">The measured values: lat_deg, lon_deg, accuracy_m (1-sigma per axis) | speed_mps, course_deg | speed_mps | yaw_rate_dps, accel_mps2.</param>
-/// <param name="Residual">Innovation (measured minus predicted), one or two components in <paramref name="ResidualUnits"/>; null when none was formed.</param>
+/// <param name="Residual">Innovation (measured minus predicted), one or two components in <c>residual_units</c>; null when none was formed.</param>
 /// <param name="ResidualUnits">Units of the residual components (m, m | m/s, deg | m/s | deg/s, m/s^2); heading residuals are counter-clockwise.</param>
 /// <param name="Nis">Normalised innovation squared; null when none was formed.</param>
 /// <param name="NisDof">Dimension of the innovation (chi-square degrees of freedom).</param>

@@ -12,7 +12,7 @@ namespace FusionService.Audit;
 /// <param name="NisCount">Number N of NIS values in the mean.</param>
 /// <param name="NisInterval">Two-sided 95 % interval for the mean NIS of a consistent filter (null when none).</param>
 /// <param name="Verdict">
-/// Overall consistency of the sensor: the NIS verdict (<paramref name="NisVerdict"/>), except that a sensor whose mean NIS
+/// Overall consistency of the sensor: the NIS verdict (<c>nis_verdict</c>), except that a sensor whose mean NIS
 /// is consistent but whose innovations are correlated (<paramref name="Whiteness"/>) is <c>correlated</c>, not consistent.
 /// One of consistent, correlated, too_optimistic, too_pessimistic, insufficient_data.
 /// </param>

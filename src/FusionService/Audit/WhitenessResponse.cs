@@ -5,8 +5,8 @@ namespace FusionService.Audit;
 /// Whiteness of one sensor's whitened innovations w = L⁻¹ ν in the window: for a consistent filter they are independent
 /// from one measurement to the next, so their sample autocorrelations stay inside ±1.96/√N and the Ljung-Box statistic
 /// stays below its chi-square critical value (Mehra 1970; Ljung and Box 1978). Each component of a 2-D innovation is
-/// tested as its own series, at level <see cref="Significance"/> divided by the number of components (Bonferroni), so
-/// that the sensor's false-alarm rate stays at most <see cref="Significance"/>.
+/// tested as its own series, at level <c>significance</c> divided by the number of components (Bonferroni), so that the
+/// sensor's false-alarm rate stays at most <c>significance</c>.
 /// </summary>
 /// <param name="Verdict">white, correlated (some component failed) or insufficient_data.</param>
 /// <param name="Lags">Number of lags h tested (in measurements of this sensor, not seconds).</param>

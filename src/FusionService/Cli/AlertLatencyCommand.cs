@@ -176,7 +176,7 @@ public static class AlertLatencyCommand
         return messages;
     }
 
-    // A fix on the straight eastward line 46.12 N, 8.47 E at 10 m/s, shifted north by northM (an invented place).
+    // A fix on the straight eastward line 46.12 N, 170.47 E at 10 m/s, shifted north by northM (invented, on open sea like the demo town).
     private static JsonObject Fix(string vehicle, long timeMs, int second, double northM) => new()
     {
         ["vehicle"] = vehicle,
@@ -184,7 +184,7 @@ public static class AlertLatencyCommand
         ["time"] = timeMs,
         ["id"] = "g" + timeMs.ToString(CultureInfo.InvariantCulture),
         ["lat_deg"] = 46.12 + (northM / 111_132.0),
-        ["lon_deg"] = 8.47 + (second * 10.0 / 77_200.0),
+        ["lon_deg"] = 170.47 + (second * 10.0 / 77_200.0),
         ["accuracy_m"] = 3.0,
         ["speed_mps"] = 10.0,
         ["course_deg"] = 90.0,

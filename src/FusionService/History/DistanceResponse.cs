@@ -7,8 +7,8 @@ namespace FusionService.History;
 /// <param name="To">Window end (exclusive), RFC 3339 UTC.</param>
 /// <param name="SmoothedM">Distance along the RTS-smoothed track (integrated smoothed speed and acceleration), metres.</param>
 /// <param name="SmoothedSdM">Its standard deviation from the smoothed covariances and cross-covariances, metres.</param>
-/// <param name="DrivenM">The part of <paramref name="SmoothedM"/> the vehicle drove itself, metres.</param>
-/// <param name="CarriedM">The part of <paramref name="SmoothedM"/> covered while the track took the vehicle to be carried — towed,
+/// <param name="DrivenM">The part of <c>smoothed_m</c> the vehicle drove itself, metres.</param>
+/// <param name="CarriedM">The part of <c>smoothed_m</c> covered while the track took the vehicle to be carried — towed,
 /// on a ferry, lifted: GNSS moving while every wheel sample read zero — metres (see the <c>moved_without_driving</c> alert).</param>
 /// <param name="RawPolylineM">Length of the polyline through every stored GNSS fix (ellipsoidal, Vincenty), metres: GNSS noise inflates it.</param>
 /// <param name="WheelM">Wheel-speed readings divided by the smoothed wheel-speed scale, integrated, metres.</param>

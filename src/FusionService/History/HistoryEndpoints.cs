@@ -44,7 +44,7 @@ public static class HistoryEndpoints
                 + "per step. format=json|geojson|gpx|csv or Accept: application/json, application/geo+json, application/gpx+xml, "
                 + "text/csv (format wins). The body is streamed. Example: GET /v1/vehicles/van-07/track?from=2026-05-01T08:00:00Z"
                 + "&to=2026-05-01T09:00:00Z&kind=smoothed&step=5&format=geojson. Needs a read or admin key; another fleet's "
-                + "vehicle is 404. " + Caution)
+                + "vehicle is 404. " + Caution + FusionService.Http.LocationCaution.Documentation)
             .Produces(StatusCodes.Status200OK, null, "application/json", "application/geo+json", "application/gpx+xml", "text/csv")
             .ProducesProblem(StatusCodes.Status400BadRequest)
             .ProducesProblem(StatusCodes.Status401Unauthorized)

@@ -23,6 +23,7 @@ internal sealed class TrackStreamResult(TrackHeader header, TrackFormat format, 
             response.StatusCode = StatusCodes.Status200OK;
             response.ContentType = writer.ContentType;
             response.Headers.CacheControl = "no-store";
+            FusionService.Http.LocationCaution.AddHeader(httpContext);
             var cancel = httpContext.RequestAborted;
             writer.Begin(header);
             await foreach (var point in points.WithCancellation(cancel).ConfigureAwait(false))

@@ -22,7 +22,8 @@ public static class LiveEndpoints
                 + "{\"vehicle\",\"time\",\"lat_deg\",\"lon_deg\",\"heading_deg\" (clockwise from north),\"speed_mps\",\"ellipse95\"}, sent "
                 + "after each batch the vehicle's track processed. Query: bbox=min_lon,min_lat,max_lon,max_lat (degrees; only positions "
                 + "inside), min_interval_ms (0-3600000, default 1000: per vehicle at most one frame per that much data time). "
-                + "Positions are estimates: not for safety-critical navigation or collision avoidance; they are personal data.")
+                + "Positions are estimates: not for safety-critical navigation or collision avoidance; they are personal data."
+                + FusionService.Http.LocationCaution.Documentation)
             .ProducesProblem(StatusCodes.Status400BadRequest)
             .ProducesProblem(StatusCodes.Status401Unauthorized)
             .ProducesProblem(StatusCodes.Status403Forbidden);
@@ -56,6 +57,7 @@ public static class LiveEndpoints
         }
 
         var caller = ApiCaller.Of(http);
+        FusionService.Http.LocationCaution.AddHeader(http);
         using var subscription = hub.SubscribePositions(caller.FleetId, box, intervalMs);
         using var socket = await http.WebSockets.AcceptWebSocketAsync(WebSocketKeyAuthentication.AcceptContext(http)).ConfigureAwait(false);
         await LiveStreaming.PumpAsync(socket, subscription.Reader, http.RequestAborted).ConfigureAwait(false);

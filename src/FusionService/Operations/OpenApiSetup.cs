@@ -37,7 +37,7 @@ public static class OpenApiSetup
                 Description = "API key created with 'keys create'.",
             };
             return Task.CompletedTask;
-        }).AddOperationTransformer(OpenApiExampleExtensions.AddExamplesAsync));
+        }).AddOperationTransformer(OpenApiText.ApplyAsync).AddSchemaTransformer(OpenApiText.OmittedNullsAsync).AddOperationTransformer(OpenApiExampleExtensions.AddExamplesAsync));
         return services;
     }
 }

@@ -8,6 +8,10 @@ using FusionService.Storage.Fleets;
 using FusionService.Storage.FusedStates;
 using FusionService.Storage.Vehicles;
 using FusionService.Tracking;
+using System.Globalization;
+using FusionService.Http;
+using FusionService.Ingest;
+using FusionService.Operations;
 using Microsoft.AspNetCore.Http.HttpResults;
 
 namespace FusionService.Vehicles;
@@ -16,6 +20,15 @@ namespace FusionService.Vehicles;
 public static class VehicleEndpoints
 {
     private const double RadToDeg = 180.0 / Math.PI;
+
+    /// <summary>Default of <c>silent_after_s</c>: two minutes, more than the 5-60 s upload interval of trackers while
+    /// moving (common practice), so at least two uploads were missed.</summary>
+    internal const double DefaultSilentAfterS = 120;
+
+    /// <summary>A vehicle counts as moving from this estimated speed on (1.8 km/h, walking pace; a design choice).</summary>
+    internal const double MovingMinSpeedMps = 0.5;
+
+    private const int DefaultPageSize = 200;
 
     private const string Caution =
         " Values are estimates with the stated uncertainty: not for safety-critical navigation or collision avoidance."
@@ -28,18 +41,25 @@ public static class VehicleEndpoints
         group.MapGet("/", ListVehicles)
             .RequireApiKey(ApiKeyRole.Read, ApiKeyRole.Admin)
             .WithName("ListVehicles")
-            .WithSummary("Latest fused state of every vehicle")
-            .WithDescription("The latest stored fused state of each vehicle of the caller's fleet (written by the tracks in the "
-                + "background, so it may lag the newest measurement by a fraction of a second). Needs a read or admin key." + Caution)
+            .WithResponseExample(200, "vehicles.json")
+            .WithSummary("Where each vehicle is and how fresh that is")
+            .WithDescription("The newest estimate of each vehicle of the caller's fleet with its age, when the service last heard "
+                + "from the vehicle and from each of its sensors, its status (moving, stopped, silent or carried) and its open "
+                + "alerts, ordered by vehicle id. The estimate is written by the tracks in the background, so it may lag the newest "
+                + "measurement by a fraction of a second. Filters: status (comma-separated), open_alerts=true|false. Paging: "
+                + "limit (default 200) and after=<next_after of the previous page>. Example: GET /v1/vehicles?status=silent,stopped"
+                + "&open_alerts=true&limit=50. 400 names the bad parameter. Needs a read or admin key." + Caution + LocationCaution.Documentation)
+            .ProducesProblem(StatusCodes.Status400BadRequest)
             .ProducesProblem(StatusCodes.Status401Unauthorized)
             .ProducesProblem(StatusCodes.Status403Forbidden);
         group.MapGet("/{vehicle}/state", GetVehicleState)
             .RequireApiKey(ApiKeyRole.Read, ApiKeyRole.Admin)
             .WithName("GetVehicleState")
-            .WithSummary("Current fused state of one vehicle")
+            .WithResponseExample(200, "vehicle-state.json")
+            .WithSummary("Where one vehicle is now, with its uncertainty")
             .WithDescription("Position, heading (course, clockwise from north), speed, yaw rate, wheel-speed scale and gyro bias with "
                 + "their standard deviations, the 95 % error ellipse and the time of the newest measurement per sensor. "
-                + "404 when the caller's fleet has no such vehicle or it has no position yet. Needs a read or admin key." + Caution)
+                + "404 when the caller's fleet has no such vehicle or it has no position yet. Needs a read or admin key." + Caution + LocationCaution.Documentation)
             .ProducesProblem(StatusCodes.Status401Unauthorized)
             .ProducesProblem(StatusCodes.Status403Forbidden)
             .ProducesProblem(StatusCodes.Status404NotFound);
@@ -47,22 +67,75 @@ public static class VehicleEndpoints
     }
 
     /// <summary>Handles <c>GET /v1/vehicles</c>.</summary>
-    internal static async Task<Ok<VehicleListResponse>> ListVehicles(HttpContext http, FusionDatabase database)
+    internal static async Task<Results<Ok<VehicleListResponse>, ProblemHttpResult>> ListVehicles(
+        HttpContext http, FusionDatabase database, TimeProvider clock,
+        string? status = null, string? open_alerts = null, string? silent_after_s = null, string? after = null, string? limit = null)
     {
         var caller = ApiCaller.Of(http);
-        var rows = await new FusedStateRepository(database.DataSource).LatestFusedStatesAsync(caller.FleetId, http.RequestAborted).ConfigureAwait(false);
-        var list = rows
-            .OrderBy(r => r.VehicleId, StringComparer.Ordinal)
-            .Select(r => new VehicleSummary(
-                r.VehicleId,
-                ToTime(r.TimeUs),
-                r.LatDeg,
-                r.LonDeg,
-                TrackProcessor.HeadingToCourse(r.HeadingRad) * RadToDeg,
-                r.SpeedMps,
-                new ErrorEllipseResponse(r.EllipseMajorM, r.EllipseMinorM, r.EllipseOrientationRad * RadToDeg)))
-            .ToList();
-        return TypedResults.Ok(new VehicleListResponse(list));
+        List<string>? statuses = null;
+        if (status is not null)
+        {
+            statuses = [.. status.Split(',', StringSplitOptions.TrimEntries | StringSplitOptions.RemoveEmptyEntries)];
+            if (statuses.Count == 0 || statuses.Any(s => !FleetVehicleRepository.Statuses.Contains(s, StringComparer.Ordinal)))
+            {
+                return BadRequest("status: must be one or more of " + string.Join(", ", FleetVehicleRepository.Statuses) + ", comma-separated");
+            }
+        }
+
+        if (open_alerts is not null and not "true" and not "false")
+        {
+            return BadRequest("open_alerts: must be true or false");
+        }
+
+        bool? withOpenAlerts = open_alerts is null ? null : open_alerts == "true";
+
+        double silentAfterS = DefaultSilentAfterS;
+        if (silent_after_s is not null
+            && (!double.TryParse(silent_after_s, NumberStyles.Float, CultureInfo.InvariantCulture, out silentAfterS) || !(silentAfterS >= 10 && silentAfterS <= 86_400)))
+        {
+            return BadRequest("silent_after_s: must be a number of seconds from 10 to 86400");
+        }
+
+        if (after is not null && !TelemetryMessageParser.IsValidVehicleId(after))
+        {
+            return BadRequest("after: " + TelemetryMessageParser.VehicleIdRule);
+        }
+
+        int pageSize = DefaultPageSize;
+        if (limit is not null && (!int.TryParse(limit, NumberStyles.Integer, CultureInfo.InvariantCulture, out pageSize) || pageSize < 1 || pageSize > 1000))
+        {
+            return BadRequest("limit: must be an integer from 1 to 1000");
+        }
+
+        var now = clock.GetUtcNow();
+        var rows = await new FleetVehicleRepository(database.DataSource)
+            .ListAsync(new FleetVehicleQuery(caller.FleetId, now, silentAfterS, MovingMinSpeedMps, statuses, withOpenAlerts, after, pageSize + 1), http.RequestAborted)
+            .ConfigureAwait(false);
+        var page = rows.Take(pageSize).Select(r => ToSummary(r, now)).ToList();
+        LocationCaution.AddHeader(http);
+        return TypedResults.Ok(new VehicleListResponse(page, now, rows.Count > pageSize ? page[^1].Vehicle : null, LocationCaution.Text));
+    }
+
+    private static VehicleSummary ToSummary(FleetVehicleRow r, DateTimeOffset now)
+    {
+        DateTimeOffset? At(DateTime? utc) => utc is { } t ? new DateTimeOffset(t, TimeSpan.Zero) : null;
+        var time = ToTime(r.TimeUs);
+        var received = At(r.LastReceivedAt);
+        return new VehicleSummary(
+            r.VehicleId,
+            time,
+            r.LatDeg,
+            r.LonDeg,
+            TrackProcessor.HeadingToCourse(r.HeadingRad) * RadToDeg,
+            r.SpeedMps,
+            new ErrorEllipseResponse(r.EllipseMajorM, r.EllipseMinorM, r.EllipseOrientationRad * RadToDeg),
+            r.Status,
+            Math.Round((now - time).TotalSeconds, 3),
+            received,
+            received is { } at ? Math.Round((now - at).TotalSeconds, 3) : null,
+            new SensorReceiptsResponse(At(r.GnssReceivedAt), At(r.WheelReceivedAt), At(r.ImuReceivedAt)),
+            (int)r.OpenAlerts,
+            (int)r.UnresolvedAlerts);
     }
 
     /// <summary>Handles <c>GET /v1/vehicles/{vehicle}/state</c>.</summary>
@@ -77,9 +150,13 @@ public static class VehicleEndpoints
         }
 
         var snapshot = await grains.GetGrain<IVehicleTrackGrain>(GrainKeys.Of(caller.FleetId, vehicle)).GetStateAsync().ConfigureAwait(false);
-        return snapshot is null
-            ? NotFound("vehicle: '" + vehicle + "' has no position estimate yet")
-            : TypedResults.Ok(ToResponse(vehicle, snapshot));
+        if (snapshot is null)
+        {
+            return NotFound("vehicle: '" + vehicle + "' has no position estimate yet");
+        }
+
+        LocationCaution.AddHeader(http);
+        return TypedResults.Ok(ToResponse(vehicle, snapshot));
     }
 
     /// <summary>The response for a grain's snapshot.</summary>
@@ -109,10 +186,14 @@ public static class VehicleEndpoints
             Sd(StateIndex.GyroBiasRps) * RadToDeg,
             new ErrorEllipseResponse(ellipse.SemiMajorM, ellipse.SemiMinorM, ellipse.OrientationRad * RadToDeg),
             new SensorTimesResponse(At(0), At(1), At(2), At(3)),
-            s.Resets);
+            s.Resets,
+            LocationCaution.Text);
     }
 
     private static DateTimeOffset ToTime(long timeUs) => DateTimeOffset.UnixEpoch.AddTicks(timeUs * 10);
+
+    private static ProblemHttpResult BadRequest(string detail) =>
+        TypedResults.Problem(title: "Invalid request", detail: detail, statusCode: StatusCodes.Status400BadRequest);
 
     private static ProblemHttpResult NotFound(string detail) =>
         TypedResults.Problem(title: "Not found", detail: detail, statusCode: StatusCodes.Status404NotFound);

@@ -25,6 +25,7 @@ namespace FusionService.Vehicles;
 /// <param name="Ellipse95">95 % horizontal error ellipse.</param>
 /// <param name="LastMeasurement">Time of the newest measurement per sensor.</param>
 /// <param name="Resets">Number of track resets (re-initialisations after sustained GNSS rejection).</param>
+/// <param name="Caution">The cautions that go with every location.</param>
 public sealed record VehicleStateResponse(
     string Vehicle,
     DateTimeOffset Time,
@@ -45,4 +46,5 @@ public sealed record VehicleStateResponse(
     double GyroBiasSdDps,
     ErrorEllipseResponse Ellipse95,
     SensorTimesResponse LastMeasurement,
-    int Resets);
+    int Resets,
+    string Caution);

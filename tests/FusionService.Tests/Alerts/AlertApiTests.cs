@@ -25,7 +25,25 @@ public sealed class AlertApiTests(ServiceFixture fixture)
         Assert.Equal("open", alert.GetProperty("state").GetString());
         Assert.Equal(JsonValueKind.Null, alert.GetProperty("ended_at").ValueKind);
         Assert.Equal(3, alert.GetProperty("count").GetInt32());
-        Assert.StartsWith("3 GNSS fixes gated in ", alert.GetProperty("summary").GetString(), StringComparison.Ordinal);
+        Assert.StartsWith("3 GNSS fixes gated in ", alert.GetProperty("technical_summary").GetString(), StringComparison.Ordinal);
+
+        // Issue 15: the summary is plain words without filter terms or the count; links lead to the van at the alert's time.
+        string summary = alert.GetProperty("summary").GetString()!;
+        Assert.StartsWith("Several position reports did not fit the van's path", summary, StringComparison.Ordinal);
+        Assert.DoesNotMatch(@"\d|gated|NIS|chi-square|innovation", summary);
+        var links = alert.GetProperty("links");
+        Assert.Equal(alert.GetProperty("started_at").GetDateTimeOffset(), links.GetProperty("view_at").GetDateTimeOffset());
+        using (var track = await read.GetAsync(links.GetProperty("track").GetString()))
+        {
+            Assert.Equal(HttpStatusCode.OK, track.StatusCode);
+        }
+
+        using (var explain = await read.GetAsync(links.GetProperty("explain").GetString()))
+        {
+            Assert.Equal(HttpStatusCode.OK, explain.StatusCode);
+        }
+
+        Assert.Equal("/v1/vehicles/van-alert/state", links.GetProperty("state").GetString());
         Assert.Equal(3, alert.GetProperty("details").GetProperty("by_sensor").GetProperty("gnss_position").GetInt32());
         string id = alert.GetProperty("id").GetString()!;
 
@@ -66,7 +84,9 @@ public sealed class AlertApiTests(ServiceFixture fixture)
             "SELECT count(*) FROM alerts a JOIN api_keys k ON k.key_id = a.acknowledged_by_key_id WHERE a.alert_id = $1 AND k.role = 'admin' AND k.key_id = $2",
             Guid.Parse(id), by.GetProperty("key_id").GetGuid()));
 
-        // The list shows the same acknowledgement; acknowledging again changes nothing.
+        // The list shows the same acknowledgement; acknowledging again changes nothing. It is no longer open but still unresolved.
+        Assert.Empty(await ListAsync(read, "state=open"));
+        Assert.Equal(id, Assert.Single(await ListAsync(read, "state=unresolved")).GetProperty("id").GetString());
         var listed = Assert.Single(await ListAsync(read, "state=acknowledged"));
         Assert.Equal(by.GetProperty("at").GetDateTimeOffset(), listed.GetProperty("acknowledged").GetProperty("at").GetDateTimeOffset());
         using var again = await admin.PostAsync("/v1/alerts/" + id + "/acknowledge", null);
@@ -169,6 +189,66 @@ public sealed class AlertApiTests(ServiceFixture fixture)
         var resolved = Assert.Single(await AlertDrive.WaitForAlertsAsync(admin, "kind=vehicle_silent&state=resolved"));
         Assert.Equal(silent.GetProperty("id").GetString(), resolved.GetProperty("id").GetString());
         Assert.NotEqual(JsonValueKind.Null, resolved.GetProperty("ended_at").ValueKind);
+    }
+
+    [Fact]
+    public async Task Issue15_alerts_page_with_a_cursor_severity_first_then_newest()
+    {
+        var fleet = await fixture.NewFleetAsync();
+        var start = new DateTimeOffset(2026, 5, 1, 8, 0, 0, TimeSpan.Zero);
+        var inserted = new List<(string Severity, DateTimeOffset StartedAt, string State)>();
+        string[] severities = ["info", "warning", "critical", "warning", "info", "critical", "warning"];
+        for (int i = 0; i < severities.Length; i++)
+        {
+            string state = i == 3 ? "resolved" : i == 4 ? "acknowledged" : "open";
+            var startedAt = start.AddMinutes(i);
+            inserted.Add((severities[i], startedAt, state));
+            await using var connection = await fixture.Store.OpenConnectionAsync();
+            await using var command = new Npgsql.NpgsqlCommand(
+                "INSERT INTO alerts (alert_id, fleet_id, vehicle_id, kind, severity, state, started_at, ended_at, last_seen_at, count, summary, details) "
+                + "VALUES (gen_random_uuid(), $1, $2, 'gated_burst', $3, $4, $5, $6, $5, 1, 'test', '{}'::jsonb)", connection);
+            command.Parameters.Add(new Npgsql.NpgsqlParameter { Value = fleet.Id });
+            command.Parameters.Add(new Npgsql.NpgsqlParameter { Value = "van-" + i.ToString(System.Globalization.CultureInfo.InvariantCulture) });
+            command.Parameters.Add(new Npgsql.NpgsqlParameter { Value = severities[i] });
+            command.Parameters.Add(new Npgsql.NpgsqlParameter { Value = state });
+            command.Parameters.Add(new Npgsql.NpgsqlParameter { Value = startedAt });
+            command.Parameters.Add(new Npgsql.NpgsqlParameter { Value = state == "resolved" ? startedAt.AddMinutes(1) : DBNull.Value, NpgsqlDbType = NpgsqlTypes.NpgsqlDbType.TimestampTz });
+            await command.ExecuteNonQueryAsync();
+        }
+
+        using var read = fixture.Client(fleet.ReadKey);
+        static int Rank(string s) => s switch { "critical" => 3, "warning" => 2, _ => 1 };
+        foreach (var (query, expected) in new[]
+        {
+            ("sort=severity", inserted.OrderByDescending(a => Rank(a.Severity)).ThenByDescending(a => a.StartedAt).ToList()),
+            ("sort=newest", inserted.OrderByDescending(a => a.StartedAt).ToList()),
+            ("state=unresolved&sort=severity", inserted.Where(a => a.State != "resolved").OrderByDescending(a => Rank(a.Severity)).ThenByDescending(a => a.StartedAt).ToList()),
+            ("state=open&sort=severity", inserted.Where(a => a.State == "open").OrderByDescending(a => Rank(a.Severity)).ThenByDescending(a => a.StartedAt).ToList()),
+        })
+        {
+            // Pages of two until next_cursor is null: every alert once, in the order asked for.
+            var seen = new List<(string, DateTimeOffset)>();
+            string? cursor = null;
+            int pages = 0;
+            do
+            {
+                using var response = await read.GetAsync("/v1/alerts?" + query + "&limit=2" + (cursor is null ? string.Empty : "&cursor=" + Uri.EscapeDataString(cursor)));
+                Assert.Equal(HttpStatusCode.OK, response.StatusCode);
+                Assert.Single(response.Headers.GetValues("Fusion-Caution"));
+                var body = await response.Content.ReadFromJsonAsync<JsonElement>();
+                seen.AddRange(body.GetProperty("alerts").EnumerateArray().Select(a => (a.GetProperty("severity").GetString()!, a.GetProperty("started_at").GetDateTimeOffset())));
+                cursor = body.GetProperty("next_cursor").ValueKind == JsonValueKind.Null ? null : body.GetProperty("next_cursor").GetString();
+                pages++;
+            }
+            while (cursor is not null && pages < 10);
+
+            Assert.Equal(expected.Select(a => (a.Severity, a.StartedAt)), seen);
+            Assert.Equal((expected.Count + 1) / 2, pages);
+        }
+
+        await AssertProblemAsync(await read.GetAsync("/v1/alerts?sort=oldest"), HttpStatusCode.BadRequest, "sort:");
+        await AssertProblemAsync(await read.GetAsync("/v1/alerts?cursor=abc"), HttpStatusCode.BadRequest, "cursor:");
+        await AssertProblemAsync(await read.GetAsync("/v1/alerts?cursor=%00"), HttpStatusCode.BadRequest, "cursor:");
     }
 
     private static async Task<JsonElement[]> ListAsync(HttpClient client, string query)

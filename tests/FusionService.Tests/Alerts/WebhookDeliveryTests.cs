@@ -103,5 +103,9 @@ public sealed class WebhookDeliveryTests(ServiceFixture fixture)
         using var hmac = new HMACSHA256(Encoding.UTF8.GetBytes(secret));
         string expected = "hmac-sha256=" + Convert.ToHexStringLower(hmac.ComputeHash(Encoding.UTF8.GetBytes(r.Id + "\n" + r.Timestamp + "\n" + r.Body)));
         Assert.Equal(expected, r.Signature);
+
+        // Issue 15: every delivery carries the cautions, as a header and in the payload.
+        Assert.Contains("collision avoidance", r.Caution, StringComparison.Ordinal);
+        Assert.Contains("personal data", System.Text.Json.JsonDocument.Parse(r.Body).RootElement.GetProperty("caution").GetString(), StringComparison.Ordinal);
     }
 }

@@ -80,7 +80,8 @@ internal sealed class WebhookReceiver : IDisposable
                 context.Request.Headers["Fusion-Webhook-Timestamp"],
                 context.Request.Headers["Fusion-Webhook-Signature"],
                 body,
-                status));
+                status,
+                context.Request.Headers["Fusion-Caution"]));
             context.Response.StatusCode = status;
             if (Answer is { } answer)
             {
@@ -100,5 +101,5 @@ internal sealed class WebhookReceiver : IDisposable
         }
     }
 
-    public sealed record Received(int Number, DateTimeOffset At, string? Id, string? Timestamp, string? Signature, string Body, int AnsweredStatus);
+    public sealed record Received(int Number, DateTimeOffset At, string? Id, string? Timestamp, string? Signature, string Body, int AnsweredStatus, string? Caution = null);
 }

@@ -369,6 +369,25 @@ internal sealed class HostileCases(Random rng, HostileKeys keys, DateTimeOffset 
         {
             yield return Get("vehicles bbox " + bbox, "/v1/vehicles?bbox=" + bbox);
         }
+
+        // Issue 15: the fleet list's filters and paging, the alert list's sort and cursor; each a 400 naming the parameter.
+        foreach (string q in new[] { "status=x", "status=", "status=moving,,x", "open_alerts=1", "silent_after_s=1e400", "silent_after_s=-5", "after=%00", "limit=0", "limit=abc" })
+        {
+            string name = q[..q.IndexOf('=', StringComparison.Ordinal)];
+            yield return Get("vehicles " + q, "/v1/vehicles?" + q, status: 400) with
+            {
+                CheckBody = body => Assert.Contains(name + ":", body, StringComparison.Ordinal),
+            };
+        }
+
+        foreach (string q in new[] { "sort=x", "cursor=x", "cursor=%00", "cursor=" + new string('A', 300) })
+        {
+            string name = q[..q.IndexOf('=', StringComparison.Ordinal)];
+            yield return Get("alerts " + q[..Math.Min(q.Length, 20)], "/v1/alerts?" + q, status: 400) with
+            {
+                CheckBody = body => Assert.Contains(name + ":", body, StringComparison.Ordinal),
+            };
+        }
     }
 
     // Foreign and malformed keys on every kind of endpoint.

@@ -59,9 +59,9 @@ public sealed class OpenApiExampleTests(ServiceFixture fixture)
             }
         }
 
-        // 16 examples on the history, audit, NMEA, alert and webhook endpoints (dead letters and re-queue since issue 14);
-        // all but the track and the NMEA text typed.
-        Assert.Equal(16, examples);
-        Assert.Equal(14, checkedTyped);
+        // 18 examples on the vehicle (since issue 15), history, audit, NMEA, alert and webhook endpoints (dead letters and
+        // re-queue since issue 14); all but the track and the NMEA text typed.
+        Assert.Equal(18, examples);
+        Assert.Equal(16, checkedTyped);
     }
 }
