@@ -13,7 +13,7 @@ namespace FusionService.Storage.BaseLayer;
 public sealed class BaseLayerRepository
 {
     private const string ReferenceSql = """
-        SELECT avg(anchor_lat_deg) FROM vehicles WHERE fleet_id = @FleetId AND anchor_lat_deg IS NOT NULL
+        SELECT round(lat_deg::numeric, 1)::double precision FROM fused_states WHERE fleet_id = @FleetId AND measured_at >= @Since LIMIT 1
         """;
 
     private const string RoadsSql = """
@@ -50,16 +50,21 @@ public sealed class BaseLayerRepository
         _dataSource = dataSource;
     }
 
-    /// <summary>Mean latitude of the fleet's vehicles' local-frame origins (degrees), or null before any has a fix.</summary>
+    /// <summary>
+    /// The latitude the grid's cell width is worked out at: one stored estimate's latitude since <paramref name="since"/>,
+    /// rounded to 0.1 degree so that the grid stays put from one request to the next (the width of a cell changes by
+    /// about 0.2 % per 0.1 degree at 45 degrees); null when the fleet has no estimate since then.
+    /// </summary>
     /// <param name="fleetId">The fleet.</param>
+    /// <param name="since">Oldest estimate time counted.</param>
     /// <param name="cancellationToken">Cancels the query.</param>
-    public async Task<double?> ReferenceLatitudeAsync(Guid fleetId, CancellationToken cancellationToken = default)
+    public async Task<double?> ReferenceLatitudeAsync(Guid fleetId, DateTimeOffset since, CancellationToken cancellationToken = default)
     {
         var connection = await _dataSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
         await using (connection.ConfigureAwait(false))
         {
             return await connection.ExecuteScalarAsync<double?>(
-                new CommandDefinition(ReferenceSql, new { FleetId = fleetId }, cancellationToken: cancellationToken)).ConfigureAwait(false);
+                new CommandDefinition(ReferenceSql, new { FleetId = fleetId, Since = since }, cancellationToken: cancellationToken)).ConfigureAwait(false);
         }
     }
 

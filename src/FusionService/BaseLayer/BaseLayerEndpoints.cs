@@ -44,8 +44,8 @@ public static class BaseLayerEndpoints
             .WithSummary("Roads and stops the fleet has used, for a map without tiles")
             .WithDescription(
                 "A GeoJSON FeatureCollection learned from the fleet's own stored estimates of the last days: one point per square of "
-                + "cell_m metres the vans drove through (layer road: moving faster than 1 m/s, position sure to 15 m or better, at least "
-                + "two estimates in the square), and one point per place where vans stood for 3 minutes or more in all (layer stop: "
+                + "cell_m metres the vans drove through (layer road: an estimate moving at 1 m/s or faster with its position sure to 15 m "
+                + "or better fell in the square), and one point per place where vans stood for 3 minutes or more in all (layer stop: "
                 + "slower than 0.3 m/s, gathered in 40 m squares, longest first, at most 200). The dashboard draws it under the vans, so "
                 + "the map shows the fleet's streets and stops with no tile server. Query: days (1-31, default 7), cell_m (5-100, "
                 + "default 10). Example: GET /v1/base-layer?days=1&cell_m=20. Needs a read or admin key. " + Caution)
@@ -75,11 +75,11 @@ public static class BaseLayerEndpoints
         var since = DateTimeOffset.UtcNow.AddDays(-dayCount);
         var repository = new BaseLayerRepository(database.DataSource);
         var features = new List<BaseLayerFeature>();
-        if (await repository.ReferenceLatitudeAsync(caller.FleetId, http.RequestAborted).ConfigureAwait(false) is { } latDeg)
+        if (await repository.ReferenceLatitudeAsync(caller.FleetId, since, http.RequestAborted).ConfigureAwait(false) is { } latDeg)
         {
             (double northPerDegM, double eastPerDegM) = MetresPerDegree(latDeg);
             double cellLatDeg = cell / northPerDegM, cellLonDeg = cell / eastPerDegM;
-            var roads = await repository.RoadCellsAsync(caller.FleetId, since, cellLatDeg, cellLonDeg, MovingMps, MaxEllipseM, 2, http.RequestAborted).ConfigureAwait(false);
+            var roads = await repository.RoadCellsAsync(caller.FleetId, since, cellLatDeg, cellLonDeg, MovingMps, MaxEllipseM, 1, http.RequestAborted).ConfigureAwait(false);
             foreach (var r in roads)
             {
                 features.Add(Point((r.Col + 0.5) * cellLonDeg, (r.Row + 0.5) * cellLatDeg, new BaseLayerProperties("road", r.Vehicles, States: r.States)));
