@@ -55,7 +55,11 @@ public static class BaseLayerEndpoints
         return app;
     }
 
-    /// <summary>Answers <c>GET /v1/base-layer</c>.</summary>
+    /// <summary>Roads and stops the fleet has used, for a map without tiles.</summary>
+    /// <param name="http">The request.</param>
+    /// <param name="database">The store.</param>
+    /// <param name="days">How many days back to read the fleet's estimates: a whole number from 1 to 31, default 7.</param>
+    /// <param name="cellM">Side of a road square in metres: 5 to 100, default 10.</param>
     internal static async Task<Results<Ok<BaseLayerCollection>, ProblemHttpResult>> GetBaseLayer(
         HttpContext http, FusionDatabase database, string? days = null, [Microsoft.AspNetCore.Mvc.FromQuery(Name = "cell_m")] string? cellM = null)
     {
