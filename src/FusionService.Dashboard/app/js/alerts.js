@@ -8,6 +8,22 @@ const SEVERITY_WORDS = { critical: 'act now', warning: 'look soon', info: 'for m
 /** Largest page the alerts API gives (limit 1-1000). */
 const SERVER_LIMIT = 1000;
 const ACKNOWLEDGED_SHOWN = 50;
+/** Most open alerts fetched over several pages. */
+const MAX_OPEN = 5000;
+
+/** Every page of GET /v1/alerts for params (following next_cursor), up to max alerts. */
+async function allPages(params, max) {
+  const alerts = [];
+  let cursor = null;
+  let paged = false;
+  do {
+    const page = await getJson(`/v1/alerts${query({ ...params, cursor })}`);
+    alerts.push(...(page.alerts ?? []));
+    paged = paged || 'next_cursor' in page;
+    cursor = page.next_cursor ?? null;
+  } while (cursor && alerts.length < max);
+  return { alerts, paged, more: Boolean(cursor) };
+}
 const PAGE = 20;
 
 /** Worst first, then the newest start. */
@@ -104,15 +120,17 @@ export class AlertsList {
     const status = this.root.querySelector('#alerts-status');
     try {
       // Open alerts from the server, so no open one is crowded out by newer closed ones; acknowledged ones apart.
+      // sort=severity and cursor paging are used where the service offers them (a service without them ignores the
+      // parameter and answers one page); the list is sorted here as well either way.
       const [open, acknowledged] = await Promise.all([
-        getJson(`/v1/alerts${query({ state: 'open', limit: SERVER_LIMIT })}`),
+        allPages({ state: 'open', sort: 'severity', limit: SERVER_LIMIT }, MAX_OPEN),
         getJson(`/v1/alerts${query({ state: 'acknowledged', limit: ACKNOWLEDGED_SHOWN })}`),
       ]);
-      const openList = open.alerts ?? [];
-      this.truncated = openList.length >= SERVER_LIMIT;
+      const openList = open.alerts;
+      this.truncated = open.more || (!open.paged && openList.length >= SERVER_LIMIT);
       this.alerts = [...openList, ...(acknowledged.alerts ?? [])];
       this.available = true;
-      status.textContent = `Updated ${clock(Date.now())}.${this.truncated ? ` The service gave the newest ${SERVER_LIMIT} open alerts; there may be more.` : ''}`;
+      status.textContent = `Updated ${clock(Date.now())}.${this.truncated ? ` Showing ${openList.length} open alerts; there are more.` : ''}`;
       status.className = 'muted small';
     } catch (error) {
       this.available = !(error instanceof NotAvailableError);

@@ -87,7 +87,7 @@ export class BaseLayer {
     const stops = g.selectAll('g.stops').data([0]).join('g').attr('class', 'stops')
       .selectAll('g.stop').data(this.data.stops, (s) => `${s.lat},${s.lon}`).join((enter) => {
         const s = enter.append('g').attr('class', 'stop');
-        s.append('rect').attr('x', -4.5).attr('y', -4.5).attr('width', 9).attr('height', 9).attr('class', 'stop-mark');
+        s.append('rect').attr('x', -3.5).attr('y', -3.5).attr('width', 7).attr('height', 7).attr('class', 'stop-mark');
         s.append('title');
         return s;
       });

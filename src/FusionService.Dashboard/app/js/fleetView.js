@@ -1,7 +1,7 @@
 // Fleet view: every van's fused position and 95 % ellipse in the local metric frame over the fleet's own base layer, and
 // a table saying at a glance how fresh each estimate is, whether the van moves, stands or has gone quiet, and its alerts.
 import { d3 } from './d3.js';
-import { getJson, describeError } from './api.js';
+import { describeError, getJson, query } from './api.js';
 import { LocalMap } from './localMap.js';
 import { centroid, createFrame, ellipseRotationSvgDeg } from './localFrame.js';
 import { placeLabels } from './labelPlacement.js';
@@ -63,8 +63,16 @@ export class FleetView {
   async refresh() {
     const status = this.root.querySelector('#fleet-status');
     try {
-      const body = await getJson('/v1/vehicles');
-      this.vans = body.vehicles ?? [];
+      // Every page (a service that pages the list gives next_after; one without answers all at once).
+      const vans = [];
+      let after = null;
+      for (let pages = 0; pages < 100; pages++) {
+        const body = await getJson(`/v1/vehicles${query({ limit: 1000, after })}`);
+        vans.push(...(body.vehicles ?? []));
+        after = body.next_after ?? null;
+        if (!after) break;
+      }
+      this.vans = vans;
       const now = Date.now();
       for (const v of this.vans) {
         const before = this.seen.get(v.vehicle);
