@@ -100,6 +100,9 @@ export class AlertsList {
     this.shownCount = PAGE;
     this.openDetails = new Set();
     this.truncated = false;
+    // Alerts acknowledged from this page: id -> { alert, atMs }. A list asked for before the acknowledgement must not
+    // show such an alert open again.
+    this.localAcks = new Map();
     root.querySelector('#alerts-show-acknowledged').addEventListener('change', () => this.render());
     root.querySelector('#alerts-list').addEventListener('click', (event) => this.onClick(event));
     root.querySelector('#alerts-more').addEventListener('click', () => {
@@ -118,6 +121,7 @@ export class AlertsList {
 
   async refresh() {
     const status = this.root.querySelector('#alerts-status');
+    const askedAtMs = Date.now();
     try {
       // Open alerts from the server, so no open one is crowded out by newer closed ones; acknowledged ones apart.
       // sort=severity and cursor paging are used where the service offers them (a service without them ignores the
@@ -128,7 +132,7 @@ export class AlertsList {
       ]);
       const openList = open.alerts;
       this.truncated = open.more || (!open.paged && openList.length >= SERVER_LIMIT);
-      this.alerts = [...openList, ...(acknowledged.alerts ?? [])];
+      this.alerts = this.withLocalAcks([...openList, ...(acknowledged.alerts ?? [])], askedAtMs);
       this.available = true;
       status.textContent = `Updated ${clock(Date.now())}.${this.truncated ? ` Showing ${openList.length} open alerts; there are more.` : ''}`;
       status.className = 'muted small';
@@ -146,6 +150,20 @@ export class AlertsList {
       byVehicle.get(a.vehicle).push(a);
     }
     this.onOpenAlerts?.(byVehicle);
+  }
+
+  /** The fetched list with this page's acknowledgements that the answer could not know yet (asked before them). */
+  withLocalAcks(fetched, askedAtMs) {
+    for (const [id, local] of this.localAcks) {
+      if (askedAtMs <= local.atMs) {
+        const i = fetched.findIndex((a) => a.id === id);
+        if (i >= 0) fetched[i] = local.alert;
+        else fetched.push(local.alert);
+      } else {
+        this.localAcks.delete(id);
+      }
+    }
+    return fetched;
   }
 
   render() {
@@ -224,6 +242,7 @@ export class AlertsList {
       const updated = await postJson(`/v1/alerts/${encodeURIComponent(id)}/acknowledge`);
       const i = this.alerts.findIndex((a) => a.id === id);
       if (i >= 0) this.alerts[i] = { ...this.alerts[i], ...updated };
+      this.localAcks.set(id, { alert: i >= 0 ? this.alerts[i] : updated, atMs: Date.now() });
       this.render();
     } catch (error) {
       button.disabled = false;

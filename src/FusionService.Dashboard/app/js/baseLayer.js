@@ -103,7 +103,7 @@ export class BaseLayer {
     const shown = this.data.stops.slice(0, LABELLED_STOPS).filter((s) => Number.isFinite(s.eastM));
     const taken = vanPlacements.filter((p) => !p.dropped).map((p) => ({ x: p.x, y: p.y, w: p.w, h: p.h }));
     const placements = placeLabels(shown.map((s) => ({ id: `${s.lat},${s.lon}`, x: map.x(s.eastM), y: map.y(s.northM), text: shortStopWords(s) })),
-      { taken, dropWhenCrowded: true });
+      { taken, dropWhenCrowded: true, bounds: map.size() });
     const byId = new Map(shown.map((s) => [`${s.lat},${s.lon}`, s]));
     g.selectAll('g.stop-labels').data([0]).join('g').attr('class', 'stop-labels')
       .selectAll('text').data(placements.filter((p) => !p.dropped), (p) => p.id).join('text')

@@ -154,7 +154,8 @@ export class FleetView {
       + `${d.ellipse95.semi_major_m * k < ELLIPSE_FLOOR_PX ? ' (smaller than the ring at this zoom)' : ''} — click to open`);
 
     // Labels last, placed so that none overlaps another or a van.
-    const placements = placeLabels(points.map((d) => ({ id: d.vehicle, x: map.x(d.eastM), y: map.y(d.northM), text: d.vehicle })));
+    const placements = placeLabels(points.map((d) => ({ id: d.vehicle, x: map.x(d.eastM), y: map.y(d.northM), text: d.vehicle })),
+      { bounds: map.size() });
     const byId = new Map(points.map((d) => [d.vehicle, d]));
     const labels = map.layers.selectAll('g.van-labels').data([0]).join('g').attr('class', 'van-labels').raise();
     const label = labels.selectAll('g.van-label-box').data(placements, (p) => p.id).join((enter) => {

@@ -19,12 +19,15 @@ function overlaps(a, b) {
  * and leader tells whether a line joins it to its point. With dropWhenCrowded, an item that finds no spot near its
  * point is left out (returned with dropped: true) instead of stacked.
  * @param {{id: string, x: number, y: number, text: string}[]} items
- * @param {{taken?: {x:number,y:number,w:number,h:number}[], dropWhenCrowded?: boolean}} options
+ * With bounds ({width, height} in pixels), labels stay inside that box where they can.
+ * @param {{taken?: {x:number,y:number,w:number,h:number}[], dropWhenCrowded?: boolean, bounds?: {width:number,height:number}}} options
  */
 export function placeLabels(items, options = {}) {
   const taken = [...(options.taken ?? [])];
   for (const item of items) taken.push({ x: item.x - 3, y: item.y - 3, w: 6, h: 6 });
-  const free = (box) => !taken.some((t) => overlaps(box, t));
+  const bounds = options.bounds;
+  const inside = (box) => !bounds || (box.x >= 0 && box.y >= 0 && box.x + box.w <= bounds.width && box.y + box.h <= bounds.height);
+  const free = (box) => inside(box) && !taken.some((t) => overlaps(box, t));
   const out = [];
   // Top to bottom, then left to right: the same order every redraw, so labels do not hop about.
   const order = items.map((item, i) => ({ item, i })).sort((a, b) => a.item.y - b.item.y || a.item.x - b.item.x || a.i - b.i);
