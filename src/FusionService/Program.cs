@@ -2,6 +2,7 @@
 using System.Text.Json;
 using FusionService.Alerts;
 using FusionService.Audit;
+using FusionService.BaseLayer;
 using FusionService.Cli;
 using FusionService.Dashboard;
 using FusionService.Database;
@@ -101,6 +102,7 @@ app.MapNmeaEndpoints();
 app.MapAlertEndpoints();
 app.MapWebhookEndpoints();
 app.MapLiveEndpoints();
+app.MapBaseLayerEndpoints();
 await app.RunAsync().ConfigureAwait(false);
 return 0;
 

@@ -45,7 +45,10 @@ public sealed class FleetViewTests(DashboardFixture fixture)
             const vans = [...document.querySelectorAll('#fleet-map g.van')].map((g) => {
               const e = g.querySelector('ellipse.van-ellipse');
               return { vehicle: g.dataset.vehicle, rx: Number(e.getAttribute('rx')), ry: Number(e.getAttribute('ry')),
-                       semiMajorM: Number(e.dataset.semiMajorM), transform: e.getAttribute('transform') };
+                       semiMajorM: Number(e.dataset.semiMajorM), transform: e.getAttribute('transform'),
+                       floorShown: g.querySelector('circle.van-floor').dataset.shown === 'true',
+                       floorDisplay: getComputedStyle(g.querySelector('circle.van-floor')).display,
+                       floorR: Number(g.querySelector('circle.van-floor').getAttribute('r')) };
             });
             const bar = document.querySelector('#fleet-map .scale-bar').dataset.lengthPx;
             const lengthM = Number(document.querySelector('#fleet-map .scale-bar-label').dataset.lengthM);
@@ -76,6 +79,11 @@ public sealed class FleetViewTests(DashboardFixture fixture)
             Assert.StartsWith("rotate(", van.GetProperty("transform").GetString(), StringComparison.Ordinal);
             // The ellipse is drawn to the same scale as the scale bar (1e-6 px per metre: float rounding only).
             AssertNear.Equal(pxPerM, rx / semiMajorM, 1e-6, name + ": ellipse pixels per metre");
+
+            // Issue 15: an ellipse smaller than the floor ring (6 px) is marked by the ring, and only then.
+            double floorR = van.GetProperty("floorR").GetDouble();
+            Assert.Equal(rx < floorR, van.GetProperty("floorShown").GetBoolean());
+            Assert.Equal(rx < floorR ? "inline" : "none", van.GetProperty("floorDisplay").GetString());
         }
 
         bool forDocs = string.Equals(Environment.GetEnvironmentVariable("FUSION_DOCS_SCREENSHOT"), "fleet", StringComparison.Ordinal);
@@ -85,11 +93,12 @@ public sealed class FleetViewTests(DashboardFixture fixture)
             DashboardPage.WaitFor(
                 () => page.Driver.FindElements(By.CssSelector("#fleet-map g.van")).Count == 8,
                 TimeSpan.FromSeconds(120), "all 8 demo vans on the fleet map");
-            // The vans start together at the depot: let them go out on their rounds (20 min of the demo's day).
-            Thread.Sleep(TimeSpan.FromSeconds(20));
+            // The vans start together at the depot: let them go out on their rounds (65 min of the demo's day), long
+            // enough for the base layer's once-a-minute refresh to hold the streets they drove.
+            Thread.Sleep(TimeSpan.FromSeconds(65));
         }
 
-        string shot = page.Screenshot("fleet-view");
+        string shot = forDocs ? page.DocsScreenshot("fleet-view", 1250) : page.Screenshot("fleet-view");
         Assert.True(new FileInfo(shot).Length > 10_000, "screenshot " + shot + " is suspiciously small");
         if (forDocs)
         {

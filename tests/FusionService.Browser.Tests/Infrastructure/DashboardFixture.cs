@@ -82,6 +82,16 @@ public sealed class DashboardFixture : IAsyncLifetime
         Driver = StartBrowser(_profileDirectory);
     }
 
+    /// <summary>Creates a fleet of its own (apart from the demo's vans) with a read key and an ingest key.</summary>
+    public async Task<OwnFleet> CreateOwnFleetAsync(string prefix)
+    {
+        var admin = new FleetAdmin(_store!);
+        Guid id = await admin.CreateFleetAsync(prefix + "-" + Convert.ToHexStringLower(RandomNumberGenerator.GetBytes(4)));
+        string read = (await admin.CreateApiKeyAsync(id, ApiKeyRole.Read, "browser test reader")).Secret;
+        string ingest = (await admin.CreateApiKeyAsync(id, ApiKeyRole.Ingest, "browser test trackers")).Secret;
+        return new OwnFleet(BaseAddress, read, ingest);
+    }
+
     /// <summary>Headless chromium with the options that work on the project's machines (see the platform notes).</summary>
     public static ChromeDriver StartBrowser(string profileDirectory)
     {

@@ -72,6 +72,25 @@ internal sealed class DashboardPage(DashboardFixture fixture)
         }
     }
 
+    /// <summary>
+    /// For the README: the page from its top in a window <paramref name="heightPx"/> tall (so that the table or panels
+    /// below the map show too), saved like <see cref="Screenshot"/>; the window gets its usual size back afterwards.
+    /// </summary>
+    public string DocsScreenshot(string name, int heightPx)
+    {
+        Driver.Manage().Window.Size = new System.Drawing.Size(1400, heightPx);
+        Script("window.scrollTo(0, 0);");
+        Thread.Sleep(TimeSpan.FromSeconds(2));
+        try
+        {
+            return Screenshot(name);
+        }
+        finally
+        {
+            Driver.Manage().Window.Size = new System.Drawing.Size(1400, 900);
+        }
+    }
+
     /// <summary>Saves a PNG of the window under the test artifacts; returns its path.</summary>
     public string Screenshot(string name)
     {

@@ -365,6 +365,23 @@ internal sealed class HostileCases(Random rng, HostileKeys keys, DateTimeOffset 
             yield return Get("alerts " + i, "/v1/alerts?" + q);
         }
 
+        // The base layer's two parameters (issue 15): fixed lists, so the seeded draws above stay as they were.
+        foreach (string days in new[] { "0", "-1", "32", "1.5", "abc", "%00", "1e9", "%ED%A0%80", new string('9', 400) })
+        {
+            yield return Get("base-layer days " + days[..Math.Min(12, days.Length)], "/v1/base-layer?days=" + days, status: 400) with
+            {
+                CheckBody = body => Assert.Contains("days:", body, StringComparison.Ordinal),
+            };
+        }
+
+        foreach (string cell in new[] { "4.9", "101", "NaN", "Infinity", "-10", "abc", "%00" })
+        {
+            yield return Get("base-layer cell_m " + cell, "/v1/base-layer?cell_m=" + cell, status: 400) with
+            {
+                CheckBody = body => Assert.Contains("cell_m:", body, StringComparison.Ordinal),
+            };
+        }
+
         foreach (string bbox in new[] { "x", "1,2,3", "NaN,NaN,NaN,NaN", "1e400,0,0,0", "-181,-91,181,91", "" })
         {
             yield return Get("vehicles bbox " + bbox, "/v1/vehicles?bbox=" + bbox);

@@ -1,6 +1,6 @@
 // An SVG map in a local metric frame (east/north metres), with pan and zoom (d3-zoom), a scale bar and optional tiles.
 import { d3 } from './d3.js';
-import { formatLengthM, niceLengthM } from './localFrame.js';
+import { roundLength } from './format.js';
 
 const WEB_MERCATOR_M_PER_PX_Z0 = 156543.03392804097; // 2 pi a / 256 (tile side 256 px, equator)
 const MAX_TILES = 48;
@@ -18,6 +18,8 @@ export class LocalMap {
     this.transform = d3.zoomIdentity;
     this.svg.selectAll('*').remove();
     this.tiles = this.svg.append('g').attr('class', 'tiles');
+    // The fleet's own base layer (roads driven, stops) lies under the vans and paths.
+    this.base = this.svg.append('g').attr('class', 'base-layer');
     this.layers = this.svg.append('g').attr('class', 'layers');
     this.overlay = this.svg.append('g').attr('class', 'overlay');
     this.userMoved = false;
@@ -74,18 +76,25 @@ export class LocalMap {
     return ((r1 - r0) / (d1 - d0)) * this.transform.k;
   }
 
+  /** Sets the drawer of the base layer: (map) => void, drawing into map.base. */
+  setBaseDrawer(draw) {
+    this.drawBase = draw;
+  }
+
   render() {
     if (!this.fitted) return;
     this.x = this.transform.rescaleX(this.baseX);
     this.y = this.transform.rescaleY(this.baseY);
     this.renderTiles();
+    if (this.drawBase) this.drawBase(this);
     this.drawLayers(this);
     this.renderScaleBar();
   }
 
   renderScaleBar() {
     const { height } = this.size();
-    const lengthM = niceLengthM(140 / this.pxPerM());
+    const round = roundLength(140 / this.pxPerM());
+    const lengthM = round.m;
     const px = lengthM * this.pxPerM();
     this.overlay.selectAll('*').remove();
     // Scale: a bar of four alternating ink and paper segments with its length at the ends ("0" and the length).
@@ -98,7 +107,7 @@ export class LocalMap {
     }
     bar.append('text').attr('x', 0).attr('y', 17).attr('text-anchor', 'start').attr('class', 'scale-bar-end').text('0');
     bar.append('text').attr('x', px).attr('y', 17).attr('text-anchor', 'end').attr('class', 'scale-bar-label')
-      .attr('data-length-m', lengthM).text(formatLengthM(lengthM));
+      .attr('data-length-m', lengthM).text(round.text);
     // North: a plain needle with the letter above it.
     const north = this.overlay.append('g').attr('class', 'north-mark').attr('transform', `translate(${this.size().width - 20},${height - 30})`);
     north.append('line').attr('x1', 0).attr('y1', 12).attr('x2', 0).attr('y2', 0).attr('class', 'north-needle-tail');

@@ -3,6 +3,8 @@ import { forgetKey, getJson, KeyRefusedError, storedKey, storeKey } from './api.
 import { AlertsList } from './alerts.js';
 import { FleetView } from './fleetView.js';
 import { VehicleView } from './vehicleView.js';
+import { BaseLayer } from './baseLayer.js';
+import { bindPreferenceControls, onPreferencesChanged } from './preferences.js';
 
 const $ = (selector) => document.querySelector(selector);
 
@@ -29,15 +31,26 @@ async function main() {
     for (const note of document.querySelectorAll('.tile-attribution')) note.textContent = settings.tile_attribution;
   }
   const openVan = (vehicle) => { location.hash = `#/van/${encodeURIComponent(vehicle)}`; };
-  const fleet = new FleetView($('#fleet-view'), settings, openVan);
-  const vehicle = new VehicleView($('#vehicle-view'), settings, () => fleet.currentFrame());
-  const alerts = new AlertsList($('#alerts-pane'), openVan);
+  const baseLayer = new BaseLayer($('#base-layer-note'));
+  const fleet = new FleetView($('#fleet-view'), settings, openVan, baseLayer);
+  const vehicle = new VehicleView($('#vehicle-view'), settings, () => fleet.currentFrame(), baseLayer);
+  const alerts = new AlertsList($('#alerts-pane'), (byVehicle) => fleet.setOpenAlerts(byVehicle));
+  bindPreferenceControls($('#pref-zone'), $('#pref-units'), $('#pref-silent'));
+  onPreferencesChanged(() => {
+    alerts.lastHtml = null;
+    alerts.render();
+    if (document.body.dataset.view === 'fleet-view') fleet.render();
+    else if (document.body.dataset.view === 'vehicle-view') vehicle.redraw();
+  });
 
   // One polling loop for the page's life; it does nothing while signed out.
   const poll = async () => {
     if (storedKey()) {
       try {
-        if (document.body.dataset.view === 'fleet-view') await fleet.refresh();
+        if (document.body.dataset.view === 'fleet-view') {
+          await fleet.refresh();
+          baseLayer.refresh();
+        }
         await alerts.refresh();
       } catch (error) {
         if (error instanceof KeyRefusedError) signOut('The key was refused; sign in again.');
@@ -51,13 +64,16 @@ async function main() {
       show('#sign-in-view');
       return;
     }
-    const match = /^#\/van\/(.+)$/.exec(location.hash);
+    // #/van/<id> or #/van/<id>?from=..&to=..&at=.. (a window and a time, as the alerts link them).
+    const match = /^#\/van\/([^?]+)(?:\?(.*))?$/.exec(location.hash);
     if (match) {
       const id = decodeURIComponent(match[1]);
+      const params = Object.fromEntries(new URLSearchParams(match[2] ?? ''));
       show('#vehicle-view');
       alerts.filterVehicle(id);
-      await vehicle.open(id);
+      await vehicle.open(id, params);
     } else {
+      vehicle.close();
       show('#fleet-view');
       alerts.filterVehicle(null);
       await fleet.refresh().catch(() => {});

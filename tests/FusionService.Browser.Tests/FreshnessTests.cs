@@ -1,0 +1,123 @@
+// Issue 15: freshness at a glance — a van fed live shows as moving with a small age, then silent once its feeder pauses.
+using FusionService.Browser.Tests.Infrastructure;
+using OpenQA.Selenium;
+
+namespace FusionService.Browser.Tests;
+
+[Collection(BrowserTests.Name)]
+public sealed class FreshnessTests(DashboardFixture fixture)
+{
+    [Fact]
+    public async Task Issue15_a_van_shows_moving_while_fed_then_silent_after_its_feeder_pauses()
+    {
+        var fleet = await fixture.CreateOwnFleetAsync("freshness");
+        var (truth, measurements) = OwnFleet.Round(stops: 3, seed: 4300);
+        // Feed from 10 s before the longest stretch the van drives faster than 3 m/s, its data time shifted to the wall clock.
+        long driveUs = LongestDrive(truth, out long driveLengthUs);
+        Assert.True(driveLengthUs >= 45_000_000, $"the round's longest drive lasts only {driveLengthUs / 1e6:0} s");
+        var ordered = measurements.Where(m => m.TimeUs >= driveUs - 10_000_000).OrderBy(m => m.TimeUs).ToList();
+
+        var page = new DashboardPage(fixture);
+        page.SignIn(fleet.ReadKey);
+        // The reader's choices: a van is silent after 0.3 min (18 s) without news; clock in UTC; imperial units.
+        SetPreference(page, "pref-silent", "0.3");
+        Choose(page, "pref-zone", "utc");
+        Choose(page, "pref-units", "imperial");
+
+        // Feed the van live: each second, the next second of its data, stamped with the wall clock.
+        long startWallUs = DateTimeOffset.UtcNow.ToUnixTimeMilliseconds() * 1000;
+        long firstUs = ordered[0].TimeUs;
+        // The first 20 s at once, then second by second.
+        long fedUntilUs = firstUs + 20_000_000;
+        await fleet.PostAsync("live-van", OwnFleet.Shift(ordered.Where(m => m.TimeUs < fedUntilUs), startWallUs - 20_000_000 - firstUs));
+        var deadline = DateTime.UtcNow + TimeSpan.FromSeconds(90);
+        bool moving = false;
+        while (!moving && DateTime.UtcNow < deadline)
+        {
+            long nowUs = DateTimeOffset.UtcNow.ToUnixTimeMilliseconds() * 1000;
+            long untilUs = firstUs + 20_000_000 + (nowUs - startWallUs);
+            var next = ordered.Where(m => m.TimeUs >= fedUntilUs && m.TimeUs < untilUs).ToList();
+            fedUntilUs = untilUs;
+            if (next.Count > 0)
+            {
+                await fleet.PostAsync("live-van", OwnFleet.Shift(next, startWallUs - 20_000_000 - firstUs));
+            }
+
+            moving = Row(page)?.GetDomAttribute("data-state") == "moving";
+            await Task.Delay(1000);
+        }
+
+        if (!moving)
+        {
+            page.Screenshot("freshness-failed");
+        }
+
+        Assert.True(moving, "live-van never showed as moving while fed: " + Row(page)?.Text + " / " + page.Driver.FindElement(By.Id("fleet-status")).Text);
+        var row = Row(page)!;
+        int ageS = int.Parse(row.GetDomAttribute("data-age-s")!, System.Globalization.CultureInfo.InvariantCulture);
+        Assert.True(ageS <= 18, $"a van fed each second shows an estimate {ageS} s old");
+        Assert.Equal("moving", row.FindElement(By.CssSelector("td.col-state .badge")).Text);
+        Assert.NotEqual("—", row.FindElement(By.CssSelector("td.col-heading")).Text);
+        Assert.EndsWith("mph", row.FindElement(By.CssSelector("td.col-speed")).Text, StringComparison.Ordinal);
+        Assert.EndsWith("UTC", row.FindElement(By.CssSelector("td.col-age .muted")).Text, StringComparison.Ordinal);
+        Assert.EndsWith("ft", row.FindElement(By.CssSelector("td.col-ellipse")).Text, StringComparison.Ordinal);
+        page.Screenshot("freshness-moving");
+
+        // The feeder pauses: after 18 s without news the van is silent, its heading hidden, its age still counting.
+        DashboardPage.WaitFor(() => Row(page)?.GetDomAttribute("data-state") == "silent", TimeSpan.FromSeconds(60), "live-van shown as silent");
+        row = Row(page)!;
+        Assert.Equal("silent", row.FindElement(By.CssSelector("td.col-state .badge")).Text);
+        Assert.Equal("—", row.FindElement(By.CssSelector("td.col-heading")).Text);
+        Assert.Equal("none", page.Script("return getComputedStyle(document.querySelector(\"#fleet-map g.van[data-vehicle='live-van'] path.van-heading\")).display;"));
+        Assert.True(int.Parse(row.GetDomAttribute("data-age-s")!, System.Globalization.CultureInfo.InvariantCulture) > 18);
+        Assert.Contains("ago", row.FindElement(By.CssSelector("td.col-age")).Text, StringComparison.Ordinal);
+        Assert.Contains("1 silent", page.Driver.FindElement(By.Id("fleet-status")).Text, StringComparison.Ordinal);
+        page.Screenshot("freshness-silent");
+
+        // The choices are remembered by the browser and the metric units come back when chosen.
+        Choose(page, "pref-units", "metric");
+        DashboardPage.WaitFor(() => Row(page)?.FindElement(By.CssSelector("td.col-speed")).Text.EndsWith("km/h", StringComparison.Ordinal) == true,
+            TimeSpan.FromSeconds(10), "the speed in km/h");
+        Assert.Contains("\"zone\":\"utc\"", (string)page.Script("return localStorage.getItem('fusionservice.preferences');")!, StringComparison.Ordinal);
+        page.Script("localStorage.removeItem('fusionservice.preferences');");
+    }
+
+    private static long LongestDrive(FusionService.Scenarios.TruthTrajectory truth, out long lengthUs)
+    {
+        long bestStart = 0, runStart = -1;
+        lengthUs = 0;
+        foreach (var s in truth.Samples)
+        {
+            if (s.SpeedMps > 3)
+            {
+                runStart = runStart < 0 ? s.TimeUs : runStart;
+                if (s.TimeUs - runStart > lengthUs)
+                {
+                    lengthUs = s.TimeUs - runStart;
+                    bestStart = runStart;
+                }
+            }
+            else
+            {
+                runStart = -1;
+            }
+        }
+
+        return bestStart;
+    }
+
+    private static IWebElement? Row(DashboardPage page) =>
+        page.Driver.FindElements(By.CssSelector("#van-table tr[data-vehicle='live-van']")).FirstOrDefault();
+
+    /// <summary>Picks an option of a select as a person would (the change event included).</summary>
+    internal static void Choose(DashboardPage page, string id, string value) =>
+        page.Script("const s = document.getElementById(arguments[0]); s.value = arguments[1]; s.dispatchEvent(new Event('change', { bubbles: true }));", id, value);
+
+    private static void SetPreference(DashboardPage page, string id, string value)
+    {
+        var input = page.Driver.FindElement(By.Id(id));
+        input.Clear();
+        input.SendKeys(value);
+        input.SendKeys(Keys.Tab);
+    }
+}
