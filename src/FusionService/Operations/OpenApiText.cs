@@ -31,6 +31,8 @@ public static class OpenApiText
         ["/v1/vehicles silent_after_s"] = "A vehicle counts as silent when nothing was received from it for more than this many seconds (server clock; 10-86400, default 120).",
         ["/v1/vehicles after"] = "Paging: the next_after value of the previous page (a vehicle id); vehicles after it in id order are returned.",
         ["/v1/vehicles limit"] = "Most vehicles per page (1-1000, default 200).",
+        ["/v1/base-layer days"] = "How many days back to read the fleet's estimates: a whole number from 1 to 31, default 7.",
+        ["/v1/base-layer cell_m"] = "Side of a road square in metres: 5 to 100, default 10.",
         ["/v1/alerts state"] = "open (not yet acknowledged), acknowledged, resolved, or unresolved (open or acknowledged). Default: all.",
         ["/v1/alerts vehicle"] = "Only this vehicle's alerts.",
         ["/v1/alerts kind"] = "Only alerts of this kind: gated_burst, inconsistent_sensor, gnss_silent_while_moving, track_reset, wheel_scale_out_of_band, moved_without_driving, sensor_isolated or vehicle_silent.",

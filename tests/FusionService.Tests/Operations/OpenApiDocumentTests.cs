@@ -11,7 +11,8 @@ namespace FusionService.Tests.Operations;
 public sealed partial class OpenApiDocumentTests(ServiceFixture fixture)
 {
     // Words in CamelCase that are names of the trade or of a standard, not of our code.
-    private static readonly HashSet<string> AllowedCamelCase = new(StringComparer.Ordinal) { "WebSocket", "WebSockets", "GeoJSON", "OpenAPI", "PostgreSQL" };
+    // Names of standards and of their own types (FeatureCollection: GeoJSON's object type, RFC 7946 section 3.3).
+    private static readonly HashSet<string> AllowedCamelCase = new(StringComparer.Ordinal) { "WebSocket", "WebSockets", "GeoJSON", "OpenAPI", "PostgreSQL", "FeatureCollection" };
 
     [Fact]
     public async Task Issue15_every_operation_has_a_written_summary_and_description()

@@ -204,7 +204,7 @@ export class AlertsList {
         <p class="alert-plain">${escapeHtml(plainLine(a))}</p>
         <details class="alert-details" data-alert-id="${escapeHtml(a.id)}"${this.openDetails.has(a.id) ? ' open' : ''}>
           <summary>details</summary>
-          <p class="small">${escapeHtml(a.summary)}</p>
+          <p class="small">${escapeHtml(a.technical_summary ?? a.summary)}</p>
           <table class="small detail-table"><tbody>
             <tr><th>severity</th><td>${escapeHtml(a.severity)}</td></tr>
             <tr><th>started</th><td>${escapeHtml(dateTime(a.started_at))}</td></tr>
