@@ -32,7 +32,7 @@ internal static class ConsistencyReport
         var processor = new TrackProcessor(new TrackOptions(), NoiseProfile.DeliveryVan);
         Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
             $"filter defaults: correlated share {processor.Profile.GnssCorrelatedFraction}, time constant {processor.Profile.GnssErrorTimeConstantS} s; {runs} seeds per case"));
-        Console.WriteLine("case                         in95 filtered   in95 smoothed  NEES filt  NEES smooth  RMSE raw  filt  smooth  GNSS-only (m)  clean fixes gated  resets  isolated (drives, first after)");
+        Console.WriteLine("case                         in95 filtered   in95 smoothed  NEES filt  NEES smooth  RMSE raw  filt  smooth  GNSS-only (m)  clean fixes gated  jumps gated  resets  isolated (drives, first after)");
         if (onlyFaultyStreams)
         {
             ReportFaultyStreams(processor, runs);
@@ -55,6 +55,26 @@ internal static class ConsistencyReport
                     return d with { Suite = d.Suite with { GnssCorrelationTauS = tauS, GnssCorrelatedVarianceFraction = share } };
                 }));
             }
+        }
+
+        foreach ((double minM, double maxM) in new[] { (10.0, 20.0), (40.0, 80.0) })
+        {
+            string label = string.Create(CultureInfo.InvariantCulture, $"multipath {minM:F0}-{maxM:F0} m");
+            Report(label, processor, Enumerable.Range(0, runs).Select(r =>
+            {
+                RealisticDrive d = RealisticDrives.Multipath(1202 + (r * 100));
+                return d with { Suite = d.Suite with { GnssRandomMultipath = RealisticDrives.ThirdOfTheTimeMultipath with { BiasMinM = minM, BiasMaxM = maxM } } };
+            }));
+        }
+
+        foreach (double jumpShare in new[] { 0.005, 0.03 })
+        {
+            string label = string.Create(CultureInfo.InvariantCulture, $"clean, jumps {jumpShare * 100:0.#} %");
+            Report(label, processor, Enumerable.Range(0, runs).Select(r =>
+            {
+                RealisticDrive d = RealisticDrives.CleanSky(1201 + (r * 100));
+                return d with { Suite = d.Suite with { OutlierProbability = jumpShare } };
+            }));
         }
 
         ReportFaultyStreams(processor, runs);
@@ -86,7 +106,7 @@ internal static class ConsistencyReport
         var smoothed = new Tally();
         var gnssOnly = new Tally();
         double rawSq = 0;
-        long raw = 0, cleanFixes = 0, cleanGated = 0, resets = 0;
+        long raw = 0, cleanFixes = 0, cleanGated = 0, resets = 0, jumps = 0, jumpsGated = 0;
         var isolatedAfterS = new List<double>();
         var isolatedStreams = new SortedSet<string>(StringComparer.Ordinal);
         int driveCount = 0;
@@ -123,6 +143,12 @@ internal static class ConsistencyReport
                 if (o.Kind == OutcomeKind.TrackReset)
                 {
                     resets++;
+                }
+
+                if (m.Kind == SensorKind.GnssPosition && run.GetMeasurementTruth(m.MessageKey) is { IsOutlier: true })
+                {
+                    jumps++;
+                    jumpsGated += o.Kind == OutcomeKind.Gated ? 1 : 0;
                 }
 
                 if (m.Kind == SensorKind.GnssPosition && run.GetMeasurementTruth(m.MessageKey) is { IsOutlier: false, InMultipath: false, InUrbanCanyon: false }
@@ -164,7 +190,7 @@ internal static class ConsistencyReport
         }
 
         Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
-            $"{label,-28} {filtered.Containment * 100,5:F1} ± {filtered.ContainmentStandardError * 100:F1} %  {smoothed.Containment * 100,5:F1} ± {smoothed.ContainmentStandardError * 100:F1} %  {filtered.MeanNees,9:F2}  {smoothed.MeanNees,11:F2}  {Math.Sqrt(rawSq / raw),8:F2}  {filtered.Rmse,4:F2}  {smoothed.Rmse,6:F2}  {gnssOnly.Rmse,13:F2}  {(double)cleanGated / Math.Max(1, cleanFixes),17:P2}  {resets,6}  {Isolation(isolatedAfterS, isolatedStreams, driveCount),-30} ({clock.Elapsed.TotalSeconds:F0} s)"));
+            $"{label,-28} {filtered.Containment * 100,5:F1} ± {filtered.ContainmentStandardError * 100:F1} %  {smoothed.Containment * 100,5:F1} ± {smoothed.ContainmentStandardError * 100:F1} %  {filtered.MeanNees,9:F2}  {smoothed.MeanNees,11:F2}  {Math.Sqrt(rawSq / raw),8:F2}  {filtered.Rmse,4:F2}  {smoothed.Rmse,6:F2}  {gnssOnly.Rmse,13:F2}  {(double)cleanGated / Math.Max(1, cleanFixes),17:P2}  {(jumps == 0 ? "-" : string.Create(CultureInfo.InvariantCulture, $"{jumpsGated}/{jumps}")),11}  {resets,6}  {Isolation(isolatedAfterS, isolatedStreams, driveCount),-30} ({clock.Elapsed.TotalSeconds:F0} s)"));
     }
 
     private static string Isolation(List<double> afterS, SortedSet<string> streams, int drives)
