@@ -13,7 +13,7 @@ using static FusionService.Estimation.Models.StateIndex;
 namespace FusionService.Benchmarks;
 
 /// <summary>
-/// `./build.sh bench consistency [runs, default 16] [faulty]`: runs the filter with its default options and noise profile over the realistic
+/// `./build.sh bench consistency [runs, default 64] [faulty]`: runs the filter with its default options and noise profile over the realistic
 /// drives of <see cref="RealisticDrives"/> (clean sky, multipath, outage, tow, park beside a building, HDOP-only) and over
 /// a grid of GNSS error correlation times (20, 60, 120 s) and correlated shares (50, 80, 95 %) of the clean-sky drive,
 /// each with <c>runs</c> seeds, and prints per case: how often the truth lies inside the 95 % ellipse of the filtered
@@ -32,7 +32,7 @@ internal static class ConsistencyReport
         var processor = new TrackProcessor(new TrackOptions(), NoiseProfile.DeliveryVan);
         Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
             $"filter defaults: correlated share {processor.Profile.GnssCorrelatedFraction}, time constant {processor.Profile.GnssErrorTimeConstantS} s; {runs} seeds per case"));
-        Console.WriteLine("case                         in95 filt  in95 smooth  NEES filt  NEES smooth  RMSE raw  filt  smooth  GNSS-only (m)  clean fixes gated  resets  isolated (drives, first after)");
+        Console.WriteLine("case                         in95 filtered   in95 smoothed  NEES filt  NEES smooth  RMSE raw  filt  smooth  GNSS-only (m)  clean fixes gated  jumps gated  resets  isolated (drives, first after)");
         if (onlyFaultyStreams)
         {
             ReportFaultyStreams(processor, runs);
@@ -55,6 +55,26 @@ internal static class ConsistencyReport
                     return d with { Suite = d.Suite with { GnssCorrelationTauS = tauS, GnssCorrelatedVarianceFraction = share } };
                 }));
             }
+        }
+
+        foreach ((double minM, double maxM) in new[] { (10.0, 20.0), (40.0, 80.0) })
+        {
+            string label = string.Create(CultureInfo.InvariantCulture, $"multipath {minM:F0}-{maxM:F0} m");
+            Report(label, processor, Enumerable.Range(0, runs).Select(r =>
+            {
+                RealisticDrive d = RealisticDrives.Multipath(1202 + (r * 100));
+                return d with { Suite = d.Suite with { GnssRandomMultipath = RealisticDrives.ThirdOfTheTimeMultipath with { BiasMinM = minM, BiasMaxM = maxM } } };
+            }));
+        }
+
+        foreach (double jumpShare in new[] { 0.005, 0.03 })
+        {
+            string label = string.Create(CultureInfo.InvariantCulture, $"clean, jumps {jumpShare * 100:0.#} %");
+            Report(label, processor, Enumerable.Range(0, runs).Select(r =>
+            {
+                RealisticDrive d = RealisticDrives.CleanSky(1201 + (r * 100));
+                return d with { Suite = d.Suite with { OutlierProbability = jumpShare } };
+            }));
         }
 
         ReportFaultyStreams(processor, runs);
@@ -86,7 +106,7 @@ internal static class ConsistencyReport
         var smoothed = new Tally();
         var gnssOnly = new Tally();
         double rawSq = 0;
-        long raw = 0, cleanFixes = 0, cleanGated = 0, resets = 0;
+        long raw = 0, cleanFixes = 0, cleanGated = 0, resets = 0, jumps = 0, jumpsGated = 0;
         var isolatedAfterS = new List<double>();
         var isolatedStreams = new SortedSet<string>(StringComparer.Ordinal);
         int driveCount = 0;
@@ -125,6 +145,12 @@ internal static class ConsistencyReport
                     resets++;
                 }
 
+                if (m.Kind == SensorKind.GnssPosition && run.GetMeasurementTruth(m.MessageKey) is { IsOutlier: true })
+                {
+                    jumps++;
+                    jumpsGated += o.Kind == OutcomeKind.Gated ? 1 : 0;
+                }
+
                 if (m.Kind == SensorKind.GnssPosition && run.GetMeasurementTruth(m.MessageKey) is { IsOutlier: false, InMultipath: false, InUrbanCanyon: false }
                     && o.Kind is OutcomeKind.Accepted or OutcomeKind.Gated or OutcomeKind.TrackReset)
                 {
@@ -158,10 +184,13 @@ internal static class ConsistencyReport
                     smoothed.Add(run.Truth, segment.TimesUs[k], segment.Planes[k], segment.Means[k], segment.Covariances[k]);
                 }
             }
+
+            filtered.EndDrive();
+            smoothed.EndDrive();
         }
 
         Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
-            $"{label,-28} {filtered.Containment,8:P1}  {smoothed.Containment,10:P1}  {filtered.MeanNees,9:F2}  {smoothed.MeanNees,11:F2}  {Math.Sqrt(rawSq / raw),8:F2}  {filtered.Rmse,4:F2}  {smoothed.Rmse,6:F2}  {gnssOnly.Rmse,13:F2}  {(double)cleanGated / Math.Max(1, cleanFixes),17:P2}  {resets,6}  {Isolation(isolatedAfterS, isolatedStreams, driveCount),-30} ({clock.Elapsed.TotalSeconds:F0} s)"));
+            $"{label,-28} {filtered.Containment * 100,5:F1} ± {filtered.ContainmentStandardError * 100:F1} %  {smoothed.Containment * 100,5:F1} ± {smoothed.ContainmentStandardError * 100:F1} %  {filtered.MeanNees,9:F2}  {smoothed.MeanNees,11:F2}  {Math.Sqrt(rawSq / raw),8:F2}  {filtered.Rmse,4:F2}  {smoothed.Rmse,6:F2}  {gnssOnly.Rmse,13:F2}  {(double)cleanGated / Math.Max(1, cleanFixes),17:P2}  {(jumps == 0 ? "-" : string.Create(CultureInfo.InvariantCulture, $"{jumpsGated}/{jumps}")),11}  {resets,6}  {Isolation(isolatedAfterS, isolatedStreams, driveCount),-30} ({clock.Elapsed.TotalSeconds:F0} s)"));
     }
 
     private static string Isolation(List<double> afterS, SortedSet<string> streams, int drives)
@@ -175,15 +204,53 @@ internal static class ConsistencyReport
         return string.Create(CultureInfo.InvariantCulture, $"{string.Join('+', streams)} {afterS.Count}/{drives}, {afterS[0]:F0}-{afterS[^1]:F0} s");
     }
 
+    /// <summary>
+    /// Containment, NEES and RMSE over all drives of a case. The standard error of the containment comes from the spread
+    /// of the drives' own containments (s / √n over drives), not from the count of seconds: seconds of one drive share
+    /// its GNSS error, correlated over about a minute, so they are far from independent.
+    /// </summary>
     private sealed class Tally
     {
+        private readonly List<double> _driveContainments = [];
         private long _count;
         private long _inside;
+        private long _driveStartCount;
+        private long _driveStartInside;
         private double _nees;
         private double _squared;
         private long _lastUs = long.MinValue;
 
         public double Containment => (double)_inside / Math.Max(1, _count);
+
+        public double ContainmentStandardError
+        {
+            get
+            {
+                int n = _driveContainments.Count;
+                if (n < 2)
+                {
+                    return double.NaN;
+                }
+
+                double mean = _driveContainments.Average();
+                double variance = _driveContainments.Sum(c => (c - mean) * (c - mean)) / (n - 1);
+                return Math.Sqrt(variance / n);
+            }
+        }
+
+        /// <summary>Closes one drive: its containment joins the spread the standard error is computed from.</summary>
+        public void EndDrive()
+        {
+            long count = _count - _driveStartCount;
+            if (count > 0)
+            {
+                _driveContainments.Add((double)(_inside - _driveStartInside) / count);
+            }
+
+            _driveStartCount = _count;
+            _driveStartInside = _inside;
+            _lastUs = long.MinValue;
+        }
 
         public double MeanNees => _nees / Math.Max(1, _count);
 

@@ -31,7 +31,7 @@ if (args.Length > 0 && string.Equals(args[0], "fleet-list", StringComparison.Ord
 if (args.Length > 0 && string.Equals(args[0], "consistency", StringComparison.Ordinal))
 {
     ConsistencyReport.Run(
-        args.Length > 1 ? int.Parse(args[1], System.Globalization.CultureInfo.InvariantCulture) : 16,
+        args.Length > 1 ? int.Parse(args[1], System.Globalization.CultureInfo.InvariantCulture) : 64,
         onlyFaultyStreams: args.Length > 2 && string.Equals(args[2], "faulty", StringComparison.Ordinal));
     return;
 }

@@ -59,8 +59,9 @@ public sealed class StreamIsolationTests(ITestOutputHelper output)
     public void Issue12_no_stream_is_isolated_on_the_realistic_drives_with_every_sensor_right()
     {
         // Multipath episodes, an outage, a tow, a 3 h park beside a building and an HDOP-only receiver, two seeds each:
-        // none of them is a wrong stream.
-        foreach (RealisticDrive drive in RealisticDrives.All().Concat(RealisticDrives.All(100)))
+        // none of them is a wrong stream. Seed 4402 starts inside a multipath episode: judged on its first two chords
+        // its right course was isolated 12 s in (found by the 64-seed consistency report).
+        foreach (RealisticDrive drive in RealisticDrives.All().Concat(RealisticDrives.All(100)).Append(RealisticDrives.Multipath(4402)))
         {
             ScenarioRun run = drive.Generate();
             ReplayResult replay = TrackReplay.Run(Processor, TrackState.Empty, run.Measurements);
