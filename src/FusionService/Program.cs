@@ -90,7 +90,6 @@ app.UseExceptionHandler();
 app.UseStatusCodePages();
 app.UseFusionDashboard();
 app.UseWebSockets();
-app.UseRateLimiter();
 app.UseSwaggerUI(ui => ui.SwaggerEndpoint("/openapi/v1.json", "FusionService API v1"));
 app.MapOperationsEndpoints();
 app.MapTelemetryEndpoints();
