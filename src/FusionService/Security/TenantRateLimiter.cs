@@ -2,6 +2,7 @@
 using System.Net;
 using System.Net.Sockets;
 using System.Threading.RateLimiting;
+using FusionService.Operations;
 using Microsoft.Extensions.Options;
 
 namespace FusionService.Security;
@@ -16,11 +17,14 @@ public sealed class TenantRateLimiter : IDisposable
 {
     private readonly SecurityOptions _options;
     private readonly PartitionedRateLimiter<string> _limiter;
+    private readonly ServiceMetrics _metrics;
 
-    /// <summary>Creates the limiter from the options in force.</summary>
-    public TenantRateLimiter(IOptions<SecurityOptions> options)
+    /// <summary>Creates the limiter from the options in force; refusals are counted in <paramref name="metrics"/>.</summary>
+    public TenantRateLimiter(IOptions<SecurityOptions> options, ServiceMetrics metrics)
     {
         ArgumentNullException.ThrowIfNull(options);
+        ArgumentNullException.ThrowIfNull(metrics);
+        _metrics = metrics;
         _options = options.Value;
         var settings = _options;
         _limiter = PartitionedRateLimiter.Create<string, string>(partition => RateLimitPartition.GetTokenBucketLimiter(
@@ -131,6 +135,7 @@ public sealed class TenantRateLimiter : IDisposable
             return null;
         }
 
+        _metrics.CountRateLimited(option);
         double retryS = lease.TryGetMetadata(MetadataName.RetryAfter, out TimeSpan retry) ? retry.TotalSeconds : _options.RateLimitWindowSeconds;
         return new RateLimitRefusal(what, option, permits, _options.RateLimitWindowSeconds, Math.Max(1, (int)Math.Ceiling(retryS)));
     }
