@@ -6,6 +6,7 @@ using FusionService.Cli;
 using FusionService.Dashboard;
 using FusionService.Database;
 using FusionService.Demo;
+using FusionService.Fleets;
 using FusionService.History;
 using FusionService.Ingest;
 using FusionService.Ingest.Nmea;
@@ -100,6 +101,7 @@ app.MapNmeaEndpoints();
 app.MapAlertEndpoints();
 app.MapWebhookEndpoints();
 app.MapLiveEndpoints();
+app.MapFleetEndpoints();
 await app.RunAsync().ConfigureAwait(false);
 return 0;
 
