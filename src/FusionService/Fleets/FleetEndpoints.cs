@@ -114,7 +114,7 @@ public static class FleetEndpoints
             switch (property.Name)
             {
                 case "role":
-                    role = property.Value.ValueKind == JsonValueKind.String ? ParseRole(property.Value.GetString()!) : null;
+                    role = TextOf(property.Value) is { } roleText ? ParseRole(roleText) : null;
                     if (role is null)
                     {
                         return BadRequest("role: must be \"ingest\", \"read\" or \"admin\"");
@@ -122,19 +122,19 @@ public static class FleetEndpoints
 
                     break;
                 case "label":
-                    if (property.Value.ValueKind != JsonValueKind.String || property.Value.GetString()!.Length > 200)
+                    if (TextOf(property.Value) is not { Length: <= 200 } labelText || !IsStorableText(labelText))
                     {
-                        return BadRequest("label: must be a string of at most 200 characters");
+                        return BadRequest("label: must be a string of at most 200 characters, valid Unicode without NUL");
                     }
 
-                    label = property.Value.GetString()!;
+                    label = labelText;
                     break;
                 case "expires_at" when property.Value.ValueKind == JsonValueKind.Null:
                     break;
                 case "expires_at":
                     string? text = property.Value.ValueKind switch
                     {
-                        JsonValueKind.String => property.Value.GetString(),
+                        JsonValueKind.String => TextOf(property.Value),
                         JsonValueKind.Number => property.Value.GetRawText(),
                         _ => null,
                     };
@@ -296,6 +296,50 @@ public static class FleetEndpoints
         int? own = await admin.GetVehicleQuotaAsync(fleetId, cancellationToken).ConfigureAwait(false);
         int vehicles = (await admin.VehicleIdsAsync(fleetId, cancellationToken).ConfigureAwait(false)).Count;
         return new VehicleQuotaResponse(own ?? options.DefaultMaxVehicles, own is null ? "default" : "fleet", vehicles);
+    }
+
+    // A JSON string as text; null for another kind or for text .NET cannot hold (invalid UTF-8, an unpaired surrogate
+    // escape such as "\ud800": System.Text.Json throws InvalidOperationException for them).
+    private static string? TextOf(JsonElement value)
+    {
+        if (value.ValueKind != JsonValueKind.String)
+        {
+            return null;
+        }
+
+        try
+        {
+            return value.GetString();
+        }
+        catch (InvalidOperationException)
+        {
+            return null;
+        }
+    }
+
+    // PostgreSQL text holds neither NUL nor an unpaired UTF-16 surrogate (a JSON escape such as "\ud800" gives one).
+    private static bool IsStorableText(string text)
+    {
+        for (int i = 0; i < text.Length; i++)
+        {
+            char c = text[i];
+            if (c == '\0' || char.IsLowSurrogate(c))
+            {
+                return false;
+            }
+
+            if (char.IsHighSurrogate(c))
+            {
+                if (i + 1 >= text.Length || !char.IsLowSurrogate(text[i + 1]))
+                {
+                    return false;
+                }
+
+                i++;
+            }
+        }
+
+        return true;
     }
 
     private static ApiKeyRole? ParseRole(string text) => text switch

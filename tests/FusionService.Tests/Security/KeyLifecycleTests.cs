@@ -81,6 +81,8 @@ public sealed class KeyLifecycleTests(ServiceFixture fixture)
     [InlineData("{\"role\":\"read\",\"expires_at\":\"2001-01-01T00:00:00Z\"}", "expires_at: must be in the future")]
     [InlineData("{\"role\":\"read\",\"expires_at\":\"tomorrow\"}", "expires_at:")]
     [InlineData("{\"role\":\"read\",\"owner\":\"x\"}", "owner: unknown field")]
+    [InlineData("{\"role\":\"read\",\"label\":\"\\ud800\"}", "label: must be a string")]
+    [InlineData("{\"role\":\"read\",\"label\":\"a\\u0000b\"}", "label: must be a string")]
     [InlineData("[1]", "body: must be a JSON object")]
     [InlineData("{\"role\":", "body: not valid JSON")]
     public async Task Issue14_an_invalid_key_request_names_the_field(string body, string expected)
