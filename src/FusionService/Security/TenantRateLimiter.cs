@@ -121,7 +121,8 @@ public sealed class TenantRateLimiter : IDisposable
             ReplenishmentPeriod = period,
             TokensPerPeriod = perPeriod,
             QueueLimit = 0,
-            AutoReplenishment = true,
+            // The partitioned limiter's own 100 ms heartbeat refills every bucket (and drops idle full ones): no timer per bucket.
+            AutoReplenishment = false,
         };
     }
 

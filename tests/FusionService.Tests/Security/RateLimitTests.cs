@@ -45,6 +45,22 @@ public sealed class RateLimitTests(ServiceFixture fixture)
     }
 
     [Fact]
+    public async Task Issue14_a_spent_bucket_refills_over_its_window()
+    {
+        var options = Microsoft.Extensions.Options.Options.Create(new FusionService.Security.SecurityOptions { RateLimitPermits = 2, RateLimitWindowSeconds = 1 });
+        using var limiter = new FusionService.Security.TenantRateLimiter(options, new FusionService.Operations.ServiceMetrics());
+        var caller = new FusionService.Security.ApiCaller(Guid.NewGuid(), ApiKeyRole.Read, "hash", Guid.NewGuid());
+        Assert.Null(limiter.TryRequest(caller));
+        Assert.Null(limiter.TryRequest(caller));
+        var refused = limiter.TryRequest(caller);
+        Assert.NotNull(refused);
+        Assert.Equal(1, refused.RetryAfterS);
+        // Two permits per second come back within a second; 3 s leaves room for a busy machine.
+        await Task.Delay(TimeSpan.FromSeconds(3));
+        Assert.Null(limiter.TryRequest(caller));
+    }
+
+    [Fact]
     public async Task Issue14_spellings_of_one_key_share_one_bucket_and_429_says_when_to_retry()
     {
         var fleet = await fixture.NewFleetAsync();
