@@ -8,9 +8,9 @@ using Npgsql;
 namespace FusionService.History;
 
 /// <summary>
-/// Marks an endpoint as a history read: it runs only with a slot of <see cref="HeavyReadGate"/> (429 when the
-/// caller's fleet has its maximum running, 503 when the process has, both with Retry-After), held until the response is
-/// written; a read cancelled by the statement timeout or cut off from the database before the answer began is 503.
+/// Marks an endpoint as a history read: it runs only with a slot of <see cref="HeavyReadGate"/> (after waiting up to
+/// <c>HeavyReads:QueueTimeoutMs</c>: 429 when the caller's fleet still had its maximum running, 503 when the process
+/// had, both with Retry-After), held until the response is written; a read cancelled by the statement timeout or cut off from the database before the answer began is 503.
 /// </summary>
 public static class HeavyReadAdmission
 {
@@ -32,13 +32,13 @@ public static class HeavyReadAdmission
                     ? TypedResults.Problem(
                         title: "Too many requests",
                         detail: string.Create(CultureInfo.InvariantCulture,
-                            $"history reads of this fleet: {settings.MaxConcurrentPerFleet} are running, the most at once (HeavyReads:MaxConcurrentPerFleet); retry after {settings.RetryAfterS} s"),
+                            $"history reads of this fleet: {settings.MaxConcurrentPerFleet} were running, the most at once (HeavyReads:MaxConcurrentPerFleet), for {settings.QueueTimeoutMs} ms; retry after {settings.RetryAfterS} s"),
                         statusCode: StatusCodes.Status429TooManyRequests,
                         extensions: new Dictionary<string, object?> { ["limit"] = "HeavyReads:MaxConcurrentPerFleet", ["retry_after_s"] = settings.RetryAfterS })
                     : TypedResults.Problem(
                         title: "Service busy",
                         detail: string.Create(CultureInfo.InvariantCulture,
-                            $"history reads: {settings.MaxConcurrent} are running, the most at once (HeavyReads:MaxConcurrent); retry after {settings.RetryAfterS} s"),
+                            $"history reads: {settings.MaxConcurrent} were running, the most at once (HeavyReads:MaxConcurrent), for {settings.QueueTimeoutMs} ms; retry after {settings.RetryAfterS} s"),
                         statusCode: StatusCodes.Status503ServiceUnavailable,
                         extensions: new Dictionary<string, object?> { ["limit"] = "HeavyReads:MaxConcurrent", ["retry_after_s"] = settings.RetryAfterS });
             }

@@ -4,16 +4,17 @@ using Microsoft.Extensions.Options;
 namespace FusionService.History;
 
 /// <summary>
-/// Counts the history reads in flight: at most <see cref="HeavyReadOptions.MaxConcurrentPerFleet"/> per fleet (a
-/// fleet over it is refused at once) and <see cref="HeavyReadOptions.MaxConcurrent"/> in all (a request waits up to
-/// <see cref="HeavyReadOptions.QueueTimeoutMs"/> for a slot). A slot is held until its response has been written.
+/// Counts the history reads in flight: at most <see cref="HeavyReadOptions.MaxConcurrentPerFleet"/> per fleet and
+/// <see cref="HeavyReadOptions.MaxConcurrent"/> in all. A request waits up to <see cref="HeavyReadOptions.QueueTimeoutMs"/>
+/// in all for its slots (the dashboard's vehicle view asks for five history reads at once, which then run a few at a
+/// time); a fleet whose reads stay over its share is refused (429), and so is a request that found its fleet's share
+/// free but every slot of the process taken (503). A slot is held until its response has been written.
 /// </summary>
 public sealed class HeavyReadGate : IDisposable
 {
     private readonly HeavyReadOptions _options;
     private readonly SemaphoreSlim _global;
-    private readonly Dictionary<Guid, int> _perFleet = [];
-    private readonly Lock _gate = new();
+    private readonly System.Collections.Concurrent.ConcurrentDictionary<Guid, SemaphoreSlim> _perFleet = new();
     private long _refusedFleet;
     private long _refusedBusy;
 
@@ -40,28 +41,25 @@ public sealed class HeavyReadGate : IDisposable
     /// <summary>A slot for one read of <paramref name="fleetId"/>, or the reason there is none.</summary>
     public async Task<(IDisposable? Slot, HeavyReadRefusal Refusal)> TryEnterAsync(Guid fleetId, CancellationToken cancellationToken)
     {
-        lock (_gate)
+        var fleet = _perFleet.GetOrAdd(fleetId, _ => new SemaphoreSlim(_options.MaxConcurrentPerFleet, _options.MaxConcurrentPerFleet));
+        var waited = System.Diagnostics.Stopwatch.StartNew();
+        if (!await fleet.WaitAsync(_options.QueueTimeoutMs, cancellationToken).ConfigureAwait(false))
         {
-            _perFleet.TryGetValue(fleetId, out int running);
-            if (running >= _options.MaxConcurrentPerFleet)
-            {
-                Interlocked.Increment(ref _refusedFleet);
-                return (null, HeavyReadRefusal.FleetBusy);
-            }
-
-            _perFleet[fleetId] = running + 1;
+            Interlocked.Increment(ref _refusedFleet);
+            return (null, HeavyReadRefusal.FleetBusy);
         }
 
         bool entered = false;
         try
         {
-            entered = await _global.WaitAsync(_options.QueueTimeoutMs, cancellationToken).ConfigureAwait(false);
+            int left = (int)Math.Max(0, _options.QueueTimeoutMs - waited.ElapsedMilliseconds);
+            entered = await _global.WaitAsync(left, cancellationToken).ConfigureAwait(false);
         }
         finally
         {
             if (!entered)
             {
-                LeaveFleet(fleetId);
+                fleet.Release();
             }
         }
 
@@ -71,28 +69,20 @@ public sealed class HeavyReadGate : IDisposable
             return (null, HeavyReadRefusal.ServiceBusy);
         }
 
-        return (new Slot(this, fleetId), HeavyReadRefusal.None);
+        return (new Slot(this, fleet), HeavyReadRefusal.None);
     }
 
     /// <inheritdoc />
-    public void Dispose() => _global.Dispose();
-
-    private void LeaveFleet(Guid fleetId)
+    public void Dispose()
     {
-        lock (_gate)
+        _global.Dispose();
+        foreach (var fleet in _perFleet.Values)
         {
-            if (_perFleet.TryGetValue(fleetId, out int running) && running > 1)
-            {
-                _perFleet[fleetId] = running - 1;
-            }
-            else
-            {
-                _perFleet.Remove(fleetId);
-            }
+            fleet.Dispose();
         }
     }
 
-    private sealed class Slot(HeavyReadGate owner, Guid fleetId) : IDisposable
+    private sealed class Slot(HeavyReadGate owner, SemaphoreSlim fleet) : IDisposable
     {
         private int _disposed;
 
@@ -101,7 +91,7 @@ public sealed class HeavyReadGate : IDisposable
             if (Interlocked.Exchange(ref _disposed, 1) == 0)
             {
                 owner._global.Release();
-                owner.LeaveFleet(fleetId);
+                fleet.Release();
             }
         }
     }

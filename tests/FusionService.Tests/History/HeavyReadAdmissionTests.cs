@@ -81,6 +81,29 @@ public sealed class HeavyReadAdmissionTests(ServiceFixture fixture)
     }
 
     [Fact]
+    public async Task Issue14_the_vehicle_views_five_reads_at_once_wait_for_their_turn_with_the_defaults()
+    {
+        // The dashboard's vehicle view asks for raw, filtered and smoothed tracks, diagnostics and distance at once: with
+        // two reads per fleet they must queue, not be refused (a first version answered 429 and the view lost its path).
+        var fleet = await fixture.NewFleetAsync();
+        var drive = HistoryDrive.Create("van-view", seed: 6147);
+        await drive.IngestAsync(fixture, fleet);
+        using var read = fixture.Client(fleet.ReadKey);
+        string window = "from=" + HistoryDrive.Time(drive.StartUs) + "&to=" + HistoryDrive.Time(drive.EndUs);
+        string[] paths =
+        [
+            "/v1/vehicles/van-view/track?kind=raw&" + window, "/v1/vehicles/van-view/track?kind=filtered&" + window,
+            "/v1/vehicles/van-view/track?kind=smoothed&" + window, "/v1/vehicles/van-view/diagnostics?" + window, "/v1/vehicles/van-view/distance?" + window,
+        ];
+        var answers = await Task.WhenAll(paths.Select(async path =>
+        {
+            using var response = await read.GetAsync(path);
+            return ((int)response.StatusCode, path + ": " + await response.Content.ReadAsStringAsync());
+        }));
+        Assert.All(answers, a => Assert.True(a.Item1 == 200, a.Item2));
+    }
+
+    [Fact]
     public async Task Issue14_history_reads_have_a_pool_of_their_own_with_a_statement_timeout()
     {
         await using var host = new ServiceFactory(fixture.ConnectionString, new Dictionary<string, string?>
