@@ -36,6 +36,12 @@ if (args.Length > 0 && string.Equals(args[0], "consistency", StringComparison.Or
     return;
 }
 
+if (args.Length > 0 && string.Equals(args[0], "heavy-read-http", StringComparison.Ordinal))
+{
+    await HeavyReadHttp.RunAsync(args);
+    return;
+}
+
 if (args.Length > 0 && string.Equals(args[0], "vanday-http", StringComparison.Ordinal))
 {
     await VanDayHttp.RunAsync(args);

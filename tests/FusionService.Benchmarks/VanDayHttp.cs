@@ -11,8 +11,9 @@ namespace FusionService.Benchmarks;
 /// Posts the invented van day of <see cref="VanDayScenario"/> (times shifted so that it ends 10 minutes ago) to a running
 /// service as NDJSON batches of 5,000 messages, waits until the vehicle's state has caught up with the last fix, and
 /// then times each history request <c>repeats</c> times with a stopwatch: time to the response headers and to the last
-/// byte of the body (<c>vanday-http --url URL --ingest-key KEY --read-key KEY [--repeats 3] [--pid SERVICE_PID]
-/// [--batch 5000] [--companions 0]</c>; companions: other vans with the same day posted between the van's batches).
+/// byte of the body (<c>vanday-http --url URL --ingest-key KEY --read-key KEY [--metrics-key ADMIN_KEY_OR_TOKEN]
+/// [--repeats 3] [--pid SERVICE_PID] [--batch 5000] [--companions 0]</c>; companions: other vans with the same day posted
+/// between the van's batches; metrics-key: what reads <c>/metrics</c>, an admin key or the scrape token).
 /// With <c>--pid</c> it also prints the service's resident and peak resident memory (Linux /proc) before and after.
 /// A load tool, not a test: it asserts nothing.
 /// </summary>
@@ -60,7 +61,7 @@ internal static class VanDayHttp
         }
 
         Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"posted in {post.Elapsed.TotalSeconds:F1} s; waiting for the track to catch up"));
-        await WaitForTracksAsync(http);
+        await WaitForTracksAsync(http, options.GetValueOrDefault("metrics-key"));
         Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"tracks idle {post.Elapsed.TotalSeconds:F1} s after the first post"));
         http.DefaultRequestHeaders.Authorization = new AuthenticationHeaderValue("Bearer", options["read-key"]);
         PrintMemory(pid, "before the history requests");
@@ -103,19 +104,27 @@ internal static class VanDayHttp
     }
 
     // Until /metrics shows no batch in the tracks and no row waiting for the tracks' writer, twice in a row.
-    private static async Task WaitForTracksAsync(HttpClient http)
+    internal static async Task WaitForTracksAsync(HttpClient http, string? metricsKey)
     {
         int idle = 0;
         while (idle < 2)
         {
             await Task.Delay(500);
-            string text = await http.GetStringAsync("metrics");
+            using var request = new HttpRequestMessage(HttpMethod.Get, "metrics");
+            if (metricsKey is not null)
+            {
+                request.Headers.Authorization = new AuthenticationHeaderValue("Bearer", metricsKey);
+            }
+
+            using var response = await http.SendAsync(request);
+            response.EnsureSuccessStatusCode();
+            string text = await response.Content.ReadAsStringAsync();
             bool quiet = text.Split('\n').Count(l => l is "fusion_track_batches_in_flight 0" or "fusion_track_write_queue_rows 0") == 2;
             idle = quiet ? idle + 1 : 0;
         }
     }
 
-    private static string Format(long timeUs) => Uri.EscapeDataString(TelemetryJson.FormatTime(timeUs));
+    internal static string Format(long timeUs) => Uri.EscapeDataString(TelemetryJson.FormatTime(timeUs));
 
     private static void PrintMemory(int? pid, string when)
     {
@@ -128,7 +137,7 @@ internal static class VanDayHttp
         Console.WriteLine($"service memory {when}: " + string.Join(", ", lines.Select(l => string.Join(' ', l.Split((char[]?)null, StringSplitOptions.RemoveEmptyEntries)))));
     }
 
-    private static Dictionary<string, string> Options(string[] args)
+    internal static Dictionary<string, string> Options(string[] args)
     {
         var values = new Dictionary<string, string>(StringComparer.Ordinal);
         for (int i = 1; i + 1 < args.Length; i += 2)
@@ -145,7 +154,7 @@ internal static class VanDayHttp
         {
             if (!values.ContainsKey(required))
             {
-                throw new ArgumentException($"--{required} is required: vanday-http --url URL --ingest-key KEY --read-key KEY [--repeats 3] [--pid PID]");
+                throw new ArgumentException($"--{required} is required: vanday-http --url URL --ingest-key KEY --read-key KEY [--metrics-key KEY] [--repeats 3] [--pid PID]");
             }
         }
 

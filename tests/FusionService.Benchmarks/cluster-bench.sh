@@ -35,7 +35,9 @@ as_postgres "$pgbin/initdb" -D "$work/pg" -A trust -E UTF8 --locale=C.UTF-8 --no
 as_postgres "$pgbin/pg_ctl" -D "$work/pg" -w -l "$work/pg.log" -o "-p $pg_port -k $work -c listen_addresses=127.0.0.1 -c shared_buffers=512MB -c max_wal_size=4GB -c checkpoint_timeout=15min -c wal_compression=on -c max_connections=300" start >/dev/null
 "$pgbin/createdb" -h 127.0.0.1 -p "$pg_port" -U postgres fusion
 export ConnectionStrings__Fusion="Host=127.0.0.1;Port=$pg_port;Database=fusion;Username=postgres"
-export Security__RateLimitPermits=100000000 Serilog__MinimumLevel__Default=Warning Serilog__MinimumLevel__Override__Orleans=Error
+export Security__RateLimitPermits=100000000 Security__FleetRateLimitPermits=100000000 Security__MessageLimitPermits=2000000000 \
+  Security__FleetMessageLimitPermits=2000000000 Operations__MetricsAnonymous=true \
+  Serilog__MinimumLevel__Default=Warning Serilog__MinimumLevel__Override__Orleans=Error
 
 # Starts one service process in cluster CLUSTER; prints its URL. Extra environment as further arguments (NAME=VALUE).
 start_service() {

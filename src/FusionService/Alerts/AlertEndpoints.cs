@@ -236,7 +236,8 @@ public static class AlertEndpoints
         var caller = ApiCaller.Of(http);
         using var subscription = hub.SubscribeAlerts(caller.FleetId);
         using var socket = await http.WebSockets.AcceptWebSocketAsync(WebSocketKeyAuthentication.AcceptContext(http)).ConfigureAwait(false);
-        await LiveStreaming.PumpAsync(socket, subscription.Reader, http.RequestAborted).ConfigureAwait(false);
+        using var keyWatch = http.RequestServices.GetRequiredService<StreamKeyWatch>().Watch(caller);
+        await LiveStreaming.PumpAsync(socket, subscription.Reader, http.RequestAborted, keyWatch.Token).ConfigureAwait(false);
         return TypedResults.Empty;
     }
 

@@ -17,7 +17,10 @@ public sealed class AlertOptions
     [Range(100, 3_600_000)]
     public int SilenceScanIntervalMs { get; set; } = 10_000;
 
-    /// <summary>Hours of receipts read from the store at start-up to know which vehicles were sending. Default 24.</summary>
+    /// <summary>
+    /// Hours of receipts read from the store at start-up to know which vehicles were sending; also how long a silent
+    /// vehicle stays in the in-memory activity table before it is evicted. Default 24.
+    /// </summary>
     [Range(1, 24 * 31)]
     public int SilenceLookbackHours { get; set; } = 24;
 }

@@ -14,8 +14,10 @@ namespace FusionService.Alerts;
 /// <c>measurements.received_at</c> of the last <see cref="AlertOptions.SilenceLookbackHours"/>) with the server clock
 /// and the fleet's <see cref="VehicleSilentRule"/>: a silent vehicle gets (or keeps) an open alert, a vehicle heard from
 /// again has it resolved at the next scan (the alert is written only when that changes). Alert times here are
-/// server-clock times. After a restart, an open alert of a vehicle that sends again before the first scan stays open
-/// until that vehicle falls silent and recovers once more (the scanner keeps no state in the store).
+/// server-clock times. Vehicles silent for longer than <see cref="AlertOptions.SilenceLookbackHours"/> are evicted from
+/// <see cref="VehicleActivity"/> (their open alert stays open: they are still silent). A vehicle heard from while it had
+/// no entry (new, evicted, or sending again after a restart before the first scan) has any open silence alert resolved
+/// at the next scan, one store lookup per such vehicle.
 /// </summary>
 public sealed class VehicleSilenceScanner(
     FusionDatabase database, AlertPublisher publisher, IOptions<AlertOptions> options, TimeProvider time, ILogger<VehicleSilenceScanner> logger) : BackgroundService
@@ -55,7 +57,7 @@ public sealed class VehicleSilenceScanner(
         {
             foreach (var r in await new AlertRepository(database.DataSource).NewestReceiptsAsync(now.AddHours(-options.Value.SilenceLookbackHours), cancellationToken).ConfigureAwait(false))
             {
-                publisher.Activity.Note(r.FleetId, r.VehicleId, r.ReceivedAt);
+                publisher.Activity.Seed(r.FleetId, r.VehicleId, r.ReceivedAt);
             }
 
             _seeded = true;
@@ -66,7 +68,9 @@ public sealed class VehicleSilenceScanner(
             var rule = (await publisher.Rules.GetAsync(fleetId, cancellationToken).ConfigureAwait(false)).VehicleSilent;
             bool silent = rule.IsSilent(last, now);
             bool known = _silent.Contains((fleetId, vehicleId));
-            if (silent == known)
+            // A vehicle that was out of the table may have an alert left open from before: resolve it (a no-op without one).
+            bool fresh = publisher.Activity.TakeFresh(fleetId, vehicleId);
+            if (silent == known && !(fresh && !silent))
             {
                 continue;
             }
@@ -92,6 +96,11 @@ public sealed class VehicleSilenceScanner(
                     _silent.Remove((fleetId, vehicleId));
                 }
             }
+        }
+
+        foreach (var key in publisher.Activity.EvictSilentSince(now.AddHours(-options.Value.SilenceLookbackHours)))
+        {
+            _silent.Remove(key);
         }
     }
 }

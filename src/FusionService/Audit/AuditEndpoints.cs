@@ -11,6 +11,7 @@ using Microsoft.AspNetCore.Http.HttpResults;
 using Microsoft.Extensions.Options;
 
 using FusionService.Http;
+using FusionService.History;
 
 using FusionService.Operations;
 
@@ -28,6 +29,7 @@ public static class AuditEndpoints
         group.MapGet("/{vehicle}/diagnostics", GetDiagnostics)
             .WithResponseExample(200, "diagnostics.json")
             .RequireApiKey(ApiKeyRole.Read, ApiKeyRole.Admin)
+            .AdmitAsHeavyRead()
             .WithName("GetVehicleDiagnostics")
             .WithSummary("Sensor verdicts, NIS consistency, innovation whiteness, calibration and GNSS outages of one vehicle")
             .WithDescription(
@@ -55,6 +57,7 @@ public static class AuditEndpoints
         group.MapGet("/{vehicle}/explain", GetExplanation)
             .WithResponseExample(200, "explain.json")
             .RequireApiKey(ApiKeyRole.Read, ApiKeyRole.Admin)
+            .AdmitAsHeavyRead()
             .WithName("ExplainVehicleState")
             .WithSummary("Why the estimate of one vehicle at one instant is what it is")
             .WithDescription(
@@ -106,8 +109,8 @@ public static class AuditEndpoints
         }
 
         var report = await DiagnosticsReport.BuildAsync(
-            new AuditRepository(database.DataSource),
-            new DuplicateCountRepository(database.DataSource),
+            new AuditRepository(database.ReadDataSource),
+            new DuplicateCountRepository(database.ReadDataSource),
             processor,
             settings,
             caller.FleetId,
@@ -147,8 +150,8 @@ public static class AuditEndpoints
         }
 
         var explanation = await ExplainReplay.BuildAsync(
-            new AuditRepository(database.DataSource),
-            new FilterCheckpointRepository(database.DataSource),
+            new AuditRepository(database.ReadDataSource),
+            new FilterCheckpointRepository(database.ReadDataSource),
             processor,
             settings,
             caller.FleetId,
@@ -161,7 +164,7 @@ public static class AuditEndpoints
 
     private static async Task<bool> VehicleExistsAsync(FusionDatabase database, Guid fleetId, string vehicle, CancellationToken cancellationToken) =>
         Ingest.TelemetryMessageParser.IsValidVehicleId(vehicle)
-        && await new VehicleRepository(database.DataSource).ExistsAsync(fleetId, vehicle, cancellationToken).ConfigureAwait(false);
+        && await new VehicleRepository(database.ReadDataSource).ExistsAsync(fleetId, vehicle, cancellationToken).ConfigureAwait(false);
 
     private static ProblemHttpResult BadRequest(string parameter, string problem) =>
         TypedResults.Problem(title: "Invalid query parameter", detail: parameter + ": " + problem, statusCode: StatusCodes.Status400BadRequest,

@@ -118,7 +118,7 @@ public static class LoadCommand
         }
         else
         {
-            await output.WriteLineAsync("fused-state lag: /metrics not readable (pass --metrics-token when Operations:MetricsToken is set)").ConfigureAwait(false);
+            await output.WriteLineAsync("fused-state lag: /metrics not readable (pass --metrics-token with the scrape token Operations:MetricsToken or an admin key)").ConfigureAwait(false);
         }
 
         if (compareCopy && report.BatchesAccepted > 0)

@@ -53,6 +53,23 @@ public sealed class DatabaseOptions
     [Range(2, 1000)]
     public int MaxPoolSize { get; set; } = 40;
 
+    /// <summary>
+    /// Largest number of pooled connections of the separate pool the history reads use (track, distance, diagnostics,
+    /// explain), so that they can never take the connections ingest commits need. With fewer than
+    /// <c>HeavyReads:MaxConcurrent</c> x <c>Tracks:ReplayStretches</c> connections, parallel replay stretches wait for one
+    /// another. Default 16.
+    /// </summary>
+    [Range(1, 1000)]
+    public int ReadMaxPoolSize { get; set; } = 16;
+
+    /// <summary>
+    /// Statement timeout of the history reads' connections, seconds (PostgreSQL <c>statement_timeout</c>): a read running
+    /// longer is cancelled and the request answered 503. A 24 h smoothed track reads for about 1-2 s on a 2-core
+    /// machine (docs/benchmarks.md). Default 30.
+    /// </summary>
+    [Range(1, 3600)]
+    public int ReadStatementTimeoutS { get; set; } = 30;
+
     /// <summary>Daily partitions created ahead of today (UTC). Default 3.</summary>
     [Range(1, 30)]
     public int DaysAhead { get; set; } = 3;

@@ -24,6 +24,7 @@ public sealed class FusionDatabase : IAsyncDisposable
     private readonly ILogger<FusionDatabase> _logger;
     private EmbeddedPostgres? _embedded;
     private NpgsqlDataSource? _dataSource;
+    private NpgsqlDataSource? _readDataSource;
     private int _down;
     private long _downSince;
     private long _failuresWhileDown;
@@ -40,6 +41,14 @@ public sealed class FusionDatabase : IAsyncDisposable
     /// <summary>Data source whose connections use the store's schema.</summary>
     /// <exception cref="InvalidOperationException">Before <see cref="StartAsync(CancellationToken)"/>.</exception>
     public NpgsqlDataSource DataSource => _dataSource ?? throw new InvalidOperationException("The database has not been started.");
+
+    /// <summary>
+    /// Data source of the history reads: a pool of its own (<see cref="DatabaseOptions.ReadMaxPoolSize"/>) whose
+    /// connections carry the statement timeout <see cref="DatabaseOptions.ReadStatementTimeoutS"/>, so that heavy reads
+    /// never hold the connections of the ingest commits.
+    /// </summary>
+    /// <exception cref="InvalidOperationException">Before <see cref="StartAsync(CancellationToken)"/>.</exception>
+    public NpgsqlDataSource ReadDataSource => _readDataSource ?? throw new InvalidOperationException("The database has not been started.");
 
     /// <summary>Server connection string (without the schema search path).</summary>
     public string ServerConnectionString { get; private set; } = string.Empty;
@@ -107,6 +116,14 @@ public sealed class FusionDatabase : IAsyncDisposable
         }
 
         _dataSource = NpgsqlDataSource.Create(pooled.ConnectionString);
+        var reads = new NpgsqlConnectionStringBuilder(StorageSchema.WithSearchPath(ServerConnectionString, _options.Schema))
+        {
+            MaxPoolSize = _options.ReadMaxPoolSize,
+            ApplicationName = "fusion-history-reads",
+        };
+        reads.Options = (string.IsNullOrEmpty(reads.Options) ? string.Empty : reads.Options + " ")
+            + "-c statement_timeout=" + (_options.ReadStatementTimeoutS * 1000).ToString(System.Globalization.CultureInfo.InvariantCulture);
+        _readDataSource = NpgsqlDataSource.Create(reads.ConnectionString);
         await CreatePartitions().RunAsync(cancellationToken).ConfigureAwait(false);
     }
 
@@ -165,6 +182,7 @@ public sealed class FusionDatabase : IAsyncDisposable
         if (connectionLevel)
         {
             _dataSource?.Clear();
+            _readDataSource?.Clear();
             Interlocked.Increment(ref _failuresWhileDown);
             if (Interlocked.CompareExchange(ref _down, 1, 0) == 0)
             {
@@ -201,6 +219,12 @@ public sealed class FusionDatabase : IAsyncDisposable
         {
             await _dataSource.DisposeAsync().ConfigureAwait(false);
             _dataSource = null;
+        }
+
+        if (_readDataSource is not null)
+        {
+            await _readDataSource.DisposeAsync().ConfigureAwait(false);
+            _readDataSource = null;
         }
 
         if (_embedded is not null)

@@ -34,6 +34,7 @@ public static class HistoryEndpoints
         group.MapGet("/{vehicle}/track", GetTrack)
             .WithResponseExample(200, "track.json")
             .RequireApiKey(ApiKeyRole.Read, ApiKeyRole.Admin)
+            .AdmitAsHeavyRead()
             .WithName("GetVehicleTrack")
             .WithSummary("Track history of one vehicle: raw fixes, filtered or RTS-smoothed states")
             .WithDescription(
@@ -53,6 +54,7 @@ public static class HistoryEndpoints
         group.MapGet("/{vehicle}/distance", GetDistance)
             .WithResponseExample(200, "distance.json")
             .RequireApiKey(ApiKeyRole.Read, ApiKeyRole.Admin)
+            .AdmitAsHeavyRead()
             .WithName("GetVehicleDistance")
             .WithSummary("Distance travelled by one vehicle, with its standard deviation")
             .WithDescription(
@@ -244,7 +246,7 @@ public static class HistoryEndpoints
 
     private static async Task<bool> VehicleExistsAsync(FusionDatabase database, Guid fleetId, string vehicle, CancellationToken cancel) =>
         Ingest.TelemetryMessageParser.IsValidVehicleId(vehicle)
-        && await new VehicleRepository(database.DataSource).ExistsAsync(fleetId, vehicle, cancel).ConfigureAwait(false);
+        && await new VehicleRepository(database.ReadDataSource).ExistsAsync(fleetId, vehicle, cancel).ConfigureAwait(false);
 
     private static WindowProblem? Window(string? from, string? to, TrackHistoryOptions options)
     {

@@ -5,12 +5,15 @@ namespace FusionService.History;
 public static class HistoryExtensions
 {
     /// <summary>
-    /// Binds and validates (at start-up) <see cref="TrackHistoryOptions"/> and adds <see cref="SmoothedTrackBuilder"/> and
+    /// Binds and validates (at start-up) <see cref="TrackHistoryOptions"/> and <see cref="HeavyReadOptions"/> and adds the
+    /// <see cref="HeavyReadGate"/>, <see cref="SmoothedTrackBuilder"/> and
     /// the start-up <see cref="SmoothingWarmUp"/>.
     /// </summary>
     public static IServiceCollection AddFusionHistory(this IServiceCollection services)
     {
         services.AddOptions<TrackHistoryOptions>().BindConfiguration(TrackHistoryOptions.Section).ValidateDataAnnotations().ValidateOnStart();
+        services.AddOptions<HeavyReadOptions>().BindConfiguration(HeavyReadOptions.Section).ValidateDataAnnotations().ValidateOnStart();
+        services.AddSingleton<HeavyReadGate>();
         services.AddSingleton<SmoothedTrackBuilder>();
         services.AddSingleton<SmoothingWarmUp>();
         services.AddHostedService(sp => sp.GetRequiredService<SmoothingWarmUp>());

@@ -48,7 +48,7 @@ internal sealed class SmoothedTrackBuilder(
         long readFromUs = fromUs - leadUs;
         TrackState start = TrackState.Empty;
         Measurement? floor = null;
-        var checkpoints = new FilterCheckpointRepository(database.DataSource);
+        var checkpoints = new FilterCheckpointRepository(database.ReadDataSource);
         var checkpoint = await checkpoints.NewestCheckpointBeforeAsync(fleetId, vehicle, fromUs + 1, cancellationToken).ConfigureAwait(false);
         if (checkpoint is { } row && row.PayloadVersion == TrackStateCodec.Version && row.TimeUs >= readFromUs)
         {
@@ -211,7 +211,7 @@ internal sealed class SmoothedTrackBuilder(
             var chunk = new Measurement[ChunkLength];
             int filled = 0;
             int chunkCount = 0;
-            var reader = new TrackHistoryReader(database.DataSource);
+            var reader = new TrackHistoryReader(database.ReadDataSource);
             await reader.ReadReplayMeasurementsAsync(
                 fleetId,
                 vehicle,

@@ -64,7 +64,7 @@ internal sealed class SmoothingWarmUp(
             }
         }
 
-        var reader = new TrackHistoryReader(database.DataSource);
+        var reader = new TrackHistoryReader(database.ReadDataSource);
         for (int r = 0; r < rounds && !stoppingToken.IsCancellationRequested; r++)
         {
             // A vehicle id no ingest accepts (control character), so the read finds nothing.

@@ -20,7 +20,7 @@ internal static class TrackPointSources
     public static async IAsyncEnumerable<TrackPoint> RawAsync(
         FusionDatabase database, Guid fleetId, TrackRequest request, [EnumeratorCancellation] CancellationToken cancellationToken)
     {
-        var reader = new TrackHistoryReader(database.DataSource);
+        var reader = new TrackHistoryReader(database.ReadDataSource);
         var decimator = new Decimator(request.StepUs);
         TrackPoint? pending = null;
         int segment = 0;
@@ -68,7 +68,7 @@ internal static class TrackPointSources
     public static async IAsyncEnumerable<TrackPoint> FilteredAsync(
         FusionDatabase database, Guid fleetId, TrackRequest request, [EnumeratorCancellation] CancellationToken cancellationToken)
     {
-        var reader = new TrackHistoryReader(database.DataSource);
+        var reader = new TrackHistoryReader(database.ReadDataSource);
         var decimator = new Decimator(request.StepUs);
         await foreach (var r in reader.StreamFusedStatesAsync(fleetId, request.Vehicle, request.FromUs, request.ToUs, cancellationToken).ConfigureAwait(false))
         {

@@ -11,6 +11,8 @@ public static class IngestExtensions
         services.AddSingleton<CommitClock>();
         services.AddSingleton<GroupCommitWriter>();
         services.AddHostedService(sp => sp.GetRequiredService<GroupCommitWriter>());
+        services.AddOptions<Fleets.TenancyOptions>().BindConfiguration(Fleets.TenancyOptions.Section).ValidateDataAnnotations().ValidateOnStart();
+        services.AddSingleton<Fleets.FleetVehicleQuota>();
         services.AddSingleton<IngestPipeline>();
         return services;
     }

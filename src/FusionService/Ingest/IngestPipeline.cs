@@ -26,7 +26,8 @@ public sealed class IngestPipeline(
     ServiceMetrics metrics,
     TimeProvider time,
     DuplicateCounter duplicates,
-    FusionDatabase store)
+    FusionDatabase store,
+    Fleets.FleetVehicleQuota quota)
 {
     /// <summary>A parser with the accepted time window as of now.</summary>
     public TelemetryMessageParser CreateParser()
@@ -71,6 +72,7 @@ public sealed class IngestPipeline(
             }
         }
 
+        await ApplyQuotaAsync(fleetId, parsed, results, rows, cancellationToken).ConfigureAwait(false);
         var (inserted, sequence) = await writer.CommitAsync(rows).ConfigureAwait(false);
         var fresh = new Dictionary<string, List<TrackMeasurement>>(StringComparer.Ordinal);
         int accepted = 0, duplicate = 0, rejected = 0;
@@ -116,6 +118,57 @@ public sealed class IngestPipeline(
         }
 
         return new IngestResponse(accepted, duplicate, rejected, results!);
+    }
+
+    /// <summary>
+    /// Rejects the messages of new vehicles beyond the fleet's vehicle quota (field vehicle, the quota named) and drops
+    /// their rows from <paramref name="rows"/>.
+    /// </summary>
+    private async Task ApplyQuotaAsync(Guid fleetId, ParsedMessage?[] parsed, IngestMessageResult?[] results, List<MeasurementRow> rows, CancellationToken cancellationToken)
+    {
+        var vehicles = new HashSet<string>(StringComparer.Ordinal);
+        foreach (var message in parsed)
+        {
+            if (message is not null)
+            {
+                vehicles.Add(message.VehicleId);
+            }
+        }
+
+        if (vehicles.Count == 0)
+        {
+            return;
+        }
+
+        (IReadOnlySet<string> Refused, int Quota) admitted;
+        try
+        {
+            admitted = await quota.AdmitAsync(fleetId, vehicles, cancellationToken).ConfigureAwait(false);
+        }
+        catch (Npgsql.NpgsqlException ex)
+        {
+            store.NoteFailure(ex);
+            throw new ServiceUnavailableException("the fleet's vehicle quota cannot be checked (database unavailable)", ex);
+        }
+
+        if (admitted.Refused.Count == 0)
+        {
+            return;
+        }
+
+        string reason = string.Create(
+            System.Globalization.CultureInfo.InvariantCulture,
+            $"the fleet's vehicle quota of {admitted.Quota} vehicles is reached and this vehicle is new (quota: PUT /v1/fleet/quota with an admin key; default Tenancy:DefaultMaxVehicles)");
+        for (int i = 0; i < parsed.Length; i++)
+        {
+            if (parsed[i] is { } message && admitted.Refused.Contains(message.VehicleId))
+            {
+                parsed[i] = null;
+                results[i] = new IngestMessageResult(i, "rejected", "vehicle", reason);
+            }
+        }
+
+        rows.RemoveAll(r => admitted.Refused.Contains(r.VehicleId));
     }
 
     /// <summary>

@@ -46,14 +46,14 @@ public static class TelemetryEndpoints
                 + "A 2xx means every accepted message is committed in PostgreSQL. A message with the same vehicle, kind, time and id "
                 + "(or, without id, the same content) as a stored one is a duplicate and changes nothing. "
                 + "400 when the body is not valid JSON or no message is valid (problem details list every error); "
-                + "413 when the body or the message count is over the limit; 503 with Retry-After when the write queue is full "
+                + "413 when the body or the message count is over the limit; 429 with Retry-After when the key's or fleet's limit "
+                + "of requests or messages is spent (Security:*, see the operations guide); 503 with Retry-After when the write queue is full "
                 + "or the database is unavailable (nothing was stored by this request then, so resend it)." + Caution)
             .Accepts<JsonElement>("application/json", NdjsonMediaType)
             .ProducesProblem(StatusCodes.Status400BadRequest)
             .ProducesProblem(StatusCodes.Status401Unauthorized)
             .ProducesProblem(StatusCodes.Status403Forbidden)
             .ProducesProblem(StatusCodes.Status413PayloadTooLarge)
-            .ProducesProblem(StatusCodes.Status429TooManyRequests)
             .ProducesProblem(StatusCodes.Status503ServiceUnavailable);
         group.MapGet("/stream", StreamTelemetry)
             .RequireApiKey(ApiKeyRole.Ingest)
@@ -66,7 +66,9 @@ public static class TelemetryEndpoints
                 + "\"dropped_fields\": [{\"index\", \"field\", \"reason\"}]} (dropped_fields: optional fields of stored messages "
                 + "that were invalid and left out, as for POST /v1/telemetry); "
                 + "a frame that cannot be stored is answered {\"seq\": n, \"error\": reason, \"retry_after_s\": s} and nothing of it "
-                + "is stored; resend it." + Caution)
+                + "is stored; resend it. Every frame counts as one request and its messages as messages against the key's and fleet's "
+                + "rate limits (over a limit, the frame is answered with the error and retry_after_s). When the key is revoked or "
+                + "expires, the socket is closed with status 1008." + Caution)
             .ProducesProblem(StatusCodes.Status400BadRequest)
             .ProducesProblem(StatusCodes.Status401Unauthorized)
             .ProducesProblem(StatusCodes.Status403Forbidden);
@@ -75,7 +77,7 @@ public static class TelemetryEndpoints
 
     /// <summary>Handles <c>POST /v1/telemetry</c>.</summary>
     internal static async Task<Results<Ok<IngestResponse>, ProblemHttpResult>> PostTelemetry(
-        HttpContext http, IngestPipeline pipeline, IOptions<IngestOptions> options)
+        HttpContext http, IngestPipeline pipeline, TenantRateLimiter rateLimiter, IOptions<IngestOptions> options)
     {
         var limits = options.Value;
         var caller = ApiCaller.Of(http);
@@ -137,6 +139,11 @@ public static class TelemetryEndpoints
                 return TooLarge(string.Create(CultureInfo.InvariantCulture, $"body: {messages.Count} messages exceed the limit of {limits.MaxMessages}"));
             }
 
+            if (rateLimiter.TryMessages(caller, messages.Count) is { } refused)
+            {
+                return refused.ToResult(http);
+            }
+
             IngestResponse response;
             try
             {
@@ -182,7 +189,7 @@ public static class TelemetryEndpoints
 
     /// <summary>Handles the WebSocket <c>/v1/telemetry/stream</c>.</summary>
     internal static async Task<Results<EmptyHttpResult, ProblemHttpResult>> StreamTelemetry(
-        HttpContext http, IngestPipeline pipeline, IOptions<IngestOptions> options)
+        HttpContext http, IngestPipeline pipeline, TenantRateLimiter rateLimiter, StreamKeyWatch keyWatch, IOptions<IngestOptions> options)
     {
         if (!http.WebSockets.IsWebSocketRequest)
         {
@@ -192,61 +199,125 @@ public static class TelemetryEndpoints
         var caller = ApiCaller.Of(http);
         var limits = options.Value;
         using var socket = await http.WebSockets.AcceptWebSocketAsync().ConfigureAwait(false);
+        using var key = keyWatch.Watch(caller);
+        using var receiving = CancellationTokenSource.CreateLinkedTokenSource(http.RequestAborted);
+        using var sendGate = new SemaphoreSlim(1, 1);
+        var stream = new TelemetryStream(socket, caller, pipeline, rateLimiter, limits, sendGate, key.Token);
+        using var closeOnKeyLoss = key.Token.Register(() => _ = stream.CloseForLostKeyAsync(receiving));
         try
         {
-            await ReceiveFramesAsync(socket, caller, pipeline, limits, http.RequestAborted).ConfigureAwait(false);
+            await stream.ReceiveFramesAsync(receiving.Token).ConfigureAwait(false);
         }
         catch (WebSocketException)
         {
             // The client broke the protocol (the socket sent its close frame) or the connection: nothing to answer.
         }
-        catch (OperationCanceledException) when (http.RequestAborted.IsCancellationRequested)
+        catch (OperationCanceledException) when (receiving.IsCancellationRequested)
         {
-            // The connection is gone.
+            // The connection is gone, or the client did not answer the close frame sent after its key was lost.
+        }
+        catch (ObjectDisposedException) when (key.Token.IsCancellationRequested)
+        {
+            // Closed after the key was lost.
         }
 
         return TypedResults.Empty;
     }
 
-    private static async Task ReceiveFramesAsync(WebSocket socket, ApiCaller caller, IngestPipeline pipeline, IngestOptions limits, CancellationToken cancel)
+    /// <summary>One telemetry WebSocket: frames in, acknowledgements out, closed with 1008 when its key is lost.</summary>
+    private sealed class TelemetryStream(
+        WebSocket socket, ApiCaller caller, IngestPipeline pipeline, TenantRateLimiter rateLimiter, IngestOptions limits, SemaphoreSlim sendGate, CancellationToken keyLost)
     {
-        var buffer = new byte[64 * 1024];
-        var frame = new MemoryStream();
-        while (socket.State == WebSocketState.Open)
+        public async Task ReceiveFramesAsync(CancellationToken cancel)
         {
-            frame.SetLength(0);
-            WebSocketReceiveResult received;
-            do
+            var buffer = new byte[64 * 1024];
+            var frame = new MemoryStream();
+            while (socket.State == WebSocketState.Open)
             {
-                received = await socket.ReceiveAsync(buffer, cancel).ConfigureAwait(false);
-                if (received.MessageType == WebSocketMessageType.Close)
+                frame.SetLength(0);
+                WebSocketReceiveResult received;
+                do
                 {
-                    await socket.CloseOutputAsync(WebSocketCloseStatus.NormalClosure, "bye", cancel).ConfigureAwait(false);
-                    return;
+                    received = await socket.ReceiveAsync(buffer, cancel).ConfigureAwait(false);
+                    if (received.MessageType == WebSocketMessageType.Close)
+                    {
+                        await SendGatedAsync(s => s.State == WebSocketState.CloseReceived
+                            ? s.CloseOutputAsync(WebSocketCloseStatus.NormalClosure, "bye", cancel)
+                            : Task.CompletedTask).ConfigureAwait(false);
+                        return;
+                    }
+
+                    frame.Write(buffer, 0, received.Count);
+                    if (frame.Length > limits.MaxBodyBytes)
+                    {
+                        // Close at once (1009 with the limit in the reason) rather than read the rest of the frame; the
+                        // connection ends when the handler returns.
+                        await SendGatedAsync(s => s.State == WebSocketState.Open
+                            ? s.CloseOutputAsync(
+                                WebSocketCloseStatus.MessageTooBig,
+                                string.Create(CultureInfo.InvariantCulture, $"frame exceeds the limit of {limits.MaxBodyBytes} bytes"),
+                                cancel)
+                            : Task.CompletedTask).ConfigureAwait(false);
+                        return;
+                    }
+                }
+                while (!received.EndOfMessage);
+
+                if (keyLost.IsCancellationRequested)
+                {
+                    // Nothing of a revoked or expired key is stored; the close frame is on its way.
+                    continue;
                 }
 
-                frame.Write(buffer, 0, received.Count);
-                if (frame.Length > limits.MaxBodyBytes)
-                {
-                    // Close at once (1009 with the limit in the reason) rather than read the rest of the frame; the
-                    // connection ends when the handler returns.
-                    await socket.CloseOutputAsync(
-                        WebSocketCloseStatus.MessageTooBig,
-                        string.Create(CultureInfo.InvariantCulture, $"frame exceeds the limit of {limits.MaxBodyBytes} bytes"),
-                        cancel).ConfigureAwait(false);
-                    return;
-                }
+                var ack = await AcknowledgeAsync(frame.ToArray(), caller, pipeline, rateLimiter, limits, cancel).ConfigureAwait(false);
+                var bytes = JsonSerializer.SerializeToUtf8Bytes(ack);
+                await SendGatedAsync(s => s.State == WebSocketState.Open
+                    ? s.SendAsync(bytes, WebSocketMessageType.Text, true, cancel)
+                    : Task.CompletedTask).ConfigureAwait(false);
             }
-            while (!received.EndOfMessage);
+        }
 
-            var ack = await AcknowledgeAsync(frame.ToArray(), caller, pipeline, limits, cancel).ConfigureAwait(false);
-            await socket.SendAsync(JsonSerializer.SerializeToUtf8Bytes(ack), WebSocketMessageType.Text, true, cancel).ConfigureAwait(false);
+        /// <summary>Sends the 1008 close frame; the receive loop gets <see cref="LiveCloseLingerS"/> seconds for the client's answer.</summary>
+        public async Task CloseForLostKeyAsync(CancellationTokenSource receiving)
+        {
+            try
+            {
+                await SendGatedAsync(s => s.State == WebSocketState.Open
+                    ? s.CloseOutputAsync(WebSocketCloseStatus.PolicyViolation, "API key revoked or expired", CancellationToken.None)
+                    : Task.CompletedTask).ConfigureAwait(false);
+                receiving.CancelAfter(TimeSpan.FromSeconds(LiveCloseLingerS));
+            }
+            catch (Exception ex) when (ex is WebSocketException or ObjectDisposedException or OperationCanceledException)
+            {
+                // The connection is gone already.
+            }
+        }
+
+        private async Task SendGatedAsync(Func<WebSocket, Task> send)
+        {
+            await sendGate.WaitAsync(CancellationToken.None).ConfigureAwait(false);
+            try
+            {
+                await send(socket).ConfigureAwait(false);
+            }
+            finally
+            {
+                sendGate.Release();
+            }
         }
     }
 
+    /// <summary>Seconds a client may take to answer the close frame sent after its key was lost.</summary>
+    private const int LiveCloseLingerS = 5;
+
     private static async Task<Dictionary<string, object?>> AcknowledgeAsync(
-        byte[] frame, ApiCaller caller, IngestPipeline pipeline, IngestOptions limits, CancellationToken cancellationToken)
+        byte[] frame, ApiCaller caller, IngestPipeline pipeline, TenantRateLimiter rateLimiter, IngestOptions limits, CancellationToken cancellationToken)
     {
+        if (rateLimiter.TryRequest(caller) is { } tooManyFrames)
+        {
+            return new() { ["seq"] = null, ["error"] = tooManyFrames.Detail, ["retry_after_s"] = tooManyFrames.RetryAfterS };
+        }
+
         JsonDocument document;
         try
         {
@@ -277,6 +348,11 @@ public static class TelemetryEndpoints
             if (messages.Count > limits.MaxMessages)
             {
                 return new() { ["seq"] = seq, ["error"] = string.Create(CultureInfo.InvariantCulture, $"messages: {messages.Count} exceed the limit of {limits.MaxMessages}") };
+            }
+
+            if (rateLimiter.TryMessages(caller, messages.Count) is { } refused)
+            {
+                return new() { ["seq"] = seq, ["error"] = refused.Detail, ["retry_after_s"] = refused.RetryAfterS };
             }
 
             try

@@ -60,7 +60,8 @@ public static class LiveEndpoints
         FusionService.Http.LocationCaution.AddHeader(http);
         using var subscription = hub.SubscribePositions(caller.FleetId, box, intervalMs);
         using var socket = await http.WebSockets.AcceptWebSocketAsync(WebSocketKeyAuthentication.AcceptContext(http)).ConfigureAwait(false);
-        await LiveStreaming.PumpAsync(socket, subscription.Reader, http.RequestAborted).ConfigureAwait(false);
+        using var keyWatch = http.RequestServices.GetRequiredService<StreamKeyWatch>().Watch(caller);
+        await LiveStreaming.PumpAsync(socket, subscription.Reader, http.RequestAborted, keyWatch.Token).ConfigureAwait(false);
         return TypedResults.Empty;
     }
 

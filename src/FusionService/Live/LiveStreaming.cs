@@ -6,16 +6,23 @@ using FusionService.Alerts;
 
 namespace FusionService.Live;
 
-/// <summary>Pumps frames from a hub subscription to a WebSocket, one JSON object per text frame.</summary>
+/// <summary>
+/// Pumps frames from a hub subscription to a WebSocket, one JSON object per text frame; when <c>keyLost</c> fires (the
+/// stream's API key was revoked or expired) the socket is closed with 1008 (policy violation).
+/// </summary>
 internal static class LiveStreaming
 {
-    public static async Task PumpAsync<T>(WebSocket socket, ChannelReader<T> frames, CancellationToken aborted)
+    /// <summary>How long a client may take to answer the close frame sent after its key was lost.</summary>
+    private static readonly TimeSpan CloseLinger = TimeSpan.FromSeconds(5);
+
+    public static async Task PumpAsync<T>(WebSocket socket, ChannelReader<T> frames, CancellationToken aborted, CancellationToken keyLost)
     {
         using var stop = CancellationTokenSource.CreateLinkedTokenSource(aborted);
         var receiving = ReceiveUntilCloseAsync(socket, stop);
+        using var reading = CancellationTokenSource.CreateLinkedTokenSource(stop.Token, keyLost);
         try
         {
-            await foreach (var frame in frames.ReadAllAsync(stop.Token).ConfigureAwait(false))
+            await foreach (var frame in frames.ReadAllAsync(reading.Token).ConfigureAwait(false))
             {
                 await socket.SendAsync(JsonSerializer.SerializeToUtf8Bytes(frame, AlertJson.Options), WebSocketMessageType.Text, true, stop.Token).ConfigureAwait(false);
             }
@@ -27,6 +34,19 @@ internal static class LiveStreaming
         catch (WebSocketException)
         {
             // The connection broke.
+        }
+
+        if (keyLost.IsCancellationRequested && !stop.IsCancellationRequested && socket.State == WebSocketState.Open)
+        {
+            try
+            {
+                await socket.CloseOutputAsync(WebSocketCloseStatus.PolicyViolation, "API key revoked or expired", CancellationToken.None).ConfigureAwait(false);
+                await receiving.WaitAsync(CloseLinger, CancellationToken.None).ConfigureAwait(false);
+            }
+            catch (Exception ex) when (ex is WebSocketException or TimeoutException or ObjectDisposedException)
+            {
+                // The client did not answer the close in time, or the connection broke.
+            }
         }
 
         await stop.CancelAsync().ConfigureAwait(false);

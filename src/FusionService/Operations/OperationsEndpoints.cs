@@ -29,9 +29,14 @@ public static class OperationsEndpoints
         app.MapGet("/metrics", GetMetrics)
             .WithName("Metrics")
             .WithSummary("Prometheus metrics")
-            .WithDescription("Ingested messages by verdict, gated measurements, write-queue depth, group-commit latency and "
-                + "fused-state lag, in the Prometheus text exposition format 0.0.4. Service-wide counts only (no fleet, vehicle or "
-                + "position). When Operations:MetricsToken is set, send it as 'Authorization: Bearer <token>'.")
+            .WithDescription("Ingested messages by verdict, gated measurements, write-queue depth, group-commit latency, "
+                + "fused-state lag, history reads in flight and refused, and rate-limit refusals, in the Prometheus text exposition "
+                + "format 0.0.4. Service-wide counts only (no fleet, vehicle or position). Send 'Authorization: Bearer <token>' with "
+                + "the scrape token Operations:MetricsToken, or an admin API key of any fleet; 401 otherwise, 403 for a key of "
+                + "another role. Operations:MetricsAnonymous=true leaves it open (for a port only an internal network reaches).")
+            .ProducesProblem(StatusCodes.Status401Unauthorized)
+            .ProducesProblem(StatusCodes.Status403Forbidden)
+            .ProducesProblem(StatusCodes.Status429TooManyRequests)
             .WithTags("Operations");
         app.MapOpenApi("/openapi/{documentName}.json");
         return app;
@@ -55,21 +60,26 @@ public static class OperationsEndpoints
             statusCode: StatusCodes.Status503ServiceUnavailable);
     }
 
-    /// <summary>Handles <c>GET /metrics</c>.</summary>
-    internal static Results<ContentHttpResult, ProblemHttpResult> GetMetrics(HttpContext http, ServiceMetrics metrics, IOptions<OperationsOptions> options)
+    /// <summary>The metrics for a scraper with the configured token or an admin key.</summary>
+    internal static async Task<Results<ContentHttpResult, ProblemHttpResult>> GetMetrics(HttpContext http, ServiceMetrics metrics, IOptions<OperationsOptions> options)
     {
         string token = options.Value.MetricsToken;
-        if (token.Length > 0)
+        string header = http.Request.Headers.Authorization.ToString();
+        bool tokenMatches = token.Length > 0
+            && header.StartsWith("Bearer ", StringComparison.OrdinalIgnoreCase)
+            && CryptographicOperations.FixedTimeEquals(Encoding.UTF8.GetBytes(header[7..].Trim()), Encoding.UTF8.GetBytes(token));
+        if (!tokenMatches && !options.Value.MetricsAnonymous)
         {
-            string header = http.Request.Headers.Authorization.ToString();
-            bool ok = header.StartsWith("Bearer ", StringComparison.Ordinal)
-                && CryptographicOperations.FixedTimeEquals(Encoding.UTF8.GetBytes(header[7..].Trim()), Encoding.UTF8.GetBytes(token));
-            if (!ok)
+            // Anything but the token is taken for an API key: an admin key of any fleet may read the service-wide counts,
+            // and wrong guesses count against the client address's failed authentications like any other.
+            if (await Security.ApiKeyFilter.AuthenticateAsync(http, [Storage.Fleets.ApiKeyRole.Admin]).ConfigureAwait(false) is { } refused)
             {
-                return TypedResults.Problem(
-                    title: "Unauthorized",
-                    detail: "header Authorization: send 'Authorization: Bearer <Operations:MetricsToken>'",
-                    statusCode: StatusCodes.Status401Unauthorized);
+                return refused is ProblemHttpResult { StatusCode: not StatusCodes.Status401Unauthorized } problem
+                    ? problem
+                    : TypedResults.Problem(
+                        title: "Unauthorized",
+                        detail: "header Authorization: send 'Authorization: Bearer <Operations:MetricsToken>' (the scrape token) or an admin API key",
+                        statusCode: StatusCodes.Status401Unauthorized);
             }
         }
 

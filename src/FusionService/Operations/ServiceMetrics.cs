@@ -29,6 +29,17 @@ public sealed class ServiceMetrics
     private long _smoothingStretches;
     private long _smoothingSeamMisses;
 
+    private readonly System.Collections.Concurrent.ConcurrentDictionary<string, long> _rateLimited = new(StringComparer.Ordinal);
+
+    /// <summary>Reads the history reads running now (set by the heavy-read gate).</summary>
+    public Func<int> HeavyReadsInFlight { get; set; } = () => 0;
+
+    /// <summary>Reads the history reads refused so far: per fleet limit (429) and process limit (503) (set by the heavy-read gate).</summary>
+    public Func<(long Fleet, long Busy)> HeavyReadsRefused { get; set; } = () => (0, 0);
+
+    /// <summary>Counts one request refused by the rate limit set by <paramref name="option"/>.</summary>
+    public void CountRateLimited(string option) => _rateLimited.AddOrUpdate(option, 1, (_, n) => n + 1);
+
     /// <summary>Reads the current depth of the ingest write queue (set by the writer).</summary>
     public Func<int> QueueDepth { get; set; } = () => 0;
 
@@ -132,6 +143,21 @@ public sealed class ServiceMetrics
         text.Append("# HELP fusion_track_write_queue_rows Outcome updates and fused states waiting for the tracks' writer.\n");
         text.Append("# TYPE fusion_track_write_queue_rows gauge\n");
         text.Append(c, $"fusion_track_write_queue_rows {TrackWriteQueueRows()}\n");
+        text.Append("# HELP fusion_heavy_reads_in_flight History reads (track, distance, diagnostics, explain) running now.\n");
+        text.Append("# TYPE fusion_heavy_reads_in_flight gauge\n");
+        text.Append(c, $"fusion_heavy_reads_in_flight {HeavyReadsInFlight()}\n");
+        var (refusedFleet, refusedBusy) = HeavyReadsRefused();
+        text.Append("# HELP fusion_heavy_reads_refused_total History reads refused: fleet at its limit (429) or every slot taken (503).\n");
+        text.Append("# TYPE fusion_heavy_reads_refused_total counter\n");
+        text.Append(c, $"fusion_heavy_reads_refused_total{{reason=\"fleet\"}} {refusedFleet}\n");
+        text.Append(c, $"fusion_heavy_reads_refused_total{{reason=\"busy\"}} {refusedBusy}\n");
+        text.Append("# HELP fusion_rate_limited_total Requests answered 429 by a rate limit, by the option that sets it.\n");
+        text.Append("# TYPE fusion_rate_limited_total counter\n");
+        foreach (var (option, count) in _rateLimited.OrderBy(p => p.Key, StringComparer.Ordinal))
+        {
+            text.Append(c, $"fusion_rate_limited_total{{limit=\"{option}\"}} {count}\n");
+        }
+
         lock (_latencyLock)
         {
             text.Append("# HELP fusion_commit_rows_total Rows stored by group commits.\n");

@@ -1,4 +1,4 @@
-// Bearer-key authentication and role check for one endpoint.
+// Bearer-key authentication, role check and per-key rate limit for one endpoint.
 using FusionService.Storage.Fleets;
 using Npgsql;
 
@@ -6,10 +6,14 @@ namespace FusionService.Security;
 
 /// <summary>
 /// Requires <c>Authorization: Bearer &lt;key&gt;</c> with one of <paramref name="roles"/>: 401 without a key or with an
-/// unknown one, 403 for a valid key of another role, 503 when the key store cannot be reached.
+/// unknown, revoked or expired one, 403 for a valid key of another role, 429 (with <c>Retry-After</c>) when the key's or
+/// fleet's request limit is spent or the client address has failed to authenticate too often, 503 when the key store
+/// cannot be reached.
 /// </summary>
 internal sealed class ApiKeyFilter(ApiKeyRole[] roles) : IEndpointFilter
 {
+    private const string Scheme = "Bearer ";
+
     public async ValueTask<object?> InvokeAsync(EndpointFilterInvocationContext context, EndpointFilterDelegate next)
     {
         var http = context.HttpContext;
@@ -20,10 +24,23 @@ internal sealed class ApiKeyFilter(ApiKeyRole[] roles) : IEndpointFilter
     /// <summary>Attaches the caller to <paramref name="http"/>, or returns the problem result to answer with.</summary>
     public static async Task<IResult?> AuthenticateAsync(HttpContext http, ApiKeyRole[] roles)
     {
+        var limiter = http.RequestServices.GetRequiredService<TenantRateLimiter>();
+        var resolver = http.RequestServices.GetRequiredService<ApiKeyResolver>();
+        var address = http.Connection.RemoteIpAddress;
         string header = http.Request.Headers.Authorization.ToString();
-        const string Scheme = "Bearer ";
-        if (!header.StartsWith(Scheme, StringComparison.OrdinalIgnoreCase) || header.Length == Scheme.Length)
+        string secret = header.StartsWith(Scheme, StringComparison.OrdinalIgnoreCase) ? header[Scheme.Length..].Trim() : string.Empty;
+
+        // A key this process accepted recently passes even from an address that failed too often (a gateway shared by
+        // many devices, one of them misconfigured); anything else from such an address is refused before any lookup.
+        ApiCaller? caller = secret.Length > 0 ? resolver.TryCached(Convert.ToHexStringLower(FleetAdmin.HashSecret(secret))) : null;
+        if (caller is null && limiter.FailedAuthBlocked(address) is { } blocked)
         {
+            return blocked.ToResult(http);
+        }
+
+        if (secret.Length == 0)
+        {
+            limiter.NoteFailedAuth(address);
             http.Response.Headers.WWWAuthenticate = "Bearer";
             return TypedResults.Problem(
                 title: "Authentication required",
@@ -31,29 +48,36 @@ internal sealed class ApiKeyFilter(ApiKeyRole[] roles) : IEndpointFilter
                 statusCode: StatusCodes.Status401Unauthorized);
         }
 
-        ApiCaller? caller;
-        try
+        if (caller is null)
         {
-            var resolver = http.RequestServices.GetRequiredService<ApiKeyResolver>();
-            caller = await resolver.ResolveAsync(header[Scheme.Length..].Trim(), http.RequestAborted).ConfigureAwait(false);
-        }
-        catch (Exception ex) when (ex is NpgsqlException or InvalidOperationException or TimeoutException)
-        {
-            http.RequestServices.GetRequiredService<Database.FusionDatabase>().NoteFailure(ex);
-            http.Response.Headers.RetryAfter = "5";
-            return TypedResults.Problem(
-                title: "Service unavailable",
-                detail: "the key store cannot be reached; retry later",
-                statusCode: StatusCodes.Status503ServiceUnavailable);
+            try
+            {
+                caller = await resolver.ResolveAsync(secret, http.RequestAborted).ConfigureAwait(false);
+            }
+            catch (Exception ex) when (ex is NpgsqlException or InvalidOperationException or TimeoutException)
+            {
+                http.RequestServices.GetRequiredService<Database.FusionDatabase>().NoteFailure(ex);
+                http.Response.Headers.RetryAfter = "5";
+                return TypedResults.Problem(
+                    title: "Service unavailable",
+                    detail: "the key store cannot be reached; retry later",
+                    statusCode: StatusCodes.Status503ServiceUnavailable);
+            }
         }
 
         if (caller is null)
         {
+            limiter.NoteFailedAuth(address);
             http.Response.Headers.WWWAuthenticate = "Bearer error=\"invalid_token\"";
             return TypedResults.Problem(
                 title: "Authentication failed",
-                detail: "header Authorization: unknown or revoked API key",
+                detail: "header Authorization: unknown, revoked or expired API key",
                 statusCode: StatusCodes.Status401Unauthorized);
+        }
+
+        if (limiter.TryRequest(caller) is { } refused)
+        {
+            return refused.ToResult(http);
         }
 
         if (Array.IndexOf(roles, caller.Role) < 0)

@@ -8,8 +8,8 @@ namespace FusionService.Security;
 /// Authentication of the WebSocket streams: the <c>Authorization: Bearer</c> header as everywhere, or, for browsers
 /// (whose WebSocket API cannot set headers), the subprotocol list <c>fusion.v1, fusion.key.&lt;secret&gt;</c> in
 /// <c>Sec-WebSocket-Protocol</c> (RFC 6455 section 1.9). The server then selects <c>fusion.v1</c>, never echoing the
-/// key. The header wins when both are present. Requests authenticated by subprotocol share the anonymous rate-limit
-/// partition (the limiter runs before the key is known); streams are long-lived, so that partition sees few requests.
+/// key. The header wins when both are present. Either way the open counts against the resolved key's and fleet's request
+/// limits, like any other request of that key.
 /// </summary>
 public static class WebSocketKeyAuthentication
 {
@@ -33,7 +33,7 @@ public static class WebSocketKeyAuthentication
 
             return await ApiKeyFilter.AuthenticateAsync(http, roles).ConfigureAwait(false) ?? await next(context).ConfigureAwait(false);
         });
-        builder.RequireRateLimiting(SecurityExtensions.RateLimitPolicy);
+        builder.WithTooManyRequests();
         return builder;
     }
 

@@ -52,6 +52,7 @@ internal sealed class HostileCases(Random rng, HostileKeys keys, DateTimeOffset 
         list.AddRange(Nmea(1000));
         list.AddRange(Queries(1600));
         list.AddRange(Keys());
+        list.AddRange(FleetAdministration());
         list.AddRange(RawBodies());
         for (int i = list.Count - 1; i > 0; i--)
         {
@@ -423,6 +424,41 @@ internal sealed class HostileCases(Random rng, HostileKeys keys, DateTimeOffset 
                 yield return new HostileRequest("key " + header[..Math.Min(20, header.Length)] + " " + path, HostileTransport.Http, method, path, method == HttpMethod.Post ? "application/json" : null, body, header);
             }
         }
+    }
+
+    // Malformed bodies and ids on the key and quota endpoints (issue 14). Never a valid quota or an existing key id: the
+    // run's own keys must keep working and its vehicles keep being admitted.
+    private IEnumerable<HostileRequest> FleetAdministration()
+    {
+        string[] keyBodies = ["", "{", "[]", "null", "{\"role\":1}", "{\"role\":\"root\"}", "{\"role\":\"read\",\"expires_at\":\"9999-12-31T23:59:59Z\"}",
+            "{\"role\":\"read\",\"expires_at\":\"0001-01-01T00:00:00Z\"}", "{\"role\":\"read\",\"expires_at\":1e308}", "{\"role\":\"read\",\"expires_at\":\"NaN\"}",
+            "{\"role\":\"read\",\"label\":\"" + new string('l', 300) + "\"}", "{\"role\":\"read\",\"label\":\"\\ud800\"}", "{\"role\":\"\\u0000\"}",
+            "{\"role\":\"read\",\"extra\":{}}", new string('[', 5000) + new string(']', 5000)];
+        foreach (string body in keyBodies)
+        {
+            yield return new HostileRequest("keys create " + body[..Math.Min(body.Length, 30)], HostileTransport.Http, HttpMethod.Post, "/v1/keys", "application/json", Utf8(body), keys.Admin);
+        }
+
+        string[] ids = ["x", "%00", "..", "00000000-0000-0000-0000-000000000000", Guid.NewGuid().ToString(), new string('f', 300), "%ED%A0%80", "01a2418c-ba44-7f85-ad79-775bc062760"];
+        string[] rotateBodies = ["", "{\"grace_s\":-1}", "{\"grace_s\":1e9}", "{\"grace_s\":\"x\"}", "{\"grace\":1}", "[1]", "{"];
+        foreach (string id in ids)
+        {
+            yield return new HostileRequest("keys revoke " + id[..Math.Min(id.Length, 20)], HostileTransport.Http, HttpMethod.Post, "/v1/keys/" + id + "/revoke", null, [], keys.Admin);
+            foreach (string body in rotateBodies)
+            {
+                yield return new HostileRequest("keys rotate " + id[..Math.Min(id.Length, 20)] + " " + body, HostileTransport.Http, HttpMethod.Post, "/v1/keys/" + id + "/rotate", "application/json", Utf8(body), keys.Admin);
+            }
+        }
+
+        string[] quotaBodies = ["", "{", "[]", "{}", "{\"max_vehicles\":0}", "{\"max_vehicles\":-1}", "{\"max_vehicles\":1e10}", "{\"max_vehicles\":1.5}",
+            "{\"max_vehicles\":\"5\"}", "{\"max_vehicles\":true}", "{\"max_vehicles\":NaN}", "{\"max_vehicles\":99999999999999999999}", "{\"quota\":5}"];
+        foreach (string body in quotaBodies)
+        {
+            yield return new HostileRequest("quota " + body, HostileTransport.Http, HttpMethod.Put, "/v1/fleet/quota", "application/json", Utf8(body), keys.Admin) { Status = 400 };
+            yield return new HostileRequest("quota by a read key " + body, HostileTransport.Http, HttpMethod.Put, "/v1/fleet/quota", "application/json", Utf8(body), keys.Read) { Status = 403 };
+        }
+
+        yield return new HostileRequest("keys list by an ingest key", HostileTransport.Http, HttpMethod.Get, "/v1/keys", null, [], keys.Ingest) { Status = 403 };
     }
 
     // Item 6 bodies that HttpClient will not send, and oversized bodies.

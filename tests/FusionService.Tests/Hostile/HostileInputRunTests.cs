@@ -39,7 +39,7 @@ public sealed class HostileInputRunTests(ServiceFixture fixture)
     {
         var fleet = await fixture.NewFleetAsync();
         var other = await fixture.NewFleetAsync();
-        var keys = new HostileKeys(fleet.IngestKey, fleet.ReadKey, other.IngestKey);
+        var keys = new HostileKeys(fleet.IngestKey, fleet.ReadKey, other.IngestKey, fleet.AdminKey);
         await using var host = new ServiceFactory(fixture.ConnectionString, new Dictionary<string, string?>
         {
             ["Ingest:MaxMessages"] = "10000",

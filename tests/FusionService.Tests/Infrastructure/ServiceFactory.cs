@@ -30,6 +30,10 @@ public sealed class ServiceFactory(string connectionString, IReadOnlyDictionary<
             // covers the default.
             ["Ingest:AcknowledgeAfter"] = "Tracking",
             ["Security:RateLimitPermits"] = "100000",
+            ["Security:FleetRateLimitPermits"] = "1000000",
+            ["Security:FailedAuthPermits"] = "1000000",
+            ["Security:MessageLimitPermits"] = "100000000",
+            ["Security:FleetMessageLimitPermits"] = "100000000",
             ["Security:KeyCacheSeconds"] = "0",
             ["Serilog:MinimumLevel:Default"] = "Warning",
             // Webhook deliveries are tested on hosts of their own; the shared host leaves the outbox to them.

@@ -19,7 +19,7 @@ public sealed class GroupCommitTests(ServiceFixture fixture)
         const int Requests = 16;
         var responses = await Task.WhenAll(Enumerable.Range(0, Requests).Select(i => client.PostJsonAsync(drive.Body(i * 10, (i + 1) * 10))));
         Assert.All(responses, r => Assert.Equal(HttpStatusCode.OK, r.StatusCode));
-        string metrics = await client.GetStringAsync("/metrics");
+        string metrics = await fixture.Client(fleet.AdminKey, host).GetStringAsync("/metrics");
         long commits = long.Parse(metrics.Split('\n').Single(l => l.StartsWith("fusion_commit_latency_seconds_count ", StringComparison.Ordinal)).Split(' ')[1], CultureInfo.InvariantCulture);
         Assert.InRange(commits, 1, Requests - 1);
         Assert.Equal(drive.Messages.Take(Requests * 10).Sum(m => m.Core.Length), await fixture.CountAsync("SELECT count(*) FROM measurements WHERE fleet_id = $1", fleet.Id));

@@ -26,7 +26,7 @@ public sealed class OperationsTests(ServiceFixture fixture)
     public async Task Metrics_count_ingested_messages_in_prometheus_text()
     {
         var fleet = await fixture.NewFleetAsync();
-        using var client = fixture.Client(null);
+        using var client = fixture.Client(fleet.AdminKey);
         double before = Value(await client.GetStringAsync("/metrics"), "fusion_ingest_messages_total{status=\"accepted\"}");
         var drive = TelemetryDrive.Create("van-metrics", TelemetryDrive.StartUs(TimeSpan.FromMinutes(11)), seed: 91);
         await fixture.Client(fleet.IngestKey).IngestOkAsync(drive.Body(0, 25));
@@ -57,6 +57,29 @@ public sealed class OperationsTests(ServiceFixture fixture)
     }
 
     [Fact]
+    public async Task Issue14_metrics_need_an_admin_key_or_the_scrape_token_by_default()
+    {
+        var fleet = await fixture.NewFleetAsync();
+        using var anonymous = fixture.Client(null);
+        using var refused = await anonymous.GetAsync("/metrics");
+        Assert.Equal(HttpStatusCode.Unauthorized, refused.StatusCode);
+        Assert.Contains("admin API key", (await refused.ProblemAsync()).GetProperty("detail").GetString(), StringComparison.Ordinal);
+        Assert.Equal(HttpStatusCode.Unauthorized, (await fixture.Client("fsk_not-a-key").GetAsync("/metrics")).StatusCode);
+        Assert.Equal(HttpStatusCode.Forbidden, (await fixture.Client(fleet.ReadKey).GetAsync("/metrics")).StatusCode);
+        Assert.Equal(HttpStatusCode.Forbidden, (await fixture.Client(fleet.IngestKey).GetAsync("/metrics")).StatusCode);
+        Assert.Contains("fusion_heavy_reads_in_flight ", await fixture.Client(fleet.AdminKey).GetStringAsync("/metrics"), StringComparison.Ordinal);
+
+        await using var host = new ServiceFactory(fixture.ConnectionString, new Dictionary<string, string?>
+        {
+            ["Operations:MetricsToken"] = "scrape-secret",
+            ["Operations:MetricsAnonymous"] = "false",
+        });
+        Assert.Equal(HttpStatusCode.OK, (await fixture.Client(fleet.AdminKey, host).GetAsync("/metrics")).StatusCode);
+        await using var open = new ServiceFactory(fixture.ConnectionString, new Dictionary<string, string?> { ["Operations:MetricsAnonymous"] = "true" });
+        Assert.Equal(HttpStatusCode.OK, (await fixture.Client(null, open).GetAsync("/metrics")).StatusCode);
+    }
+
+    [Fact]
     public async Task A_gnss_outlier_is_stored_as_gated_and_counted()
     {
         var fleet = await fixture.NewFleetAsync();
@@ -71,7 +94,7 @@ public sealed class OperationsTests(ServiceFixture fixture)
             + ",\"lat_deg\":" + ((double)lastFix.Message["lat_deg"]! + 0.005).ToString("R", System.Globalization.CultureInfo.InvariantCulture)
             + ",\"lon_deg\":" + ((double)lastFix.Message["lon_deg"]!).ToString("R", System.Globalization.CultureInfo.InvariantCulture)
             + ",\"accuracy_m\":3}]";
-        using var client = fixture.Client(null);
+        using var client = fixture.Client(fleet.AdminKey);
         double before = Value(await client.GetStringAsync("/metrics"), "fusion_gated_measurements_total");
         Assert.Equal(1, (await ingest.IngestOkAsync(outlier)).Accepted);
         Assert.Equal(before + 1, Value(await client.GetStringAsync("/metrics"), "fusion_gated_measurements_total"));

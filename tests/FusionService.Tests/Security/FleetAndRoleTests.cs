@@ -45,7 +45,7 @@ public sealed class FleetAndRoleTests(ServiceFixture fixture)
         Assert.Equal(HttpStatusCode.Unauthorized, (await none.GetAsync("/v1/vehicles")).StatusCode);
         var response = await unknown.GetAsync("/v1/vehicles");
         Assert.Equal(HttpStatusCode.Unauthorized, response.StatusCode);
-        Assert.Contains("unknown or revoked", (await response.ProblemAsync()).GetProperty("detail").GetString(), StringComparison.Ordinal);
+        Assert.Contains("unknown, revoked or expired", (await response.ProblemAsync()).GetProperty("detail").GetString(), StringComparison.Ordinal);
     }
 
     [Fact]

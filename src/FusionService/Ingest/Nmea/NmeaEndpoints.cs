@@ -37,7 +37,8 @@ public static class NmeaEndpoints
                 + "Each fix becomes the same message POST /v1/telemetry would make of kind gnss (without id, so an identical resend is a "
                 + "duplicate) and goes through the same durable commit: a 2xx means every accepted line is stored. 200 lists "
                 + "accepted / duplicate / rejected / ignored per line with field and reason; 400 when nothing could be stored and some line "
-                + "was rejected; 413 over the body or line limit; 415 when the body is not text; 503 with Retry-After when the store is "
+                + "was rejected; 413 over the body or line limit; 415 when the body is not text; 429 with Retry-After when the key's or "
+                + "fleet's limit of requests or messages is spent (every sentence line counts as a message); 503 with Retry-After when the store is "
                 + "unavailable (nothing of the request was stored). Positions derived from this data are estimates, not for "
                 + "safety-critical navigation; vehicle locations are the drivers' personal data.")
             .Accepts<string>("text/plain")
@@ -52,7 +53,7 @@ public static class NmeaEndpoints
 
     /// <summary>Handles <c>POST /v1/vehicles/{vehicle}/nmea</c>.</summary>
     internal static async Task<Results<Ok<NmeaIngestResponse>, ProblemHttpResult>> PostNmea(
-        string vehicle, HttpContext http, IngestPipeline pipeline, IOptions<IngestOptions> options)
+        string vehicle, HttpContext http, IngestPipeline pipeline, TenantRateLimiter rateLimiter, IOptions<IngestOptions> options)
     {
         var limits = options.Value;
         var caller = ApiCaller.Of(http);
@@ -88,6 +89,11 @@ public static class NmeaEndpoints
         if (parsed.SentenceLines > limits.MaxMessages)
         {
             return Problem(StatusCodes.Status413PayloadTooLarge, "Payload too large", string.Create(CultureInfo.InvariantCulture, $"body: {parsed.SentenceLines} lines exceed the limit of {limits.MaxMessages}"));
+        }
+
+        if (rateLimiter.TryMessages(caller, parsed.SentenceLines) is { } refused)
+        {
+            return refused.ToResult(http);
         }
 
         var results = new List<NmeaLineResult>(parsed.Lines);
