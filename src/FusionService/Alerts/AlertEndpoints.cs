@@ -32,7 +32,7 @@ public static class AlertEndpoints
             .WithName("ListAlerts")
             .WithSummary("Alerts of the caller's fleet")
             .WithDescription("Alerts, newest start first. Filters: state (open|acknowledged|resolved), vehicle, kind (gated_burst, "
-                + "inconsistent_sensor, gnss_silent_while_moving, track_reset, wheel_scale_out_of_band, moved_without_driving, sensor_isolated, vehicle_silent), from/to (RFC 3339 "
+                + "inconsistent_sensor, gnss_silent_while_moving, track_reset, wheel_scale_out_of_band, moved_without_driving, sensor_isolated, vehicle_silent, measurement_unusable), from/to (RFC 3339 "
                 + "or Unix milliseconds: alerts still active at or after from and started at or before to), limit (1-1000, default 100). "
                 + "Example: GET /v1/alerts?state=open&kind=gated_burst&limit=20. Needs a read or admin key." + Caution)
             .ProducesProblem(StatusCodes.Status400BadRequest)

@@ -148,7 +148,8 @@ internal sealed class VehicleTrackGrain(
         }
         catch (FusionService.Estimation.Filtering.FilterDivergenceException ex)
         {
-            // The measurements are stored; the next activation rebuilds the track from the store.
+            // The core judges a measurement it fails on unusable and goes on, so this is a last line of defence only. The
+            // measurements are stored; the next activation rebuilds the track from the store.
             logger.LogError(ex, "Track {Key} diverged; deactivating it so that it is rebuilt from the store", this.GetPrimaryKeyString());
             _outcomes.Clear();
             _states.Clear();
@@ -367,6 +368,7 @@ internal sealed class VehicleTrackGrain(
         OutcomeKind.TooLate => StoredOutcome.TooLate,
         OutcomeKind.Initialising => StoredOutcome.Initialising,
         OutcomeKind.BeforeStart => StoredOutcome.BeforeStart,
+        OutcomeKind.Unusable => StoredOutcome.Unusable,
         _ => StoredOutcome.Unused,
     };
 
