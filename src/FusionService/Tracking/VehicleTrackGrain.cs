@@ -72,6 +72,7 @@ internal sealed class VehicleTrackGrain(
         _restoredThrough = commits.Now;
         long nowUs = (time.GetUtcNow().UtcTicks - DateTime.UnixEpoch.Ticks) / 10;
         long fromUs = nowUs - ((databaseOptions.Value.DaysBack + 1) * 86_400_000_000L);
+        long fromFloorUs = fromUs;
         Measurement? floor = null;
         if (checkpoint is { } row && row.PayloadVersion == TrackStateCodec.Version)
         {
@@ -102,6 +103,30 @@ internal sealed class VehicleTrackGrain(
 
             _track.Process(m, this);
             replayed++;
+        }
+
+        if (floor is { } restoredFloor && options.Value.PendingLookBackMin > 0)
+        {
+            // Stored at or before the checkpoint but never judged (a kill between a commit and its verdicts): the track
+            // cannot go back behind its checkpoint, so they are too late; judged now, they are pending no longer.
+            long lookBackUs = (long)Math.Round(options.Value.PendingLookBackMin * 6e7);
+            var pending = await gate.RunAsync(
+                () => new MeasurementRepository(database.DataSource).ReadPendingAsync(
+                    _fleetId, _vehicleId, Math.Max(restoredFloor.TimeUs - lookBackUs, fromFloorUs), restoredFloor.TimeUs + 1, cancellationToken),
+                cancellationToken);
+            foreach (var s in pending)
+            {
+                var m = Measurement.FromStored(s.TimeUs, ((ulong)(byte)s.Kind << 56) | (ulong)s.MessageKey, s.V0, s.V1 ?? double.NaN, (float)(s.V2 ?? 0));
+                if (VehicleTrack.CompareKey(m, restoredFloor) <= 0)
+                {
+                    _track.Process(m, this);
+                }
+            }
+
+            if (pending.Count > 0)
+            {
+                logger.LogInformation("Track {Key} judged {Count} stored measurements left pending before its checkpoint", this.GetPrimaryKeyString(), pending.Count);
+            }
         }
 
         _lastPersistAt = time.GetUtcNow();
