@@ -79,6 +79,42 @@ public sealed class MeasurementRepository(NpgsqlDataSource dataSource)
     }
 
     /// <summary>
+    /// <see cref="ReadAsync"/> in a read-only repeatable-read transaction, with the snapshot it read under: the commits
+    /// the rows came from are exactly those the snapshot <see cref="CommitSnapshot.Holds"/>.
+    /// </summary>
+    /// <param name="fleetId">Owning fleet.</param>
+    /// <param name="vehicleId">Vehicle within the fleet.</param>
+    /// <param name="fromUs">Inclusive start, Unix microseconds.</param>
+    /// <param name="toUs">Exclusive end, Unix microseconds.</param>
+    /// <param name="cancellationToken">Cancels the query.</param>
+    public async Task<(IReadOnlyList<MeasurementRow> Rows, CommitSnapshot Snapshot)> ReadWithSnapshotAsync(
+        Guid fleetId, string vehicleId, long fromUs, long toUs, CancellationToken cancellationToken = default)
+    {
+        ArgumentNullException.ThrowIfNull(vehicleId);
+        var connection = await _dataSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
+        await using (connection.ConfigureAwait(false))
+        {
+            var transaction = await connection.BeginTransactionAsync(System.Data.IsolationLevel.RepeatableRead, cancellationToken).ConfigureAwait(false);
+            await using (transaction.ConfigureAwait(false))
+            {
+                // The first statement of a repeatable-read transaction fixes its snapshot; the range read uses the same one.
+                string text = await connection.ExecuteScalarAsync<string>(
+                    new CommandDefinition("SELECT pg_current_snapshot()::text", transaction: transaction, cancellationToken: cancellationToken)).ConfigureAwait(false)
+                    ?? throw new InvalidOperationException("pg_current_snapshot() returned nothing");
+                IReadOnlyList<MeasurementRow> rows = [];
+                if (toUs > fromUs)
+                {
+                    rows = (await connection.QueryAsync<MeasurementRow>(new CommandDefinition(
+                        RangeSql, TimeRangeParameters.For(fleetId, vehicleId, fromUs, toUs), transaction, cancellationToken: cancellationToken)).ConfigureAwait(false)).AsList();
+                }
+
+                await transaction.CommitAsync(cancellationToken).ConfigureAwait(false);
+                return (rows, CommitSnapshot.Parse(text));
+            }
+        }
+    }
+
+    /// <summary>
     /// Measurements of one vehicle with <paramref name="fromUs"/> &lt;= time &lt; <paramref name="toUs"/> that no
     /// verdict has judged yet (outcome pending), in canonical order: stored by a commit whose delivery to the track was
     /// lost (a process killed between its commit and the track's verdicts).

@@ -33,7 +33,6 @@ internal sealed class VehicleTrackGrain(
     IOptions<DatabaseOptions> databaseOptions,
     TimeProvider time,
     AlertPublisher alerts,
-    Ingest.CommitClock commits,
     ILogger<VehicleTrackGrain> logger) : Grain, IVehicleTrackGrain, ITrackObserver
 {
     private readonly List<MeasurementOutcomeUpdate> _outcomes = [];
@@ -59,8 +58,8 @@ internal sealed class VehicleTrackGrain(
     private long _lastTicket;
     private (TrackState State, Measurement Last, long Ticket)? _candidate;
 
-    // Commits of this process up to this number were finished before the restore read the store, so it holds them.
-    private long _restoredThrough;
+    // The commits the restore's read saw (any process's): a delivery of one of them is already in the track.
+    private CommitSnapshot? _restored;
 
     public override async Task OnActivateAsync(CancellationToken cancellationToken)
     {
@@ -69,7 +68,6 @@ internal sealed class VehicleTrackGrain(
         var checkpoint = await gate.RunAsync(
             () => new FilterCheckpointRepository(database.DataSource).NewestCheckpointBeforeAsync(_fleetId, _vehicleId, long.MaxValue, cancellationToken),
             cancellationToken);
-        _restoredThrough = commits.Now;
         long nowUs = (time.GetUtcNow().UtcTicks - DateTime.UnixEpoch.Ticks) / 10;
         long fromUs = nowUs - ((databaseOptions.Value.DaysBack + 1) * 86_400_000_000L);
         long fromFloorUs = fromUs;
@@ -84,9 +82,10 @@ internal sealed class VehicleTrackGrain(
             _lastHistoryUs = last.TimeUs;
         }
 
-        var stored = await gate.RunAsync(
-            () => new MeasurementRepository(database.DataSource).ReadAsync(_fleetId, _vehicleId, fromUs, nowUs + (7 * 86_400_000_000L), cancellationToken),
+        var (stored, snapshot) = await gate.RunAsync(
+            () => new MeasurementRepository(database.DataSource).ReadWithSnapshotAsync(_fleetId, _vehicleId, fromUs, nowUs + (7 * 86_400_000_000L), cancellationToken),
             cancellationToken);
+        _restored = snapshot;
         int replayed = 0;
         foreach (var s in stored)
         {
@@ -153,7 +152,7 @@ internal sealed class VehicleTrackGrain(
     public async Task ProcessAsync(TrackMeasurement[] batch, CommitStamp stamp)
     {
         ArgumentNullException.ThrowIfNull(batch);
-        if (stamp.InstanceId == commits.InstanceId && stamp.Sequence > 0 && stamp.Sequence <= _restoredThrough)
+        if (_restored is { } restored && restored.Holds(stamp.TransactionId))
         {
             // Committed before this activation read the store: the restore processed these already, in order.
             return;
