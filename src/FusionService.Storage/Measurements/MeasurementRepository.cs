@@ -87,8 +87,25 @@ public sealed class MeasurementRepository(NpgsqlDataSource dataSource)
     /// <param name="fromUs">Inclusive start, Unix microseconds.</param>
     /// <param name="toUs">Exclusive end, Unix microseconds.</param>
     /// <param name="cancellationToken">Cancels the query.</param>
-    public async Task<(IReadOnlyList<MeasurementRow> Rows, CommitSnapshot Snapshot)> ReadWithSnapshotAsync(
-        Guid fleetId, string vehicleId, long fromUs, long toUs, CancellationToken cancellationToken = default)
+    public Task<(IReadOnlyList<MeasurementRow> Rows, CommitSnapshot Snapshot)> ReadWithSnapshotAsync(
+        Guid fleetId, string vehicleId, long fromUs, long toUs, CancellationToken cancellationToken = default) =>
+        ReadUnderSnapshotAsync(RangeSql, fleetId, vehicleId, fromUs, toUs, cancellationToken);
+
+    /// <summary>
+    /// <see cref="ReadPendingAsync"/> under a snapshot, as <see cref="ReadWithSnapshotAsync"/>: every commit the snapshot
+    /// holds has each of its rows in the range either judged already or among the rows returned.
+    /// </summary>
+    /// <param name="fleetId">Owning fleet.</param>
+    /// <param name="vehicleId">Vehicle within the fleet.</param>
+    /// <param name="fromUs">Inclusive start, Unix microseconds.</param>
+    /// <param name="toUs">Exclusive end, Unix microseconds.</param>
+    /// <param name="cancellationToken">Cancels the query.</param>
+    public Task<(IReadOnlyList<MeasurementRow> Rows, CommitSnapshot Snapshot)> ReadPendingWithSnapshotAsync(
+        Guid fleetId, string vehicleId, long fromUs, long toUs, CancellationToken cancellationToken = default) =>
+        ReadUnderSnapshotAsync(PendingRangeSql, fleetId, vehicleId, fromUs, toUs, cancellationToken);
+
+    private async Task<(IReadOnlyList<MeasurementRow> Rows, CommitSnapshot Snapshot)> ReadUnderSnapshotAsync(
+        string sql, Guid fleetId, string vehicleId, long fromUs, long toUs, CancellationToken cancellationToken)
     {
         ArgumentNullException.ThrowIfNull(vehicleId);
         var connection = await _dataSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
@@ -105,7 +122,7 @@ public sealed class MeasurementRepository(NpgsqlDataSource dataSource)
                 if (toUs > fromUs)
                 {
                     rows = (await connection.QueryAsync<MeasurementRow>(new CommandDefinition(
-                        RangeSql, TimeRangeParameters.For(fleetId, vehicleId, fromUs, toUs), transaction, cancellationToken: cancellationToken)).ConfigureAwait(false)).AsList();
+                        sql, TimeRangeParameters.For(fleetId, vehicleId, fromUs, toUs), transaction, cancellationToken: cancellationToken)).ConfigureAwait(false)).AsList();
                 }
 
                 await transaction.CommitAsync(cancellationToken).ConfigureAwait(false);

@@ -33,6 +33,7 @@ internal sealed class VehicleTrackGrain(
     IOptions<DatabaseOptions> databaseOptions,
     TimeProvider time,
     AlertPublisher alerts,
+    IClusterMembershipService membership,
     ILogger<VehicleTrackGrain> logger) : Grain, IVehicleTrackGrain, ITrackObserver
 {
     private readonly List<MeasurementOutcomeUpdate> _outcomes = [];
@@ -61,9 +62,13 @@ internal sealed class VehicleTrackGrain(
     // The commits the restore's read saw (any process's): a delivery of one of them is already in the track.
     private CommitSnapshot? _restored;
 
+    // Processes of the cluster declared dead when the track last looked at the store (see CatchUpAfterDeathsAsync).
+    private int _deadSeen;
+
     public override async Task OnActivateAsync(CancellationToken cancellationToken)
     {
         (_fleetId, _vehicleId) = GrainKeys.Parse(this.GetPrimaryKeyString());
+        _deadSeen = DeadProcesses();
         _monitor = alerts.CreateMonitor(_fleetId, _vehicleId);
         var checkpoint = await gate.RunAsync(
             () => new FilterCheckpointRepository(database.DataSource).NewestCheckpointBeforeAsync(_fleetId, _vehicleId, long.MaxValue, cancellationToken),
@@ -152,6 +157,7 @@ internal sealed class VehicleTrackGrain(
     public async Task ProcessAsync(TrackMeasurement[] batch, CommitStamp stamp)
     {
         ArgumentNullException.ThrowIfNull(batch);
+        await CatchUpAfterDeathsAsync();
         if (_restored is { } restored && restored.Holds(stamp.TransactionId))
         {
             // Committed before this activation read the store: the restore processed these already, in order.
@@ -202,12 +208,57 @@ internal sealed class VehicleTrackGrain(
         }
     }
 
-    public Task<VehicleStateSnapshot?> GetStateAsync()
+    public async Task<VehicleStateSnapshot?> GetStateAsync()
+    {
+        await CatchUpAfterDeathsAsync();
+        return Snapshot();
+    }
+
+    /// <summary>
+    /// A process that dies between a commit and the delivery of its batch leaves those rows pending, and a track living
+    /// elsewhere never hears of them (a track in the dead process is rebuilt from the store anyway). So once more
+    /// processes of the cluster have been declared dead than when the track last looked, it reads its vehicle's pending
+    /// rows from <see cref="TrackGrainOptions.PendingLookBackMin"/> before its newest data on, under a snapshot, and
+    /// processes them (late data inside the window is fused in order; older is judged too late). Deliveries of commits
+    /// that snapshot holds are then skipped, as after a restore.
+    /// </summary>
+    private async Task CatchUpAfterDeathsAsync()
+    {
+        int dead = DeadProcesses();
+        if (dead == _deadSeen)
+        {
+            return;
+        }
+
+        _deadSeen = dead;
+        long nowUs = (time.GetUtcNow().UtcTicks - DateTime.UnixEpoch.Ticks) / 10;
+        long lookBackUs = (long)Math.Round(Math.Max(options.Value.PendingLookBackMin, 1) * 6e7);
+        long fromUs = _track.NewestTimeUs == long.MinValue
+            ? nowUs - ((databaseOptions.Value.DaysBack + 1) * 86_400_000_000L)
+            : _track.NewestTimeUs - lookBackUs;
+        var (pending, snapshot) = await gate.RunAsync(
+            () => new MeasurementRepository(database.DataSource).ReadPendingWithSnapshotAsync(_fleetId, _vehicleId, fromUs, nowUs + (7 * 86_400_000_000L)));
+        foreach (var s in pending)
+        {
+            _track.Process(Measurement.FromStored(s.TimeUs, ((ulong)(byte)s.Kind << 56) | (ulong)s.MessageKey, s.V0, s.V1 ?? double.NaN, (float)(s.V2 ?? 0)), this);
+        }
+
+        _restored = snapshot;
+        if (pending.Count > 0)
+        {
+            logger.LogInformation("Track {Key} took {Count} stored measurements whose delivery died with another process", this.GetPrimaryKeyString(), pending.Count);
+            FlushWrites();
+        }
+    }
+
+    private int DeadProcesses() => membership.CurrentSnapshot.Members.Values.Count(m => m.Status == Orleans.Runtime.SiloStatus.Dead);
+
+    private VehicleStateSnapshot? Snapshot()
     {
         ref readonly TrackState s = ref _track.Current;
         if (!s.HasPlane || s.Phase != TrackPhase.Running)
         {
-            return Task.FromResult<VehicleStateSnapshot?>(null);
+            return null;
         }
 
         var position = TrackProcessor.PositionOf(s);
@@ -224,8 +275,7 @@ internal sealed class VehicleTrackGrain(
         }
 
         const string phase = "running";
-        return Task.FromResult<VehicleStateSnapshot?>(new VehicleStateSnapshot(
-            s.TimeUs, phase, position.LatitudeDeg, position.LongitudeDeg, x, p, [.. _lastBySensor], s.Resets));
+        return new VehicleStateSnapshot(s.TimeUs, phase, position.LatitudeDeg, position.LongitudeDeg, x, p, [.. _lastBySensor], s.Resets);
     }
 
     public async Task RebuildAsync(long fromUs)
