@@ -71,7 +71,7 @@ public static class CompactedTrackReplay
                 continue;
             }
 
-            processor.Process(ref state, m, recorder);
+            VehicleTrack.ProcessOrSkip(processor, ref state, m, recorder);
             if (state.Carried && carriedSinceUs == long.MinValue)
             {
                 carriedSinceUs = state.CarriedSinceUs;

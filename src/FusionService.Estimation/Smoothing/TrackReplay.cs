@@ -43,7 +43,7 @@ public static class TrackReplay
                 continue;
             }
 
-            outcomes.Add((m, processor.Process(ref state, m, recorder)));
+            outcomes.Add((m, VehicleTrack.ProcessOrSkip(processor, ref state, m, recorder)));
         }
 
         var smoothed = recorder.Segments.Select(RauchTungStriebelSmoother.Smooth).ToList();

@@ -65,6 +65,15 @@ public readonly record struct MeasurementOutcome(
     public static MeasurementOutcome Of(OutcomeKind kind) => new(kind, double.NaN, 0, double.NaN, false, 0);
 
     /// <summary>
+    /// For <see cref="OutcomeKind.Unusable"/>: what the filter failed on (the message of the numeric failure), null
+    /// otherwise.
+    /// </summary>
+    public string? Failure { get; init; }
+
+    /// <summary>The outcome of a measurement the filter failed on numerically (<see cref="OutcomeKind.Unusable"/>).</summary>
+    public static MeasurementOutcome UnusableBecause(string failure) => Of(OutcomeKind.Unusable) with { Failure = failure };
+
+    /// <summary>
     /// This outcome carrying <paramref name="innovation"/> and its whitened form <paramref name="whitened"/> (one or two
     /// components each; see <see cref="Innovation0"/> and <see cref="Whitened0"/>).
     /// </summary>
@@ -94,6 +103,7 @@ public readonly record struct MeasurementOutcome(
         OutcomeKind.Unused when Carried => $"{sensor} set aside: GNSS shows the vehicle moving while its wheels are still (carried)",
         OutcomeKind.Unused when Isolated => $"{sensor} set aside: the gyro is isolated, its turns disagree with the GNSS course",
         OutcomeKind.Unused => $"{sensor} carried nothing usable",
+        OutcomeKind.Unusable => $"{sensor} skipped: the filter failed numerically on it ({Failure})",
         _ => Kind.ToString(),
     };
 }

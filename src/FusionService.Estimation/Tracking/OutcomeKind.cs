@@ -29,4 +29,11 @@ public enum OutcomeKind : byte
 
     /// <summary>Not used: course below the speed threshold on a velocity-only message, or similar (see the reason).</summary>
     Unused = 8,
+
+    /// <summary>
+    /// The filter failed numerically on it (a covariance that lost positive definiteness, a value that is not finite):
+    /// it is skipped, the state stays as it was before it, and the track goes on. See the outcome's
+    /// <see cref="MeasurementOutcome.Failure"/>.
+    /// </summary>
+    Unusable = 9,
 }

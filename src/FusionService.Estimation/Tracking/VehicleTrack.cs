@@ -1,3 +1,4 @@
+using FusionService.Estimation.Filtering;
 using FusionService.Estimation.Measurements;
 using FusionService.Estimation.Models;
 
@@ -9,7 +10,10 @@ namespace FusionService.Estimation.Tracking;
 /// re-processed from the newest posterior checkpoint before it, which is exact for the extended filter because every
 /// later step is re-linearised (the reference that Bar-Shalom 2002, "Update with out-of-sequence measurements in
 /// tracking: exact solution", IEEE T-AES 38(3), measures cheaper methods against). Exact duplicates are ignored.
-/// Memory is bounded by the lag window plus one checkpoint interval.
+/// Memory is bounded by the lag window plus one checkpoint interval. A measurement the filter fails on numerically
+/// (<see cref="FilterDivergenceException"/>) is judged <see cref="OutcomeKind.Unusable"/> and skipped: the state stays
+/// what it was before it, so one poisoned measurement never stops the track, and a re-processing (late data, a restart)
+/// judges it the same way.
 /// </summary>
 /// <remarks>Not thread-safe: one caller at a time (a track grain).</remarks>
 public sealed class VehicleTrack
@@ -146,9 +150,7 @@ public sealed class VehicleTrack
 
     private MeasurementOutcome Append(in Measurement m, ITrackObserver? observer)
     {
-        TrackState next = _current;
-        MeasurementOutcome outcome = _processor.Process(ref next, m);
-        _current = next;
+        MeasurementOutcome outcome = ProcessOrSkip(ref _current, m);
         EnsureBufferRoom();
         _buffer[_start + _count] = m;
         _count++;
@@ -179,7 +181,7 @@ public sealed class VehicleTrack
         for (int i = first; i < _count; i++)
         {
             ref readonly Measurement held = ref _buffer[_start + i];
-            MeasurementOutcome outcome = _processor.Process(ref state, held);
+            MeasurementOutcome outcome = ProcessOrSkip(ref state, held);
             _current = state;
             MaybeCheckpoint(held);
             bool isOwn = i == index;
@@ -193,6 +195,32 @@ public sealed class VehicleTrack
 
         _current = state;
         return own;
+    }
+
+    private MeasurementOutcome ProcessOrSkip(ref TrackState state, in Measurement m) => ProcessOrSkip(_processor, ref state, m, null);
+
+    /// <summary>
+    /// Processes <paramref name="m"/> on a copy of <paramref name="state"/> and keeps the copy only when the filter
+    /// succeeded; a numeric failure (<see cref="FilterDivergenceException"/>) leaves <paramref name="state"/> untouched
+    /// and judges the measurement <see cref="OutcomeKind.Unusable"/>. Every pass over stored data (the live track, its
+    /// replays, the smoothing passes) goes through here, so they all skip the same measurements. A recorder may then have
+    /// heard a <see cref="IStepRecorder.Predicted"/> without its <see cref="IStepRecorder.Posterior"/>; the next
+    /// measurement's prediction replaces it.
+    /// </summary>
+    public static MeasurementOutcome ProcessOrSkip(TrackProcessor processor, ref TrackState state, in Measurement m, IStepRecorder? recorder)
+    {
+        ArgumentNullException.ThrowIfNull(processor);
+        TrackState next = state;
+        try
+        {
+            MeasurementOutcome outcome = processor.Process(ref next, m, recorder);
+            state = next;
+            return outcome;
+        }
+        catch (FilterDivergenceException ex)
+        {
+            return MeasurementOutcome.UnusableBecause(ex.Message);
+        }
     }
 
     private void MaybeCheckpoint(in Measurement m)

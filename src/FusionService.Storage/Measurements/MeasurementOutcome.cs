@@ -29,4 +29,7 @@ public enum MeasurementOutcome : short
 
     /// <summary>Processed but not usable (for example a course below the speed threshold); migration 0002.</summary>
     Unused = 7,
+
+    /// <summary>The filter failed numerically on it (see <c>OutcomeKind.Unusable</c> of the core); skipped; migration 0010.</summary>
+    Unusable = 8,
 }

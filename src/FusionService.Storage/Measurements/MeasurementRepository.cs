@@ -32,6 +32,21 @@ public sealed class MeasurementRepository(NpgsqlDataSource dataSource)
                 AND d.kind = m.kind AND d.message_key = m.message_key AND d.measured_at = m.measured_at)
         """;
 
+    // One vehicle's stored rows in a time range that no verdict has judged yet: an anti-join of two index ranges.
+    private const string PendingRangeSql = """
+        SELECT m.fleet_id AS FleetId, m.vehicle_id AS VehicleId, m.kind AS Kind, m.time_us AS TimeUs,
+               m.message_key AS MessageKey, m.received_at AS ReceivedAtUtc, m.v0 AS V0, m.v1 AS V1, m.v2 AS V2,
+               m.flags AS Flags, m.outcome AS Outcome, m.nis AS Nis, m.track_reset AS TrackReset
+        FROM measurements m
+        WHERE m.fleet_id = @FleetId AND m.vehicle_id = @VehicleId AND m.time_us >= @FromUs AND m.time_us < @ToUs
+          AND m.measured_at >= @FromAt AND m.measured_at < @ToAt AND m.outcome = 4
+          AND NOT EXISTS (
+              SELECT 1 FROM measurement_verdicts d
+              WHERE d.fleet_id = m.fleet_id AND d.vehicle_id = m.vehicle_id AND d.time_us = m.time_us
+                AND d.kind = m.kind AND d.message_key = m.message_key AND d.measured_at = m.measured_at)
+        ORDER BY m.time_us, m.kind, m.message_key
+        """;
+
     private readonly NpgsqlDataSource _dataSource = dataSource ?? throw new ArgumentNullException(nameof(dataSource));
 
     /// <summary>
@@ -59,6 +74,88 @@ public sealed class MeasurementRepository(NpgsqlDataSource dataSource)
         {
             var rows = await connection.QueryAsync<MeasurementRow>(
                 new CommandDefinition(RangeSql, parameters, cancellationToken: cancellationToken)).ConfigureAwait(false);
+            return rows.AsList();
+        }
+    }
+
+    /// <summary>
+    /// <see cref="ReadAsync"/> in a read-only repeatable-read transaction, with the snapshot it read under: the commits
+    /// the rows came from are exactly those the snapshot <see cref="CommitSnapshot.Holds"/>.
+    /// </summary>
+    /// <param name="fleetId">Owning fleet.</param>
+    /// <param name="vehicleId">Vehicle within the fleet.</param>
+    /// <param name="fromUs">Inclusive start, Unix microseconds.</param>
+    /// <param name="toUs">Exclusive end, Unix microseconds.</param>
+    /// <param name="cancellationToken">Cancels the query.</param>
+    public Task<(IReadOnlyList<MeasurementRow> Rows, CommitSnapshot Snapshot)> ReadWithSnapshotAsync(
+        Guid fleetId, string vehicleId, long fromUs, long toUs, CancellationToken cancellationToken = default) =>
+        ReadUnderSnapshotAsync(RangeSql, fleetId, vehicleId, fromUs, toUs, cancellationToken);
+
+    /// <summary>
+    /// <see cref="ReadPendingAsync"/> under a snapshot, as <see cref="ReadWithSnapshotAsync"/>: every commit the snapshot
+    /// holds has each of its rows in the range either judged already or among the rows returned.
+    /// </summary>
+    /// <param name="fleetId">Owning fleet.</param>
+    /// <param name="vehicleId">Vehicle within the fleet.</param>
+    /// <param name="fromUs">Inclusive start, Unix microseconds.</param>
+    /// <param name="toUs">Exclusive end, Unix microseconds.</param>
+    /// <param name="cancellationToken">Cancels the query.</param>
+    public Task<(IReadOnlyList<MeasurementRow> Rows, CommitSnapshot Snapshot)> ReadPendingWithSnapshotAsync(
+        Guid fleetId, string vehicleId, long fromUs, long toUs, CancellationToken cancellationToken = default) =>
+        ReadUnderSnapshotAsync(PendingRangeSql, fleetId, vehicleId, fromUs, toUs, cancellationToken);
+
+    private async Task<(IReadOnlyList<MeasurementRow> Rows, CommitSnapshot Snapshot)> ReadUnderSnapshotAsync(
+        string sql, Guid fleetId, string vehicleId, long fromUs, long toUs, CancellationToken cancellationToken)
+    {
+        ArgumentNullException.ThrowIfNull(vehicleId);
+        var connection = await _dataSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
+        await using (connection.ConfigureAwait(false))
+        {
+            var transaction = await connection.BeginTransactionAsync(System.Data.IsolationLevel.RepeatableRead, cancellationToken).ConfigureAwait(false);
+            await using (transaction.ConfigureAwait(false))
+            {
+                // The first statement of a repeatable-read transaction fixes its snapshot; the range read uses the same one.
+                string text = await connection.ExecuteScalarAsync<string>(
+                    new CommandDefinition("SELECT pg_current_snapshot()::text", transaction: transaction, cancellationToken: cancellationToken)).ConfigureAwait(false)
+                    ?? throw new InvalidOperationException("pg_current_snapshot() returned nothing");
+                IReadOnlyList<MeasurementRow> rows = [];
+                if (toUs > fromUs)
+                {
+                    rows = (await connection.QueryAsync<MeasurementRow>(new CommandDefinition(
+                        sql, TimeRangeParameters.For(fleetId, vehicleId, fromUs, toUs), transaction, cancellationToken: cancellationToken)).ConfigureAwait(false)).AsList();
+                }
+
+                await transaction.CommitAsync(cancellationToken).ConfigureAwait(false);
+                return (rows, CommitSnapshot.Parse(text));
+            }
+        }
+    }
+
+    /// <summary>
+    /// Measurements of one vehicle with <paramref name="fromUs"/> &lt;= time &lt; <paramref name="toUs"/> that no
+    /// verdict has judged yet (outcome pending), in canonical order: stored by a commit whose delivery to the track was
+    /// lost (a process killed between its commit and the track's verdicts).
+    /// </summary>
+    /// <param name="fleetId">Owning fleet.</param>
+    /// <param name="vehicleId">Vehicle within the fleet.</param>
+    /// <param name="fromUs">Inclusive start, Unix microseconds.</param>
+    /// <param name="toUs">Exclusive end, Unix microseconds.</param>
+    /// <param name="cancellationToken">Cancels the query.</param>
+    public async Task<IReadOnlyList<MeasurementRow>> ReadPendingAsync(
+        Guid fleetId, string vehicleId, long fromUs, long toUs, CancellationToken cancellationToken = default)
+    {
+        ArgumentNullException.ThrowIfNull(vehicleId);
+        if (toUs <= fromUs)
+        {
+            return [];
+        }
+
+        var parameters = TimeRangeParameters.For(fleetId, vehicleId, fromUs, toUs);
+        var connection = await _dataSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
+        await using (connection.ConfigureAwait(false))
+        {
+            var rows = await connection.QueryAsync<MeasurementRow>(
+                new CommandDefinition(PendingRangeSql, parameters, cancellationToken: cancellationToken)).ConfigureAwait(false);
             return rows.AsList();
         }
     }

@@ -36,7 +36,7 @@ public static class AlertEndpoints
                 + "with the numbers behind it, who acknowledged it and when, and links to the van at the alert's time. "
                 + "Filters: state (open = not yet acknowledged, acknowledged, resolved, unresolved = open or acknowledged), vehicle, "
                 + "kind (gated_burst, inconsistent_sensor, gnss_silent_while_moving, track_reset, wheel_scale_out_of_band, "
-                + "moved_without_driving, sensor_isolated, vehicle_silent), from/to (RFC 3339 or Unix milliseconds: alerts still active "
+                + "moved_without_driving, sensor_isolated, vehicle_silent, measurement_unusable), from/to (RFC 3339 or Unix milliseconds: alerts still active "
                 + "at or after from and started at or before to). Paging: limit (1-1000, default 100) and cursor=<next_cursor of the "
                 + "previous page>, with the same filters and sort. Example: GET /v1/alerts?state=unresolved&sort=severity&limit=20. "
                 + "400 names the bad parameter. Needs a read or admin key." + Caution + LocationCaution.Documentation)

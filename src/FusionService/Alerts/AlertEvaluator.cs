@@ -12,7 +12,8 @@ namespace FusionService.Alerts;
 /// <summary>
 /// Evaluates the per-vehicle alert rules (<c>gated_burst</c>, <c>inconsistent_sensor</c> (mean NIS and, through
 /// <see cref="WhitenessWindow"/>, innovation whiteness), <c>gnss_silent_while_moving</c>,
-/// <c>track_reset</c>, <c>wheel_scale_out_of_band</c>, <c>moved_without_driving</c>, <c>sensor_isolated</c>; see their settings types for the definitions and defaults) from
+/// <c>track_reset</c>, <c>wheel_scale_out_of_band</c>, <c>moved_without_driving</c>, <c>sensor_isolated</c>,
+/// <c>measurement_unusable</c> (always on, see <see cref="AlertKinds.MeasurementUnusable"/>); see their settings types for the definitions and defaults) from
 /// the outcomes of one vehicle's track, on data time: "now" is the newest measurement time seen, so the result does not
 /// depend on when or in which batches the data arrived. <see cref="TakeChanges"/> returns what changed since the last
 /// call as absolute observations (count so far, start, newest time), which the store applies idempotently; a track that
@@ -27,6 +28,7 @@ public sealed class AlertEvaluator
     private readonly List<(long TimeUs, EventKey Key, SensorKind Sensor, double Nis, double Gate)> _recentGated = [];
     private readonly HashSet<EventKey> _counted = [];
     private readonly HashSet<EventKey> _resets = [];
+    private readonly HashSet<EventKey> _unusable = [];
     private readonly NisWindow[] _nis = [new(), new(), new(), new()];
     private readonly WhitenessWindow?[] _whiteness = new WhitenessWindow?[4];
     private readonly Dictionary<(int Count, int Dof, double Probability), (double Lower, double Upper)> _intervals = [];
@@ -85,6 +87,24 @@ public sealed class AlertEvaluator
                 ["position_shift_m"] = Num(outcome.PositionShiftM),
                 ["nis"] = Num(outcome.Nis),
                 ["clear_s"] = s.TrackReset.ClearS,
+            };
+        }
+
+        if (outcome.Kind == OutcomeKind.Unusable && _unusable.Add(key))
+        {
+            var e = _episodes[AlertKinds.MeasurementUnusable];
+            Raise(e, t, t);
+            e.Count = e.Open && e.Count > 0 ? e.Count + 1 : 1;
+            e.Summary = e.Count == 1
+                ? Inv($"A {AlertKinds.SensorName(m.Kind)} measurement was skipped: the filter failed numerically on it")
+                : Inv($"{e.Count} measurements were skipped: the filter failed numerically on them");
+            e.Details = new JsonObject
+            {
+                ["skipped"] = e.Count,
+                ["last_sensor"] = AlertKinds.SensorName(m.Kind),
+                ["last_measured_at"] = Time(t),
+                ["last_reason"] = outcome.Failure,
+                ["clear_s"] = AlertKinds.MeasurementUnusableClearS,
             };
         }
 
@@ -436,6 +456,7 @@ public sealed class AlertEvaluator
         Clear(AlertKinds.WheelScaleOutOfBand, s.WheelScaleOutOfBand.ClearS, !s.WheelScaleOutOfBand.Enabled);
         Clear(AlertKinds.MovedWithoutDriving, s.MovedWithoutDriving.ClearS, !s.MovedWithoutDriving.Enabled);
         Clear(AlertKinds.SensorIsolated, s.SensorIsolated.ClearS, !s.SensorIsolated.Enabled);
+        Clear(AlertKinds.MeasurementUnusable, AlertKinds.MeasurementUnusableClearS, false);
     }
 
     /// <summary>
@@ -550,6 +571,11 @@ public sealed class AlertEvaluator
         if (kind == AlertKinds.TrackReset)
         {
             _resets.Clear();
+        }
+
+        if (kind == AlertKinds.MeasurementUnusable)
+        {
+            _unusable.Clear();
         }
 
         _episodes[kind] = new Episode();

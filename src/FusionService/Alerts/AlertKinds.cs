@@ -30,8 +30,18 @@ public static class AlertKinds
     /// <summary>Nothing received from the vehicle for longer than the threshold.</summary>
     public const string VehicleSilent = "vehicle_silent";
 
+    /// <summary>
+    /// A stored measurement the filter failed on numerically (for example an accuracy so large that the innovation
+    /// covariance is not positive definite): it was judged unusable and skipped, and the track went on without it.
+    /// Always on; resolves after <see cref="MeasurementUnusableClearS"/> seconds of data without another.
+    /// </summary>
+    public const string MeasurementUnusable = "measurement_unusable";
+
+    /// <summary>Seconds of data without another unusable measurement after which <see cref="MeasurementUnusable"/> resolves (a design choice).</summary>
+    public const double MeasurementUnusableClearS = 600;
+
     /// <summary>Every kind, in the order above.</summary>
-    public static IReadOnlyList<string> All { get; } = [GatedBurst, InconsistentSensor, GnssSilentWhileMoving, TrackReset, WheelScaleOutOfBand, MovedWithoutDriving, SensorIsolated, VehicleSilent];
+    public static IReadOnlyList<string> All { get; } = [GatedBurst, InconsistentSensor, GnssSilentWhileMoving, TrackReset, WheelScaleOutOfBand, MovedWithoutDriving, SensorIsolated, VehicleSilent, MeasurementUnusable];
 
     /// <summary>
     /// Severity of a kind: <c>critical</c> for a track reset (the position jumped), <c>info</c> for the wheel scale (a

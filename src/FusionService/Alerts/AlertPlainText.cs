@@ -37,6 +37,10 @@ public static class AlertPlainText
             AlertKinds.VehicleSilent => Number(details, "silent_s") is { } quietS
                 ? Inv($"Nothing received from the van for {Duration(quietS)}: its tracker may be off, out of coverage or broken.")
                 : "Nothing received from the van for a while: its tracker may be off, out of coverage or broken.",
+            AlertKinds.MeasurementUnusable => details.ValueKind == JsonValueKind.Object && details.TryGetProperty("last_sensor", out var sensor)
+                && sensor.ValueKind == JsonValueKind.String
+                ? "A reading from " + SensorName(sensor.GetString()!) + " could not be used and was skipped; the position goes on from the other readings."
+                : "A reading could not be used and was skipped; the position goes on from the other readings.",
             _ => "Something about this van needs a look; see the technical summary.",
         };
     }

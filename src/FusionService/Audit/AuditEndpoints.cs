@@ -67,7 +67,7 @@ public static class AuditEndpoints
                 + "the live track saw) and returns the fused state after the last measurement at or before time, and every measurement of "
                 + "[time - window_s/2, time + window_s/2] with its values, residual (measured minus predicted, units in residual_units), NIS, "
                 + "its dimension, the gate threshold, the decision (accepted | gated | too_late | track_reset | initialising | before_start | "
-                + "unused) and position_shift_m, how far the update moved the position estimate (|posterior - prior| in the local plane, "
+                + "unused | unusable) and position_shift_m, how far the update moved the position estimate (|posterior - prior| in the local plane, "
                 + "metres; 0 when gated). 404 when the caller's fleet has no such vehicle; 400 names the bad parameter. Needs a read or admin key. "
                 + "Estimates, not for safety-critical navigation; locations are the drivers' personal data.")
             .ProducesProblem(StatusCodes.Status400BadRequest)

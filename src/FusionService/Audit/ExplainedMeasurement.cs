@@ -10,7 +10,7 @@ namespace FusionService.Audit;
 /// <param name="Nis">Normalised innovation squared; null when none was formed.</param>
 /// <param name="NisDof">Dimension of the innovation (chi-square degrees of freedom).</param>
 /// <param name="GateThreshold">NIS threshold of the gate it was compared with.</param>
-/// <param name="Decision">accepted, gated, too_late, track_reset, initialising, before_start or unused.</param>
+/// <param name="Decision">accepted, gated, too_late, track_reset, initialising, before_start, unused or unusable (the filter failed numerically on it; skipped).</param>
 /// <param name="PositionShiftM">How far the update moved the position estimate, metres, |posterior - prior| in the track's
 /// local plane (0 when not fused; for a track reset, the distance from the track to the fix it restarted at).</param>
 public sealed record ExplainedMeasurement(

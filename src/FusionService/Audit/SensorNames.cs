@@ -20,7 +20,7 @@ public static class SensorNames
         _ => throw new ArgumentOutOfRangeException(nameof(kind), kind, "unknown sensor kind"),
     };
 
-    /// <summary>The decision name of a core outcome: accepted, gated, too_late, duplicate, initialising, before_start, track_reset, unused.</summary>
+    /// <summary>The decision name of a core outcome: accepted, gated, too_late, duplicate, initialising, before_start, track_reset, unused, unusable.</summary>
     public static string Of(OutcomeKind kind) => kind switch
     {
         OutcomeKind.Accepted => "accepted",
@@ -30,6 +30,7 @@ public static class SensorNames
         OutcomeKind.Initialising => "initialising",
         OutcomeKind.BeforeStart => "before_start",
         OutcomeKind.TrackReset => "track_reset",
+        OutcomeKind.Unusable => "unusable",
         _ => "unused",
     };
 }

@@ -129,6 +129,7 @@ internal static class TrackPointSources
         StoredOutcome.Pending => "pending",
         StoredOutcome.Initialising => "initialising",
         StoredOutcome.BeforeStart => "before_start",
+        StoredOutcome.Unusable => "unusable",
         _ => "unused",
     };
 

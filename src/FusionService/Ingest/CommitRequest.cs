@@ -8,5 +8,5 @@ internal sealed class CommitRequest(IReadOnlyList<MeasurementRow> rows)
 {
     public IReadOnlyList<MeasurementRow> Rows { get; } = rows;
 
-    public TaskCompletionSource<(HashSet<MeasurementKey> Inserted, long Sequence)> Completion { get; } = new(TaskCreationOptions.RunContinuationsAsynchronously);
+    public TaskCompletionSource<(HashSet<MeasurementKey> Inserted, long TransactionId)> Completion { get; } = new(TaskCreationOptions.RunContinuationsAsynchronously);
 }

@@ -23,13 +23,11 @@ public sealed class GroupCommitWriter : BackgroundService
     private readonly IngestOptions _options;
     private readonly ServiceMetrics _metrics;
     private readonly ILogger<GroupCommitWriter> _logger;
-    private readonly CommitClock _clock;
 
     /// <summary>Creates the writer.</summary>
     public GroupCommitWriter(
-        FusionDatabase database, IOptions<IngestOptions> options, ServiceMetrics metrics, CommitClock clock, ILogger<GroupCommitWriter> logger)
+        FusionDatabase database, IOptions<IngestOptions> options, ServiceMetrics metrics, ILogger<GroupCommitWriter> logger)
     {
-        _clock = clock;
         _database = database;
         _options = options.Value;
         _metrics = metrics;
@@ -44,15 +42,17 @@ public sealed class GroupCommitWriter : BackgroundService
 
     /// <summary>
     /// Stores <paramref name="rows"/> (a request's rows) durably and returns the keys among them that were new;
-    /// a key that appears several times among concurrent requests is claimed by the first.
+    /// a key that appears several times among concurrent requests is claimed by the first. With them comes the
+    /// PostgreSQL transaction id of the commit (0 when there was nothing to store), the token that tells a track
+    /// restored afterwards whether its restore already read them (<see cref="Tracking.CommitStamp"/>).
     /// </summary>
     /// <exception cref="ServiceUnavailableException">The queue is full or the commit failed.</exception>
-    public Task<(HashSet<MeasurementKey> Inserted, long Sequence)> CommitAsync(IReadOnlyList<MeasurementRow> rows)
+    public Task<(HashSet<MeasurementKey> Inserted, long TransactionId)> CommitAsync(IReadOnlyList<MeasurementRow> rows)
     {
         var request = new CommitRequest(rows);
         if (rows.Count == 0)
         {
-            request.Completion.SetResult(([], _clock.Now));
+            request.Completion.SetResult(([], 0));
         }
         else if (!_channel.Writer.TryWrite(request))
         {
@@ -108,7 +108,9 @@ public sealed class GroupCommitWriter : BackgroundService
     private const string DeadlockDetected = "40P01";
     private const string SerializationFailure = "40001";
 
-    private async Task<HashSet<MeasurementKey>> CommitOnceAsync(List<MeasurementRow> rows, CancellationToken cancellationToken)
+    private const string TransactionIdSql = "SELECT pg_current_xact_id()::text::bigint";
+
+    private async Task<(HashSet<MeasurementKey> Inserted, long TransactionId)> CommitOnceAsync(List<MeasurementRow> rows, CancellationToken cancellationToken)
     {
         var connection = await _database.DataSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
         await using (connection.ConfigureAwait(false))
@@ -117,8 +119,14 @@ public sealed class GroupCommitWriter : BackgroundService
             await using (transaction.ConfigureAwait(false))
             {
                 var inserted = await MeasurementIngest.InsertNewAsync(connection, transaction, rows, cancellationToken).ConfigureAwait(false);
+                long transactionId;
+                await using (var command = new Npgsql.NpgsqlCommand(TransactionIdSql, connection, transaction))
+                {
+                    transactionId = (long)(await command.ExecuteScalarAsync(cancellationToken).ConfigureAwait(false))!;
+                }
+
                 await transaction.CommitAsync(cancellationToken).ConfigureAwait(false);
-                return inserted;
+                return (inserted, transactionId);
             }
         }
     }
@@ -133,18 +141,19 @@ public sealed class GroupCommitWriter : BackgroundService
 
         var watch = Stopwatch.StartNew();
         HashSet<MeasurementKey> inserted;
+        long transactionId;
         try
         {
             try
             {
-                inserted = await CommitOnceAsync(all, cancellationToken).ConfigureAwait(false);
+                (inserted, transactionId) = await CommitOnceAsync(all, cancellationToken).ConfigureAwait(false);
             }
             catch (Npgsql.PostgresException ex) when (ex.SqlState is DeadlockDetected or SerializationFailure)
             {
                 // Concurrent writers can still collide in ways no lock order rules out (two requests resending the
                 // same messages in different orders); the transaction was rolled back whole, so it is safe to run again.
                 _logger.LogInformation("Group commit of {Rows} rows met {SqlState}; running it again", rowCount, ex.SqlState);
-                inserted = await CommitOnceAsync(all, cancellationToken).ConfigureAwait(false);
+                (inserted, transactionId) = await CommitOnceAsync(all, cancellationToken).ConfigureAwait(false);
             }
         }
         catch (Exception ex) when (ex is not OperationCanceledException || !cancellationToken.IsCancellationRequested)
@@ -167,7 +176,6 @@ public sealed class GroupCommitWriter : BackgroundService
         }
 
         _database.NoteSuccess();
-        long sequence = _clock.Advance();
         _metrics.ObserveCommit(watch.Elapsed.TotalSeconds, rowCount);
         foreach (var request in batch)
         {
@@ -181,7 +189,7 @@ public sealed class GroupCommitWriter : BackgroundService
                 }
             }
 
-            request.Completion.TrySetResult((claimed, sequence));
+            request.Completion.TrySetResult((claimed, transactionId));
         }
     }
 }

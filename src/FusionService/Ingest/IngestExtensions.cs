@@ -8,7 +8,6 @@ public static class IngestExtensions
     public static IServiceCollection AddFusionIngest(this IServiceCollection services)
     {
         services.AddOptions<IngestOptions>().BindConfiguration(IngestOptions.Section).ValidateDataAnnotations().ValidateOnStart();
-        services.AddSingleton<CommitClock>();
         services.AddSingleton<GroupCommitWriter>();
         services.AddHostedService(sp => sp.GetRequiredService<GroupCommitWriter>());
         services.AddOptions<Fleets.TenancyOptions>().BindConfiguration(Fleets.TenancyOptions.Section).ValidateDataAnnotations().ValidateOnStart();

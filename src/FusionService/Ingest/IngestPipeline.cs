@@ -73,7 +73,7 @@ public sealed class IngestPipeline(
         }
 
         await ApplyQuotaAsync(fleetId, parsed, results, rows, cancellationToken).ConfigureAwait(false);
-        var (inserted, sequence) = await writer.CommitAsync(rows).ConfigureAwait(false);
+        var (inserted, transactionId) = await writer.CommitAsync(rows).ConfigureAwait(false);
         var fresh = new Dictionary<string, List<TrackMeasurement>>(StringComparer.Ordinal);
         int accepted = 0, duplicate = 0, rejected = 0;
         var repeated = new List<ParsedMessage>();
@@ -111,7 +111,7 @@ public sealed class IngestPipeline(
         metrics.CountMessages(accepted, duplicate, rejected);
         await duplicates.RecordAsync(fleetId, repeated).ConfigureAwait(false);
         await AddPendingAsync(fleetId, repeated, received, fresh).ConfigureAwait(false);
-        var processed = await tracks.DispatchAsync(fleetId, fresh, sequence).ConfigureAwait(false);
+        var processed = await tracks.DispatchAsync(fleetId, fresh, transactionId).ConfigureAwait(false);
         if (options.Value.AcknowledgeAfter == AcknowledgeAfter.Tracking)
         {
             await processed.ConfigureAwait(false);

@@ -35,7 +35,7 @@ public static class OpenApiText
         ["/v1/base-layer cell_m"] = "Side of a road square in metres: 5 to 100, default 10.",
         ["/v1/alerts state"] = "open (not yet acknowledged), acknowledged, resolved, or unresolved (open or acknowledged). Default: all.",
         ["/v1/alerts vehicle"] = "Only this vehicle's alerts.",
-        ["/v1/alerts kind"] = "Only alerts of this kind: gated_burst, inconsistent_sensor, gnss_silent_while_moving, track_reset, wheel_scale_out_of_band, moved_without_driving, sensor_isolated or vehicle_silent.",
+        ["/v1/alerts kind"] = "Only alerts of this kind: gated_burst, inconsistent_sensor, gnss_silent_while_moving, track_reset, wheel_scale_out_of_band, moved_without_driving, sensor_isolated, vehicle_silent or measurement_unusable.",
         ["/v1/alerts from"] = "Only alerts still active at or after this instant: RFC 3339 with an offset or Unix milliseconds.",
         ["/v1/alerts to"] = "Only alerts that started at or before this instant: RFC 3339 with an offset or Unix milliseconds.",
         ["/v1/alerts sort"] = "newest (default): newest start first; severity: critical before warning before info, newest start first within each.",

@@ -22,7 +22,6 @@ public sealed class TrackDispatcher : IHostedService, IAsyncDisposable
 {
     private readonly IGrainFactory _grains;
     private readonly TrackWriteQueue _writes;
-    private readonly CommitClock _clock;
     private readonly ServiceMetrics _metrics;
     private readonly ILogger<TrackDispatcher> _logger;
     private readonly SemaphoreSlim _slots;
@@ -36,9 +35,8 @@ public sealed class TrackDispatcher : IHostedService, IAsyncDisposable
 
     /// <summary>Creates the dispatcher.</summary>
     public TrackDispatcher(
-        IGrainFactory grains, TrackWriteQueue writes, CommitClock clock, ServiceMetrics metrics, IOptions<IngestOptions> options, ILogger<TrackDispatcher> logger)
+        IGrainFactory grains, TrackWriteQueue writes, ServiceMetrics metrics, IOptions<IngestOptions> options, ILogger<TrackDispatcher> logger)
     {
-        _clock = clock;
         ArgumentNullException.ThrowIfNull(options);
         _grains = grains;
         _writes = writes;
@@ -53,9 +51,9 @@ public sealed class TrackDispatcher : IHostedService, IAsyncDisposable
     /// Starts delivering <paramref name="fresh"/> (newly committed measurements by vehicle id) to the grains of
     /// <paramref name="fleetId"/>. The returned outer task completes once the delivery has a slot; the inner task
     /// when every grain has processed its measurements (it never faults: failures are logged).
-    /// <paramref name="commitSequence"/> is the <see cref="CommitClock"/> number of the commit that stored them.
+    /// <paramref name="transactionId"/> is the PostgreSQL transaction id of the commit that stored them (0 when unknown).
     /// </summary>
-    public async Task<Task> DispatchAsync(Guid fleetId, IReadOnlyDictionary<string, List<TrackMeasurement>> fresh, long commitSequence)
+    public async Task<Task> DispatchAsync(Guid fleetId, IReadOnlyDictionary<string, List<TrackMeasurement>> fresh, long transactionId)
     {
         ArgumentNullException.ThrowIfNull(fresh);
         if (fresh.Count == 0)
@@ -87,7 +85,7 @@ public sealed class TrackDispatcher : IHostedService, IAsyncDisposable
             }
         }
 
-        var delivery = DeliverAsync(fleetId, ordered, new CommitStamp(_clock.InstanceId, commitSequence), committedAt);
+        var delivery = DeliverAsync(fleetId, ordered, new CommitStamp(transactionId), committedAt);
         _inFlight.TryAdd(delivery, true);
         _ = delivery.ContinueWith(
             (done, state) =>

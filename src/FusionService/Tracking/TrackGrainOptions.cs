@@ -44,6 +44,15 @@ public sealed class TrackGrainOptions
     [Range(0.1, 600)]
     public double DrainTimeoutS { get; set; } = 10;
 
+    /// <summary>
+    /// Data-time minutes before the restored checkpoint in which an activating track looks for stored measurements
+    /// that no verdict has judged (pending: a process killed between a commit and the track's verdicts). They lie at or
+    /// before the checkpoint, which the track cannot go back behind, so they are judged too late; without this they would
+    /// stay pending for good. Older pending rows are left as they are. 0 turns the look-back off. Default 60.
+    /// </summary>
+    [Range(0, 1440)]
+    public double PendingLookBackMin { get; set; } = 60;
+
     /// <summary>Largest number of track grains reading or writing the store at once (restores, checkpoints). Default 8.</summary>
     [Range(1, 1000)]
     public int MaxConcurrentStoreCalls { get; set; } = 8;

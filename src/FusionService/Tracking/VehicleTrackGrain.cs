@@ -33,7 +33,7 @@ internal sealed class VehicleTrackGrain(
     IOptions<DatabaseOptions> databaseOptions,
     TimeProvider time,
     AlertPublisher alerts,
-    Ingest.CommitClock commits,
+    IClusterMembershipService membership,
     ILogger<VehicleTrackGrain> logger) : Grain, IVehicleTrackGrain, ITrackObserver
 {
     private readonly List<MeasurementOutcomeUpdate> _outcomes = [];
@@ -59,19 +59,23 @@ internal sealed class VehicleTrackGrain(
     private long _lastTicket;
     private (TrackState State, Measurement Last, long Ticket)? _candidate;
 
-    // Commits of this process up to this number were finished before the restore read the store, so it holds them.
-    private long _restoredThrough;
+    // The commits the restore's read saw (any process's): a delivery of one of them is already in the track.
+    private CommitSnapshot? _restored;
+
+    // Processes of the cluster declared dead when the track last looked at the store (see CatchUpAfterDeathsAsync).
+    private int _deadSeen;
 
     public override async Task OnActivateAsync(CancellationToken cancellationToken)
     {
         (_fleetId, _vehicleId) = GrainKeys.Parse(this.GetPrimaryKeyString());
+        _deadSeen = DeadProcesses();
         _monitor = alerts.CreateMonitor(_fleetId, _vehicleId);
         var checkpoint = await gate.RunAsync(
             () => new FilterCheckpointRepository(database.DataSource).NewestCheckpointBeforeAsync(_fleetId, _vehicleId, long.MaxValue, cancellationToken),
             cancellationToken);
-        _restoredThrough = commits.Now;
         long nowUs = (time.GetUtcNow().UtcTicks - DateTime.UnixEpoch.Ticks) / 10;
         long fromUs = nowUs - ((databaseOptions.Value.DaysBack + 1) * 86_400_000_000L);
+        long fromFloorUs = fromUs;
         Measurement? floor = null;
         if (checkpoint is { } row && row.PayloadVersion == TrackStateCodec.Version)
         {
@@ -83,9 +87,10 @@ internal sealed class VehicleTrackGrain(
             _lastHistoryUs = last.TimeUs;
         }
 
-        var stored = await gate.RunAsync(
-            () => new MeasurementRepository(database.DataSource).ReadAsync(_fleetId, _vehicleId, fromUs, nowUs + (7 * 86_400_000_000L), cancellationToken),
+        var (stored, snapshot) = await gate.RunAsync(
+            () => new MeasurementRepository(database.DataSource).ReadWithSnapshotAsync(_fleetId, _vehicleId, fromUs, nowUs + (7 * 86_400_000_000L), cancellationToken),
             cancellationToken);
+        _restored = snapshot;
         int replayed = 0;
         foreach (var s in stored)
         {
@@ -102,6 +107,30 @@ internal sealed class VehicleTrackGrain(
 
             _track.Process(m, this);
             replayed++;
+        }
+
+        if (floor is { } restoredFloor && options.Value.PendingLookBackMin > 0)
+        {
+            // Stored at or before the checkpoint but never judged (a kill between a commit and its verdicts): the track
+            // cannot go back behind its checkpoint, so they are too late; judged now, they are pending no longer.
+            long lookBackUs = (long)Math.Round(options.Value.PendingLookBackMin * 6e7);
+            var pending = await gate.RunAsync(
+                () => new MeasurementRepository(database.DataSource).ReadPendingAsync(
+                    _fleetId, _vehicleId, Math.Max(restoredFloor.TimeUs - lookBackUs, fromFloorUs), restoredFloor.TimeUs + 1, cancellationToken),
+                cancellationToken);
+            foreach (var s in pending)
+            {
+                var m = Measurement.FromStored(s.TimeUs, ((ulong)(byte)s.Kind << 56) | (ulong)s.MessageKey, s.V0, s.V1 ?? double.NaN, (float)(s.V2 ?? 0));
+                if (VehicleTrack.CompareKey(m, restoredFloor) <= 0)
+                {
+                    _track.Process(m, this);
+                }
+            }
+
+            if (pending.Count > 0)
+            {
+                logger.LogInformation("Track {Key} judged {Count} stored measurements left pending before its checkpoint", this.GetPrimaryKeyString(), pending.Count);
+            }
         }
 
         _lastPersistAt = time.GetUtcNow();
@@ -128,7 +157,8 @@ internal sealed class VehicleTrackGrain(
     public async Task ProcessAsync(TrackMeasurement[] batch, CommitStamp stamp)
     {
         ArgumentNullException.ThrowIfNull(batch);
-        if (stamp.InstanceId == commits.InstanceId && stamp.Sequence > 0 && stamp.Sequence <= _restoredThrough)
+        await CatchUpAfterDeathsAsync();
+        if (_restored is { } restored && restored.Holds(stamp.TransactionId))
         {
             // Committed before this activation read the store: the restore processed these already, in order.
             return;
@@ -148,7 +178,8 @@ internal sealed class VehicleTrackGrain(
         }
         catch (FusionService.Estimation.Filtering.FilterDivergenceException ex)
         {
-            // The measurements are stored; the next activation rebuilds the track from the store.
+            // The core judges a measurement it fails on unusable and goes on, so this is a last line of defence only. The
+            // measurements are stored; the next activation rebuilds the track from the store.
             logger.LogError(ex, "Track {Key} diverged; deactivating it so that it is rebuilt from the store", this.GetPrimaryKeyString());
             _outcomes.Clear();
             _states.Clear();
@@ -177,12 +208,57 @@ internal sealed class VehicleTrackGrain(
         }
     }
 
-    public Task<VehicleStateSnapshot?> GetStateAsync()
+    public async Task<VehicleStateSnapshot?> GetStateAsync()
+    {
+        await CatchUpAfterDeathsAsync();
+        return Snapshot();
+    }
+
+    /// <summary>
+    /// A process that dies between a commit and the delivery of its batch leaves those rows pending, and a track living
+    /// elsewhere never hears of them (a track in the dead process is rebuilt from the store anyway). So once more
+    /// processes of the cluster have been declared dead than when the track last looked, it reads its vehicle's pending
+    /// rows from <see cref="TrackGrainOptions.PendingLookBackMin"/> before its newest data on, under a snapshot, and
+    /// processes them (late data inside the window is fused in order; older is judged too late). Deliveries of commits
+    /// that snapshot holds are then skipped, as after a restore.
+    /// </summary>
+    private async Task CatchUpAfterDeathsAsync()
+    {
+        int dead = DeadProcesses();
+        if (dead == _deadSeen)
+        {
+            return;
+        }
+
+        _deadSeen = dead;
+        long nowUs = (time.GetUtcNow().UtcTicks - DateTime.UnixEpoch.Ticks) / 10;
+        long lookBackUs = (long)Math.Round(Math.Max(options.Value.PendingLookBackMin, 1) * 6e7);
+        long fromUs = _track.NewestTimeUs == long.MinValue
+            ? nowUs - ((databaseOptions.Value.DaysBack + 1) * 86_400_000_000L)
+            : _track.NewestTimeUs - lookBackUs;
+        var (pending, snapshot) = await gate.RunAsync(
+            () => new MeasurementRepository(database.DataSource).ReadPendingWithSnapshotAsync(_fleetId, _vehicleId, fromUs, nowUs + (7 * 86_400_000_000L)));
+        foreach (var s in pending)
+        {
+            _track.Process(Measurement.FromStored(s.TimeUs, ((ulong)(byte)s.Kind << 56) | (ulong)s.MessageKey, s.V0, s.V1 ?? double.NaN, (float)(s.V2 ?? 0)), this);
+        }
+
+        _restored = snapshot;
+        if (pending.Count > 0)
+        {
+            logger.LogInformation("Track {Key} took {Count} stored measurements whose delivery died with another process", this.GetPrimaryKeyString(), pending.Count);
+            FlushWrites();
+        }
+    }
+
+    private int DeadProcesses() => membership.CurrentSnapshot.Members.Values.Count(m => m.Status == Orleans.Runtime.SiloStatus.Dead);
+
+    private VehicleStateSnapshot? Snapshot()
     {
         ref readonly TrackState s = ref _track.Current;
         if (!s.HasPlane || s.Phase != TrackPhase.Running)
         {
-            return Task.FromResult<VehicleStateSnapshot?>(null);
+            return null;
         }
 
         var position = TrackProcessor.PositionOf(s);
@@ -199,8 +275,7 @@ internal sealed class VehicleTrackGrain(
         }
 
         const string phase = "running";
-        return Task.FromResult<VehicleStateSnapshot?>(new VehicleStateSnapshot(
-            s.TimeUs, phase, position.LatitudeDeg, position.LongitudeDeg, x, p, [.. _lastBySensor], s.Resets));
+        return new VehicleStateSnapshot(s.TimeUs, phase, position.LatitudeDeg, position.LongitudeDeg, x, p, [.. _lastBySensor], s.Resets);
     }
 
     public async Task RebuildAsync(long fromUs)
@@ -367,6 +442,7 @@ internal sealed class VehicleTrackGrain(
         OutcomeKind.TooLate => StoredOutcome.TooLate,
         OutcomeKind.Initialising => StoredOutcome.Initialising,
         OutcomeKind.BeforeStart => StoredOutcome.BeforeStart,
+        OutcomeKind.Unusable => StoredOutcome.Unusable,
         _ => StoredOutcome.Unused,
     };
 

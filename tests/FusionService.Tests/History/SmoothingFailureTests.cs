@@ -11,8 +11,10 @@ public sealed class SmoothingFailureTests(ServiceFixture fixture)
 {
     /// <summary>
     /// The read hands rows to the replay through a few reused chunk arrays, so a replay that stops early returns no more
-    /// of them: the read must then stop too. A wheel speed stored as NaN (never accepted by ingest; written straight into
-    /// the store here) makes the filter refuse its update 30 s into 110,000 rows, far more than the arrays in flight hold.
+    /// of them: the read must then stop too. A wheel row whose message key has more than 56 bits (never written by ingest;
+    /// written straight into the store here) reads back out of canonical order, which the replay refuses, 30 s into
+    /// 110,000 rows, far more than the arrays in flight hold. (A value the filter fails on numerically no longer stops the
+    /// replay: it is skipped, issue 13.)
     /// </summary>
     [Fact]
     public async Task A_replay_that_fails_early_in_a_long_window_ends_the_request_with_a_server_error()
@@ -36,7 +38,10 @@ public sealed class SmoothingFailureTests(ServiceFixture fixture)
 
         var rows = measurements.Select(m => IngestPipeline.ToRow(fleet.Id, Vehicle, m, DateTime.UtcNow)).ToList();
         int poisoned = rows.FindIndex(r => r.Kind == (short)SensorKind.WheelSpeed && r.TimeUs >= startUs + 30_000_000);
-        rows[poisoned] = rows[poisoned] with { V0 = double.NaN };
+        // A message key with more than the 56 bits keys have: its top bits read back as part of the kind (an IMU sample
+        // with the largest key), which sorts after the IMU sample stored beside it, so the replay meets it out of order.
+        rows[poisoned] = rows[poisoned] with { MessageKey = (long)((1UL << 57) - 1) };
+        rows.Insert(poisoned + 1, IngestPipeline.ToRow(fleet.Id, Vehicle, Measurement.Imu(rows[poisoned].TimeUs, key, 0.0, 0.0), DateTime.UtcNow));
         await fixture.StoreWithoutTrackAsync(rows);
 
         using var client = fixture.Client(fleet.ReadKey);

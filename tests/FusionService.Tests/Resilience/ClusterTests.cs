@@ -1,8 +1,6 @@
 // Two service processes on one PostgreSQL form one Orleans cluster (Orleans:ClusterMode=Postgres): one track per
 // vehicle whichever process the messages reach, and the survivor serves the vehicle after the other is killed.
 using System.Diagnostics;
-using System.Globalization;
-using System.Net.Http.Headers;
 using System.Security.Cryptography;
 using FusionService.Tests.Infrastructure;
 using FusionService.Vehicles;
@@ -22,14 +20,14 @@ public sealed class ClusterTests(ServiceFixture fixture, ITestOutputHelper outpu
         int third = drive.Messages.Count / 3;
         string clusterId = "test-" + Convert.ToHexStringLower(RandomNumberGenerator.GetBytes(4));
 
-        using var a = StartServiceProcess(clusterId, out var urlA);
-        using var b = StartServiceProcess(clusterId, out var urlB);
-        using var clientA = Client(urlA, fleet.IngestKey);
-        using var clientB = Client(urlB, fleet.IngestKey);
-        using var readA = Client(urlA, fleet.ReadKey);
-        using var readB = Client(urlB, fleet.ReadKey);
-        await ServiceProcessReadiness.WaitUntilReadyAsync(clientA, a);
-        await ServiceProcessReadiness.WaitUntilReadyAsync(clientB, b);
+        using var a = StartServiceProcess(clusterId);
+        using var b = StartServiceProcess(clusterId);
+        using var clientA = a.Client(fleet.IngestKey);
+        using var clientB = b.Client(fleet.IngestKey);
+        using var readA = a.Client(fleet.ReadKey);
+        using var readB = b.Client(fleet.ReadKey);
+        await a.WaitUntilReadyAsync();
+        await b.WaitUntilReadyAsync();
 
         // Both processes are members of the cluster (rows of the migration's membership table, status 3 = Active
         // in Orleans' SiloStatus).
@@ -47,8 +45,7 @@ public sealed class ClusterTests(ServiceFixture fixture, ITestOutputHelper outpu
         Assert.Equal(expected, await readB.StateAsync(Vehicle));
 
         // Kill -9 the process hosting the track; B serves the vehicle again once Orleans has declared A dead.
-        a.Kill(entireProcessTree: true);
-        await a.WaitForExitAsync();
+        await a.KillAsync();
         var clock = Stopwatch.StartNew();
         VehicleStateResponse? again = null;
         while (again is null && clock.Elapsed < TimeSpan.FromSeconds(90))
@@ -80,50 +77,13 @@ public sealed class ClusterTests(ServiceFixture fixture, ITestOutputHelper outpu
         Assert.Equal(all.Response(Vehicle), await readB.StateAsync(Vehicle));
         Assert.Equal(drive.Messages.Sum(m => m.Core.Length), await fixture.CountAsync("SELECT count(*) FROM measurements WHERE fleet_id = $1", fleet.Id));
 
-        b.Kill(entireProcessTree: true);
-        await b.WaitForExitAsync();
+        await b.KillAsync();
     }
 
-    private static HttpClient Client(string url, string key)
+    private ServiceProcess StartServiceProcess(string clusterId)
     {
-        var client = new HttpClient { BaseAddress = new Uri(url) };
-        client.DefaultRequestHeaders.Authorization = new AuthenticationHeaderValue("Bearer", key);
-        return client;
-    }
-
-    private Process StartServiceProcess(string clusterId, out string url)
-    {
-        string dll = typeof(Program).Assembly.Location;
-        string address = "http://127.0.0.1:" + FreePort.Next().ToString(CultureInfo.InvariantCulture);
-        url = address;
-        var start = new ProcessStartInfo("dotnet")
-        {
-            WorkingDirectory = Path.GetDirectoryName(dll)!,
-            RedirectStandardOutput = true,
-            RedirectStandardError = true,
-            UseShellExecute = false,
-        };
-        start.ArgumentList.Add(dll);
-        start.Environment["ConnectionStrings__Fusion"] = fixture.ConnectionString;
-        start.Environment["ASPNETCORE_URLS"] = address;
-        start.Environment["Orleans__ClusterMode"] = "Postgres";
-        start.Environment["Orleans__ClusterId"] = clusterId;
-        start.Environment["Orleans__AdvertisedAddress"] = "127.0.0.1";
-        start.Environment["Orleans__SiloPort"] = FreePort.Next().ToString(CultureInfo.InvariantCulture);
-        start.Environment["Orleans__GatewayPort"] = "0";
-        // Faster failure detection than Orleans' defaults, so that the test does not wait long for the death vote.
-        start.Environment["Orleans__ProbeTimeoutS"] = "1";
-        start.Environment["Orleans__MissedProbesLimit"] = "2";
-        start.Environment["Ingest__AcknowledgeAfter"] = "Tracking";
-        start.Environment["Ingest__MaxFutureSkewS"] = "60";
-        start.Environment["Security__KeyCacheSeconds"] = "0";
-        start.Environment["Serilog__MinimumLevel__Default"] = "Warning";
-        start.Environment["Serilog__MinimumLevel__Override__Orleans"] = "Error";
-        var process = Process.Start(start)!;
-        process.OutputDataReceived += (_, e) => { if (e.Data is not null) { output.WriteLine("[" + address + "] " + e.Data); } };
-        process.ErrorDataReceived += (_, e) => { if (e.Data is not null) { output.WriteLine("[" + address + " err] " + e.Data); } };
-        process.BeginOutputReadLine();
-        process.BeginErrorReadLine();
-        return process;
+        var environment = ServiceProcess.Cluster(clusterId);
+        environment["Ingest__AcknowledgeAfter"] = "Tracking";
+        return ServiceProcess.Start(fixture.ConnectionString, output, environment);
     }
 }

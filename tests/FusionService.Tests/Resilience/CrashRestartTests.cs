@@ -1,8 +1,5 @@
 // A crash (the process killed, no clean stop) mid-stream: nothing acknowledged is lost and the rebuilt track equals
 // an uninterrupted run's.
-using System.Diagnostics;
-using System.Globalization;
-using System.Net.Http.Headers;
 using FusionService.Tests.Infrastructure;
 using Xunit.Abstractions;
 
@@ -22,19 +19,16 @@ public sealed class CrashRestartTests(ServiceFixture fixture, ITestOutputHelper 
 
         // The service as a real process, acknowledging after the commit (the default), killed with SIGKILL while
         // its tracks may still hold unwritten outcomes, fused states and checkpoints.
-        int port = FreePort.Next();
-        using (var service = StartServiceProcess(port))
+        using (var service = ServiceProcess.Start(fixture.ConnectionString, output: null))
         {
-            using var client = new HttpClient { BaseAddress = new Uri("http://127.0.0.1:" + port.ToString(CultureInfo.InvariantCulture)) };
-            await ServiceProcessReadiness.WaitUntilReadyAsync(client, service);
-            client.DefaultRequestHeaders.Authorization = new AuthenticationHeaderValue("Bearer", fleet.IngestKey);
+            await service.WaitUntilReadyAsync();
+            using var client = service.Client(fleet.IngestKey);
             for (int from = 0; from < KillAfter; from += 100)
             {
                 acknowledged += (await client.IngestOkAsync(drive.Body(from, Math.Min(from + 100, KillAfter)))).Accepted;
             }
 
-            service.Kill(entireProcessTree: true);
-            await service.WaitForExitAsync();
+            await service.KillAsync();
         }
 
         Assert.Equal(KillAfter, acknowledged);
@@ -59,31 +53,5 @@ public sealed class CrashRestartTests(ServiceFixture fixture, ITestOutputHelper 
             await second.Services.GetRequiredService<FusionService.Tracking.TrackWriteQueue>().FlushAsync(CancellationToken.None);
             Assert.Equal(0, await fixture.CountAsync("SELECT count(*) FROM " + JudgedSql.OfFleet + " WHERE outcome = 4", fleet.Id));
         }
-    }
-
-    private Process StartServiceProcess(int port)
-    {
-        string dll = typeof(Program).Assembly.Location;
-        var start = new ProcessStartInfo("dotnet")
-        {
-            WorkingDirectory = Path.GetDirectoryName(dll)!,
-            RedirectStandardOutput = true,
-            RedirectStandardError = true,
-            UseShellExecute = false,
-        };
-        start.ArgumentList.Add(dll);
-        start.Environment["ConnectionStrings__Fusion"] = fixture.ConnectionString;
-        start.Environment["ASPNETCORE_URLS"] = "http://127.0.0.1:" + port.ToString(CultureInfo.InvariantCulture);
-        start.Environment["Orleans__SiloPort"] = FreePort.Next().ToString(CultureInfo.InvariantCulture);
-        start.Environment["Orleans__GatewayPort"] = "0";
-        start.Environment["Ingest__MaxFutureSkewS"] = "60";
-        start.Environment["Security__KeyCacheSeconds"] = "0";
-        start.Environment["Serilog__MinimumLevel__Default"] = "Warning";
-        var process = Process.Start(start)!;
-        process.OutputDataReceived += (_, e) => { };
-        process.ErrorDataReceived += (_, e) => { };
-        process.BeginOutputReadLine();
-        process.BeginErrorReadLine();
-        return process;
     }
 }
