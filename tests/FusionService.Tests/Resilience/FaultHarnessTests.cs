@@ -29,6 +29,7 @@ namespace FusionService.Tests.Resilience;
 /// bit for bit, the estimation core run uninterrupted on the same messages (<see cref="TrackOracle"/>).
 /// </summary>
 [Collection(ServiceTests.Name)]
+[Trait("Category", "FaultHarness")]
 public sealed class FaultHarnessTests(ServiceFixture fixture, ITestOutputHelper output)
 {
     private const int VehiclesPerPhase = 4;
