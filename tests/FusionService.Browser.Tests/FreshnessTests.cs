@@ -60,6 +60,11 @@ public sealed class FreshnessTests(DashboardFixture fixture)
         Assert.NotEqual("—", row.FindElement(By.CssSelector("td.col-heading")).Text);
         Assert.EndsWith("mph", row.FindElement(By.CssSelector("td.col-speed")).Text, StringComparison.Ordinal);
         Assert.EndsWith("UTC", row.FindElement(By.CssSelector("td.col-age .muted")).Text, StringComparison.Ordinal);
+        // The age of each sensor, from the API's last_received_by_sensor: the van sends GNSS, wheel and IMU.
+        string heard = row.FindElement(By.CssSelector("td.col-age .sensor-ages")).Text;
+        Assert.Contains("GNSS", heard, StringComparison.Ordinal);
+        Assert.Contains("wheel", heard, StringComparison.Ordinal);
+        Assert.Contains("IMU", heard, StringComparison.Ordinal);
         Assert.EndsWith("ft", row.FindElement(By.CssSelector("td.col-ellipse")).Text, StringComparison.Ordinal);
         page.Screenshot("freshness-moving");
 

@@ -31,6 +31,16 @@ export function vanCondition(van, seen, nowMs, silentAfterS) {
   return { state: Math.abs(van.speed_mps) >= STANDING_BELOW_MPS ? 'moving' : 'stopped', quietS };
 }
 
+const SENSOR_LABELS = [['gnss', 'GNSS'], ['wheel', 'wheel'], ['imu', 'IMU']];
+
+/** When each sensor of the van was last heard, as a small line under the estimate's age (empty if the API gives none). */
+function sensorAges(van, nowMs) {
+  const heard = van.last_received_by_sensor;
+  if (!heard) return '';
+  const parts = SENSOR_LABELS.filter(([key]) => heard[key]).map(([key, label]) => `${label} ${age(heard[key], nowMs)}`);
+  return parts.length ? `<div class="muted small sensor-ages">heard: ${escapeHtml(parts.join(' · '))}</div>` : '';
+}
+
 export class FleetView {
   constructor(root, settings, onOpenVan, baseLayer) {
     this.root = root;
@@ -200,7 +210,7 @@ export class FleetView {
       tr.attr('data-state', c.state).attr('data-age-s', Math.round((now - Date.parse(v.time)) / 1000));
       tr.select('td.col-state').html(`<span class="badge badge-${c.state}">${STATE_WORDS[c.state]}</span>`);
       tr.select('td.col-age').attr('title', `estimate at ${clock(v.time)}`)
-        .html(`${escapeHtml(age(v.time, now))} <span class="muted small">${escapeHtml(clock(v.time))}</span>`);
+        .html(`${escapeHtml(age(v.time, now))} <span class="muted small">${escapeHtml(clock(v.time))}</span>${sensorAges(v, now)}`);
       tr.select('td.col-speed').attr('class', 'col-speed n').text(speed(v.speed_mps));
       tr.select('td.col-heading').attr('class', 'col-heading n')
         .attr('title', c.state === 'moving' ? null : 'not shown for a van that stands or is silent: it says nothing then')
