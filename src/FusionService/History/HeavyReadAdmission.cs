@@ -46,7 +46,19 @@ public static class HeavyReadAdmission
             http.Response.RegisterForDispose(slot);
             try
             {
-                return await next(context).ConfigureAwait(false);
+                try
+                {
+                    return await next(context).ConfigureAwait(false);
+                }
+                catch (NpgsqlException ex) when (!http.Response.HasStarted && !http.RequestAborted.IsCancellationRequested
+                    && ex is not PostgresException { SqlState: PostgresErrorCodes.QueryCanceled })
+                {
+                    // After a restart of PostgreSQL the read pool still holds connections the server closed; the first read
+                    // on each fails although the server is back. Nothing has been sent yet: drop the pool's idle
+                    // connections and read once more on a fresh one.
+                    http.RequestServices.GetRequiredService<FusionDatabase>().ReadDataSource.Clear();
+                    return await next(context).ConfigureAwait(false);
+                }
             }
             catch (NpgsqlException ex) when (!http.Response.HasStarted && !http.RequestAborted.IsCancellationRequested)
             {

@@ -52,7 +52,17 @@ internal sealed class ApiKeyFilter(ApiKeyRole[] roles) : IEndpointFilter
         {
             try
             {
-                caller = await resolver.ResolveAsync(secret, http.RequestAborted).ConfigureAwait(false);
+                try
+                {
+                    caller = await resolver.ResolveAsync(secret, http.RequestAborted).ConfigureAwait(false);
+                }
+                catch (NpgsqlException) when (!http.RequestAborted.IsCancellationRequested)
+                {
+                    // After a restart of PostgreSQL the pool still holds connections the server closed; the first lookup on
+                    // each fails although the server is back. Drop the idle ones and look up once more on a fresh one.
+                    http.RequestServices.GetRequiredService<Database.FusionDatabase>().DataSource.Clear();
+                    caller = await resolver.ResolveAsync(secret, http.RequestAborted).ConfigureAwait(false);
+                }
             }
             catch (Exception ex) when (ex is NpgsqlException or InvalidOperationException or TimeoutException)
             {

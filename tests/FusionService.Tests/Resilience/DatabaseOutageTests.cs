@@ -8,6 +8,29 @@ namespace FusionService.Tests.Resilience;
 public sealed class DatabaseOutageTests(ServiceFixture fixture)
 {
     [Fact]
+    public async Task A_history_read_after_the_database_restarted_is_answered_at_once()
+    {
+        var fleet = await fixture.NewFleetAsync();
+        var drive = TelemetryDrive.Create("van-reread", TelemetryDrive.StartUs(TimeSpan.FromMinutes(4)), seed: 62);
+        await using var host = new ServiceFactory(fixture.ConnectionString, new Dictionary<string, string?> { ["Security:KeyCacheSeconds"] = "60" });
+        await fixture.Client(fleet.IngestKey, host).IngestOkAsync(drive.Body(0, 200));
+        using var read = fixture.Client(fleet.ReadKey, host);
+        string from = DateTimeOffset.UtcNow.AddMinutes(-10).ToUnixTimeMilliseconds().ToString(System.Globalization.CultureInfo.InvariantCulture);
+        string to = DateTimeOffset.UtcNow.ToUnixTimeMilliseconds().ToString(System.Globalization.CultureInfo.InvariantCulture);
+        string track = "/v1/vehicles/van-reread/track?kind=raw&format=csv&from=" + from + "&to=" + to;
+        using (var before = await read.GetAsync(track))
+        {
+            Assert.Equal(HttpStatusCode.OK, before.StatusCode);
+        }
+
+        // The history reads' pool now holds an idle connection; a restart of PostgreSQL closes it on the server's side.
+        await fixture.StopServerAsync();
+        await fixture.StartServerAsync();
+        using var after = await read.GetAsync(track);
+        Assert.Equal(HttpStatusCode.OK, after.StatusCode);
+    }
+
+    [Fact]
     public async Task Ingest_answers_503_while_the_database_is_down_and_recovers_without_loss()
     {
         var fleet = await fixture.NewFleetAsync();
