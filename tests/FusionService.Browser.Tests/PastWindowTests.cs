@@ -42,9 +42,21 @@ public sealed class PastWindowTests(DashboardFixture fixture)
         Assert.False(page.Visible("#window-live"), "a past window must not say it follows new data");
         Assert.Equal("custom", page.Driver.FindElement(By.Id("vehicle-window")).GetDomProperty("value"));
 
-        // The drawn paths hold the window's points only: every smoothed point's time lies in [from, to).
-        DashboardPage.WaitFor(() => int.Parse(page.Driver.FindElement(By.Id("smoothed-path")).GetDomAttribute("data-points") ?? "0", CultureInfo.InvariantCulture) > 100,
+        // The drawn paths hold the window's points only: every smoothed point's time lies in [from, to). The path of the
+        // window shown before may still be drawn for a moment (a clean-clone run read 940 points of it), so wait until the
+        // drawn path starts inside the picked window.
+        long fromMs = from.ToUnixTimeMilliseconds(), toMs = to.ToUnixTimeMilliseconds();
+        DashboardPage.WaitFor(
+            () =>
+            {
+                var path = page.Driver.FindElement(By.Id("smoothed-path"));
+                return int.Parse(path.GetDomAttribute("data-points") ?? "0", CultureInfo.InvariantCulture) > 100
+                    && long.TryParse(path.GetDomAttribute("data-first-ms"), CultureInfo.InvariantCulture, out long firstMs) && firstMs >= fromMs;
+            },
             TimeSpan.FromSeconds(60), "the smoothed path of the window");
+        var smoothedPath = page.Driver.FindElement(By.Id("smoothed-path"));
+        Assert.InRange(long.Parse(smoothedPath.GetDomAttribute("data-first-ms")!, CultureInfo.InvariantCulture), fromMs, toMs - 1);
+        Assert.InRange(long.Parse(smoothedPath.GetDomAttribute("data-last-ms")!, CultureInfo.InvariantCulture), fromMs, toMs - 1);
         string bounds = (string)page.Script("""
             const s = document.getElementById('scrubber');
             return `${s.min} ${s.max}`;

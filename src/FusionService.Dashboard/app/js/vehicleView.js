@@ -283,7 +283,8 @@ export class VehicleView {
     for (const [kind, id] of paths) {
       const pts = this.tracks[kind];
       layers.selectAll(`path#${id}`).data([pts]).join('path').attr('id', id).attr('class', `track ${id}`)
-        .attr('data-points', pts.length).attr('d', pts.length > 1 ? this.line(pts) : null);
+        .attr('data-points', pts.length).attr('d', pts.length > 1 ? this.line(pts) : null)
+        .attr('data-first-ms', pts.length ? pts[0].timeMs : null).attr('data-last-ms', pts.length ? pts[pts.length - 1].timeMs : null);
     }
     // Paths above the fixes; the selection marker above both.
     layers.selectAll('g.selected').raise();
