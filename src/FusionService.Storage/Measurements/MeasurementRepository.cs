@@ -59,24 +59,9 @@ public sealed class MeasurementRepository(NpgsqlDataSource dataSource)
     /// <param name="toUs">Exclusive end, Unix microseconds.</param>
     /// <param name="cancellationToken">Cancels the query.</param>
     /// <returns>The rows, <see cref="MeasurementRow.ReceivedAtUtc"/> with Kind=Utc.</returns>
-    public async Task<IReadOnlyList<MeasurementRow>> ReadAsync(
+    public Task<IReadOnlyList<MeasurementRow>> ReadAsync(
         Guid fleetId, string vehicleId, long fromUs, long toUs, CancellationToken cancellationToken = default)
-    {
-        ArgumentNullException.ThrowIfNull(vehicleId);
-        if (toUs <= fromUs)
-        {
-            return [];
-        }
-
-        var parameters = TimeRangeParameters.For(fleetId, vehicleId, fromUs, toUs);
-        var connection = await _dataSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
-        await using (connection.ConfigureAwait(false))
-        {
-            var rows = await connection.QueryAsync<MeasurementRow>(
-                new CommandDefinition(RangeSql, parameters, cancellationToken: cancellationToken)).ConfigureAwait(false);
-            return rows.AsList();
-        }
-    }
+        => ReadRangeAsync(RangeSql, fleetId, vehicleId, fromUs, toUs, cancellationToken);
 
     /// <summary>
     /// <see cref="ReadAsync"/> in a read-only repeatable-read transaction, with the snapshot it read under: the commits
@@ -141,8 +126,12 @@ public sealed class MeasurementRepository(NpgsqlDataSource dataSource)
     /// <param name="fromUs">Inclusive start, Unix microseconds.</param>
     /// <param name="toUs">Exclusive end, Unix microseconds.</param>
     /// <param name="cancellationToken">Cancels the query.</param>
-    public async Task<IReadOnlyList<MeasurementRow>> ReadPendingAsync(
+    public Task<IReadOnlyList<MeasurementRow>> ReadPendingAsync(
         Guid fleetId, string vehicleId, long fromUs, long toUs, CancellationToken cancellationToken = default)
+        => ReadRangeAsync(PendingRangeSql, fleetId, vehicleId, fromUs, toUs, cancellationToken);
+
+    private async Task<IReadOnlyList<MeasurementRow>> ReadRangeAsync(
+        string sql, Guid fleetId, string vehicleId, long fromUs, long toUs, CancellationToken cancellationToken)
     {
         ArgumentNullException.ThrowIfNull(vehicleId);
         if (toUs <= fromUs)
@@ -155,7 +144,7 @@ public sealed class MeasurementRepository(NpgsqlDataSource dataSource)
         await using (connection.ConfigureAwait(false))
         {
             var rows = await connection.QueryAsync<MeasurementRow>(
-                new CommandDefinition(PendingRangeSql, parameters, cancellationToken: cancellationToken)).ConfigureAwait(false);
+                new CommandDefinition(sql, parameters, cancellationToken: cancellationToken)).ConfigureAwait(false);
             return rows.AsList();
         }
     }
