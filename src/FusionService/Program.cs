@@ -85,7 +85,6 @@ builder.Services.ConfigureHttpJsonOptions(json =>
     json.SerializerOptions.DictionaryKeyPolicy = null;
     json.SerializerOptions.DefaultIgnoreCondition = System.Text.Json.Serialization.JsonIgnoreCondition.WhenWritingNull;
 });
-builder.WebHost.ConfigureKestrel(kestrel => kestrel.Limits.MaxRequestBodySize = builder.Configuration.GetValue("Ingest:MaxBodyBytes", 4 * 1024 * 1024) + 1);
 
 var app = builder.Build();
 app.UseExceptionHandler();

@@ -3,7 +3,13 @@ using System.ComponentModel.DataAnnotations;
 
 namespace FusionService.History;
 
-/// <summary>Track history settings of section <c>Tracks</c> (shared with the track grains' settings).</summary>
+/// <summary>
+/// Settings of section <c>Tracks</c> that the history reads use (track, distance, smoothing replay, warm-up, streaming).
+/// The same section's keys for the live track grains (<c>CheckpointIntervalS</c>, <c>HistoryCheckpointSpacingMin</c>,
+/// <c>FusedStateIntervalS</c>, <c>WriteQueueCapacity</c>, <c>FlushIntervalMs</c>, <c>DrainTimeoutS</c>,
+/// <c>PendingLookBackMin</c>, <c>MaxConcurrentStoreCalls</c>) belong to <c>Tracking/TrackGrainOptions</c>. Each key belongs
+/// to one of the two classes (a test checks); the table of every setting is docs/settings.md.
+/// </summary>
 public sealed class TrackHistoryOptions
 {
     /// <summary>Configuration section name.</summary>

@@ -12,7 +12,7 @@ public static class OperationsExtensions
     /// </summary>
     public static IServiceCollection AddFusionOperations(this IServiceCollection services)
     {
-        services.AddOptions<OperationsOptions>().BindConfiguration(OperationsOptions.Section);
+        services.AddOptions<OperationsOptions>().BindConfiguration(OperationsOptions.Section).ValidateDataAnnotations().ValidateOnStart();
         services.AddSingleton<ServiceMetrics>();
         services.AddSingleton<SiloStatus>();
         services.AddSingleton<ILifecycleParticipant<ISiloLifecycle>>(sp => sp.GetRequiredService<SiloStatus>());

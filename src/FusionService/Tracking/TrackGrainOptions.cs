@@ -3,7 +3,13 @@ using System.ComponentModel.DataAnnotations;
 
 namespace FusionService.Tracking;
 
-/// <summary>Settings of section <c>Tracks</c>.</summary>
+/// <summary>
+/// Settings of section <c>Tracks</c> that the track grains read: checkpoints, fused-state spacing, the background writer,
+/// the pending look-back and the store concurrency. The same section's keys for history reads (<c>MaxWindowHours</c>,
+/// <c>SmoothedIntervalS</c>, <c>ReplayLeadHours</c>, <c>ReplayStretches</c>, <c>WarmUpRounds</c>, <c>FlushEveryPoints</c>)
+/// belong to <c>History/TrackHistoryOptions</c>. Each key belongs to one of the two classes (a test checks); the table of
+/// every setting is docs/settings.md.
+/// </summary>
 public sealed class TrackGrainOptions
 {
     /// <summary>Configuration section name.</summary>
