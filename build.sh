@@ -4,6 +4,7 @@
 #   ./build.sh run     the service with its own PostgreSQL under ./data/pg and the invented demo fleet feeding it
 #   ./build.sh serve   the service alone (no demo fleet)
 #   ./build.sh bench   run the BenchmarkDotNet suite (see docs/benchmarks.md)
+#   ./build.sh load ... | alert-latency ...   load and measuring tools against a running service (tests/FusionService.LoadTools)
 #   ./build.sh cluster-bench [SECONDS]   ingest with 1, 2, 3 processes in cluster mode, and recovery after a kill -9
 #   ./build.sh fault-harness   three service processes through kill -9, clean stop, database outage and a poison message
 set -euo pipefail
@@ -128,10 +129,16 @@ case "${1:-test}" in
     shift
     run_service "$@"
     ;;
-  keys|load|alert-latency)
-    # The same data directory as run/serve, so that these commands find the running service's embedded cluster.
+  keys)
+    # The same data directory as run/serve, so that the command finds the running service's embedded cluster.
     export Database__DataDirectory="${Database__DataDirectory:-$root/data/pg}"
     dotnet run -c Release --project src/FusionService -- "$@"
+    ;;
+  load|alert-latency)
+    # Tools against a running service (tests/FusionService.LoadTools); load's COPY comparison attaches to the same
+    # embedded cluster as run/serve.
+    export Database__DataDirectory="${Database__DataDirectory:-$root/data/pg}"
+    dotnet run -c Release --project tests/FusionService.LoadTools -- "$@"
     ;;
   bench)
     ensure_prerequisites

@@ -1,4 +1,5 @@
-// FusionService host: ingest, vehicle states, track grains, background writers; `keys create`, `load` and `demo` as commands.
+// FusionService host: ingest, vehicle states, track grains, background writers; `keys ...` and `demo` as commands
+// (the load and measuring tools are in tests/FusionService.LoadTools).
 using System.Text.Json;
 using FusionService.Alerts;
 using FusionService.Audit;
@@ -27,28 +28,6 @@ if (KeysCommand.Matches(args))
         .AddEnvironmentVariables()
         .Build();
     return await KeysCommand.RunAsync(args, configuration, Console.Out, Console.Error).ConfigureAwait(false);
-}
-
-if (AlertLatencyCommand.Matches(args))
-{
-    using var cancel = new CancellationTokenSource();
-    return await AlertLatencyCommand.RunAsync(args, Console.Out, Console.Error, cancel.Token).ConfigureAwait(false);
-}
-
-if (LoadCommand.Matches(args))
-{
-    using var cancel = new CancellationTokenSource();
-    Console.CancelKeyPress += (_, e) =>
-    {
-        e.Cancel = true;
-        cancel.Cancel();
-    };
-    var configuration = new ConfigurationBuilder()
-        .SetBasePath(AppContext.BaseDirectory)
-        .AddJsonFile("appsettings.json", optional: true)
-        .AddEnvironmentVariables()
-        .Build();
-    return await LoadCommand.RunAsync(args, configuration, Console.Out, Console.Error, cancel.Token).ConfigureAwait(false);
 }
 
 bool demo = DemoExtensions.Matches(args);

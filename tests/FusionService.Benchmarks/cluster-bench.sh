@@ -14,7 +14,8 @@ root=$(pwd)
 seconds=${1:-30}
 kill_runs=${KILL_RUNS:-3}
 dll="$root/src/FusionService/bin/Release/net10.0/FusionService.dll"
-[ -f "$dll" ] || { echo "cluster-bench: build first (dotnet build FusionService.sln -c Release)" >&2; exit 2; }
+load_dll="$root/tests/FusionService.LoadTools/bin/Release/net10.0/FusionService.LoadTools.dll"
+[ -f "$dll" ] && [ -f "$load_dll" ] || { echo "cluster-bench: build first (dotnet build FusionService.sln -c Release)" >&2; exit 2; }
 pgbin=/usr/lib/postgresql/15/bin
 work=$(mktemp -d /tmp/fusion-cluster-bench.XXXXXX)
 pids=()
@@ -71,7 +72,7 @@ for n in 1 2 3; do
   for u in "${urls[@]}"; do wait_ready "$u"; done
   loads=()
   for i in $(seq 1 "$n"); do
-    dotnet "$dll" load --url "${urls[$((i - 1))]}" --key "$ingest_key" --seconds "$seconds" --vehicles $((1000 / n)) \
+    dotnet "$load_dll" load --url "${urls[$((i - 1))]}" --key "$ingest_key" --seconds "$seconds" --vehicles $((1000 / n)) \
       --vehicle-prefix "n$n-p$i-" --copy-compare no >"$work/load-$n-$i.txt" 2>&1 &
     loads+=($!)
   done
@@ -97,7 +98,7 @@ for setting in "5 3" "1 2"; do
     start_service "kill-$probe-$run" Orleans__ProbeTimeoutS="$probe" Orleans__MissedProbesLimit="$missed"; b_url=$LAST_URL
     wait_ready "$a_url"; wait_ready "$b_url"
     prefix="kill-$probe-$run-"
-    dotnet "$dll" load --url "$a_url" --key "$ingest_key" --vehicles 1 --batches 2 --batch-size 200 --vehicle-prefix "$prefix" --copy-compare no >/dev/null
+    dotnet "$load_dll" load --url "$a_url" --key "$ingest_key" --vehicles 1 --batches 2 --batch-size 200 --vehicle-prefix "$prefix" --copy-compare no >/dev/null
     vehicle="${prefix}000000"
     curl -sf -o /dev/null -H "Authorization: Bearer $read_key" "$a_url/v1/vehicles/$vehicle/state"
     kill -9 "$a_pid"

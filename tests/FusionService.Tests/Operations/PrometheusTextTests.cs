@@ -1,5 +1,5 @@
-// The load command's reader of the service's own Prometheus text.
-using FusionService.Cli;
+// The load tool's reader of the service's own Prometheus text (tests/FusionService.LoadTools).
+using FusionService.LoadTools;
 using FusionService.Operations;
 using FusionService.Tests.Infrastructure;
 

@@ -1,7 +1,7 @@
 // Reading values and histograms back from the Prometheus text format the service writes.
 using System.Globalization;
 
-namespace FusionService.Cli;
+namespace FusionService.LoadTools;
 
 /// <summary>Minimal reader of the Prometheus text exposition format 0.0.4 for the service's own metrics.</summary>
 public static class PrometheusText

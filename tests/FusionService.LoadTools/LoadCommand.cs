@@ -1,8 +1,9 @@
 // `load --url URL --key KEY [--vehicles N] [--batches B | --seconds T] [--batch-size S] [--concurrency C] [--shape S] [--rate R] ...`.
 using System.Globalization;
 using FusionService.Simulator.Load;
+using Microsoft.Extensions.Configuration;
 
-namespace FusionService.Cli;
+namespace FusionService.LoadTools;
 
 /// <summary>
 /// The <c>load</c> command: posts synthetic telemetry for many vehicles to a running service in batches and reports

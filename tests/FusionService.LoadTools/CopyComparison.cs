@@ -5,6 +5,7 @@ using System.Text.Json;
 using FusionService.Database;
 using FusionService.Ingest;
 using FusionService.Simulator.Load;
+using Microsoft.Extensions.Configuration;
 using FusionService.Simulator.Messages;
 using FusionService.Storage.Measurements;
 using FusionService.Storage.Partitions;
@@ -12,7 +13,7 @@ using Microsoft.Extensions.Logging.Abstractions;
 using Microsoft.Extensions.Options;
 using Npgsql;
 
-namespace FusionService.Cli;
+namespace FusionService.LoadTools;
 
 /// <summary>
 /// Stores the very rows a load run posted (the same synthetic batches, parsed by the service's own parser) with plain

@@ -7,7 +7,7 @@ using System.Net.Sockets;
 using System.Text;
 using System.Text.Json.Nodes;
 
-namespace FusionService.Cli;
+namespace FusionService.LoadTools;
 
 /// <summary>
 /// The <c>alert-latency</c> command (a measuring tool, not a test): registers a webhook on a local listener, then for each

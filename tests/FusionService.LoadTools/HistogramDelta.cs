@@ -1,5 +1,5 @@
 // Observations of a cumulative histogram between two scrapes.
-namespace FusionService.Cli;
+namespace FusionService.LoadTools;
 
 /// <summary>What a Prometheus histogram gained between two scrapes.</summary>
 /// <param name="Count">Observations.</param>
