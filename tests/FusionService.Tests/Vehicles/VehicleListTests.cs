@@ -41,12 +41,14 @@ public sealed class VehicleListTests(ServiceFixture fixture)
             // The row the write path keeps is the newest stored fused state of the vehicle.
             long newestUs = await fixture.CountAsync("SELECT max(time_us) FROM fused_states WHERE fleet_id = $1 AND vehicle_id = $2", fleet.Id, id);
             Assert.Equal(DateTimeOffset.UnixEpoch.AddTicks(newestUs * 10), van.GetProperty("time").GetDateTimeOffset());
-            Assert.Equal((asOf - van.GetProperty("time").GetDateTimeOffset()).TotalSeconds, van.GetProperty("estimate_age_s").GetDouble(), 2);
+            // Ages are given to the millisecond: within half of one of the exact difference (comparing both rounded to
+            // 2 decimals failed whenever the two sat either side of a rounding boundary, 0.0349 against 0.035).
+            Assert.InRange(van.GetProperty("estimate_age_s").GetDouble(), AgeS(asOf, van.GetProperty("time").GetDateTimeOffset()) - HalfMsS, AgeS(asOf, van.GetProperty("time").GetDateTimeOffset()) + HalfMsS);
 
             // Received just now by the server's clock, every sensor of the drive.
             var received = van.GetProperty("last_received_at").GetDateTimeOffset();
             Assert.InRange(received, before.AddSeconds(-1), asOf);
-            Assert.Equal((asOf - received).TotalSeconds, van.GetProperty("last_received_age_s").GetDouble(), 2);
+            Assert.InRange(van.GetProperty("last_received_age_s").GetDouble(), AgeS(asOf, received) - HalfMsS, AgeS(asOf, received) + HalfMsS);
             var bySensor = van.GetProperty("last_received_by_sensor");
             foreach (string sensor in new[] { "gnss", "wheel", "imu" })
             {
@@ -151,4 +153,9 @@ public sealed class VehicleListTests(ServiceFixture fixture)
         "INSERT INTO alerts (alert_id, fleet_id, vehicle_id, kind, severity, state, started_at, last_seen_at, count, summary, details) "
         + "VALUES (gen_random_uuid(), $1, $2, $3, $4, $5, now(), now(), 1, 'test', '{}'::jsonb)",
         fleetId, vehicle, kind, severity, state);
+
+    // Half a millisecond, plus a nanosecond for the binary representation of the rounded value.
+    private const double HalfMsS = 0.0005 + 1e-9;
+
+    private static double AgeS(DateTimeOffset asOf, DateTimeOffset time) => (asOf - time).TotalSeconds;
 }
