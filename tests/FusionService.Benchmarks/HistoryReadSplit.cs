@@ -95,7 +95,7 @@ internal static class HistoryReadSplit
                     continue;
                 }
 
-                list.Add(Measurement.FromStored(s.TimeUs, ((ulong)(byte)s.Kind << 56) | (ulong)s.MessageKey, s.V0, s.V1 ?? double.NaN, (float)(s.V2 ?? 0)));
+                list.Add(MeasurementRows.ToMeasurement(s));
             }
 
             rowByRowMs.Add(sw.Elapsed.TotalMilliseconds);
@@ -104,7 +104,7 @@ internal static class HistoryReadSplit
             read = [];
             await reader.ReadReplayMeasurementsAsync(
                 fleet, vehicle, fromUs, toUs, 0, (short)SensorKind.Imu,
-                s => read.Add(Measurement.FromStored(s.TimeUs, ((ulong)(byte)s.Kind << 56) | (ulong)s.MessageKey, s.V0, s.V1 ?? double.NaN, (float)(s.V2 ?? 0))));
+                s => read.Add(MeasurementRows.ToMeasurement(s)));
             copyMs.Add(sw.Elapsed.TotalMilliseconds);
             if (!list.SequenceEqual(read))
             {
@@ -156,7 +156,7 @@ internal static class HistoryReadSplit
             int filled = 0;
             await reader.ReadReplayMeasurementsAsync(fleet, vehicle, fromUs, toUs, 0, (short)SensorKind.Imu, s =>
             {
-                chunk[filled++] = Measurement.FromStored(s.TimeUs, ((ulong)(byte)s.Kind << 56) | (ulong)s.MessageKey, s.V0, s.V1 ?? double.NaN, (float)(s.V2 ?? 0));
+                chunk[filled++] = MeasurementRows.ToMeasurement(s);
                 if (filled == chunkLength)
                 {
                     chunks.Add(chunk);

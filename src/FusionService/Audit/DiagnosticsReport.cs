@@ -4,6 +4,7 @@ using FusionService.Estimation.Measurements;
 using FusionService.Estimation.Models;
 using FusionService.Estimation.Tracking;
 using FusionService.Storage.Audit;
+using FusionService.Storage.Measurements;
 using StoredOutcome = FusionService.Storage.Measurements.MeasurementOutcome;
 
 using FusionService.Http;
@@ -65,7 +66,7 @@ public static class DiagnosticsReport
                 continue;
             }
 
-            var m = Measurement.FromStored(0, (ulong)(byte)k << 56, sample.V0, sample.V1 ?? double.NaN, 0f);
+            var m = MeasurementRows.ToMeasurement(sample);
             int dimension = processor.InnovationDimension(m);
             AddWhitened(whitened, k, 0, sample.W0, options.WhitenessLags);
             AddWhitened(whitened, k, 1, sample.W1, options.WhitenessLags);

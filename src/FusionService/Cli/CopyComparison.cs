@@ -93,7 +93,7 @@ public static class CopyComparison
                     ?? throw new InvalidOperationException("synthetic message refused: " + rejection!.Field + " " + rejection.Reason);
                 foreach (var m in parsed.Measurements)
                 {
-                    rows.Add(IngestPipeline.ToRow(fleetId, parsed.VehicleId, m, received));
+                    rows.Add(MeasurementRows.ToRow(fleetId, parsed.VehicleId, m, received));
                 }
             }
         }

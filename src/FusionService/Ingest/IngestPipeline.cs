@@ -68,7 +68,7 @@ public sealed class IngestPipeline(
             parsed[i] = message;
             foreach (var m in message.Measurements)
             {
-                rows.Add(ToRow(fleetId, message.VehicleId, m, received));
+                rows.Add(MeasurementRows.ToRow(fleetId, message.VehicleId, m, received));
             }
         }
 
@@ -85,7 +85,7 @@ public sealed class IngestPipeline(
                 continue;
             }
 
-            var first = ToRow(fleetId, message.VehicleId, message.Measurements[0], received);
+            var first = MeasurementRows.ToRow(fleetId, message.VehicleId, message.Measurements[0], received);
             if (inserted.Remove(MeasurementKey.Of(first)))
             {
                 accepted++;
@@ -188,7 +188,7 @@ public sealed class IngestPipeline(
         {
             foreach (var m in message.Measurements)
             {
-                keys.Add(MeasurementKey.Of(ToRow(fleetId, message.VehicleId, m, received)));
+                keys.Add(MeasurementKey.Of(MeasurementRows.ToRow(fleetId, message.VehicleId, m, received)));
             }
         }
 
@@ -208,7 +208,7 @@ public sealed class IngestPipeline(
         {
             foreach (var m in message.Measurements)
             {
-                if (pending.Contains(MeasurementKey.Of(ToRow(fleetId, message.VehicleId, m, received))))
+                if (pending.Contains(MeasurementKey.Of(MeasurementRows.ToRow(fleetId, message.VehicleId, m, received))))
                 {
                     if (!fresh.TryGetValue(message.VehicleId, out var list))
                     {
@@ -223,20 +223,4 @@ public sealed class IngestPipeline(
 
     private static IReadOnlyList<DroppedField>? Dropped(ParsedMessage message) =>
         message.DroppedFields.Count > 0 ? message.DroppedFields : null;
-
-    /// <summary>The stored row of a core measurement (NaN values are stored as SQL NULL).</summary>
-    public static MeasurementRow ToRow(Guid fleetId, string vehicleId, in Measurement m, DateTime receivedUtc) => new(
-        fleetId,
-        vehicleId,
-        (short)m.Kind,
-        m.TimeUs,
-        (long)m.MessageKey,
-        receivedUtc,
-        m.Value0,
-        double.IsNaN(m.Value1) ? null : m.Value1,
-        m.Value2,
-        0,
-        StoredOutcome.Pending,
-        null,
-        false);
 }

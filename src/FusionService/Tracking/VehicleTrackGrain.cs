@@ -99,7 +99,7 @@ internal sealed class VehicleTrackGrain(
                 continue;
             }
 
-            var m = Measurement.FromStored(s.TimeUs, ((ulong)(byte)s.Kind << 56) | (ulong)s.MessageKey, s.V0, s.V1 ?? double.NaN, (float)(s.V2 ?? 0));
+            var m = MeasurementRows.ToMeasurement(s);
             if (floor is { } f && VehicleTrack.CompareKey(m, f) <= 0)
             {
                 continue;
@@ -120,7 +120,7 @@ internal sealed class VehicleTrackGrain(
                 cancellationToken);
             foreach (var s in pending)
             {
-                var m = Measurement.FromStored(s.TimeUs, ((ulong)(byte)s.Kind << 56) | (ulong)s.MessageKey, s.V0, s.V1 ?? double.NaN, (float)(s.V2 ?? 0));
+                var m = MeasurementRows.ToMeasurement(s);
                 if (VehicleTrack.CompareKey(m, restoredFloor) <= 0)
                 {
                     _track.Process(m, this);
@@ -240,7 +240,7 @@ internal sealed class VehicleTrackGrain(
             () => new MeasurementRepository(database.DataSource).ReadPendingWithSnapshotAsync(_fleetId, _vehicleId, fromUs, nowUs + (7 * 86_400_000_000L)));
         foreach (var s in pending)
         {
-            _track.Process(Measurement.FromStored(s.TimeUs, ((ulong)(byte)s.Kind << 56) | (ulong)s.MessageKey, s.V0, s.V1 ?? double.NaN, (float)(s.V2 ?? 0)), this);
+            _track.Process(MeasurementRows.ToMeasurement(s), this);
         }
 
         _restored = snapshot;

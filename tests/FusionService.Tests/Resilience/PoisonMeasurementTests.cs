@@ -2,6 +2,7 @@
 using FusionService.Alerts;
 using FusionService.Estimation.Measurements;
 using FusionService.Ingest;
+using FusionService.Storage.Measurements;
 using FusionService.Tests.Infrastructure;
 using FusionService.Tracking;
 using Microsoft.Extensions.DependencyInjection;
@@ -39,7 +40,7 @@ public sealed class PoisonMeasurementTests(ServiceFixture fixture)
                 await client.IngestOkAsync(drive.Body(from, from + 50));
             }
 
-            var row = IngestPipeline.ToRow(fleet.Id, Vehicle, poison, DateTime.UtcNow) with { V2 = 1e50 };
+            var row = MeasurementRows.ToRow(fleet.Id, Vehicle, poison, DateTime.UtcNow) with { V2 = 1e50 };
             var (inserted, sequence) = await first.Services.GetRequiredService<GroupCommitWriter>().CommitAsync([row]);
             Assert.Single(inserted);
             var fresh = new Dictionary<string, List<TrackMeasurement>>(StringComparer.Ordinal) { [Vehicle] = [TrackMeasurement.From(poison)] };
