@@ -7,6 +7,7 @@ using FusionService.Estimation.Models;
 using FusionService.Estimation.Tracking;
 using FusionService.Operations;
 using FusionService.Storage.Checkpoints;
+using FusionService.Storage.Failures;
 using FusionService.Storage.FusedStates;
 using FusionService.Storage.Measurements;
 using Microsoft.Extensions.Options;
@@ -146,7 +147,7 @@ internal sealed class VehicleTrackGrain(
         {
             await PersistCheckpointAsync();
         }
-        catch (Exception ex) when (ex is Npgsql.NpgsqlException or InvalidOperationException or TimeoutException)
+        catch (Exception ex) when (TransientDatabaseError.Is(ex))
         {
             logger.LogWarning(ex, "Track {Key} could not store its checkpoint at deactivation", this.GetPrimaryKeyString());
         }
