@@ -2,6 +2,7 @@
 using System.Globalization;
 using System.Runtime.CompilerServices;
 using Dapper;
+using FusionService.Estimation.Time;
 using FusionService.Storage.Bulk;
 using FusionService.Storage.FusedStates;
 using FusionService.Storage.Measurements;
@@ -93,8 +94,8 @@ public sealed class TrackHistoryReader
                 command.Parameters.AddWithValue("VehicleId", vehicleId);
                 command.Parameters.AddWithValue("FromUs", fromUs);
                 command.Parameters.AddWithValue("ToUs", toUs);
-                command.Parameters.AddWithValue("FromAt", new DateTimeOffset(UnixMicroseconds.ToDateTimeUtc(fromUs)));
-                command.Parameters.AddWithValue("ToAt", new DateTimeOffset(UnixMicroseconds.ToDateTimeUtc(toUs)));
+                command.Parameters.AddWithValue("FromAt", UnixMicroseconds.ToDateTimeOffset(fromUs));
+                command.Parameters.AddWithValue("ToAt", UnixMicroseconds.ToDateTimeOffset(toUs));
                 command.Parameters.AddWithValue("MinKind", minKind);
                 command.Parameters.AddWithValue("MaxKind", maxKind);
                 var reader = await command.ExecuteReaderAsync(cancellationToken).ConfigureAwait(false);

@@ -1,6 +1,6 @@
 // The filter's verdicts on stored measurements, appended by binary COPY.
+using FusionService.Estimation.Time;
 using FusionService.Storage.Bulk;
-using FusionService.Storage.Time;
 using Npgsql;
 using NpgsqlTypes;
 

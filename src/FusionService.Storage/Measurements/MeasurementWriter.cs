@@ -1,7 +1,7 @@
 // Bulk insert of measurements with PostgreSQL binary COPY.
 using System.Globalization;
+using FusionService.Estimation.Time;
 using FusionService.Storage.Bulk;
-using FusionService.Storage.Time;
 using Npgsql;
 using NpgsqlTypes;
 

@@ -1,9 +1,9 @@
 // Counts duplicate deliveries for the diagnostics (the measurement log drops them).
 using FusionService.Database;
+using FusionService.Estimation.Time;
 using FusionService.Ingest;
 using FusionService.Storage.Audit;
 using FusionService.Storage.Failures;
-using FusionService.Storage.Time;
 
 namespace FusionService.Audit;
 

@@ -3,6 +3,7 @@ using System.Text.Json;
 using FusionService.Audit;
 using FusionService.Database;
 using FusionService.Estimation.Measurements;
+using FusionService.Estimation.Time;
 using FusionService.Operations;
 using FusionService.Storage.Measurements;
 using FusionService.Tracking;
@@ -32,9 +33,9 @@ public sealed class IngestPipeline(
     /// <summary>A parser with the accepted time window as of now.</summary>
     public TelemetryMessageParser CreateParser()
     {
-        long nowUs = (time.GetUtcNow().UtcTicks - DateTime.UnixEpoch.Ticks) / 10;
+        long nowUs = UnixMicroseconds.Now(time);
         var today = DateOnly.FromDateTime(time.GetUtcNow().UtcDateTime);
-        long minUs = (today.AddDays(-database.Value.DaysBack).ToDateTime(TimeOnly.MinValue, DateTimeKind.Utc).Ticks - DateTime.UnixEpoch.Ticks) / 10;
+        long minUs = UnixMicroseconds.StartOfUtcDay(today.AddDays(-database.Value.DaysBack));
         return new TelemetryMessageParser(options.Value, minUs, nowUs + (long)(options.Value.MaxFutureSkewS * 1e6));
     }
 

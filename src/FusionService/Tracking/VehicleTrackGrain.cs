@@ -4,6 +4,7 @@ using FusionService.Database;
 using FusionService.Estimation.Diagnostics;
 using FusionService.Estimation.Measurements;
 using FusionService.Estimation.Models;
+using FusionService.Estimation.Time;
 using FusionService.Estimation.Tracking;
 using FusionService.Operations;
 using FusionService.Storage.Checkpoints;
@@ -74,7 +75,7 @@ internal sealed class VehicleTrackGrain(
         var checkpoint = await gate.RunAsync(
             () => new FilterCheckpointRepository(database.DataSource).NewestCheckpointBeforeAsync(_fleetId, _vehicleId, long.MaxValue, cancellationToken),
             cancellationToken);
-        long nowUs = (time.GetUtcNow().UtcTicks - DateTime.UnixEpoch.Ticks) / 10;
+        long nowUs = UnixMicroseconds.Now(time);
         long fromUs = nowUs - ((databaseOptions.Value.DaysBack + 1) * 86_400_000_000L);
         long fromFloorUs = fromUs;
         Measurement? floor = null;
@@ -232,7 +233,7 @@ internal sealed class VehicleTrackGrain(
         }
 
         _deadSeen = dead;
-        long nowUs = (time.GetUtcNow().UtcTicks - DateTime.UnixEpoch.Ticks) / 10;
+        long nowUs = UnixMicroseconds.Now(time);
         long lookBackUs = (long)Math.Round(Math.Max(options.Value.PendingLookBackMin, 1) * 6e7);
         long fromUs = _track.NewestTimeUs == long.MinValue
             ? nowUs - ((databaseOptions.Value.DaysBack + 1) * 86_400_000_000L)

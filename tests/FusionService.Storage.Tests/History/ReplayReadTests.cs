@@ -1,9 +1,9 @@
 // The replay read (binary COPY export): same rows as the row-by-row reader, duplicates left out, exact values.
+using FusionService.Estimation.Time;
 using FusionService.Storage.History;
 using FusionService.Storage.Measurements;
 using FusionService.Storage.Partitions;
 using FusionService.Storage.Tests.Infrastructure;
-using FusionService.Storage.Time;
 
 namespace FusionService.Storage.Tests.History;
 

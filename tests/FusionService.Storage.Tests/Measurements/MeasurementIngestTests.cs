@@ -1,10 +1,10 @@
 // Idempotent ingest, bulk outcome updates, fused-state upserts, vehicle queries and migration 0002.
+using FusionService.Estimation.Time;
 using FusionService.Storage.Fleets;
 using FusionService.Storage.FusedStates;
 using FusionService.Storage.Measurements;
 using FusionService.Storage.Partitions;
 using FusionService.Storage.Tests.Infrastructure;
-using FusionService.Storage.Time;
 using FusionService.Storage.Vehicles;
 using Npgsql;
 

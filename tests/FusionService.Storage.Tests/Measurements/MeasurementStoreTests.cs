@@ -1,8 +1,8 @@
 // Measurements: binary COPY in, Dapper out, exact values, NULLs, partitions, atomicity.
+using FusionService.Estimation.Time;
 using FusionService.Storage.Measurements;
 using FusionService.Storage.Partitions;
 using FusionService.Storage.Tests.Infrastructure;
-using FusionService.Storage.Time;
 using Npgsql;
 
 namespace FusionService.Storage.Tests.Measurements;

@@ -1,9 +1,9 @@
 // Daily partitions: window created ahead, idempotent, retention drops old days with their rows.
+using FusionService.Estimation.Time;
 using FusionService.Storage.FusedStates;
 using FusionService.Storage.Measurements;
 using FusionService.Storage.Partitions;
 using FusionService.Storage.Tests.Infrastructure;
-using FusionService.Storage.Time;
 using Npgsql;
 
 namespace FusionService.Storage.Tests.Partitions;
