@@ -134,7 +134,7 @@ public sealed class ExplainReplay : ITrackObserver
             hasInnovation ? outcome.Nis : null,
             hasInnovation ? outcome.Dimension : null,
             hasInnovation ? outcome.GateThreshold : null,
-            SensorNames.Of(outcome.Kind),
+            DecisionNames.Of(outcome.Kind),
             outcome.Kind is OutcomeKind.Accepted or OutcomeKind.Gated or OutcomeKind.TrackReset ? outcome.PositionShiftM : null));
     }
 
