@@ -43,9 +43,7 @@ public static class DiagnosticsReport
         var duplicateTotals = await duplicates.TotalsAsync(fleetId, vehicle, fromUs, toUs, cancellationToken).ConfigureAwait(false);
         var latency = await audit.LatencyAsync(fleetId, vehicle, fromUs, toUs, cancellationToken).ConfigureAwait(false);
 
-        var nisCount = new long[4];
-        var nisSum = new double[4];
-        var nisDof = new long[4];
+        NisAccumulator[] nisOf = [new(), new(), new(), new()];
         var dimensionSeen = new int[4];
         var mixed = new bool[4];
         var outcomeCounts = new Dictionary<(int Kind, StoredOutcome Outcome), long>();
@@ -70,9 +68,7 @@ public static class DiagnosticsReport
             int dimension = processor.InnovationDimension(m);
             AddWhitened(whitened, k, 0, sample.W0, options.WhitenessLags);
             AddWhitened(whitened, k, 1, sample.W1, options.WhitenessLags);
-            nisCount[k]++;
-            nisSum[k] += nis;
-            nisDof[k] += dimension;
+            nisOf[k].Add(nis, dimension);
             mixed[k] |= dimensionSeen[k] != 0 && dimensionSeen[k] != dimension;
             dimensionSeen[k] = dimension;
         }
@@ -85,14 +81,13 @@ public static class DiagnosticsReport
             double? mean = null;
             NisIntervalResponse? interval = null;
             var verdict = ConsistencyVerdict.Insufficient;
-            if (nisCount[k] > 0)
+            NisAccumulator nis = nisOf[k];
+            if (nis.Count > 0)
             {
-                int n = checked((int)nisCount[k]);
-                int dof = checked((int)nisDof[k]);
-                mean = nisSum[k] / n;
-                (double lower, double upper) = NisConsistencyTest.Interval(n, dof);
+                mean = nis.Mean;
+                (double lower, double upper) = nis.Interval();
                 interval = new NisIntervalResponse(lower, upper);
-                verdict = NisConsistencyTest.Judge(mean.Value, n, dof, options.NisMinimumCount);
+                verdict = nis.Judge(options.NisMinimumCount);
             }
 
             var whiteness = Whiteness(kind, whitened, options);
@@ -109,8 +104,8 @@ public static class DiagnosticsReport
                 duplicateTotals.GetValueOrDefault((short)k),
                 Count(StoredOutcome.TooLate),
                 mean,
-                nisCount[k] > 0 && !mixed[k] ? dimensionSeen[k] : null,
-                nisCount[k],
+                nis.Count > 0 && !mixed[k] ? dimensionSeen[k] : null,
+                nis.Count,
                 interval,
                 overall,
                 l is { } s ? new LatencyPercentilesResponse(s.P50Ms, s.P95Ms, s.P99Ms) : null,
