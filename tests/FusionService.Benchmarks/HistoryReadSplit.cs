@@ -9,7 +9,6 @@ using FusionService.Estimation.Tracking;
 using FusionService.Storage.Cluster;
 using FusionService.Storage.History;
 using FusionService.Storage.Measurements;
-using MeasurementOutcome = FusionService.Storage.Measurements.MeasurementOutcome;
 using FusionService.Storage.Migrations;
 using FusionService.Storage.Partitions;
 using FusionService.Storage.Schemas;
@@ -49,7 +48,7 @@ internal static class HistoryReadSplit
             {
                 rows.Add(new MeasurementRow(
                     fleet, vehicle, (short)m.Kind, m.TimeUs, (long)m.MessageKey, received, m.Value0,
-                    double.IsNaN(m.Value1) ? null : m.Value1, m.Value2, 0, MeasurementOutcome.Accepted, null, false));
+                    double.IsNaN(m.Value1) ? null : m.Value1, m.Value2, 0, OutcomeKind.Accepted, null, false));
             }
 
             await MeasurementWriter.WriteAsync(connection, null, rows);
@@ -90,7 +89,7 @@ internal static class HistoryReadSplit
             var list = new List<Measurement>();
             await foreach (var s in reader.StreamMeasurementsAsync(fleet, vehicle, fromUs, toUs, 0, (short)SensorKind.Imu))
             {
-                if (s.Outcome == MeasurementOutcome.Duplicate)
+                if (s.Outcome == OutcomeKind.Duplicate)
                 {
                     continue;
                 }

@@ -3,6 +3,7 @@ using System.Globalization;
 using System.Runtime.CompilerServices;
 using Dapper;
 using FusionService.Estimation.Time;
+using FusionService.Estimation.Tracking;
 using FusionService.Storage.Bulk;
 using FusionService.Storage.FusedStates;
 using FusionService.Storage.Measurements;
@@ -110,7 +111,7 @@ public sealed class TrackHistoryReader
                             reader.GetDouble(3),
                             reader.IsDBNull(4) ? null : reader.GetDouble(4),
                             reader.IsDBNull(5) ? null : reader.GetDouble(5),
-                            (MeasurementOutcome)reader.GetInt16(6),
+                            OutcomeCodes.FromCode(reader.GetInt16(6)),
                             reader.IsDBNull(7) ? null : reader.GetDouble(7),
                             reader.GetBoolean(8));
                     }
@@ -156,7 +157,7 @@ public sealed class TrackHistoryReader
             UnixMicroseconds.ToDateTimeUtc(toUs).ToString("yyyy-MM-dd HH:mm:ss.ffffff+00", CultureInfo.InvariantCulture),
             minKind,
             maxKind,
-            (short)MeasurementOutcome.Duplicate);
+            OutcomeCodes.ToCode(OutcomeKind.Duplicate));
         int count = 0;
         var connection = await _dataSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
         await using (connection.ConfigureAwait(false))

@@ -1,5 +1,6 @@
 // The one translation between the core's Measurement and the stored rows' V0/V1/V2 columns.
 using FusionService.Estimation.Measurements;
+using FusionService.Estimation.Tracking;
 using FusionService.Storage.Audit;
 using FusionService.Storage.History;
 
@@ -11,7 +12,7 @@ namespace FusionService.Storage.Measurements;
 /// </summary>
 public static class MeasurementRows
 {
-    /// <summary>The stored row of <paramref name="m"/>, not yet judged (<see cref="MeasurementOutcome.Pending"/>).</summary>
+    /// <summary>The stored row of <paramref name="m"/>, not yet judged (<see cref="OutcomeKind.Pending"/>).</summary>
     /// <param name="fleetId">Owning fleet.</param>
     /// <param name="vehicleId">Vehicle within the fleet.</param>
     /// <param name="m">The measurement.</param>
@@ -27,7 +28,7 @@ public static class MeasurementRows
         double.IsNaN(m.Value1) ? null : m.Value1,
         m.Value2,
         0,
-        MeasurementOutcome.Pending,
+        OutcomeKind.Pending,
         null,
         false);
 

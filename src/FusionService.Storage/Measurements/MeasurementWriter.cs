@@ -92,7 +92,7 @@ public static class MeasurementWriter
         await CopyValues.WriteNullableAsync(importer, row.V1, cancellationToken).ConfigureAwait(false);
         await CopyValues.WriteNullableAsync(importer, row.V2, cancellationToken).ConfigureAwait(false);
         await importer.WriteAsync(row.Flags, NpgsqlDbType.Integer, cancellationToken).ConfigureAwait(false);
-        await importer.WriteAsync((short)row.Outcome, NpgsqlDbType.Smallint, cancellationToken).ConfigureAwait(false);
+        await importer.WriteAsync(OutcomeCodes.ToCode(row.Outcome), NpgsqlDbType.Smallint, cancellationToken).ConfigureAwait(false);
         await CopyValues.WriteNullableAsync(importer, row.Nis, cancellationToken).ConfigureAwait(false);
         await importer.WriteAsync(row.TrackReset, NpgsqlDbType.Boolean, cancellationToken).ConfigureAwait(false);
     }

@@ -5,7 +5,6 @@ using FusionService.Estimation.Models;
 using FusionService.Estimation.Tracking;
 using FusionService.Storage.Audit;
 using FusionService.Storage.Measurements;
-using StoredOutcome = FusionService.Storage.Measurements.MeasurementOutcome;
 
 using FusionService.Http;
 
@@ -46,7 +45,7 @@ public static class DiagnosticsReport
         NisAccumulator[] nisOf = [new(), new(), new(), new()];
         var dimensionSeen = new int[4];
         var mixed = new bool[4];
-        var outcomeCounts = new Dictionary<(int Kind, StoredOutcome Outcome), long>();
+        var outcomeCounts = new Dictionary<(int Kind, OutcomeKind Outcome), long>();
         var resets = new List<long>();
         var whitened = new AutocorrelationAccumulator?[4, 2];
         await foreach (var sample in audit.VerdictsAsync(fleetId, vehicle, fromUs, toUs, cancellationToken).ConfigureAwait(false))
@@ -59,7 +58,7 @@ public static class DiagnosticsReport
             }
 
             // NIS of the fused measurements only: accepted, not a track reset, NIS present.
-            if (k is < 0 or > 3 || sample.Outcome != StoredOutcome.Accepted || sample.TrackReset || sample.Nis is not { } nis)
+            if (k is < 0 or > 3 || sample.Outcome != OutcomeKind.Accepted || sample.TrackReset || sample.Nis is not { } nis)
             {
                 continue;
             }
@@ -77,7 +76,7 @@ public static class DiagnosticsReport
         foreach (var kind in SensorNames.All)
         {
             int k = (int)kind;
-            long Count(StoredOutcome outcome) => outcomeCounts.GetValueOrDefault((k, outcome));
+            long Count(OutcomeKind outcome) => outcomeCounts.GetValueOrDefault((k, outcome));
             double? mean = null;
             NisIntervalResponse? interval = null;
             var verdict = ConsistencyVerdict.Insufficient;
@@ -99,10 +98,10 @@ public static class DiagnosticsReport
             var l = latency.Where(x => x.Kind == k).Select(x => (LatencySummary?)x).FirstOrDefault();
             sensors.Add(new SensorDiagnostics(
                 SensorNames.Of(kind),
-                Count(StoredOutcome.Accepted),
-                Count(StoredOutcome.Gated),
+                Count(OutcomeKind.Accepted),
+                Count(OutcomeKind.Gated),
                 duplicateTotals.GetValueOrDefault((short)k),
-                Count(StoredOutcome.TooLate),
+                Count(OutcomeKind.TooLate),
                 mean,
                 nis.Count > 0 && !mixed[k] ? dimensionSeen[k] : null,
                 nis.Count,

@@ -7,8 +7,6 @@ using FusionService.Storage.Audit;
 using FusionService.Storage.Checkpoints;
 using FusionService.Storage.Measurements;
 using FusionService.Vehicles;
-using CoreOutcome = FusionService.Estimation.Tracking.MeasurementOutcome;
-using StoredOutcome = FusionService.Storage.Measurements.MeasurementOutcome;
 
 using FusionService.Http;
 
@@ -90,9 +88,9 @@ public sealed class ExplainReplay : ITrackObserver
                 continue;
             }
 
-            if (s.Outcome == StoredOutcome.TooLate)
+            if (s.Outcome == OutcomeKind.TooLate)
             {
-                replay.OnOutcome(m, CoreOutcome.Of(OutcomeKind.TooLate), default, false);
+                replay.OnOutcome(m, MeasurementOutcome.Of(OutcomeKind.TooLate), default, false);
                 continue;
             }
 
@@ -111,7 +109,7 @@ public sealed class ExplainReplay : ITrackObserver
     }
 
     /// <inheritdoc />
-    public void OnOutcome(in Measurement m, in CoreOutcome outcome, in TrackState posterior, bool isReplay)
+    public void OnOutcome(in Measurement m, in MeasurementOutcome outcome, in TrackState posterior, bool isReplay)
     {
         if (outcome.Kind != OutcomeKind.TooLate && posterior.Phase == TrackPhase.Running && posterior.HasPlane && posterior.TimeUs <= _timeUs)
         {
@@ -190,7 +188,7 @@ public sealed class ExplainReplay : ITrackObserver
     }
 
     /// <summary>The innovation in API units: angles and angular rates in degrees.</summary>
-    private static double[] Residual(SensorKind kind, in CoreOutcome outcome)
+    private static double[] Residual(SensorKind kind, in MeasurementOutcome outcome)
     {
         double first = kind == SensorKind.Imu ? outcome.Innovation0 * RadToDeg : outcome.Innovation0;
         double second = kind == SensorKind.GnssVelocity ? outcome.Innovation1 * RadToDeg : outcome.Innovation1;

@@ -4,11 +4,11 @@ using FusionService.Audit;
 using FusionService.Database;
 using FusionService.Estimation.Measurements;
 using FusionService.Estimation.Time;
+using FusionService.Estimation.Tracking;
 using FusionService.Operations;
 using FusionService.Storage.Measurements;
 using FusionService.Tracking;
 using Microsoft.Extensions.Options;
-using StoredOutcome = FusionService.Storage.Measurements.MeasurementOutcome;
 
 namespace FusionService.Ingest;
 

@@ -12,8 +12,6 @@ using FusionService.Storage.Failures;
 using FusionService.Storage.FusedStates;
 using FusionService.Storage.Measurements;
 using Microsoft.Extensions.Options;
-using CoreOutcome = FusionService.Estimation.Tracking.MeasurementOutcome;
-using StoredOutcome = FusionService.Storage.Measurements.MeasurementOutcome;
 
 namespace FusionService.Tracking;
 
@@ -96,7 +94,7 @@ internal sealed class VehicleTrackGrain(
         int replayed = 0;
         foreach (var s in stored)
         {
-            if (s.Outcome == StoredOutcome.TooLate)
+            if (s.Outcome == OutcomeKind.TooLate)
             {
                 continue;
             }
@@ -363,7 +361,7 @@ internal sealed class VehicleTrackGrain(
         _historySpacingUs > 0 && _track.BaseCheckpointLast is { } last
         && (_lastHistoryUs == long.MinValue || last.TimeUs - _lastHistoryUs >= _historySpacingUs);
 
-    void ITrackObserver.OnOutcome(in Measurement m, in CoreOutcome outcome, in TrackState posterior, bool isReplay)
+    void ITrackObserver.OnOutcome(in Measurement m, in MeasurementOutcome outcome, in TrackState posterior, bool isReplay)
     {
         _monitor?.Observe(m, outcome, posterior, isReplay);
         if (outcome.Kind is OutcomeKind.Duplicate or OutcomeKind.Conflict)
@@ -437,15 +435,15 @@ internal sealed class VehicleTrackGrain(
             ellipse.OrientationRad);
     }
 
-    private static StoredOutcome ToStored(OutcomeKind kind) => kind switch
+    private static OutcomeKind ToStored(OutcomeKind kind) => kind switch
     {
-        OutcomeKind.Accepted or OutcomeKind.TrackReset => StoredOutcome.Accepted,
-        OutcomeKind.Gated => StoredOutcome.Gated,
-        OutcomeKind.TooLate => StoredOutcome.TooLate,
-        OutcomeKind.Initialising => StoredOutcome.Initialising,
-        OutcomeKind.BeforeStart => StoredOutcome.BeforeStart,
-        OutcomeKind.Unusable => StoredOutcome.Unusable,
-        _ => StoredOutcome.Unused,
+        OutcomeKind.Accepted or OutcomeKind.TrackReset => OutcomeKind.Accepted,
+        OutcomeKind.Gated => OutcomeKind.Gated,
+        OutcomeKind.TooLate => OutcomeKind.TooLate,
+        OutcomeKind.Initialising => OutcomeKind.Initialising,
+        OutcomeKind.BeforeStart => OutcomeKind.BeforeStart,
+        OutcomeKind.Unusable => OutcomeKind.Unusable,
+        _ => OutcomeKind.Unused,
     };
 
     private void FlushWrites()
