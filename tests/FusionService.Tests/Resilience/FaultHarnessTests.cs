@@ -167,7 +167,7 @@ public sealed class FaultHarnessTests(ServiceFixture fixture, ITestOutputHelper 
                 var anchor = drive.Messages.Take(next).SelectMany(m => m.Core).Last(m => m.Kind == SensorKind.GnssPosition);
                 long timeUs = drive.Messages[next].Core.Min(m => m.TimeUs) - 1;
                 var poison = Measurement.FromStored(
-                    timeUs, ((ulong)SensorKind.GnssPosition << 56) | MessageKeys.FromId("stored-poison"), anchor.Value0, anchor.Value1, float.PositiveInfinity);
+                    timeUs, Measurement.OrderKeyOf(SensorKind.GnssPosition, MessageKeys.FromId("stored-poison")), anchor.AsGnssFix().LatitudeDeg, anchor.AsGnssFix().LongitudeDeg, float.PositiveInfinity);
                 await fixture.StoreWithoutTrackAsync([MeasurementRows.ToRow(fleet.Id, vehicle, poison, DateTime.UtcNow) with { V2 = 1e50 }]);
                 stored[vehicle] = poison;
 

@@ -30,7 +30,7 @@ public sealed class PoisonMeasurementTests(ServiceFixture fixture)
         var fix = drive.Messages[PoisonAfter - 1].Core.Max(m => m.TimeUs);
         var anchor = drive.Messages.Take(PoisonAfter).SelectMany(m => m.Core).Last(m => m.Kind == SensorKind.GnssPosition);
         var poison = Measurement.FromStored(
-            fix + 1, ((ulong)SensorKind.GnssPosition << 56) | MessageKeys.FromId("poison-fix"), anchor.Value0, anchor.Value1, float.PositiveInfinity);
+            fix + 1, Measurement.OrderKeyOf(SensorKind.GnssPosition, MessageKeys.FromId("poison-fix")), anchor.AsGnssFix().LatitudeDeg, anchor.AsGnssFix().LongitudeDeg, float.PositiveInfinity);
 
         await using (var first = new ServiceFactory(fixture.ConnectionString))
         {
