@@ -9,7 +9,6 @@ using FusionService.Estimation.Tracking;
 using FusionService.Storage.Cluster;
 using FusionService.Storage.History;
 using FusionService.Storage.Measurements;
-using MeasurementOutcome = FusionService.Storage.Measurements.MeasurementOutcome;
 using FusionService.Storage.Migrations;
 using FusionService.Storage.Partitions;
 using FusionService.Storage.Schemas;
@@ -49,7 +48,7 @@ internal static class HistoryReadSplit
             {
                 rows.Add(new MeasurementRow(
                     fleet, vehicle, (short)m.Kind, m.TimeUs, (long)m.MessageKey, received, m.Value0,
-                    double.IsNaN(m.Value1) ? null : m.Value1, m.Value2, 0, MeasurementOutcome.Accepted, null, false));
+                    double.IsNaN(m.Value1) ? null : m.Value1, m.Value2, 0, OutcomeKind.Accepted, null, false));
             }
 
             await MeasurementWriter.WriteAsync(connection, null, rows);
@@ -90,12 +89,12 @@ internal static class HistoryReadSplit
             var list = new List<Measurement>();
             await foreach (var s in reader.StreamMeasurementsAsync(fleet, vehicle, fromUs, toUs, 0, (short)SensorKind.Imu))
             {
-                if (s.Outcome == MeasurementOutcome.Duplicate)
+                if (s.Outcome == OutcomeKind.Duplicate)
                 {
                     continue;
                 }
 
-                list.Add(Measurement.FromStored(s.TimeUs, ((ulong)(byte)s.Kind << 56) | (ulong)s.MessageKey, s.V0, s.V1 ?? double.NaN, (float)(s.V2 ?? 0)));
+                list.Add(MeasurementRows.ToMeasurement(s));
             }
 
             rowByRowMs.Add(sw.Elapsed.TotalMilliseconds);
@@ -104,7 +103,7 @@ internal static class HistoryReadSplit
             read = [];
             await reader.ReadReplayMeasurementsAsync(
                 fleet, vehicle, fromUs, toUs, 0, (short)SensorKind.Imu,
-                s => read.Add(Measurement.FromStored(s.TimeUs, ((ulong)(byte)s.Kind << 56) | (ulong)s.MessageKey, s.V0, s.V1 ?? double.NaN, (float)(s.V2 ?? 0))));
+                s => read.Add(MeasurementRows.ToMeasurement(s)));
             copyMs.Add(sw.Elapsed.TotalMilliseconds);
             if (!list.SequenceEqual(read))
             {
@@ -156,7 +155,7 @@ internal static class HistoryReadSplit
             int filled = 0;
             await reader.ReadReplayMeasurementsAsync(fleet, vehicle, fromUs, toUs, 0, (short)SensorKind.Imu, s =>
             {
-                chunk[filled++] = Measurement.FromStored(s.TimeUs, ((ulong)(byte)s.Kind << 56) | (ulong)s.MessageKey, s.V0, s.V1 ?? double.NaN, (float)(s.V2 ?? 0));
+                chunk[filled++] = MeasurementRows.ToMeasurement(s);
                 if (filled == chunkLength)
                 {
                     chunks.Add(chunk);

@@ -3,6 +3,7 @@ using System.Diagnostics;
 using System.Globalization;
 using System.Text.Json;
 using FusionService.Database;
+using FusionService.Estimation.Time;
 using FusionService.Ingest;
 using FusionService.Simulator.Load;
 using Microsoft.Extensions.Configuration;
@@ -48,8 +49,8 @@ public static class CopyComparison
                 var rows = Rows(options, batches);
                 long minUs = rows.Min(r => r.TimeUs), maxUs = rows.Max(r => r.TimeUs);
                 await new PartitionMaintainer(database.DataSource).EnsurePartitionsAsync(
-                    DateOnly.FromDateTime(DateTime.UnixEpoch.AddTicks(minUs * 10)),
-                    DateOnly.FromDateTime(DateTime.UnixEpoch.AddTicks(maxUs * 10)),
+                    UnixMicroseconds.UtcDayOf(minUs),
+                    UnixMicroseconds.UtcDayOf(maxUs),
                     cancellationToken).ConfigureAwait(false);
                 await output.WriteLineAsync(string.Create(CultureInfo.InvariantCulture, $"copying the same {rows.Count:N0} rows with binary COPY into scratch schema {schema}")).ConfigureAwait(false);
                 var connection = await database.DataSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
@@ -94,7 +95,7 @@ public static class CopyComparison
                     ?? throw new InvalidOperationException("synthetic message refused: " + rejection!.Field + " " + rejection.Reason);
                 foreach (var m in parsed.Measurements)
                 {
-                    rows.Add(IngestPipeline.ToRow(fleetId, parsed.VehicleId, m, received));
+                    rows.Add(MeasurementRows.ToRow(fleetId, parsed.VehicleId, m, received));
                 }
             }
         }

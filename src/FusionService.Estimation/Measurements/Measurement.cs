@@ -26,7 +26,7 @@ public readonly record struct Measurement
         }
 
         TimeUs = timeUs;
-        OrderKey = ((ulong)kind << 56) | messageKey;
+        OrderKey = OrderKeyOf(kind, messageKey);
         Value0 = value0;
         Value1 = value1;
         Value2 = value2;
@@ -44,14 +44,49 @@ public readonly record struct Measurement
     /// <summary>Sensor kind.</summary>
     public SensorKind Kind => (SensorKind)(OrderKey >> 56);
 
-    /// <summary>GnssPosition: latitude, degrees. GnssVelocity: speed over ground, m/s. WheelSpeed: speed, m/s. Imu: yaw rate, rad/s.</summary>
+    /// <summary>
+    /// First stored value, for serialisers only (the inverse is <see cref="FromStored"/>); read a kind's values by name
+    /// through <see cref="AsGnssFix"/>, <see cref="AsGnssVelocity"/>, <see cref="AsWheelSpeed"/> or <see cref="AsImu"/>.
+    /// GnssPosition: latitude, degrees. GnssVelocity: speed over ground, m/s. WheelSpeed: speed, m/s. Imu: yaw rate, rad/s.
+    /// </summary>
     public double Value0 { get; }
 
-    /// <summary>GnssPosition: longitude, degrees. GnssVelocity: course over ground, radians clockwise from north (NaN when not usable). Imu: longitudinal acceleration, m/s^2 (NaN when absent).</summary>
+    /// <summary>
+    /// Second stored value, for serialisers only (see <see cref="Value0"/>). GnssPosition: longitude, degrees.
+    /// GnssVelocity: course over ground, radians clockwise from north (NaN when not usable). WheelSpeed: NaN.
+    /// Imu: longitudinal acceleration, m/s^2 (NaN when absent).
+    /// </summary>
     public double Value1 { get; }
 
-    /// <summary>GnssPosition: 1-sigma per-axis horizontal accuracy, metres. GnssVelocity: 1-sigma speed accuracy, m/s. Otherwise 0.</summary>
+    /// <summary>
+    /// Third stored value, for serialisers only (see <see cref="Value0"/>). GnssPosition: 1-sigma per-axis horizontal
+    /// accuracy, metres. GnssVelocity: 1-sigma speed accuracy, m/s. Otherwise 0.
+    /// </summary>
     public float Value2 { get; }
+
+    /// <summary>
+    /// The order key of <paramref name="kind"/> and <paramref name="messageKey"/>: the kind in the top 8 bits, the
+    /// message key in the low 56 (see <see cref="OrderKey"/>). The one place that packs the two.
+    /// </summary>
+    /// <param name="kind">Sensor kind.</param>
+    /// <param name="messageKey">Message key; bits above the 56th overlap the kind (callers keep it within <see cref="MaxMessageKey"/>).</param>
+    public static ulong OrderKeyOf(SensorKind kind, ulong messageKey) => ((ulong)kind << 56) | messageKey;
+
+    /// <summary>The values of a <see cref="SensorKind.GnssPosition"/> fix by name (the slots read as that kind; the caller checks <see cref="Kind"/>).</summary>
+    public GnssFixView AsGnssFix() => new(Value0, Value1, Value2);
+
+    /// <summary>The values of a <see cref="SensorKind.GnssVelocity"/> measurement by name (the caller checks <see cref="Kind"/>).</summary>
+    public GnssVelocityView AsGnssVelocity() => new(Value0, Value1, Value2);
+
+    /// <summary>The value of a <see cref="SensorKind.WheelSpeed"/> measurement by name (the caller checks <see cref="Kind"/>).</summary>
+    public WheelSpeedView AsWheelSpeed() => new(Value0);
+
+    /// <summary>The values of an <see cref="SensorKind.Imu"/> sample by name (the caller checks <see cref="Kind"/>).</summary>
+    public ImuView AsImu() => new(Value0, Value1);
+
+    /// <summary>This measurement with another message key (same time, kind and values; nothing re-validated).</summary>
+    /// <param name="messageKey">New message key, at most <see cref="MaxMessageKey"/>.</param>
+    public Measurement WithMessageKey(ulong messageKey) => new(TimeUs, messageKey, Value0, Value1, Value2, Kind);
 
     /// <summary>
     /// Rebuilds a measurement from its stored fields (<see cref="TimeUs"/>, <see cref="OrderKey"/>, values) without

@@ -30,8 +30,9 @@ internal static class CarriedMotion
     /// </summary>
     internal static bool Observe(ref TrackState s, in Measurement m, TrackOptions options)
     {
-        double speedMps = m.Value0;
-        bool moving = speedMps >= options.CarriedMinSpeedMps && speedMps >= 3.0 * m.Value2;
+        GnssVelocityView velocity = m.AsGnssVelocity();
+        double speedMps = velocity.SpeedMps;
+        bool moving = speedMps >= options.CarriedMinSpeedMps && speedMps >= 3.0 * velocity.SpeedAccuracyMps;
         if (s.Carried)
         {
             if (moving)
@@ -84,10 +85,11 @@ internal static class CarriedMotion
     internal static void Begin(ref TrackState s, in Measurement m, double headingRad, double headingSigmaRad, double initialAccelSigmaMps2)
     {
         const int n = TrackStateSize;
-        double speedMps = m.Value0;
+        GnssVelocityView velocity = m.AsGnssVelocity();
+        double speedMps = velocity.SpeedMps;
         double elapsedS = (m.TimeUs - s.CarriedSinceUs) / MicrosecondsPerSecond;
         double coveredM = speedMps * Math.Max(elapsedS, 1.0);
-        Reinitialise(ref s, SpeedMps, speedMps, m.Value2 * m.Value2);
+        Reinitialise(ref s, SpeedMps, speedMps, velocity.SpeedAccuracyMps * velocity.SpeedAccuracyMps);
         Reinitialise(ref s, AccelMps2, 0.0, initialAccelSigmaMps2 * initialAccelSigmaMps2);
         if (double.IsFinite(headingRad))
         {
@@ -101,7 +103,7 @@ internal static class CarriedMotion
     /// <summary>A wheel sample while carried: true when the wheels turn, which ends the carry (the vehicle drives again).</summary>
     internal static bool WheelsTurn(ref TrackState s, in Measurement m, TrackOptions options)
     {
-        if (Math.Abs(m.Value0) <= options.ZeroSpeedThresholdMps)
+        if (Math.Abs(m.AsWheelSpeed().SpeedMps) <= options.ZeroSpeedThresholdMps)
         {
             return false;
         }

@@ -150,13 +150,13 @@ public struct StreamAgreement
             double dtS = (m.TimeUs - fromUs) / MicrosecondsPerSecond;
             if (dtS > 0 && (m.TimeUs - LastImuUs) / MicrosecondsPerSecond <= MaxImuGapS)
             {
-                GyroTurnRad += 0.5 * (m.Value0 + LastImuRateRps) * dtS;
+                GyroTurnRad += 0.5 * (m.AsImu().YawRateRps + LastImuRateRps) * dtS;
                 GyroCoveredS += dtS;
             }
         }
 
         LastImuUs = m.TimeUs;
-        LastImuRateRps = m.Value0;
+        LastImuRateRps = m.AsImu().YawRateRps;
     }
 
     /// <summary>
@@ -165,13 +165,14 @@ public struct StreamAgreement
     /// </summary>
     public void ObserveVelocity(in Measurement m, TrackOptions options, double gyroBiasRps)
     {
-        if (!(m.Value0 >= options.CourseMinSpeedMps) || double.IsNaN(m.Value1))
+        GnssVelocityView velocity = m.AsGnssVelocity();
+        if (!(velocity.SpeedMps >= options.CourseMinSpeedMps) || !velocity.HasCourse)
         {
             TurnStartUs = long.MinValue;
             return;
         }
 
-        double heading = TrackProcessor.CourseToHeading(m.Value1);
+        double heading = TrackProcessor.CourseToHeading(velocity.CourseRad);
         if (ChordStartUs != long.MinValue)
         {
             ChordCourseSin += Math.Sin(heading);
@@ -224,7 +225,8 @@ public struct StreamAgreement
     /// <summary>Takes a GNSS fix: it closes the open chord when far enough from its first fix and starts the next one.</summary>
     public void ObserveFix(in Measurement m, TrackOptions options)
     {
-        double latDeg = m.Value0, lonDeg = m.Value1, sigmaM = m.Value2;
+        GnssFixView gnssFix = m.AsGnssFix();
+        double latDeg = gnssFix.LatitudeDeg, lonDeg = gnssFix.LongitudeDeg, sigmaM = gnssFix.AccuracyM;
         if (ChordStartUs == long.MinValue || (m.TimeUs - ChordStartUs) / MicrosecondsPerSecond > MaxChordS)
         {
             OpenChord(m.TimeUs, latDeg, lonDeg, sigmaM);

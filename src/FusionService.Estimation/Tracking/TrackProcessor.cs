@@ -66,9 +66,9 @@ public sealed class TrackProcessor
     public int InnovationDimension(in Measurement m) => m.Kind switch
     {
         SensorKind.GnssPosition => 2,
-        SensorKind.GnssVelocity => m.Value0 >= Options.CourseMinSpeedMps && !double.IsNaN(m.Value1) ? 2 : 1,
+        SensorKind.GnssVelocity => m.AsGnssVelocity() is var v && v.SpeedMps >= Options.CourseMinSpeedMps && v.HasCourse ? 2 : 1,
         SensorKind.WheelSpeed => 1,
-        SensorKind.Imu => double.IsNaN(m.Value1) ? 1 : 2,
+        SensorKind.Imu => m.AsImu().HasAccel ? 2 : 1,
         _ => throw new ArgumentOutOfRangeException(nameof(m), m.Kind, "unknown sensor kind"),
     };
 
@@ -84,7 +84,8 @@ public sealed class TrackProcessor
         {
             case SensorKind.GnssPosition:
             {
-                var fixPoint = GeodeticPoint.FromDegrees(m.Value0, m.Value1);
+                GnssFixView gnssFix = m.AsGnssFix();
+                var fixPoint = GeodeticPoint.FromDegrees(gnssFix.LatitudeDeg, gnssFix.LongitudeDeg);
                 if (!s.HasPlane)
                 {
                     s.Plane = new LocalTangentPlane(fixPoint);
@@ -92,7 +93,7 @@ public sealed class TrackProcessor
                 }
 
                 EnuPoint enu = s.Plane.ToEnu(fixPoint);
-                var fix = new HeldFix(true, m.TimeUs, enu.EastM, enu.NorthM, m.Value2);
+                var fix = new HeldFix(true, m.TimeUs, enu.EastM, enu.NorthM, gnssFix.AccuracyM);
                 if (s.Phase == TrackPhase.Empty || !s.Fix.IsSet)
                 {
                     s.Phase = TrackPhase.AwaitingHeading;
@@ -134,13 +135,14 @@ public sealed class TrackProcessor
 
             case SensorKind.GnssVelocity:
             {
-                if (!(m.Value0 >= Options.CourseMinSpeedMps) || double.IsNaN(m.Value1) || s.Agreement.CourseIsolated)
+                GnssVelocityView velocity = m.AsGnssVelocity();
+                if (!(velocity.SpeedMps >= Options.CourseMinSpeedMps) || !velocity.HasCourse || s.Agreement.CourseIsolated)
                 {
                     return MeasurementOutcome.Of(OutcomeKind.BeforeStart);
                 }
 
-                double headingSigma = Math.Max(m.Value2 / m.Value0, Options.CourseSigmaFloorRad);
-                s.Course = new HeldCourse(true, m.TimeUs, CourseToHeading(m.Value1), headingSigma, m.Value0, m.Value2);
+                double headingSigma = Math.Max(velocity.SpeedAccuracyMps / velocity.SpeedMps, Options.CourseSigmaFloorRad);
+                s.Course = new HeldCourse(true, m.TimeUs, CourseToHeading(velocity.CourseRad), headingSigma, velocity.SpeedMps, velocity.SpeedAccuracyMps);
                 if (s.Phase == TrackPhase.AwaitingHeading && s.Fix.IsSet && (m.TimeUs - s.Fix.TimeUs) / MicrosecondsPerSecond <= Options.TwoFixMaxAgeS)
                 {
                     StartFromCourse(ref s, s.Fix, s.Course, m.TimeUs, recorder);
@@ -252,7 +254,7 @@ public sealed class TrackProcessor
 
     private MeasurementOutcome ProcessRunning(ref TrackState s, in Measurement m, IStepRecorder? recorder)
     {
-        double correlatedVar = m.Kind == SensorKind.GnssPosition ? CorrelatedVariance(m.Value2) : double.NaN;
+        double correlatedVar = m.Kind == SensorKind.GnssPosition ? CorrelatedVariance(m.AsGnssFix().AccuracyM) : double.NaN;
         PredictTo(ref s, m.TimeUs, correlatedVar, recorder);
         if (ObserveAgreement(ref s, m))
         {
@@ -267,9 +269,10 @@ public sealed class TrackProcessor
             // The standstill constraint held the track while the vehicle was carried off: restart its motion from this GNSS
             // velocity (used, like a track start, to initialise rather than fused) and begin a new smoothing segment, so that
             // smoothing does not cross the jump in the state.
-            bool hasCourse = m.Value0 >= Options.CourseMinSpeedMps && !double.IsNaN(m.Value1);
-            double courseSigma = Math.Max(m.Value2 / m.Value0, Options.CourseSigmaFloorRad);
-            CarriedMotion.Begin(ref s, m, hasCourse ? CourseToHeading(m.Value1) : double.NaN, courseSigma, Profile.InitialAccelSigmaMps2);
+            GnssVelocityView velocity = m.AsGnssVelocity();
+            bool hasCourse = velocity.SpeedMps >= Options.CourseMinSpeedMps && velocity.HasCourse;
+            double courseSigma = Math.Max(velocity.SpeedAccuracyMps / velocity.SpeedMps, Options.CourseSigmaFloorRad);
+            CarriedMotion.Begin(ref s, m, hasCourse ? CourseToHeading(velocity.CourseRad) : double.NaN, courseSigma, Profile.InitialAccelSigmaMps2);
             recorder?.Start(m.TimeUs, s.X, s.P, s.Plane);
             return MeasurementOutcome.Of(OutcomeKind.Initialising) with { Carried = true };
         }
@@ -346,7 +349,8 @@ public sealed class TrackProcessor
             // A wrong course carries the position along the wrong heading while the GNSS error states explain the growing
             // offset from the fixes; widen the position by that offset so the fix that isolated the course pulls it back.
             // The error states' estimate is part of that explanation: they start again from their stationary distribution.
-            EnuPoint fix = s.Plane.ToEnu(GeodeticPoint.FromDegrees(m.Value0, m.Value1));
+            GnssFixView gnssFix = m.AsGnssFix();
+            EnuPoint fix = s.Plane.ToEnu(GeodeticPoint.FromDegrees(gnssFix.LatitudeDeg, gnssFix.LongitudeDeg));
             double offsetEastM = fix.EastM - s.X[EastM], offsetNorthM = fix.NorthM - s.X[NorthM];
             s.P[(EastM * N) + EastM] += offsetEastM * offsetEastM;
             s.P[(NorthM * N) + NorthM] += offsetNorthM * offsetNorthM;
@@ -504,8 +508,9 @@ public sealed class TrackProcessor
 
     private MeasurementOutcome UpdateGnssPosition(ref TrackState s, in Measurement m, IStepRecorder? recorder)
     {
-        EnuPoint enu = s.Plane.ToEnu(GeodeticPoint.FromDegrees(m.Value0, m.Value1));
-        double sigma = m.Value2;
+        GnssFixView gnssFix = m.AsGnssFix();
+        EnuPoint enu = s.Plane.ToEnu(GeodeticPoint.FromDegrees(gnssFix.LatitudeDeg, gnssFix.LongitudeDeg));
+        double sigma = gnssFix.AccuracyM;
         Span<double> residual = [enu.EastM - (s.X[EastM] + s.X[GnssErrorEastM]), enu.NorthM - (s.X[NorthM] + s.X[GnssErrorNorthM])];
         Span<double> h = stackalloc double[2 * N];
         h.Clear();
@@ -576,7 +581,7 @@ public sealed class TrackProcessor
         // A real relocation (ferry, tow truck, long tunnel): start again from this fix, keeping the calibration.
         s.Resets++;
         s.Phase = TrackPhase.AwaitingHeading;
-        s.Plane = new LocalTangentPlane(GeodeticPoint.FromDegrees(m.Value0, m.Value1));
+        s.Plane = new LocalTangentPlane(GeodeticPoint.FromDegrees(gnssFix.LatitudeDeg, gnssFix.LongitudeDeg));
         s.Fix = new HeldFix(true, m.TimeUs, 0, 0, sigma);
         s.Course = default;
         s.RejectedFixes = 0;
@@ -668,7 +673,8 @@ public sealed class TrackProcessor
             return outcome;
         }
 
-        bool still = Math.Abs(m.Value0) <= Options.GnssStillSpeedMps && m.Value2 <= Options.GnssStillSpeedMps;
+        GnssVelocityView velocity = m.AsGnssVelocity();
+        bool still = Math.Abs(velocity.SpeedMps) <= Options.GnssStillSpeedMps && velocity.SpeedAccuracyMps <= Options.GnssStillSpeedMps;
         if (!still)
         {
             s.GnssStillSinceUs = long.MinValue;
@@ -692,8 +698,9 @@ public sealed class TrackProcessor
 
     private MeasurementOutcome UpdateGnssVelocity(ref TrackState s, in Measurement m, IStepRecorder? recorder)
     {
-        double speed = m.Value0, speedSigma = m.Value2;
-        bool hasCourse = speed >= Options.CourseMinSpeedMps && !double.IsNaN(m.Value1);
+        GnssVelocityView velocity = m.AsGnssVelocity();
+        double speed = velocity.SpeedMps, speedSigma = velocity.SpeedAccuracyMps;
+        bool hasCourse = speed >= Options.CourseMinSpeedMps && velocity.HasCourse;
         if (hasCourse && s.Agreement.CourseIsolated)
         {
             Span<double> speedOnly = [speed - s.X[SpeedMps]];
@@ -718,7 +725,7 @@ public sealed class TrackProcessor
 
         double courseSigma = Math.Max(speedSigma / speed, Options.CourseSigmaFloorRad);
         h[N + HeadingRad] = 1.0;
-        Span<double> residual = [speed - s.X[SpeedMps], Angles.WrapPi(CourseToHeading(m.Value1) - s.X[HeadingRad])];
+        Span<double> residual = [speed - s.X[SpeedMps], Angles.WrapPi(CourseToHeading(velocity.CourseRad) - s.X[HeadingRad])];
         Span<double> r = [speedSigma * speedSigma, 0, 0, courseSigma * courseSigma];
         return Gated(ref s, ref s.VelocityRejections, residual, h, r, SpeedMps, HeadingRad, recorder);
     }
@@ -731,7 +738,7 @@ public sealed class TrackProcessor
         }
 
         double v = s.X[SpeedMps], k = s.X[WheelScale];
-        Span<double> residual = [m.Value0 - (v * k)];
+        Span<double> residual = [m.AsWheelSpeed().SpeedMps - (v * k)];
         Span<double> h = stackalloc double[N];
         h.Clear();
         h[SpeedMps] = k;
@@ -754,7 +761,7 @@ public sealed class TrackProcessor
     {
         s.LastWheelUs = m.TimeUs;
         s.GnssStillSinceUs = long.MinValue;
-        if (Math.Abs(m.Value0) > Options.ZeroSpeedThresholdMps)
+        if (Math.Abs(m.AsWheelSpeed().SpeedMps) > Options.ZeroSpeedThresholdMps)
         {
             s.WheelZeroSinceUs = long.MinValue;
             StartMoving(ref s, m.TimeUs);
@@ -810,8 +817,9 @@ public sealed class TrackProcessor
         h[YawRateRps] = 1.0;
         h[GyroBiasRps] = 1.0;
         double gyroVar = Profile.GyroSigmaRps * Profile.GyroSigmaRps;
-        double yawResidual = m.Value0 - (s.X[YawRateRps] + s.X[GyroBiasRps]);
-        if (double.IsNaN(m.Value1))
+        ImuView imu = m.AsImu();
+        double yawResidual = imu.YawRateRps - (s.X[YawRateRps] + s.X[GyroBiasRps]);
+        if (!imu.HasAccel)
         {
             Span<double> residual1 = [yawResidual];
             Span<double> r1 = [gyroVar];
@@ -820,7 +828,7 @@ public sealed class TrackProcessor
 
         h[N + AccelMps2] = 1.0;
         double accelVar = Profile.AccelSigmaMps2 * Profile.AccelSigmaMps2;
-        Span<double> residual = [yawResidual, m.Value1 - s.X[AccelMps2]];
+        Span<double> residual = [yawResidual, imu.AccelMps2 - s.X[AccelMps2]];
         Span<double> r = [gyroVar, 0, 0, accelVar];
         return Gated(ref s, ref s.ImuRejections, residual, h, r, YawRateRps, AccelMps2, recorder);
     }

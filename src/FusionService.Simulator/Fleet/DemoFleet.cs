@@ -269,7 +269,7 @@ public sealed class DemoFleet
             Measurement m = all[i];
             ulong kind = (ulong)m.Kind;
             ulong key = (kind << 48) | counts[kind]++;
-            result[i] = Measurement.FromStored(m.TimeUs, (kind << 56) | key, m.Value0, m.Value1, m.Value2);
+            result[i] = m.WithMessageKey(key);
         }
 
         return result;

@@ -3,6 +3,7 @@ using System.Buffers;
 using System.Globalization;
 using System.Text;
 using System.Text.Json;
+using FusionService.Estimation.Time;
 
 namespace FusionService.Simulator.Messages;
 
@@ -24,7 +25,7 @@ public static class TelemetryJson
     /// <summary>RFC 3339 UTC form of a Unix time with microseconds, e.g. "2026-12-02T08:00:00.100000Z".</summary>
     /// <param name="timeUs">Microseconds since the Unix epoch; within the years 0001-9999.</param>
     public static string FormatTime(long timeUs) =>
-        DateTime.UnixEpoch.AddTicks(checked(timeUs * 10)).ToString(TimeFormat, CultureInfo.InvariantCulture);
+        UnixMicroseconds.ToDateTimeUtc(timeUs).ToString(TimeFormat, CultureInfo.InvariantCulture);
 
     /// <summary>
     /// Parses an RFC 3339 time (any offset; converted to UTC) to Unix microseconds.
@@ -35,13 +36,13 @@ public static class TelemetryJson
     {
         ArgumentNullException.ThrowIfNull(text);
         DateTimeOffset t = DateTimeOffset.Parse(text, CultureInfo.InvariantCulture, DateTimeStyles.AssumeUniversal | DateTimeStyles.AdjustToUniversal);
-        long ticks = t.UtcTicks - DateTime.UnixEpoch.Ticks;
-        if (ticks % 10 != 0)
+        long timeUs = UnixMicroseconds.FromDateTimeOffset(t);
+        if (UnixMicroseconds.ToDateTimeOffset(timeUs) != t)
         {
             throw new FormatException($"time '{text}' is finer than a microsecond");
         }
 
-        return ticks / 10;
+        return timeUs;
     }
 
     /// <summary>Writes one message as a JSON object.</summary>

@@ -90,34 +90,35 @@ public static class TelemetryMessages
             switch (m.Kind)
             {
                 case SensorKind.GnssPosition:
+                    GnssFixView fix = m.AsGnssFix();
                     var gnss = new TelemetryMessage(vehicleId, TelemetryKinds.Gnss, m.TimeUs, MessageId(vehicleId, m))
                     {
-                        LatDeg = m.Value0,
-                        LonDeg = m.Value1,
-                        AccuracyM = FromFloat(m.Value2),
+                        LatDeg = fix.LatitudeDeg,
+                        LonDeg = fix.LongitudeDeg,
+                        AccuracyM = FromFloat(fix.AccuracyM),
                         AccuracyKind = TelemetryKinds.OneSigma,
                     };
                     if (i + 1 < end && ms[i + 1].Kind == SensorKind.GnssVelocity && ms[i + 1].TimeUs == m.TimeUs)
                     {
-                        Measurement v = ms[++i];
+                        GnssVelocityView v = ms[++i].AsGnssVelocity();
                         gnss = gnss with
                         {
-                            SpeedMps = v.Value0,
-                            CourseDeg = double.IsNaN(v.Value1) ? null : Degrees(v.Value1),
-                            SpeedAccuracyMps = FromFloat(v.Value2),
+                            SpeedMps = v.SpeedMps,
+                            CourseDeg = v.HasCourse ? Degrees(v.CourseRad) : null,
+                            SpeedAccuracyMps = FromFloat(v.SpeedAccuracyMps),
                         };
                     }
 
                     output.Add(gnss);
                     break;
                 case SensorKind.WheelSpeed:
-                    output.Add(new TelemetryMessage(vehicleId, TelemetryKinds.Wheel, m.TimeUs, MessageId(vehicleId, m)) { SpeedMps = m.Value0 });
+                    output.Add(new TelemetryMessage(vehicleId, TelemetryKinds.Wheel, m.TimeUs, MessageId(vehicleId, m)) { SpeedMps = m.AsWheelSpeed().SpeedMps });
                     break;
                 case SensorKind.Imu:
                     output.Add(new TelemetryMessage(vehicleId, TelemetryKinds.Imu, m.TimeUs, MessageId(vehicleId, m))
                     {
-                        YawRateDps = Degrees(m.Value0),
-                        AccelMps2 = double.IsNaN(m.Value1) ? null : m.Value1,
+                        YawRateDps = Degrees(m.AsImu().YawRateRps),
+                        AccelMps2 = m.AsImu().HasAccel ? m.AsImu().AccelMps2 : null,
                     });
                     break;
                 default:

@@ -1,5 +1,6 @@
 // Read-only queries behind the diagnostics and explanations of one vehicle.
 using Dapper;
+using FusionService.Estimation.Time;
 using FusionService.Storage.Bulk;
 using FusionService.Storage.FusedStates;
 using FusionService.Storage.Measurements;
@@ -122,7 +123,7 @@ public sealed class AuditRepository
         {
             return await connection.ExecuteScalarAsync<bool>(new CommandDefinition(
                 AnyBeforeSql,
-                new { FleetId = fleetId, VehicleId = vehicleId, TimeUs = timeUs, At = new DateTimeOffset(UnixMicroseconds.ToDateTimeUtc(timeUs)) },
+                new { FleetId = fleetId, VehicleId = vehicleId, TimeUs = timeUs, At = UnixMicroseconds.ToDateTimeOffset(timeUs) },
                 cancellationToken: cancellationToken)).ConfigureAwait(false);
         }
     }

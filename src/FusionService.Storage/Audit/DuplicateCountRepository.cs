@@ -1,5 +1,5 @@
 // Counting duplicate deliveries, which the measurement log drops.
-using FusionService.Storage.Time;
+using FusionService.Estimation.Time;
 using Npgsql;
 
 namespace FusionService.Storage.Audit;

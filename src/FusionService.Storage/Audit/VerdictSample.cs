@@ -1,6 +1,6 @@
 // One stored measurement with its latest verdict, as the diagnostics read it.
-using FusionService.Storage.Measurements;
 
+using FusionService.Estimation.Tracking;
 namespace FusionService.Storage.Audit;
 
 /// <summary>A measurement's kind, values and time with its latest verdict (<c>judged_measurements</c>).</summary>
@@ -14,4 +14,4 @@ namespace FusionService.Storage.Audit;
 /// <param name="W0">First component of the whitened innovation of that verdict (dimensionless), or null (migration 0006).</param>
 /// <param name="W1">Second component of the whitened innovation for 2-D measurements, or null.</param>
 public readonly record struct VerdictSample(
-    short Kind, long TimeUs, double V0, double? V1, MeasurementOutcome Outcome, double? Nis, bool TrackReset, float? W0, float? W1);
+    short Kind, long TimeUs, double V0, double? V1, OutcomeKind Outcome, double? Nis, bool TrackReset, float? W0, float? W1);

@@ -1,7 +1,7 @@
 // Bulk insert of fused states with PostgreSQL binary COPY.
 using System.Globalization;
 using System.Runtime.InteropServices;
-using FusionService.Storage.Time;
+using FusionService.Estimation.Time;
 using Npgsql;
 using NpgsqlTypes;
 

@@ -1,6 +1,6 @@
 // The columns of a stored measurement that history queries need.
-using FusionService.Storage.Measurements;
 
+using FusionService.Estimation.Tracking;
 namespace FusionService.Storage.History;
 
 /// <summary>One stored measurement as the history queries stream it (no fleet, vehicle or receipt time).</summary>
@@ -14,4 +14,4 @@ namespace FusionService.Storage.History;
 /// <param name="Nis">Normalised innovation squared, or null.</param>
 /// <param name="TrackReset">Whether it restarted the track.</param>
 public readonly record struct StoredMeasurementValues(
-    short Kind, long TimeUs, long MessageKey, double V0, double? V1, double? V2, MeasurementOutcome Outcome, double? Nis, bool TrackReset);
+    short Kind, long TimeUs, long MessageKey, double V0, double? V1, double? V2, OutcomeKind Outcome, double? Nis, bool TrackReset);

@@ -2,6 +2,8 @@
 using System.Globalization;
 using System.Runtime.CompilerServices;
 using Dapper;
+using FusionService.Estimation.Time;
+using FusionService.Estimation.Tracking;
 using FusionService.Storage.Bulk;
 using FusionService.Storage.FusedStates;
 using FusionService.Storage.Measurements;
@@ -93,8 +95,8 @@ public sealed class TrackHistoryReader
                 command.Parameters.AddWithValue("VehicleId", vehicleId);
                 command.Parameters.AddWithValue("FromUs", fromUs);
                 command.Parameters.AddWithValue("ToUs", toUs);
-                command.Parameters.AddWithValue("FromAt", new DateTimeOffset(UnixMicroseconds.ToDateTimeUtc(fromUs)));
-                command.Parameters.AddWithValue("ToAt", new DateTimeOffset(UnixMicroseconds.ToDateTimeUtc(toUs)));
+                command.Parameters.AddWithValue("FromAt", UnixMicroseconds.ToDateTimeOffset(fromUs));
+                command.Parameters.AddWithValue("ToAt", UnixMicroseconds.ToDateTimeOffset(toUs));
                 command.Parameters.AddWithValue("MinKind", minKind);
                 command.Parameters.AddWithValue("MaxKind", maxKind);
                 var reader = await command.ExecuteReaderAsync(cancellationToken).ConfigureAwait(false);
@@ -109,7 +111,7 @@ public sealed class TrackHistoryReader
                             reader.GetDouble(3),
                             reader.IsDBNull(4) ? null : reader.GetDouble(4),
                             reader.IsDBNull(5) ? null : reader.GetDouble(5),
-                            (MeasurementOutcome)reader.GetInt16(6),
+                            OutcomeCodes.FromCode(reader.GetInt16(6)),
                             reader.IsDBNull(7) ? null : reader.GetDouble(7),
                             reader.GetBoolean(8));
                     }
@@ -155,7 +157,7 @@ public sealed class TrackHistoryReader
             UnixMicroseconds.ToDateTimeUtc(toUs).ToString("yyyy-MM-dd HH:mm:ss.ffffff+00", CultureInfo.InvariantCulture),
             minKind,
             maxKind,
-            (short)MeasurementOutcome.Duplicate);
+            OutcomeCodes.ToCode(OutcomeKind.Duplicate));
         int count = 0;
         var connection = await _dataSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
         await using (connection.ConfigureAwait(false))

@@ -1,6 +1,6 @@
 // Idempotent bulk insert: binary COPY into a staging table, then INSERT ... ON CONFLICT DO NOTHING RETURNING.
+using FusionService.Estimation.Time;
 using FusionService.Storage.Bulk;
-using FusionService.Storage.Time;
 using Npgsql;
 using NpgsqlTypes;
 

@@ -1,4 +1,5 @@
 // A new verdict of the filter on a stored measurement.
+using FusionService.Estimation.Tracking;
 namespace FusionService.Storage.Measurements;
 
 /// <summary>The filter's (new) verdict on a stored measurement, for <see cref="MeasurementVerdictLog"/>.</summary>
@@ -6,7 +7,7 @@ namespace FusionService.Storage.Measurements;
 /// <param name="Outcome">What the filter did with it.</param>
 /// <param name="Nis">Normalised innovation squared (dimensionless, non-negative), or null when no update was attempted.</param>
 /// <param name="TrackReset">True when the measurement restarted the track.</param>
-public readonly record struct MeasurementOutcomeUpdate(MeasurementKey Key, MeasurementOutcome Outcome, double? Nis, bool TrackReset)
+public readonly record struct MeasurementOutcomeUpdate(MeasurementKey Key, OutcomeKind Outcome, double? Nis, bool TrackReset)
 {
     /// <summary>
     /// First component of the whitened innovation w = L⁻¹ ν (S = L Lᵀ; dimensionless, standard normal for a consistent

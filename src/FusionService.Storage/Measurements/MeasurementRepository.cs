@@ -1,5 +1,6 @@
 // Reads of the measurement log.
 using Dapper;
+using FusionService.Estimation.Time;
 using FusionService.Storage.Time;
 using Npgsql;
 

@@ -1,4 +1,5 @@
 // One stored sensor message and the filter's verdict on it.
+using FusionService.Estimation.Tracking;
 namespace FusionService.Storage.Measurements;
 
 /// <summary>One row of <c>measurements</c>: a sensor message of one vehicle and what the filter did with it.</summary>
@@ -28,6 +29,6 @@ public readonly record struct MeasurementRow(
     double? V1,
     double? V2,
     int Flags,
-    MeasurementOutcome Outcome,
+    OutcomeKind Outcome,
     double? Nis,
     bool TrackReset);

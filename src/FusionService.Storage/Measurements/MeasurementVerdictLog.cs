@@ -1,6 +1,6 @@
 // The filter's verdicts on stored measurements, appended by binary COPY.
+using FusionService.Estimation.Time;
 using FusionService.Storage.Bulk;
-using FusionService.Storage.Time;
 using Npgsql;
 using NpgsqlTypes;
 
@@ -63,7 +63,7 @@ public static class MeasurementVerdictLog
                     await importer.WriteAsync(verdict.Key.TimeUs, NpgsqlDbType.Bigint, cancellationToken).ConfigureAwait(false);
                     await importer.WriteAsync(verdict.Key.MessageKey, NpgsqlDbType.Bigint, cancellationToken).ConfigureAwait(false);
                     await importer.WriteAsync(UnixMicroseconds.ToDateTimeUtc(verdict.Key.TimeUs), NpgsqlDbType.TimestampTz, cancellationToken).ConfigureAwait(false);
-                    await importer.WriteAsync((short)verdict.Outcome, NpgsqlDbType.Smallint, cancellationToken).ConfigureAwait(false);
+                    await importer.WriteAsync(OutcomeCodes.ToCode(verdict.Outcome), NpgsqlDbType.Smallint, cancellationToken).ConfigureAwait(false);
                     await CopyValues.WriteNullableAsync(importer, verdict.Nis, cancellationToken).ConfigureAwait(false);
                     await importer.WriteAsync(verdict.TrackReset, NpgsqlDbType.Boolean, cancellationToken).ConfigureAwait(false);
                     await CopyValues.WriteNullableAsync(importer, verdict.Whitened0, cancellationToken).ConfigureAwait(false);

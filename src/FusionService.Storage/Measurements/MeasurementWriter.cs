@@ -1,7 +1,7 @@
 // Bulk insert of measurements with PostgreSQL binary COPY.
 using System.Globalization;
+using FusionService.Estimation.Time;
 using FusionService.Storage.Bulk;
-using FusionService.Storage.Time;
 using Npgsql;
 using NpgsqlTypes;
 
@@ -92,7 +92,7 @@ public static class MeasurementWriter
         await CopyValues.WriteNullableAsync(importer, row.V1, cancellationToken).ConfigureAwait(false);
         await CopyValues.WriteNullableAsync(importer, row.V2, cancellationToken).ConfigureAwait(false);
         await importer.WriteAsync(row.Flags, NpgsqlDbType.Integer, cancellationToken).ConfigureAwait(false);
-        await importer.WriteAsync((short)row.Outcome, NpgsqlDbType.Smallint, cancellationToken).ConfigureAwait(false);
+        await importer.WriteAsync(OutcomeCodes.ToCode(row.Outcome), NpgsqlDbType.Smallint, cancellationToken).ConfigureAwait(false);
         await CopyValues.WriteNullableAsync(importer, row.Nis, cancellationToken).ConfigureAwait(false);
         await importer.WriteAsync(row.TrackReset, NpgsqlDbType.Boolean, cancellationToken).ConfigureAwait(false);
     }

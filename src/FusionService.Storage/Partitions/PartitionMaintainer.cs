@@ -4,6 +4,7 @@ using System.Globalization;
 using System.Security.Cryptography;
 using System.Text;
 using Dapper;
+using FusionService.Estimation.Time;
 using FusionService.Storage.Checkpoints;
 using FusionService.Storage.Logging;
 using Microsoft.Extensions.Logging;
@@ -101,7 +102,7 @@ public sealed class PartitionMaintainer
             today.AddDays(-_options.DaysBack), today.AddDays(_options.DaysAhead), cancellationToken).ConfigureAwait(false);
         DateOnly firstKeptDay = today.AddDays(-_options.RetentionDays);
         var dropped = await DropPartitionsBeforeAsync(firstKeptDay, cancellationToken).ConfigureAwait(false);
-        long firstKeptUs = (firstKeptDay.ToDateTime(TimeOnly.MinValue, DateTimeKind.Utc).Ticks - DateTime.UnixEpoch.Ticks) / 10;
+        long firstKeptUs = UnixMicroseconds.StartOfUtcDay(firstKeptDay);
         int checkpoints = await new FilterCheckpointRepository(_dataSource).DeleteOlderThanAsync(firstKeptUs, cancellationToken).ConfigureAwait(false);
         return new PartitionMaintenanceResult(created, dropped, checkpoints);
     }

@@ -1,3 +1,4 @@
+using FusionService.Estimation.Time;
 namespace FusionService.Storage.Time;
 
 /// <summary>
@@ -12,6 +13,6 @@ internal sealed record TimeRangeParameters(Guid FleetId, string VehicleId, long 
         vehicleId,
         fromUs,
         toUs,
-        new DateTimeOffset(UnixMicroseconds.ToDateTimeUtc(fromUs)),
-        new DateTimeOffset(UnixMicroseconds.ToDateTimeUtc(toUs)));
+        UnixMicroseconds.ToDateTimeOffset(fromUs),
+        UnixMicroseconds.ToDateTimeOffset(toUs));
 }

@@ -2,6 +2,7 @@
 using System.Buffers.Text;
 using System.Globalization;
 using System.Text;
+using FusionService.Estimation.Time;
 using FusionService.Storage.Alerts;
 
 namespace FusionService.Alerts;
@@ -13,7 +14,7 @@ public static class AlertCursor
     public static string Encode(AlertPosition position)
     {
         ArgumentNullException.ThrowIfNull(position);
-        long us = (position.StartedAt.UtcTicks - DateTimeOffset.UnixEpoch.UtcTicks) / 10;
+        long us = UnixMicroseconds.FromDateTimeOffset(position.StartedAt);
         string text = string.Create(CultureInfo.InvariantCulture, $"a1:{position.SeverityRank}:{us}:{position.AlertId:N}");
         return Base64Url.EncodeToString(Encoding.ASCII.GetBytes(text));
     }
@@ -33,7 +34,7 @@ public static class AlertCursor
             && long.TryParse(parts[2], NumberStyles.AllowLeadingSign, CultureInfo.InvariantCulture, out long us)
             && us > -62_135_596_800_000_000 && us < 253_402_300_799_000_000
             && Guid.TryParseExact(parts[3], "N", out var id)
-            ? new AlertPosition(rank, DateTimeOffset.UnixEpoch.AddTicks(us * 10), id)
+            ? new AlertPosition(rank, UnixMicroseconds.ToDateTimeOffset(us), id)
             : null;
     }
 }

@@ -4,6 +4,7 @@ using System.Text.Json.Nodes;
 using FusionService.Estimation.Diagnostics;
 using FusionService.Estimation.Measurements;
 using FusionService.Estimation.Models;
+using FusionService.Estimation.Time;
 using FusionService.Estimation.Tracking;
 using FusionService.Storage.Alerts;
 
@@ -179,7 +180,7 @@ public sealed class AlertEvaluator
 
     private static string Inv(FormattableString text) => text.ToString(CultureInfo.InvariantCulture);
 
-    private static DateTimeOffset ToTime(long timeUs) => DateTimeOffset.UnixEpoch.AddTicks(timeUs * 10);
+    private static DateTimeOffset ToTime(long timeUs) => UnixMicroseconds.ToDateTimeOffset(timeUs);
 
     private static string Time(long timeUs) => ToTime(timeUs).ToString("yyyy-MM-dd'T'HH:mm:ss.ffffff'Z'", CultureInfo.InvariantCulture);
 

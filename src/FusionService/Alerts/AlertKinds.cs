@@ -55,11 +55,5 @@ public static class AlertKinds
     };
 
     /// <summary>The API's name of a sensor: <c>gnss_position</c>, <c>gnss_velocity</c>, <c>wheel</c>, <c>imu</c>.</summary>
-    public static string SensorName(SensorKind sensor) => sensor switch
-    {
-        SensorKind.GnssPosition => "gnss_position",
-        SensorKind.GnssVelocity => "gnss_velocity",
-        SensorKind.WheelSpeed => "wheel",
-        _ => "imu",
-    };
+    public static string SensorName(SensorKind sensor) => SensorNames.Of(sensor);
 }

@@ -3,6 +3,7 @@ using System.Text.Json;
 using FusionService.Database;
 using FusionService.Live;
 using FusionService.Storage.Alerts;
+using FusionService.Storage.Failures;
 using Npgsql;
 
 namespace FusionService.Alerts;
@@ -38,7 +39,7 @@ public sealed class AlertPublisher(
         {
             result = await new AlertRepository(database.DataSource).ApplyAsync(fleetId, vehicleId, observations, PayloadOf, cancellationToken).ConfigureAwait(false);
         }
-        catch (Exception ex) when (ex is NpgsqlException or InvalidOperationException or TimeoutException)
+        catch (Exception ex) when (TransientDatabaseError.Is(ex))
         {
             database.NoteFailure(ex);
             logger.LogWarning(ex, "Alerts of {Fleet}/{Vehicle} could not be stored; they are kept for the next batch", fleetId, vehicleId);

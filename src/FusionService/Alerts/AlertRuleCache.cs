@@ -3,6 +3,7 @@ using System.Collections.Concurrent;
 using System.Text.Json;
 using FusionService.Database;
 using FusionService.Storage.Alerts;
+using FusionService.Storage.Failures;
 using Microsoft.Extensions.Options;
 using Npgsql;
 
@@ -33,7 +34,7 @@ public sealed class AlertRuleCache(FusionDatabase database, IOptions<AlertOption
             Set(fleetId, settings);
             return settings;
         }
-        catch (Exception ex) when (ex is NpgsqlException or InvalidOperationException or TimeoutException or JsonException)
+        catch (Exception ex) when (TransientDatabaseError.Is(ex) || ex is JsonException)
         {
             logger.LogWarning(ex, "Alert rules of fleet {Fleet} could not be read; using the last known settings", fleetId);
             return cached.Settings ?? AlertRuleSettings.Default;

@@ -1,5 +1,6 @@
 // Range checks shared by the rule settings.
 using System.Globalization;
+using FusionService.Estimation.Measurements;
 
 namespace FusionService.Alerts;
 
@@ -12,11 +13,11 @@ internal static class RuleChecks
             : string.Create(CultureInfo.InvariantCulture, $"{field}: must be a number from {min} to {max}; got {value}");
 
     public static string? Sensors(string field, IReadOnlyList<string>? sensors) =>
-        sensors is { Count: > 0 } && sensors.All(s => SensorNames.Contains(s, StringComparer.Ordinal)) && sensors.Distinct(StringComparer.Ordinal).Count() == sensors.Count
+        sensors is { Count: > 0 } && sensors.All(SensorNames.IsName) && sensors.Distinct(StringComparer.Ordinal).Count() == sensors.Count
             ? null
-            : field + ": must be a non-empty list of distinct sensor names from gnss_position, gnss_velocity, wheel, imu";
+            : field + ": must be a non-empty list of distinct sensor names from " + string.Join(", ", SensorNames.AllNames);
 
-    public static bool Includes(IReadOnlyList<string> sensors, Estimation.Measurements.SensorKind sensor)
+    public static bool Includes(IReadOnlyList<string> sensors, SensorKind sensor)
     {
         string name = AlertKinds.SensorName(sensor);
         for (int i = 0; i < sensors.Count; i++)
@@ -29,6 +30,4 @@ internal static class RuleChecks
 
         return false;
     }
-
-    private static readonly string[] SensorNames = ["gnss_position", "gnss_velocity", "wheel", "imu"];
 }

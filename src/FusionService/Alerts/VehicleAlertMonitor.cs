@@ -2,6 +2,7 @@
 using FusionService.Estimation.Diagnostics;
 using FusionService.Estimation.Measurements;
 using FusionService.Estimation.Models;
+using FusionService.Estimation.Time;
 using FusionService.Estimation.Tracking;
 using FusionService.Live;
 using FusionService.Storage.Alerts;
@@ -37,13 +38,13 @@ public sealed class VehicleAlertMonitor
         _evaluator.Observe(m, outcome, posterior, isReplay);
         if (!isReplay && m.Kind == SensorKind.GnssPosition && posterior.HasPlane && posterior.Phase == TrackPhase.Running
             && outcome.Kind is not (OutcomeKind.Duplicate or OutcomeKind.Conflict)
-            && (_position is null || posterior.TimeUs >= (_position.Time.UtcTicks - DateTime.UnixEpoch.Ticks) / 10))
+            && (_position is null || posterior.TimeUs >= UnixMicroseconds.FromDateTimeOffset(_position.Time)))
         {
             var position = TrackProcessor.PositionOf(posterior);
             var ellipse = ErrorEllipse.FromCovariance(posterior.P[0], posterior.P[(1 * StateIndex.Count) + 1], posterior.P[1]);
             _position = new PositionUpdate(
                 _vehicleId,
-                DateTimeOffset.UnixEpoch.AddTicks(posterior.TimeUs * 10),
+                UnixMicroseconds.ToDateTimeOffset(posterior.TimeUs),
                 position.LatitudeDeg,
                 position.LongitudeDeg,
                 TrackProcessor.HeadingToCourse(posterior.X[StateIndex.HeadingRad]) * RadToDeg,

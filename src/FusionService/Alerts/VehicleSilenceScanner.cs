@@ -3,6 +3,7 @@ using System.Globalization;
 using System.Text.Json.Nodes;
 using FusionService.Database;
 using FusionService.Storage.Alerts;
+using FusionService.Storage.Failures;
 using Microsoft.Extensions.Options;
 using Npgsql;
 
@@ -37,7 +38,7 @@ public sealed class VehicleSilenceScanner(
                 {
                     await ScanAsync(stoppingToken).ConfigureAwait(false);
                 }
-                catch (Exception ex) when (ex is NpgsqlException or InvalidOperationException or TimeoutException)
+                catch (Exception ex) when (TransientDatabaseError.Is(ex))
                 {
                     logger.LogWarning(ex, "Silent-vehicle scan failed; retrying at the next tick");
                 }

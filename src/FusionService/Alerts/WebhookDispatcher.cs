@@ -5,6 +5,7 @@ using System.Security.Cryptography;
 using System.Text;
 using FusionService.Database;
 using FusionService.Storage.Alerts;
+using FusionService.Storage.Failures;
 using Microsoft.Extensions.Options;
 using Npgsql;
 
@@ -107,7 +108,7 @@ public sealed class WebhookDispatcher(
                 {
                     return;
                 }
-                catch (Exception ex) when (ex is NpgsqlException or InvalidOperationException or TimeoutException)
+                catch (Exception ex) when (TransientDatabaseError.Is(ex))
                 {
                     database.NoteFailure(ex);
                     logger.LogWarning(ex, "Webhook outbox could not be read; retrying");
@@ -166,7 +167,7 @@ public sealed class WebhookDispatcher(
         {
             succeeded = await DeliverAsync(d, o, stoppingToken).ConfigureAwait(false);
         }
-        catch (Exception ex) when (ex is NpgsqlException or InvalidOperationException or TimeoutException or OperationCanceledException)
+        catch (Exception ex) when (TransientDatabaseError.Is(ex) || ex is OperationCanceledException)
         {
             // The outcome could not be recorded; the lease makes the row due again.
             logger.LogWarning(ex, "Webhook {Delivery}: outcome not recorded; the row is retried after its lease", d.DeliveryId);

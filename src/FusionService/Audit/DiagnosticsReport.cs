@@ -4,7 +4,7 @@ using FusionService.Estimation.Measurements;
 using FusionService.Estimation.Models;
 using FusionService.Estimation.Tracking;
 using FusionService.Storage.Audit;
-using StoredOutcome = FusionService.Storage.Measurements.MeasurementOutcome;
+using FusionService.Storage.Measurements;
 
 using FusionService.Http;
 
@@ -42,12 +42,10 @@ public static class DiagnosticsReport
         var duplicateTotals = await duplicates.TotalsAsync(fleetId, vehicle, fromUs, toUs, cancellationToken).ConfigureAwait(false);
         var latency = await audit.LatencyAsync(fleetId, vehicle, fromUs, toUs, cancellationToken).ConfigureAwait(false);
 
-        var nisCount = new long[4];
-        var nisSum = new double[4];
-        var nisDof = new long[4];
+        NisAccumulator[] nisOf = [new(), new(), new(), new()];
         var dimensionSeen = new int[4];
         var mixed = new bool[4];
-        var outcomeCounts = new Dictionary<(int Kind, StoredOutcome Outcome), long>();
+        var outcomeCounts = new Dictionary<(int Kind, OutcomeKind Outcome), long>();
         var resets = new List<long>();
         var whitened = new AutocorrelationAccumulator?[4, 2];
         await foreach (var sample in audit.VerdictsAsync(fleetId, vehicle, fromUs, toUs, cancellationToken).ConfigureAwait(false))
@@ -60,18 +58,16 @@ public static class DiagnosticsReport
             }
 
             // NIS of the fused measurements only: accepted, not a track reset, NIS present.
-            if (k is < 0 or > 3 || sample.Outcome != StoredOutcome.Accepted || sample.TrackReset || sample.Nis is not { } nis)
+            if (k is < 0 or > 3 || sample.Outcome != OutcomeKind.Accepted || sample.TrackReset || sample.Nis is not { } nis)
             {
                 continue;
             }
 
-            var m = Measurement.FromStored(0, (ulong)(byte)k << 56, sample.V0, sample.V1 ?? double.NaN, 0f);
+            var m = MeasurementRows.ToMeasurement(sample);
             int dimension = processor.InnovationDimension(m);
             AddWhitened(whitened, k, 0, sample.W0, options.WhitenessLags);
             AddWhitened(whitened, k, 1, sample.W1, options.WhitenessLags);
-            nisCount[k]++;
-            nisSum[k] += nis;
-            nisDof[k] += dimension;
+            nisOf[k].Add(nis, dimension);
             mixed[k] |= dimensionSeen[k] != 0 && dimensionSeen[k] != dimension;
             dimensionSeen[k] = dimension;
         }
@@ -80,18 +76,17 @@ public static class DiagnosticsReport
         foreach (var kind in SensorNames.All)
         {
             int k = (int)kind;
-            long Count(StoredOutcome outcome) => outcomeCounts.GetValueOrDefault((k, outcome));
+            long Count(OutcomeKind outcome) => outcomeCounts.GetValueOrDefault((k, outcome));
             double? mean = null;
             NisIntervalResponse? interval = null;
             var verdict = ConsistencyVerdict.Insufficient;
-            if (nisCount[k] > 0)
+            NisAccumulator nis = nisOf[k];
+            if (nis.Count > 0)
             {
-                int n = checked((int)nisCount[k]);
-                int dof = checked((int)nisDof[k]);
-                mean = nisSum[k] / n;
-                (double lower, double upper) = NisConsistencyTest.Interval(n, dof);
+                mean = nis.Mean;
+                (double lower, double upper) = nis.Interval();
                 interval = new NisIntervalResponse(lower, upper);
-                verdict = NisConsistencyTest.Judge(mean.Value, n, dof, options.NisMinimumCount);
+                verdict = nis.Judge(options.NisMinimumCount);
             }
 
             var whiteness = Whiteness(kind, whitened, options);
@@ -103,13 +98,13 @@ public static class DiagnosticsReport
             var l = latency.Where(x => x.Kind == k).Select(x => (LatencySummary?)x).FirstOrDefault();
             sensors.Add(new SensorDiagnostics(
                 SensorNames.Of(kind),
-                Count(StoredOutcome.Accepted),
-                Count(StoredOutcome.Gated),
+                Count(OutcomeKind.Accepted),
+                Count(OutcomeKind.Gated),
                 duplicateTotals.GetValueOrDefault((short)k),
-                Count(StoredOutcome.TooLate),
+                Count(OutcomeKind.TooLate),
                 mean,
-                nisCount[k] > 0 && !mixed[k] ? dimensionSeen[k] : null,
-                nisCount[k],
+                nis.Count > 0 && !mixed[k] ? dimensionSeen[k] : null,
+                nis.Count,
                 interval,
                 overall,
                 l is { } s ? new LatencyPercentilesResponse(s.P50Ms, s.P95Ms, s.P99Ms) : null,

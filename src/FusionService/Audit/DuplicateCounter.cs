@@ -1,8 +1,9 @@
 // Counts duplicate deliveries for the diagnostics (the measurement log drops them).
 using FusionService.Database;
+using FusionService.Estimation.Time;
 using FusionService.Ingest;
 using FusionService.Storage.Audit;
-using FusionService.Storage.Time;
+using FusionService.Storage.Failures;
 
 namespace FusionService.Audit;
 
@@ -30,7 +31,7 @@ public sealed class DuplicateCounter(FusionDatabase database, ILogger<DuplicateC
         {
             await new DuplicateCountRepository(database.DataSource).AddAsync(fleetId, counts.ToList()).ConfigureAwait(false);
         }
-        catch (Exception ex) when (ex is Npgsql.NpgsqlException or TimeoutException or InvalidOperationException)
+        catch (Exception ex) when (TransientDatabaseError.Is(ex))
         {
             database.NoteFailure(ex);
             logger.LogWarning(ex, "Could not count {Count} duplicate messages of fleet {Fleet}", duplicates.Count, fleetId);

@@ -5,9 +5,8 @@ using FusionService.Estimation.Models;
 using FusionService.Estimation.Tracking;
 using FusionService.Storage.Audit;
 using FusionService.Storage.Checkpoints;
+using FusionService.Storage.Measurements;
 using FusionService.Vehicles;
-using CoreOutcome = FusionService.Estimation.Tracking.MeasurementOutcome;
-using StoredOutcome = FusionService.Storage.Measurements.MeasurementOutcome;
 
 using FusionService.Http;
 
@@ -83,15 +82,15 @@ public sealed class ExplainReplay : ITrackObserver
         long? firstUs = fromCheckpoint ? readFromUs : null;
         await foreach (var s in audit.MeasurementsAsync(fleetId, vehicle, readFromUs, replay._windowToUs + 1, cancellationToken).ConfigureAwait(false))
         {
-            var m = Measurement.FromStored(s.TimeUs, ((ulong)(byte)s.Kind << 56) | (ulong)s.MessageKey, s.V0, s.V1 ?? double.NaN, (float)(s.V2 ?? 0));
+            var m = MeasurementRows.ToMeasurement(s);
             if (floor is { } f && VehicleTrack.CompareKey(m, f) <= 0)
             {
                 continue;
             }
 
-            if (s.Outcome == StoredOutcome.TooLate)
+            if (s.Outcome == OutcomeKind.TooLate)
             {
-                replay.OnOutcome(m, CoreOutcome.Of(OutcomeKind.TooLate), default, false);
+                replay.OnOutcome(m, MeasurementOutcome.Of(OutcomeKind.TooLate), default, false);
                 continue;
             }
 
@@ -110,7 +109,7 @@ public sealed class ExplainReplay : ITrackObserver
     }
 
     /// <inheritdoc />
-    public void OnOutcome(in Measurement m, in CoreOutcome outcome, in TrackState posterior, bool isReplay)
+    public void OnOutcome(in Measurement m, in MeasurementOutcome outcome, in TrackState posterior, bool isReplay)
     {
         if (outcome.Kind != OutcomeKind.TooLate && posterior.Phase == TrackPhase.Running && posterior.HasPlane && posterior.TimeUs <= _timeUs)
         {
@@ -133,7 +132,7 @@ public sealed class ExplainReplay : ITrackObserver
             hasInnovation ? outcome.Nis : null,
             hasInnovation ? outcome.Dimension : null,
             hasInnovation ? outcome.GateThreshold : null,
-            SensorNames.Of(outcome.Kind),
+            DecisionNames.Of(outcome.Kind),
             outcome.Kind is OutcomeKind.Accepted or OutcomeKind.Gated or OutcomeKind.TrackReset ? outcome.PositionShiftM : null));
     }
 
@@ -157,26 +156,29 @@ public sealed class ExplainReplay : ITrackObserver
         switch (m.Kind)
         {
             case SensorKind.GnssPosition:
-                values["lat_deg"] = m.Value0;
-                values["lon_deg"] = m.Value1;
-                values["accuracy_m"] = m.Value2;
+                GnssFixView fix = m.AsGnssFix();
+                values["lat_deg"] = fix.LatitudeDeg;
+                values["lon_deg"] = fix.LongitudeDeg;
+                values["accuracy_m"] = fix.AccuracyM;
                 break;
             case SensorKind.GnssVelocity:
-                values["speed_mps"] = m.Value0;
-                if (!double.IsNaN(m.Value1))
+                GnssVelocityView velocity = m.AsGnssVelocity();
+                values["speed_mps"] = velocity.SpeedMps;
+                if (velocity.HasCourse)
                 {
-                    values["course_deg"] = m.Value1 * RadToDeg;
+                    values["course_deg"] = velocity.CourseRad * RadToDeg;
                 }
 
                 break;
             case SensorKind.WheelSpeed:
-                values["speed_mps"] = m.Value0;
+                values["speed_mps"] = m.AsWheelSpeed().SpeedMps;
                 break;
             default:
-                values["yaw_rate_dps"] = m.Value0 * RadToDeg;
-                if (!double.IsNaN(m.Value1))
+                ImuView imu = m.AsImu();
+                values["yaw_rate_dps"] = imu.YawRateRps * RadToDeg;
+                if (imu.HasAccel)
                 {
-                    values["accel_mps2"] = m.Value1;
+                    values["accel_mps2"] = imu.AccelMps2;
                 }
 
                 break;
@@ -186,7 +188,7 @@ public sealed class ExplainReplay : ITrackObserver
     }
 
     /// <summary>The innovation in API units: angles and angular rates in degrees.</summary>
-    private static double[] Residual(SensorKind kind, in CoreOutcome outcome)
+    private static double[] Residual(SensorKind kind, in MeasurementOutcome outcome)
     {
         double first = kind == SensorKind.Imu ? outcome.Innovation0 * RadToDeg : outcome.Innovation0;
         double second = kind == SensorKind.GnssVelocity ? outcome.Innovation1 * RadToDeg : outcome.Innovation1;

@@ -191,11 +191,12 @@ public static class HistoryEndpoints
 
             if (m.Kind == SensorKind.GnssPosition)
             {
-                polyline.Add(m.Value0, m.Value1);
+                GnssFixView fix = m.AsGnssFix();
+                polyline.Add(fix.LatitudeDeg, fix.LongitudeDeg);
             }
             else if (scale.TryAt(m.TimeUs, out double k))
             {
-                odometer.Add(m.TimeUs, m.Value0, k);
+                odometer.Add(m.TimeUs, m.AsWheelSpeed().SpeedMps, k);
             }
         }
 

@@ -1,5 +1,6 @@
 // Parsing and formatting of the history endpoints' times.
 using System.Globalization;
+using FusionService.Estimation.Time;
 using FusionService.Http;
 
 namespace FusionService.History;
@@ -12,5 +13,5 @@ internal static class HistoryTime
 
     /// <summary>RFC 3339 UTC with microseconds, e.g. 2026-05-01T08:30:00.250000Z.</summary>
     public static string Format(long timeUs) =>
-        DateTime.UnixEpoch.AddTicks(timeUs * 10).ToString("yyyy-MM-dd'T'HH:mm:ss.ffffff'Z'", CultureInfo.InvariantCulture);
+        UnixMicroseconds.ToDateTimeUtc(timeUs).ToString("yyyy-MM-dd'T'HH:mm:ss.ffffff'Z'", CultureInfo.InvariantCulture);
 }

@@ -7,6 +7,7 @@ using FusionService.Estimation.Tracking;
 using FusionService.Operations;
 using FusionService.Storage.Checkpoints;
 using FusionService.Storage.History;
+using FusionService.Storage.Measurements;
 using Microsoft.Extensions.Options;
 
 namespace FusionService.History;
@@ -221,8 +222,7 @@ internal sealed class SmoothedTrackBuilder(
                 (short)SensorKind.Imu,
                 s =>
                 {
-                    chunk[filled++] = Measurement.FromStored(
-                        s.TimeUs, ((ulong)(byte)s.Kind << 56) | (ulong)s.MessageKey, s.V0, s.V1 ?? double.NaN, (float)(s.V2 ?? 0));
+                    chunk[filled++] = MeasurementRows.ToMeasurement(s);
                     if (filled == ChunkLength)
                     {
                         chunks.Add(new Chunk(chunk, filled), stop.Token);

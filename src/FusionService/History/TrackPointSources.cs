@@ -1,5 +1,6 @@
 // The points of each kind of track, produced one at a time.
 using System.Runtime.CompilerServices;
+using FusionService.Audit;
 using FusionService.Database;
 using FusionService.Estimation.Diagnostics;
 using FusionService.Estimation.Measurements;
@@ -7,7 +8,6 @@ using FusionService.Estimation.Smoothing;
 using FusionService.Estimation.Tracking;
 using FusionService.Storage.History;
 using static FusionService.Estimation.Models.StateIndex;
-using StoredOutcome = FusionService.Storage.Measurements.MeasurementOutcome;
 
 namespace FusionService.History;
 
@@ -55,7 +55,7 @@ internal static class TrackPointSources
             var ellipse = double.IsFinite(sigma) && sigma > 0 ? ErrorEllipse.FromCovariance(sigma * sigma, sigma * sigma, 0) : default;
             pending = new TrackPoint(
                 s.TimeUs, s.V0, s.V1 ?? double.NaN, null, null, ellipse.SemiMajorM, ellipse.SemiMinorM, ellipse.OrientationRad * RadToDeg, segment,
-                OutcomeName(s.Outcome), s.Nis, double.IsFinite(sigma) ? sigma : null, s.TrackReset);
+                DecisionNames.Of(s.Outcome), s.Nis, double.IsFinite(sigma) ? sigma : null, s.TrackReset);
         }
 
         if (pending is { } last && decimator.Take(last.TimeUs))
@@ -118,20 +118,6 @@ internal static class TrackPointSources
             s.TimesUs[k], position.LatitudeDeg, position.LongitudeDeg, TrackProcessor.HeadingToCourse(s.Means[k][HeadingRad]) * RadToDeg,
             s.Means[k][SpeedMps], ellipse.SemiMajorM, ellipse.SemiMinorM, ellipse.OrientationRad * RadToDeg, segment);
     }
-
-    /// <summary>The API name of a stored outcome.</summary>
-    public static string OutcomeName(StoredOutcome outcome) => outcome switch
-    {
-        StoredOutcome.Accepted => "accepted",
-        StoredOutcome.Gated => "gated",
-        StoredOutcome.TooLate => "too_late",
-        StoredOutcome.Duplicate => "duplicate",
-        StoredOutcome.Pending => "pending",
-        StoredOutcome.Initialising => "initialising",
-        StoredOutcome.BeforeStart => "before_start",
-        StoredOutcome.Unusable => "unusable",
-        _ => "unused",
-    };
 
     /// <summary>Keeps a point when it is the first or at least the step after the last kept one.</summary>
     private sealed class Decimator(long stepUs)

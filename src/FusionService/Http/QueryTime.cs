@@ -1,6 +1,7 @@
 // Time query parameters: RFC 3339 or Unix milliseconds.
 using System.Globalization;
 using System.Text.RegularExpressions;
+using FusionService.Estimation.Time;
 
 namespace FusionService.Http;
 
@@ -65,8 +66,7 @@ public static partial class QueryTime
             return "'" + shown + "' is not " + Formats;
         }
 
-        // Ticks of 0001-01-01 are 0 and the epoch lies after them: the difference cannot overflow.
-        long us = (instant.UtcTicks - DateTime.UnixEpoch.Ticks) / 10;
+        long us = UnixMicroseconds.FromDateTimeOffset(instant);
         if (us is < MinTimeUs or > MaxTimeUs)
         {
             return "'" + shown + "' is outside the accepted range; expected " + Formats;
@@ -77,7 +77,7 @@ public static partial class QueryTime
     }
 
     /// <summary>The instant of <paramref name="timeUs"/> (Unix microseconds) for a response.</summary>
-    public static DateTimeOffset ToTime(long timeUs) => DateTimeOffset.UnixEpoch.AddTicks(timeUs * 10);
+    public static DateTimeOffset ToTime(long timeUs) => UnixMicroseconds.ToDateTimeOffset(timeUs);
 
     [GeneratedRegex(@"^\d{4}-\d{2}-\d{2}[Tt]\d{2}:\d{2}:\d{2}(\.\d{1,7})?([Zz]|[+-]\d{2}:\d{2})\z", RegexOptions.CultureInvariant)]
     private static partial Regex Rfc3339Pattern();

@@ -3,11 +3,12 @@ using System.Text.Json;
 using FusionService.Audit;
 using FusionService.Database;
 using FusionService.Estimation.Measurements;
+using FusionService.Estimation.Time;
+using FusionService.Estimation.Tracking;
 using FusionService.Operations;
 using FusionService.Storage.Measurements;
 using FusionService.Tracking;
 using Microsoft.Extensions.Options;
-using StoredOutcome = FusionService.Storage.Measurements.MeasurementOutcome;
 
 namespace FusionService.Ingest;
 
@@ -32,9 +33,9 @@ public sealed class IngestPipeline(
     /// <summary>A parser with the accepted time window as of now.</summary>
     public TelemetryMessageParser CreateParser()
     {
-        long nowUs = (time.GetUtcNow().UtcTicks - DateTime.UnixEpoch.Ticks) / 10;
+        long nowUs = UnixMicroseconds.Now(time);
         var today = DateOnly.FromDateTime(time.GetUtcNow().UtcDateTime);
-        long minUs = (today.AddDays(-database.Value.DaysBack).ToDateTime(TimeOnly.MinValue, DateTimeKind.Utc).Ticks - DateTime.UnixEpoch.Ticks) / 10;
+        long minUs = UnixMicroseconds.StartOfUtcDay(today.AddDays(-database.Value.DaysBack));
         return new TelemetryMessageParser(options.Value, minUs, nowUs + (long)(options.Value.MaxFutureSkewS * 1e6));
     }
 
@@ -68,7 +69,7 @@ public sealed class IngestPipeline(
             parsed[i] = message;
             foreach (var m in message.Measurements)
             {
-                rows.Add(ToRow(fleetId, message.VehicleId, m, received));
+                rows.Add(MeasurementRows.ToRow(fleetId, message.VehicleId, m, received));
             }
         }
 
@@ -85,7 +86,7 @@ public sealed class IngestPipeline(
                 continue;
             }
 
-            var first = ToRow(fleetId, message.VehicleId, message.Measurements[0], received);
+            var first = MeasurementRows.ToRow(fleetId, message.VehicleId, message.Measurements[0], received);
             if (inserted.Remove(MeasurementKey.Of(first)))
             {
                 accepted++;
@@ -188,7 +189,7 @@ public sealed class IngestPipeline(
         {
             foreach (var m in message.Measurements)
             {
-                keys.Add(MeasurementKey.Of(ToRow(fleetId, message.VehicleId, m, received)));
+                keys.Add(MeasurementKey.Of(MeasurementRows.ToRow(fleetId, message.VehicleId, m, received)));
             }
         }
 
@@ -208,7 +209,7 @@ public sealed class IngestPipeline(
         {
             foreach (var m in message.Measurements)
             {
-                if (pending.Contains(MeasurementKey.Of(ToRow(fleetId, message.VehicleId, m, received))))
+                if (pending.Contains(MeasurementKey.Of(MeasurementRows.ToRow(fleetId, message.VehicleId, m, received))))
                 {
                     if (!fresh.TryGetValue(message.VehicleId, out var list))
                     {
@@ -223,20 +224,4 @@ public sealed class IngestPipeline(
 
     private static IReadOnlyList<DroppedField>? Dropped(ParsedMessage message) =>
         message.DroppedFields.Count > 0 ? message.DroppedFields : null;
-
-    /// <summary>The stored row of a core measurement (NaN values are stored as SQL NULL).</summary>
-    public static MeasurementRow ToRow(Guid fleetId, string vehicleId, in Measurement m, DateTime receivedUtc) => new(
-        fleetId,
-        vehicleId,
-        (short)m.Kind,
-        m.TimeUs,
-        (long)m.MessageKey,
-        receivedUtc,
-        m.Value0,
-        double.IsNaN(m.Value1) ? null : m.Value1,
-        m.Value2,
-        0,
-        StoredOutcome.Pending,
-        null,
-        false);
 }

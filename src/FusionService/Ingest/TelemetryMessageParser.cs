@@ -3,6 +3,7 @@ using System.Globalization;
 using System.Text.Json;
 using System.Text.RegularExpressions;
 using FusionService.Estimation.Measurements;
+using FusionService.Estimation.Time;
 
 namespace FusionService.Ingest;
 
@@ -327,7 +328,7 @@ public sealed partial class TelemetryMessageParser(IngestOptions options, long m
                 throw new FieldException("time", "must be an RFC 3339 date-time with an offset (e.g. 2026-05-01T08:30:00.250Z)");
             }
 
-            timeUs = (instant.UtcTicks - DateTime.UnixEpoch.Ticks) / 10;
+            timeUs = UnixMicroseconds.FromDateTimeOffset(instant);
         }
         else if (t.ValueKind == JsonValueKind.Number)
         {
@@ -351,7 +352,7 @@ public sealed partial class TelemetryMessageParser(IngestOptions options, long m
 
         if (timeUs < minTimeUs)
         {
-            throw new FieldException("time", "is older than the storage window (starts " + DateTime.UnixEpoch.AddTicks(minTimeUs * 10).ToString("O", CultureInfo.InvariantCulture) + ")");
+            throw new FieldException("time", "is older than the storage window (starts " + UnixMicroseconds.ToDateTimeUtc(minTimeUs).ToString("O", CultureInfo.InvariantCulture) + ")");
         }
 
         return timeUs;

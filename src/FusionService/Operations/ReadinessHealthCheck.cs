@@ -1,5 +1,6 @@
 // Readiness: PostgreSQL reachable, migrations applied, Orleans up.
 using FusionService.Database;
+using FusionService.Storage.Failures;
 using Microsoft.Extensions.Diagnostics.HealthChecks;
 using Npgsql;
 
@@ -37,7 +38,7 @@ internal sealed partial class ReadinessHealthCheck(FusionDatabase database, Silo
                     : HealthCheckResult.Unhealthy("migrations not applied: " + string.Join(", ", missing));
             }
         }
-        catch (Exception ex) when (ex is NpgsqlException or InvalidOperationException or TimeoutException)
+        catch (Exception ex) when (TransientDatabaseError.Is(ex))
         {
             // The exception's message can name hosts, users or database objects: it goes to the log, not to whoever
             // can reach this unauthenticated endpoint.

@@ -1,4 +1,5 @@
 // Bearer-key authentication, role check and per-key rate limit for one endpoint.
+using FusionService.Storage.Failures;
 using FusionService.Storage.Fleets;
 using Npgsql;
 
@@ -64,7 +65,7 @@ internal sealed class ApiKeyFilter(ApiKeyRole[] roles) : IEndpointFilter
                     caller = await resolver.ResolveAsync(secret, http.RequestAborted).ConfigureAwait(false);
                 }
             }
-            catch (Exception ex) when (ex is NpgsqlException or InvalidOperationException or TimeoutException)
+            catch (Exception ex) when (TransientDatabaseError.Is(ex))
             {
                 http.RequestServices.GetRequiredService<Database.FusionDatabase>().NoteFailure(ex);
                 http.Response.Headers.RetryAfter = "5";

@@ -1,5 +1,6 @@
 // Ends open WebSocket streams whose API key is revoked or expires.
 using FusionService.Database;
+using FusionService.Storage.Failures;
 using FusionService.Storage.Fleets;
 using Microsoft.Extensions.Options;
 using Npgsql;
@@ -108,7 +109,7 @@ public sealed class StreamKeyWatch(
                 {
                     await CheckAsync(stoppingToken).ConfigureAwait(false);
                 }
-                catch (Exception ex) when (ex is NpgsqlException or InvalidOperationException or TimeoutException)
+                catch (Exception ex) when (TransientDatabaseError.Is(ex))
                 {
                     database.NoteFailure(ex);
                     logger.LogWarning("Could not re-check the keys of open streams ({Reason}); retrying at the next tick", ex.GetBaseException().Message);

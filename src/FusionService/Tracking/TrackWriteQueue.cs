@@ -1,6 +1,7 @@
 // Background writer of the tracks' fused states and outcome updates.
 using System.Threading.Channels;
 using FusionService.Database;
+using FusionService.Storage.Failures;
 using FusionService.Storage.FusedStates;
 using FusionService.Storage.Measurements;
 using Microsoft.Extensions.Options;
@@ -282,7 +283,7 @@ public sealed class TrackWriteQueue : BackgroundService
         {
             return false;
         }
-        catch (Exception ex) when (ex is Npgsql.NpgsqlException or InvalidOperationException or TimeoutException or IOException)
+        catch (Exception ex) when (TransientDatabaseError.Is(ex) || ex is IOException)
         {
             if (_database.NoteFailure(ex))
             {

@@ -4,14 +4,14 @@ using FusionService.Database;
 using FusionService.Estimation.Diagnostics;
 using FusionService.Estimation.Measurements;
 using FusionService.Estimation.Models;
+using FusionService.Estimation.Time;
 using FusionService.Estimation.Tracking;
 using FusionService.Operations;
 using FusionService.Storage.Checkpoints;
+using FusionService.Storage.Failures;
 using FusionService.Storage.FusedStates;
 using FusionService.Storage.Measurements;
 using Microsoft.Extensions.Options;
-using CoreOutcome = FusionService.Estimation.Tracking.MeasurementOutcome;
-using StoredOutcome = FusionService.Storage.Measurements.MeasurementOutcome;
 
 namespace FusionService.Tracking;
 
@@ -73,7 +73,7 @@ internal sealed class VehicleTrackGrain(
         var checkpoint = await gate.RunAsync(
             () => new FilterCheckpointRepository(database.DataSource).NewestCheckpointBeforeAsync(_fleetId, _vehicleId, long.MaxValue, cancellationToken),
             cancellationToken);
-        long nowUs = (time.GetUtcNow().UtcTicks - DateTime.UnixEpoch.Ticks) / 10;
+        long nowUs = UnixMicroseconds.Now(time);
         long fromUs = nowUs - ((databaseOptions.Value.DaysBack + 1) * 86_400_000_000L);
         long fromFloorUs = fromUs;
         Measurement? floor = null;
@@ -94,12 +94,12 @@ internal sealed class VehicleTrackGrain(
         int replayed = 0;
         foreach (var s in stored)
         {
-            if (s.Outcome == StoredOutcome.TooLate)
+            if (s.Outcome == OutcomeKind.TooLate)
             {
                 continue;
             }
 
-            var m = Measurement.FromStored(s.TimeUs, ((ulong)(byte)s.Kind << 56) | (ulong)s.MessageKey, s.V0, s.V1 ?? double.NaN, (float)(s.V2 ?? 0));
+            var m = MeasurementRows.ToMeasurement(s);
             if (floor is { } f && VehicleTrack.CompareKey(m, f) <= 0)
             {
                 continue;
@@ -120,7 +120,7 @@ internal sealed class VehicleTrackGrain(
                 cancellationToken);
             foreach (var s in pending)
             {
-                var m = Measurement.FromStored(s.TimeUs, ((ulong)(byte)s.Kind << 56) | (ulong)s.MessageKey, s.V0, s.V1 ?? double.NaN, (float)(s.V2 ?? 0));
+                var m = MeasurementRows.ToMeasurement(s);
                 if (VehicleTrack.CompareKey(m, restoredFloor) <= 0)
                 {
                     _track.Process(m, this);
@@ -146,7 +146,7 @@ internal sealed class VehicleTrackGrain(
         {
             await PersistCheckpointAsync();
         }
-        catch (Exception ex) when (ex is Npgsql.NpgsqlException or InvalidOperationException or TimeoutException)
+        catch (Exception ex) when (TransientDatabaseError.Is(ex))
         {
             logger.LogWarning(ex, "Track {Key} could not store its checkpoint at deactivation", this.GetPrimaryKeyString());
         }
@@ -231,7 +231,7 @@ internal sealed class VehicleTrackGrain(
         }
 
         _deadSeen = dead;
-        long nowUs = (time.GetUtcNow().UtcTicks - DateTime.UnixEpoch.Ticks) / 10;
+        long nowUs = UnixMicroseconds.Now(time);
         long lookBackUs = (long)Math.Round(Math.Max(options.Value.PendingLookBackMin, 1) * 6e7);
         long fromUs = _track.NewestTimeUs == long.MinValue
             ? nowUs - ((databaseOptions.Value.DaysBack + 1) * 86_400_000_000L)
@@ -240,7 +240,7 @@ internal sealed class VehicleTrackGrain(
             () => new MeasurementRepository(database.DataSource).ReadPendingWithSnapshotAsync(_fleetId, _vehicleId, fromUs, nowUs + (7 * 86_400_000_000L)));
         foreach (var s in pending)
         {
-            _track.Process(Measurement.FromStored(s.TimeUs, ((ulong)(byte)s.Kind << 56) | (ulong)s.MessageKey, s.V0, s.V1 ?? double.NaN, (float)(s.V2 ?? 0)), this);
+            _track.Process(MeasurementRows.ToMeasurement(s), this);
         }
 
         _restored = snapshot;
@@ -361,7 +361,7 @@ internal sealed class VehicleTrackGrain(
         _historySpacingUs > 0 && _track.BaseCheckpointLast is { } last
         && (_lastHistoryUs == long.MinValue || last.TimeUs - _lastHistoryUs >= _historySpacingUs);
 
-    void ITrackObserver.OnOutcome(in Measurement m, in CoreOutcome outcome, in TrackState posterior, bool isReplay)
+    void ITrackObserver.OnOutcome(in Measurement m, in MeasurementOutcome outcome, in TrackState posterior, bool isReplay)
     {
         _monitor?.Observe(m, outcome, posterior, isReplay);
         if (outcome.Kind is OutcomeKind.Duplicate or OutcomeKind.Conflict)
@@ -435,15 +435,15 @@ internal sealed class VehicleTrackGrain(
             ellipse.OrientationRad);
     }
 
-    private static StoredOutcome ToStored(OutcomeKind kind) => kind switch
+    private static OutcomeKind ToStored(OutcomeKind kind) => kind switch
     {
-        OutcomeKind.Accepted or OutcomeKind.TrackReset => StoredOutcome.Accepted,
-        OutcomeKind.Gated => StoredOutcome.Gated,
-        OutcomeKind.TooLate => StoredOutcome.TooLate,
-        OutcomeKind.Initialising => StoredOutcome.Initialising,
-        OutcomeKind.BeforeStart => StoredOutcome.BeforeStart,
-        OutcomeKind.Unusable => StoredOutcome.Unusable,
-        _ => StoredOutcome.Unused,
+        OutcomeKind.Accepted or OutcomeKind.TrackReset => OutcomeKind.Accepted,
+        OutcomeKind.Gated => OutcomeKind.Gated,
+        OutcomeKind.TooLate => OutcomeKind.TooLate,
+        OutcomeKind.Initialising => OutcomeKind.Initialising,
+        OutcomeKind.BeforeStart => OutcomeKind.BeforeStart,
+        OutcomeKind.Unusable => OutcomeKind.Unusable,
+        _ => OutcomeKind.Unused,
     };
 
     private void FlushWrites()

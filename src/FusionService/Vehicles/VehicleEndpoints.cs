@@ -2,6 +2,7 @@
 using FusionService.Database;
 using FusionService.Estimation.Diagnostics;
 using FusionService.Estimation.Models;
+using FusionService.Estimation.Time;
 using FusionService.Estimation.Tracking;
 using FusionService.Security;
 using FusionService.Storage.Fleets;
@@ -190,7 +191,7 @@ public static class VehicleEndpoints
             LocationCaution.Text);
     }
 
-    private static DateTimeOffset ToTime(long timeUs) => DateTimeOffset.UnixEpoch.AddTicks(timeUs * 10);
+    private static DateTimeOffset ToTime(long timeUs) => UnixMicroseconds.ToDateTimeOffset(timeUs);
 
     private static ProblemHttpResult BadRequest(string detail) =>
         TypedResults.Problem(title: "Invalid request", detail: detail, statusCode: StatusCodes.Status400BadRequest);

@@ -55,9 +55,7 @@ public sealed class FilterConsistencyTests(ITestOutputHelper output)
     {
         var processor = new TrackProcessor(Options, Profile);
         var neesByEpoch = new SortedDictionary<long, double>();
-        var nisSum = new double[4];
-        var nisDof = new int[4];
-        var nisCount = new int[4];
+        NisAccumulator[] nisOf = [new(), new(), new(), new()];
         for (int run = 0; run < Runs; run++)
         {
             ScenarioRun scenario = Scenario(run);
@@ -68,9 +66,7 @@ public sealed class FilterConsistencyTests(ITestOutputHelper output)
                 MeasurementOutcome outcome = processor.Process(ref state, m);
                 int k = (int)m.Kind;
                 Assert.True(outcome.Kind == OutcomeKind.Accepted, $"run {run}: {m.Kind} at {(m.TimeUs - startUs) / 1e6} s was {outcome.Kind}, NIS {outcome.Nis}");
-                nisSum[k] += outcome.Nis;
-                nisDof[k] += outcome.Dimension;
-                nisCount[k]++;
+                nisOf[k].Add(outcome.Nis, outcome.Dimension);
 
                 if (m.Kind == SensorKind.GnssPosition)
                 {
@@ -90,10 +86,10 @@ public sealed class FilterConsistencyTests(ITestOutputHelper output)
 
         foreach (SensorKind kind in Enum.GetValues<SensorKind>())
         {
-            int k = (int)kind;
-            double mean = nisSum[k] / nisCount[k];
-            (double lo, double hi) = NisConsistencyTest.Interval(nisCount[k], nisDof[k]);
-            output.WriteLine($"{kind}: mean NIS {mean:F4} over {nisCount[k]} innovations ({nisDof[k]} dof), band [{lo:F4}, {hi:F4}]");
+            NisAccumulator nis = nisOf[(int)kind];
+            double mean = nis.Mean;
+            (double lo, double hi) = nis.Interval();
+            output.WriteLine($"{kind}: mean NIS {mean:F4} over {nis.Count} innovations ({nis.Dof} dof), band [{lo:F4}, {hi:F4}]");
             Assert.InRange(mean, lo, hi);
         }
     }

@@ -105,7 +105,9 @@ public sealed class PoisonMeasurementTests
         var drive = SimpleDrive.Create(seed: 71, durationS: 120, gyroBiasRps: 0.003);
         var clean = drive.Measurements.OrderBy(m => m.TimeUs).ThenBy(m => m.OrderKey).ToList();
         var fix = clean.First(m => m.Kind == SensorKind.GnssPosition && m.TimeUs > SimpleDrive.StartUs + 70_000_000);
-        var poison = Measurement.FromStored(fix.TimeUs + 500_000, ((ulong)SensorKind.GnssPosition << 56) | PoisonKey, fix.Value0, fix.Value1, float.PositiveInfinity);
+        GnssFixView at = fix.AsGnssFix();
+        var poison = Measurement.FromStored(
+            fix.TimeUs + 500_000, Measurement.OrderKeyOf(SensorKind.GnssPosition, PoisonKey), at.LatitudeDeg, at.LongitudeDeg, float.PositiveInfinity);
         var withPoison = clean.Append(poison).OrderBy(m => m.TimeUs).ThenBy(m => m.OrderKey).ToList();
         return (clean, withPoison, poison);
     }

@@ -1,9 +1,10 @@
 // The replay read (binary COPY export): same rows as the row-by-row reader, duplicates left out, exact values.
+using FusionService.Estimation.Time;
+using FusionService.Estimation.Tracking;
 using FusionService.Storage.History;
 using FusionService.Storage.Measurements;
 using FusionService.Storage.Partitions;
 using FusionService.Storage.Tests.Infrastructure;
-using FusionService.Storage.Time;
 
 namespace FusionService.Storage.Tests.History;
 
@@ -24,18 +25,18 @@ public sealed class ReplayReadTests(PostgresFixture server)
         var t = TestTimes.At(TestTimes.Day, 23, 59, 59, 999_000);
         MeasurementRow[] rows =
         [
-            Row(Fleet, Vehicle, 3, t + 500, 8, 0.1, null, null, MeasurementOutcome.Accepted),
-            Row(Fleet, Vehicle, 0, t, 17, 52.520008, 13.404954, 0.1, MeasurementOutcome.Gated),
-            Row(Fleet, Vehicle, 2, t, 3, -0.0, null, null, MeasurementOutcome.TooLate),
-            Row(Fleet, Vehicle, 1, t, 99, double.Epsilon, double.MaxValue, null, MeasurementOutcome.Pending),
-            Row(Fleet, Vehicle, 1, t, 100, 1.0, 2.0, 3.0, MeasurementOutcome.Duplicate),
+            Row(Fleet, Vehicle, 3, t + 500, 8, 0.1, null, null, OutcomeKind.Accepted),
+            Row(Fleet, Vehicle, 0, t, 17, 52.520008, 13.404954, 0.1, OutcomeKind.Gated),
+            Row(Fleet, Vehicle, 2, t, 3, -0.0, null, null, OutcomeKind.TooLate),
+            Row(Fleet, Vehicle, 1, t, 99, double.Epsilon, double.MaxValue, null, OutcomeKind.Pending),
+            Row(Fleet, Vehicle, 1, t, 100, 1.0, 2.0, 3.0, OutcomeKind.Duplicate),
             // Across midnight UTC: the next day's partition.
-            Row(Fleet, Vehicle, 2, t + 1_000, 4, -1.25e-300, null, null, MeasurementOutcome.Accepted),
+            Row(Fleet, Vehicle, 2, t + 1_000, 4, -1.25e-300, null, null, OutcomeKind.Accepted),
             // Outside the window, another vehicle, another fleet, a kind above the wanted range.
-            Row(Fleet, Vehicle, 2, t + 2_000, 5, 9.0, null, null, MeasurementOutcome.Accepted),
-            Row(Fleet, "van-4", 2, t, 6, 9.0, null, null, MeasurementOutcome.Accepted),
-            Row(OtherFleet, Vehicle, 2, t, 7, 9.0, null, null, MeasurementOutcome.Accepted),
-            Row(Fleet, Vehicle, 4, t, 9, 9.0, null, null, MeasurementOutcome.Accepted),
+            Row(Fleet, Vehicle, 2, t + 2_000, 5, 9.0, null, null, OutcomeKind.Accepted),
+            Row(Fleet, "van-4", 2, t, 6, 9.0, null, null, OutcomeKind.Accepted),
+            Row(OtherFleet, Vehicle, 2, t, 7, 9.0, null, null, OutcomeKind.Accepted),
+            Row(Fleet, Vehicle, 4, t, 9, 9.0, null, null, OutcomeKind.Accepted),
         ];
         await using (var connection = await schema.OpenAsync())
         {
@@ -46,7 +47,7 @@ public sealed class ReplayReadTests(PostgresFixture server)
         var expected = new List<StoredMeasurementValues>();
         await foreach (var s in reader.StreamMeasurementsAsync(Fleet, Vehicle, t, t + 2_000, 0, 3))
         {
-            if (s.Outcome != MeasurementOutcome.Duplicate)
+            if (s.Outcome != OutcomeKind.Duplicate)
             {
                 expected.Add(s);
             }
@@ -91,7 +92,7 @@ public sealed class ReplayReadTests(PostgresFixture server)
         {
             double? v1 = i % 3 == 0 ? null : BitConverter.Int64BitsToDouble(random.NextInt64(0, long.MaxValue));
             double? v2 = i % 5 == 0 ? null : random.NextDouble() * 1e6;
-            rows[i] = Row(Fleet, Vehicle, (short)(i % 4), t + (i * 50_000L), i, (random.NextDouble() - 0.5) * 1e3, v1, v2, MeasurementOutcome.Accepted);
+            rows[i] = Row(Fleet, Vehicle, (short)(i % 4), t + (i * 50_000L), i, (random.NextDouble() - 0.5) * 1e3, v1, v2, OutcomeKind.Accepted);
         }
 
         await using (var connection = await schema.OpenAsync())
@@ -132,6 +133,6 @@ public sealed class ReplayReadTests(PostgresFixture server)
     }
 
     private static MeasurementRow Row(
-        Guid fleet, string vehicle, short kind, long timeUs, long key, double v0, double? v1, double? v2, MeasurementOutcome outcome) =>
+        Guid fleet, string vehicle, short kind, long timeUs, long key, double v0, double? v1, double? v2, OutcomeKind outcome) =>
         new(fleet, vehicle, kind, timeUs, key, UnixMicroseconds.ToDateTimeUtc(timeUs + 250_000), v0, v1, v2, 0, outcome, null, false);
 }

@@ -1,6 +1,6 @@
 // Fixed instants used by the storage tests (never today's date).
-using FusionService.Storage.Time;
 
+using FusionService.Estimation.Time;
 namespace FusionService.Storage.Tests.Infrastructure;
 
 /// <summary>Fixed days and instants; no assertion depends on the clock.</summary>

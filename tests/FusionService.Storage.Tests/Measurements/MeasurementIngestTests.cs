@@ -1,10 +1,11 @@
 // Idempotent ingest, bulk outcome updates, fused-state upserts, vehicle queries and migration 0002.
+using FusionService.Estimation.Time;
+using FusionService.Estimation.Tracking;
 using FusionService.Storage.Fleets;
 using FusionService.Storage.FusedStates;
 using FusionService.Storage.Measurements;
 using FusionService.Storage.Partitions;
 using FusionService.Storage.Tests.Infrastructure;
-using FusionService.Storage.Time;
 using FusionService.Storage.Vehicles;
 using Npgsql;
 
@@ -15,7 +16,7 @@ public sealed class MeasurementIngestTests(PostgresFixture server)
 {
     private static MeasurementRow Row(Guid fleet, string vehicle, long timeUs, long key, short kind = 2) => new(
         fleet, vehicle, kind, timeUs, key, UnixMicroseconds.ToDateTimeUtc(timeUs + 1000), 1.5, null, null, 0,
-        MeasurementOutcome.Pending, null, false);
+        OutcomeKind.Pending, null, false);
 
     private async Task<(TestSchema Schema, Guid Fleet)> NewStoreAsync()
     {
@@ -75,22 +76,22 @@ public sealed class MeasurementIngestTests(PostgresFixture server)
         var k2 = new MeasurementKey(fleet, "van-1", 2, t, 2);
         Assert.Equal(2, await MeasurementVerdictLog.AppendAsync(schema.DataSource,
         [
-            new(k1, MeasurementOutcome.Gated, 12.5, false),
-            new(k2, MeasurementOutcome.Initialising, null, false),
-            new(k1, MeasurementOutcome.Accepted, 0.75, true),
+            new(k1, OutcomeKind.Gated, 12.5, false),
+            new(k2, OutcomeKind.Initialising, null, false),
+            new(k1, OutcomeKind.Accepted, 0.75, true),
         ]));
 
         // A later flush re-judges k2 (as a replay after late data would): a new row, not an update.
-        Assert.Equal(1, await MeasurementVerdictLog.AppendAsync(schema.DataSource, [new(k2, MeasurementOutcome.Accepted, 2.25, false)]));
+        Assert.Equal(1, await MeasurementVerdictLog.AppendAsync(schema.DataSource, [new(k2, OutcomeKind.Accepted, 2.25, false)]));
         Assert.Equal(3L, await schema.ScalarAsync<long>("SELECT count(*) FROM measurement_verdicts"));
         Assert.Equal(3L, await schema.ScalarAsync<long>("SELECT count(*) FROM measurements WHERE outcome = 4"));
 
         var rows = await new MeasurementRepository(schema.DataSource).ReadAsync(fleet, "van-1", t, t + 1);
-        Assert.Equal((MeasurementOutcome.Accepted, 0.75, true), (rows[0].Outcome, rows[0].Nis!.Value, rows[0].TrackReset));
-        Assert.Equal((MeasurementOutcome.Accepted, 2.25, false), (rows[1].Outcome, rows[1].Nis!.Value, rows[1].TrackReset));
+        Assert.Equal((OutcomeKind.Accepted, 0.75, true), (rows[0].Outcome, rows[0].Nis!.Value, rows[0].TrackReset));
+        Assert.Equal((OutcomeKind.Accepted, 2.25, false), (rows[1].Outcome, rows[1].Nis!.Value, rows[1].TrackReset));
 
         // A measurement without a verdict keeps the row's own columns (pending since it was stored).
-        Assert.Equal((MeasurementOutcome.Pending, (double?)null, false), (rows[2].Outcome, rows[2].Nis, rows[2].TrackReset));
+        Assert.Equal((OutcomeKind.Pending, (double?)null, false), (rows[2].Outcome, rows[2].Nis, rows[2].TrackReset));
     }
 
     [Fact]
@@ -104,10 +105,10 @@ public sealed class MeasurementIngestTests(PostgresFixture server)
         var k2 = new MeasurementKey(fleet, "van-1", 2, t, 2);
         await MeasurementVerdictLog.AppendAsync(schema.DataSource,
         [
-            new(k1, MeasurementOutcome.Accepted, 1.25, false) { Whitened0 = 0.5f, Whitened1 = -1.0f },
-            new(k2, MeasurementOutcome.Initialising, null, false),
+            new(k1, OutcomeKind.Accepted, 1.25, false) { Whitened0 = 0.5f, Whitened1 = -1.0f },
+            new(k2, OutcomeKind.Initialising, null, false),
         ]);
-        await MeasurementVerdictLog.AppendAsync(schema.DataSource, [new(k1, MeasurementOutcome.Accepted, 4.0, false) { Whitened0 = -2.0f }]);
+        await MeasurementVerdictLog.AppendAsync(schema.DataSource, [new(k1, OutcomeKind.Accepted, 4.0, false) { Whitened0 = -2.0f }]);
 
         var samples = new List<FusionService.Storage.Audit.VerdictSample>();
         await foreach (var sample in new FusionService.Storage.Audit.AuditRepository(schema.DataSource).VerdictsAsync(fleet, "van-1", t, t + 1))

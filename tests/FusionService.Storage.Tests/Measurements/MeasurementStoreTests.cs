@@ -1,8 +1,9 @@
 // Measurements: binary COPY in, Dapper out, exact values, NULLs, partitions, atomicity.
+using FusionService.Estimation.Time;
+using FusionService.Estimation.Tracking;
 using FusionService.Storage.Measurements;
 using FusionService.Storage.Partitions;
 using FusionService.Storage.Tests.Infrastructure;
-using FusionService.Storage.Time;
 using Npgsql;
 
 namespace FusionService.Storage.Tests.Measurements;
@@ -168,7 +169,7 @@ public sealed class MeasurementStoreTests(PostgresFixture server)
 
     private static MeasurementRow Row(long timeUs, long key) => new(
         Fleet, "van-1", 1, timeUs, key, UnixMicroseconds.ToDateTimeUtc(timeUs + 250_000), 1.0, null, null, 0,
-        MeasurementOutcome.Accepted, null, false);
+        OutcomeKind.Accepted, null, false);
 
     private static MeasurementRow[] SampleRows()
     {
@@ -178,20 +179,20 @@ public sealed class MeasurementStoreTests(PostgresFixture server)
             // Three values, every optional present; 0.1 is not exactly representable in binary, so only a
             // bit-exact binary transfer returns it unchanged.
             new(Fleet, "van-1", 0, t, 17, UnixMicroseconds.ToDateTimeUtc(t + 1_500_001), 52.520008, 13.404954, 0.1,
-                0x5, MeasurementOutcome.Accepted, 0.37, false),
+                0x5, OutcomeKind.Accepted, 0.37, false),
             // Same instant, other kind, smaller key: ordering is time, then kind, then key.
             new(Fleet, "van-1", 2, t, 3, UnixMicroseconds.ToDateTimeUtc(t + 2), -0.0, null, null,
-                0, MeasurementOutcome.Pending, null, true),
+                0, OutcomeKind.Pending, null, true),
             new(Fleet, "van-1", 1, t, 99, UnixMicroseconds.ToDateTimeUtc(t + 3), double.Epsilon, double.MaxValue, null,
-                int.MinValue, MeasurementOutcome.Gated, 1e300, false),
+                int.MinValue, OutcomeKind.Gated, 1e300, false),
             // Earlier in time, written last: the read must sort it first.
             new(Fleet, "van-1", 1, t - 1, long.MinValue, UnixMicroseconds.ToDateTimeUtc(t), -1.25e-300, -7.5, 1e-9,
-                int.MaxValue, MeasurementOutcome.TooLate, 0.0, false),
+                int.MaxValue, OutcomeKind.TooLate, 0.0, false),
             new(Fleet, "van-1", short.MaxValue, t + 1, long.MaxValue, UnixMicroseconds.ToDateTimeUtc(t + 86_400_000_000L), 3.0, 4.0, 5.0,
-                0, MeasurementOutcome.Duplicate, null, false),
+                0, OutcomeKind.Duplicate, null, false),
             // Next UTC day, first microsecond.
             new(Fleet, "van-1", 0, TestTimes.At(TestTimes.Day.AddDays(1), 0, 0, 0, 0), 1, UnixMicroseconds.ToDateTimeUtc(t), 1, 2, 3,
-                0, MeasurementOutcome.Accepted, 2.5, false),
+                0, OutcomeKind.Accepted, 2.5, false),
         ];
     }
 

@@ -1,9 +1,10 @@
 // Daily partitions: window created ahead, idempotent, retention drops old days with their rows.
+using FusionService.Estimation.Time;
+using FusionService.Estimation.Tracking;
 using FusionService.Storage.FusedStates;
 using FusionService.Storage.Measurements;
 using FusionService.Storage.Partitions;
 using FusionService.Storage.Tests.Infrastructure;
-using FusionService.Storage.Time;
 using Npgsql;
 
 namespace FusionService.Storage.Tests.Partitions;
@@ -155,7 +156,7 @@ public sealed class PartitionMaintainerTests(PostgresFixture server)
 
     private static MeasurementRow Measurement(long timeUs) => new(
         Guid.Parse("0195a0c1-0000-7000-8000-0000000000a1"), "van-1", 0, timeUs, 1, UnixMicroseconds.ToDateTimeUtc(timeUs),
-        1, 2, null, 0, MeasurementOutcome.Accepted, null, false);
+        1, 2, null, 0, OutcomeKind.Accepted, null, false);
 
     private static FusedStateRow FusedState(long timeUs) => new(
         Guid.Parse("0195a0c1-0000-7000-8000-0000000000a1"), "van-1", timeUs, 50, 8, 0, 0, 0, 0, 0, 1, new double[36], 1, 1, 0);

@@ -61,8 +61,8 @@ public sealed class ExplainTests(ServiceFixture fixture)
                 var (m, outcome) = expected[i];
                 var e = entries[i];
                 Assert.Equal(m.TimeUs, DiagnosticsTests.ToUs(e.GetProperty("time")));
-                Assert.Equal(FusionService.Audit.SensorNames.Of(m.Kind), e.GetProperty("sensor").GetString());
-                Assert.Equal(FusionService.Audit.SensorNames.Of(outcome.Kind), e.GetProperty("decision").GetString());
+                Assert.Equal(SensorNames.Of(m.Kind), e.GetProperty("sensor").GetString());
+                Assert.Equal(FusionService.Audit.DecisionNames.Of(outcome.Kind), e.GetProperty("decision").GetString());
                 if (outcome.Kind is OutcomeKind.Accepted or OutcomeKind.Gated)
                 {
                     double shift = e.GetProperty("position_shift_m").GetDouble();

@@ -2,6 +2,7 @@
 using System.Net;
 using FusionService.Estimation.Measurements;
 using FusionService.Ingest;
+using FusionService.Storage.Measurements;
 using FusionService.Tests.Infrastructure;
 
 namespace FusionService.Tests.History;
@@ -36,12 +37,12 @@ public sealed class SmoothingFailureTests(ServiceFixture fixture)
             measurements.Add(Measurement.WheelSpeed(timeUs, key++, 0.0));
         }
 
-        var rows = measurements.Select(m => IngestPipeline.ToRow(fleet.Id, Vehicle, m, DateTime.UtcNow)).ToList();
+        var rows = measurements.Select(m => MeasurementRows.ToRow(fleet.Id, Vehicle, m, DateTime.UtcNow)).ToList();
         int poisoned = rows.FindIndex(r => r.Kind == (short)SensorKind.WheelSpeed && r.TimeUs >= startUs + 30_000_000);
         // A message key with more than the 56 bits keys have: its top bits read back as part of the kind (an IMU sample
         // with the largest key), which sorts after the IMU sample stored beside it, so the replay meets it out of order.
         rows[poisoned] = rows[poisoned] with { MessageKey = (long)((1UL << 57) - 1) };
-        rows.Insert(poisoned + 1, IngestPipeline.ToRow(fleet.Id, Vehicle, Measurement.Imu(rows[poisoned].TimeUs, key, 0.0, 0.0), DateTime.UtcNow));
+        rows.Insert(poisoned + 1, MeasurementRows.ToRow(fleet.Id, Vehicle, Measurement.Imu(rows[poisoned].TimeUs, key, 0.0, 0.0), DateTime.UtcNow));
         await fixture.StoreWithoutTrackAsync(rows);
 
         using var client = fixture.Client(fleet.ReadKey);

@@ -69,7 +69,7 @@ public sealed class CommitTokenTests(ServiceFixture fixture)
     private async Task<long> CommitAsync(Guid fleetId, string vehicle, TelemetryDrive drive, int from, int to)
     {
         var rows = drive.Messages.Skip(from).Take(to - from).SelectMany(m => m.Core)
-            .Select(m => IngestPipeline.ToRow(fleetId, vehicle, m, DateTime.UtcNow)).ToList();
+            .Select(m => MeasurementRows.ToRow(fleetId, vehicle, m, DateTime.UtcNow)).ToList();
         await using var connection = await fixture.Store.OpenConnectionAsync();
         await using var transaction = await connection.BeginTransactionAsync();
         Assert.Equal(rows.Count, (await MeasurementIngest.InsertNewAsync(connection, transaction, rows)).Count);

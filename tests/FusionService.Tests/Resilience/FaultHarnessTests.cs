@@ -9,6 +9,7 @@ using System.Text.Json.Nodes;
 using FusionService.Alerts;
 using FusionService.Estimation.Measurements;
 using FusionService.Ingest;
+using FusionService.Storage.Measurements;
 using FusionService.Tests.Infrastructure;
 using FusionService.Vehicles;
 using Npgsql;
@@ -166,8 +167,8 @@ public sealed class FaultHarnessTests(ServiceFixture fixture, ITestOutputHelper 
                 var anchor = drive.Messages.Take(next).SelectMany(m => m.Core).Last(m => m.Kind == SensorKind.GnssPosition);
                 long timeUs = drive.Messages[next].Core.Min(m => m.TimeUs) - 1;
                 var poison = Measurement.FromStored(
-                    timeUs, ((ulong)SensorKind.GnssPosition << 56) | MessageKeys.FromId("stored-poison"), anchor.Value0, anchor.Value1, float.PositiveInfinity);
-                await fixture.StoreWithoutTrackAsync([IngestPipeline.ToRow(fleet.Id, vehicle, poison, DateTime.UtcNow) with { V2 = 1e50 }]);
+                    timeUs, Measurement.OrderKeyOf(SensorKind.GnssPosition, MessageKeys.FromId("stored-poison")), anchor.AsGnssFix().LatitudeDeg, anchor.AsGnssFix().LongitudeDeg, float.PositiveInfinity);
+                await fixture.StoreWithoutTrackAsync([MeasurementRows.ToRow(fleet.Id, vehicle, poison, DateTime.UtcNow) with { V2 = 1e50 }]);
                 stored[vehicle] = poison;
 
                 // Among valid messages: two wheel samples of another vehicle of the fleet, at instants its drive has no wheel sample.

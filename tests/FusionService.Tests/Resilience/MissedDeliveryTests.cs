@@ -1,5 +1,6 @@
 // A committed batch that never reached its track (a grain call that timed out) is recovered from the store.
 using FusionService.Ingest;
+using FusionService.Storage.Measurements;
 using FusionService.Tests.Infrastructure;
 using FusionService.Tracking;
 using Microsoft.Extensions.DependencyInjection;
@@ -56,5 +57,5 @@ public sealed class MissedDeliveryTests(ServiceFixture fixture)
     }
 
     private Task StoreWithoutTrackAsync(Guid fleetId, string vehicle, IEnumerable<FusionService.Estimation.Measurements.Measurement> measurements) =>
-        fixture.StoreWithoutTrackAsync([.. measurements.Select(m => IngestPipeline.ToRow(fleetId, vehicle, m, DateTime.UtcNow))]);
+        fixture.StoreWithoutTrackAsync([.. measurements.Select(m => MeasurementRows.ToRow(fleetId, vehicle, m, DateTime.UtcNow))]);
 }

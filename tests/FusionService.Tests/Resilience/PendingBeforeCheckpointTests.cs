@@ -1,6 +1,7 @@
 // Stored rows that never reached a track and lie before its checkpoint are judged when the track activates.
 using FusionService.Estimation.Measurements;
 using FusionService.Ingest;
+using FusionService.Storage.Measurements;
 using FusionService.Tests.Infrastructure;
 using FusionService.Tracking;
 using Microsoft.Extensions.DependencyInjection;
@@ -37,7 +38,7 @@ public sealed class PendingBeforeCheckpointTests(ServiceFixture fixture)
         var lost = Enumerable.Range(0, 3)
             .Select(i => Measurement.WheelSpeed(firstUs + 250_000 + (i * 1_000_000L), MessageKeys.FromId("lost-" + i.ToString(System.Globalization.CultureInfo.InvariantCulture)), 6.5))
             .ToList();
-        await fixture.StoreWithoutTrackAsync([.. lost.Select(m => IngestPipeline.ToRow(fleet.Id, Vehicle, m, DateTime.UtcNow))]);
+        await fixture.StoreWithoutTrackAsync([.. lost.Select(m => MeasurementRows.ToRow(fleet.Id, Vehicle, m, DateTime.UtcNow))]);
         Assert.Equal(3, await fixture.CountAsync("SELECT count(*) FROM " + JudgedSql.OfFleet + " WHERE outcome = 4", fleet.Id));
         Assert.True(await fixture.CountAsync("SELECT coalesce(max(time_us), 0) FROM filter_checkpoints WHERE fleet_id = $1", fleet.Id) > lost[^1].TimeUs);
 

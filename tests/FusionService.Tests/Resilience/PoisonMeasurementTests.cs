@@ -2,6 +2,7 @@
 using FusionService.Alerts;
 using FusionService.Estimation.Measurements;
 using FusionService.Ingest;
+using FusionService.Storage.Measurements;
 using FusionService.Tests.Infrastructure;
 using FusionService.Tracking;
 using Microsoft.Extensions.DependencyInjection;
@@ -29,7 +30,7 @@ public sealed class PoisonMeasurementTests(ServiceFixture fixture)
         var fix = drive.Messages[PoisonAfter - 1].Core.Max(m => m.TimeUs);
         var anchor = drive.Messages.Take(PoisonAfter).SelectMany(m => m.Core).Last(m => m.Kind == SensorKind.GnssPosition);
         var poison = Measurement.FromStored(
-            fix + 1, ((ulong)SensorKind.GnssPosition << 56) | MessageKeys.FromId("poison-fix"), anchor.Value0, anchor.Value1, float.PositiveInfinity);
+            fix + 1, Measurement.OrderKeyOf(SensorKind.GnssPosition, MessageKeys.FromId("poison-fix")), anchor.AsGnssFix().LatitudeDeg, anchor.AsGnssFix().LongitudeDeg, float.PositiveInfinity);
 
         await using (var first = new ServiceFactory(fixture.ConnectionString))
         {
@@ -39,7 +40,7 @@ public sealed class PoisonMeasurementTests(ServiceFixture fixture)
                 await client.IngestOkAsync(drive.Body(from, from + 50));
             }
 
-            var row = IngestPipeline.ToRow(fleet.Id, Vehicle, poison, DateTime.UtcNow) with { V2 = 1e50 };
+            var row = MeasurementRows.ToRow(fleet.Id, Vehicle, poison, DateTime.UtcNow) with { V2 = 1e50 };
             var (inserted, sequence) = await first.Services.GetRequiredService<GroupCommitWriter>().CommitAsync([row]);
             Assert.Single(inserted);
             var fresh = new Dictionary<string, List<TrackMeasurement>>(StringComparer.Ordinal) { [Vehicle] = [TrackMeasurement.From(poison)] };

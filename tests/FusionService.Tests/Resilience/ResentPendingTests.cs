@@ -1,6 +1,7 @@
 // A batch whose COMMIT reached the server while its client saw a failure (503) is resent; the resent messages are
 // duplicates, and their measurements must still reach the track.
 using FusionService.Ingest;
+using FusionService.Storage.Measurements;
 using FusionService.Tests.Infrastructure;
 using FusionService.Tracking;
 using Microsoft.Extensions.DependencyInjection;
@@ -22,7 +23,7 @@ public sealed class ResentPendingTests(ServiceFixture fixture)
 
         // Committed, but the answer never reached the client: the rows are stored, no track was handed them.
         await fixture.StoreWithoutTrackAsync([.. drive.Messages.Skip(LostFrom).Take(LostTo - LostFrom)
-            .SelectMany(m => m.Core).Select(m => IngestPipeline.ToRow(fleet.Id, Vehicle, m, DateTime.UtcNow))]);
+            .SelectMany(m => m.Core).Select(m => MeasurementRows.ToRow(fleet.Id, Vehicle, m, DateTime.UtcNow))]);
         var resent = await client.IngestOkAsync(drive.Body(LostFrom, LostTo));
         Assert.Equal(0, resent.Accepted);
         Assert.Equal(LostTo - LostFrom, resent.Duplicate);

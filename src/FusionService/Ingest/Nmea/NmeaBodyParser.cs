@@ -1,5 +1,6 @@
 // Reads GGA and RMC sentences of one body into GNSS fixes.
 using System.Globalization;
+using FusionService.Estimation.Time;
 
 namespace FusionService.Ingest.Nmea;
 
@@ -328,8 +329,7 @@ public static class NmeaBodyParser
         return new Rmc(line, time, new DateOnly(2000 + year, month, day), speed, course, null, null) { DroppedFields = dropped };
     }
 
-    private static long StartOfDayUs(DateOnly date) =>
-        (date.ToDateTime(TimeOnly.MinValue, DateTimeKind.Utc).Ticks - DateTime.UnixEpoch.Ticks) / 10;
+    private static long StartOfDayUs(DateOnly date) => UnixMicroseconds.StartOfUtcDay(date);
 
     private sealed record Gga(int Line, long TimeOfDayUs, double LatDeg, double LonDeg, double Hdop, string? IgnoredReason);
 

@@ -3,6 +3,7 @@ using System.Globalization;
 using System.Text;
 using System.Text.Json;
 using System.Text.Json.Nodes;
+using FusionService.Estimation.Time;
 using FusionService.Security;
 using FusionService.Storage.Fleets;
 using Microsoft.AspNetCore.Http.HttpResults;
@@ -150,7 +151,7 @@ public static class NmeaEndpoints
         {
             ["vehicle"] = vehicle,
             ["kind"] = "gnss",
-            ["time"] = DateTimeOffset.UnixEpoch.AddTicks(fix.TimeUs * 10).ToString("yyyy-MM-dd'T'HH:mm:ss.ffffff'Z'", CultureInfo.InvariantCulture),
+            ["time"] = UnixMicroseconds.ToDateTimeUtc(fix.TimeUs).ToString("yyyy-MM-dd'T'HH:mm:ss.ffffff'Z'", CultureInfo.InvariantCulture),
             ["lat_deg"] = fix.LatDeg,
             ["lon_deg"] = fix.LonDeg,
             ["hdop"] = fix.Hdop,

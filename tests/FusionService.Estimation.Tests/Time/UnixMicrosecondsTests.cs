@@ -1,7 +1,7 @@
 // Unix microsecond conversions.
-using FusionService.Storage.Time;
+using FusionService.Estimation.Time;
 
-namespace FusionService.Storage.Tests.Time;
+namespace FusionService.Estimation.Tests.Time;
 
 public sealed class UnixMicrosecondsTests
 {
