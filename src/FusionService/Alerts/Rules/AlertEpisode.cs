@@ -1,6 +1,6 @@
 // One open (or not yet opened) alert of one kind for one vehicle.
-using FusionService.Storage.Alerts;
 using System.Text.Json.Nodes;
+using FusionService.Storage.Alerts;
 
 namespace FusionService.Alerts.Rules;
 
