@@ -12,7 +12,8 @@ namespace FusionService.Tracking;
 public static class TrackingExtensions
 {
     /// <summary>
-    /// Adds the track processor (default options, delivery-van noise profile), <see cref="TrackWriteQueue"/> and an
+    /// Adds the track processor (default options, delivery-van noise profile), <see cref="TrackWriteQueue"/>, the track
+    /// grains' collaborators (<see cref="TrackStore"/>, <see cref="TrackPartsFactory"/>) and an
     /// Orleans silo (section <c>Orleans</c>, see <see cref="OrleansSiloSettings"/>). Clustering is localhost (one silo)
     /// by default; <c>Orleans:ClusterMode=Postgres</c> joins every process with the same <c>Orleans:ClusterId</c> on
     /// the same PostgreSQL into one cluster, its membership kept by <see cref="PostgresMembershipTable"/>. The grain
@@ -28,6 +29,8 @@ public static class TrackingExtensions
         builder.Services.AddSingleton(TimeProvider.System);
         builder.Services.AddSingleton<TrackWriteQueue>();
         builder.Services.AddSingleton<TrackStoreGate>();
+        builder.Services.AddSingleton<TrackStore>();
+        builder.Services.AddSingleton<TrackPartsFactory>();
         builder.Services.AddSingleton<TrackDispatcher>();
         builder.Services.AddHostedService(sp => sp.GetRequiredService<TrackWriteQueue>());
         var settings = OrleansSiloSettings.From(builder.Configuration);

@@ -1,4 +1,7 @@
 // A copy of a vehicle track's current state for readers.
+using FusionService.Estimation.Models;
+using FusionService.Estimation.Tracking;
+
 namespace FusionService.Tracking;
 
 /// <summary>The current state of a vehicle's track, as the grain hands it out.</summary>
@@ -21,4 +24,30 @@ public sealed record VehicleStateSnapshot(
     [property: Id(4)] double[] State,
     [property: Id(5)] double[] Covariance,
     [property: Id(6)] long?[] LastTimeUsBySensor,
-    [property: Id(7)] int Resets);
+    [property: Id(7)] int Resets)
+{
+    /// <summary>The snapshot of a running track's state <paramref name="s"/>, or null while it is not running.</summary>
+    internal static VehicleStateSnapshot? Of(in TrackState s, long?[] lastTimeUsBySensor)
+    {
+        if (!s.HasPlane || s.Phase != TrackPhase.Running)
+        {
+            return null;
+        }
+
+        var position = TrackProcessor.PositionOf(s);
+        var x = new double[StateIndex.Count];
+        var p = new double[StateIndex.Count * StateIndex.Count];
+        for (int i = 0; i < x.Length; i++)
+        {
+            x[i] = s.X[i];
+        }
+
+        for (int i = 0; i < p.Length; i++)
+        {
+            p[i] = s.P[i];
+        }
+
+        const string phase = "running";
+        return new VehicleStateSnapshot(s.TimeUs, phase, position.LatitudeDeg, position.LongitudeDeg, x, p, lastTimeUsBySensor, s.Resets);
+    }
+}

@@ -1,0 +1,62 @@
+// What a vehicle track reads from and writes to PostgreSQL itself, through the store gate.
+using FusionService.Database;
+using FusionService.Storage.Checkpoints;
+using FusionService.Storage.Measurements;
+
+namespace FusionService.Tracking;
+
+/// <summary>
+/// The track grains' own store calls (restore reads, catch-up reads, checkpoints), each through
+/// <see cref="TrackStoreGate"/> so that a burst of activations queues instead of draining the connection pool. Verdicts
+/// and fused states go through <see cref="TrackWriteQueue"/> instead. One per process.
+/// </summary>
+internal sealed class TrackStore(FusionDatabase database, TrackStoreGate gate)
+{
+    /// <summary>The vehicle's newest stored checkpoint, or null.</summary>
+    public Task<FilterCheckpointRow?> NewestCheckpointAsync(Guid fleetId, string vehicleId, CancellationToken cancellationToken) =>
+        gate.RunAsync(
+            () => new FilterCheckpointRepository(database.DataSource).NewestCheckpointBeforeAsync(fleetId, vehicleId, long.MaxValue, cancellationToken),
+            cancellationToken);
+
+    /// <summary>The vehicle's stored measurements in [<paramref name="fromUs"/>, <paramref name="toUs"/>) with the snapshot they were read under.</summary>
+    public Task<(IReadOnlyList<MeasurementRow> Rows, CommitSnapshot Snapshot)> ReadWithSnapshotAsync(
+        Guid fleetId, string vehicleId, long fromUs, long toUs, CancellationToken cancellationToken) =>
+        gate.RunAsync(
+            () => new MeasurementRepository(database.DataSource).ReadWithSnapshotAsync(fleetId, vehicleId, fromUs, toUs, cancellationToken),
+            cancellationToken);
+
+    /// <summary>The vehicle's stored measurements in [<paramref name="fromUs"/>, <paramref name="toUs"/>) that have no verdict yet.</summary>
+    public Task<IReadOnlyList<MeasurementRow>> ReadPendingAsync(
+        Guid fleetId, string vehicleId, long fromUs, long toUs, CancellationToken cancellationToken) =>
+        gate.RunAsync(
+            () => new MeasurementRepository(database.DataSource).ReadPendingAsync(fleetId, vehicleId, fromUs, toUs, cancellationToken),
+            cancellationToken);
+
+    /// <summary><see cref="ReadPendingAsync"/> with the snapshot it was read under.</summary>
+    public Task<(IReadOnlyList<MeasurementRow> Rows, CommitSnapshot Snapshot)> ReadPendingWithSnapshotAsync(
+        Guid fleetId, string vehicleId, long fromUs, long toUs) =>
+        gate.RunAsync(() => new MeasurementRepository(database.DataSource).ReadPendingWithSnapshotAsync(fleetId, vehicleId, fromUs, toUs));
+
+    /// <summary>
+    /// Stores <paramref name="checkpoint"/> and deletes the vehicle's checkpoints after <paramref name="supersededAfterUs"/>
+    /// and before it, which it supersedes.
+    /// </summary>
+    public Task StoreCheckpointAsync(FilterCheckpointRow checkpoint, long supersededAfterUs)
+    {
+        var checkpoints = new FilterCheckpointRepository(database.DataSource);
+        return gate.RunAsync(async () =>
+        {
+            await checkpoints.UpsertAsync(checkpoint);
+            await checkpoints.DeleteBetweenAsync(checkpoint.FleetId, checkpoint.VehicleId, supersededAfterUs, checkpoint.TimeUs);
+            return true;
+        });
+    }
+
+    /// <summary>Deletes the vehicle's checkpoints from <paramref name="fromUs"/> on.</summary>
+    public Task DeleteCheckpointsFromAsync(Guid fleetId, string vehicleId, long fromUs) =>
+        gate.RunAsync(async () =>
+        {
+            await new FilterCheckpointRepository(database.DataSource).DeleteFromAsync(fleetId, vehicleId, fromUs);
+            return true;
+        });
+}
