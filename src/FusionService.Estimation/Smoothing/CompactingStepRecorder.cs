@@ -144,7 +144,7 @@ public sealed class CompactingStepRecorder : IStepRecorder
             throw new InvalidOperationException("Predicted before Start");
         }
 
-        _skipNext = _hasPair && IsIdentity(f) && Same(xPredicted, _xPost) && Same(pPredicted, _pPost);
+        _skipNext = _hasPair && MatrixKernels.SameBits(f, StateIdentity.Value) && MatrixKernels.SameBits(xPredicted, _xPost) && MatrixKernels.SameBits(pPredicted, _pPost);
         if (_skipNext)
         {
             // The updates that follow belong to the pending pair, whose posterior they replace.
@@ -191,7 +191,7 @@ public sealed class CompactingStepRecorder : IStepRecorder
                 }
             }
 
-            MultiplyTransposed(_sigma, _fNext, ref _sigmaPred);
+            MatrixKernels.MultiplyByTransposedTransition(_sigma, _fNext, ref _sigmaPred);
             _xPred = _xNext;
             _pairSlot = 1 - _pairSlot;
             _hasPair = true;
@@ -279,7 +279,7 @@ public sealed class CompactingStepRecorder : IStepRecorder
 
         // D = Π - Σ⁻ Gᵀ.
         StateMatrix product = default;
-        MultiplyRows(_sigmaPred, gT, product);
+        MatrixKernels.Multiply(_sigmaPred, gT, product);
         StateMatrix d = _pi;
         for (int i = 0; i < StateMatrix.Length; i++)
         {
@@ -287,7 +287,7 @@ public sealed class CompactingStepRecorder : IStepRecorder
         }
 
         StateMatrix g = default;
-        Transpose(gT, ref g);
+        MatrixKernels.Transpose(gT, ref g);
         s.Means[_r] = _mu;
         s.Covariances[_r] = d;
         s.Gains[_r] = g;
@@ -427,7 +427,7 @@ public sealed class CompactingStepRecorder : IStepRecorder
         }
 
         StateMatrix product = default;
-        MultiplyRows(diff, gT, product);
+        MatrixKernels.Multiply(diff, gT, product);
         for (int i = 0; i < StateMatrix.Length; i++)
         {
             _pi[i] += product[i];
@@ -437,82 +437,18 @@ public sealed class CompactingStepRecorder : IStepRecorder
         _hasPair = false;
     }
 
-    /// <summary>
-    /// Gᵀ = P⁻¹ Σ⁻ᵀ (G = Σ⁻ P⁻¹, P symmetric positive definite) by one Cholesky factorisation and forward and back
-    /// substitution on whole rows of Σ⁻ᵀ at once: the same operations in the same order as a solve per row of G, so the
-    /// result is the same to the last bit.
-    /// </summary>
+    /// <summary>Gᵀ = P⁻¹ Σ⁻ᵀ (G = Σ⁻ P⁻¹, P symmetric positive definite) by one Cholesky factorisation.</summary>
     private static void SolveGainTransposed(in StateMatrix sigmaPred, in StateMatrix pPred, ref StateMatrix gT)
     {
         Span<double> chol = stackalloc double[StateMatrix.Length];
-        for (int i = 0; i < StateMatrix.Length; i++)
-        {
-            chol[i] = pPred[i];
-        }
-
-        if (!ExtendedKalmanFilter.CholeskyInPlace(chol, N))
+        ((ReadOnlySpan<double>)pPred).CopyTo(chol);
+        if (!Cholesky.FactorInPlace(chol, N))
         {
             throw new FilterDivergenceException("predicted covariance is not positive definite while compacting the forward pass");
         }
 
-        Transpose(sigmaPred, ref gT);
-        Span<double> t = gT;
-        ref double tr = ref MemoryMarshal.GetReference(t);
-        for (int c = 0; c < N; c++)
-        {
-            var row = StateRow.Load(ref tr, c * N);
-            for (int k = 0; k < c; k++)
-            {
-                row -= StateRow.Broadcast(chol[(c * N) + k]) * StateRow.Load(ref tr, k * N);
-            }
-
-            (row / StateRow.Broadcast(chol[(c * N) + c])).Store(ref tr, c * N);
-        }
-
-        for (int c = N - 1; c >= 0; c--)
-        {
-            var row = StateRow.Load(ref tr, c * N);
-            for (int k = c + 1; k < N; k++)
-            {
-                row -= StateRow.Broadcast(chol[(k * N) + c]) * StateRow.Load(ref tr, k * N);
-            }
-
-            (row / StateRow.Broadcast(chol[(c * N) + c])).Store(ref tr, c * N);
-        }
-    }
-
-    /// <summary>result = a fᵀ, by <see cref="CarriedOverTransitionProduct"/> when f's rows 4 and on are diagonal.</summary>
-    private static void MultiplyTransposed(in StateMatrix a, in StateMatrix f, ref StateMatrix result)
-    {
-        if (CarriedOverTransitionProduct.Applies(f))
-        {
-            CarriedOverTransitionProduct.Multiply(a, f, result);
-            return;
-        }
-
-        StateMatrix fT = default;
-        Transpose(f, ref fT);
-        MultiplyRows(a, fT, result);
-    }
-
-    /// <summary>
-    /// result = a b, each row of the result summed over l in ascending order from zero (the order of the scalar loops
-    /// this replaces, without fused multiply-add, so the sums are the same to the last bit).
-    /// </summary>
-    private static void MultiplyRows(ReadOnlySpan<double> a, ReadOnlySpan<double> b, Span<double> result)
-    {
-        ref double br = ref MemoryMarshal.GetReference(b);
-        ref double rr = ref MemoryMarshal.GetReference(result);
-        for (int i = 0; i < N; i++)
-        {
-            var row = StateRow.Zero;
-            for (int l = 0; l < N; l++)
-            {
-                row += StateRow.Broadcast(a[(i * N) + l]) * StateRow.Load(ref br, l * N);
-            }
-
-            row.Store(ref rr, i * N);
-        }
+        MatrixKernels.Transpose(sigmaPred, ref gT);
+        Cholesky.SolveInPlace(chol, ref gT);
     }
 
     /// <summary>Two covariances inline.</summary>
@@ -521,26 +457,4 @@ public sealed class CompactingStepRecorder : IStepRecorder
     {
         private StateMatrix _element0;
     }
-
-    private static void Transpose(in StateMatrix a, ref StateMatrix result)
-    {
-        for (int i = 0; i < N; i++)
-        {
-            for (int j = 0; j < N; j++)
-            {
-                result[(j * N) + i] = a[(i * N) + j];
-            }
-        }
-    }
-
-    /// <summary>Whether <paramref name="f"/> is the identity bit for bit (what the filter hands over when no time passed).</summary>
-    private static bool IsIdentity(in StateMatrix f) => Same(f, StateIdentity.Value);
-
-    /// <summary>Bitwise equality: a prediction over no time copies the posterior unchanged.</summary>
-    private static bool Same(in StateVector a, in StateVector b) =>
-        MemoryMarshal.AsBytes((ReadOnlySpan<double>)a).SequenceEqual(MemoryMarshal.AsBytes((ReadOnlySpan<double>)b));
-
-    /// <summary>Bitwise equality, compared as bytes (vectorised) rather than element by element.</summary>
-    private static bool Same(in StateMatrix a, in StateMatrix b) =>
-        MemoryMarshal.AsBytes((ReadOnlySpan<double>)a).SequenceEqual(MemoryMarshal.AsBytes((ReadOnlySpan<double>)b));
 }

@@ -40,9 +40,6 @@ public static class RauchTungStriebelSmoother
         planes[count - 1] = last.Plane;
         means[count - 1] = last.Filtered;
         covariances[count - 1] = last.FilteredCovariance;
-        Span<double> chol = stackalloc double[StateMatrix.Length];
-        Span<double> column = stackalloc double[N];
-        Span<double> dx = stackalloc double[N];
         for (int k = count - 2; k >= 0; k--)
         {
             ForwardStep step = segment[k];
@@ -54,102 +51,64 @@ public static class RauchTungStriebelSmoother
                 throw new ArgumentException($"step {k + 1} of the segment has no prediction", nameof(segment));
             }
 
-            // C(k)ᵀ solves P(k+1|k) Cᵀ = F P(k|k).
-            for (int i = 0; i < StateMatrix.Length; i++)
-            {
-                chol[i] = next.PredictedCovariance[i];
-            }
-
-            if (!ExtendedKalmanFilter.CholeskyInPlace(chol, N))
-            {
-                throw new FilterDivergenceException($"predicted covariance at step {k + 1} is not positive definite");
-            }
-
-            StateMatrix gain = default;
-            for (int col = 0; col < N; col++)
-            {
-                // Column col of Cᵀ = row col of C.
-                for (int i = 0; i < N; i++)
-                {
-                    double sum = 0;
-                    for (int j = 0; j < N; j++)
-                    {
-                        sum += next.Transition[(i * N) + j] * step.FilteredCovariance[(j * N) + col];
-                    }
-
-                    column[i] = sum;
-                }
-
-                ExtendedKalmanFilter.ForwardSubstitute(chol, N, column);
-                ExtendedKalmanFilter.BackSubstitute(chol, N, column);
-                for (int i = 0; i < N; i++)
-                {
-                    gain[(col * N) + i] = column[i];
-                }
-            }
-
-            for (int i = 0; i < N; i++)
-            {
-                dx[i] = means[k + 1][i] - next.Predicted[i];
-            }
-
-            dx[HeadingRad] = Angles.WrapPi(dx[HeadingRad]);
-            StateVector mean = step.Filtered;
-            for (int i = 0; i < N; i++)
-            {
-                double sum = 0;
-                for (int j = 0; j < N; j++)
-                {
-                    sum += gain[(i * N) + j] * dx[j];
-                }
-
-                mean[i] += sum;
-            }
-
-            mean[HeadingRad] = Angles.WrapPi(mean[HeadingRad]);
-
-            StateMatrix dp = default;
-            for (int i = 0; i < StateMatrix.Length; i++)
-            {
-                dp[i] = covariances[k + 1][i] - next.PredictedCovariance[i];
-            }
-
-            StateMatrix cov = step.FilteredCovariance;
-            StateMatrix cdp = default;
-            for (int i = 0; i < N; i++)
-            {
-                for (int j = 0; j < N; j++)
-                {
-                    double sum = 0;
-                    for (int l = 0; l < N; l++)
-                    {
-                        sum += gain[(i * N) + l] * dp[(l * N) + j];
-                    }
-
-                    cdp[(i * N) + j] = sum;
-                }
-            }
-
-            for (int i = 0; i < N; i++)
-            {
-                for (int j = 0; j < N; j++)
-                {
-                    double sum = 0;
-                    for (int l = 0; l < N; l++)
-                    {
-                        sum += cdp[(i * N) + l] * gain[(j * N) + l];
-                    }
-
-                    cov[(i * N) + j] += sum;
-                }
-            }
-
-            ExtendedKalmanFilter.Symmetrize(ref cov);
-            means[k] = mean;
-            covariances[k] = cov;
-            gains[k] = gain;
+            SmootherGain(step, next, k, ref gains[k]);
+            means[k] = SmoothedMean(step, next, means[k + 1], gains[k]);
+            covariances[k] = SmoothedCovariance(step, next, covariances[k + 1], gains[k]);
         }
 
         return new SmoothedSegment(times, planes, means, covariances, gains);
+    }
+
+    /// <summary>
+    /// C(k) = P(k|k) F(k+1)ᵀ P(k+1|k)⁻¹, by solving P(k+1|k) C(k)ᵀ = F(k+1) P(k|k) with the Cholesky factor of the
+    /// predicted covariance.
+    /// </summary>
+    /// <exception cref="FilterDivergenceException">P(k+1|k) is not positive definite.</exception>
+    private static void SmootherGain(in ForwardStep step, in ForwardStep next, int k, ref StateMatrix gain)
+    {
+        Span<double> chol = stackalloc double[StateMatrix.Length];
+        ((ReadOnlySpan<double>)next.PredictedCovariance).CopyTo(chol);
+        if (!Cholesky.FactorInPlace(chol, N))
+        {
+            throw new FilterDivergenceException($"predicted covariance at step {k + 1} is not positive definite");
+        }
+
+        StateMatrix gainTransposed = default;
+        MatrixKernels.Multiply(next.Transition, step.FilteredCovariance, gainTransposed);
+        Cholesky.SolveInPlace(chol, ref gainTransposed);
+        MatrixKernels.Transpose(gainTransposed, ref gain);
+    }
+
+    /// <summary>x(k|N) = x(k|k) + C(k) [x(k+1|N) - x(k+1|k)], heading difference and result wrapped to (-π, π].</summary>
+    private static StateVector SmoothedMean(in ForwardStep step, in ForwardStep next, in StateVector smoothedNext, in StateMatrix gain)
+    {
+        Span<double> dx = stackalloc double[N];
+        for (int i = 0; i < N; i++)
+        {
+            dx[i] = smoothedNext[i] - next.Predicted[i];
+        }
+
+        dx[HeadingRad] = Angles.WrapPi(dx[HeadingRad]);
+        StateVector mean = step.Filtered;
+        MatrixKernels.AddMultiply(ref mean, gain, dx);
+        mean[HeadingRad] = Angles.WrapPi(mean[HeadingRad]);
+        return mean;
+    }
+
+    /// <summary>P(k|N) = P(k|k) + C(k) [P(k+1|N) - P(k+1|k)] C(k)ᵀ, symmetrised.</summary>
+    private static StateMatrix SmoothedCovariance(in ForwardStep step, in ForwardStep next, in StateMatrix smoothedNext, in StateMatrix gain)
+    {
+        StateMatrix dp = default;
+        for (int i = 0; i < StateMatrix.Length; i++)
+        {
+            dp[i] = smoothedNext[i] - next.PredictedCovariance[i];
+        }
+
+        StateMatrix cdp = default;
+        MatrixKernels.Multiply(gain, dp, cdp);
+        StateMatrix cov = step.FilteredCovariance;
+        MatrixKernels.AddMultiplyByTransposed(ref cov, cdp, gain);
+        MatrixKernels.Symmetrize(ref cov);
+        return cov;
     }
 }

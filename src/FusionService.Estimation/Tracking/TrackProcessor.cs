@@ -439,7 +439,7 @@ public sealed class TrackProcessor
             if (recorder is not null)
             {
                 // F I = F: the usual single step needs no product.
-                total = totalIsIdentity ? f : Multiply(f, total);
+                total = totalIsIdentity ? f : MatrixKernels.MultiplySkippingZeros(f, total);
                 totalIsIdentity = false;
             }
 
@@ -499,7 +499,7 @@ public sealed class TrackProcessor
         }
 
         s.Plane = plane;
-        jacobian = Multiply(j, jacobian);
+        jacobian = MatrixKernels.MultiplySkippingZeros(j, jacobian);
     }
 
     private MeasurementOutcome UpdateGnssPosition(ref TrackState s, in Measurement m, IStepRecorder? recorder)
@@ -868,7 +868,7 @@ public sealed class TrackProcessor
     }
 
     /// <summary>
-    /// <see cref="ExtendedKalmanFilter.TryUpdateJoseph(ref StateVector, ref StateMatrix, ReadOnlySpan{double}, ReadOnlySpan{double}, ReadOnlySpan{double}, double, out double, ref UpdateFactors, bool)"/>
+    /// <see cref="ExtendedKalmanFilter.UpdateJosephGated(ref StateVector, ref StateMatrix, ReadOnlySpan{double}, ReadOnlySpan{double}, ReadOnlySpan{double}, double, out double, ref UpdateFactors, bool)"/>
     /// on the track's state; an applied update's factors go to the recorder, if any. <paramref name="whitened"/> receives
     /// the whitened innovation L⁻¹ ν (S = L Lᵀ), gated or not.
     /// </summary>
@@ -877,8 +877,8 @@ public sealed class TrackProcessor
         IStepRecorder? recorder, Span<double> whitened = default)
     {
         UpdateFactors factors = default;
-        bool applied = ExtendedKalmanFilter.TryUpdateJoseph(
-            ref s.X, ref s.P, residual, h, r, threshold, out nis, ref factors, captureFactors: recorder is not null);
+        bool applied = ExtendedKalmanFilter.UpdateJosephGated(
+            ref s.X, ref s.P, residual, h, r, threshold, out nis, ref factors, captureFactors: recorder is not null) == GateDecision.Accepted;
         ((ReadOnlySpan<double>)factors.Whitened)[..Math.Min(whitened.Length, factors.Dimension)].CopyTo(whitened);
         if (applied)
         {
@@ -897,28 +897,5 @@ public sealed class TrackProcessor
         double course = (0.5 * Math.PI) - headingRad;
         course %= 2.0 * Math.PI;
         return course < 0 ? course + (2.0 * Math.PI) : course;
-    }
-
-    private static StateMatrix Multiply(in StateMatrix a, in StateMatrix b)
-    {
-        StateMatrix c = default;
-        for (int i = 0; i < N; i++)
-        {
-            for (int k = 0; k < N; k++)
-            {
-                double aik = a[(i * N) + k];
-                if (aik == 0)
-                {
-                    continue;
-                }
-
-                for (int j = 0; j < N; j++)
-                {
-                    c[(i * N) + j] += aik * b[(k * N) + j];
-                }
-            }
-        }
-
-        return c;
     }
 }
