@@ -78,93 +78,112 @@ public sealed class TrackProcessor
     private static EnuPoint OnPlane(double eastM, double northM) =>
         new(eastM, northM, -((eastM * eastM) + (northM * northM)) / (2.0 * Wgs84.SemiMajorAxisM));
 
-    private MeasurementOutcome ProcessStarting(ref TrackState s, in Measurement m, IStepRecorder? recorder)
+    /// <summary>A measurement before the track runs: only GNSS fixes and courses and standing still can start it.</summary>
+    private MeasurementOutcome ProcessStarting(ref TrackState s, in Measurement m, IStepRecorder? recorder) => m.Kind switch
     {
-        switch (m.Kind)
+        SensorKind.GnssPosition => ProcessFixBeforeStart(ref s, m, recorder),
+        SensorKind.GnssVelocity => ProcessCourseBeforeStart(ref s, m, recorder),
+        SensorKind.WheelSpeed => ProcessWheelBeforeStart(ref s, m, recorder),
+        _ => MeasurementOutcome.Of(OutcomeKind.BeforeStart),
+    };
+
+    /// <summary>
+    /// A GNSS fix before the track runs: the first one anchors the local plane (if none) and is held, starting the track
+    /// at once when a fresh course is held too; a later one goes to <see cref="ProcessFixAfterHeldFix"/>.
+    /// </summary>
+    private MeasurementOutcome ProcessFixBeforeStart(ref TrackState s, in Measurement m, IStepRecorder? recorder)
+    {
+        var fixPoint = GeodeticPoint.FromDegrees(m.Value0, m.Value1);
+        if (!s.HasPlane)
         {
-            case SensorKind.GnssPosition:
-            {
-                var fixPoint = GeodeticPoint.FromDegrees(m.Value0, m.Value1);
-                if (!s.HasPlane)
-                {
-                    s.Plane = new LocalTangentPlane(fixPoint);
-                    s.HasPlane = true;
-                }
-
-                EnuPoint enu = s.Plane.ToEnu(fixPoint);
-                var fix = new HeldFix(true, m.TimeUs, enu.EastM, enu.NorthM, m.Value2);
-                if (s.Phase == TrackPhase.Empty || !s.Fix.IsSet)
-                {
-                    s.Phase = TrackPhase.AwaitingHeading;
-                    s.Fix = fix;
-                    if (CourseIsFresh(s, m.TimeUs))
-                    {
-                        StartFromCourse(ref s, fix, s.Course, m.TimeUs, recorder);
-                    }
-
-                    return MeasurementOutcome.Of(OutcomeKind.Initialising);
-                }
-
-                HeldFix first = s.Fix;
-                double dtS = (m.TimeUs - first.TimeUs) / MicrosecondsPerSecond;
-                double de = fix.EastM - first.EastM, dn = fix.NorthM - first.NorthM;
-                double distanceM = Math.Sqrt((de * de) + (dn * dn));
-                double sigmaM = Math.Sqrt((first.SigmaM * first.SigmaM) + (fix.SigmaM * fix.SigmaM));
-                if (dtS > 0 && dtS <= Options.TwoFixMaxAgeS && distanceM > Options.TwoFixHeadingSigmas * sigmaM)
-                {
-                    double heading = Math.Atan2(dn, de);
-                    Start(ref s, fix, fix.SigmaM, heading, sigmaM / distanceM, distanceM / dtS, sigmaM / dtS, m.TimeUs, recorder);
-                    return MeasurementOutcome.Of(OutcomeKind.Initialising);
-                }
-
-                if (s.Stationary)
-                {
-                    StartStationary(ref s, fix, m.TimeUs, recorder);
-                    return MeasurementOutcome.Of(OutcomeKind.Initialising);
-                }
-
-                if (dtS > Options.TwoFixMaxAgeS)
-                {
-                    s.Fix = fix;
-                    return MeasurementOutcome.Of(OutcomeKind.Initialising);
-                }
-
-                return MeasurementOutcome.Of(OutcomeKind.BeforeStart);
-            }
-
-            case SensorKind.GnssVelocity:
-            {
-                if (!(m.Value0 >= Options.CourseMinSpeedMps) || double.IsNaN(m.Value1) || s.Agreement.CourseIsolated)
-                {
-                    return MeasurementOutcome.Of(OutcomeKind.BeforeStart);
-                }
-
-                double headingSigma = Math.Max(m.Value2 / m.Value0, Options.CourseSigmaFloorRad);
-                s.Course = new HeldCourse(true, m.TimeUs, CourseToHeading(m.Value1), headingSigma, m.Value0, m.Value2);
-                if (s.Phase == TrackPhase.AwaitingHeading && s.Fix.IsSet && (m.TimeUs - s.Fix.TimeUs) / MicrosecondsPerSecond <= Options.TwoFixMaxAgeS)
-                {
-                    StartFromCourse(ref s, s.Fix, s.Course, m.TimeUs, recorder);
-                    return MeasurementOutcome.Of(OutcomeKind.Initialising);
-                }
-
-                return MeasurementOutcome.Of(OutcomeKind.BeforeStart);
-            }
-
-            case SensorKind.WheelSpeed:
-            {
-                TrackZeroSpeed(ref s, m);
-                if (s.Stationary && s.Phase == TrackPhase.AwaitingHeading && s.Fix.IsSet)
-                {
-                    StartStationary(ref s, s.Fix, m.TimeUs, recorder);
-                    return MeasurementOutcome.Of(OutcomeKind.Initialising);
-                }
-
-                return MeasurementOutcome.Of(OutcomeKind.BeforeStart);
-            }
-
-            default:
-                return MeasurementOutcome.Of(OutcomeKind.BeforeStart);
+            s.Plane = new LocalTangentPlane(fixPoint);
+            s.HasPlane = true;
         }
+
+        EnuPoint enu = s.Plane.ToEnu(fixPoint);
+        var fix = new HeldFix(true, m.TimeUs, enu.EastM, enu.NorthM, m.Value2);
+        if (s.Phase == TrackPhase.Empty || !s.Fix.IsSet)
+        {
+            s.Phase = TrackPhase.AwaitingHeading;
+            s.Fix = fix;
+            if (CourseIsFresh(s, m.TimeUs))
+            {
+                StartFromCourse(ref s, fix, s.Course, m.TimeUs, recorder);
+            }
+
+            return MeasurementOutcome.Of(OutcomeKind.Initialising);
+        }
+
+        return ProcessFixAfterHeldFix(ref s, m, fix, recorder);
+    }
+
+    /// <summary>
+    /// A second fix beside the held one: the heading between the two starts the track when they are recent and further
+    /// apart than their combined uncertainty allows by chance; standing still starts it at the fix; a held fix too old
+    /// to pair is replaced.
+    /// </summary>
+    private MeasurementOutcome ProcessFixAfterHeldFix(ref TrackState s, in Measurement m, HeldFix fix, IStepRecorder? recorder)
+    {
+        HeldFix first = s.Fix;
+        double dtS = (m.TimeUs - first.TimeUs) / MicrosecondsPerSecond;
+        double de = fix.EastM - first.EastM, dn = fix.NorthM - first.NorthM;
+        double distanceM = Math.Sqrt((de * de) + (dn * dn));
+        double sigmaM = Math.Sqrt((first.SigmaM * first.SigmaM) + (fix.SigmaM * fix.SigmaM));
+        if (dtS > 0 && dtS <= Options.TwoFixMaxAgeS && distanceM > Options.TwoFixHeadingSigmas * sigmaM)
+        {
+            double heading = Math.Atan2(dn, de);
+            Start(ref s, fix, fix.SigmaM, heading, sigmaM / distanceM, distanceM / dtS, sigmaM / dtS, m.TimeUs, recorder);
+            return MeasurementOutcome.Of(OutcomeKind.Initialising);
+        }
+
+        if (s.Stationary)
+        {
+            StartStationary(ref s, fix, m.TimeUs, recorder);
+            return MeasurementOutcome.Of(OutcomeKind.Initialising);
+        }
+
+        if (dtS > Options.TwoFixMaxAgeS)
+        {
+            s.Fix = fix;
+            return MeasurementOutcome.Of(OutcomeKind.Initialising);
+        }
+
+        return MeasurementOutcome.Of(OutcomeKind.BeforeStart);
+    }
+
+    /// <summary>
+    /// A GNSS course before the track runs (used only at speed, with a course given, and while the course stream is not
+    /// isolated): held, and it starts the track with a recent held fix.
+    /// </summary>
+    private MeasurementOutcome ProcessCourseBeforeStart(ref TrackState s, in Measurement m, IStepRecorder? recorder)
+    {
+        if (!(m.Value0 >= Options.CourseMinSpeedMps) || double.IsNaN(m.Value1) || s.Agreement.CourseIsolated)
+        {
+            return MeasurementOutcome.Of(OutcomeKind.BeforeStart);
+        }
+
+        double headingSigma = Math.Max(m.Value2 / m.Value0, Options.CourseSigmaFloorRad);
+        s.Course = new HeldCourse(true, m.TimeUs, CourseToHeading(m.Value1), headingSigma, m.Value0, m.Value2);
+        if (s.Phase == TrackPhase.AwaitingHeading && s.Fix.IsSet && (m.TimeUs - s.Fix.TimeUs) / MicrosecondsPerSecond <= Options.TwoFixMaxAgeS)
+        {
+            StartFromCourse(ref s, s.Fix, s.Course, m.TimeUs, recorder);
+            return MeasurementOutcome.Of(OutcomeKind.Initialising);
+        }
+
+        return MeasurementOutcome.Of(OutcomeKind.BeforeStart);
+    }
+
+    /// <summary>A wheel speed before the track runs: tracks standing still, which starts the track at a held fix.</summary>
+    private MeasurementOutcome ProcessWheelBeforeStart(ref TrackState s, in Measurement m, IStepRecorder? recorder)
+    {
+        TrackZeroSpeed(ref s, m);
+        if (s.Stationary && s.Phase == TrackPhase.AwaitingHeading && s.Fix.IsSet)
+        {
+            StartStationary(ref s, s.Fix, m.TimeUs, recorder);
+            return MeasurementOutcome.Of(OutcomeKind.Initialising);
+        }
+
+        return MeasurementOutcome.Of(OutcomeKind.BeforeStart);
     }
 
     private bool CourseIsFresh(in TrackState s, long timeUs) =>
