@@ -9,7 +9,7 @@ namespace FusionService.Estimation.Smoothing;
 
 /// <summary>
 /// A bounded-memory <see cref="IStepRecorder"/> for Rauch-Tung-Striebel smoothing: instead of every forward step
-/// (about 1.7 KB each, <see cref="ForwardPassRecorder"/>), it keeps only chosen instants (the first posterior at least
+/// (about 1.7 KB each, <see cref="Reference.ForwardPassRecorder"/>), it keeps only chosen instants (the first posterior at least
 /// <see cref="RecordIntervalUs"/> after the previous recorded one, the last one before a gap in the data, and each
 /// segment's first and last) and folds every
 /// step between two recorded instants into one equivalent smoothing step, while the forward pass runs.
@@ -32,7 +32,7 @@ namespace FusionService.Estimation.Smoothing;
 /// </para>
 /// <para>
 /// The compaction is an exact rearrangement of the full-step smoother's sums and products (equal up to round-off,
-/// which the tests check on scenario data). Like <see cref="RauchTungStriebelSmoother"/> it is the extended (linearised)
+/// which the tests check on scenario data). Like <see cref="Reference.RauchTungStriebelSmoother"/> it is the extended (linearised)
 /// smoother: the forward pass's transition Jacobians F stand in for the transition matrix and its covariances for the
 /// true conditional ones, so it is exact for the linearised model, not for the non-linear CTRA motion. Steps without
 /// elapsed time and without re-anchoring (F = I, prediction equal to the previous posterior, C = I) are merged with

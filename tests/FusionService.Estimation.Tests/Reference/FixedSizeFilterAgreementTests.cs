@@ -1,7 +1,7 @@
 using FusionService.Estimation.Filtering;
 using FusionService.Estimation.Gating;
 using FusionService.Estimation.LinearAlgebra;
-using FusionService.Estimation.Linear;
+using FusionService.Estimation.Reference;
 using MathNet.Numerics.LinearAlgebra;
 
 namespace FusionService.Estimation.Tests.Reference;

@@ -1,13 +1,16 @@
 using FusionService.Estimation.Filtering;
 using FusionService.Estimation.Geodesy;
 using FusionService.Estimation.LinearAlgebra;
+using FusionService.Estimation.Smoothing;
 using static FusionService.Estimation.Models.StateIndex;
 
-namespace FusionService.Estimation.Smoothing;
+namespace FusionService.Estimation.Reference;
 
 /// <summary>
 /// Fixed-interval Rauch-Tung-Striebel smoother over one forward segment of the vehicle filter, in its extended form
-/// (the Jacobians of the forward pass stand in for the transition matrix).
+/// (the Jacobians of the forward pass stand in for the transition matrix). A reference: it keeps every forward step, and
+/// the tests hold the serving smoother (<see cref="CompactingStepRecorder"/> with
+/// <see cref="CompactedRauchTungStriebelSmoother"/>) to it.
 /// </summary>
 /// <remarks>
 /// Rauch, Tung and Striebel (1965), "Maximum likelihood estimates of linear dynamic systems", AIAA J. 3(8):
