@@ -378,28 +378,10 @@ public sealed class CompactingStepRecorder : IStepRecorder
         ref double muR = ref MemoryMarshal.GetReference(mu);
         (StateRow.Load(ref muR, 0) + shift).Store(ref muR, 0);
 
-        // Σ ← G P⁺, skipping zero gains as the scalar form did.
-        StateMatrix sigma = default;
-        ReadOnlySpan<double> post = _latest.P;
-        ref double postR = ref MemoryMarshal.GetReference(post);
-        Span<double> sigmaS = sigma;
-        ref double sigmaR = ref MemoryMarshal.GetReference(sigmaS);
-        for (int i = 0; i < N; i++)
-        {
-            var row = StateRow.Zero;
-            for (int l = 0; l < N; l++)
-            {
-                double gil = gTs[(l * N) + i];
-                if (gil == 0)
-                {
-                    continue;
-                }
-
-                row += StateRow.Broadcast(gil) * StateRow.Load(ref postR, l * N);
-            }
-
-            row.Store(ref sigmaR, i * N);
-        }
+        // Σ ← G P⁺, skipping zero gains.
+        StateMatrix g = default;
+        MatrixKernels.Transpose(gT, ref g);
+        StateMatrix sigma = MatrixKernels.MultiplySkippingZeros(g, _latest.P);
 
         // Π ← Π + (Σ - Σ⁻) Gᵀ.
         StateMatrix diff = default;
