@@ -1,3 +1,4 @@
+using System.Runtime.CompilerServices;
 using System.Runtime.InteropServices;
 using FusionService.Estimation.LinearAlgebra;
 
@@ -194,18 +195,22 @@ public static class ExtendedKalmanFilter
     }
 
     /// <summary>P Hᵀ (n x m, element (i, a) at i * m + a), summed over H's non-zero columns in ascending order.</summary>
-    private static void MultiplyByHTransposed(ReadOnlySpan<double> p, in SparseRows h, Span<double> pht)
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private static void MultiplyByHTransposed(ReadOnlySpan<double> p, in SparseRows sparse, Span<double> pht)
     {
-        int m = h.Rows;
+        int m = sparse.Rows;
+        ReadOnlySpan<double> h = sparse.H;
+        ReadOnlySpan<int> columns = sparse.Columns;
+        ReadOnlySpan<int> counts = sparse.Counts;
         for (int i = 0; i < N; i++)
         {
             for (int a = 0; a < m; a++)
             {
                 double sum = 0;
-                for (int t = 0; t < h.Counts[a]; t++)
+                for (int t = 0; t < counts[a]; t++)
                 {
-                    int j = h.Columns[(a * N) + t];
-                    sum += p[(i * N) + j] * h.H[(a * N) + j];
+                    int j = columns[(a * N) + t];
+                    sum += p[(i * N) + j] * h[(a * N) + j];
                 }
 
                 pht[(i * m) + a] = sum;
@@ -214,18 +219,22 @@ public static class ExtendedKalmanFilter
     }
 
     /// <summary>Innovation covariance S = H (P Hᵀ) + R, m x m, written to <paramref name="s"/>.</summary>
-    private static void InnovationCovariance(in SparseRows h, ReadOnlySpan<double> pht, ReadOnlySpan<double> r, Span<double> s)
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private static void InnovationCovariance(in SparseRows sparse, ReadOnlySpan<double> pht, ReadOnlySpan<double> r, Span<double> s)
     {
-        int m = h.Rows;
+        int m = sparse.Rows;
+        ReadOnlySpan<double> h = sparse.H;
+        ReadOnlySpan<int> columns = sparse.Columns;
+        ReadOnlySpan<int> counts = sparse.Counts;
         for (int a = 0; a < m; a++)
         {
             for (int b = 0; b < m; b++)
             {
                 double sum = r[(a * m) + b];
-                for (int t = 0; t < h.Counts[a]; t++)
+                for (int t = 0; t < counts[a]; t++)
                 {
-                    int i = h.Columns[(a * N) + t];
-                    sum += h.H[(a * N) + i] * pht[(i * m) + b];
+                    int i = columns[(a * N) + t];
+                    sum += h[(a * N) + i] * pht[(i * m) + b];
                 }
 
                 s[(a * m) + b] = sum;
@@ -238,6 +247,7 @@ public static class ExtendedKalmanFilter
     /// NIS = wᵀ w = νᵀ S⁻¹ ν.
     /// </summary>
     /// <exception cref="FilterDivergenceException">The NIS is not finite.</exception>
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
     private static double WhitenInnovation(ReadOnlySpan<double> l, ReadOnlySpan<double> residual, Span<double> w, ref UpdateFactors factors)
     {
         int m = residual.Length;
@@ -263,6 +273,7 @@ public static class ExtendedKalmanFilter
     /// With L⁻¹ given: B = P Hᵀ L⁻ᵀ into <paramref name="gainFactor"/>, the gain K = P Hᵀ S⁻¹ = B L⁻¹ into
     /// <paramref name="k"/> (both n x m), and x ← x + K ν = x + B w, row by row.
     /// </summary>
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
     private static void ApplyGain(
         ref StateVector x, ReadOnlySpan<double> lInv, ReadOnlySpan<double> pht, ReadOnlySpan<double> w, int m, Span<double> gainFactor, Span<double> k)
     {
