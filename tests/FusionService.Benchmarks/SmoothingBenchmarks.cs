@@ -2,7 +2,7 @@
 using BenchmarkDotNet.Attributes;
 using FusionService.Estimation.Measurements;
 using FusionService.Estimation.Models;
-using FusionService.Estimation.Smoothing;
+using FusionService.Estimation.Reference;
 using FusionService.Estimation.Tracking;
 
 namespace FusionService.Benchmarks;

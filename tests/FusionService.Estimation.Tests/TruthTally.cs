@@ -1,5 +1,6 @@
 using FusionService.Estimation.Geodesy;
 using FusionService.Estimation.LinearAlgebra;
+using FusionService.Estimation.Reference;
 using FusionService.Estimation.Smoothing;
 using FusionService.Scenarios;
 using static FusionService.Estimation.Models.StateIndex;

@@ -65,51 +65,21 @@ public static class ExtendedKalmanFilter
         }
 
         CarriedOverTransitionProduct.Multiply(p, jacobian, p);
-        Symmetrize(ref covariance);
+        MatrixKernels.Symmetrize(ref covariance);
     }
 
-    /// <summary>P ← F P Fᵀ by two dense products.</summary>
+    /// <summary>P ← F P Fᵀ by two dense products, the first leaving out F's zero elements.</summary>
     private static void PropagateDense(ref StateMatrix covariance, in StateMatrix jacobian)
     {
-        StateMatrix fp = default;
-        for (int i = 0; i < N; i++)
-        {
-            for (int k = 0; k < N; k++)
-            {
-                double fik = jacobian[(i * N) + k];
-                if (fik == 0)
-                {
-                    continue;
-                }
-
-                for (int j = 0; j < N; j++)
-                {
-                    fp[(i * N) + j] += fik * covariance[(k * N) + j];
-                }
-            }
-        }
-
-        for (int i = 0; i < N; i++)
-        {
-            for (int j = 0; j < N; j++)
-            {
-                double sum = 0;
-                for (int k = 0; k < N; k++)
-                {
-                    sum += fp[(i * N) + k] * jacobian[(j * N) + k];
-                }
-
-                covariance[(i * N) + j] = sum;
-            }
-        }
-
-        Symmetrize(ref covariance);
+        StateMatrix fp = MatrixKernels.MultiplySkippingZeros(jacobian, covariance);
+        MatrixKernels.MultiplyByTransposed(fp, jacobian, ref covariance);
+        MatrixKernels.Symmetrize(ref covariance);
     }
 
     /// <summary>
     /// Gated measurement update in Joseph form. Computes the innovation covariance S = H P Hᵀ + R and the
     /// normalised innovation squared NIS = νᵀ S⁻¹ ν; when NIS exceeds <paramref name="gateThreshold"/> the state is
-    /// left unchanged and false is returned.
+    /// left unchanged and <see cref="GateDecision.Rejected"/> is returned.
     /// </summary>
     /// <param name="x">State, updated in place when accepted.</param>
     /// <param name="covariance">Covariance, updated in place when accepted.</param>
@@ -118,23 +88,30 @@ public static class ExtendedKalmanFilter
     /// <param name="r">Measurement noise covariance, m x m row-major, symmetric positive definite.</param>
     /// <param name="gateThreshold">NIS above which the measurement is rejected; +∞ disables the gate.</param>
     /// <param name="nis">Receives the NIS.</param>
-    /// <returns>Whether the update was applied.</returns>
+    /// <returns>The gate's decision: <see cref="GateDecision.Accepted"/> when the update was applied.</returns>
+    /// <exception cref="ArgumentException">The lengths of <paramref name="residual"/>, <paramref name="h"/> and <paramref name="r"/> disagree.</exception>
     /// <exception cref="FilterDivergenceException">S or the updated covariance is not positive definite or not finite.</exception>
-    public static bool TryUpdateJoseph(
+    public static GateDecision UpdateJosephGated(
         ref StateVector x, ref StateMatrix covariance, ReadOnlySpan<double> residual, ReadOnlySpan<double> h,
         ReadOnlySpan<double> r, double gateThreshold, out double nis)
     {
         UpdateFactors unused = default;
-        return TryUpdateJoseph(ref x, ref covariance, residual, h, r, gateThreshold, out nis, ref unused, captureFactors: false);
+        return UpdateJosephGated(ref x, ref covariance, residual, h, r, gateThreshold, out nis, ref unused, captureFactors: false);
     }
 
     /// <summary>
-    /// <see cref="TryUpdateJoseph(ref StateVector, ref StateMatrix, ReadOnlySpan{double}, ReadOnlySpan{double}, ReadOnlySpan{double}, double, out double)"/>
+    /// <see cref="UpdateJosephGated(ref StateVector, ref StateMatrix, ReadOnlySpan{double}, ReadOnlySpan{double}, ReadOnlySpan{double}, double, out double)"/>
     /// that also hands out the update's <see cref="UpdateFactors"/> when it is applied and <paramref name="captureFactors"/> is set.
     /// <see cref="UpdateFactors.Dimension"/> and <see cref="UpdateFactors.Whitened"/> (w = L⁻¹ ν, the innovation in units of
     /// its own standard deviation) are written whenever the NIS is formed, gated or not.
     /// </summary>
-    public static bool TryUpdateJoseph(
+    /// <remarks>
+    /// The steps: the innovation covariance S = H P Hᵀ + R and its Cholesky factor L (<see cref="InnovationCovariance"/>);
+    /// the whitened innovation w = L⁻¹ ν and NIS = wᵀ w (<see cref="WhitenInnovation"/>); the gate test; the gain
+    /// K = P Hᵀ S⁻¹ and the state's move K ν (<see cref="ApplyGain"/>); the Joseph-form covariance update
+    /// (<see cref="JosephCovarianceUpdate"/>); the divergence guard.
+    /// </remarks>
+    public static GateDecision UpdateJosephGated(
         ref StateVector x, ref StateMatrix covariance, ReadOnlySpan<double> residual, ReadOnlySpan<double> h,
         ReadOnlySpan<double> r, double gateThreshold, out double nis, ref UpdateFactors factors, bool captureFactors)
     {
@@ -144,65 +121,139 @@ public static class ExtendedKalmanFilter
             throw new ArgumentException($"inconsistent measurement dimensions: residual {m}, H {h.Length}, R {r.Length}");
         }
 
-        // H has one or two non-zero entries per row here; the products below run over those only.
-        Span<int> nonZero = stackalloc int[N * MaxMeasurementDimension];
-        Span<int> nonZeroCount = stackalloc int[MaxMeasurementDimension];
-        for (int row = 0; row < m; row++)
-        {
-            int count = 0;
-            for (int j = 0; j < N; j++)
-            {
-                if (h[(row * N) + j] != 0)
-                {
-                    nonZero[(row * N) + count++] = j;
-                }
-            }
-
-            nonZeroCount[row] = count;
-        }
-
-        Span<double> p = covariance;
+        var sparseH = new SparseRows(h, m, stackalloc int[N * MaxMeasurementDimension], stackalloc int[MaxMeasurementDimension]);
         Span<double> pht = stackalloc double[N * MaxMeasurementDimension];
-        for (int i = 0; i < N; i++)
-        {
-            for (int row = 0; row < m; row++)
-            {
-                double sum = 0;
-                for (int t = 0; t < nonZeroCount[row]; t++)
-                {
-                    int j = nonZero[(row * N) + t];
-                    sum += p[(i * N) + j] * h[(row * N) + j];
-                }
-
-                pht[(i * m) + row] = sum;
-            }
-        }
-
+        MultiplyByHTransposed(covariance, sparseH, pht);
         Span<double> chol = stackalloc double[MaxMeasurementDimension * MaxMeasurementDimension];
-        for (int a = 0; a < m; a++)
-        {
-            for (int b = 0; b < m; b++)
-            {
-                double sum = r[(a * m) + b];
-                for (int t = 0; t < nonZeroCount[a]; t++)
-                {
-                    int i = nonZero[(a * N) + t];
-                    sum += h[(a * N) + i] * pht[(i * m) + b];
-                }
-
-                chol[(a * m) + b] = sum;
-            }
-        }
-
-        if (!CholeskyInPlace(chol[..(m * m)], m))
+        InnovationCovariance(sparseH, pht, r, chol);
+        if (!Cholesky.FactorInPlace(chol[..(m * m)], m))
         {
             throw new FilterDivergenceException("innovation covariance S = H P Hᵀ + R is not positive definite");
         }
 
         Span<double> w = stackalloc double[MaxMeasurementDimension];
+        nis = WhitenInnovation(chol, residual, w, ref factors);
+        if (nis > gateThreshold)
+        {
+            return GateDecision.Rejected;
+        }
+
+        Span<double> lInv = stackalloc double[MaxMeasurementDimension * MaxMeasurementDimension];
+        Cholesky.InvertLower(chol, m, lInv);
+        Span<double> gainFactor = stackalloc double[N * MaxMeasurementDimension];
+        Span<double> k = stackalloc double[N * MaxMeasurementDimension];
+        ApplyGain(ref x, lInv, pht, w, m, gainFactor, k);
+        if (captureFactors)
+        {
+            gainFactor[..(N * m)].CopyTo(factors.Gain);
+            CaptureFactors(lInv, h, w[..m], ref factors);
+        }
+
+        JosephCovarianceUpdate(ref covariance, sparseH, r, k, pht);
+        RequirePositiveDefinite(covariance, x, "measurement update");
+        return GateDecision.Accepted;
+    }
+
+    /// <summary>
+    /// The non-zero columns of each row of an m x n measurement Jacobian H: H has one or two non-zero entries per row here,
+    /// and the products with it run over those only.
+    /// </summary>
+    private readonly ref struct SparseRows
+    {
+        public SparseRows(ReadOnlySpan<double> h, int rows, Span<int> columns, Span<int> counts)
+        {
+            H = h;
+            Rows = rows;
+            Columns = columns;
+            Counts = counts;
+            for (int row = 0; row < rows; row++)
+            {
+                int count = 0;
+                for (int j = 0; j < N; j++)
+                {
+                    if (h[(row * N) + j] != 0)
+                    {
+                        columns[(row * N) + count++] = j;
+                    }
+                }
+
+                counts[row] = count;
+            }
+        }
+
+        /// <summary>H, m x n row-major.</summary>
+        public ReadOnlySpan<double> H { get; }
+
+        /// <summary>m.</summary>
+        public int Rows { get; }
+
+        /// <summary>Row a's non-zero columns at a * n, a * n + 1, ...</summary>
+        public Span<int> Columns { get; }
+
+        /// <summary>How many non-zero columns row a has.</summary>
+        public Span<int> Counts { get; }
+    }
+
+    /// <summary>P Hᵀ (n x m, element (i, a) at i * m + a), summed over H's non-zero columns in ascending order.</summary>
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private static void MultiplyByHTransposed(ReadOnlySpan<double> p, in SparseRows sparse, Span<double> pht)
+    {
+        int m = sparse.Rows;
+        ReadOnlySpan<double> h = sparse.H;
+        ReadOnlySpan<int> columns = sparse.Columns;
+        ReadOnlySpan<int> counts = sparse.Counts;
+        for (int i = 0; i < N; i++)
+        {
+            for (int a = 0; a < m; a++)
+            {
+                double sum = 0;
+                for (int t = 0; t < counts[a]; t++)
+                {
+                    int j = columns[(a * N) + t];
+                    sum += p[(i * N) + j] * h[(a * N) + j];
+                }
+
+                pht[(i * m) + a] = sum;
+            }
+        }
+    }
+
+    /// <summary>Innovation covariance S = H (P Hᵀ) + R, m x m, written to <paramref name="s"/>.</summary>
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private static void InnovationCovariance(in SparseRows sparse, ReadOnlySpan<double> pht, ReadOnlySpan<double> r, Span<double> s)
+    {
+        int m = sparse.Rows;
+        ReadOnlySpan<double> h = sparse.H;
+        ReadOnlySpan<int> columns = sparse.Columns;
+        ReadOnlySpan<int> counts = sparse.Counts;
+        for (int a = 0; a < m; a++)
+        {
+            for (int b = 0; b < m; b++)
+            {
+                double sum = r[(a * m) + b];
+                for (int t = 0; t < counts[a]; t++)
+                {
+                    int i = columns[(a * N) + t];
+                    sum += h[(a * N) + i] * pht[(i * m) + b];
+                }
+
+                s[(a * m) + b] = sum;
+            }
+        }
+    }
+
+    /// <summary>
+    /// Whitened innovation w = L⁻¹ ν (S = L Lᵀ) into <paramref name="w"/> and into <paramref name="factors"/>, and returns
+    /// NIS = wᵀ w = νᵀ S⁻¹ ν.
+    /// </summary>
+    /// <exception cref="FilterDivergenceException">The NIS is not finite.</exception>
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private static double WhitenInnovation(ReadOnlySpan<double> l, ReadOnlySpan<double> residual, Span<double> w, ref UpdateFactors factors)
+    {
+        int m = residual.Length;
         residual.CopyTo(w);
-        ForwardSubstitute(chol, m, w[..m]);
-        nis = 0;
+        Cholesky.ForwardSubstitute(l, m, w[..m]);
+        double nis = 0;
         factors.Dimension = m;
         for (int a = 0; a < m; a++)
         {
@@ -215,28 +266,17 @@ public static class ExtendedKalmanFilter
             throw new FilterDivergenceException("normalised innovation squared is not finite");
         }
 
-        if (nis > gateThreshold)
-        {
-            return false;
-        }
+        return nis;
+    }
 
-        // L⁻¹ (lower triangular, m x m) once; then B = P Hᵀ L⁻ᵀ, K = P Hᵀ S⁻¹ = B L⁻¹ and K ν = B w, row by row.
-        Span<double> lInv = stackalloc double[MaxMeasurementDimension * MaxMeasurementDimension];
-        lInv.Clear();
-        Span<double> unit = stackalloc double[MaxMeasurementDimension];
-        for (int c = 0; c < m; c++)
-        {
-            unit.Clear();
-            unit[c] = 1.0;
-            ForwardSubstitute(chol, m, unit[..m]);
-            for (int a = c; a < m; a++)
-            {
-                lInv[(a * m) + c] = unit[a];
-            }
-        }
-
-        Span<double> gainFactor = stackalloc double[N * MaxMeasurementDimension];
-        Span<double> k = stackalloc double[N * MaxMeasurementDimension];
+    /// <summary>
+    /// With L⁻¹ given: B = P Hᵀ L⁻ᵀ into <paramref name="gainFactor"/>, the gain K = P Hᵀ S⁻¹ = B L⁻¹ into
+    /// <paramref name="k"/> (both n x m), and x ← x + K ν = x + B w, row by row.
+    /// </summary>
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private static void ApplyGain(
+        ref StateVector x, ReadOnlySpan<double> lInv, ReadOnlySpan<double> pht, ReadOnlySpan<double> w, int m, Span<double> gainFactor, Span<double> k)
+    {
         for (int i = 0; i < N; i++)
         {
             double move = 0;
@@ -265,32 +305,23 @@ public static class ExtendedKalmanFilter
 
             x[i] += move;
         }
+    }
 
-        if (captureFactors)
-        {
-            gainFactor[..(N * m)].CopyTo(factors.Gain);
-            CaptureFactors(lInv, h, w[..m], ref factors);
-        }
+    /// <summary>
+    /// Joseph form P ← A P Aᵀ + K R Kᵀ with A = I - K H, in two rank-m steps and symmetrised; <paramref name="pht"/> is
+    /// P Hᵀ of the covariance before the update.
+    /// </summary>
+    private static void JosephCovarianceUpdate(
+        ref StateMatrix covariance, in SparseRows h, ReadOnlySpan<double> r, ReadOnlySpan<double> k, ReadOnlySpan<double> pht)
+    {
+        int m = h.Rows;
+        Span<double> p = covariance;
 
-        // A P with A = I - K H, using H P = (P Hᵀ)ᵀ, in place (P Hᵀ and K are already taken): P ← P - K (P Hᵀ)ᵀ.
+        // A P, using H P = (P Hᵀ)ᵀ, in place (P Hᵀ and K are already taken): P ← P - K (P Hᵀ)ᵀ.
         OuterProductUpdate.Subtract(p, k, pht, m);
 
         Span<double> aph = stackalloc double[N * MaxMeasurementDimension];
-        for (int i = 0; i < N; i++)
-        {
-            for (int a = 0; a < m; a++)
-            {
-                double sum = 0;
-                for (int t = 0; t < nonZeroCount[a]; t++)
-                {
-                    int j = nonZero[(a * N) + t];
-                    sum += p[(i * N) + j] * h[(a * N) + j];
-                }
-
-                aph[(i * m) + a] = sum;
-            }
-        }
-
+        MultiplyByHTransposed(p, h, aph);
         Span<double> kr = stackalloc double[N * MaxMeasurementDimension];
         for (int i = 0; i < N; i++)
         {
@@ -313,10 +344,7 @@ public static class ExtendedKalmanFilter
         }
 
         OuterProductUpdate.Subtract(p, aph, k, m);
-
-        Symmetrize(ref covariance);
-        RequirePositiveDefinite(covariance, x, "measurement update");
-        return true;
+        MatrixKernels.Symmetrize(ref covariance);
     }
 
     /// <summary>w = L⁻¹ ν (already whitened) and W = Hᵀ L⁻ᵀ, row j of W being L⁻¹ times column j of H.</summary>
@@ -341,7 +369,7 @@ public static class ExtendedKalmanFilter
 
     /// <summary>
     /// Throws <see cref="FilterDivergenceException"/> unless every state value is finite and the covariance is
-    /// positive definite (its Cholesky factorisation succeeds).
+    /// positive definite (<see cref="MatrixKernels.IsPositiveDefinite"/>).
     /// </summary>
     public static void RequirePositiveDefinite(in StateMatrix covariance, in StateVector x, string context)
     {
@@ -353,130 +381,9 @@ public static class ExtendedKalmanFilter
             }
         }
 
-        if (!IsPositiveDefinite(covariance))
+        if (!MatrixKernels.IsPositiveDefinite(covariance))
         {
             throw new FilterDivergenceException($"covariance is not positive definite after {context}");
-        }
-    }
-
-    /// <summary>
-    /// Whether a symmetric matrix is positive definite and finite: symmetric Gaussian elimination without pivoting (the
-    /// LDLᵀ factorisation) meets only positive, finite pivots exactly when it is (Golub and Van Loan, <i>Matrix
-    /// Computations</i>, 4th ed., section 4.2; from memory). Rows are eliminated a whole row at a time; the factor is
-    /// not kept, so this is the divergence guard's test, not a solver.
-    /// </summary>
-    internal static bool IsPositiveDefinite(in StateMatrix matrix)
-    {
-        Span<double> a = stackalloc double[StateMatrix.Length];
-        ((ReadOnlySpan<double>)matrix).CopyTo(a);
-        ref double a0 = ref MemoryMarshal.GetReference(a);
-        for (int j = 0; j < N; j++)
-        {
-            double pivot = a[(j * N) + j];
-            if (!(pivot > 0) || !double.IsFinite(pivot))
-            {
-                return false;
-            }
-
-            var pivotRow = StateRow.Load(ref a0, j * N);
-            double inverse = 1.0 / pivot;
-            for (int i = j + 1; i < N; i++)
-            {
-                (StateRow.Load(ref a0, i * N) - (StateRow.Broadcast(a[(i * N) + j] * inverse) * pivotRow)).Store(ref a0, i * N);
-            }
-        }
-
-        return true;
-    }
-
-    /// <summary>Replaces P by (P + Pᵀ) / 2.</summary>
-    public static void Symmetrize(ref StateMatrix covariance)
-    {
-        Span<double> p = covariance;
-        ref double p0 = ref MemoryMarshal.GetReference(p);
-        for (int i = 0; i < N; i++)
-        {
-            for (int j = i + 1; j < N; j++)
-            {
-                ref double upper = ref Unsafe.Add(ref p0, (i * N) + j);
-                ref double lower = ref Unsafe.Add(ref p0, (j * N) + i);
-                double mean = 0.5 * (upper + lower);
-                upper = mean;
-                lower = mean;
-            }
-        }
-    }
-
-    /// <summary>Lower Cholesky factor in place (row-major, upper part left as is); false if not positive definite or not finite.</summary>
-    /// <remarks>Indexes through a reference after one length check: this runs after every update, as the divergence guard.</remarks>
-    internal static bool CholeskyInPlace(Span<double> a, int n)
-    {
-        if (a.Length < n * n)
-        {
-            throw new ArgumentException($"{n} x {n} matrix expected, {a.Length} elements given", nameof(a));
-        }
-
-        ref double a0 = ref MemoryMarshal.GetReference(a);
-        for (int j = 0; j < n; j++)
-        {
-            ref double rowJ = ref Unsafe.Add(ref a0, j * n);
-            double d = Unsafe.Add(ref rowJ, j);
-            for (int k = 0; k < j; k++)
-            {
-                double l = Unsafe.Add(ref rowJ, k);
-                d -= l * l;
-            }
-
-            if (!(d > 0) || !double.IsFinite(d))
-            {
-                return false;
-            }
-
-            double diagonal = Math.Sqrt(d);
-            Unsafe.Add(ref rowJ, j) = diagonal;
-            for (int i = j + 1; i < n; i++)
-            {
-                ref double rowI = ref Unsafe.Add(ref a0, i * n);
-                double s = Unsafe.Add(ref rowI, j);
-                for (int k = 0; k < j; k++)
-                {
-                    s -= Unsafe.Add(ref rowI, k) * Unsafe.Add(ref rowJ, k);
-                }
-
-                Unsafe.Add(ref rowI, j) = s / diagonal;
-            }
-        }
-
-        return true;
-    }
-
-    /// <summary>Solves L y = b in place.</summary>
-    internal static void ForwardSubstitute(ReadOnlySpan<double> l, int n, Span<double> b)
-    {
-        for (int i = 0; i < n; i++)
-        {
-            double s = b[i];
-            for (int k = 0; k < i; k++)
-            {
-                s -= l[(i * n) + k] * b[k];
-            }
-
-            b[i] = s / l[(i * n) + i];
-        }
-    }
-
-    /// <summary>Solves Lᵀ y = b in place.</summary>
-    internal static void BackSubstitute(ReadOnlySpan<double> l, int n, Span<double> b)
-    {
-        for (int i = n - 1; i >= 0; i--)
-        {
-            double s = b[i];
-            for (int k = i + 1; k < n; k++)
-            {
-                s -= l[(k * n) + i] * b[k];
-            }
-
-            b[i] = s / l[(i * n) + i];
         }
     }
 }

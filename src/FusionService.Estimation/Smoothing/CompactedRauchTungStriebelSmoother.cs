@@ -33,7 +33,6 @@ public static class CompactedRauchTungStriebelSmoother
         StateMatrix[] gains = segment.Gains;
         StateVector[] predicted = segment.PredictedNext;
         Span<double> dx = stackalloc double[N];
-        Span<double> gp = stackalloc double[StateMatrix.Length];
         for (int k = segment.Count - 2; k >= 0; k--)
         {
             ref readonly StateMatrix g = ref gains[k];
@@ -44,50 +43,14 @@ public static class CompactedRauchTungStriebelSmoother
 
             dx[HeadingRad] = Angles.WrapPi(dx[HeadingRad]);
             ref StateVector mean = ref means[k];
-            for (int i = 0; i < N; i++)
-            {
-                double sum = 0;
-                for (int j = 0; j < N; j++)
-                {
-                    sum += g[(i * N) + j] * dx[j];
-                }
-
-                mean[i] += sum;
-            }
-
+            MatrixKernels.AddMultiply(ref mean, g, dx);
             mean[HeadingRad] = Angles.WrapPi(mean[HeadingRad]);
 
-            ref readonly StateMatrix next = ref covariances[k + 1];
-            for (int i = 0; i < N; i++)
-            {
-                for (int j = 0; j < N; j++)
-                {
-                    double sum = 0;
-                    for (int l = 0; l < N; l++)
-                    {
-                        sum += g[(i * N) + l] * next[(l * N) + j];
-                    }
-
-                    gp[(i * N) + j] = sum;
-                }
-            }
-
+            StateMatrix gp = default;
+            MatrixKernels.Multiply(g, covariances[k + 1], gp);
             ref StateMatrix cov = ref covariances[k];
-            for (int i = 0; i < N; i++)
-            {
-                for (int j = 0; j < N; j++)
-                {
-                    double sum = 0;
-                    for (int l = 0; l < N; l++)
-                    {
-                        sum += gp[(i * N) + l] * g[(j * N) + l];
-                    }
-
-                    cov[(i * N) + j] += sum;
-                }
-            }
-
-            ExtendedKalmanFilter.Symmetrize(ref cov);
+            MatrixKernels.AddMultiplyByTransposed(ref cov, gp, g);
+            MatrixKernels.Symmetrize(ref cov);
             for (int i = 0; i < N; i++)
             {
                 if (!double.IsFinite(cov[(i * N) + i]) || !double.IsFinite(mean[i]))

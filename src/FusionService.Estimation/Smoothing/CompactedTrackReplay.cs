@@ -4,9 +4,10 @@ using FusionService.Estimation.Tracking;
 namespace FusionService.Estimation.Smoothing;
 
 /// <summary>
-/// After-the-fact filtering and bounded-memory smoothing: like <see cref="TrackReplay"/>, but the forward pass is
+/// After-the-fact filtering and bounded-memory smoothing: like <see cref="Reference.TrackReplay"/>, but the forward pass is
 /// recorded by a <see cref="CompactingStepRecorder"/>, so memory grows with the number of recorded instants (one per
-/// <c>recordIntervalUs</c>), not with the number of measurements.
+/// <c>recordIntervalUs</c>), not with the number of measurements. This is the smoothing the service serves; the full-step
+/// smoother beside the tests is in <c>Reference/</c>.
 /// </summary>
 public static class CompactedTrackReplay
 {

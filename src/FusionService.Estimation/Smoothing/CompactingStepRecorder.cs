@@ -9,7 +9,7 @@ namespace FusionService.Estimation.Smoothing;
 
 /// <summary>
 /// A bounded-memory <see cref="IStepRecorder"/> for Rauch-Tung-Striebel smoothing: instead of every forward step
-/// (about 1.7 KB each, <see cref="ForwardPassRecorder"/>), it keeps only chosen instants (the first posterior at least
+/// (about 1.7 KB each, <see cref="Reference.ForwardPassRecorder"/>), it keeps only chosen instants (the first posterior at least
 /// <see cref="RecordIntervalUs"/> after the previous recorded one, the last one before a gap in the data, and each
 /// segment's first and last) and folds every
 /// step between two recorded instants into one equivalent smoothing step, while the forward pass runs.
@@ -32,7 +32,7 @@ namespace FusionService.Estimation.Smoothing;
 /// </para>
 /// <para>
 /// The compaction is an exact rearrangement of the full-step smoother's sums and products (equal up to round-off,
-/// which the tests check on scenario data). Like <see cref="RauchTungStriebelSmoother"/> it is the extended (linearised)
+/// which the tests check on scenario data). Like <see cref="Reference.RauchTungStriebelSmoother"/> it is the extended (linearised)
 /// smoother: the forward pass's transition Jacobians F stand in for the transition matrix and its covariances for the
 /// true conditional ones, so it is exact for the linearised model, not for the non-linear CTRA motion. Steps without
 /// elapsed time and without re-anchoring (F = I, prediction equal to the previous posterior, C = I) are merged with
@@ -47,39 +47,21 @@ public sealed class CompactingStepRecorder : IStepRecorder
     private const int N = StateMatrix.Size;
 
     private readonly List<CompactedSegment> _segments = [];
-    private int _expectedInstants;
     private readonly SegmentArrayPool? _pool;
+    private int _expectedInstants;
     private CompactedSegment? _segment;
-    private int _r;
-    private long _tR;
-    private StateVector _mu;
-    private StateMatrix _pi;
-    private StateMatrix _sigma;
 
-    private bool _hasPair;
-    private StateMatrix _sigmaPred;
-    private StateVector _xPred;
+    // The recorded instant r that the steps after it are folded into, the latest posterior (not yet recorded or folded),
+    // the pending prediction/posterior pair before it, the step being predicted, and where the recorder is in that step.
+    private Link _link;
+    private LatestPosterior _latest;
+    private Pair _pair;
+    private Prediction _next;
+    private StepPhase _phase;
 
     // P(k|k-1) of the pending pair and of the step being predicted, in two slots swapped instead of copied.
     private CovariancePair _predicted;
     private int _pairSlot;
-
-    private StateVector _xPost;
-    private StateMatrix _pPost;
-    private long _tPost;
-    private LocalTangentPlane _planePost;
-
-    private bool _hasNext;
-    private bool _skipNext;
-
-    // The measurement updates of the pending pair and of the step being predicted, and whether anything other than an
-    // update changed them (then the pair is folded through the predicted covariance's inverse instead).
-    private List<UpdateFactors> _pairUpdates = [];
-    private bool _pairAdjusted;
-    private List<UpdateFactors> _nextUpdates = [];
-    private bool _nextAdjusted;
-    private StateMatrix _fNext;
-    private StateVector _xNext;
 
     /// <summary>Creates a recorder.</summary>
     /// <param name="recordIntervalUs">Least spacing of recorded instants, microseconds, non-negative (0 records every distinct instant).</param>
@@ -97,6 +79,8 @@ public sealed class CompactingStepRecorder : IStepRecorder
         DiscardBeforeUs = discardBeforeUs;
         _expectedInstants = expectedInstants;
         _pool = pool;
+        _pair.Updates = [];
+        _next.Updates = [];
     }
 
     /// <summary>
@@ -121,18 +105,17 @@ public sealed class CompactingStepRecorder : IStepRecorder
         _segment = new CompactedSegment(_expectedInstants, _pool);
         _expectedInstants = 0;
         _segments.Add(_segment);
-        _r = _segment.Add(timeUs, plane);
-        _tR = timeUs;
-        _mu = x;
-        _pi = p;
-        _sigma = p;
-        _xPost = x;
-        _pPost = p;
-        _tPost = timeUs;
-        _planePost = plane;
-        _hasPair = false;
-        _hasNext = false;
-        _skipNext = false;
+        _link.Index = _segment.Add(timeUs, plane);
+        _link.TimeUs = timeUs;
+        _link.Mu = x;
+        _link.Pi = p;
+        _link.Sigma = p;
+        _latest.X = x;
+        _latest.P = p;
+        _latest.TimeUs = timeUs;
+        _latest.Plane = plane;
+        _pair.IsOpen = false;
+        _phase = StepPhase.AwaitingPrediction;
         ClearUpdates();
     }
 
@@ -144,19 +127,19 @@ public sealed class CompactingStepRecorder : IStepRecorder
             throw new InvalidOperationException("Predicted before Start");
         }
 
-        _skipNext = _hasPair && IsIdentity(f) && Same(xPredicted, _xPost) && Same(pPredicted, _pPost);
-        if (_skipNext)
+        if (_pair.IsOpen && MatrixKernels.SameBits(f, StateIdentity.Value) && MatrixKernels.SameBits(xPredicted, _latest.X) && MatrixKernels.SameBits(pPredicted, _latest.P))
         {
             // The updates that follow belong to the pending pair, whose posterior they replace.
+            _phase = StepPhase.PredictedNoChange;
             return;
         }
 
-        _nextUpdates.Clear();
-        _nextAdjusted = false;
-        _fNext = f;
-        _xNext = xPredicted;
+        _next.Updates.Clear();
+        _next.Adjusted = false;
+        _next.Transition = f;
+        _next.X = xPredicted;
         _predicted[1 - _pairSlot] = pPredicted;
-        _hasNext = true;
+        _phase = StepPhase.Predicted;
     }
 
     /// <inheritdoc />
@@ -167,21 +150,21 @@ public sealed class CompactingStepRecorder : IStepRecorder
             throw new InvalidOperationException("Posterior before Start");
         }
 
-        if (_skipNext)
+        if (_phase == StepPhase.PredictedNoChange)
         {
-            _skipNext = false;
+            _phase = StepPhase.AwaitingPrediction;
         }
         else
         {
-            if (!_hasNext)
+            if (_phase != StepPhase.Predicted)
             {
                 throw new InvalidOperationException("Posterior without a prediction");
             }
 
-            if (_hasPair)
+            if (_pair.IsOpen)
             {
                 // Also keep the last posterior before a gap in the data, so that no link spans driving and the gap.
-                if (_tPost - _tR >= RecordIntervalUs || timeUs - _tPost > GapUs)
+                if (_latest.TimeUs - _link.TimeUs >= RecordIntervalUs || timeUs - _latest.TimeUs > GapUs)
                 {
                     RecordPair();
                 }
@@ -191,39 +174,39 @@ public sealed class CompactingStepRecorder : IStepRecorder
                 }
             }
 
-            MultiplyTransposed(_sigma, _fNext, ref _sigmaPred);
-            _xPred = _xNext;
+            MatrixKernels.MultiplyByTransposedTransition(_link.Sigma, _next.Transition, ref _pair.SigmaPredicted);
+            _pair.XPredicted = _next.X;
             _pairSlot = 1 - _pairSlot;
-            _hasPair = true;
-            _hasNext = false;
-            (_pairUpdates, _nextUpdates) = (_nextUpdates, _pairUpdates);
-            _pairAdjusted = _nextAdjusted;
-            _nextUpdates.Clear();
-            _nextAdjusted = false;
+            _pair.IsOpen = true;
+            _phase = StepPhase.AwaitingPrediction;
+            (_pair.Updates, _next.Updates) = (_next.Updates, _pair.Updates);
+            _pair.Adjusted = _next.Adjusted;
+            _next.Updates.Clear();
+            _next.Adjusted = false;
         }
 
-        _xPost = x;
-        _pPost = p;
-        _tPost = timeUs;
-        _planePost = plane;
+        _latest.X = x;
+        _latest.P = p;
+        _latest.TimeUs = timeUs;
+        _latest.Plane = plane;
     }
 
     /// <inheritdoc />
     public void Updated(in UpdateFactors factors)
     {
-        (_skipNext ? _pairUpdates : _nextUpdates).Add(factors);
+        (_phase == StepPhase.PredictedNoChange ? _pair.Updates : _next.Updates).Add(factors);
     }
 
     /// <inheritdoc />
     public void Adjusted()
     {
-        if (_skipNext)
+        if (_phase == StepPhase.PredictedNoChange)
         {
-            _pairAdjusted = true;
+            _pair.Adjusted = true;
         }
         else
         {
-            _nextAdjusted = true;
+            _next.Adjusted = true;
         }
     }
 
@@ -235,69 +218,68 @@ public sealed class CompactingStepRecorder : IStepRecorder
             return;
         }
 
-        if (_hasPair)
+        if (_pair.IsOpen)
         {
             RecordPair();
         }
 
-        _segment.Means[_r] = _mu;
-        _segment.Covariances[_r] = _pi;
-        _segment.Gains[_r] = default;
+        _segment.Means[_link.Index] = _link.Mu;
+        _segment.Covariances[_link.Index] = _link.Pi;
+        _segment.Gains[_link.Index] = default;
         _segment = null;
-        _hasPair = false;
-        _hasNext = false;
-        _skipNext = false;
+        _pair.IsOpen = false;
+        _phase = StepPhase.AwaitingPrediction;
         ClearUpdates();
     }
 
     private void ClearUpdates()
     {
-        _pairUpdates.Clear();
-        _pairAdjusted = false;
-        _nextUpdates.Clear();
-        _nextAdjusted = false;
+        _pair.Updates.Clear();
+        _pair.Adjusted = false;
+        _next.Updates.Clear();
+        _next.Adjusted = false;
     }
 
     /// <summary>Closes the link from the current recorded instant to the pending posterior, which becomes the new one.</summary>
     private void RecordPair()
     {
         CompactedSegment s = _segment!;
-        if (_tPost <= DiscardBeforeUs)
+        if (_latest.TimeUs <= DiscardBeforeUs)
         {
             // The current instant is superseded before the wanted window: the pending posterior replaces it.
-            s.Replace(_r, _tPost, _planePost);
-            _tR = _tPost;
-            _mu = _xPost;
-            _pi = _pPost;
-            _sigma = _pPost;
-            _hasPair = false;
+            s.Replace(_link.Index, _latest.TimeUs, _latest.Plane);
+            _link.TimeUs = _latest.TimeUs;
+            _link.Mu = _latest.X;
+            _link.Pi = _latest.P;
+            _link.Sigma = _latest.P;
+            _pair.IsOpen = false;
             return;
         }
 
         StateMatrix gT = default;
-        SolveGainTransposed(_sigmaPred, _predicted[_pairSlot], ref gT);
+        SolveGainTransposed(_pair.SigmaPredicted, _predicted[_pairSlot], ref gT);
 
         // D = Π - Σ⁻ Gᵀ.
         StateMatrix product = default;
-        MultiplyRows(_sigmaPred, gT, product);
-        StateMatrix d = _pi;
+        MatrixKernels.Multiply(_pair.SigmaPredicted, gT, product);
+        StateMatrix d = _link.Pi;
         for (int i = 0; i < StateMatrix.Length; i++)
         {
             d[i] -= product[i];
         }
 
         StateMatrix g = default;
-        Transpose(gT, ref g);
-        s.Means[_r] = _mu;
-        s.Covariances[_r] = d;
-        s.Gains[_r] = g;
-        s.PredictedNext[_r] = _xPred;
-        _r = s.Add(_tPost, _planePost);
-        _tR = _tPost;
-        _mu = _xPost;
-        _pi = _pPost;
-        _sigma = _pPost;
-        _hasPair = false;
+        MatrixKernels.Transpose(gT, ref g);
+        s.Means[_link.Index] = _link.Mu;
+        s.Covariances[_link.Index] = d;
+        s.Gains[_link.Index] = g;
+        s.PredictedNext[_link.Index] = _pair.XPredicted;
+        _link.Index = s.Add(_latest.TimeUs, _latest.Plane);
+        _link.TimeUs = _latest.TimeUs;
+        _link.Mu = _latest.X;
+        _link.Pi = _latest.P;
+        _link.Sigma = _latest.P;
+        _pair.IsOpen = false;
     }
 
     /// <summary>
@@ -314,19 +296,19 @@ public sealed class CompactingStepRecorder : IStepRecorder
     /// </remarks>
     private void AbsorbPair()
     {
-        if (_pairAdjusted)
+        if (_pair.Adjusted)
         {
             AbsorbPairThroughInverse();
             return;
         }
 
-        StateMatrix sigma = _sigmaPred;
+        StateMatrix sigma = _pair.SigmaPredicted;
         Span<double> sigmaS = sigma;
         ref double sigmaR = ref MemoryMarshal.GetReference(sigmaS);
-        Span<double> pi = _pi;
+        Span<double> pi = _link.Pi;
         Span<double> a = stackalloc double[N * ExtendedKalmanFilter.MaxMeasurementDimension];
         Span<StateRow> columns = stackalloc StateRow[ExtendedKalmanFilter.MaxMeasurementDimension];
-        foreach (ref readonly UpdateFactors update in CollectionsMarshal.AsSpan(_pairUpdates))
+        foreach (ref readonly UpdateFactors update in CollectionsMarshal.AsSpan(_pair.Updates))
         {
             int m = update.Dimension;
             ReadOnlySpan<double> information = update.Information;
@@ -357,15 +339,15 @@ public sealed class CompactingStepRecorder : IStepRecorder
                     shift += a[(i * m) + c] * whitened[c];
                 }
 
-                _mu[i] += shift;
+                _link.Mu[i] += shift;
             }
 
             OuterProductUpdate.Subtract(pi, a, a, m);
             OuterProductUpdate.Subtract(sigmaS, a, gain, m);
         }
 
-        _sigma = sigma;
-        _hasPair = false;
+        _link.Sigma = sigma;
+        _pair.IsOpen = false;
     }
 
     /// <summary>
@@ -375,7 +357,7 @@ public sealed class CompactingStepRecorder : IStepRecorder
     private void AbsorbPairThroughInverse()
     {
         StateMatrix gT = default;
-        SolveGainTransposed(_sigmaPred, _predicted[_pairSlot], ref gT);
+        SolveGainTransposed(_pair.SigmaPredicted, _predicted[_pairSlot], ref gT);
         ReadOnlySpan<double> gTs = gT;
         ref double gTr = ref MemoryMarshal.GetReference(gTs);
 
@@ -383,7 +365,7 @@ public sealed class CompactingStepRecorder : IStepRecorder
         var shift = StateRow.Zero;
         for (int j = 0; j < N; j++)
         {
-            double dxj = _xPost[j] - _xPred[j];
+            double dxj = _latest.X[j] - _pair.XPredicted[j];
             if (j == HeadingRad)
             {
                 dxj = Angles.WrapPi(dxj);
@@ -392,127 +374,45 @@ public sealed class CompactingStepRecorder : IStepRecorder
             shift += StateRow.Load(ref gTr, j * N) * StateRow.Broadcast(dxj);
         }
 
-        Span<double> mu = _mu;
+        Span<double> mu = _link.Mu;
         ref double muR = ref MemoryMarshal.GetReference(mu);
         (StateRow.Load(ref muR, 0) + shift).Store(ref muR, 0);
 
-        // Σ ← G P⁺, skipping zero gains as the scalar form did.
-        StateMatrix sigma = default;
-        ReadOnlySpan<double> post = _pPost;
-        ref double postR = ref MemoryMarshal.GetReference(post);
-        Span<double> sigmaS = sigma;
-        ref double sigmaR = ref MemoryMarshal.GetReference(sigmaS);
-        for (int i = 0; i < N; i++)
-        {
-            var row = StateRow.Zero;
-            for (int l = 0; l < N; l++)
-            {
-                double gil = gTs[(l * N) + i];
-                if (gil == 0)
-                {
-                    continue;
-                }
-
-                row += StateRow.Broadcast(gil) * StateRow.Load(ref postR, l * N);
-            }
-
-            row.Store(ref sigmaR, i * N);
-        }
+        // Σ ← G P⁺, skipping zero gains.
+        StateMatrix g = default;
+        MatrixKernels.Transpose(gT, ref g);
+        StateMatrix sigma = MatrixKernels.MultiplySkippingZeros(g, _latest.P);
 
         // Π ← Π + (Σ - Σ⁻) Gᵀ.
         StateMatrix diff = default;
         for (int i = 0; i < StateMatrix.Length; i++)
         {
-            diff[i] = sigma[i] - _sigmaPred[i];
+            diff[i] = sigma[i] - _pair.SigmaPredicted[i];
         }
 
         StateMatrix product = default;
-        MultiplyRows(diff, gT, product);
+        MatrixKernels.Multiply(diff, gT, product);
         for (int i = 0; i < StateMatrix.Length; i++)
         {
-            _pi[i] += product[i];
+            _link.Pi[i] += product[i];
         }
 
-        _sigma = sigma;
-        _hasPair = false;
+        _link.Sigma = sigma;
+        _pair.IsOpen = false;
     }
 
-    /// <summary>
-    /// Gᵀ = P⁻¹ Σ⁻ᵀ (G = Σ⁻ P⁻¹, P symmetric positive definite) by one Cholesky factorisation and forward and back
-    /// substitution on whole rows of Σ⁻ᵀ at once: the same operations in the same order as a solve per row of G, so the
-    /// result is the same to the last bit.
-    /// </summary>
+    /// <summary>Gᵀ = P⁻¹ Σ⁻ᵀ (G = Σ⁻ P⁻¹, P symmetric positive definite) by one Cholesky factorisation.</summary>
     private static void SolveGainTransposed(in StateMatrix sigmaPred, in StateMatrix pPred, ref StateMatrix gT)
     {
         Span<double> chol = stackalloc double[StateMatrix.Length];
-        for (int i = 0; i < StateMatrix.Length; i++)
-        {
-            chol[i] = pPred[i];
-        }
-
-        if (!ExtendedKalmanFilter.CholeskyInPlace(chol, N))
+        ((ReadOnlySpan<double>)pPred).CopyTo(chol);
+        if (!Cholesky.FactorInPlace(chol, N))
         {
             throw new FilterDivergenceException("predicted covariance is not positive definite while compacting the forward pass");
         }
 
-        Transpose(sigmaPred, ref gT);
-        Span<double> t = gT;
-        ref double tr = ref MemoryMarshal.GetReference(t);
-        for (int c = 0; c < N; c++)
-        {
-            var row = StateRow.Load(ref tr, c * N);
-            for (int k = 0; k < c; k++)
-            {
-                row -= StateRow.Broadcast(chol[(c * N) + k]) * StateRow.Load(ref tr, k * N);
-            }
-
-            (row / StateRow.Broadcast(chol[(c * N) + c])).Store(ref tr, c * N);
-        }
-
-        for (int c = N - 1; c >= 0; c--)
-        {
-            var row = StateRow.Load(ref tr, c * N);
-            for (int k = c + 1; k < N; k++)
-            {
-                row -= StateRow.Broadcast(chol[(k * N) + c]) * StateRow.Load(ref tr, k * N);
-            }
-
-            (row / StateRow.Broadcast(chol[(c * N) + c])).Store(ref tr, c * N);
-        }
-    }
-
-    /// <summary>result = a fᵀ, by <see cref="CarriedOverTransitionProduct"/> when f's rows 4 and on are diagonal.</summary>
-    private static void MultiplyTransposed(in StateMatrix a, in StateMatrix f, ref StateMatrix result)
-    {
-        if (CarriedOverTransitionProduct.Applies(f))
-        {
-            CarriedOverTransitionProduct.Multiply(a, f, result);
-            return;
-        }
-
-        StateMatrix fT = default;
-        Transpose(f, ref fT);
-        MultiplyRows(a, fT, result);
-    }
-
-    /// <summary>
-    /// result = a b, each row of the result summed over l in ascending order from zero (the order of the scalar loops
-    /// this replaces, without fused multiply-add, so the sums are the same to the last bit).
-    /// </summary>
-    private static void MultiplyRows(ReadOnlySpan<double> a, ReadOnlySpan<double> b, Span<double> result)
-    {
-        ref double br = ref MemoryMarshal.GetReference(b);
-        ref double rr = ref MemoryMarshal.GetReference(result);
-        for (int i = 0; i < N; i++)
-        {
-            var row = StateRow.Zero;
-            for (int l = 0; l < N; l++)
-            {
-                row += StateRow.Broadcast(a[(i * N) + l]) * StateRow.Load(ref br, l * N);
-            }
-
-            row.Store(ref rr, i * N);
-        }
+        MatrixKernels.Transpose(sigmaPred, ref gT);
+        Cholesky.SolveInPlace(chol, ref gT);
     }
 
     /// <summary>Two covariances inline.</summary>
@@ -522,25 +422,75 @@ public sealed class CompactingStepRecorder : IStepRecorder
         private StateMatrix _element0;
     }
 
-    private static void Transpose(in StateMatrix a, ref StateMatrix result)
+    /// <summary>Where the recorder is between a <see cref="Predicted"/> and its <see cref="Posterior"/>.</summary>
+    private enum StepPhase
     {
-        for (int i = 0; i < N; i++)
-        {
-            for (int j = 0; j < N; j++)
-            {
-                result[(j * N) + i] = a[(i * N) + j];
-            }
-        }
+        /// <summary>No prediction since the last posterior (or since <see cref="Start"/>).</summary>
+        AwaitingPrediction,
+
+        /// <summary>A prediction was heard; its updates and posterior make the next pair.</summary>
+        Predicted,
+
+        /// <summary>
+        /// A prediction over no time that changed nothing (F = I, same mean and covariance): the updates and posterior that
+        /// follow belong to the pending pair, whose posterior they replace.
+        /// </summary>
+        PredictedNoChange,
     }
 
-    /// <summary>Whether <paramref name="f"/> is the identity bit for bit (what the filter hands over when no time passed).</summary>
-    private static bool IsIdentity(in StateMatrix f) => Same(f, StateIdentity.Value);
+    /// <summary>The current recorded instant and what the steps after it have been folded into so far.</summary>
+    private struct Link
+    {
+        /// <summary>Index r of the recorded instant in the segment.</summary>
+        public int Index;
 
-    /// <summary>Bitwise equality: a prediction over no time copies the posterior unchanged.</summary>
-    private static bool Same(in StateVector a, in StateVector b) =>
-        MemoryMarshal.AsBytes((ReadOnlySpan<double>)a).SequenceEqual(MemoryMarshal.AsBytes((ReadOnlySpan<double>)b));
+        /// <summary>Its time, Unix microseconds.</summary>
+        public long TimeUs;
 
-    /// <summary>Bitwise equality, compared as bytes (vectorised) rather than element by element.</summary>
-    private static bool Same(in StateMatrix a, in StateMatrix b) =>
-        MemoryMarshal.AsBytes((ReadOnlySpan<double>)a).SequenceEqual(MemoryMarshal.AsBytes((ReadOnlySpan<double>)b));
+        /// <summary>μ, the mean of x(r) given the data so far with the folded steps' smoothing terms.</summary>
+        public StateVector Mu;
+
+        /// <summary>Π, the covariance that goes with μ.</summary>
+        public StateMatrix Pi;
+
+        /// <summary>Σ, the cross-covariance of x(r) and the latest posterior given the data so far.</summary>
+        public StateMatrix Sigma;
+    }
+
+    /// <summary>The latest posterior.</summary>
+    private struct LatestPosterior
+    {
+        public StateVector X;
+        public StateMatrix P;
+        public long TimeUs;
+        public LocalTangentPlane Plane;
+    }
+
+    /// <summary>The pending prediction/posterior pair, to be recorded or folded when the next posterior comes.</summary>
+    private struct Pair
+    {
+        /// <summary>Whether there is a pending pair.</summary>
+        public bool IsOpen;
+
+        /// <summary>Σ⁻ = Σ Fᵀ, the cross-covariance of x(r) and the pair's prediction.</summary>
+        public StateMatrix SigmaPredicted;
+
+        /// <summary>x⁻, the pair's predicted mean.</summary>
+        public StateVector XPredicted;
+
+        /// <summary>The pair's measurement updates.</summary>
+        public List<UpdateFactors> Updates;
+
+        /// <summary>Whether anything other than an update changed the pair's posterior (then it is folded through the inverse).</summary>
+        public bool Adjusted;
+    }
+
+    /// <summary>The step being predicted: its transition, predicted mean, updates and whether anything else adjusted it.</summary>
+    private struct Prediction
+    {
+        public StateMatrix Transition;
+        public StateVector X;
+        public List<UpdateFactors> Updates;
+        public bool Adjusted;
+    }
 }

@@ -78,95 +78,114 @@ public sealed class TrackProcessor
     private static EnuPoint OnPlane(double eastM, double northM) =>
         new(eastM, northM, -((eastM * eastM) + (northM * northM)) / (2.0 * Wgs84.SemiMajorAxisM));
 
-    private MeasurementOutcome ProcessStarting(ref TrackState s, in Measurement m, IStepRecorder? recorder)
+    /// <summary>A measurement before the track runs: only GNSS fixes and courses and standing still can start it.</summary>
+    private MeasurementOutcome ProcessStarting(ref TrackState s, in Measurement m, IStepRecorder? recorder) => m.Kind switch
     {
-        switch (m.Kind)
+        SensorKind.GnssPosition => ProcessFixBeforeStart(ref s, m, recorder),
+        SensorKind.GnssVelocity => ProcessCourseBeforeStart(ref s, m, recorder),
+        SensorKind.WheelSpeed => ProcessWheelBeforeStart(ref s, m, recorder),
+        _ => MeasurementOutcome.Of(OutcomeKind.BeforeStart),
+    };
+
+    /// <summary>
+    /// A GNSS fix before the track runs: the first one anchors the local plane (if none) and is held, starting the track
+    /// at once when a fresh course is held too; a later one goes to <see cref="ProcessFixAfterHeldFix"/>.
+    /// </summary>
+    private MeasurementOutcome ProcessFixBeforeStart(ref TrackState s, in Measurement m, IStepRecorder? recorder)
+    {
+        GnssFixView gnssFix = m.AsGnssFix();
+        var fixPoint = GeodeticPoint.FromDegrees(gnssFix.LatitudeDeg, gnssFix.LongitudeDeg);
+        if (!s.HasPlane)
         {
-            case SensorKind.GnssPosition:
-            {
-                GnssFixView gnssFix = m.AsGnssFix();
-                var fixPoint = GeodeticPoint.FromDegrees(gnssFix.LatitudeDeg, gnssFix.LongitudeDeg);
-                if (!s.HasPlane)
-                {
-                    s.Plane = new LocalTangentPlane(fixPoint);
-                    s.HasPlane = true;
-                }
-
-                EnuPoint enu = s.Plane.ToEnu(fixPoint);
-                var fix = new HeldFix(true, m.TimeUs, enu.EastM, enu.NorthM, gnssFix.AccuracyM);
-                if (s.Phase == TrackPhase.Empty || !s.Fix.IsSet)
-                {
-                    s.Phase = TrackPhase.AwaitingHeading;
-                    s.Fix = fix;
-                    if (CourseIsFresh(s, m.TimeUs))
-                    {
-                        StartFromCourse(ref s, fix, s.Course, m.TimeUs, recorder);
-                    }
-
-                    return MeasurementOutcome.Of(OutcomeKind.Initialising);
-                }
-
-                HeldFix first = s.Fix;
-                double dtS = (m.TimeUs - first.TimeUs) / MicrosecondsPerSecond;
-                double de = fix.EastM - first.EastM, dn = fix.NorthM - first.NorthM;
-                double distanceM = Math.Sqrt((de * de) + (dn * dn));
-                double sigmaM = Math.Sqrt((first.SigmaM * first.SigmaM) + (fix.SigmaM * fix.SigmaM));
-                if (dtS > 0 && dtS <= Options.TwoFixMaxAgeS && distanceM > Options.TwoFixHeadingSigmas * sigmaM)
-                {
-                    double heading = Math.Atan2(dn, de);
-                    Start(ref s, fix, fix.SigmaM, heading, sigmaM / distanceM, distanceM / dtS, sigmaM / dtS, m.TimeUs, recorder);
-                    return MeasurementOutcome.Of(OutcomeKind.Initialising);
-                }
-
-                if (s.Stationary)
-                {
-                    StartStationary(ref s, fix, m.TimeUs, recorder);
-                    return MeasurementOutcome.Of(OutcomeKind.Initialising);
-                }
-
-                if (dtS > Options.TwoFixMaxAgeS)
-                {
-                    s.Fix = fix;
-                    return MeasurementOutcome.Of(OutcomeKind.Initialising);
-                }
-
-                return MeasurementOutcome.Of(OutcomeKind.BeforeStart);
-            }
-
-            case SensorKind.GnssVelocity:
-            {
-                GnssVelocityView velocity = m.AsGnssVelocity();
-                if (!(velocity.SpeedMps >= Options.CourseMinSpeedMps) || !velocity.HasCourse || s.Agreement.CourseIsolated)
-                {
-                    return MeasurementOutcome.Of(OutcomeKind.BeforeStart);
-                }
-
-                double headingSigma = Math.Max(velocity.SpeedAccuracyMps / velocity.SpeedMps, Options.CourseSigmaFloorRad);
-                s.Course = new HeldCourse(true, m.TimeUs, CourseToHeading(velocity.CourseRad), headingSigma, velocity.SpeedMps, velocity.SpeedAccuracyMps);
-                if (s.Phase == TrackPhase.AwaitingHeading && s.Fix.IsSet && (m.TimeUs - s.Fix.TimeUs) / MicrosecondsPerSecond <= Options.TwoFixMaxAgeS)
-                {
-                    StartFromCourse(ref s, s.Fix, s.Course, m.TimeUs, recorder);
-                    return MeasurementOutcome.Of(OutcomeKind.Initialising);
-                }
-
-                return MeasurementOutcome.Of(OutcomeKind.BeforeStart);
-            }
-
-            case SensorKind.WheelSpeed:
-            {
-                TrackZeroSpeed(ref s, m);
-                if (s.Stationary && s.Phase == TrackPhase.AwaitingHeading && s.Fix.IsSet)
-                {
-                    StartStationary(ref s, s.Fix, m.TimeUs, recorder);
-                    return MeasurementOutcome.Of(OutcomeKind.Initialising);
-                }
-
-                return MeasurementOutcome.Of(OutcomeKind.BeforeStart);
-            }
-
-            default:
-                return MeasurementOutcome.Of(OutcomeKind.BeforeStart);
+            s.Plane = new LocalTangentPlane(fixPoint);
+            s.HasPlane = true;
         }
+
+        EnuPoint enu = s.Plane.ToEnu(fixPoint);
+        var fix = new HeldFix(true, m.TimeUs, enu.EastM, enu.NorthM, gnssFix.AccuracyM);
+        if (s.Phase == TrackPhase.Empty || !s.Fix.IsSet)
+        {
+            s.Phase = TrackPhase.AwaitingHeading;
+            s.Fix = fix;
+            if (CourseIsFresh(s, m.TimeUs))
+            {
+                StartFromCourse(ref s, fix, s.Course, m.TimeUs, recorder);
+            }
+
+            return MeasurementOutcome.Of(OutcomeKind.Initialising);
+        }
+
+        return ProcessFixAfterHeldFix(ref s, m, fix, recorder);
+    }
+
+    /// <summary>
+    /// A second fix beside the held one: the heading between the two starts the track when they are recent and further
+    /// apart than their combined uncertainty allows by chance; standing still starts it at the fix; a held fix too old
+    /// to pair is replaced.
+    /// </summary>
+    private MeasurementOutcome ProcessFixAfterHeldFix(ref TrackState s, in Measurement m, HeldFix fix, IStepRecorder? recorder)
+    {
+        HeldFix first = s.Fix;
+        double dtS = (m.TimeUs - first.TimeUs) / MicrosecondsPerSecond;
+        double de = fix.EastM - first.EastM, dn = fix.NorthM - first.NorthM;
+        double distanceM = Math.Sqrt((de * de) + (dn * dn));
+        double sigmaM = Math.Sqrt((first.SigmaM * first.SigmaM) + (fix.SigmaM * fix.SigmaM));
+        if (dtS > 0 && dtS <= Options.TwoFixMaxAgeS && distanceM > Options.TwoFixHeadingSigmas * sigmaM)
+        {
+            double heading = Math.Atan2(dn, de);
+            Start(ref s, fix, fix.SigmaM, heading, sigmaM / distanceM, distanceM / dtS, sigmaM / dtS, m.TimeUs, recorder);
+            return MeasurementOutcome.Of(OutcomeKind.Initialising);
+        }
+
+        if (s.Stationary)
+        {
+            StartStationary(ref s, fix, m.TimeUs, recorder);
+            return MeasurementOutcome.Of(OutcomeKind.Initialising);
+        }
+
+        if (dtS > Options.TwoFixMaxAgeS)
+        {
+            s.Fix = fix;
+            return MeasurementOutcome.Of(OutcomeKind.Initialising);
+        }
+
+        return MeasurementOutcome.Of(OutcomeKind.BeforeStart);
+    }
+
+    /// <summary>
+    /// A GNSS course before the track runs (used only at speed, with a course given, and while the course stream is not
+    /// isolated): held, and it starts the track with a recent held fix.
+    /// </summary>
+    private MeasurementOutcome ProcessCourseBeforeStart(ref TrackState s, in Measurement m, IStepRecorder? recorder)
+    {
+        GnssVelocityView velocity = m.AsGnssVelocity();
+        if (!(velocity.SpeedMps >= Options.CourseMinSpeedMps) || !velocity.HasCourse || s.Agreement.CourseIsolated)
+        {
+            return MeasurementOutcome.Of(OutcomeKind.BeforeStart);
+        }
+
+        double headingSigma = Math.Max(velocity.SpeedAccuracyMps / velocity.SpeedMps, Options.CourseSigmaFloorRad);
+        s.Course = new HeldCourse(true, m.TimeUs, CourseToHeading(velocity.CourseRad), headingSigma, velocity.SpeedMps, velocity.SpeedAccuracyMps);
+        if (s.Phase == TrackPhase.AwaitingHeading && s.Fix.IsSet && (m.TimeUs - s.Fix.TimeUs) / MicrosecondsPerSecond <= Options.TwoFixMaxAgeS)
+        {
+            StartFromCourse(ref s, s.Fix, s.Course, m.TimeUs, recorder);
+            return MeasurementOutcome.Of(OutcomeKind.Initialising);
+        }
+
+        return MeasurementOutcome.Of(OutcomeKind.BeforeStart);
+    }
+
+    /// <summary>A wheel speed before the track runs: tracks standing still, which starts the track at a held fix.</summary>
+    private MeasurementOutcome ProcessWheelBeforeStart(ref TrackState s, in Measurement m, IStepRecorder? recorder)
+    {
+        TrackZeroSpeed(ref s, m);
+        if (s.Stationary && s.Phase == TrackPhase.AwaitingHeading && s.Fix.IsSet)
+        {
+            StartStationary(ref s, s.Fix, m.TimeUs, recorder);
+            return MeasurementOutcome.Of(OutcomeKind.Initialising);
+        }
+
+        return MeasurementOutcome.Of(OutcomeKind.BeforeStart);
     }
 
     private bool CourseIsFresh(in TrackState s, long timeUs) =>
@@ -443,7 +462,7 @@ public sealed class TrackProcessor
             if (recorder is not null)
             {
                 // F I = F: the usual single step needs no product.
-                total = totalIsIdentity ? f : Multiply(f, total);
+                total = totalIsIdentity ? f : MatrixKernels.MultiplySkippingZeros(f, total);
                 totalIsIdentity = false;
             }
 
@@ -503,7 +522,7 @@ public sealed class TrackProcessor
         }
 
         s.Plane = plane;
-        jacobian = Multiply(j, jacobian);
+        jacobian = MatrixKernels.MultiplySkippingZeros(j, jacobian);
     }
 
     private MeasurementOutcome UpdateGnssPosition(ref TrackState s, in Measurement m, IStepRecorder? recorder)
@@ -876,7 +895,7 @@ public sealed class TrackProcessor
     }
 
     /// <summary>
-    /// <see cref="ExtendedKalmanFilter.TryUpdateJoseph(ref StateVector, ref StateMatrix, ReadOnlySpan{double}, ReadOnlySpan{double}, ReadOnlySpan{double}, double, out double, ref UpdateFactors, bool)"/>
+    /// <see cref="ExtendedKalmanFilter.UpdateJosephGated(ref StateVector, ref StateMatrix, ReadOnlySpan{double}, ReadOnlySpan{double}, ReadOnlySpan{double}, double, out double, ref UpdateFactors, bool)"/>
     /// on the track's state; an applied update's factors go to the recorder, if any. <paramref name="whitened"/> receives
     /// the whitened innovation L⁻¹ ν (S = L Lᵀ), gated or not.
     /// </summary>
@@ -885,8 +904,8 @@ public sealed class TrackProcessor
         IStepRecorder? recorder, Span<double> whitened = default)
     {
         UpdateFactors factors = default;
-        bool applied = ExtendedKalmanFilter.TryUpdateJoseph(
-            ref s.X, ref s.P, residual, h, r, threshold, out nis, ref factors, captureFactors: recorder is not null);
+        bool applied = ExtendedKalmanFilter.UpdateJosephGated(
+            ref s.X, ref s.P, residual, h, r, threshold, out nis, ref factors, captureFactors: recorder is not null) == GateDecision.Accepted;
         ((ReadOnlySpan<double>)factors.Whitened)[..Math.Min(whitened.Length, factors.Dimension)].CopyTo(whitened);
         if (applied)
         {
@@ -905,28 +924,5 @@ public sealed class TrackProcessor
         double course = (0.5 * Math.PI) - headingRad;
         course %= 2.0 * Math.PI;
         return course < 0 ? course + (2.0 * Math.PI) : course;
-    }
-
-    private static StateMatrix Multiply(in StateMatrix a, in StateMatrix b)
-    {
-        StateMatrix c = default;
-        for (int i = 0; i < N; i++)
-        {
-            for (int k = 0; k < N; k++)
-            {
-                double aik = a[(i * N) + k];
-                if (aik == 0)
-                {
-                    continue;
-                }
-
-                for (int j = 0; j < N; j++)
-                {
-                    c[(i * N) + j] += aik * b[(k * N) + j];
-                }
-            }
-        }
-
-        return c;
     }
 }

@@ -3,6 +3,7 @@ using FusionService.Estimation.Geodesy;
 using FusionService.Estimation.LinearAlgebra;
 using FusionService.Estimation.Measurements;
 using FusionService.Estimation.Models;
+using FusionService.Estimation.Reference;
 using FusionService.Estimation.Smoothing;
 using FusionService.Estimation.Tracking;
 using FusionService.Scenarios;

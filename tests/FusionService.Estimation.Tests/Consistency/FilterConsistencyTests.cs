@@ -3,6 +3,7 @@ using FusionService.Estimation.Geodesy;
 using FusionService.Estimation.LinearAlgebra;
 using FusionService.Estimation.Measurements;
 using FusionService.Estimation.Models;
+using FusionService.Estimation.Reference;
 using FusionService.Estimation.Tracking;
 using FusionService.Scenarios;
 using MathNet.Numerics.Distributions;
@@ -141,7 +142,7 @@ public sealed class FilterConsistencyTests(ITestOutputHelper output)
         {
             ScenarioRun scenario = Scenario(run);
             TrackState start = StartAtPerturbedTruth(scenario, new Random(3000 + run));
-            var replay = FusionService.Estimation.Smoothing.TrackReplay.Run(processor, start, scenario.Measurements.Where(m => m.TimeUs > start.TimeUs));
+            var replay = TrackReplay.Run(processor, start, scenario.Measurements.Where(m => m.TimeUs > start.TimeUs));
             long from = start.TimeUs + 5_000_000, to = scenario.Truth.EndTimeUs - 5_000_000;
             DistanceEstimate d = DistanceIntegrator.Integrate(replay.Smoothed, from, to);
             double truthM = 0;

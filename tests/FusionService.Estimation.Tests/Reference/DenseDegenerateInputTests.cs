@@ -1,5 +1,5 @@
 using FusionService.Estimation.Filtering;
-using FusionService.Estimation.Linear;
+using FusionService.Estimation.Reference;
 using MathNet.Numerics.LinearAlgebra;
 
 namespace FusionService.Estimation.Tests.Reference;

@@ -1,7 +1,7 @@
 using FusionService.Estimation.Filtering;
 using FusionService.Estimation.Gating;
 using FusionService.Estimation.LinearAlgebra;
-using FusionService.Estimation.Linear;
+using FusionService.Estimation.Reference;
 using MathNet.Numerics.LinearAlgebra;
 
 namespace FusionService.Estimation.Tests.Reference;
@@ -46,18 +46,18 @@ public sealed class FixedSizeFilterAgreementTests
     [InlineData(4, 2)]
     [InlineData(5, 3)]
     [InlineData(6, 3)]
-    public void TryUpdateJoseph_equals_the_dense_update(int seed, int measurementDimension)
+    public void UpdateJosephGated_equals_the_dense_update(int seed, int measurementDimension)
     {
         var random = new Random(seed);
         var (x, p, h, r, residual) = RandomUpdateCase(random, measurementDimension, residualScale: 1.0);
         var xFixed = ToStateVector(x);
         var pFixed = ToStateMatrix(p);
 
-        bool applied = ExtendedKalmanFilter.TryUpdateJoseph(
+        GateDecision decision = ExtendedKalmanFilter.UpdateJosephGated(
             ref xFixed, ref pFixed, residual.ToArray(), RowMajor(h), RowMajor(r), double.PositiveInfinity, out double nis);
         var dense = DenseKalmanFilter.Update(new GaussianEstimate(x, p), (h * x) + residual, h, r);
 
-        Assert.True(applied);
+        Assert.Equal(GateDecision.Accepted, decision);
         RelativeAssert.Relative(dense.Nis, nis, RelativeTolerance, "NIS");
         RelativeAssert.Relative(dense.Posterior.Mean, ToDense(xFixed), RelativeTolerance, "posterior mean");
         RelativeAssert.Relative(dense.Posterior.Covariance, ToDense(pFixed), RelativeTolerance, "posterior covariance");
@@ -81,10 +81,10 @@ public sealed class FixedSizeFilterAgreementTests
         var pFixed = ToStateMatrix(p);
         UpdateFactors factors = default;
 
-        bool applied = ExtendedKalmanFilter.TryUpdateJoseph(
+        GateDecision decision = ExtendedKalmanFilter.UpdateJosephGated(
             ref xFixed, ref pFixed, residual.ToArray(), RowMajor(h), RowMajor(r), double.PositiveInfinity, out _, ref factors, captureFactors: true);
 
-        Assert.True(applied);
+        Assert.Equal(GateDecision.Accepted, decision);
         Assert.Equal(measurementDimension, factors.Dimension);
         int m = measurementDimension;
         double[] information = ((ReadOnlySpan<double>)factors.Information).ToArray();
@@ -125,7 +125,7 @@ public sealed class FixedSizeFilterAgreementTests
             }
 
             bool expected = values.Min() > 0;
-            Assert.Equal(expected, ExtendedKalmanFilter.IsPositiveDefinite(ToStateMatrix(shifted)));
+            Assert.Equal(expected, MatrixKernels.IsPositiveDefinite(ToStateMatrix(shifted)));
             if (expected)
             {
                 definite++;
@@ -140,10 +140,10 @@ public sealed class FixedSizeFilterAgreementTests
         var withNaN = ToStateMatrix(Dense.RandomSpd(random, N, 0.1));
         withNaN[(3 * N) + 5] = double.NaN;
         withNaN[(5 * N) + 3] = double.NaN;
-        Assert.False(ExtendedKalmanFilter.IsPositiveDefinite(withNaN));
+        Assert.False(MatrixKernels.IsPositiveDefinite(withNaN));
         var withInfinity = ToStateMatrix(Dense.RandomSpd(random, N, 0.1));
         withInfinity[(2 * N) + 2] = double.PositiveInfinity;
-        Assert.False(ExtendedKalmanFilter.IsPositiveDefinite(withInfinity));
+        Assert.False(MatrixKernels.IsPositiveDefinite(withInfinity));
     }
 
     [Theory]
@@ -158,11 +158,11 @@ public sealed class FixedSizeFilterAgreementTests
         var pFixed = ToStateMatrix(p);
         double threshold = new ChiSquareGate().Threshold(measurementDimension);
 
-        bool applied = ExtendedKalmanFilter.TryUpdateJoseph(
+        GateDecision decision = ExtendedKalmanFilter.UpdateJosephGated(
             ref xFixed, ref pFixed, residual.ToArray(), RowMajor(h), RowMajor(r), threshold, out double nis);
         double denseNis = DenseKalmanFilter.Update(new GaussianEstimate(x, p), (h * x) + residual, h, r).Nis;
 
-        Assert.False(applied);
+        Assert.Equal(GateDecision.Rejected, decision);
         Assert.True(nis > threshold, $"NIS {nis} should exceed the gate {threshold}");
         RelativeAssert.Relative(denseNis, nis, RelativeTolerance, "NIS of the rejected measurement");
         Assert.Equal(x.ToArray(), ToDense(xFixed).ToArray());

@@ -1,4 +1,4 @@
-using FusionService.Estimation.Linear;
+using FusionService.Estimation.Reference;
 
 namespace FusionService.Estimation.Tests.Reference;
 

@@ -1,9 +1,9 @@
 using FusionService.Estimation.Gating;
 using FusionService.Estimation.Geodesy;
 using FusionService.Estimation.LinearAlgebra;
-using FusionService.Estimation.Linear;
 using FusionService.Estimation.Measurements;
 using FusionService.Estimation.Models;
+using FusionService.Estimation.Reference;
 using FusionService.Estimation.Tracking;
 using MathNet.Numerics.LinearAlgebra;
 using static FusionService.Estimation.Models.StateIndex;

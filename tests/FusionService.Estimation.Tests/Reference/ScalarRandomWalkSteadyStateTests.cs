@@ -1,4 +1,4 @@
-using FusionService.Estimation.Linear;
+using FusionService.Estimation.Reference;
 using MathNet.Numerics.LinearAlgebra;
 
 namespace FusionService.Estimation.Tests.Reference;

@@ -2,7 +2,7 @@ using FusionService.Estimation.Diagnostics;
 using FusionService.Estimation.Geodesy;
 using FusionService.Estimation.Measurements;
 using FusionService.Estimation.Models;
-using FusionService.Estimation.Smoothing;
+using FusionService.Estimation.Reference;
 using FusionService.Estimation.Tracking;
 using Xunit.Abstractions;
 

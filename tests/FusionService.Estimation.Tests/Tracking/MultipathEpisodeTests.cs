@@ -1,6 +1,6 @@
 using FusionService.Estimation.Measurements;
 using FusionService.Estimation.Models;
-using FusionService.Estimation.Smoothing;
+using FusionService.Estimation.Reference;
 using FusionService.Estimation.Tracking;
 using FusionService.Scenarios;
 using Xunit.Abstractions;

@@ -101,7 +101,7 @@ public sealed class ReanchoringAndInputTests(ITestOutputHelper output)
         StateVector copy = x;
         StateMatrix pCopy = p;
         var error = Assert.Throws<FilterDivergenceException>(() =>
-            ExtendedKalmanFilter.TryUpdateJoseph(ref copy, ref pCopy, [0.1], [0, 0, 0, 1, 0, 0, 0, 0, 0, 0], [0.0025], double.PositiveInfinity, out _));
+            ExtendedKalmanFilter.UpdateJosephGated(ref copy, ref pCopy, [0.1], [0, 0, 0, 1, 0, 0, 0, 0, 0, 0], [0.0025], double.PositiveInfinity, out _));
         Assert.Contains("not positive definite", error.Message, StringComparison.Ordinal);
     }
 

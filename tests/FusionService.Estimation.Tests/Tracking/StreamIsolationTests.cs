@@ -1,7 +1,7 @@
 using FusionService.Estimation.Geodesy;
 using FusionService.Estimation.Measurements;
 using FusionService.Estimation.Models;
-using FusionService.Estimation.Smoothing;
+using FusionService.Estimation.Reference;
 using FusionService.Estimation.Tracking;
 using FusionService.Scenarios;
 using Xunit.Abstractions;

@@ -2,6 +2,7 @@
 using System.Globalization;
 using FusionService.Estimation.Measurements;
 using FusionService.Estimation.Models;
+using FusionService.Estimation.Reference;
 using FusionService.Estimation.Smoothing;
 using FusionService.Estimation.Tracking;
 using FusionService.Operations;

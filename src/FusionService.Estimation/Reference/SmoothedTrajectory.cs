@@ -1,6 +1,6 @@
 using MathNet.Numerics.LinearAlgebra;
 
-namespace FusionService.Estimation.Linear;
+namespace FusionService.Estimation.Reference;
 
 /// <summary>Fixed-interval smoothed estimates of a trajectory and the smoothed covariances between neighbours.</summary>
 /// <param name="Estimates">Smoothed estimates x̂ₖ|N, Pₖ|N for k = 0 … N (same count and indexing as the filtered input).</param>

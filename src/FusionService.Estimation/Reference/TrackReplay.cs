@@ -1,12 +1,13 @@
 using FusionService.Estimation.Measurements;
 using FusionService.Estimation.Tracking;
 
-namespace FusionService.Estimation.Smoothing;
+namespace FusionService.Estimation.Reference;
 
 /// <summary>
 /// After-the-fact processing: from a start state (a checkpoint, or <see cref="TrackState.Empty"/>) run the filter over a
 /// list of measurements in canonical order, with no lag window (late measurements are simply in their place), and smooth
-/// the result with <see cref="RauchTungStriebelSmoother"/>.
+/// the result with <see cref="RauchTungStriebelSmoother"/>. A reference for tests and benchmarks: the service replays and
+/// smooths with <see cref="Smoothing.CompactedTrackReplay"/>.
 /// </summary>
 public static class TrackReplay
 {

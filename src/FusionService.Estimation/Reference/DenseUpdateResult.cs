@@ -1,6 +1,6 @@
 using MathNet.Numerics.LinearAlgebra;
 
-namespace FusionService.Estimation.Linear;
+namespace FusionService.Estimation.Reference;
 
 /// <summary>Everything a dense Kalman measurement update computes (see <see cref="DenseKalmanFilter.Update"/>).</summary>
 /// <param name="Posterior">Updated estimate x̂⁺ = x̂ + K ν, P⁺ in Joseph form.</param>

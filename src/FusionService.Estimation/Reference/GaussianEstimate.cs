@@ -1,6 +1,6 @@
 using MathNet.Numerics.LinearAlgebra;
 
-namespace FusionService.Estimation.Linear;
+namespace FusionService.Estimation.Reference;
 
 /// <summary>
 /// A Gaussian state estimate N(<paramref name="Mean"/>, <paramref name="Covariance"/>) used by the dense reference

@@ -1,7 +1,7 @@
 using FusionService.Estimation.Geodesy;
 using FusionService.Estimation.LinearAlgebra;
 
-namespace FusionService.Estimation.Smoothing;
+namespace FusionService.Estimation.Reference;
 
 /// <summary>
 /// One step of the forward (filtering) pass kept for smoothing: the filtered state at <see cref="TimeUs"/> and, except

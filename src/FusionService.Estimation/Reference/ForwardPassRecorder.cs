@@ -2,7 +2,7 @@ using FusionService.Estimation.Geodesy;
 using FusionService.Estimation.LinearAlgebra;
 using FusionService.Estimation.Tracking;
 
-namespace FusionService.Estimation.Smoothing;
+namespace FusionService.Estimation.Reference;
 
 /// <summary>Keeps every forward step, split into segments at each (re)start of the filter, for <see cref="RauchTungStriebelSmoother"/>.</summary>
 public sealed class ForwardPassRecorder : IStepRecorder

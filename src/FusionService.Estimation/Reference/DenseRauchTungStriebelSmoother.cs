@@ -1,6 +1,6 @@
 using MathNet.Numerics.LinearAlgebra;
 
-namespace FusionService.Estimation.Linear;
+namespace FusionService.Estimation.Reference;
 
 /// <summary>
 /// Fixed-interval Rauch–Tung–Striebel smoother on dense MathNet matrices: the readable reference for the

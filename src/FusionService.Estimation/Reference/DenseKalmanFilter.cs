@@ -1,6 +1,6 @@
 using MathNet.Numerics.LinearAlgebra;
 
-namespace FusionService.Estimation.Linear;
+namespace FusionService.Estimation.Reference;
 
 /// <summary>
 /// Linear Kalman filter on dense MathNet matrices of any size: the readable reference implementation that the

@@ -2,7 +2,7 @@ using FusionService.Estimation.Filtering;
 using MathNet.Numerics.LinearAlgebra;
 using MathNet.Numerics.LinearAlgebra.Factorization;
 
-namespace FusionService.Estimation.Linear;
+namespace FusionService.Estimation.Reference;
 
 /// <summary>Argument checks and small helpers shared by the dense reference filter and smoother.</summary>
 internal static class DenseChecks

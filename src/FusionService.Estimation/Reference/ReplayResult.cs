@@ -1,7 +1,8 @@
 using FusionService.Estimation.Measurements;
+using FusionService.Estimation.Smoothing;
 using FusionService.Estimation.Tracking;
 
-namespace FusionService.Estimation.Smoothing;
+namespace FusionService.Estimation.Reference;
 
 /// <summary>The result of <see cref="TrackReplay.Run"/>: forward-filtered steps, smoothed segments, outcomes and the final state.</summary>
 /// <param name="Forward">Forward steps per segment (a track reset, a carry, an isolated stream or a GNSS error restart starts a new segment).</param>
