@@ -114,13 +114,20 @@ public sealed class VehicleTrack
         + System.Runtime.CompilerServices.Unsafe.SizeOf<TrackState>();
 
     /// <summary>
+    /// Whether <paramref name="m"/> would be judged too late now: older than the replay window behind the newest
+    /// measurement, or at or before the floor the track was restored from.
+    /// </summary>
+    public bool IsTooLate(in Measurement m) =>
+        (NewestTimeUs != long.MinValue && m.TimeUs < NewestTimeUs - _windowUs) || (_hasFloor && CompareKey(m, _floor) <= 0);
+
+    /// <summary>
     /// Processes a measurement that may arrive late, duplicated or out of order; the observer hears the outcome of it and
     /// of every measurement re-processed because of it.
     /// </summary>
     /// <returns>The outcome of <paramref name="m"/> itself.</returns>
     public MeasurementOutcome Process(in Measurement m, ITrackObserver? observer = null)
     {
-        if ((NewestTimeUs != long.MinValue && m.TimeUs < NewestTimeUs - _windowUs) || (_hasFloor && CompareKey(m, _floor) <= 0))
+        if (IsTooLate(m))
         {
             return Report(m, MeasurementOutcome.Of(OutcomeKind.TooLate), observer);
         }

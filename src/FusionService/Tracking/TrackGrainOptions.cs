@@ -51,10 +51,10 @@ public sealed class TrackGrainOptions
     public double DrainTimeoutS { get; set; } = 10;
 
     /// <summary>
-    /// Data-time minutes before the restored checkpoint in which an activating track looks for stored measurements
-    /// that no verdict has judged (pending: a process killed between a commit and the track's verdicts). They lie at or
-    /// before the checkpoint, which the track cannot go back behind, so they are judged too late; without this they would
-    /// stay pending for good. Older pending rows are left as they are. 0 turns the look-back off. Default 60.
+    /// Data-time minutes before the newest checkpoint in which an activating track looks for stored measurements that no
+    /// verdict has judged (pending: their hand-over died with a process, or was overtaken by a later commit's). The
+    /// track then restores from a checkpoint before the oldest of them, so that it fuses them in order; without this
+    /// they would stay pending for good. Older pending rows are left as they are. 0 turns the look-back off. Default 60.
     /// </summary>
     [Range(0, 1440)]
     public double PendingLookBackMin { get; set; } = 60;

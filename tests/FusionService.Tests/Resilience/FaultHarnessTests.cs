@@ -44,6 +44,8 @@ public sealed class FaultHarnessTests(ServiceFixture fixture, ITestOutputHelper 
         string clusterId = "faults-" + Convert.ToHexStringLower(RandomNumberGenerator.GetBytes(4));
         var environment = ServiceProcess.Cluster(clusterId);
         environment["Security__RateLimitPermits"] = "10000000";
+        // Restores, rebuilds and catch-ups are logged at Information and Debug: a failing run then says which happened.
+        environment["Serilog__MinimumLevel__Override__FusionService.Tracking"] = "Debug";
         var services = Enumerable.Range(0, 3).Select(_ => ServiceProcess.Start(fixture.ConnectionString, output, environment)).ToList();
         try
         {
@@ -253,6 +255,11 @@ public sealed class FaultHarnessTests(ServiceFixture fixture, ITestOutputHelper 
                 await Task.Delay(200);
             }
 
+            if (!Equals(actual, expected))
+            {
+                await DescribeOutcomesAsync(fleet.Id, vehicle);
+            }
+
             Assert.Equal(expected, actual);
         }
 
@@ -264,6 +271,21 @@ public sealed class FaultHarnessTests(ServiceFixture fixture, ITestOutputHelper 
 
         Assert.Equal(0, pending);
         output.WriteLine($"settled in {settle.Elapsed.TotalSeconds:F1} s");
+    }
+
+    /// <summary>Writes a vehicle's verdicts by outcome, and its too-late and pending ones, to the test output.</summary>
+    private async Task DescribeOutcomesAsync(Guid fleetId, string vehicle)
+    {
+        await using var connection = await fixture.Store.OpenConnectionAsync();
+        await using var command = new NpgsqlCommand(
+            "SELECT outcome, count(*), min(time_us), max(time_us) FROM " + JudgedSql.OfVehicle + " GROUP BY outcome ORDER BY outcome", connection);
+        command.Parameters.Add(new NpgsqlParameter { Value = fleetId });
+        command.Parameters.Add(new NpgsqlParameter { Value = vehicle });
+        await using var reader = await command.ExecuteReaderAsync();
+        while (await reader.ReadAsync())
+        {
+            output.WriteLine($"{vehicle}: outcome {reader.GetInt16(0)} x{reader.GetInt64(1)}, times {reader.GetInt64(2)}..{reader.GetInt64(3)}");
+        }
     }
 
     private async Task<List<(short, long, long)>> StoredKeysAsync(Guid fleetId, string vehicle)
