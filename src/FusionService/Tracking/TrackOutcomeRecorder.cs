@@ -42,6 +42,16 @@ internal sealed class TrackOutcomeRecorder(Guid fleetId, string vehicleId, Track
         _states.Clear();
     }
 
+    /// <summary>
+    /// Completes with true once the write queue has written every row flushed so far, false after
+    /// <paramref name="timeout"/> (the store refuses writes).
+    /// </summary>
+    public async Task<bool> WaitWrittenAsync(TimeSpan timeout)
+    {
+        using var wait = new CancellationTokenSource(timeout);
+        return await writes.WaitWrittenAsync(LastTicket, wait.Token).ConfigureAwait(false);
+    }
+
     /// <summary>Drops the buffered rows (the track is to be rebuilt from the store).</summary>
     public void Discard()
     {

@@ -4,6 +4,7 @@ using FusionService.Estimation.Measurements;
 using FusionService.Estimation.Time;
 using FusionService.Estimation.Tracking;
 using FusionService.Operations;
+using FusionService.Storage.Checkpoints;
 using FusionService.Storage.Failures;
 using FusionService.Storage.Measurements;
 using Microsoft.Extensions.Options;
@@ -45,18 +46,21 @@ internal sealed class VehicleTrackGrain(
     // Processes of the cluster declared dead when the track last looked at the store (see CatchUpAfterDeathsAsync).
     private int _deadSeen;
 
+    // The newest commit (transaction id) whose measurements the track holds: one handed over, or the highest a restore
+    // may have read. A later hand-over of an older commit was overtaken on its way here.
+    private long _newestStamp;
+
     public override async Task OnActivateAsync(CancellationToken cancellationToken)
     {
         (_fleetId, _vehicleId) = GrainKeys.Parse(this.GetPrimaryKeyString());
         _deadSeen = DeadProcesses();
         var recorder = _recorder = parts.CreateRecorder(_fleetId, _vehicleId);
         var checkpoints = _checkpoints = parts.CreateCheckpointKeeper(_fleetId, _vehicleId, this.GetPrimaryKeyString());
-        var checkpoint = await store.NewestCheckpointAsync(_fleetId, _vehicleId, cancellationToken);
         long nowUs = UnixMicroseconds.Now(time);
         long fromUs = nowUs - ((databaseOptions.Value.DaysBack + 1) * 86_400_000_000L);
-        long fromFloorUs = fromUs;
+        var checkpoint = await RestorePointAsync(fromUs, cancellationToken);
         Measurement? floor = null;
-        if (checkpoint is { } row && row.PayloadVersion == TrackStateCodec.Version)
+        if (checkpoint is { } row)
         {
             var (state, last) = TrackStateCodec.Decode(row.Payload.Span);
             _track = new VehicleTrack(processor, state, last);
@@ -67,6 +71,7 @@ internal sealed class VehicleTrackGrain(
 
         var (stored, snapshot) = await store.ReadWithSnapshotAsync(_fleetId, _vehicleId, fromUs, nowUs + (7 * 86_400_000_000L), cancellationToken);
         _restored = snapshot;
+        _newestStamp = snapshot.Xmax - 1;
         int replayed = 0;
         foreach (var s in stored)
         {
@@ -85,33 +90,52 @@ internal sealed class VehicleTrackGrain(
             replayed++;
         }
 
-        if (floor is { } restoredFloor && options.Value.PendingLookBackMin > 0)
-        {
-            // Stored at or before the checkpoint but never judged (a kill between a commit and its verdicts): the track
-            // cannot go back behind its checkpoint, so they are too late; judged now, they are pending no longer.
-            long lookBackUs = (long)Math.Round(options.Value.PendingLookBackMin * 6e7);
-            var pending = await store.ReadPendingAsync(
-                _fleetId, _vehicleId, Math.Max(restoredFloor.TimeUs - lookBackUs, fromFloorUs), restoredFloor.TimeUs + 1, cancellationToken);
-            foreach (var s in pending)
-            {
-                var m = MeasurementRows.ToMeasurement(s);
-                if (VehicleTrack.CompareKey(m, restoredFloor) <= 0)
-                {
-                    _track.Process(m, recorder);
-                }
-            }
-
-            if (pending.Count > 0)
-            {
-                logger.LogInformation("Track {Key} judged {Count} stored measurements left pending before its checkpoint", this.GetPrimaryKeyString(), pending.Count);
-            }
-        }
-
         checkpoints.StartInterval();
         recorder.Flush();
         await recorder.Alerts.FlushAsync(live: false, time.GetUtcNow());
         logger.LogDebug("Track {Key} restored: checkpoint {HasCheckpoint}, {Replayed} measurements re-processed", this.GetPrimaryKeyString(), floor is not null, replayed);
         await base.OnActivateAsync(cancellationToken);
+    }
+
+    /// <summary>
+    /// The stored checkpoint to restore from: the newest one, unless stored measurements at or before it were never
+    /// judged (their hand-over died with a process, or was overtaken by a later commit's from another process). The
+    /// track was handed them after their commit was acknowledged, so it must fuse them; it cannot go back behind a
+    /// checkpoint, so it restores from the newest checkpoint before the oldest of them (from the start of the kept days
+    /// when there is none), deleting the checkpoints they invalidate, and the replay fuses them in order. Only the
+    /// <see cref="TrackGrainOptions.PendingLookBackMin"/> minutes of data before the newest checkpoint are searched;
+    /// older pending rows are left as they are.
+    /// </summary>
+    private async Task<FilterCheckpointRow?> RestorePointAsync(long keptFromUs, CancellationToken cancellationToken)
+    {
+        var newest = await store.NewestCheckpointAsync(_fleetId, _vehicleId, cancellationToken);
+        if (newest is not { } row || row.PayloadVersion != TrackStateCodec.Version)
+        {
+            return null;
+        }
+
+        if (options.Value.PendingLookBackMin <= 0)
+        {
+            return row;
+        }
+
+        var (_, floor) = TrackStateCodec.Decode(row.Payload.Span);
+        long lookBackUs = (long)Math.Round(options.Value.PendingLookBackMin * 6e7);
+        var pending = await store.ReadPendingAsync(_fleetId, _vehicleId, Math.Max(floor.TimeUs - lookBackUs, keptFromUs), floor.TimeUs + 1, cancellationToken);
+        var behind = pending.Select(r => MeasurementRows.ToMeasurement(r)).Where(m => VehicleTrack.CompareKey(m, floor) <= 0).ToList();
+        if (behind.Count == 0)
+        {
+            return row;
+        }
+
+        long earliestUs = behind.Min(m => m.TimeUs);
+        logger.LogInformation(
+            "Track {Key} restores from before {EarliestUs}: {Count} stored measurements at or before its newest checkpoint were never judged",
+            this.GetPrimaryKeyString(),
+            earliestUs,
+            behind.Count);
+        var earlier = await store.CheckpointBeforeAsync(_fleetId, _vehicleId, earliestUs, cancellationToken);
+        return earlier is { } e && e.PayloadVersion == TrackStateCodec.Version ? e : null;
     }
 
     public override async Task OnDeactivateAsync(DeactivationReason reason, CancellationToken cancellationToken)
@@ -131,13 +155,30 @@ internal sealed class VehicleTrackGrain(
     public async Task ProcessAsync(TrackMeasurement[] batch, CommitStamp stamp)
     {
         ArgumentNullException.ThrowIfNull(batch);
-        var recorder = Parts().Recorder;
-        await CatchUpAfterDeathsAsync();
+        var (recorder, checkpoints) = Parts();
+        if (checkpoints.Abandoned || !await CatchUpAfterDeathsAsync())
+        {
+            // To be rebuilt: the next activation's restore reads these from the store.
+            return;
+        }
+
         if (_restored is { } restored && restored.Holds(stamp.TransactionId))
         {
             // Committed before this activation read the store: the restore processed these already, in order.
             return;
         }
+
+        if (stamp.TransactionId > 0 && stamp.TransactionId < _newestStamp && Array.Exists(batch, item => _track.IsTooLate(item.ToMeasurement())))
+        {
+            // Committed before data the track already holds: another process handed over a later commit first. The sender
+            // sent these first, so they are not late; the track is rebuilt from the store, which fuses them in order.
+            logger.LogInformation(
+                "Track {Key} was handed commit {Stamp} after later ones and is rebuilt to fuse it in order", this.GetPrimaryKeyString(), stamp.TransactionId);
+            RestoreAgain();
+            return;
+        }
+
+        _newestStamp = Math.Max(_newestStamp, stamp.TransactionId);
 
         try
         {
@@ -168,7 +209,11 @@ internal sealed class VehicleTrackGrain(
 
     public async Task<VehicleStateSnapshot?> GetStateAsync()
     {
-        await CatchUpAfterDeathsAsync();
+        if (!Parts().Checkpoints.Abandoned)
+        {
+            await CatchUpAfterDeathsAsync();
+        }
+
         return VehicleStateSnapshot.Of(_track.Current, Parts().Recorder.LastTimeUsBySensor());
     }
 
@@ -176,47 +221,77 @@ internal sealed class VehicleTrackGrain(
     /// A process that dies between a commit and the delivery of its batch leaves those rows pending, and a track living
     /// elsewhere never hears of them (a track in the dead process is rebuilt from the store anyway). So once more
     /// processes of the cluster have been declared dead than when the track last looked, it reads its vehicle's pending
-    /// rows from <see cref="TrackGrainOptions.PendingLookBackMin"/> before its newest data on, under a snapshot, and
-    /// processes them (late data inside the window is fused in order; older is judged too late). Deliveries of commits
-    /// that snapshot holds are then skipped, as after a restore.
+    /// rows from <see cref="TrackGrainOptions.PendingLookBackMin"/> before its newest data on, under a snapshot (after
+    /// its own queued verdicts are written, so that rows it has judged do not look pending), and processes them (late
+    /// data inside the window is fused in order; when one lies behind the window, the track is rebuilt from the store
+    /// instead, which fuses them in order). Deliveries of commits that snapshot holds are then skipped, as after a restore.
     /// </summary>
-    private async Task CatchUpAfterDeathsAsync()
+    /// <returns>False when the track is to be rebuilt instead.</returns>
+    private async Task<bool> CatchUpAfterDeathsAsync()
     {
         int dead = DeadProcesses();
         if (dead == _deadSeen)
         {
-            return;
+            return true;
+        }
+
+        var recorder = Parts().Recorder;
+        recorder.Flush();
+        if (!await recorder.WaitWrittenAsync(TimeSpan.FromSeconds(options.Value.DrainTimeoutS)))
+        {
+            // The store refuses writes: the catch-up waits for a later call.
+            return true;
         }
 
         _deadSeen = dead;
-        var recorder = Parts().Recorder;
         long nowUs = UnixMicroseconds.Now(time);
         long lookBackUs = (long)Math.Round(Math.Max(options.Value.PendingLookBackMin, 1) * 6e7);
         long fromUs = _track.NewestTimeUs == long.MinValue
             ? nowUs - ((databaseOptions.Value.DaysBack + 1) * 86_400_000_000L)
             : _track.NewestTimeUs - lookBackUs;
         var (pending, snapshot) = await store.ReadPendingWithSnapshotAsync(_fleetId, _vehicleId, fromUs, nowUs + (7 * 86_400_000_000L));
-        foreach (var s in pending)
+        var measurements = pending.Select(r => MeasurementRows.ToMeasurement(r)).ToList();
+        if (measurements.Exists(m => _track.IsTooLate(m)))
         {
-            _track.Process(MeasurementRows.ToMeasurement(s), recorder);
+            logger.LogInformation(
+                "Track {Key} is rebuilt to fuse {Count} stored measurements whose delivery died with another process", this.GetPrimaryKeyString(), pending.Count);
+            RestoreAgain();
+            return false;
+        }
+
+        foreach (var m in measurements)
+        {
+            _track.Process(m, recorder);
         }
 
         _restored = snapshot;
+        _newestStamp = Math.Max(_newestStamp, snapshot.Xmax - 1);
         if (pending.Count > 0)
         {
             logger.LogInformation("Track {Key} took {Count} stored measurements whose delivery died with another process", this.GetPrimaryKeyString(), pending.Count);
             recorder.Flush();
         }
+
+        return true;
     }
 
     private int DeadProcesses() => membership.CurrentSnapshot.Members.Values.Count(m => m.Status == Orleans.Runtime.SiloStatus.Dead);
 
-    public async Task RebuildAsync(long fromUs)
+    /// <summary>
+    /// Stops this activation from taking, checkpointing or writing anything more: it deactivates when idle, and the next
+    /// activation restores from the store (<see cref="RestorePointAsync"/>).
+    /// </summary>
+    private void RestoreAgain()
     {
         var (recorder, checkpoints) = Parts();
         checkpoints.Abandon();
         recorder.Discard();
         DeactivateOnIdle();
+    }
+
+    public async Task RebuildAsync(long fromUs)
+    {
+        RestoreAgain();
         await store.DeleteCheckpointsFromAsync(_fleetId, _vehicleId, fromUs);
         logger.LogInformation("Track {Key} will be rebuilt from the store (measurements from {FromUs} may have missed it)", this.GetPrimaryKeyString(), fromUs);
     }

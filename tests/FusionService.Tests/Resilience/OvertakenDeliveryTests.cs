@@ -1,7 +1,7 @@
 // A committed batch handed to its track after later commits of the same vehicle is fused in order, not judged too late.
 using FusionService.Estimation.Models;
-using FusionService.Ingest;
 using FusionService.Scenarios;
+using FusionService.Storage.Measurements;
 using FusionService.Tests.Infrastructure;
 using FusionService.Tracking;
 using Microsoft.Extensions.DependencyInjection;
@@ -41,7 +41,7 @@ public sealed class OvertakenDeliveryTests(ServiceFixture fixture)
 
         // Committed, acknowledged in effect, but its hand-over is slow.
         var held = drive.Messages.Skip(HeldFrom).Take(HeldTo - HeldFrom).SelectMany(m => m.Core).ToList();
-        await fixture.StoreWithoutTrackAsync([.. held.Select(m => IngestPipeline.ToRow(fleet.Id, Vehicle, m, DateTime.UtcNow))]);
+        await fixture.StoreWithoutTrackAsync([.. held.Select(m => MeasurementRows.ToRow(fleet.Id, Vehicle, m, DateTime.UtcNow))]);
         long stamp = await fixture.CountAsync("SELECT pg_current_xact_id()::text::bigint");
 
         // Later batches, handed over at once; together they move the track's replay window past the held batch.
