@@ -42,6 +42,9 @@ public static class TrackingExtensions
         builder.UseOrleans(silo =>
         {
             silo.Services.AddSingleton<PlacementStrategy, PreferLocalPlacement>();
+            // Grain calls carry the caller's trace (W3C trace context in the request context): an ingest request's trace
+            // goes on into the vehicle's grain. Without a listener on the Orleans sources it costs one check per call.
+            silo.AddActivityPropagation();
             if (settings.Clustering == ClusteringMode.Localhost)
             {
                 silo.UseLocalhostClustering();

@@ -157,6 +157,7 @@ internal sealed class VehicleTrackGrain(
     public async Task ProcessAsync(TrackMeasurement[] batch, CommitStamp stamp)
     {
         ArgumentNullException.ThrowIfNull(batch);
+        using var span = FusionTelemetry.StartTrackProcess(this.GetPrimaryKeyString(), batch.Length);
         await CatchUpAfterDeathsAsync();
         if (_restored is { } restored && restored.Holds(stamp.TransactionId))
         {
@@ -170,10 +171,6 @@ internal sealed class VehicleTrackGrain(
             {
                 var m = item.ToMeasurement();
                 var outcome = _track.Process(m, this);
-                if (outcome.Kind == OutcomeKind.Gated)
-                {
-                    metrics.CountGated();
-                }
             }
         }
         catch (FusionService.Estimation.Filtering.FilterDivergenceException ex)
@@ -364,6 +361,7 @@ internal sealed class VehicleTrackGrain(
     void ITrackObserver.OnOutcome(in Measurement m, in CoreOutcome outcome, in TrackState posterior, bool isReplay)
     {
         _monitor?.Observe(m, outcome, posterior, isReplay);
+        metrics.CountOutcome(m.Kind, outcome, isReplay);
         if (outcome.Kind is OutcomeKind.Duplicate or OutcomeKind.Conflict)
         {
             return;
