@@ -33,8 +33,8 @@ public static class OperationsEndpoints
         app.MapGet("/metrics", (HttpContext http, IOptions<OperationsOptions> options) => GetMetricsAsync(http, options, scrape))
             .WithName("Metrics")
             .WithSummary("Prometheus metrics")
-            .WithDescription("The OpenTelemetry metrics of the process in the Prometheus text exposition format (0.0.4, or OpenMetrics "
-                + "1.0 when the scraper asks for it in Accept): the service's own fusion_* instruments (messages by outcome and kind, "
+            .WithDescription("The metrics of the process in the Prometheus text exposition format 0.0.4 (or the open metrics text "
+                + "format 1.0 when the scraper asks for it in Accept): the service's own fusion_* instruments (messages by outcome and kind, "
                 + "the tracks' decisions per sensor, resets, group commits, fused-state lag, queue depths, smoothing replays, history "
                 + "reads, rate-limit refusals, webhook deliveries), ASP.NET Core and Kestrel, Npgsql, Orleans and the .NET runtime. "
                 + "No fleet, vehicle or position. Send 'Authorization: Bearer <token>' with the scrape token Operations:MetricsToken, "

@@ -273,7 +273,15 @@ public sealed class ServiceMetrics : IDisposable
             return 3;
         }
 
-        return kind.ValueEquals("gnss") ? 0 : kind.ValueEquals("wheel") ? 1 : kind.ValueEquals("imu") ? 2 : 3;
+        try
+        {
+            return kind.ValueEquals("gnss") ? 0 : kind.ValueEquals("wheel") ? 1 : kind.ValueEquals("imu") ? 2 : 3;
+        }
+        catch (InvalidOperationException)
+        {
+            // A string the reader cannot unescape (a lone UTF-16 surrogate): the parser has rejected the message already.
+            return 3;
+        }
     }
 
     private static IEnumerable<Measurement<long>> ObserveRefused()

@@ -43,7 +43,8 @@ public static class TrackingExtensions
         {
             silo.Services.AddSingleton<PlacementStrategy, PreferLocalPlacement>();
             // Grain calls carry the caller's trace (W3C trace context in the request context): an ingest request's trace
-            // goes on into the vehicle's grain. Without a listener on the Orleans sources it costs one check per call.
+            // goes on into the vehicle's grain. The filters run on every call; without a listener on the Orleans
+            // sources (no OTLP endpoint configured) they start no span.
             silo.AddActivityPropagation();
             if (settings.Clustering == ClusteringMode.Localhost)
             {

@@ -112,6 +112,37 @@ public sealed class TelemetryExportTests(ServiceFixture fixture)
         Assert.True((int)write.GetTagItem("fusion.outcomes")! >= 40, "the verdicts of the batch");
     }
 
+    [Fact]
+    public async Task Issue18_a_smoothed_track_request_is_one_span_with_a_span_per_stretch()
+    {
+        // Checkpoints every 30 s of data and four stretches, as in ReplayStretchTests.
+        await using var host = new ServiceFactory(fixture.ConnectionString, new Dictionary<string, string?>
+        {
+            ["Tracks:HistoryCheckpointSpacingMin"] = "0.5",
+            ["Tracks:ReplayStretches"] = "4",
+        });
+        var fleet = await fixture.NewFleetAsync();
+        const string Vehicle = "van-otel-smooth";
+        var drive = FusionService.Tests.History.HistoryDrive.Create(Vehicle, seed: 6400);
+        await drive.IngestAsync(fixture, fleet, host: host);
+
+        var stopped = new ConcurrentBag<Activity>();
+        using var listener = new ActivityListener
+        {
+            ShouldListenTo = source => source.Name == FusionTelemetry.Name,
+            Sample = (ref ActivityCreationOptions<ActivityContext> _) => ActivitySamplingResult.AllDataAndRecorded,
+            ActivityStopped = stopped.Add,
+        };
+        ActivitySource.AddActivityListener(listener);
+        using var read = fixture.Client(fleet.ReadKey, host);
+        await FusionService.Tests.History.HistoryDrive.TrackJsonAsync(read, Vehicle, drive.StartUs, drive.EndUs + 1_000_000, "smoothed");
+
+        var replay = Assert.Single(stopped, s => s.OperationName == FusionTelemetry.SmoothingSpan && (string?)s.GetTagItem("fusion.vehicle") == Vehicle);
+        Assert.Equal(4, replay.GetTagItem("fusion.smoothing.stretches"));
+        Assert.Equal(0, replay.GetTagItem("fusion.smoothing.seam_misses"));
+        Assert.Equal(4, stopped.Count(s => s.OperationName == FusionTelemetry.StretchSpan && s.ParentSpanId == replay.SpanId));
+    }
+
     private static double Delta(string before, string after, string selector)
     {
         double earlier = PrometheusText.Value(before, selector);
