@@ -43,11 +43,15 @@ builder.Services.AddSerilog((services, logger) => logger
     .MinimumLevel.Override("Orleans", LogEventLevel.Warning)
     .MinimumLevel.Override("Microsoft.AspNetCore", LogEventLevel.Warning)
     .Enrich.FromLogContext()
-    .WriteTo.Console(formatProvider: System.Globalization.CultureInfo.InvariantCulture));
+    // Serilog takes the trace and span id of the current activity into every event (TraceId, SpanId); the console shows them.
+    .WriteTo.Console(
+        outputTemplate: "[{Timestamp:HH:mm:ss} {Level:u3}] {Message:lj} {TraceId} {SpanId}{NewLine}{Exception}",
+        formatProvider: System.Globalization.CultureInfo.InvariantCulture));
 
 // Hosted services start in this order and stop in reverse: store, writers, silo.
 builder.Services.AddFusionDatabase();
 builder.Services.AddFusionOperations();
+builder.AddFusionTelemetry();
 builder.Services.AddFusionIngest();
 builder.Services.AddFusionAudit();
 builder.AddFusionTracking();

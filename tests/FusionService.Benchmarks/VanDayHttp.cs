@@ -119,7 +119,9 @@ internal static class VanDayHttp
             using var response = await http.SendAsync(request);
             response.EnsureSuccessStatusCode();
             string text = await response.Content.ReadAsStringAsync();
-            bool quiet = text.Split('\n').Count(l => l is "fusion_track_batches_in_flight 0" or "fusion_track_write_queue_rows 0") == 2;
+            // The OpenTelemetry exporter writes labels of its own: fusion_track_batches_in_flight{otel_scope_name="..."} 0
+            bool quiet = text.Split('\n').Count(l => (l.StartsWith("fusion_track_batches_in_flight", StringComparison.Ordinal)
+                || l.StartsWith("fusion_track_write_queue_rows", StringComparison.Ordinal)) && l.EndsWith(" 0", StringComparison.Ordinal)) == 2;
             idle = quiet ? idle + 1 : 0;
         }
     }

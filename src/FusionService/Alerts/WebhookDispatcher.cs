@@ -28,7 +28,8 @@ public sealed class WebhookDispatcher(
     WebhookSecretProtector secrets,
     IOptions<WebhookOptions> options,
     TimeProvider time,
-    ILogger<WebhookDispatcher> logger) : BackgroundService
+    ILogger<WebhookDispatcher> logger,
+    Operations.ServiceMetrics metrics) : BackgroundService
 {
     /// <summary>Name of the HTTP client used for deliveries.</summary>
     public const string ClientName = "webhooks";
@@ -183,6 +184,8 @@ public sealed class WebhookDispatcher(
 
     private async Task<bool> DeliverAsync(OutboxDelivery d, WebhookOptions o, CancellationToken stoppingToken)
     {
+        using var span = Operations.FusionTelemetry.StartWebhookDelivery(d.DeliveryId, d.WebhookId, d.Attempts + 1);
+        long startedAt = System.Diagnostics.Stopwatch.GetTimestamp();
         string? error = null;
         try
         {
@@ -230,9 +233,11 @@ public sealed class WebhookDispatcher(
             error = "the subscription's secret cannot be decrypted: its Data Protection key is not in this process's key ring (Webhooks:KeyRingDirectory)";
         }
 
+        double attemptS = System.Diagnostics.Stopwatch.GetElapsedTime(startedAt).TotalSeconds;
         var outbox = new WebhookOutbox(database.DataSource);
         if (error is null)
         {
+            metrics.ObserveWebhookAttempt(attemptS, delivered: true, deadLettered: false);
             await outbox.MarkDeliveredAsync(d.DeliveryId, CancellationToken.None).ConfigureAwait(false);
             Interlocked.Increment(ref _delivered);
             logger.LogDebug("Webhook {Delivery} delivered {LatencyMs} ms after the alert commit", d.DeliveryId, (time.GetUtcNow() - d.CreatedAt).TotalMilliseconds);
@@ -241,6 +246,8 @@ public sealed class WebhookDispatcher(
 
         Interlocked.Increment(ref _failed);
         int attempt = d.Attempts + 1;
+        span?.SetStatus(System.Diagnostics.ActivityStatusCode.Error, error);
+        metrics.ObserveWebhookAttempt(attemptS, delivered: false, deadLettered: attempt >= o.MaxAttempts);
         if (attempt >= o.MaxAttempts)
         {
             await outbox.DeadLetterAsync(d.DeliveryId, error, CancellationToken.None).ConfigureAwait(false);

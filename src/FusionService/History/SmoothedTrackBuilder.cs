@@ -45,6 +45,7 @@ internal sealed class SmoothedTrackBuilder(
     internal async Task<SmoothedTrack> BuildAsync(
         Guid fleetId, string vehicle, long fromUs, long toUs, long recordIntervalUs, bool keepDistanceInputs, CancellationToken cancellationToken)
     {
+        using var span = FusionTelemetry.StartSmoothing(vehicle, fromUs, toUs);
         long leadUs = (long)Math.Round(options.Value.ReplayLeadHours * 3.6e9);
         long readFromUs = fromUs - leadUs;
         TrackState start = TrackState.Empty;
@@ -171,6 +172,7 @@ internal sealed class SmoothedTrackBuilder(
         // Reading (a PostgreSQL backend scanning the rows) and the replay (this process filtering them) overlap: the
         // rows go over in chunks to a replay thread, so when a core is free the stretch takes about the longer of the
         // two instead of their sum (on a loaded machine little is gained: docs/benchmarks.md, smoothed track of a vehicle-day).
+        using var span = FusionTelemetry.StartStretch(stretch.ReadFromUs);
         List<Measurement> distanceInputs = [];
         using var chunks = new BlockingCollection<Chunk>();
         using var spare = new BlockingCollection<Measurement[]>();

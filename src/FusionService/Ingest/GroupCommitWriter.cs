@@ -95,11 +95,13 @@ public sealed class GroupCommitWriter : BackgroundService
             // Shutting down: whatever is still queued is refused, never silently lost.
             foreach (var request in batch)
             {
+                request.EndSpan(0, 0, "the service is stopping");
                 request.Completion.TrySetException(new ServiceUnavailableException("the service is stopping"));
             }
 
             while (reader.TryRead(out var request))
             {
+                request.EndSpan(0, 0, "the service is stopping");
                 request.Completion.TrySetException(new ServiceUnavailableException("the service is stopping"));
             }
         }
@@ -139,6 +141,7 @@ public sealed class GroupCommitWriter : BackgroundService
             all.AddRange(request.Rows);
         }
 
+        using var span = FusionTelemetry.StartGroupCommit(rowCount, batch.Select(r => r.Span?.Context ?? default));
         var watch = Stopwatch.StartNew();
         HashSet<MeasurementKey> inserted;
         long transactionId;
@@ -167,8 +170,10 @@ public sealed class GroupCommitWriter : BackgroundService
             {
                 _logger.LogWarning(ex, "Group commit of {Rows} rows from {Requests} requests failed", rowCount, batch.Count);
             }
+            span?.SetStatus(ActivityStatusCode.Error, ex.Message);
             foreach (var request in batch)
             {
+                request.EndSpan(rowCount, batch.Count, "the database is unavailable");
                 request.Completion.TrySetException(new ServiceUnavailableException("the database is unavailable", ex));
             }
 
@@ -189,6 +194,7 @@ public sealed class GroupCommitWriter : BackgroundService
                 }
             }
 
+            request.EndSpan(rowCount, batch.Count);
             request.Completion.TrySetResult((claimed, transactionId));
         }
     }

@@ -109,7 +109,7 @@ public sealed class IngestPipeline(
             }
         }
 
-        metrics.CountMessages(accepted, duplicate, rejected);
+        metrics.CountMessages(messages, results);
         await duplicates.RecordAsync(fleetId, repeated).ConfigureAwait(false);
         await AddPendingAsync(fleetId, repeated, received, fresh).ConfigureAwait(false);
         var processed = await tracks.DispatchAsync(fleetId, fresh, transactionId).ConfigureAwait(false);

@@ -26,14 +26,21 @@ public static class OperationsEndpoints
             .WithSummary("Readiness")
             .WithDescription("200 when PostgreSQL is reachable, every migration is applied and the Orleans silo is active; 503 otherwise.")
             .WithTags("Operations");
-        app.MapGet("/metrics", GetMetrics)
+        // The OpenTelemetry Prometheus exporter writes the scrape; it runs as a pipeline of its own behind the key check.
+        var scrape = app.CreateApplicationBuilder()
+            .UseOpenTelemetryPrometheusScrapingEndpoint(meterProvider: null, predicate: _ => true, path: null, configureBranchedPipeline: null, optionsName: null)
+            .Build();
+        app.MapGet("/metrics", (HttpContext http, IOptions<OperationsOptions> options) => GetMetricsAsync(http, options, scrape))
             .WithName("Metrics")
             .WithSummary("Prometheus metrics")
-            .WithDescription("Ingested messages by verdict, gated measurements, write-queue depth, group-commit latency, "
-                + "fused-state lag, history reads in flight and refused, and rate-limit refusals, in the Prometheus text exposition "
-                + "format 0.0.4. Service-wide counts only (no fleet, vehicle or position). Send 'Authorization: Bearer <token>' with "
-                + "the scrape token Operations:MetricsToken, or an admin API key of any fleet; 401 otherwise, 403 for a key of "
-                + "another role. Operations:MetricsAnonymous=true leaves it open (for a port only an internal network reaches).")
+            .WithDescription("The metrics of the process in the Prometheus text exposition format 0.0.4 (or the open metrics text "
+                + "format 1.0 when the scraper asks for it in Accept): the service's own fusion_* instruments (messages by outcome and kind, "
+                + "the tracks' decisions per sensor, resets, group commits, fused-state lag, queue depths, smoothing replays, history "
+                + "reads, rate-limit refusals, webhook deliveries), ASP.NET Core and Kestrel, Npgsql, Orleans and the .NET runtime. "
+                + "No fleet, vehicle or position. Send 'Authorization: Bearer <token>' with the scrape token Operations:MetricsToken, "
+                + "or an admin API key of any fleet; 401 otherwise, 403 for a key of another role. Operations:MetricsAnonymous=true "
+                + "leaves it open (for a port only an internal network reaches). Instruments, units and alerting rules: docs/operations.md.")
+            .Produces<string>(StatusCodes.Status200OK, "text/plain")
             .ProducesProblem(StatusCodes.Status401Unauthorized)
             .ProducesProblem(StatusCodes.Status403Forbidden)
             .ProducesProblem(StatusCodes.Status429TooManyRequests)
@@ -60,8 +67,8 @@ public static class OperationsEndpoints
             statusCode: StatusCodes.Status503ServiceUnavailable);
     }
 
-    /// <summary>The metrics for a scraper with the configured token or an admin key.</summary>
-    internal static async Task<Results<ContentHttpResult, ProblemHttpResult>> GetMetrics(HttpContext http, ServiceMetrics metrics, IOptions<OperationsOptions> options)
+    /// <summary>The metrics for a scraper with the configured token or an admin key, written by <paramref name="scrape"/>.</summary>
+    internal static async Task<Results<EmptyHttpResult, ProblemHttpResult>> GetMetricsAsync(HttpContext http, IOptions<OperationsOptions> options, RequestDelegate scrape)
     {
         string token = options.Value.MetricsToken;
         string header = http.Request.Headers.Authorization.ToString();
@@ -83,6 +90,7 @@ public static class OperationsEndpoints
             }
         }
 
-        return TypedResults.Text(metrics.Render(), "text/plain; version=0.0.4; charset=utf-8");
+        await scrape(http).ConfigureAwait(false);
+        return TypedResults.Empty;
     }
 }

@@ -166,6 +166,7 @@ public sealed class TrackDispatcher : IHostedService, IAsyncDisposable
     private async Task<Exception?> DeliverOneAsync(Guid fleetId, string vehicleId, List<TrackMeasurement> measurements, CommitStamp stamp)
     {
         var grain = _grains.GetGrain<IVehicleTrackGrain>(GrainKeys.Of(fleetId, vehicleId));
+        using var span = FusionTelemetry.StartHandover(vehicleId, measurements.Count);
         try
         {
             await grain.ProcessAsync([.. measurements], stamp).ConfigureAwait(false);
@@ -175,6 +176,7 @@ public sealed class TrackDispatcher : IHostedService, IAsyncDisposable
         {
             // Committed already, but the track may not have them (a call that timed out may never have run): make it
             // rebuild from the store, which holds them. If even that call fails, the track rebuilds at its next activation.
+            span?.SetStatus(ActivityStatusCode.Error, ex.Message);
             long fromUs = measurements.Min(m => m.TimeUs);
             try
             {

@@ -2,6 +2,7 @@
 using FusionService.Alerts;
 using FusionService.Estimation.Measurements;
 using FusionService.Estimation.Tracking;
+using FusionService.Operations;
 using FusionService.Storage.FusedStates;
 using FusionService.Storage.Measurements;
 
@@ -9,11 +10,12 @@ namespace FusionService.Tracking;
 
 /// <summary>
 /// The observer a vehicle track grain hands its track: every outcome goes to the vehicle's alerts
-/// (<see cref="VehicleAlertMonitor"/>) and, unless a duplicate or conflict, becomes a verdict row and updates the newest
+/// (<see cref="VehicleAlertMonitor"/>) and the service's counters (<see cref="ServiceMetrics.CountOutcome"/>) and, unless a duplicate or conflict, becomes a verdict row and updates the newest
 /// time per sensor; running posteriors chosen by <see cref="FusedStateSampler"/> become fused-state rows. The rows are
 /// buffered until <see cref="Flush"/> hands them to the <see cref="TrackWriteQueue"/>. Not thread-safe (one grain).
 /// </summary>
-internal sealed class TrackOutcomeRecorder(Guid fleetId, string vehicleId, TrackWriteQueue writes, VehicleAlertMonitor alerts, FusedStateSampler sampler)
+internal sealed class TrackOutcomeRecorder(
+    Guid fleetId, string vehicleId, TrackWriteQueue writes, VehicleAlertMonitor alerts, FusedStateSampler sampler, ServiceMetrics metrics)
     : ITrackObserver
 {
     private readonly List<MeasurementOutcomeUpdate> _outcomes = [];
@@ -63,6 +65,7 @@ internal sealed class TrackOutcomeRecorder(Guid fleetId, string vehicleId, Track
     public void OnOutcome(in Measurement m, in MeasurementOutcome outcome, in TrackState posterior, bool isReplay)
     {
         Alerts.Observe(m, outcome, posterior, isReplay);
+        metrics.CountOutcome(m.Kind, outcome, isReplay);
         if (outcome.Kind is OutcomeKind.Duplicate or OutcomeKind.Conflict)
         {
             return;

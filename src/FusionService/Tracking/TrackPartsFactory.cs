@@ -1,5 +1,6 @@
 // Makes the per-vehicle collaborators of a track grain.
 using FusionService.Alerts;
+using FusionService.Operations;
 using Microsoft.Extensions.Options;
 
 namespace FusionService.Tracking;
@@ -13,6 +14,7 @@ internal sealed class TrackPartsFactory(
     TrackStore store,
     TrackWriteQueue writes,
     AlertPublisher alerts,
+    ServiceMetrics metrics,
     IOptions<TrackGrainOptions> options,
     TimeProvider time,
     ILogger<VehicleTrackGrain> logger)
@@ -21,7 +23,7 @@ internal sealed class TrackPartsFactory(
 
     /// <summary>The observer of the vehicle's track.</summary>
     public TrackOutcomeRecorder CreateRecorder(Guid fleetId, string vehicleId) =>
-        new(fleetId, vehicleId, writes, alerts.CreateMonitor(fleetId, vehicleId), new FusedStateSampler(_fusedIntervalUs));
+        new(fleetId, vehicleId, writes, alerts.CreateMonitor(fleetId, vehicleId), new FusedStateSampler(_fusedIntervalUs), metrics);
 
     /// <summary>The checkpoint keeper of the vehicle's track; <paramref name="trackKey"/> names the track in logs.</summary>
     public TrackCheckpointKeeper CreateCheckpointKeeper(Guid fleetId, string vehicleId, string trackKey) =>

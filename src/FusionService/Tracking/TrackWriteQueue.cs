@@ -40,6 +40,7 @@ public sealed class TrackWriteQueue : BackgroundService
     private readonly Lock _roomGate = new();
     private TaskCompletionSource _written = new(TaskCreationOptions.RunContinuationsAsynchronously);
     private long _queuedRows;
+    private readonly VerdictWriteSpans _spans = new();
 
     /// <summary>Creates the queue.</summary>
     public TrackWriteQueue(FusionDatabase database, IOptions<TrackGrainOptions> options, ILogger<TrackWriteQueue> logger)
@@ -81,6 +82,7 @@ public sealed class TrackWriteQueue : BackgroundService
                 throw new InvalidOperationException("the track write queue is closed");
             }
 
+            _spans.Queued(ticket, outcomes.Count, states.Count);
             return ticket;
         }
     }
@@ -176,6 +178,7 @@ public sealed class TrackWriteQueue : BackgroundService
     private void AllWritten()
     {
         Interlocked.Exchange(ref _writtenThrough, _readThrough);
+        _spans.Written(_readThrough);
         Signal();
     }
 

@@ -53,6 +53,11 @@ public static class TrackingExtensions
 #pragma warning disable ORLEANSEXP003
             silo.AddDistributedGrainDirectory();
 #pragma warning restore ORLEANSEXP003
+
+            // Grain calls carry the caller's trace (W3C trace context in the request context): an ingest request's trace
+            // goes on into the vehicle's grain. The filters run on every call; without a listener on the Orleans
+            // sources (no OTLP endpoint configured) they start no span.
+            silo.AddActivityPropagation();
             if (settings.Clustering == ClusteringMode.Localhost)
             {
                 silo.UseLocalhostClustering();

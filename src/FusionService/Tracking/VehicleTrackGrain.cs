@@ -25,7 +25,6 @@ internal sealed class VehicleTrackGrain(
     TrackProcessor processor,
     TrackStore store,
     TrackPartsFactory parts,
-    ServiceMetrics metrics,
     IOptions<TrackGrainOptions> options,
     IOptions<DatabaseOptions> databaseOptions,
     TimeProvider time,
@@ -155,6 +154,7 @@ internal sealed class VehicleTrackGrain(
     public async Task ProcessAsync(TrackMeasurement[] batch, CommitStamp stamp)
     {
         ArgumentNullException.ThrowIfNull(batch);
+        using var span = FusionTelemetry.StartTrackProcess(this.GetPrimaryKeyString(), batch.Length);
         var (recorder, checkpoints) = Parts();
         if (checkpoints.Abandoned || !await CatchUpAfterDeathsAsync())
         {
@@ -185,11 +185,7 @@ internal sealed class VehicleTrackGrain(
             foreach (var item in batch)
             {
                 var m = item.ToMeasurement();
-                var outcome = _track.Process(m, recorder);
-                if (outcome.Kind == OutcomeKind.Gated)
-                {
-                    metrics.CountGated();
-                }
+                _track.Process(m, recorder);
             }
         }
         catch (FusionService.Estimation.Filtering.FilterDivergenceException ex)

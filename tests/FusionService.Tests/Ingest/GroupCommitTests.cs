@@ -1,5 +1,4 @@
 // Concurrent requests share commits; invalid options stop the start.
-using System.Globalization;
 using System.Net;
 using FusionService.Tests.Infrastructure;
 using Microsoft.Extensions.Options;
@@ -20,7 +19,7 @@ public sealed class GroupCommitTests(ServiceFixture fixture)
         var responses = await Task.WhenAll(Enumerable.Range(0, Requests).Select(i => client.PostJsonAsync(drive.Body(i * 10, (i + 1) * 10))));
         Assert.All(responses, r => Assert.Equal(HttpStatusCode.OK, r.StatusCode));
         string metrics = await fixture.Client(fleet.AdminKey, host).GetStringAsync("/metrics");
-        long commits = long.Parse(metrics.Split('\n').Single(l => l.StartsWith("fusion_commit_latency_seconds_count ", StringComparison.Ordinal)).Split(' ')[1], CultureInfo.InvariantCulture);
+        long commits = (long)FusionService.LoadTools.PrometheusText.Value(metrics, "fusion_ingest_commit_duration_seconds_count");
         Assert.InRange(commits, 1, Requests - 1);
         Assert.Equal(drive.Messages.Take(Requests * 10).Sum(m => m.Core.Length), await fixture.CountAsync("SELECT count(*) FROM measurements WHERE fleet_id = $1", fleet.Id));
     }
