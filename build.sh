@@ -66,10 +66,7 @@ run_tests() {
   dotnet build FusionService.sln -c Release --no-restore -nologo
   echo "==> test"
   local status=0
-  # The three-process fault harness is not part of this run while one of its checks is open (docs/cluster.md,
-  # "Fault harness"): it failed 2 of 9 runs with one vehicle's state off the uninterrupted run's. ./build.sh fault-harness.
-  echo "==> (the fault harness runs apart: ./build.sh fault-harness)"
-  dotnet test FusionService.sln -c Release --no-build --nologo --filter "Category!=FaultHarness" \
+  dotnet test FusionService.sln -c Release --no-build --nologo \
     --logger "trx" --logger "console;verbosity=normal" --results-directory "$results" || status=$?
   summarize "$results"
   return $status
