@@ -14,7 +14,7 @@ using static FusionService.Estimation.Models.StateIndex;
 namespace FusionService.Benchmarks;
 
 /// <summary>
-/// `./build.sh bench consistency [runs, default 64] [faulty]`: runs the filter with its default options and noise profile over the realistic
+/// `./build.sh bench consistency [runs, default 64] [faulty | text]` (text: only the cases whose label contains it): runs the filter with its default options and noise profile over the realistic
 /// drives of <see cref="RealisticDrives"/> (clean sky, multipath, outage, tow, park beside a building, HDOP-only) and over
 /// a grid of GNSS error correlation times (20, 60, 120 s) and correlated shares (50, 80, 95 %) of the clean-sky drive,
 /// each with <c>runs</c> seeds, and prints per case: how often the truth lies inside the 95 % ellipse of the filtered
@@ -28,8 +28,9 @@ internal static class ConsistencyReport
     // Upper 5 % point of chi-square with 2 dof, -2 ln 0.05 (NIST/SEMATECH handbook 1.3.6.7.4; derived).
     private const double Inside95 = 5.991464547107979;
 
-    public static void Run(int runs, bool onlyFaultyStreams = false)
+    public static void Run(int runs, bool onlyFaultyStreams = false, string? onlyCases = null)
     {
+        _onlyCases = onlyCases;
         var processor = new TrackProcessor(new TrackOptions(), NoiseProfile.DeliveryVan);
         Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
             $"filter defaults: correlated share {processor.Profile.GnssCorrelatedFraction}, time constant {processor.Profile.GnssErrorTimeConstantS} s; {runs} seeds per case"));
@@ -99,9 +100,17 @@ internal static class ConsistencyReport
             ? Measurement.GnssVelocity(m.TimeUs, m.MessageKey, m.Value0, double.NaN, m.Value2) : m);
     }
 
+    // Cases whose label contains this text are run, all when null (third argument of the command).
+    private static string? _onlyCases;
+
     private static void Report(
         string label, TrackProcessor processor, IEnumerable<RealisticDrive> drives, Func<Measurement, Measurement?>? alter = null)
     {
+        if (_onlyCases is { } only && !label.Contains(only, StringComparison.Ordinal))
+        {
+            return;
+        }
+
         var clock = Stopwatch.StartNew();
         var filtered = new Tally();
         var smoothed = new Tally();

@@ -19,7 +19,8 @@ public sealed class TrackResetDiagnosticsTests(ServiceFixture fixture)
         var drive = TelemetryDrive.Create(vehicle, TelemetryDrive.StartUs(TimeSpan.FromMinutes(8)), seed: 47);
         var messages = drive.Messages.Select(m => (Message: (JsonObject)m.Message.DeepClone(), m.Core)).ToList();
         long t0 = messages[0].Core[0].TimeUs;
-        foreach (var (message, core) in messages.Where(m => m.Core[0].Kind == SensorKind.GnssPosition && m.Core[0].TimeUs >= t0 + 50_000_000))
+        // From 25 s on every fix lies 333 m north, for the rest of the drive: longer than TrackOptions.ResetAfterS (45 s).
+        foreach (var (message, core) in messages.Where(m => m.Core[0].Kind == SensorKind.GnssPosition && m.Core[0].TimeUs >= t0 + 25_000_000))
         {
             double lat = core[0].Value0 + 0.003;
             message["lat_deg"] = lat;
