@@ -264,7 +264,8 @@ internal static class StorageProbe
         var times = await TimeReadsAsync(day, repeats, read);
         string updated = await ReportAsync(connection, schema, "b compact key, verdict in row", day, loadS, times);
         // The same rows without the dead versions the verdict updates left: the floor of this row shape.
-        await ExecuteAsync(connection, "VACUUM FULL measurements; VACUUM FULL fused_states");
+        await ExecuteAsync(connection, "VACUUM FULL measurements");
+        await ExecuteAsync(connection, "VACUUM FULL fused_states");
         times = await TimeReadsAsync(day, repeats, read);
         Say($"b compact after VACUUM FULL (load time above, plus the rewrite):");
         return updated + "\n" + await ReportAsync(connection, schema, "b same, after VACUUM FULL", day, loadS, times);
