@@ -28,6 +28,13 @@ if (args.Length > 0 && string.Equals(args[0], "fleet-list", StringComparison.Ord
     return;
 }
 
+if (args.Length > 0 && string.Equals(args[0], "storage-probe", StringComparison.Ordinal))
+{
+    await FusionService.Benchmarks.StorageProbe.StorageProbe.RunAsync(
+        args.Length > 1 ? int.Parse(args[1], System.Globalization.CultureInfo.InvariantCulture) : 5);
+    return;
+}
+
 if (args.Length > 0 && string.Equals(args[0], "consistency", StringComparison.Ordinal))
 {
     ConsistencyReport.Run(
