@@ -114,8 +114,10 @@ public sealed class WebhookSafetyTests(ServiceFixture fixture)
                 {
                     while (written < 4L * 1024 * 1024 * 1024)
                     {
-                        await response.OutputStream.WriteAsync(chunk);
+                        // Counted before the write: a write the service's close makes fail still left the receiver (a
+                        // clean-clone CI run once saw the very first 64 KiB write fail, and counted 0 bytes).
                         Interlocked.Add(ref written, chunk.Length);
+                        await response.OutputStream.WriteAsync(chunk);
                     }
                 }
                 finally
@@ -131,8 +133,9 @@ public sealed class WebhookSafetyTests(ServiceFixture fixture)
         await WaitUntilAsync(async () => await fixture.CountAsync("SELECT count(*) FROM webhook_outbox WHERE fleet_id = $1 AND delivered_at IS NOT NULL", fleet.Id) >= 1, "a delivered row");
         await stopped.Task.WaitAsync(TimeSpan.FromSeconds(30));
 
-        // The service read its 1,024 bytes and closed the connection; what the receiver got out before its writes failed is
-        // what the socket buffers on both sides took (a few MiB at most on Linux), not the 4 GiB the receiver would send.
+        // The service read its 1,024 bytes and closed the connection; what the receiver handed to its socket before a write
+        // failed is what the socket buffers on both sides took (a few MiB at most on Linux) plus the failed chunk, not the
+        // 4 GiB the receiver would send.
         Assert.InRange(Interlocked.Read(ref written), 64 * 1024, 64L * 1024 * 1024);
         Assert.Equal(1, await fixture.CountAsync("SELECT attempts FROM webhook_outbox WHERE fleet_id = $1 AND delivered_at IS NOT NULL ORDER BY created_at LIMIT 1", fleet.Id));
     }
