@@ -49,7 +49,17 @@ public sealed class WebhookDeliveryTests(ServiceFixture fixture)
         Assert.Equal("gated_burst", alert.GetProperty("kind").GetString());
         Assert.Equal("van-hook", alert.GetProperty("vehicle").GetString());
         Assert.Equal(fleet.Id, alert.GetProperty("fleet_id").GetGuid());
+        // The service marks the row delivered after it has read the receiver's 200, which the receiver records first: the
+        // row is waited for (a clean-clone CI run read it a moment too early), then its attempts counted.
         var deliveryId = Guid.Parse(requests[0].Id!);
+        const string Delivered = "SELECT count(*) FROM webhook_outbox WHERE delivery_id = $1 AND delivered_at IS NOT NULL";
+        var deadline = DateTime.UtcNow.AddSeconds(20);
+        while (await fixture.CountAsync(Delivered, deliveryId) == 0)
+        {
+            Assert.True(DateTime.UtcNow < deadline, "the delivery was not marked delivered within 20 s of its 200");
+            await Task.Delay(100);
+        }
+
         Assert.Equal(2, await fixture.CountAsync("SELECT attempts FROM webhook_outbox WHERE delivery_id = $1 AND delivered_at IS NOT NULL AND last_error IS NULL", deliveryId));
     }
 
