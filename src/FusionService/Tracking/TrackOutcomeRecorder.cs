@@ -5,6 +5,7 @@ using FusionService.Estimation.Tracking;
 using FusionService.Operations;
 using FusionService.Storage.FusedStates;
 using FusionService.Storage.Measurements;
+using FusionService.Storage.Tracks;
 
 namespace FusionService.Tracking;
 

@@ -5,6 +5,7 @@ using FusionService.Estimation.Models;
 using FusionService.Estimation.Tracking;
 using FusionService.Storage.FusedStates;
 using FusionService.Storage.Measurements;
+using FusionService.Storage.Tracks;
 
 namespace FusionService.Benchmarks.StorageProbe;
 
@@ -43,16 +44,7 @@ internal sealed class StorageProbeDay
         {
             Measurement m = Measurements[i];
             MeasurementOutcome outcome = processor.Process(ref state, m);
-            var key = new MeasurementKey(fleetId, vehicleId, (short)m.Kind, m.TimeUs, (long)m.MessageKey);
-            Verdicts[i] = new MeasurementOutcomeUpdate(
-                key,
-                Stored(outcome.Kind),
-                double.IsFinite(outcome.Nis) && outcome.Nis >= 0 ? outcome.Nis : null,
-                outcome.Kind == OutcomeKind.TrackReset)
-            {
-                Whitened0 = StoredWhitened(outcome.Whitened0),
-                Whitened1 = StoredWhitened(outcome.Whitened1),
-            };
+            Verdicts[i] = TrackRows.Verdict(fleetId, vehicleId, m, outcome);
             if (!state.HasPlane || state.Phase != TrackPhase.Running)
             {
                 continue;
@@ -61,7 +53,7 @@ internal sealed class StorageProbeDay
             if (m.Kind == SensorKind.GnssPosition || lastTakenUs == long.MinValue || state.TimeUs < lastTakenUs || state.TimeUs - lastTakenUs >= 1_000_000)
             {
                 lastTakenUs = state.TimeUs;
-                states.Add(FusedState(fleetId, vehicleId, state));
+                states.Add(TrackRows.FusedState(fleetId, vehicleId, state));
             }
         }
 
@@ -173,39 +165,4 @@ internal sealed class StorageProbeDay
 
         return deliveries;
     }
-
-    // As the service's TrackRows: the vehicle's part of the covariance, its ellipse, position and state.
-    private static FusedStateRow FusedState(Guid fleetId, string vehicleId, in TrackState s)
-    {
-        var position = TrackProcessor.PositionOf(s);
-        var packed = new double[FusedStateRow.PackedCovarianceLength];
-        int k = 0;
-        for (int i = 0; i < StateIndex.VehicleCount; i++)
-        {
-            for (int j = i; j < StateIndex.VehicleCount; j++)
-            {
-                packed[k++] = s.P[(i * StateIndex.Count) + j];
-            }
-        }
-
-        var ellipse = ErrorEllipse.FromCovariance(s.P[0], s.P[(1 * StateIndex.Count) + 1], s.P[1]);
-        return new FusedStateRow(
-            fleetId, vehicleId, s.TimeUs, position.LatitudeDeg, position.LongitudeDeg,
-            s.X[StateIndex.HeadingRad], s.X[StateIndex.SpeedMps], s.X[StateIndex.YawRateRps], s.X[StateIndex.AccelMps2],
-            s.X[StateIndex.GyroBiasRps], s.X[StateIndex.WheelScale], packed,
-            ellipse.SemiMajorM, ellipse.SemiMinorM, ellipse.OrientationRad);
-    }
-
-    private static float? StoredWhitened(double w) => double.IsFinite(w) && Math.Abs(w) < float.MaxValue ? (float)w : null;
-
-    private static OutcomeKind Stored(OutcomeKind kind) => kind switch
-    {
-        OutcomeKind.Accepted or OutcomeKind.TrackReset => OutcomeKind.Accepted,
-        OutcomeKind.Gated => OutcomeKind.Gated,
-        OutcomeKind.TooLate => OutcomeKind.TooLate,
-        OutcomeKind.Initialising => OutcomeKind.Initialising,
-        OutcomeKind.BeforeStart => OutcomeKind.BeforeStart,
-        OutcomeKind.Unusable => OutcomeKind.Unusable,
-        _ => OutcomeKind.Unused,
-    };
 }

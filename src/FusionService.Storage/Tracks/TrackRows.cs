@@ -6,10 +6,13 @@ using FusionService.Estimation.Tracking;
 using FusionService.Storage.FusedStates;
 using FusionService.Storage.Measurements;
 
-namespace FusionService.Tracking;
+namespace FusionService.Storage.Tracks;
 
-/// <summary>Maps the core's outcomes and states to the storage rows the write queue stores (verdicts, fused states).</summary>
-internal static class TrackRows
+/// <summary>
+/// Maps the core's outcomes and states to the rows the service stores (verdicts, fused states): one mapping for the track
+/// grains and for the storage probe that measures what those rows cost.
+/// </summary>
+public static class TrackRows
 {
     /// <summary>The verdict row of <paramref name="m"/>.</summary>
     public static MeasurementOutcomeUpdate Verdict(Guid fleetId, string vehicleId, in Measurement m, in MeasurementOutcome outcome)
