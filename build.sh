@@ -100,6 +100,10 @@ summarize() {
     passed=$((passed + ${p:-0}))
     failed=$((failed + ${f:-0} + ${e:-0} + ${t:-0}))
     skipped=$((skipped + ${n:-0}))
+    # Name every failed test again here: CI keeps only the tail of the output, where the console logger's lines
+    # about a failure early in the run are long gone.
+    grep -o '<UnitTestResult [^>]*outcome="\(Failed\|Error\|Timeout\)"[^>]*>' "$trx" \
+      | sed -n 's/.* testName="\([^"]*\)".*/FAILED: \1/p' || true
   done
   if [ "$skipped" -gt 0 ]; then
     echo "$passed passed, $failed failed, $skipped skipped"
