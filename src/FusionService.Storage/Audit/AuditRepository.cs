@@ -10,7 +10,7 @@ using Npgsql;
 namespace FusionService.Storage.Audit;
 
 /// <summary>
-/// Aggregates over <c>measurements</c> and <c>fused_states</c> of one vehicle in a half-open time range
+/// Aggregates over the stored measurements (<c>judged_measurements</c>) and <c>fused_states</c> of one vehicle in a half-open time range
 /// [from, to) of measurement time (Unix microseconds), for the diagnostics endpoint.
 /// </summary>
 public sealed class AuditRepository
@@ -19,7 +19,7 @@ public sealed class AuditRepository
         + "\n    AND time_us >= @FromUs AND time_us < @ToUs"
         + "\n    AND measured_at >= @FromAt AND measured_at < @ToAt\n";
 
-    // The measurements of the range, each with its latest verdict (migration 0005).
+    // The measurements of the range, each with its newest verdict (migration 0013).
     private const string Judged = "judged_measurements(@FleetId, @VehicleId, @FromUs, @ToUs, @FromAt, @ToAt)";
 
     // One pass over the range's measurements with their verdicts: each verdict is looked up per measurement, so the
@@ -33,14 +33,14 @@ public sealed class AuditRepository
                percentile_cont(0.95) WITHIN GROUP (ORDER BY latency_ms) AS P95Ms,
                percentile_cont(0.99) WITHIN GROUP (ORDER BY latency_ms) AS P99Ms
         FROM (SELECT kind, (extract(epoch FROM received_at - measured_at) * 1000)::double precision AS latency_ms
-              FROM measurements WHERE
-        """ + Range + """
+              FROM
+        """ + " " + Judged + """
         ) AS l
         GROUP BY kind
         ORDER BY kind
         """;
 
-    private const string FixTimesSql = "SELECT time_us FROM measurements WHERE " + Range + " AND kind = 0 ORDER BY time_us";
+    private const string FixTimesSql = "SELECT time_us FROM " + Judged + " WHERE kind = 0 ORDER BY time_us";
 
     private const string SpeedsSql = "SELECT time_us AS TimeUs, speed_mps AS SpeedMps FROM fused_states WHERE " + Range + " ORDER BY time_us";
 
@@ -66,8 +66,8 @@ public sealed class AuditRepository
         """;
 
     private const string AnyBeforeSql = """
-        SELECT EXISTS (SELECT 1 FROM measurements
-                       WHERE fleet_id = @FleetId AND vehicle_id = @VehicleId AND time_us < @TimeUs AND measured_at < @At)
+        SELECT EXISTS (SELECT 1 FROM measurement_chunks
+                       WHERE fleet_id = @FleetId AND vehicle_id = @VehicleId AND first_us < @TimeUs)
         """;
 
     private readonly NpgsqlDataSource _dataSource;

@@ -186,7 +186,7 @@ public sealed class TrackWriteQueue : BackgroundService
     {
         if (_outcomes.Count > 0)
         {
-            await MeasurementVerdictLog.AppendAsync(_database.DataSource, _outcomes, cancellationToken).ConfigureAwait(false);
+            await MeasurementVerdictWriter.WriteAsync(_database.DataSource, _outcomes, cancellationToken).ConfigureAwait(false);
             Written(_outcomes.Count);
             _outcomes.Clear();
         }

@@ -92,7 +92,7 @@ internal static class StorageProbe
             t = Stopwatch.GetTimestamp();
             if (d.Judged.Length > 0)
             {
-                await MeasurementVerdictLog.AppendAsync(dataSource, [.. d.Judged.Select(i => day.Verdicts[i])]);
+                await MeasurementVerdictWriter.WriteAsync(dataSource, [.. d.Judged.Select(i => day.Verdicts[i])]);
             }
 
             split[1] += Stopwatch.GetElapsedTime(t).TotalSeconds;
