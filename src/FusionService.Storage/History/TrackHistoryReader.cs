@@ -17,17 +17,11 @@ namespace FusionService.Storage.History;
 /// </summary>
 public sealed class TrackHistoryReader
 {
-    private const string MeasurementSql = """
-        SELECT kind, time_us, message_key, v0, v1, v2, outcome, nis, track_reset
-        FROM judged_measurements(@FleetId, @VehicleId, @FromUs, @ToUs, @FromAt, @ToAt)
-        WHERE kind >= @MinKind AND kind <= @MaxKind
-        ORDER BY time_us, kind, message_key
-        """;
-
     // The chunks that can hold a time in [from, to): a chunk spans at most one ten-minute window (migration 0013). In
     // order of first_us, so the windows arrive one after the other.
     private const string ReplayChunksSql = """
-        SELECT first_us, time_us, kind, message_key, v0, v1, v2, outcome
+        SELECT first_us, count, array_send(time_us), array_send(kind), array_send(message_key), array_send(v0),
+               array_send(v1), array_send(v2), array_send(outcome)
         FROM measurement_chunks
         WHERE fleet_id = @FleetId AND vehicle_id = @VehicleId
           AND first_us > @FromUs - 600000000 AND first_us < @ToUs AND last_us >= @FromUs
@@ -73,43 +67,12 @@ public sealed class TrackHistoryReader
         Guid fleetId, string vehicleId, long fromUs, long toUs, short minKind = 0, short maxKind = short.MaxValue,
         [EnumeratorCancellation] CancellationToken cancellationToken = default)
     {
-        ArgumentNullException.ThrowIfNull(vehicleId);
-        if (toUs <= fromUs)
+        await foreach (var m in MeasurementChunkReader.ReadAsync(_dataSource, fleetId, vehicleId, fromUs, toUs, cancellationToken).ConfigureAwait(false))
         {
-            yield break;
-        }
-
-        var connection = await _dataSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
-        await using (connection.ConfigureAwait(false))
-        {
-            var command = new NpgsqlCommand(MeasurementSql, connection);
-            await using (command.ConfigureAwait(false))
+            var r = m.Row;
+            if (r.Kind >= minKind && r.Kind <= maxKind)
             {
-                command.Parameters.AddWithValue("FleetId", fleetId);
-                command.Parameters.AddWithValue("VehicleId", vehicleId);
-                command.Parameters.AddWithValue("FromUs", fromUs);
-                command.Parameters.AddWithValue("ToUs", toUs);
-                command.Parameters.AddWithValue("FromAt", UnixMicroseconds.ToDateTimeOffset(fromUs));
-                command.Parameters.AddWithValue("ToAt", UnixMicroseconds.ToDateTimeOffset(toUs));
-                command.Parameters.AddWithValue("MinKind", minKind);
-                command.Parameters.AddWithValue("MaxKind", maxKind);
-                var reader = await command.ExecuteReaderAsync(cancellationToken).ConfigureAwait(false);
-                await using (reader.ConfigureAwait(false))
-                {
-                    while (await reader.ReadAsync(cancellationToken).ConfigureAwait(false))
-                    {
-                        yield return new StoredMeasurementValues(
-                            reader.GetInt16(0),
-                            reader.GetInt64(1),
-                            reader.GetInt64(2),
-                            reader.GetDouble(3),
-                            reader.IsDBNull(4) ? null : reader.GetDouble(4),
-                            reader.IsDBNull(5) ? null : reader.GetDouble(5),
-                            OutcomeCodes.FromCode(reader.GetInt16(6)),
-                            reader.IsDBNull(7) ? null : reader.GetDouble(7),
-                            reader.GetBoolean(8));
-                    }
-                }
+                yield return new StoredMeasurementValues(r.Kind, r.TimeUs, r.MessageKey, r.V0, r.V1, r.V2, r.Outcome, r.Nis, r.TrackReset);
             }
         }
     }
@@ -146,6 +109,10 @@ public sealed class TrackHistoryReader
         long currentWindow = long.MinValue;
         int chunksInWindow = 0;
         int count = 0;
+        long[] time = [], key = [];
+        short[] kind = [], outcome = [];
+        double[] v0 = [];
+        double?[] v1 = [], v2 = [];
         var connection = await _dataSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
         await using (connection.ConfigureAwait(false))
         {
@@ -170,14 +137,26 @@ public sealed class TrackHistoryReader
                         }
 
                         chunksInWindow++;
-                        var time = reader.GetFieldValue<long[]>(1);
-                        var kind = reader.GetFieldValue<short[]>(2);
-                        var key = reader.GetFieldValue<long[]>(3);
-                        var v0 = reader.GetFieldValue<double[]>(4);
-                        var v1 = reader.GetFieldValue<double?[]>(5);
-                        var v2 = reader.GetFieldValue<double?[]>(6);
-                        var outcome = reader.GetFieldValue<short[]>(7);
-                        for (int i = 0; i < time.Length; i++)
+                        int n = reader.GetInt32(1);
+                        if (time.Length < n)
+                        {
+                            time = new long[n];
+                            kind = new short[n];
+                            key = new long[n];
+                            v0 = new double[n];
+                            v1 = new double?[n];
+                            v2 = new double?[n];
+                            outcome = new short[n];
+                        }
+
+                        ArraySendDecoder.Int64(reader.GetFieldValue<byte[]>(2), time.AsSpan(0, n));
+                        ArraySendDecoder.Int16(reader.GetFieldValue<byte[]>(3), kind.AsSpan(0, n));
+                        ArraySendDecoder.Int64(reader.GetFieldValue<byte[]>(4), key.AsSpan(0, n));
+                        ArraySendDecoder.Float64(reader.GetFieldValue<byte[]>(5), v0.AsSpan(0, n));
+                        ArraySendDecoder.NullableFloat64(reader.GetFieldValue<byte[]>(6), v1.AsSpan(0, n));
+                        ArraySendDecoder.NullableFloat64(reader.GetFieldValue<byte[]>(7), v2.AsSpan(0, n));
+                        ArraySendDecoder.Int16(reader.GetFieldValue<byte[]>(8), outcome.AsSpan(0, n));
+                        for (int i = 0; i < n; i++)
                         {
                             if (time[i] >= fromUs && time[i] < toUs && kind[i] >= minKind && kind[i] <= maxKind && outcome[i] != duplicate)
                             {
