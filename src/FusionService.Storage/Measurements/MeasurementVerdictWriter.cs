@@ -14,8 +14,9 @@ public static class MeasurementVerdictWriter
 {
     // The chunks that can hold a time in [lo, hi] of each vehicle (a chunk spans at most 600 s), locked in key order.
     private const string ChunksSql = """
-        SELECT c.fleet_id, c.vehicle_id, c.first_us, c.chunk_id, c.time_us, c.kind, c.message_key,
-               c.outcome, c.nis, c.track_reset, c.w0, c.w1
+        SELECT c.fleet_id, c.vehicle_id, c.first_us, c.chunk_id, c.count, array_send(c.time_us), array_send(c.kind),
+               array_send(c.message_key), array_send(c.outcome), array_send(c.nis), array_send(c.track_reset),
+               array_send(c.w0), array_send(c.w1)
         FROM unnest($1::uuid[], $2::text[], $3::bigint[], $4::bigint[]) AS r(f, v, lo, hi)
         JOIN measurement_chunks c ON c.fleet_id = r.f AND c.vehicle_id = r.v
              AND c.first_us > r.lo - 600000000 AND c.first_us <= r.hi AND c.last_us >= r.lo
@@ -82,15 +83,19 @@ public static class MeasurementVerdictWriter
                             {
                                 var fleetId = reader.GetGuid(0);
                                 var vehicleId = reader.GetString(1);
-                                var time = reader.GetFieldValue<long[]>(4);
-                                var kind = reader.GetFieldValue<short[]>(5);
-                                var messageKey = reader.GetFieldValue<long[]>(6);
+                                int n = reader.GetInt32(4);
+                                var time = new long[n];
+                                var kind = new short[n];
+                                var messageKey = new long[n];
+                                ArraySendDecoder.Int64(reader.GetFieldValue<byte[]>(5), time);
+                                ArraySendDecoder.Int16(reader.GetFieldValue<byte[]>(6), kind);
+                                ArraySendDecoder.Int64(reader.GetFieldValue<byte[]>(7), messageKey);
                                 short[]? outcome = null;
                                 double?[]? nis = null;
                                 bool[]? reset = null;
                                 float?[]? w0 = null;
                                 float?[]? w1 = null;
-                                for (int i = 0; i < time.Length; i++)
+                                for (int i = 0; i < n; i++)
                                 {
                                     if (!last.TryGetValue(new MeasurementKey(fleetId, vehicleId, kind[i], time[i], messageKey[i]), out var verdict))
                                     {
@@ -99,11 +104,16 @@ public static class MeasurementVerdictWriter
 
                                     if (outcome is null)
                                     {
-                                        outcome = reader.GetFieldValue<short[]>(7);
-                                        nis = reader.GetFieldValue<double?[]>(8);
-                                        reset = reader.GetFieldValue<bool[]>(9);
-                                        w0 = reader.GetFieldValue<float?[]>(10);
-                                        w1 = reader.GetFieldValue<float?[]>(11);
+                                        outcome = new short[n];
+                                        nis = new double?[n];
+                                        reset = new bool[n];
+                                        w0 = new float?[n];
+                                        w1 = new float?[n];
+                                        ArraySendDecoder.Int16(reader.GetFieldValue<byte[]>(8), outcome);
+                                        ArraySendDecoder.NullableFloat64(reader.GetFieldValue<byte[]>(9), nis);
+                                        ArraySendDecoder.Boolean(reader.GetFieldValue<byte[]>(10), reset);
+                                        ArraySendDecoder.NullableFloat32(reader.GetFieldValue<byte[]>(11), w0);
+                                        ArraySendDecoder.NullableFloat32(reader.GetFieldValue<byte[]>(12), w1);
                                     }
 
                                     outcome[i] = OutcomeCodes.ToCode(verdict.Outcome);
