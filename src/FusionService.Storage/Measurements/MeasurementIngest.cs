@@ -29,12 +29,14 @@ public static class MeasurementIngest
         + "FROM unnest($1::uuid[], $2::text[]) AS u(f, v)) AS k ORDER BY h";
 
     // The stored keys of each vehicle within [lo, hi] of measurement time: the chunks that can hold such a time are those
-    // with first_us in (lo - 600 s, hi] (a chunk spans at most 600 s) and last_us >= lo.
+    // with last_us >= lo (index measurement_chunks_last) and first_us in (lo - 600 s, hi] (a chunk spans at most 600 s;
+    // this bound prunes the daily partitions).
     private const string StoredKeys = """
         SELECT r.f, r.v, u.kind, u.time_us, u.message_key
         FROM unnest($1::uuid[], $2::text[], $3::bigint[], $4::bigint[]) AS r(f, v, lo, hi)
         JOIN measurement_chunks c ON c.fleet_id = r.f AND c.vehicle_id = r.v
-             AND c.first_us > r.lo - 600000000 AND c.first_us <= r.hi AND c.last_us >= r.lo
+             AND c.first_us > r.lo - 600000000 AND c.first_us <= r.hi
+             AND c.last_us >= r.lo AND c.last_us < (r.hi / 600000000 + 1) * 600000000
         CROSS JOIN LATERAL unnest(c.time_us, c.kind, c.message_key) AS u(time_us, kind, message_key)
         WHERE u.time_us >= r.lo AND u.time_us <= r.hi
         """;
@@ -100,6 +102,7 @@ public static class MeasurementIngest
         {
             batch.BatchCommands.Add(Command(InsertVehiclesFromArrays, Uuids(fleets), Texts(ids)));
             batch.BatchCommands.Add(Command(LockVehicles, Uuids(fleets), Texts(ids)));
+            batch.BatchCommands.Add(Command(MeasurementVerdictWriter.PlannerSql));
             batch.BatchCommands.Add(Command(
                 StoredKeys,
                 Uuids(fleets),
@@ -109,7 +112,8 @@ public static class MeasurementIngest
             var reader = await batch.ExecuteReaderAsync(cancellationToken).ConfigureAwait(false);
             await using (reader.ConfigureAwait(false))
             {
-                // The stored keys are the only result with five columns (the lock statement returns one void column).
+                // The stored keys are the only result with five columns (the lock statement returns one void column, the
+                // planner settings three: the key lookup keeps to the indexes, as the verdict writer's does).
                 do
                 {
                     if (reader.FieldCount != 5)

@@ -19,14 +19,31 @@ public static class MeasurementVerdictWriter
                array_send(c.w0), array_send(c.w1)
         FROM unnest($1::uuid[], $2::text[], $3::bigint[], $4::bigint[]) AS r(f, v, lo, hi)
         JOIN measurement_chunks c ON c.fleet_id = r.f AND c.vehicle_id = r.v
-             AND c.first_us > r.lo - 600000000 AND c.first_us <= r.hi AND c.last_us >= r.lo
+             AND c.first_us > r.lo - 600000000 AND c.first_us <= r.hi
+             AND c.last_us >= r.lo AND c.last_us < (r.hi / 600000000 + 1) * 600000000
         ORDER BY c.fleet_id, c.vehicle_id, c.first_us, c.chunk_id
         FOR UPDATE OF c
         """;
 
-    private const string UpdateSql =
-        "UPDATE measurement_chunks SET outcome = $5, nis = $6, track_reset = $7, w0 = $8, w1 = $9 "
-        + "WHERE fleet_id = $1 AND vehicle_id = $2 AND first_us = $3 AND chunk_id = $4";
+    internal const string PlannerSql =
+        "SELECT set_config('enable_seqscan', 'off', true), set_config('enable_hashjoin', 'off', true), "
+        + "set_config('enable_mergejoin', 'off', true)";
+
+    // Every changed chunk in one statement: the new verdict arrays of all chunks are passed end to end in flat arrays,
+    // and each chunk takes its slice [offset + 1, offset + count] (one plan, not one per chunk). The flat arrays hold no
+    // nulls (NaN stands for a missing NIS or whitened component, turned back into null per slice): a slice of an array
+    // with nulls must count the null bitmap from the start, which made the statement quadratic in its size.
+    private const string UpdateSql = """
+        UPDATE measurement_chunks c
+        SET outcome = $5[u.offset_ + 1 : u.offset_ + u.count_],
+            nis = array_replace($6[u.offset_ + 1 : u.offset_ + u.count_], 'NaN'::double precision, NULL),
+            track_reset = $7[u.offset_ + 1 : u.offset_ + u.count_],
+            w0 = array_replace($8[u.offset_ + 1 : u.offset_ + u.count_], 'NaN'::real, NULL),
+            w1 = array_replace($9[u.offset_ + 1 : u.offset_ + u.count_], 'NaN'::real, NULL)
+        FROM unnest($1::uuid[], $2::text[], $3::bigint[], $4::bigint[], $10::integer[], $11::integer[])
+             AS u(fleet_id, vehicle_id, first_us, chunk_id, offset_, count_)
+        WHERE c.fleet_id = u.fleet_id AND c.vehicle_id = u.vehicle_id AND c.first_us = u.first_us AND c.chunk_id = u.chunk_id
+        """;
 
     /// <summary>
     /// Writes <paramref name="verdicts"/> (one transaction, atomic). Of several verdicts on one measurement in the list
@@ -65,9 +82,17 @@ public static class MeasurementVerdictWriter
             await using (transaction.ConfigureAwait(false))
             {
                 var vehicles = ranges.Keys.ToArray();
-                var batch = new NpgsqlBatch(connection, transaction);
+                // The chunks are looked up by key, one vehicle or chunk at a time. Without statistics on the unnested
+                // arrays the planner may prefer a hash join over a sequential scan of every chunk of every partition,
+                // which a gateway's many small chunks make slow: this transaction keeps to the indexes.
+                var planner = new NpgsqlCommand(PlannerSql, connection, transaction);
+                await using (planner.ConfigureAwait(false))
+                {
+                    await planner.ExecuteNonQueryAsync(cancellationToken).ConfigureAwait(false);
+                }
+
+                var changed = new ChangedChunks();
                 int written = 0;
-                await using (batch.ConfigureAwait(false))
                 {
                     var select = new NpgsqlCommand(ChunksSql, connection, transaction);
                     await using (select.ConfigureAwait(false))
@@ -126,30 +151,88 @@ public static class MeasurementVerdictWriter
 
                                 if (outcome is not null)
                                 {
-                                    var update = new NpgsqlBatchCommand(UpdateSql);
-                                    update.Parameters.Add(new NpgsqlParameter { Value = fleetId, NpgsqlDbType = NpgsqlDbType.Uuid });
-                                    update.Parameters.Add(new NpgsqlParameter { Value = vehicleId, NpgsqlDbType = NpgsqlDbType.Text });
-                                    update.Parameters.Add(new NpgsqlParameter { Value = reader.GetInt64(2), NpgsqlDbType = NpgsqlDbType.Bigint });
-                                    update.Parameters.Add(new NpgsqlParameter { Value = reader.GetInt64(3), NpgsqlDbType = NpgsqlDbType.Bigint });
-                                    update.Parameters.Add(new NpgsqlParameter { Value = outcome, NpgsqlDbType = NpgsqlDbType.Array | NpgsqlDbType.Smallint });
-                                    update.Parameters.Add(new NpgsqlParameter { Value = nis, NpgsqlDbType = NpgsqlDbType.Array | NpgsqlDbType.Double });
-                                    update.Parameters.Add(new NpgsqlParameter { Value = reset, NpgsqlDbType = NpgsqlDbType.Array | NpgsqlDbType.Boolean });
-                                    update.Parameters.Add(new NpgsqlParameter { Value = w0, NpgsqlDbType = NpgsqlDbType.Array | NpgsqlDbType.Real });
-                                    update.Parameters.Add(new NpgsqlParameter { Value = w1, NpgsqlDbType = NpgsqlDbType.Array | NpgsqlDbType.Real });
-                                    batch.BatchCommands.Add(update);
+                                    changed.Add(fleetId, vehicleId, reader.GetInt64(2), reader.GetInt64(3), outcome, nis!, reset!, w0!, w1!);
                                 }
                             }
                         }
                     }
 
-                    if (batch.BatchCommands.Count > 0)
+                    if (changed.Count > 0)
                     {
-                        await batch.ExecuteNonQueryAsync(cancellationToken).ConfigureAwait(false);
+                        await changed.UpdateAsync(connection, transaction, cancellationToken).ConfigureAwait(false);
                     }
                 }
 
                 await transaction.CommitAsync(cancellationToken).ConfigureAwait(false);
                 return written;
+            }
+        }
+    }
+
+    // The chunks whose verdicts changed, their new verdict arrays end to end.
+    private sealed class ChangedChunks
+    {
+        private readonly List<Guid> _fleetIds = [];
+        private readonly List<string> _vehicleIds = [];
+        private readonly List<long> _firstUs = [];
+        private readonly List<long> _chunkIds = [];
+        private readonly List<int> _offsets = [];
+        private readonly List<int> _counts = [];
+        private readonly List<short> _outcome = [];
+        private readonly List<double> _nis = [];
+        private readonly List<bool> _reset = [];
+        private readonly List<float> _w0 = [];
+        private readonly List<float> _w1 = [];
+
+        public int Count => _chunkIds.Count;
+
+        public void Add(Guid fleetId, string vehicleId, long firstUs, long chunkId, short[] outcome, double?[] nis, bool[] reset, float?[] w0, float?[] w1)
+        {
+            _fleetIds.Add(fleetId);
+            _vehicleIds.Add(vehicleId);
+            _firstUs.Add(firstUs);
+            _chunkIds.Add(chunkId);
+            _offsets.Add(_outcome.Count);
+            _counts.Add(outcome.Length);
+            _outcome.AddRange(outcome);
+            foreach (var v in nis)
+            {
+                _nis.Add(v ?? double.NaN);
+            }
+
+            _reset.AddRange(reset);
+            foreach (var v in w0)
+            {
+                _w0.Add(v ?? float.NaN);
+            }
+
+            foreach (var v in w1)
+            {
+                _w1.Add(v ?? float.NaN);
+            }
+        }
+
+        public async Task UpdateAsync(NpgsqlConnection connection, NpgsqlTransaction transaction, CancellationToken cancellationToken)
+        {
+            var update = new NpgsqlCommand(UpdateSql, connection, transaction);
+            await using (update.ConfigureAwait(false))
+            {
+                update.Parameters.Add(new NpgsqlParameter { Value = _fleetIds.ToArray(), NpgsqlDbType = NpgsqlDbType.Array | NpgsqlDbType.Uuid });
+                update.Parameters.Add(new NpgsqlParameter { Value = _vehicleIds.ToArray(), NpgsqlDbType = NpgsqlDbType.Array | NpgsqlDbType.Text });
+                update.Parameters.Add(new NpgsqlParameter { Value = _firstUs.ToArray(), NpgsqlDbType = NpgsqlDbType.Array | NpgsqlDbType.Bigint });
+                update.Parameters.Add(new NpgsqlParameter { Value = _chunkIds.ToArray(), NpgsqlDbType = NpgsqlDbType.Array | NpgsqlDbType.Bigint });
+                update.Parameters.Add(new NpgsqlParameter { Value = _outcome.ToArray(), NpgsqlDbType = NpgsqlDbType.Array | NpgsqlDbType.Smallint });
+                update.Parameters.Add(new NpgsqlParameter { Value = _nis.ToArray(), NpgsqlDbType = NpgsqlDbType.Array | NpgsqlDbType.Double });
+                update.Parameters.Add(new NpgsqlParameter { Value = _reset.ToArray(), NpgsqlDbType = NpgsqlDbType.Array | NpgsqlDbType.Boolean });
+                update.Parameters.Add(new NpgsqlParameter { Value = _w0.ToArray(), NpgsqlDbType = NpgsqlDbType.Array | NpgsqlDbType.Real });
+                update.Parameters.Add(new NpgsqlParameter { Value = _w1.ToArray(), NpgsqlDbType = NpgsqlDbType.Array | NpgsqlDbType.Real });
+                update.Parameters.Add(new NpgsqlParameter { Value = _offsets.ToArray(), NpgsqlDbType = NpgsqlDbType.Array | NpgsqlDbType.Integer });
+                update.Parameters.Add(new NpgsqlParameter { Value = _counts.ToArray(), NpgsqlDbType = NpgsqlDbType.Array | NpgsqlDbType.Integer });
+                int updated = await update.ExecuteNonQueryAsync(cancellationToken).ConfigureAwait(false);
+                if (updated != Count)
+                {
+                    throw new InvalidOperationException($"{Count} chunks were read and locked for their verdicts, but {updated} were updated");
+                }
             }
         }
     }

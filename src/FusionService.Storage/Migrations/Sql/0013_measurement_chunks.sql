@@ -47,6 +47,10 @@ CREATE TABLE measurement_chunks (
     CONSTRAINT measurement_chunks_nis_non_negative CHECK (0 <= ALL (nis)),
     PRIMARY KEY (fleet_id, vehicle_id, first_us, chunk_id)
 ) PARTITION BY RANGE (first_us);
+-- The chunks that can hold the instants [lo, hi] of one vehicle are those with last_us >= lo and first_us <= hi: for data
+-- arriving in order (the usual case) one or none, found by this index without reading the window's older chunks, of
+-- which a gateway that mixes many vehicles in each upload leaves hundreds of small ones.
+CREATE INDEX measurement_chunks_last ON measurement_chunks (fleet_id, vehicle_id, last_us);
 COMMENT ON TABLE measurement_chunks IS
     'Accepted sensor messages and the filter''s newest verdict on each, as parallel arrays per vehicle, commit and ten-minute window; daily partitions on first_us (Unix microseconds, UTC days).';
 COMMENT ON COLUMN measurement_chunks.first_us IS 'Smallest time_us of the chunk, Unix microseconds (UTC); the partition key.';
