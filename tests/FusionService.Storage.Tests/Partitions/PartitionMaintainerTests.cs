@@ -46,6 +46,21 @@ public sealed class PartitionMaintainerTests(PostgresFixture server)
     }
 
     [Fact]
+    public async Task Chunk_partitions_compress_their_arrays_with_lz4_where_the_server_has_it()
+    {
+        // Migration 0013 sets lz4 on the parent's array columns; partitions made later must take it over (attcompression
+        // 'l' = lz4, 'p' = pglz, '' = the server default; PostgreSQL 15 manual, pg_attribute).
+        await using var schema = await server.NewMigratedSchemaAsync();
+        await new PartitionMaintainer(schema.DataSource).EnsurePartitionsAsync(new DateOnly(2025, 4, 1), new DateOnly(2025, 4, 1));
+        bool lz4 = await schema.ScalarAsync<bool>(
+            "SELECT EXISTS (SELECT 1 FROM pg_settings WHERE name = 'default_toast_compression' AND 'lz4' = ANY (enumvals))");
+        string compression = await schema.ScalarAsync<string>(
+            "SELECT string_agg(DISTINCT attcompression::text, ',') FROM pg_attribute "
+            + "WHERE attrelid = 'measurement_chunks_p20250401'::regclass AND attname IN ('time_us', 'message_key', 'v0', 'nis', 'outcome')");
+        Assert.Equal(lz4 ? "l" : string.Empty, compression);
+    }
+
+    [Fact]
     public async Task Partition_bounds_are_whole_utc_days()
     {
         await using var schema = await server.NewMigratedSchemaAsync();
