@@ -105,7 +105,8 @@ public sealed class FreshnessTests(DashboardFixture fixture)
         page.Script("localStorage.removeItem('fusionservice.preferences');");
     }
 
-    private static long LongestDrive(FusionService.Scenarios.TruthTrajectory truth, out long lengthUs)
+    /// <summary>Start of the longest stretch the van drives faster than 3 m/s, and its length.</summary>
+    internal static long LongestDrive(FusionService.Scenarios.TruthTrajectory truth, out long lengthUs)
     {
         long bestStart = 0, runStart = -1;
         lengthUs = 0;
