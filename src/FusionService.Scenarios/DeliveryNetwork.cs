@@ -31,9 +31,9 @@ public sealed class DeliveryNetwork
     /// <param name="laneCount">Number of north-south lanes (grid columns), 2 to 12. Default 10.</param>
     /// <param name="streetCount">Number of east-west streets (grid rows), 2 to 12. Default 8.</param>
     /// <param name="blockM">Block edge, metres, 40 to 500. Default 120.</param>
-    /// <param name="originLatitudeDeg">Latitude of the depot (frame origin), degrees. Default 45.0 (an arbitrary point).</param>
-    /// <param name="originLongitudeDeg">Longitude of the depot, degrees. Default 7.0 (an arbitrary point).</param>
-    public DeliveryNetwork(int laneCount = 10, int streetCount = 8, double blockM = 120.0, double originLatitudeDeg = 45.0, double originLongitudeDeg = 7.0)
+    /// <param name="originLatitudeDeg">Latitude of the depot (frame origin), degrees. Default <see cref="InventedPlace.LatitudeDeg"/> (open sea).</param>
+    /// <param name="originLongitudeDeg">Longitude of the depot, degrees. Default <see cref="InventedPlace.LongitudeDeg"/> (open sea).</param>
+    public DeliveryNetwork(int laneCount = 10, int streetCount = 8, double blockM = 120.0, double originLatitudeDeg = InventedPlace.LatitudeDeg, double originLongitudeDeg = InventedPlace.LongitudeDeg)
     {
         ArgumentOutOfRangeException.ThrowIfLessThan(laneCount, 2);
         ArgumentOutOfRangeException.ThrowIfGreaterThan(laneCount, NorthSouthNames.Length);

@@ -24,11 +24,11 @@ public sealed record ModelConsistentTruthOptions
     /// <summary>Time of the first sample, Unix microseconds. Default 2026-01-01T00:00:00Z.</summary>
     public long StartTimeUs { get; init; } = RouteDriverOptions.DefaultStartTimeUs;
 
-    /// <summary>Latitude of the local frame's origin, degrees. Default 45.0 (an arbitrary point).</summary>
-    public double OriginLatitudeDeg { get; init; } = 45.0;
+    /// <summary>Latitude of the local frame's origin, degrees. Default <see cref="InventedPlace.LatitudeDeg"/> (open sea).</summary>
+    public double OriginLatitudeDeg { get; init; } = InventedPlace.LatitudeDeg;
 
-    /// <summary>Longitude of the local frame's origin, degrees. Default 7.0 (an arbitrary point).</summary>
-    public double OriginLongitudeDeg { get; init; } = 7.0;
+    /// <summary>Longitude of the local frame's origin, degrees. Default <see cref="InventedPlace.LongitudeDeg"/> (open sea).</summary>
+    public double OriginLongitudeDeg { get; init; } = InventedPlace.LongitudeDeg;
 
     /// <summary>Initial east, metres. Default 0.</summary>
     public double InitialEastM { get; init; }

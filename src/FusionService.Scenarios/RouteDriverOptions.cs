@@ -14,11 +14,11 @@ public sealed record RouteDriverOptions
     /// <summary>Default start time: 2026-01-01T00:00:00Z in Unix microseconds.</summary>
     public const long DefaultStartTimeUs = 1_767_225_600_000_000;
 
-    /// <summary>Latitude of the local frame's origin, degrees. Default 45.0 (an arbitrary point).</summary>
-    public double OriginLatitudeDeg { get; init; } = 45.0;
+    /// <summary>Latitude of the local frame's origin, degrees. Default <see cref="InventedPlace.LatitudeDeg"/> (open sea).</summary>
+    public double OriginLatitudeDeg { get; init; } = InventedPlace.LatitudeDeg;
 
-    /// <summary>Longitude of the local frame's origin, degrees. Default 7.0 (an arbitrary point).</summary>
-    public double OriginLongitudeDeg { get; init; } = 7.0;
+    /// <summary>Longitude of the local frame's origin, degrees. Default <see cref="InventedPlace.LongitudeDeg"/> (open sea).</summary>
+    public double OriginLongitudeDeg { get; init; } = InventedPlace.LongitudeDeg;
 
     /// <summary>Time of the first truth sample, Unix microseconds. Default <see cref="DefaultStartTimeUs"/>.</summary>
     public long StartTimeUs { get; init; } = DefaultStartTimeUs;

@@ -31,14 +31,14 @@ public sealed class DemoFleet
     public const string TownName = "Brackenholt";
 
     /// <summary>
-    /// Latitude of the depot, degrees: the invented town lies in the open North Pacific (46.12 N, 170.47 E), about 800 km
-    /// from the nearest island and farther from any mainland, so that no real street, village or valley lies beneath it
-    /// and it can never be taken for a real place (with map tiles on it lies on open water).
+    /// Latitude of the depot, degrees: the invented town lies at <see cref="InventedPlace"/>, in the open North Pacific
+    /// (46.12 N, 170.47 E), about 800 km from the nearest island and farther from any mainland, so that no real street,
+    /// village or valley lies beneath it and it can never be taken for a real place (with map tiles on it lies on open water).
     /// </summary>
-    public const double DepotLatitudeDeg = 46.12;
+    public const double DepotLatitudeDeg = InventedPlace.LatitudeDeg;
 
     /// <summary>Longitude of the depot, degrees (see <see cref="DepotLatitudeDeg"/>).</summary>
-    public const double DepotLongitudeDeg = 170.47;
+    public const double DepotLongitudeDeg = InventedPlace.LongitudeDeg;
 
     /// <summary>Index of the van with the 3 % wheel-size error ("van-03").</summary>
     public const int WheelSizeVanIndex = 2;

@@ -23,4 +23,15 @@ public sealed class AlertOptions
     /// </summary>
     [Range(1, 24 * 31)]
     public int SilenceLookbackHours { get; set; } = 24;
+
+    /// <summary>
+    /// Seconds without anything received from a vehicle (server clock, any sensor) after which it counts as silent: the
+    /// one limit behind the status <c>silent</c> of <c>GET /v1/vehicles</c> (the default of its <c>silent_after_s</c>) and
+    /// of the dashboard's fleet table, which reads it from <c>/settings.json</c>. Default 120: trackers upload every 5-60 s
+    /// while moving (common practice), so at least two uploads were missed. A silent vehicle gets a <c>vehicle_silent</c>
+    /// alert only when its silence lasts longer than its fleet's own alert threshold (<c>vehicle_silent.silent_s</c> of
+    /// <c>/v1/alert-rules</c>, default 900 s): the status says "not heard lately", the alert "silent long enough to act".
+    /// </summary>
+    [Range(10, 86_400)]
+    public double SilentAfterS { get; set; } = 120;
 }

@@ -42,11 +42,16 @@ public sealed class VehicleActivity
     /// <summary>A snapshot of every vehicle and its newest receipt time.</summary>
     public IReadOnlyList<KeyValuePair<(Guid FleetId, string VehicleId), DateTimeOffset>> Snapshot() => [.. _last];
 
-    /// <summary>Removes the vehicles last heard from before <paramref name="before"/>; returns them.</summary>
-    public IReadOnlyList<(Guid FleetId, string VehicleId)> EvictSilentSince(DateTimeOffset before)
+    /// <summary>
+    /// Removes the vehicles last heard from before <paramref name="before"/>, of those in <paramref name="judged"/> when it
+    /// is given (the <see cref="Snapshot"/> a scan judged: a vehicle noted after it was taken waits for the next scan, so
+    /// it is never evicted before its silence was judged once); returns them.
+    /// </summary>
+    public IReadOnlyList<(Guid FleetId, string VehicleId)> EvictSilentSince(
+        DateTimeOffset before, IReadOnlyList<KeyValuePair<(Guid FleetId, string VehicleId), DateTimeOffset>>? judged = null)
     {
         var evicted = new List<(Guid, string)>();
-        foreach (var (key, last) in _last)
+        foreach (var (key, last) in judged ?? Snapshot())
         {
             // Removes the entry only if no newer receipt arrived meanwhile.
             if (last < before && _last.TryRemove(new KeyValuePair<(Guid, string), DateTimeOffset>(key, last)))

@@ -64,7 +64,8 @@ public sealed class VehicleSilenceScanner(
             _seeded = true;
         }
 
-        foreach (var ((fleetId, vehicleId), last) in publisher.Activity.Snapshot())
+        var judged = publisher.Activity.Snapshot();
+        foreach (var ((fleetId, vehicleId), last) in judged)
         {
             var rule = (await publisher.Rules.GetAsync(fleetId, cancellationToken).ConfigureAwait(false)).VehicleSilent;
             bool silent = rule.IsSilent(last, now);
@@ -99,7 +100,7 @@ public sealed class VehicleSilenceScanner(
             }
         }
 
-        foreach (var key in publisher.Activity.EvictSilentSince(now.AddHours(-options.Value.SilenceLookbackHours)))
+        foreach (var key in publisher.Activity.EvictSilentSince(now.AddHours(-options.Value.SilenceLookbackHours), judged))
         {
             _silent.Remove(key);
         }

@@ -5,6 +5,9 @@ namespace FusionService.Alerts;
 /// <c>vehicle_silent</c>: nothing received from a vehicle (server clock, any sensor) for more than <c>silent_s</c>
 /// seconds. Checked every few seconds; the alert resolves at the first check after a measurement arrives again.
 /// Default 900 s: trackers upload every 5-60 s while moving, so a quarter of an hour of nothing is not an upload pattern.
+/// Silence for longer than this opens an alert; the vehicle has shown the status <c>silent</c> (list and dashboard) since
+/// the service's shorter silence limit passed (setting <c>Alerts:SilentAfterS</c>, default 120 s), so keep this
+/// threshold at or above that limit.
 /// </summary>
 /// <remarks>Checked by <see cref="VehicleSilenceScanner"/>; the upload interval is common practice.</remarks>
 public sealed record VehicleSilentRule

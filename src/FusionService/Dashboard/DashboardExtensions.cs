@@ -1,4 +1,5 @@
 // Serving the dashboard: static files at "/" (no key; every API call the page makes carries the user's key).
+using FusionService.Alerts;
 using Microsoft.Extensions.FileProviders;
 using Microsoft.Extensions.Options;
 
@@ -52,8 +53,8 @@ public static class DashboardExtensions
                 headers.ContentSecurityPolicy = policy;
             },
         });
-        app.MapGet("/settings.json", (IOptions<DashboardOptions> current) => TypedResults.Ok(new DashboardSettingsResponse(
-                current.Value.TileUrlTemplate, current.Value.TileAttribution, current.Value.PollIntervalMs)))
+        app.MapGet("/settings.json", (IOptions<DashboardOptions> current, IOptions<AlertOptions> alerts) => TypedResults.Ok(new DashboardSettingsResponse(
+                current.Value.TileUrlTemplate, current.Value.TileAttribution, current.Value.PollIntervalMs, alerts.Value.SilentAfterS)))
             .ExcludeFromDescription();
         return app;
     }

@@ -28,7 +28,7 @@ public static class OpenApiText
         ["/v1/vehicles/{vehicle}/explain window_s"] = "Seconds of measurements shown around the instant (default 10, at most Audit:MaxExplainWindowS, default 300).",
         ["/v1/vehicles status"] = "Only vehicles in these states, comma-separated: moving, stopped, silent, carried (see the status field). Default: all.",
         ["/v1/vehicles open_alerts"] = "true: only vehicles with at least one open (unacknowledged) alert; false: only vehicles without one. Default: all.",
-        ["/v1/vehicles silent_after_s"] = "A vehicle counts as silent when nothing was received from it for more than this many seconds (server clock; 10-86400, default 120).",
+        ["/v1/vehicles silent_after_s"] = "A vehicle counts as silent when nothing was received from it for more than this many seconds (server clock; 10-86400). Default: the service's silence limit, setting Alerts:SilentAfterS (120 unless configured), which the dashboard uses too.",
         ["/v1/vehicles after"] = "Paging: the next_after value of the previous page (a vehicle id); vehicles after it in id order are returned.",
         ["/v1/vehicles limit"] = "Most vehicles per page (1-1000, default 200).",
         ["/v1/base-layer days"] = "How many days back to read the fleet's estimates: a whole number from 1 to 31, default 7.",

@@ -1,4 +1,5 @@
 // Reading the fused states of the caller's fleet.
+using FusionService.Alerts;
 using FusionService.Database;
 using FusionService.Estimation.Diagnostics;
 using FusionService.Estimation.Models;
@@ -14,6 +15,7 @@ using FusionService.Http;
 using FusionService.Ingest;
 using FusionService.Operations;
 using Microsoft.AspNetCore.Http.HttpResults;
+using Microsoft.Extensions.Options;
 
 namespace FusionService.Vehicles;
 
@@ -21,10 +23,6 @@ namespace FusionService.Vehicles;
 public static class VehicleEndpoints
 {
     private const double RadToDeg = 180.0 / Math.PI;
-
-    /// <summary>Default of <c>silent_after_s</c>: two minutes, more than the 5-60 s upload interval of trackers while
-    /// moving (common practice), so at least two uploads were missed.</summary>
-    internal const double DefaultSilentAfterS = 120;
 
     /// <summary>A vehicle counts as moving from this estimated speed on (1.8 km/h, walking pace; a design choice).</summary>
     internal const double MovingMinSpeedMps = 0.5;
@@ -47,7 +45,8 @@ public static class VehicleEndpoints
             .WithDescription("The newest estimate of each vehicle of the caller's fleet with its age, when the service last heard "
                 + "from the vehicle and from each of its sensors, its status (moving, stopped, silent or carried) and its open "
                 + "alerts, ordered by vehicle id. The estimate is written by the tracks in the background, so it may lag the newest "
-                + "measurement by a fraction of a second. Filters: status (comma-separated), open_alerts=true|false. Paging: "
+                + "measurement by a fraction of a second. Filters: status (comma-separated), open_alerts=true|false; silent_after_s overrides the service's silence limit "
+                + "(Alerts:SilentAfterS, default 120 s) for this request, and silent_after_s in the answer says which limit applied. Paging: "
                 + "limit (default 200) and after=<next_after of the previous page>. Example: GET /v1/vehicles?status=silent,stopped"
                 + "&open_alerts=true&limit=50. 400 names the bad parameter. Needs a read or admin key." + Caution + LocationCaution.Documentation)
             .ProducesProblem(StatusCodes.Status400BadRequest)
@@ -69,7 +68,7 @@ public static class VehicleEndpoints
 
     /// <summary>Handles <c>GET /v1/vehicles</c>.</summary>
     internal static async Task<Results<Ok<VehicleListResponse>, ProblemHttpResult>> ListVehicles(
-        HttpContext http, FusionDatabase database, TimeProvider clock,
+        HttpContext http, FusionDatabase database, TimeProvider clock, IOptions<AlertOptions> alertOptions,
         string? status = null, string? open_alerts = null, string? silent_after_s = null, string? after = null, string? limit = null)
     {
         var caller = ApiCaller.Of(http);
@@ -90,7 +89,7 @@ public static class VehicleEndpoints
 
         bool? withOpenAlerts = open_alerts is null ? null : open_alerts == "true";
 
-        double silentAfterS = DefaultSilentAfterS;
+        double silentAfterS = alertOptions.Value.SilentAfterS;
         if (silent_after_s is not null
             && (!double.TryParse(silent_after_s, NumberStyles.Float, CultureInfo.InvariantCulture, out silentAfterS) || !(silentAfterS >= 10 && silentAfterS <= 86_400)))
         {
@@ -114,7 +113,7 @@ public static class VehicleEndpoints
             .ConfigureAwait(false);
         var page = rows.Take(pageSize).Select(r => ToSummary(r, now)).ToList();
         LocationCaution.AddHeader(http);
-        return TypedResults.Ok(new VehicleListResponse(page, now, rows.Count > pageSize ? page[^1].Vehicle : null, LocationCaution.Text));
+        return TypedResults.Ok(new VehicleListResponse(page, now, silentAfterS, rows.Count > pageSize ? page[^1].Vehicle : null, LocationCaution.Text));
     }
 
     private static VehicleSummary ToSummary(FleetVehicleRow r, DateTimeOffset now)

@@ -9,6 +9,9 @@ namespace FusionService.Browser.Tests.Infrastructure;
 /// <summary>The service in demo mode (its own fleet, 8 vans at 60x) on the test's PostgreSQL server.</summary>
 public sealed class DemoServiceFactory(string connectionString, string fleetName) : WebApplicationFactory<Program>
 {
+    /// <summary>The service's silence limit in these tests, seconds (<c>Alerts:SilentAfterS</c>; the default is 120).</summary>
+    public const int SilentAfterS = 20;
+
     protected override void ConfigureWebHost(IWebHostBuilder builder)
     {
         var settings = new Dictionary<string, string?>(StringComparer.Ordinal)
@@ -23,6 +26,8 @@ public sealed class DemoServiceFactory(string connectionString, string fleetName
             ["Demo:Vans"] = "8",
             ["Demo:Acceleration"] = "60",
             ["Demo:ProgressIntervalS"] = "3600",
+            // The service's one silence limit, short so that a test sees a van fall silent within seconds (FreshnessTests).
+            ["Alerts:SilentAfterS"] = SilentAfterS.ToString(CultureInfo.InvariantCulture),
         };
         builder.ConfigureAppConfiguration((_, configuration) => configuration.AddInMemoryCollection(settings));
     }

@@ -2,6 +2,7 @@
 using System.Globalization;
 using System.Net.WebSockets;
 using System.Text.Json;
+using FusionService.Scenarios;
 using FusionService.Tests.Infrastructure;
 using Microsoft.AspNetCore.TestHost;
 
@@ -57,9 +58,13 @@ public sealed class LiveStreamTests(ServiceFixture fixture)
     {
         var fleet = await fixture.NewFleetAsync();
         var other = await fixture.NewFleetAsync();
-        // The drive starts at 45 N, 7 E (RouteDriverOptions defaults) and runs 220 m east first; the box holds its first ~110 m.
-        const double BoxEastDeg = 110.0 / 78_846.0;
-        string box = string.Create(CultureInfo.InvariantCulture, $"6.999,44.999,{7.0 + BoxEastDeg:0.000000},45.001");
+        // The drive starts at the invented place (RouteDriverOptions defaults: InventedPlace, 46.12 N, 170.47 E) and runs
+        // 220 m east first; the box holds its first ~110 m. One degree of longitude at latitude phi is (pi/180) N(phi) cos(phi),
+        // N the prime-vertical radius of the WGS-84 ellipsoid (a = 6378137 m, 1/f = 298.257223563; NIMA TR8350.2):
+        // 77,295.7 m at 46.12 N (derived); one degree of latitude there is about 111,154 m, so +-0.001 deg is +-111 m.
+        const double LatDeg = InventedPlace.LatitudeDeg, LonDeg = InventedPlace.LongitudeDeg;
+        const double BoxEastDeg = 110.0 / 77_295.7;
+        string box = string.Create(CultureInfo.InvariantCulture, $"{LonDeg - 0.001:0.000000},{LatDeg - 0.001:0.000000},{LonDeg + BoxEastDeg:0.000000},{LatDeg + 0.001:0.000000}");
         using var throttled = await Connect(fleet.ReadKey, "/v1/positions/stream?min_interval_ms=5000");
         using var boxed = await Connect(fleet.ReadKey, "/v1/positions/stream?min_interval_ms=0&bbox=" + box);
         using var otherFleet = await Connect(other.ReadKey, "/v1/positions/stream?min_interval_ms=0");
@@ -87,9 +92,9 @@ public sealed class LiveStreamTests(ServiceFixture fixture)
         Assert.InRange(first.GetProperty("heading_deg").GetDouble(), 0.0, 360.0);
         Assert.True(first.GetProperty("ellipse95").GetProperty("semi_major_m").GetDouble() > 0);
         Assert.NotEmpty(inBox);
-        Assert.All(inBox, f => Assert.InRange(f.GetProperty("lon_deg").GetDouble(), 6.999, 7.0 + BoxEastDeg));
-        Assert.All(inBox, f => Assert.InRange(f.GetProperty("lat_deg").GetDouble(), 44.999, 45.001));
-        Assert.True(slow.Max(f => f.GetProperty("lon_deg").GetDouble()) > 7.0 + BoxEastDeg, "the drive must leave the box for the test to mean anything");
+        Assert.All(inBox, f => Assert.InRange(f.GetProperty("lon_deg").GetDouble(), LonDeg - 0.001, LonDeg + BoxEastDeg));
+        Assert.All(inBox, f => Assert.InRange(f.GetProperty("lat_deg").GetDouble(), LatDeg - 0.001, LatDeg + 0.001));
+        Assert.True(slow.Max(f => f.GetProperty("lon_deg").GetDouble()) > LonDeg + BoxEastDeg, "the drive must leave the box for the test to mean anything");
         Assert.Empty(await ReceiveAllAsync(otherFleet, TimeSpan.FromSeconds(1)));
     }
 

@@ -97,6 +97,22 @@ public sealed class VehicleQuotaTests(ServiceFixture fixture)
     }
 
     [Fact]
+    public void Issue14_a_vehicle_noted_after_the_judged_snapshot_waits_for_the_next_scan()
+    {
+        // A receipt noted while a scan runs is not in the snapshot the scan judged: evicting it then would drop a vehicle
+        // whose silence was never judged (and never alerted).
+        var activity = new VehicleActivity();
+        var fleet = Guid.NewGuid();
+        var now = DateTimeOffset.UtcNow;
+        activity.Note(fleet, "judged", now.AddHours(-25));
+        var judged = activity.Snapshot();
+        activity.Note(fleet, "noted-during-scan", now.AddHours(-25));
+
+        Assert.Equal(["judged"], activity.EvictSilentSince(now.AddHours(-24), judged).Select(e => e.VehicleId));
+        Assert.Equal(["noted-during-scan"], activity.Snapshot().Select(e => e.Key.VehicleId));
+    }
+
+    [Fact]
     public async Task Issue14_a_silent_vehicle_leaves_the_table_and_its_alert_resolves_when_it_returns()
     {
         var fleet = await fixture.NewFleetAsync();

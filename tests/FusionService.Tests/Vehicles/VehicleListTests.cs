@@ -94,6 +94,41 @@ public sealed class VehicleListTests(ServiceFixture fixture)
         Assert.Empty(await IdsAsync(fixture.Client(other.ReadKey), string.Empty));
     }
 
+    [Fact]
+    public async Task Issue15_one_silence_limit_for_the_list_and_the_dashboard_set_by_Alerts_SilentAfterS()
+    {
+        var fleet = await fixture.NewFleetAsync();
+        using (var ingest = fixture.Client(fleet.IngestKey))
+        {
+            foreach (var (van, i) in new[] { "van-quiet", "van-heard" }.Select((v, i) => (v, i)))
+            {
+                await ingest.IngestOkAsync(TelemetryDrive.Create(van, TelemetryDrive.StartUs(TimeSpan.FromMinutes(4)), seed: 1520 + i).Body(0, 300));
+            }
+        }
+
+        await fixture.Host.Services.GetRequiredService<FusionService.Tracking.TrackWriteQueue>().FlushAsync(CancellationToken.None);
+        // A host whose silence limit is 300 s instead of the default 120 s.
+        await using var host = new ServiceFactory(fixture.ConnectionString, new Dictionary<string, string?> { ["Alerts:SilentAfterS"] = "300" });
+        using var read = fixture.Client(fleet.ReadKey, host);
+
+        // The dashboard's settings and the list name the same limit, the one configured.
+        var settings = await read.GetFromJsonAsync<JsonElement>("/settings.json");
+        Assert.Equal(300, settings.GetProperty("silent_after_s").GetDouble());
+        var list = await read.GetFromJsonAsync<JsonElement>("/v1/vehicles");
+        Assert.Equal(300, list.GetProperty("silent_after_s").GetDouble());
+        Assert.Equal(120, (await read.GetFromJsonAsync<JsonElement>("/v1/vehicles?silent_after_s=120")).GetProperty("silent_after_s").GetDouble());
+
+        // Last heard 330 s ago: silent by the 300 s limit; 270 s ago: not yet (both would be silent by the old 120 s default).
+        await ExecuteAsync("UPDATE vehicle_receipts SET last_received_at = now() - interval '330 seconds' WHERE fleet_id = $1 AND vehicle_id = 'van-quiet'", fleet.Id);
+        await ExecuteAsync("UPDATE vehicle_receipts SET last_received_at = now() - interval '270 seconds' WHERE fleet_id = $1 AND vehicle_id = 'van-heard'", fleet.Id);
+        var byId = (await read.GetFromJsonAsync<JsonElement>("/v1/vehicles")).GetProperty("vehicles").EnumerateArray()
+            .ToDictionary(v => v.GetProperty("vehicle").GetString()!, v => v.GetProperty("status").GetString());
+        Assert.Equal("silent", byId["van-quiet"]);
+        Assert.NotEqual("silent", byId["van-heard"]);
+        Assert.Equal(["van-quiet"], await IdsAsync(read, "status=silent"));
+        Assert.Equal(["van-heard", "van-quiet"], await IdsAsync(read, "status=silent&silent_after_s=120"));
+    }
+
     [Theory]
     [InlineData("status=parked", "status:")]
     [InlineData("status=", "status:")]

@@ -1,7 +1,7 @@
 // Alerts pane: the fleet's open alerts asked from the server (state=open), the worst first, each with a plain line, the
 // numbers behind a "details" toggle, who acknowledged it and when, and a link to the van's view at the alert's time.
 import { describeError, getJson, NotAvailableError, postJson, query } from './api.js';
-import { ALERT_KIND_WORDS, clock, dateTime, duration, escapeHtml, length, num, SENSOR_WORDS, speed } from './format.js';
+import { ALERT_KIND_WORDS, clock, dateTime, duration, escapeHtml, length, num, rawValue, SENSOR_WORDS, speed } from './format.js';
 
 const SEVERITY_RANK = { critical: 3, warning: 2, info: 1 };
 const SEVERITY_WORDS = { critical: 'act now', warning: 'look soon', info: 'for maintenance' };
@@ -67,17 +67,27 @@ export function plainLine(a) {
   }
 }
 
-function detailRows(value, prefix = '') {
+/** The details as rows [path, key, value]: path names nested entries ("sensors[1]."), key is the API's own name. */
+function detailRows(value, prefix = '', key = '') {
   if (value === null || value === undefined) return [];
-  if (typeof value !== 'object') return [[prefix, value]];
+  if (typeof value !== 'object') return [[prefix, key, value]];
   if (Array.isArray(value)) {
-    return value.flatMap((v, i) => detailRows(v, `${prefix}[${i + 1}]`));
+    return value.flatMap((v, i) => (v !== null && typeof v === 'object'
+      ? detailRows(v, `${prefix}${key}[${i + 1}].`, '')
+      : detailRows(v, '', `${prefix}${key}[${i + 1}]`)));
   }
-  return Object.entries(value).flatMap(([k, v]) => detailRows(v, prefix ? `${prefix}.${k}` : k));
+  const path = key ? `${prefix}${key}.` : prefix;
+  return Object.entries(value).flatMap(([k, v]) => detailRows(v, path, k));
 }
 
-function detailValue(v) {
-  return typeof v === 'number' ? (Number.isInteger(v) ? String(v) : v.toPrecision(4).replace(/\.?0+$/, '')) : String(v);
+/**
+ * One row of the details: the value converted to the reader's units (the API keeps SI). No full-precision value goes
+ * into the markup: the list is redrawn only when its markup changes, and digits nobody sees would redraw it (and swap
+ * the Acknowledge buttons) at every poll.
+ */
+function detailRow([path, key, value]) {
+  const shown = rawValue(key, value);
+  return `<tr data-key="${escapeHtml(path + key)}"><th>${escapeHtml(path + shown.name)}</th><td>${escapeHtml(shown.text)}</td></tr>`;
 }
 
 /** Where the van's view should open for an alert: a window around it and the time to select. */
@@ -191,7 +201,7 @@ export class AlertsList {
   item(a) {
     const ack = a.acknowledged;
     const who = ack ? (ack.key_label || `key ${String(ack.key_id ?? '').slice(0, 8)}`) : '';
-    const rows = detailRows(a.details).map(([k, v]) => `<tr><th>${escapeHtml(k)}</th><td>${escapeHtml(detailValue(v))}</td></tr>`).join('');
+    const rows = detailRows(a.details).map(detailRow).join('');
     return `
       <li class="alert severity-${escapeHtml(a.severity)} state-${escapeHtml(a.state)}" data-alert-id="${escapeHtml(a.id)}"
           data-vehicle="${escapeHtml(a.vehicle)}" data-kind="${escapeHtml(a.kind)}" data-state="${escapeHtml(a.state)}"

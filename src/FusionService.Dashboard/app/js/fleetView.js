@@ -6,7 +6,6 @@ import { LocalMap } from './localMap.js';
 import { centroid, createFrame, ellipseRotationSvgDeg } from './localFrame.js';
 import { placeLabels } from './labelPlacement.js';
 import { age, axes, clock, duration, escapeHtml, num, speed } from './format.js';
-import { preferences } from './preferences.js';
 
 /** Below this speed a van counts as standing (a choice of ours: a slow walk is about 1.4 m/s). */
 export const STANDING_BELOW_MPS = 0.5;
@@ -18,8 +17,10 @@ const STATE_WORDS = { moving: 'moving', stopped: 'standing', silent: 'silent' };
 const SEVERITY_RANK = { critical: 3, warning: 2, info: 1 };
 
 /**
- * The van's condition from what the page has seen: silent when nothing new came for the reader's silence limit (by the
- * estimate's own time and by when this page last saw it advance), else moving or standing by its speed.
+ * The van's condition: silent as the service's status says (nothing received for longer than its one silence limit,
+ * judged on the server's clock), else moving or standing by its speed. Only a service that gives no status leaves the
+ * page to judge silence itself, by the same limit (from settings.json), the estimate's time and when this page last
+ * saw the van's data advance.
  */
 export function vanCondition(van, seen, nowMs, silentAfterS) {
   const estimateMs = Date.parse(van.time);
@@ -27,7 +28,8 @@ export function vanCondition(van, seen, nowMs, silentAfterS) {
   const newestMs = Number.isFinite(receivedMs) ? Math.max(receivedMs, estimateMs) : estimateMs;
   let quietS = (nowMs - newestMs) / 1000;
   if (seen?.advancedAtMs !== undefined) quietS = Math.min(quietS, (nowMs - seen.advancedAtMs) / 1000);
-  if (quietS > silentAfterS) return { state: 'silent', quietS };
+  const silent = typeof van.status === 'string' ? van.status === 'silent' : quietS > silentAfterS;
+  if (silent) return { state: 'silent', quietS };
   return { state: Math.abs(van.speed_mps) >= STANDING_BELOW_MPS ? 'moving' : 'stopped', quietS };
 }
 
@@ -48,6 +50,10 @@ export class FleetView {
     this.onOpenVan = onOpenVan;
     this.baseLayer = baseLayer;
     this.vans = [];
+    /** The service's silence limit, seconds: from each list answer, else from settings.json. */
+    this.silentAfterS = Number.isFinite(settings.silent_after_s) ? settings.silent_after_s : 120;
+    /** The fleet's vehicle_silent alert threshold, seconds (GET /v1/alert-rules), once known. */
+    this.alertAfterS = null;
     this.seen = new Map();
     this.openAlerts = new Map();
     this.frame = null;
@@ -79,10 +85,12 @@ export class FleetView {
       for (let pages = 0; pages < 100; pages++) {
         const body = await getJson(`/v1/vehicles${query({ limit: 1000, after })}`);
         vans.push(...(body.vehicles ?? []));
+        if (Number.isFinite(body.silent_after_s)) this.silentAfterS = body.silent_after_s;
         after = body.next_after ?? null;
         if (!after) break;
       }
       this.vans = vans;
+      if (this.alertAfterS === null) this.loadAlertThreshold();
       const now = Date.now();
       for (const v of this.vans) {
         const before = this.seen.get(v.vehicle);
@@ -124,8 +132,19 @@ export class FleetView {
 
   conditions() {
     const now = Date.now();
-    const { silentAfterS } = preferences();
-    return new Map(this.vans.map((v) => [v.vehicle, vanCondition(v, this.seen.get(v.vehicle), now, silentAfterS)]));
+    return new Map(this.vans.map((v) => [v.vehicle, vanCondition(v, this.seen.get(v.vehicle), now, this.silentAfterS)]));
+  }
+
+  /** Reads once when the fleet's vehicle_silent alert opens, to say it beside the silence limit (no words when unknown). */
+  async loadAlertThreshold() {
+    this.alertAfterS = undefined;
+    try {
+      const rules = await getJson('/v1/alert-rules');
+      const rule = rules?.vehicle_silent;
+      this.alertAfterS = rule && rule.enabled !== false && Number.isFinite(rule.silent_s) ? rule.silent_s : undefined;
+    } catch {
+      // Not available to this key or this service: the status line leaves the alert out.
+    }
   }
 
   draw(map) {
@@ -194,7 +213,9 @@ export class FleetView {
     status.textContent = this.vans.length === 0
       ? 'No van has a position yet. Waiting for data…'
       : `${this.vans.length} vans: ${counts.moving} moving, ${counts.stopped} standing, ${counts.silent} silent `
-        + `(nothing new for ${duration(preferences().silentAfterS)}). Newest estimate ${clock(newest)}, ${age(newest)}.`;
+        + `(nothing received for more than ${duration(this.silentAfterS)}${Number.isFinite(this.alertAfterS)
+          ? `; the fleet's alert after ${duration(this.alertAfterS)}` : ''}). Newest estimate ${clock(newest)}, ${age(newest)}.`;
+    status.dataset.silentAfterS = String(this.silentAfterS);
     const body = d3.select(this.root.querySelector('#van-table tbody'));
     const rows = body.selectAll('tr').data(this.vans, (v) => v.vehicle).join((enter) => {
       const tr = enter.append('tr').attr('data-vehicle', (v) => v.vehicle);

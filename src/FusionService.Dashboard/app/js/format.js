@@ -109,15 +109,78 @@ export function num(value, digits = 1, unit = '') {
   return (/^-0(\.0*)?$/.test(text) ? text.slice(1) : text) + (unit ? ` ${unit}` : '');
 }
 
-const FT_PER_M = 1 / 0.3048; // international foot (1959): exactly 0.3048 m
-const M_PER_MI = 1609.344; // international mile: exactly 1609.344 m
+// Conversion factors, NIST SP 811 (2008 edition), Appendix B: 1 ft = 0.3048 m exactly and 1 mi = 1609.344 m exactly
+// (international foot and mile, 1959); derived from them: 1 mi/h = 1609.344 m / 3600 s = 0.44704 m/s exactly, and
+// 1 ft/s² = 0.3048 m/s² exactly. 1 km/h = 1000 m / 3600 s = 1/3.6 m/s exactly (SI, by the definitions of km and h).
+const M_PER_FT = 0.3048;
+const FT_PER_M = 1 / M_PER_FT;
+const M_PER_MI = 1609.344;
+const MPS_PER_MPH = M_PER_MI / 3600;
+const KMH_PER_MPS = 3.6;
 
 const imperial = () => preferences().units === 'imperial';
 
 /** A speed in km/h or mph. */
 export function speed(mps, digits = 0) {
   if (!Number.isFinite(mps)) return '—';
-  return imperial() ? num((mps * 3600) / M_PER_MI, digits, 'mph') : num(mps * 3.6, digits, 'km/h');
+  return imperial() ? num(mps / MPS_PER_MPH, digits, 'mph') : num(mps * KMH_PER_MPS, digits, 'km/h');
+}
+
+/** An acceleration in m/s² or ft/s². */
+export function acceleration(mps2, digits = 2) {
+  if (!Number.isFinite(mps2)) return '—';
+  return imperial() ? num(mps2 * FT_PER_M, digits, 'ft/s²') : num(mps2, digits, 'm/s²');
+}
+
+// Raw values of the API are named by their SI unit (accuracy_m, speed_mps, accel_mps2, yaw_rate_dps, lat_deg, silent_s):
+// the suffix, the quantity's words and how it is shown in the reader's unit system (the longest suffix first).
+const RAW_SUFFIXES = [
+  ['_mps2', (v) => acceleration(v, 2)],
+  ['_mps', (v) => speed(v, 1)],
+  ['_dps', (v) => num(v, 2, '°/s')],
+  ['_deg', (v, key) => (key === 'lat_deg' || key === 'lon_deg' ? `${num(v, 6)}°` : `${num(v, 1)}°`)],
+  ['_rad', (v) => num(v, 3, 'rad')],
+  ['_m', (v) => length(v, 2)],
+  ['_s', (v) => num(v, 1, 's')],
+];
+
+/** A number of the API's details without a unit suffix: whole numbers as they are, others to 4 significant digits. */
+function plainNumber(v) {
+  return Number.isInteger(v) ? String(v) : v.toPrecision(4).replace(/(\.\d*?)0+$/, '$1').replace(/\.$/, '');
+}
+
+/**
+ * A raw value named by its API key, for display in the reader's unit system with its unit: { name, text }, e.g.
+ * ('speed_mps', 8.94) -> { name: 'speed', text: '32.2 km/h' } or '20.0 mph'; ('accuracy_m', 3) -> 'accuracy', '3.00 m'
+ * or '9.84 ft'. Keys without a known unit suffix keep their name and value. The API stays in SI; only the page converts.
+ */
+export function rawValue(key, value) {
+  const k = String(key);
+  if (typeof value === 'number' && Number.isFinite(value)) {
+    for (const [suffix, show] of RAW_SUFFIXES) {
+      if (k.endsWith(suffix) && k.length > suffix.length) {
+        return { name: k.slice(0, -suffix.length).replaceAll('_', ' '), text: show(value, k) };
+      }
+    }
+    return { name: k.replaceAll('_', ' '), text: plainNumber(value) };
+  }
+  return { name: k.replaceAll('_', ' '), text: String(value) };
+}
+
+// Units of residual components as the explanation endpoint names them (residual_units), shown as raw values are.
+const RESIDUAL_UNITS = {
+  m: (v) => length(v, 2),
+  'm/s': (v) => speed(v, 2),
+  'm/s^2': (v) => acceleration(v, 2),
+  deg: (v) => `${num(v, 2)}°`,
+  'deg/s': (v) => num(v, 2, '°/s'),
+};
+
+/** One residual component in the reader's unit system, with its unit ("1.20 ft", "0.72 km/h"). */
+export function residualValue(value, unit) {
+  if (!Number.isFinite(value)) return '—';
+  const show = RESIDUAL_UNITS[unit];
+  return show ? show(value) : `${num(value, 2)}${unit ? ` ${unit}` : ''}`;
 }
 
 /** Unit of speed() alone ("km/h" or "mph"). */

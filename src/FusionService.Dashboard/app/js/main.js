@@ -5,6 +5,7 @@ import { FleetView } from './fleetView.js';
 import { VehicleView } from './vehicleView.js';
 import { BaseLayer } from './baseLayer.js';
 import { bindPreferenceControls, onPreferencesChanged } from './preferences.js';
+import { duration } from './format.js';
 
 const $ = (selector) => document.querySelector(selector);
 
@@ -15,7 +16,7 @@ async function loadSettings() {
   } catch {
     // No settings: defaults below.
   }
-  return { tile_url_template: null, tile_attribution: null, poll_interval_ms: 1500 };
+  return { tile_url_template: null, tile_attribution: null, poll_interval_ms: 1500, silent_after_s: null };
 }
 
 function show(view) {
@@ -35,7 +36,10 @@ async function main() {
   const fleet = new FleetView($('#fleet-view'), settings, openVan, baseLayer);
   const vehicle = new VehicleView($('#vehicle-view'), settings, () => fleet.currentFrame(), baseLayer);
   const alerts = new AlertsList($('#alerts-pane'), (byVehicle) => fleet.setOpenAlerts(byVehicle));
-  bindPreferenceControls($('#pref-zone'), $('#pref-units'), $('#pref-silent'));
+  bindPreferenceControls($('#pref-zone'), $('#pref-units'));
+  const silentLimit = $('#silent-limit-value');
+  silentLimit.textContent = Number.isFinite(settings.silent_after_s) ? duration(settings.silent_after_s) : 'as the service says';
+  silentLimit.dataset.silentAfterS = String(settings.silent_after_s ?? '');
   onPreferencesChanged(() => {
     alerts.lastHtml = null;
     alerts.render();

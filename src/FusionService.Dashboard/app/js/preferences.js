@@ -1,8 +1,9 @@
-// The reader's choices, kept in this browser (localStorage): time zone (the browser's own or UTC), unit system (metric
-// or imperial) and after how long without news a van counts as silent. Every view formats through these.
+// The reader's choices, kept in this browser (localStorage): time zone (the browser's own or UTC) and unit system (metric
+// or imperial). Every view formats through these. When a van counts as silent is not a reader's choice: the service's
+// one silence limit (settings.json silent_after_s) decides it, for the page and the API alike.
 
 const STORE = 'fusionservice.preferences';
-const DEFAULTS = { zone: 'local', units: 'metric', silentAfterS: 300 };
+const DEFAULTS = { zone: 'local', units: 'metric' };
 const listeners = new Set();
 
 function load() {
@@ -11,7 +12,6 @@ function load() {
     const out = { ...DEFAULTS };
     if (saved.zone === 'local' || saved.zone === 'utc') out.zone = saved.zone;
     if (saved.units === 'metric' || saved.units === 'imperial') out.units = saved.units;
-    if (Number.isFinite(saved.silentAfterS) && saved.silentAfterS >= 5 && saved.silentAfterS <= 86400) out.silentAfterS = saved.silentAfterS;
     return out;
   } catch {
     return { ...DEFAULTS };
@@ -20,7 +20,7 @@ function load() {
 
 let current = load();
 
-/** The current choices: { zone: 'local'|'utc', units: 'metric'|'imperial', silentAfterS }. */
+/** The current choices: { zone: 'local'|'utc', units: 'metric'|'imperial' }. */
 export function preferences() {
   return current;
 }
@@ -48,25 +48,14 @@ export function localZoneName() {
   }
 }
 
-/** Wires the three controls of the top bar to the stored choices. */
-export function bindPreferenceControls(zoneSelect, unitsSelect, silentInput) {
+/** Wires the two controls of the top bar to the stored choices. */
+export function bindPreferenceControls(zoneSelect, unitsSelect) {
   const p = current;
   zoneSelect.querySelector('option[value="local"]').textContent = `this computer (${localZoneName()})`;
   zoneSelect.value = p.zone;
   unitsSelect.value = p.units;
-  silentInput.value = String(Math.round(p.silentAfterS / 60 * 10) / 10);
   document.body.dataset.zone = p.zone;
   document.body.dataset.units = p.units;
   zoneSelect.addEventListener('change', () => setPreferences({ zone: zoneSelect.value }));
   unitsSelect.addEventListener('change', () => setPreferences({ units: unitsSelect.value }));
-  silentInput.addEventListener('change', () => {
-    const minutes = Number(silentInput.value);
-    if (Number.isFinite(minutes) && minutes * 60 >= 5 && minutes * 60 <= 86400) {
-      silentInput.setCustomValidity('');
-      setPreferences({ silentAfterS: minutes * 60 });
-    } else {
-      silentInput.setCustomValidity('Between 0.1 and 1440 minutes.');
-      silentInput.reportValidity();
-    }
-  });
 }

@@ -6,8 +6,8 @@ import { LocalMap } from './localMap.js';
 import { centroid, createFrame, ellipseRotationSvgDeg } from './localFrame.js';
 import { drawNisChart } from './nisChart.js';
 import {
-  age, axes, clock, clockTenths, compassWords, dateTime, distance, duration, escapeHtml, fromPickerValue, length, num, SENSOR_WORDS, speed,
-  startOfDayMs, toPickerValue, VERDICT_WORDS, WHITENESS_WORDS, zoneLabel,
+  age, axes, clock, clockTenths, compassWords, dateTime, distance, duration, escapeHtml, fromPickerValue, length, num, rawValue,
+  residualValue, SENSOR_WORDS, speed, startOfDayMs, toPickerValue, VERDICT_WORDS, WHITENESS_WORDS, zoneLabel,
 } from './format.js';
 import { STANDING_BELOW_MPS } from './fleetView.js';
 
@@ -88,6 +88,7 @@ export class VehicleView {
       this.frame = null;
       this.selectedMs = null;
       this.window = null;
+      this.explained = null;
     }
     const fromMs = Date.parse(params.from ?? '');
     const toMs = Date.parse(params.to ?? '');
@@ -132,9 +133,10 @@ export class VehicleView {
     this.load();
   }
 
-  /** Re-draws times and units after a preference changed. */
+  /** Re-draws times and units after a preference changed (the explanation shown too, without asking for it again). */
   redraw() {
     if (!this.vehicle || !this.window) return;
+    if (this.explained) this.renderExplanation(this.explained);
     this.load();
   }
 
@@ -320,9 +322,13 @@ export class VehicleView {
     try {
       explained = await getJson(`/v1/vehicles/${v}/explain${query({ time, window_s: EXPLAIN_WINDOW_S })}`);
     } catch (error) {
+      this.explained = null;
       this.set(panel, `<p class="not-available">${escapeHtml(describeError(error, 'Explanation'))}</p>`);
     }
-    if (explained) this.renderExplanation(explained);
+    if (explained) {
+      this.explained = explained;
+      this.renderExplanation(explained);
+    }
     await this.renderOtherNis(timeMs);
   }
 
@@ -332,8 +338,11 @@ export class VehicleView {
     const rows = (e.measurements ?? []).map((m) => `
       <tr class="decision-${escapeHtml(m.decision)}">
         <td>${clockTenths(m.time)}</td><td>${escapeHtml(SENSOR_WORDS[m.sensor] ?? m.sensor)}</td>
-        <td>${escapeHtml(Object.entries(m.values ?? {}).map(([k, val]) => `${k} ${typeof val === 'number' ? val.toFixed(k.endsWith('_deg') ? 6 : 2) : val}`).join(', '))}</td>
-        <td class="n">${escapeHtml((m.residual ?? []).map((r) => r.toFixed(2)).join(', '))}</td>
+        <td class="values">${Object.entries(m.values ?? {}).map(([k, val]) => {
+          const shown = rawValue(k, val);
+          return `<span class="raw-value" data-key="${escapeHtml(k)}" data-si="${escapeHtml(String(val))}">${escapeHtml(`${shown.name} ${shown.text}`)}</span>`;
+        }).join(', ')}</td>
+        <td class="n">${escapeHtml((m.residual ?? []).map((r, i) => residualValue(r, m.residual_units?.[i])).join(', '))}</td>
         <td class="n">${num(m.nis, 2)}${m.nis_dof ? ` / ${m.nis_dof}` : ''}</td>
         <td class="n">${num(m.gate_threshold, 2)}</td>
         <td>${escapeHtml(m.decision)}</td>
