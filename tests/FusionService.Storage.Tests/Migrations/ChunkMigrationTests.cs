@@ -80,6 +80,8 @@ public sealed class ChunkMigrationTests(PostgresFixture server)
             "SELECT tableoid::regclass::text FROM measurement_chunks WHERE first_us = 1764547199999999"));
         Assert.Equal("", await schema.ScalarAsync<string>(
             "SELECT concat(to_regclass('measurement_verdicts')::text, to_regclass('measurements_p20251130')::text)"));
+        Assert.Equal("{toast_tuple_target=128}", await schema.ScalarAsync<string>(
+            "SELECT reloptions::text FROM pg_class WHERE oid = 'measurement_chunks_p20251130'::regclass"));
 
         await new PartitionMaintainer(schema.DataSource).EnsurePartitionsAsync(new DateOnly(2025, 12, 1), new DateOnly(2025, 12, 2));
         Assert.Equal("20251130,20251201,20251202", await schema.ScalarAsync<string>(DaysOf, "measurement_chunks"));

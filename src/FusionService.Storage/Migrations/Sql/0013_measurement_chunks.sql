@@ -63,6 +63,9 @@ COMMENT ON COLUMN measurement_chunks.nis IS 'Normalised innovation squared per m
 COMMENT ON COLUMN measurement_chunks.w0 IS 'First component of the whitened innovation (GNSS position: east), null when none.';
 COMMENT ON COLUMN measurement_chunks.w1 IS 'Second component of the whitened innovation (GNSS position: north), null otherwise.';
 
+-- Partitions are made with toast_tuple_target = 128 (here and by PartitionMaintainer): the arrays leave the row once it
+-- passes 128 bytes, so a verdict update copies pointers to the unchanged measurement arrays, not the arrays themselves.
+
 -- lz4 where the server was built with it (faster to read than the default pglz and the same size on the measured van-day).
 DO $$
 BEGIN
@@ -95,7 +98,7 @@ BEGIN
     LOOP
         day_start := (extract(epoch FROM to_date(substr(part.relname, length('measurements_p') + 1), 'YYYYMMDD')::timestamp
                                          AT TIME ZONE 'UTC') * 1000000)::bigint;
-        EXECUTE format('CREATE TABLE %I PARTITION OF measurement_chunks FOR VALUES FROM (%s) TO (%s)',
+        EXECUTE format('CREATE TABLE %I PARTITION OF measurement_chunks FOR VALUES FROM (%s) TO (%s) WITH (toast_tuple_target = 128)',
                        'measurement_chunks_p' || substr(part.relname, length('measurements_p') + 1),
                        day_start, day_start + 86400000000);
     END LOOP;
