@@ -19,8 +19,9 @@ namespace FusionService.Benchmarks;
 /// <summary>
 /// Stores <see cref="VanDayScenario"/> (one vehicle, about 550,000 rows) in a throwaway embedded PostgreSQL cluster by
 /// binary COPY, then times with a stopwatch (<c>./build.sh bench history-split [repeats]</c>) what the smoothed-track
-/// request does: reading the rows back into the replay's measurement list (the row-by-row reader the builder used
-/// first, and the binary COPY export it uses now), and the replay and smoothing of that list.
+/// request does: reading the rows back into the replay's measurement list (the full read with verdicts the raw track
+/// and the diagnostics use, and the replay read of values only that the smoothed track uses; both decode the vehicle's
+/// chunks), and the replay and smoothing of that list.
 /// </summary>
 internal static class HistoryReadSplit
 {
@@ -124,10 +125,10 @@ internal static class HistoryReadSplit
         }
 
         Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"read back {read.Count} measurements, {repeats} repeats"));
-        Print("row-by-row reader into the list", rowByRowMs);
-        Print("binary COPY export into the list", copyMs);
+        Print("full read with verdicts into the list", rowByRowMs);
+        Print("replay read into the list", copyMs);
         Print("replay + compacted smoother", replayMs);
-        Print("COPY export overlapped with the replay", overlappedMs);
+        Print("replay read overlapped with the replay", overlappedMs);
     }
 
     /// <summary>Room for one smoothed instant per second of the window, capped as <c>SmoothedTrackBuilder</c> caps it.</summary>

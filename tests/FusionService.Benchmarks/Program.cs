@@ -30,8 +30,10 @@ if (args.Length > 0 && string.Equals(args[0], "fleet-list", StringComparison.Ord
 
 if (args.Length > 0 && string.Equals(args[0], "storage-probe", StringComparison.Ordinal))
 {
+    // storage-probe [repeats] [service]: "service" loads only the service's own layout (a), not the probes b and c.
     await FusionService.Benchmarks.StorageProbe.StorageProbe.RunAsync(
-        args.Length > 1 ? int.Parse(args[1], System.Globalization.CultureInfo.InvariantCulture) : 5);
+        args.Length > 1 ? int.Parse(args[1], System.Globalization.CultureInfo.InvariantCulture) : 5,
+        serviceOnly: args.Length > 2 && string.Equals(args[2], "service", StringComparison.Ordinal));
     return;
 }
 

@@ -2,8 +2,8 @@ namespace FusionService.Estimation.Tracking;
 
 /// <summary>What the track did with a measurement; the one outcome type from the track to storage to replay.</summary>
 /// <remarks>
-/// The numeric values are the codes stored as <c>smallint</c> in <c>measurement_verdicts.outcome</c> and
-/// <c>measurements.outcome</c> (checked by a constraint; translated by the storage's <c>OutcomeCodes</c>): they must not
+/// The numeric values are the codes stored as <c>smallint</c> elements of <c>measurement_chunks.outcome</c> (checked by a
+/// constraint; translated by the storage's <c>OutcomeCodes</c>): they must not
 /// change. <see cref="Conflict"/> and <see cref="TrackReset"/> are never stored (the service stores them as
 /// <see cref="Unused"/> and as <see cref="Accepted"/> with the track-reset flag).
 /// </remarks>

@@ -218,7 +218,7 @@ public sealed class AlertRepository
         await using (connection.ConfigureAwait(false))
         {
             await using var command = new NpgsqlCommand(
-                "SELECT fleet_id, vehicle_id, max(received_at) FROM measurements WHERE measured_at >= $1 - interval '1 day' AND received_at >= $1 GROUP BY fleet_id, vehicle_id",
+                "SELECT fleet_id, vehicle_id, max(last_received_at) FROM vehicle_receipts WHERE last_received_at >= $1 GROUP BY fleet_id, vehicle_id",
                 connection);
             command.Parameters.Add(new NpgsqlParameter { Value = since });
             await using var reader = await command.ExecuteReaderAsync(cancellationToken).ConfigureAwait(false);

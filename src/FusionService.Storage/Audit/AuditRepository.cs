@@ -10,7 +10,7 @@ using Npgsql;
 namespace FusionService.Storage.Audit;
 
 /// <summary>
-/// Aggregates over <c>measurements</c> and <c>fused_states</c> of one vehicle in a half-open time range
+/// Aggregates over the stored measurements (<c>judged_measurements</c>) and <c>fused_states</c> of one vehicle in a half-open time range
 /// [from, to) of measurement time (Unix microseconds), for the diagnostics endpoint.
 /// </summary>
 public sealed class AuditRepository
@@ -19,13 +19,8 @@ public sealed class AuditRepository
         + "\n    AND time_us >= @FromUs AND time_us < @ToUs"
         + "\n    AND measured_at >= @FromAt AND measured_at < @ToAt\n";
 
-    // The measurements of the range, each with its latest verdict (migration 0005).
+    // The measurements of the range, each with its newest verdict (migration 0013).
     private const string Judged = "judged_measurements(@FleetId, @VehicleId, @FromUs, @ToUs, @FromAt, @ToAt)";
-
-    // One pass over the range's measurements with their verdicts: each verdict is looked up per measurement, so the
-    // diagnostics read the range once for outcome counts, NIS and resets rather than once for each.
-    private const string VerdictsSql = "SELECT kind AS Kind, time_us AS TimeUs, v0 AS V0, v1 AS V1, outcome AS Outcome, nis AS Nis, "
-        + "track_reset AS TrackReset, w0 AS W0, w1 AS W1 FROM " + Judged + " ORDER BY time_us, kind, message_key";
 
     private const string LatencySql = """
         SELECT kind AS Kind, count(*) AS Count,
@@ -33,14 +28,14 @@ public sealed class AuditRepository
                percentile_cont(0.95) WITHIN GROUP (ORDER BY latency_ms) AS P95Ms,
                percentile_cont(0.99) WITHIN GROUP (ORDER BY latency_ms) AS P99Ms
         FROM (SELECT kind, (extract(epoch FROM received_at - measured_at) * 1000)::double precision AS latency_ms
-              FROM measurements WHERE
-        """ + Range + """
+              FROM
+        """ + " " + Judged + """
         ) AS l
         GROUP BY kind
         ORDER BY kind
         """;
 
-    private const string FixTimesSql = "SELECT time_us FROM measurements WHERE " + Range + " AND kind = 0 ORDER BY time_us";
+    private const string FixTimesSql = "SELECT time_us FROM " + Judged + " WHERE kind = 0 ORDER BY time_us";
 
     private const string SpeedsSql = "SELECT time_us AS TimeUs, speed_mps AS SpeedMps FROM fused_states WHERE " + Range + " ORDER BY time_us";
 
@@ -57,17 +52,9 @@ public sealed class AuditRepository
         LIMIT 1
         """;
 
-    private const string MeasurementsSql = """
-        SELECT fleet_id AS FleetId, vehicle_id AS VehicleId, kind AS Kind, time_us AS TimeUs,
-               message_key AS MessageKey, received_at AS ReceivedAtUtc, v0 AS V0, v1 AS V1, v2 AS V2,
-               flags AS Flags, outcome AS Outcome, nis AS Nis, track_reset AS TrackReset
-        FROM judged_measurements(@FleetId, @VehicleId, @FromUs, @ToUs, @FromAt, @ToAt)
-        ORDER BY time_us, kind, message_key
-        """;
-
     private const string AnyBeforeSql = """
-        SELECT EXISTS (SELECT 1 FROM measurements
-                       WHERE fleet_id = @FleetId AND vehicle_id = @VehicleId AND time_us < @TimeUs AND measured_at < @At)
+        SELECT EXISTS (SELECT 1 FROM measurement_chunks
+                       WHERE fleet_id = @FleetId AND vehicle_id = @VehicleId AND first_us < @TimeUs)
         """;
 
     private readonly NpgsqlDataSource _dataSource;
@@ -85,8 +72,15 @@ public sealed class AuditRepository
     /// Every measurement of the range with its latest verdict, in canonical order (time, kind, message key), streamed so
     /// that a long range does not have to fit in memory.
     /// </summary>
-    public IAsyncEnumerable<VerdictSample> VerdictsAsync(Guid fleetId, string vehicleId, long fromUs, long toUs, CancellationToken cancellationToken = default) =>
-        StreamAsync<VerdictSample>(VerdictsSql, fleetId, vehicleId, fromUs, toUs, cancellationToken);
+    public async IAsyncEnumerable<VerdictSample> VerdictsAsync(
+        Guid fleetId, string vehicleId, long fromUs, long toUs, [System.Runtime.CompilerServices.EnumeratorCancellation] CancellationToken cancellationToken = default)
+    {
+        await foreach (var m in MeasurementChunkReader.ReadAsync(_dataSource, fleetId, vehicleId, fromUs, toUs, cancellationToken).ConfigureAwait(false))
+        {
+            var r = m.Row;
+            yield return new VerdictSample(r.Kind, r.TimeUs, r.V0, r.V1, r.Outcome, r.Nis, r.TrackReset, m.W0, m.W1);
+        }
+    }
 
     /// <summary>Arrival latency percentiles per sensor kind, over every stored measurement of the range.</summary>
     public Task<IReadOnlyList<LatencySummary>> LatencyAsync(Guid fleetId, string vehicleId, long fromUs, long toUs, CancellationToken cancellationToken = default) =>
@@ -96,8 +90,14 @@ public sealed class AuditRepository
     /// The measurements of the range in canonical order (time, kind, message key), streamed: a replay over hours of
     /// data then holds one row at a time.
     /// </summary>
-    public IAsyncEnumerable<MeasurementRow> MeasurementsAsync(Guid fleetId, string vehicleId, long fromUs, long toUs, CancellationToken cancellationToken = default) =>
-        StreamAsync<MeasurementRow>(MeasurementsSql, fleetId, vehicleId, fromUs, toUs, cancellationToken);
+    public async IAsyncEnumerable<MeasurementRow> MeasurementsAsync(
+        Guid fleetId, string vehicleId, long fromUs, long toUs, [System.Runtime.CompilerServices.EnumeratorCancellation] CancellationToken cancellationToken = default)
+    {
+        await foreach (var m in MeasurementChunkReader.ReadAsync(_dataSource, fleetId, vehicleId, fromUs, toUs, cancellationToken).ConfigureAwait(false))
+        {
+            yield return m.Row;
+        }
+    }
 
     /// <summary>Times of every stored GNSS position fix (whatever its outcome), ascending, Unix microseconds.</summary>
     public Task<IReadOnlyList<long>> GnssFixTimesAsync(Guid fleetId, string vehicleId, long fromUs, long toUs, CancellationToken cancellationToken = default) =>
@@ -142,27 +142,6 @@ public sealed class AuditRepository
             var rows = await connection.QueryAsync<T>(new CommandDefinition(
                 sql, TimeRangeParameters.For(fleetId, vehicleId, fromUs, toUs), cancellationToken: cancellationToken)).ConfigureAwait(false);
             return rows.AsList();
-        }
-    }
-
-    private async IAsyncEnumerable<T> StreamAsync<T>(
-        string sql, Guid fleetId, string vehicleId, long fromUs, long toUs,
-        [System.Runtime.CompilerServices.EnumeratorCancellation] CancellationToken cancellationToken)
-    {
-        ArgumentNullException.ThrowIfNull(vehicleId);
-        if (toUs <= fromUs)
-        {
-            yield break;
-        }
-
-        var connection = await _dataSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
-        await using (connection.ConfigureAwait(false))
-        {
-            var rows = connection.QueryUnbufferedAsync<T>(sql, TimeRangeParameters.For(fleetId, vehicleId, fromUs, toUs));
-            await foreach (var row in rows.WithCancellation(cancellationToken).ConfigureAwait(false))
-            {
-                yield return row;
-            }
         }
     }
 }

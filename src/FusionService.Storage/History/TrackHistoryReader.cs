@@ -1,5 +1,4 @@
 // Streaming range reads of one vehicle's stored measurements and fused states, for the track history endpoints.
-using System.Globalization;
 using System.Runtime.CompilerServices;
 using Dapper;
 using FusionService.Estimation.Time;
@@ -18,26 +17,15 @@ namespace FusionService.Storage.History;
 /// </summary>
 public sealed class TrackHistoryReader
 {
-    private const string MeasurementSql = """
-        SELECT kind, time_us, message_key, v0, v1, v2, outcome, nis, track_reset
-        FROM judged_measurements(@FleetId, @VehicleId, @FromUs, @ToUs, @FromAt, @ToAt)
-        WHERE kind >= @MinKind AND kind <= @MaxKind
-        ORDER BY time_us, kind, message_key
-        """;
-
-    // COPY takes no parameters: the numbers are formatted into the text, the vehicle id (free text) comes in through a
-    // transaction-local setting, so no caller's text is ever part of the statement.
-    private const string ReplayCopySql = """
-        COPY (
-            SELECT kind, time_us, message_key, v0, v1, v2
-            FROM measurements
-            WHERE fleet_id = '{0}'::uuid AND vehicle_id = current_setting('fusion.replay_vehicle')
-              AND time_us >= {1} AND time_us < {2}
-              AND measured_at >= '{3}'::timestamptz AND measured_at < '{4}'::timestamptz
-              AND kind >= {5} AND kind <= {6}
-              AND outcome <> {7}
-            ORDER BY time_us, kind, message_key
-        ) TO STDOUT (FORMAT BINARY)
+    // The chunks that can hold a time in [from, to): a chunk spans at most one ten-minute window (migration 0013). In
+    // order of first_us, so the windows arrive one after the other.
+    private const string ReplayChunksSql = """
+        SELECT first_us, count, array_send(time_us), array_send(kind), array_send(message_key), array_send(v0),
+               array_send(v1), array_send(v2), array_send(outcome)
+        FROM measurement_chunks
+        WHERE fleet_id = @FleetId AND vehicle_id = @VehicleId
+          AND first_us > @FromUs - 600000000 AND first_us < @ToUs AND last_us >= @FromUs
+        ORDER BY first_us, chunk_id
         """;
 
     private const string FusedSql = """
@@ -79,43 +67,12 @@ public sealed class TrackHistoryReader
         Guid fleetId, string vehicleId, long fromUs, long toUs, short minKind = 0, short maxKind = short.MaxValue,
         [EnumeratorCancellation] CancellationToken cancellationToken = default)
     {
-        ArgumentNullException.ThrowIfNull(vehicleId);
-        if (toUs <= fromUs)
+        await foreach (var m in MeasurementChunkReader.ReadAsync(_dataSource, fleetId, vehicleId, fromUs, toUs, cancellationToken).ConfigureAwait(false))
         {
-            yield break;
-        }
-
-        var connection = await _dataSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
-        await using (connection.ConfigureAwait(false))
-        {
-            var command = new NpgsqlCommand(MeasurementSql, connection);
-            await using (command.ConfigureAwait(false))
+            var r = m.Row;
+            if (r.Kind >= minKind && r.Kind <= maxKind)
             {
-                command.Parameters.AddWithValue("FleetId", fleetId);
-                command.Parameters.AddWithValue("VehicleId", vehicleId);
-                command.Parameters.AddWithValue("FromUs", fromUs);
-                command.Parameters.AddWithValue("ToUs", toUs);
-                command.Parameters.AddWithValue("FromAt", UnixMicroseconds.ToDateTimeOffset(fromUs));
-                command.Parameters.AddWithValue("ToAt", UnixMicroseconds.ToDateTimeOffset(toUs));
-                command.Parameters.AddWithValue("MinKind", minKind);
-                command.Parameters.AddWithValue("MaxKind", maxKind);
-                var reader = await command.ExecuteReaderAsync(cancellationToken).ConfigureAwait(false);
-                await using (reader.ConfigureAwait(false))
-                {
-                    while (await reader.ReadAsync(cancellationToken).ConfigureAwait(false))
-                    {
-                        yield return new StoredMeasurementValues(
-                            reader.GetInt16(0),
-                            reader.GetInt64(1),
-                            reader.GetInt64(2),
-                            reader.GetDouble(3),
-                            reader.IsDBNull(4) ? null : reader.GetDouble(4),
-                            reader.IsDBNull(5) ? null : reader.GetDouble(5),
-                            OutcomeCodes.FromCode(reader.GetInt16(6)),
-                            reader.IsDBNull(7) ? null : reader.GetDouble(7),
-                            reader.GetBoolean(8));
-                    }
-                }
+                yield return new StoredMeasurementValues(r.Kind, r.TimeUs, r.MessageKey, r.V0, r.V1, r.V2, r.Outcome, r.Nis, r.TrackReset);
             }
         }
     }
@@ -124,8 +81,8 @@ public sealed class TrackHistoryReader
     /// The measurements a replay of the filter needs (kind, time, key and values; duplicates left out) of one vehicle with
     /// <paramref name="fromUs"/> &lt;= time &lt; <paramref name="toUs"/> and <paramref name="minKind"/> &lt;= kind &lt;=
     /// <paramref name="maxKind"/>, in canonical order (time, kind, message key), handed to <paramref name="onRow"/> one by
-    /// one. Read by a binary <c>COPY ... TO STDOUT</c> decoded from the raw stream (<see cref="ReplayCopyDecoder"/>), which
-    /// costs far less per row than a data reader (see docs/benchmarks.md, smoothed track of a vehicle-day).
+    /// one. Reads the vehicle's chunks in order of their first time and sorts only within a ten-minute window that more
+    /// than one commit wrote (late or resent data), so at most one window's measurements are held at a time.
     /// </summary>
     /// <param name="fleetId">Owning fleet.</param>
     /// <param name="vehicleId">Vehicle within the fleet.</param>
@@ -134,7 +91,7 @@ public sealed class TrackHistoryReader
     /// <param name="minKind">Smallest kind code wanted.</param>
     /// <param name="maxKind">Largest kind code wanted.</param>
     /// <param name="onRow">Receives each row, in order.</param>
-    /// <param name="cancellationToken">Cancels the export.</param>
+    /// <param name="cancellationToken">Cancels the query.</param>
     /// <returns>Number of rows handed over.</returns>
     public async Task<int> ReadReplayMeasurementsAsync(
         Guid fleetId, string vehicleId, long fromUs, long toUs, short minKind, short maxKind, Action<ReplayMeasurementValues> onRow,
@@ -147,50 +104,99 @@ public sealed class TrackHistoryReader
             return 0;
         }
 
-        string sql = string.Format(
-            CultureInfo.InvariantCulture,
-            ReplayCopySql,
-            fleetId.ToString("D"),
-            fromUs,
-            toUs,
-            UnixMicroseconds.ToDateTimeUtc(fromUs).ToString("yyyy-MM-dd HH:mm:ss.ffffff+00", CultureInfo.InvariantCulture),
-            UnixMicroseconds.ToDateTimeUtc(toUs).ToString("yyyy-MM-dd HH:mm:ss.ffffff+00", CultureInfo.InvariantCulture),
-            minKind,
-            maxKind,
-            OutcomeCodes.ToCode(OutcomeKind.Duplicate));
+        short duplicate = OutcomeCodes.ToCode(OutcomeKind.Duplicate);
+        var window = new List<ReplayMeasurementValues>();
+        long currentWindow = long.MinValue;
+        int chunksInWindow = 0;
         int count = 0;
+        long[] time = [], key = [];
+        short[] kind = [], outcome = [];
+        double[] v0 = [];
+        double?[] v1 = [], v2 = [];
         var connection = await _dataSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
         await using (connection.ConfigureAwait(false))
         {
-            var transaction = await connection.BeginTransactionAsync(cancellationToken).ConfigureAwait(false);
-            await using (transaction.ConfigureAwait(false))
+            var command = new NpgsqlCommand(ReplayChunksSql, connection);
+            await using (command.ConfigureAwait(false))
             {
-                // The rows must stream in index order as the scan finds them (the replay starts on the first ones). Once
-                // ANALYZE knows that one vehicle's window is much of a partition (a small fleet, a long window), the planner
-                // prefers a parallel sequential scan with a sort spilled to disk: about twice the CPU, and no row before the
-                // sort ends. The settings below, local to this transaction, leave it the ordered index scan.
-                var setting = new NpgsqlCommand(
-                    "SELECT set_config('fusion.replay_vehicle', @VehicleId, true), set_config('enable_seqscan', 'off', true), "
-                    + "set_config('enable_bitmapscan', 'off', true), set_config('max_parallel_workers_per_gather', '0', true)",
-                    connection,
-                    transaction);
-                await using (setting.ConfigureAwait(false))
+                command.Parameters.AddWithValue("FleetId", fleetId);
+                command.Parameters.AddWithValue("VehicleId", vehicleId);
+                command.Parameters.AddWithValue("FromUs", fromUs);
+                command.Parameters.AddWithValue("ToUs", toUs);
+                var reader = await command.ExecuteReaderAsync(cancellationToken).ConfigureAwait(false);
+                await using (reader.ConfigureAwait(false))
                 {
-                    setting.Parameters.AddWithValue("VehicleId", vehicleId);
-                    await setting.ExecuteNonQueryAsync(cancellationToken).ConfigureAwait(false);
-                }
+                    while (await reader.ReadAsync(cancellationToken).ConfigureAwait(false))
+                    {
+                        long chunkWindow = MeasurementChunks.WindowOf(reader.GetInt64(0));
+                        if (chunkWindow != currentWindow)
+                        {
+                            count += Flush(window, chunksInWindow, onRow);
+                            currentWindow = chunkWindow;
+                            chunksInWindow = 0;
+                        }
 
-                var copy = await connection.BeginRawBinaryCopyAsync(sql, cancellationToken).ConfigureAwait(false);
-                await using (copy.ConfigureAwait(false))
-                {
-                    count = await new ReplayCopyDecoder(copy).DecodeAsync(onRow, cancellationToken).ConfigureAwait(false);
-                }
+                        chunksInWindow++;
+                        int n = reader.GetInt32(1);
+                        if (time.Length < n)
+                        {
+                            time = new long[n];
+                            kind = new short[n];
+                            key = new long[n];
+                            v0 = new double[n];
+                            v1 = new double?[n];
+                            v2 = new double?[n];
+                            outcome = new short[n];
+                        }
 
-                await transaction.CommitAsync(cancellationToken).ConfigureAwait(false);
+                        ArraySendDecoder.Int64(reader.GetFieldValue<byte[]>(2), time.AsSpan(0, n));
+                        ArraySendDecoder.Int16(reader.GetFieldValue<byte[]>(3), kind.AsSpan(0, n));
+                        ArraySendDecoder.Int64(reader.GetFieldValue<byte[]>(4), key.AsSpan(0, n));
+                        ArraySendDecoder.Float64(reader.GetFieldValue<byte[]>(5), v0.AsSpan(0, n));
+                        ArraySendDecoder.NullableFloat64(reader.GetFieldValue<byte[]>(6), v1.AsSpan(0, n));
+                        ArraySendDecoder.NullableFloat64(reader.GetFieldValue<byte[]>(7), v2.AsSpan(0, n));
+                        ArraySendDecoder.Int16(reader.GetFieldValue<byte[]>(8), outcome.AsSpan(0, n));
+                        for (int i = 0; i < n; i++)
+                        {
+                            if (time[i] >= fromUs && time[i] < toUs && kind[i] >= minKind && kind[i] <= maxKind && outcome[i] != duplicate)
+                            {
+                                window.Add(new ReplayMeasurementValues(kind[i], time[i], key[i], v0[i], v1[i], v2[i]));
+                            }
+                        }
+                    }
+                }
             }
         }
 
-        return count;
+        return count + Flush(window, chunksInWindow, onRow);
+    }
+
+    // Hands over one window's measurements in canonical order; they are sorted already when one chunk holds them all.
+    private static int Flush(List<ReplayMeasurementValues> window, int chunks, Action<ReplayMeasurementValues> onRow)
+    {
+        if (chunks > 1)
+        {
+            window.Sort(static (a, b) =>
+            {
+                int c = a.TimeUs.CompareTo(b.TimeUs);
+                if (c != 0)
+                {
+                    return c;
+                }
+
+                c = a.Kind.CompareTo(b.Kind);
+                return c != 0 ? c : a.MessageKey.CompareTo(b.MessageKey);
+            });
+        }
+
+        foreach (var row in window)
+        {
+            onRow(row);
+        }
+
+        int n = window.Count;
+        window.Clear();
+        return n;
     }
 
     /// <summary>Fused states of one vehicle with <paramref name="fromUs"/> &lt;= time &lt; <paramref name="toUs"/>, in time order.</summary>

@@ -1,38 +1,45 @@
-// Idempotent bulk insert: binary COPY into a staging table, then INSERT ... ON CONFLICT DO NOTHING RETURNING.
+// Idempotent bulk insert of measurements into per-vehicle chunks: keys already stored are left out.
 using FusionService.Estimation.Time;
-using FusionService.Storage.Bulk;
 using Npgsql;
 using NpgsqlTypes;
 
 namespace FusionService.Storage.Measurements;
 
 /// <summary>
-/// Stores measurements that may already be stored (client retries) and says which rows were new. Optimistic path
-/// first: the rows (made unique in memory) go straight into <c>measurements</c> with binary COPY inside a savepoint,
-/// which is the fastest bulk path and succeeds whenever no row is stored yet, the common case. When the primary key
-/// refuses a row (SQLSTATE 23505), the savepoint is rolled back and the careful path runs: binary COPY into a
-/// temporary staging table and <c>INSERT INTO measurements SELECT ... ON CONFLICT DO NOTHING RETURNING</c>. The
-/// vehicles the rows name are created when missing. Because the primary key decides, duplicate detection survives
-/// restarts of the service.
+/// Stores measurements that may already be stored (client retries) and says which rows were new. The rows of each
+/// vehicle are checked against the keys of the chunks their time range can touch (migration 0013: a chunk spans at most
+/// one aligned ten-minute window), under a transaction-scoped advisory lock per vehicle so that two commits of one
+/// vehicle cannot both store the same message; the new rows are then written as chunks with one binary COPY. The
+/// vehicles the rows name are created when missing. Because the stored keys decide, duplicate detection survives
+/// restarts of the service and works across the processes of a cluster.
 /// </summary>
 public static class MeasurementIngest
 {
-    private const string CreateStaging =
-        "CREATE TEMP TABLE IF NOT EXISTS ingest_staging (LIKE measurements INCLUDING DEFAULTS) ON COMMIT DELETE ROWS";
-
-    private const string Copy =
-        "COPY ingest_staging (fleet_id, vehicle_id, kind, time_us, measured_at, message_key, received_at, "
-        + "v0, v1, v2, flags, outcome, nis, track_reset) FROM STDIN (FORMAT BINARY)";
-
-    // Both vehicle inserts take their rows in one order (fleet, then the id's bytes): two transactions that create the
-    // same new vehicles then wait for each other instead of each holding one and waiting for the other (a deadlock).
-    private const string InsertVehicles =
-        "INSERT INTO vehicles (fleet_id, vehicle_id) SELECT f, v FROM (SELECT DISTINCT fleet_id AS f, vehicle_id AS v FROM ingest_staging) AS d "
-        + "ORDER BY f, v COLLATE \"C\" ON CONFLICT DO NOTHING";
-
+    // Both vehicle inserts and the vehicle locks take their rows in one order (fleet, then the id's bytes): two
+    // transactions that touch the same vehicles then wait for each other instead of each holding one and waiting for the
+    // other (a deadlock).
     private const string InsertVehiclesFromArrays =
         "INSERT INTO vehicles (fleet_id, vehicle_id) SELECT f, v FROM unnest($1::uuid[], $2::text[]) AS u(f, v) "
         + "ORDER BY f, v COLLATE \"C\" ON CONFLICT DO NOTHING";
+
+    // One transaction-scoped lock per vehicle (a 64-bit hash of fleet and vehicle; a collision only serialises two
+    // vehicles' commits), taken in one global order. The volatile lock function runs after the sort.
+    private const string LockVehicles =
+        "SELECT pg_advisory_xact_lock(h) FROM (SELECT DISTINCT hashtextextended(f::text || '/' || v, 1613) AS h "
+        + "FROM unnest($1::uuid[], $2::text[]) AS u(f, v)) AS k ORDER BY h";
+
+    // The stored keys of each vehicle within [lo, hi] of measurement time: the chunks that can hold such a time are those
+    // with last_us >= lo (index measurement_chunks_last) and first_us in (lo - 600 s, hi] (a chunk spans at most 600 s;
+    // this bound prunes the daily partitions).
+    private const string StoredKeys = """
+        SELECT r.f, r.v, u.kind, u.time_us, u.message_key
+        FROM unnest($1::uuid[], $2::text[], $3::bigint[], $4::bigint[]) AS r(f, v, lo, hi)
+        JOIN measurement_chunks c ON c.fleet_id = r.f AND c.vehicle_id = r.v
+             AND c.first_us > r.lo - 600000000 AND c.first_us <= r.hi
+             AND c.last_us >= r.lo AND c.last_us < (r.hi / 600000000 + 1) * 600000000
+        CROSS JOIN LATERAL unnest(c.time_us, c.kind, c.message_key) AS u(time_us, kind, message_key)
+        WHERE u.time_us >= r.lo AND u.time_us <= r.hi
+        """;
 
     // The newest receipt per vehicle and sensor kind (vehicle_receipts, read by the fleet list), in the order of the
     // vehicle inserts for the same reason; never moves a time backwards.
@@ -42,12 +49,6 @@ public static class MeasurementIngest
         + "ORDER BY f, v COLLATE \"C\", k "
         + "ON CONFLICT (fleet_id, vehicle_id, kind) DO UPDATE SET last_received_at = GREATEST(r.last_received_at, EXCLUDED.last_received_at), "
         + "last_measured_at = GREATEST(r.last_measured_at, EXCLUDED.last_measured_at)";
-
-    private const string UniqueViolation = "23505";
-
-    private const string InsertNew =
-        "INSERT INTO measurements SELECT * FROM ingest_staging ON CONFLICT DO NOTHING "
-        + "RETURNING fleet_id, vehicle_id, kind, time_us, message_key";
 
     /// <summary>
     /// Stores the rows not stored yet, inside <paramref name="transaction"/> (the caller commits), and returns the
@@ -75,6 +76,7 @@ public static class MeasurementIngest
         }
 
         var unique = new List<MeasurementRow>(rows.Count);
+        var ranges = new Dictionary<(Guid FleetId, string VehicleId), (long Lo, long Hi)>();
         foreach (var row in rows)
         {
             if (row.ReceivedAtUtc.Kind != DateTimeKind.Utc || string.IsNullOrEmpty(row.VehicleId))
@@ -85,65 +87,76 @@ public static class MeasurementIngest
             if (inserted.Add(MeasurementKey.Of(row)))
             {
                 unique.Add(row);
+                var vehicle = (row.FleetId, row.VehicleId);
+                ranges[vehicle] = ranges.TryGetValue(vehicle, out var r)
+                    ? (Math.Min(r.Lo, row.TimeUs), Math.Max(r.Hi, row.TimeUs))
+                    : (row.TimeUs, row.TimeUs);
             }
         }
 
-        await transaction.SaveAsync("optimistic_copy", cancellationToken).ConfigureAwait(false);
-        try
+        var vehicles = ranges.Keys.ToArray();
+        var fleets = vehicles.Select(v => v.FleetId).ToArray();
+        var ids = vehicles.Select(v => v.VehicleId).ToArray();
+        var batch = new NpgsqlBatch(connection, transaction);
+        await using (batch.ConfigureAwait(false))
         {
-            await InsertVehiclesAsync(connection, transaction, unique, cancellationToken).ConfigureAwait(false);
-            await MeasurementWriter.WriteAsync(connection, transaction, unique, cancellationToken).ConfigureAwait(false);
-            await transaction.ReleaseAsync("optimistic_copy", cancellationToken).ConfigureAwait(false);
-            await RecordReceiptsAsync(connection, transaction, unique, cancellationToken).ConfigureAwait(false);
-            return inserted;
-        }
-        catch (PostgresException ex) when (ex.SqlState == UniqueViolation)
-        {
-            await transaction.RollbackAsync("optimistic_copy", cancellationToken).ConfigureAwait(false);
-            inserted.Clear();
-        }
-
-        await using (var create = new NpgsqlCommand(CreateStaging, connection, transaction))
-        {
-            await create.ExecuteNonQueryAsync(cancellationToken).ConfigureAwait(false);
-        }
-
-        var importer = await connection.BeginBinaryImportAsync(Copy, cancellationToken).ConfigureAwait(false);
-        await using (importer.ConfigureAwait(false))
-        {
-            foreach (var row in unique)
-            {
-                await MeasurementWriter.WriteRowAsync(importer, row, cancellationToken).ConfigureAwait(false);
-            }
-
-            await importer.CompleteAsync(cancellationToken).ConfigureAwait(false);
-        }
-
-        await using (var vehicles = new NpgsqlCommand(InsertVehicles, connection, transaction))
-        {
-            await vehicles.ExecuteNonQueryAsync(cancellationToken).ConfigureAwait(false);
-        }
-
-        await using (var insert = new NpgsqlCommand(InsertNew, connection, transaction))
-        {
-            var reader = await insert.ExecuteReaderAsync(cancellationToken).ConfigureAwait(false);
+            batch.BatchCommands.Add(Command(InsertVehiclesFromArrays, Uuids(fleets), Texts(ids)));
+            batch.BatchCommands.Add(Command(LockVehicles, Uuids(fleets), Texts(ids)));
+            batch.BatchCommands.Add(Command(MeasurementVerdictWriter.PlannerSql));
+            batch.BatchCommands.Add(Command(
+                StoredKeys,
+                Uuids(fleets),
+                Texts(ids),
+                Bigints(vehicles.Select(v => ranges[v].Lo).ToArray()),
+                Bigints(vehicles.Select(v => ranges[v].Hi).ToArray())));
+            var reader = await batch.ExecuteReaderAsync(cancellationToken).ConfigureAwait(false);
             await using (reader.ConfigureAwait(false))
             {
-                while (await reader.ReadAsync(cancellationToken).ConfigureAwait(false))
+                // The stored keys are the only result with five columns (the lock statement returns one void column, the
+                // planner settings three: the key lookup keeps to the indexes, as the verdict writer's does).
+                do
                 {
-                    inserted.Add(new MeasurementKey(
-                        reader.GetGuid(0), reader.GetString(1), reader.GetInt16(2), reader.GetInt64(3), reader.GetInt64(4)));
+                    if (reader.FieldCount != 5)
+                    {
+                        continue;
+                    }
+
+                    while (await reader.ReadAsync(cancellationToken).ConfigureAwait(false))
+                    {
+                        inserted.Remove(new MeasurementKey(
+                            reader.GetGuid(0), reader.GetString(1), reader.GetInt16(2), reader.GetInt64(3), reader.GetInt64(4)));
+                    }
                 }
+                while (await reader.NextResultAsync(cancellationToken).ConfigureAwait(false));
             }
         }
 
-        await RecordReceiptsAsync(connection, transaction, unique, cancellationToken).ConfigureAwait(false);
+        if (inserted.Count < unique.Count)
+        {
+            unique.RemoveAll(r => !inserted.Contains(MeasurementKey.Of(r)));
+        }
+
+        await MeasurementChunks.CopyAsync(connection, unique, cancellationToken).ConfigureAwait(false);
+        await RecordReceiptsAsync(connection, transaction, rows, cancellationToken).ConfigureAwait(false);
         return inserted;
     }
 
+    private static NpgsqlBatchCommand Command(string sql, params NpgsqlParameter[] parameters)
+    {
+        var command = new NpgsqlBatchCommand(sql);
+        command.Parameters.AddRange(parameters);
+        return command;
+    }
+
+    private static NpgsqlParameter Uuids(Guid[] values) => new() { Value = values, NpgsqlDbType = NpgsqlDbType.Array | NpgsqlDbType.Uuid };
+
+    private static NpgsqlParameter Texts(string[] values) => new() { Value = values, NpgsqlDbType = NpgsqlDbType.Array | NpgsqlDbType.Text };
+
+    private static NpgsqlParameter Bigints(long[] values) => new() { Value = values, NpgsqlDbType = NpgsqlDbType.Array | NpgsqlDbType.Bigint };
+
     // Every received row counts, a duplicate of a stored one too: the vehicle was heard from.
     private static async Task RecordReceiptsAsync(
-        NpgsqlConnection connection, NpgsqlTransaction transaction, List<MeasurementRow> rows, CancellationToken cancellationToken)
+        NpgsqlConnection connection, NpgsqlTransaction transaction, IReadOnlyList<MeasurementRow> rows, CancellationToken cancellationToken)
     {
         var newest = new Dictionary<(Guid FleetId, string VehicleId, short Kind), (DateTime ReceivedAt, long TimeUs)>();
         foreach (var row in rows)
@@ -161,20 +174,5 @@ public static class MeasurementIngest
         upsert.Parameters.Add(new NpgsqlParameter { Value = newest.Values.Select(v => v.ReceivedAt).ToArray(), NpgsqlDbType = NpgsqlDbType.Array | NpgsqlDbType.TimestampTz });
         upsert.Parameters.Add(new NpgsqlParameter { Value = newest.Values.Select(v => UnixMicroseconds.ToDateTimeUtc(v.TimeUs)).ToArray(), NpgsqlDbType = NpgsqlDbType.Array | NpgsqlDbType.TimestampTz });
         await upsert.ExecuteNonQueryAsync(cancellationToken).ConfigureAwait(false);
-    }
-
-    private static async Task InsertVehiclesAsync(
-        NpgsqlConnection connection, NpgsqlTransaction transaction, List<MeasurementRow> rows, CancellationToken cancellationToken)
-    {
-        var vehicles = new HashSet<(Guid FleetId, string VehicleId)>();
-        foreach (var row in rows)
-        {
-            vehicles.Add((row.FleetId, row.VehicleId));
-        }
-
-        await using var insert = new NpgsqlCommand(InsertVehiclesFromArrays, connection, transaction);
-        insert.Parameters.Add(new NpgsqlParameter { Value = vehicles.Select(v => v.FleetId).ToArray(), NpgsqlDbType = NpgsqlDbType.Array | NpgsqlDbType.Uuid });
-        insert.Parameters.Add(new NpgsqlParameter { Value = vehicles.Select(v => v.VehicleId).ToArray(), NpgsqlDbType = NpgsqlDbType.Array | NpgsqlDbType.Text });
-        await insert.ExecuteNonQueryAsync(cancellationToken).ConfigureAwait(false);
     }
 }

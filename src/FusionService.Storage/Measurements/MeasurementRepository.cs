@@ -1,12 +1,11 @@
 // Reads of the measurement log.
 using Dapper;
-using FusionService.Estimation.Time;
 using FusionService.Storage.Time;
 using Npgsql;
 
 namespace FusionService.Storage.Measurements;
 
-/// <summary>Queries on <c>measurements</c>, each row with its latest verdict (<c>judged_measurements</c>).</summary>
+/// <summary>Queries on the stored measurements, each with its newest verdict (<c>judged_measurements</c>, migration 0013).</summary>
 /// <param name="dataSource">Data source whose connections have the store's schema on their search path
 /// (see <see cref="Schemas.StorageSchema.WithSearchPath"/>).</param>
 public sealed class MeasurementRepository(NpgsqlDataSource dataSource)
@@ -19,33 +18,24 @@ public sealed class MeasurementRepository(NpgsqlDataSource dataSource)
         ORDER BY time_us, kind, message_key
         """;
 
-    // Stored rows among the given keys that no verdict has judged yet (measured_at is given for partition pruning).
+    // Stored rows among the given keys whose verdict is still pending: each key looked up in the chunks of its instant.
     private const string PendingSql = """
-        SELECT m.fleet_id, m.vehicle_id, m.kind, m.time_us, m.message_key
-        FROM unnest($1::uuid[], $2::text[], $3::smallint[], $4::bigint[], $5::bigint[], $6::timestamptz[])
-             AS k(fleet_id, vehicle_id, kind, time_us, message_key, measured_at)
-        JOIN measurements m ON m.fleet_id = k.fleet_id AND m.vehicle_id = k.vehicle_id AND m.kind = k.kind
-             AND m.time_us = k.time_us AND m.message_key = k.message_key AND m.measured_at = k.measured_at
-        WHERE m.outcome = 4
-          AND NOT EXISTS (
-              SELECT 1 FROM measurement_verdicts d
-              WHERE d.fleet_id = m.fleet_id AND d.vehicle_id = m.vehicle_id AND d.time_us = m.time_us
-                AND d.kind = m.kind AND d.message_key = m.message_key AND d.measured_at = m.measured_at)
+        SELECT k.fleet_id, k.vehicle_id, k.kind, k.time_us, k.message_key
+        FROM unnest($1::uuid[], $2::text[], $3::smallint[], $4::bigint[], $5::bigint[])
+             AS k(fleet_id, vehicle_id, kind, time_us, message_key)
+        WHERE EXISTS (
+            SELECT 1 FROM judged_measurements(k.fleet_id, k.vehicle_id, k.time_us, k.time_us + 1, NULL, NULL) j
+            WHERE j.kind = k.kind AND j.message_key = k.message_key AND j.outcome = 4)
         """;
 
-    // One vehicle's stored rows in a time range that no verdict has judged yet: an anti-join of two index ranges.
+    // One vehicle's stored rows in a time range that no verdict has judged yet.
     private const string PendingRangeSql = """
-        SELECT m.fleet_id AS FleetId, m.vehicle_id AS VehicleId, m.kind AS Kind, m.time_us AS TimeUs,
-               m.message_key AS MessageKey, m.received_at AS ReceivedAtUtc, m.v0 AS V0, m.v1 AS V1, m.v2 AS V2,
-               m.flags AS Flags, m.outcome AS Outcome, m.nis AS Nis, m.track_reset AS TrackReset
-        FROM measurements m
-        WHERE m.fleet_id = @FleetId AND m.vehicle_id = @VehicleId AND m.time_us >= @FromUs AND m.time_us < @ToUs
-          AND m.measured_at >= @FromAt AND m.measured_at < @ToAt AND m.outcome = 4
-          AND NOT EXISTS (
-              SELECT 1 FROM measurement_verdicts d
-              WHERE d.fleet_id = m.fleet_id AND d.vehicle_id = m.vehicle_id AND d.time_us = m.time_us
-                AND d.kind = m.kind AND d.message_key = m.message_key AND d.measured_at = m.measured_at)
-        ORDER BY m.time_us, m.kind, m.message_key
+        SELECT fleet_id AS FleetId, vehicle_id AS VehicleId, kind AS Kind, time_us AS TimeUs,
+               message_key AS MessageKey, received_at AS ReceivedAtUtc, v0 AS V0, v1 AS V1, v2 AS V2,
+               flags AS Flags, outcome AS Outcome, nis AS Nis, track_reset AS TrackReset
+        FROM judged_measurements(@FleetId, @VehicleId, @FromUs, @ToUs, @FromAt, @ToAt)
+        WHERE outcome = 4
+        ORDER BY time_us, kind, message_key
         """;
 
     private readonly NpgsqlDataSource _dataSource = dataSource ?? throw new ArgumentNullException(nameof(dataSource));
@@ -176,7 +166,6 @@ public sealed class MeasurementRepository(NpgsqlDataSource dataSource)
             command.Parameters.Add(new NpgsqlParameter { Value = keys.Select(k => k.Kind).ToArray() });
             command.Parameters.Add(new NpgsqlParameter { Value = keys.Select(k => k.TimeUs).ToArray() });
             command.Parameters.Add(new NpgsqlParameter { Value = keys.Select(k => k.MessageKey).ToArray() });
-            command.Parameters.Add(new NpgsqlParameter { Value = keys.Select(k => UnixMicroseconds.ToDateTimeUtc(k.TimeUs)).ToArray() });
             var reader = await command.ExecuteReaderAsync(cancellationToken).ConfigureAwait(false);
             await using (reader.ConfigureAwait(false))
             {

@@ -4,7 +4,7 @@ using FusionService.Estimation.Tracking;
 namespace FusionService.Storage.Measurements;
 
 /// <summary>
-/// Stored codes (<c>smallint</c> in <c>measurement_verdicts.outcome</c> and <c>measurements.outcome</c>) of the core's
+/// Stored codes (<c>smallint</c> elements of <c>measurement_chunks.outcome</c>) of the core's
 /// <see cref="OutcomeKind"/>: 0 accepted, 1 gated, 2 too late, 3 duplicate, 4 pending, 5 initialising, 6 before start
 /// (migration 0002), 7 unused (0002), 8 unusable (0010). The codes are part of the schema and equal the enum's values,
 /// so row types read by Dapper carry <see cref="OutcomeKind"/> directly; writers and readers by hand go through here.

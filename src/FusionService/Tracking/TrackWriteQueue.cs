@@ -10,7 +10,7 @@ namespace FusionService.Tracking;
 
 /// <summary>
 /// Collects fused states and outcome updates from the track grains and writes them in bulk every
-/// <see cref="TrackGrainOptions.FlushIntervalMs"/> (verdicts appended to the verdict log by binary COPY, fused states
+/// <see cref="TrackGrainOptions.FlushIntervalMs"/> (verdicts written into their measurements' chunks, fused states
 /// through a staging table and one upsert).
 /// Grains never wait here (a grain call that waits can outlive Orleans' response timeout and have later calls
 /// dropped); the bound is kept one step earlier: the <see cref="TrackDispatcher"/> waits in
@@ -186,7 +186,7 @@ public sealed class TrackWriteQueue : BackgroundService
     {
         if (_outcomes.Count > 0)
         {
-            await MeasurementVerdictLog.AppendAsync(_database.DataSource, _outcomes, cancellationToken).ConfigureAwait(false);
+            await MeasurementVerdictWriter.WriteAsync(_database.DataSource, _outcomes, cancellationToken).ConfigureAwait(false);
             Written(_outcomes.Count);
             _outcomes.Clear();
         }

@@ -28,7 +28,7 @@ internal static class StorageProbe
     private const string Vehicle = "van-day";
     private const string UniqueViolation = "23505";
 
-    public static async Task RunAsync(int repeats)
+    public static async Task RunAsync(int repeats, bool serviceOnly = false)
     {
         var fleet = Guid.NewGuid();
         var sw = Stopwatch.StartNew();
@@ -42,16 +42,17 @@ internal static class StorageProbe
             Say($"server: {await ScalarAsync<string>(c, "SELECT version()")}; lz4: {await ScalarAsync<string>(c, "SELECT CASE WHEN EXISTS (SELECT 1 FROM pg_settings WHERE name = 'default_toast_compression' AND 'lz4' = ANY(enumvals)) THEN 'available' ELSE 'not built in' END")}");
         }
 
-        var results = new List<string>
+        var results = new List<string> { await TodayAsync(cluster, day, fleet, repeats) };
+        if (!serviceOnly)
         {
-            await TodayAsync(cluster, day, fleet, repeats),
-            await CompactAsync(cluster, day, fleet, repeats),
-            await ChunksAsync(cluster, day, fleet, repeats, perMinute: false, "lz4"),
-            await ChunksAsync(cluster, day, fleet, repeats, perMinute: false, "pglz"),
-            await ChunksAsync(cluster, day, fleet, repeats, perMinute: true, "none"),
-            await ChunksAsync(cluster, day, fleet, repeats, perMinute: true, "pglz"),
-            await ChunksAsync(cluster, day, fleet, repeats, perMinute: true, "lz4"),
-        };
+            results.Add(await CompactAsync(cluster, day, fleet, repeats));
+            results.Add(await ChunksAsync(cluster, day, fleet, repeats, perMinute: false, "lz4"));
+            results.Add(await ChunksAsync(cluster, day, fleet, repeats, perMinute: false, "pglz"));
+            results.Add(await ChunksAsync(cluster, day, fleet, repeats, perMinute: true, "none"));
+            results.Add(await ChunksAsync(cluster, day, fleet, repeats, perMinute: true, "pglz"));
+            results.Add(await ChunksAsync(cluster, day, fleet, repeats, perMinute: true, "lz4"));
+        }
+
         Say($"");
         Say($"{"layout",-34} {"B/meas",7} {"load s",7} {"meas/s",8} {"read best",10} {"read median",12}");
         foreach (string line in results)
@@ -60,7 +61,7 @@ internal static class StorageProbe
         }
     }
 
-    // a: the service's migrations as they are, its ingest (MeasurementIngest), verdict log and fused-state writer.
+    // a: the service's migrations as they are, its ingest (MeasurementIngest), verdict writer and fused-state writer.
     private static async Task<string> TodayAsync(EmbeddedPostgres cluster, StorageProbeDay day, Guid fleet, int repeats)
     {
         const string schema = "probe_today";
@@ -85,14 +86,14 @@ internal static class StorageProbe
             {
                 var inserted = await MeasurementIngest.InsertNewAsync(connection, tx, rows);
                 await tx.CommitAsync();
-                Check(inserted.Count == d.Fresh.Length, "today: ingest stored another count than the fresh rows");
+                Check(inserted.Count == d.Fresh.Length, "service: ingest stored another count than the fresh rows");
             }
 
             split[0] += Stopwatch.GetElapsedTime(t).TotalSeconds;
             t = Stopwatch.GetTimestamp();
             if (d.Judged.Length > 0)
             {
-                await MeasurementVerdictLog.AppendAsync(dataSource, [.. d.Judged.Select(i => day.Verdicts[i])]);
+                await MeasurementVerdictWriter.WriteAsync(dataSource, [.. d.Judged.Select(i => day.Verdicts[i])]);
             }
 
             split[1] += Stopwatch.GetElapsedTime(t).TotalSeconds;
@@ -106,7 +107,7 @@ internal static class StorageProbe
         }
 
         double loadS = sw.Elapsed.TotalSeconds;
-        Say($"a today: ingest {split[0]:F1} s, verdict log {split[1]:F1} s, fused states {split[2]:F1} s");
+        Say($"a service: ingest {split[0]:F1} s, verdict writes {split[1]:F1} s, fused states {split[2]:F1} s");
         var reader = new TrackHistoryReader(dataSource);
         long fromUs = day.Measurements[0].TimeUs;
         long toUs = day.Measurements[^1].TimeUs + 1;
@@ -116,7 +117,7 @@ internal static class StorageProbe
             await reader.ReadReplayMeasurementsAsync(fleet, Vehicle, fromUs, toUs, 0, (short)SensorKind.Imu, s => list.Add(MeasurementRows.ToMeasurement(s)));
             return list;
         });
-        return await ReportAsync(connection, schema, "a today (service migrations)", day, loadS, times);
+        return await ReportAsync(connection, schema, "a service (its migrations)", day, loadS, times);
     }
 
     // b: int surrogate key, time_us the only time column and the partition key, the verdict as columns of the row.

@@ -43,8 +43,7 @@ public sealed class MeasurementIngestTests(PostgresFixture server)
         long t = TestTimes.At(TestTimes.Day, 9, 0, 0, 0);
         var first = await InsertAsync(schema, [Row(fleet, "van-1", t, 1), Row(fleet, "van-1", t, 2), Row(fleet, "van-2", t, 1)]);
         Assert.Equal(3, first.Count);
-        // A retry of one stored row beside a new one, and the same new row twice in one call: the optimistic COPY
-        // (first call) succeeds, the second call falls back to the staging path.
+        // A retry of one stored row beside a new one, and the same new row twice in one call.
         var second = await InsertAsync(schema, [Row(fleet, "van-1", t, 2), Row(fleet, "van-1", t + 1, 3), Row(fleet, "van-1", t + 1, 3)]);
         Assert.Equal([new MeasurementKey(fleet, "van-1", 2, t + 1, 3)], second);
         Assert.Equal(4L, await schema.ScalarAsync<long>("SELECT count(*) FROM measurements"));
@@ -66,7 +65,7 @@ public sealed class MeasurementIngestTests(PostgresFixture server)
     }
 
     [Fact]
-    public async Task Verdicts_are_appended_and_the_latest_of_a_measurement_is_the_one_read()
+    public async Task Verdicts_are_written_in_place_and_the_newest_of_a_measurement_is_the_one_read()
     {
         var (schema, fleet) = await NewStoreAsync();
         await using var _ = schema;
@@ -74,23 +73,26 @@ public sealed class MeasurementIngestTests(PostgresFixture server)
         await InsertAsync(schema, [Row(fleet, "van-1", t, 1), Row(fleet, "van-1", t, 2), Row(fleet, "van-1", t, 3)]);
         var k1 = new MeasurementKey(fleet, "van-1", 2, t, 1);
         var k2 = new MeasurementKey(fleet, "van-1", 2, t, 2);
-        Assert.Equal(2, await MeasurementVerdictLog.AppendAsync(schema.DataSource,
+        Assert.Equal(2, await MeasurementVerdictWriter.WriteAsync(schema.DataSource,
         [
             new(k1, OutcomeKind.Gated, 12.5, false),
             new(k2, OutcomeKind.Initialising, null, false),
             new(k1, OutcomeKind.Accepted, 0.75, true),
         ]));
 
-        // A later flush re-judges k2 (as a replay after late data would): a new row, not an update.
-        Assert.Equal(1, await MeasurementVerdictLog.AppendAsync(schema.DataSource, [new(k2, OutcomeKind.Accepted, 2.25, false)]));
-        Assert.Equal(3L, await schema.ScalarAsync<long>("SELECT count(*) FROM measurement_verdicts"));
-        Assert.Equal(3L, await schema.ScalarAsync<long>("SELECT count(*) FROM measurements WHERE outcome = 4"));
+        // A later flush re-judges k2 (as a replay after late data would): it replaces the verdict in the chunk.
+        Assert.Equal(1, await MeasurementVerdictWriter.WriteAsync(schema.DataSource, [new(k2, OutcomeKind.Accepted, 2.25, false)]));
+        Assert.Equal(1L, await schema.ScalarAsync<long>("SELECT count(*) FROM measurement_chunks"));
+        Assert.Equal(1L, await schema.ScalarAsync<long>("SELECT count(*) FROM measurements WHERE outcome = 4"));
+
+        // A verdict on a measurement that is not stored changes nothing.
+        Assert.Equal(0, await MeasurementVerdictWriter.WriteAsync(schema.DataSource, [new(k1 with { MessageKey = 9 }, OutcomeKind.Accepted, 1.0, false)]));
 
         var rows = await new MeasurementRepository(schema.DataSource).ReadAsync(fleet, "van-1", t, t + 1);
         Assert.Equal((OutcomeKind.Accepted, 0.75, true), (rows[0].Outcome, rows[0].Nis!.Value, rows[0].TrackReset));
         Assert.Equal((OutcomeKind.Accepted, 2.25, false), (rows[1].Outcome, rows[1].Nis!.Value, rows[1].TrackReset));
 
-        // A measurement without a verdict keeps the row's own columns (pending since it was stored).
+        // A measurement without a verdict is pending, as it was stored.
         Assert.Equal((OutcomeKind.Pending, (double?)null, false), (rows[2].Outcome, rows[2].Nis, rows[2].TrackReset));
     }
 
@@ -103,12 +105,12 @@ public sealed class MeasurementIngestTests(PostgresFixture server)
         await InsertAsync(schema, [Row(fleet, "van-1", t, 1), Row(fleet, "van-1", t, 2)]);
         var k1 = new MeasurementKey(fleet, "van-1", 2, t, 1);
         var k2 = new MeasurementKey(fleet, "van-1", 2, t, 2);
-        await MeasurementVerdictLog.AppendAsync(schema.DataSource,
+        await MeasurementVerdictWriter.WriteAsync(schema.DataSource,
         [
             new(k1, OutcomeKind.Accepted, 1.25, false) { Whitened0 = 0.5f, Whitened1 = -1.0f },
             new(k2, OutcomeKind.Initialising, null, false),
         ]);
-        await MeasurementVerdictLog.AppendAsync(schema.DataSource, [new(k1, OutcomeKind.Accepted, 4.0, false) { Whitened0 = -2.0f }]);
+        await MeasurementVerdictWriter.WriteAsync(schema.DataSource, [new(k1, OutcomeKind.Accepted, 4.0, false) { Whitened0 = -2.0f }]);
 
         var samples = new List<FusionService.Storage.Audit.VerdictSample>();
         await foreach (var sample in new FusionService.Storage.Audit.AuditRepository(schema.DataSource).VerdictsAsync(fleet, "van-1", t, t + 1))
@@ -147,14 +149,16 @@ public sealed class MeasurementIngestTests(PostgresFixture server)
     }
 
     [Fact]
-    public async Task Migration_0002_admits_outcome_codes_5_to_7_and_nothing_above()
+    public async Task Outcome_codes_0_to_8_are_admitted_and_nothing_above()
     {
+        // The codes of migrations 0002 (5-7) and 0010 (8), kept by migration 0013's check on the verdict arrays.
         var (schema, fleet) = await NewStoreAsync();
         await using var _ = schema;
         long t = TestTimes.At(TestTimes.Day, 11, 0, 0, 0);
         await InsertAsync(schema, [Row(fleet, "van-1", t, 1)]);
-        await schema.ScalarAsync<int>("UPDATE measurements SET outcome = 7 WHERE true RETURNING outcome::int");
-        await Assert.ThrowsAsync<PostgresException>(() => schema.ScalarAsync<int>("UPDATE measurements SET outcome = 8 WHERE true RETURNING outcome::int"));
+        Assert.Equal(8, await schema.ScalarAsync<int>("UPDATE measurement_chunks SET outcome = '{8}' WHERE true RETURNING outcome[1]::int"));
+        await Assert.ThrowsAsync<PostgresException>(() => schema.ScalarAsync<int>("UPDATE measurement_chunks SET outcome = '{9}' WHERE true RETURNING outcome[1]::int"));
+        await Assert.ThrowsAsync<PostgresException>(() => schema.ScalarAsync<int>("UPDATE measurement_chunks SET nis = '{-1}' WHERE true RETURNING 1"));
     }
 
     [Fact]

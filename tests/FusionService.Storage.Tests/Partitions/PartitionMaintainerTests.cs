@@ -28,7 +28,7 @@ public sealed class PartitionMaintainerTests(PostgresFixture server)
         Assert.Equal(
             PartitionMaintainer.PartitionedTables.SelectMany(table => expectedDays.Select(d => PartitionMaintainer.PartitionName(table, d))),
             first.Created);
-        Assert.Contains("measurements_p20250308", first.Created);
+        Assert.Contains("measurement_chunks_p20250308", first.Created);
         Assert.Empty(first.Dropped);
         Assert.Empty(second.Created);
         Assert.Empty(second.Dropped);
@@ -37,12 +37,28 @@ public sealed class PartitionMaintainerTests(PostgresFixture server)
             Assert.Equal(expectedDays, await maintainer.PartitionDaysAsync(table));
         }
 
-        // Rows are not updated in place (verdicts are appended to their own log), so no page space is held back.
+        // The chunk partitions move their arrays out of the row past 128 bytes (a verdict update then copies pointers,
+        // not arrays); fused states keep the defaults.
         Assert.Equal(
-            "3 partitions, 3 without storage options",
+            "fused_states_p20250308: - | measurement_chunks_p20250308: {toast_tuple_target=128}",
             await schema.ScalarAsync<string>(
-                "SELECT count(*) || ' partitions, ' || count(*) FILTER (WHERE reloptions IS NULL) || ' without storage options' FROM pg_class "
-                + "WHERE relname LIKE '%\\_p20250308' AND relnamespace = current_schema()::regnamespace"));
+                "SELECT string_agg(relname || ': ' || coalesce(reloptions::text, '-'), ' | ' ORDER BY relname) FROM pg_class "
+                + "WHERE relname LIKE '%\\_p20250308' AND relkind = 'r' AND relnamespace = current_schema()::regnamespace"));
+    }
+
+    [Fact]
+    public async Task Chunk_partitions_compress_their_arrays_with_lz4_where_the_server_has_it()
+    {
+        // Migration 0013 sets lz4 on the parent's array columns; partitions made later must take it over (attcompression
+        // 'l' = lz4, 'p' = pglz, '' = the server default; PostgreSQL 15 manual, pg_attribute).
+        await using var schema = await server.NewMigratedSchemaAsync();
+        await new PartitionMaintainer(schema.DataSource).EnsurePartitionsAsync(new DateOnly(2025, 4, 1), new DateOnly(2025, 4, 1));
+        bool lz4 = await schema.ScalarAsync<bool>(
+            "SELECT EXISTS (SELECT 1 FROM pg_settings WHERE name = 'default_toast_compression' AND 'lz4' = ANY (enumvals))");
+        string compression = await schema.ScalarAsync<string>(
+            "SELECT string_agg(DISTINCT attcompression::text, ',') FROM pg_attribute "
+            + "WHERE attrelid = 'measurement_chunks_p20250401'::regclass AND attname IN ('time_us', 'message_key', 'v0', 'nis', 'outcome')");
+        Assert.Equal(lz4 ? "l" : string.Empty, compression);
     }
 
     [Fact]
@@ -57,11 +73,12 @@ public sealed class PartitionMaintainerTests(PostgresFixture server)
         }
 
         await using var command = new NpgsqlCommand(
-            "SELECT pg_get_expr(c.relpartbound, c.oid) FROM pg_class c WHERE c.oid = to_regclass('measurements_p20240229')", connection);
+            "SELECT pg_get_expr(c.relpartbound, c.oid) FROM pg_class c WHERE c.oid = to_regclass('measurement_chunks_p20240229')", connection);
         var bound = (string?)await command.ExecuteScalarAsync();
 
-        // 2024 is a leap year (Gregorian rule), so 29 February is followed by 1 March.
-        Assert.Equal("FOR VALUES FROM ('2024-02-29 00:00:00+00') TO ('2024-03-01 00:00:00+00')", bound);
+        // 2024 is a leap year (Gregorian rule), so 29 February is followed by 1 March; the bounds are Unix microseconds
+        // (POSIX time: 86,400 s a day, so 2024-02-29T00:00Z is 19,782 days after the epoch, 1,709,164,800 s).
+        Assert.Equal("FOR VALUES FROM ('1709164800000000') TO ('1709251200000000')", bound);
     }
 
     [Fact]
@@ -87,15 +104,13 @@ public sealed class PartitionMaintainerTests(PostgresFixture server)
         var result = await maintainer.RunAsync();
 
         Assert.Equal(
-            ["measurements_p20250308", "measurements_p20250309", "measurement_verdicts_p20250308", "measurement_verdicts_p20250309",
-             "fused_states_p20250308", "fused_states_p20250309"],
+            ["measurement_chunks_p20250308", "measurement_chunks_p20250309", "fused_states_p20250308", "fused_states_p20250309"],
             result.Dropped);
         Assert.Equal(
-            ["measurements_p20250314", "measurements_p20250315", "measurements_p20250316", "measurements_p20250317",
-             "measurement_verdicts_p20250314", "measurement_verdicts_p20250315", "measurement_verdicts_p20250316", "measurement_verdicts_p20250317",
+            ["measurement_chunks_p20250314", "measurement_chunks_p20250315", "measurement_chunks_p20250316", "measurement_chunks_p20250317",
              "fused_states_p20250314", "fused_states_p20250315", "fused_states_p20250316", "fused_states_p20250317"],
             result.Created);
-        Assert.Equal(Days(new DateOnly(2025, 3, 10), new DateOnly(2025, 3, 17)), await maintainer.PartitionDaysAsync("measurements"));
+        Assert.Equal(Days(new DateOnly(2025, 3, 10), new DateOnly(2025, 3, 17)), await maintainer.PartitionDaysAsync("measurement_chunks"));
         Assert.Equal(
             TestTimes.At(new DateOnly(2025, 3, 10), 0, 0, 0, 0),
             await schema.ScalarAsync<long>("SELECT time_us FROM measurements"));
@@ -113,18 +128,18 @@ public sealed class PartitionMaintainerTests(PostgresFixture server)
         {
             // A partition someone made by hand, not named by the maintainer's pattern.
             await using var manual = new NpgsqlCommand(
-                "CREATE TABLE measurements_archive PARTITION OF measurements "
-                + "FOR VALUES FROM ('2024-01-01 00:00:00+00') TO ('2024-02-01 00:00:00+00')", connection);
+                "CREATE TABLE measurement_chunks_archive PARTITION OF measurement_chunks "
+                + "FOR VALUES FROM (1704067200000000) TO (1706745600000000)", connection);
             await manual.ExecuteNonQueryAsync();
             await MeasurementWriter.WriteAsync(connection, null, [Measurement(TestTimes.At(new DateOnly(2025, 1, 2), 8, 0, 0, 0))]);
         }
 
         var dropped = await maintainer.DropPartitionsBeforeAsync(new DateOnly(2025, 1, 2));
 
-        Assert.Equal(["measurements_p20250101", "measurement_verdicts_p20250101", "fused_states_p20250101"], dropped);
-        Assert.Equal([new DateOnly(2025, 1, 2), new DateOnly(2025, 1, 3)], await maintainer.PartitionDaysAsync("measurements"));
+        Assert.Equal(["measurement_chunks_p20250101", "fused_states_p20250101"], dropped);
+        Assert.Equal([new DateOnly(2025, 1, 2), new DateOnly(2025, 1, 3)], await maintainer.PartitionDaysAsync("measurement_chunks"));
         Assert.Equal(1L, await schema.ScalarAsync<long>("SELECT count(*) FROM measurements"));
-        Assert.Equal("measurements_archive", await schema.ScalarAsync<string>("SELECT to_regclass('measurements_archive')::text"));
+        Assert.Equal("measurement_chunks_archive", await schema.ScalarAsync<string>("SELECT to_regclass('measurement_chunks_archive')::text"));
     }
 
     [Fact]

@@ -23,14 +23,8 @@ public sealed class CheckpointOrderTests(ServiceFixture fixture)
         await host.Services.GetRequiredService<TrackWriteQueue>().FlushAsync(CancellationToken.None);
 
         long before;
-        await using (var blocker = await fixture.Store.OpenConnectionAsync())
+        await using (var hold = await VerdictWriteHold.StartAsync(fixture.Store, fleet.Id))
         {
-            await using var hold = await blocker.BeginTransactionAsync();
-            await using (var lockVerdicts = new NpgsqlCommand("LOCK TABLE measurement_verdicts IN ACCESS EXCLUSIVE MODE", blocker, hold))
-            {
-                await lockVerdicts.ExecuteNonQueryAsync();
-            }
-
             before = await fixture.CountAsync(Checkpoints, fleet.Id);
 
             // Well past the 60 s replay window, so that the base checkpoint moves on and one is due after every batch.
@@ -40,7 +34,6 @@ public sealed class CheckpointOrderTests(ServiceFixture fixture)
             }
 
             Assert.Equal(before, await fixture.CountAsync(Checkpoints, fleet.Id));
-            await hold.CommitAsync();
         }
 
         for (int from = blocked; from < drive.Messages.Count; from += 100)

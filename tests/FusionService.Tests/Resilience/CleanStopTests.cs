@@ -17,18 +17,12 @@ public sealed class CleanStopTests(ServiceFixture fixture)
         var host = new ServiceFactory(fixture.ConnectionString);
         using (var client = fixture.Client(fleet.IngestKey, host))
         {
-            // Activate the track first: its restore reads the verdict log, which is held below.
+            // Activate the track first, before the verdict writes are held below.
             await client.IngestOkAsync(drive.Body(0, 100));
             await host.Services.GetRequiredService<FusionService.Tracking.TrackWriteQueue>().FlushAsync(CancellationToken.None);
 
-            // Hold the verdict log so that the writer's next flush waits inside its COPY when the stop comes.
-            await using var blocker = await fixture.Store.OpenConnectionAsync();
-            await using var hold = await blocker.BeginTransactionAsync();
-            await using (var lockVerdicts = new NpgsqlCommand("LOCK TABLE measurement_verdicts IN ACCESS EXCLUSIVE MODE", blocker, hold))
-            {
-                await lockVerdicts.ExecuteNonQueryAsync();
-            }
-
+            // Hold the verdict writes so that the writer's next flush waits inside its update when the stop comes.
+            await using var hold = await VerdictWriteHold.StartAsync(fixture.Store, fleet.Id);
             for (int from = 100; from < Messages; from += 100)
             {
                 await client.IngestOkAsync(drive.Body(from, from + 100));
@@ -39,7 +33,7 @@ public sealed class CleanStopTests(ServiceFixture fixture)
             var stop = host.DisposeAsync().AsTask();
             await Task.Delay(1500);
             Assert.False(stop.IsCompleted, "the stop must wait for the verdicts it has to write");
-            await hold.CommitAsync();
+            await hold.DisposeAsync();
             await stop;
         }
 
