@@ -105,9 +105,17 @@ public sealed class TrackHistoryReader
         }
 
         short duplicate = OutcomeCodes.ToCode(OutcomeKind.Duplicate);
-        var window = new List<ReplayMeasurementValues>();
-        long currentWindow = long.MinValue;
-        int chunksInWindow = 0;
+        var window = new ChunkWindow<ReplayMeasurementValues>(static (a, b) =>
+        {
+            int c = a.TimeUs.CompareTo(b.TimeUs);
+            if (c != 0)
+            {
+                return c;
+            }
+
+            c = a.Kind.CompareTo(b.Kind);
+            return c != 0 ? c : a.MessageKey.CompareTo(b.MessageKey);
+        });
         int count = 0;
         long[] time = [], key = [];
         short[] kind = [], outcome = [];
@@ -128,15 +136,7 @@ public sealed class TrackHistoryReader
                 {
                     while (await reader.ReadAsync(cancellationToken).ConfigureAwait(false))
                     {
-                        long chunkWindow = MeasurementChunks.WindowOf(reader.GetInt64(0));
-                        if (chunkWindow != currentWindow)
-                        {
-                            count += Flush(window, chunksInWindow, onRow);
-                            currentWindow = chunkWindow;
-                            chunksInWindow = 0;
-                        }
-
-                        chunksInWindow++;
+                        count += Hand(window.Begin(reader.GetInt64(0)), onRow);
                         int n = reader.GetInt32(1);
                         if (time.Length < n)
                         {
@@ -168,35 +168,17 @@ public sealed class TrackHistoryReader
             }
         }
 
-        return count + Flush(window, chunksInWindow, onRow);
+        return count + Hand(window.Close(), onRow);
     }
 
-    // Hands over one window's measurements in canonical order; they are sorted already when one chunk holds them all.
-    private static int Flush(List<ReplayMeasurementValues> window, int chunks, Action<ReplayMeasurementValues> onRow)
+    private static int Hand(List<ReplayMeasurementValues> rows, Action<ReplayMeasurementValues> onRow)
     {
-        if (chunks > 1)
-        {
-            window.Sort(static (a, b) =>
-            {
-                int c = a.TimeUs.CompareTo(b.TimeUs);
-                if (c != 0)
-                {
-                    return c;
-                }
-
-                c = a.Kind.CompareTo(b.Kind);
-                return c != 0 ? c : a.MessageKey.CompareTo(b.MessageKey);
-            });
-        }
-
-        foreach (var row in window)
+        foreach (var row in rows)
         {
             onRow(row);
         }
 
-        int n = window.Count;
-        window.Clear();
-        return n;
+        return rows.Count;
     }
 
     /// <summary>Fused states of one vehicle with <paramref name="fromUs"/> &lt;= time &lt; <paramref name="toUs"/>, in time order.</summary>

@@ -7,10 +7,9 @@ namespace FusionService.Storage.Measurements;
 
 /// <summary>
 /// Reads one vehicle's chunks (migration 0013) over a time range in order of their first time and hands over every
-/// measurement in the range with its newest verdict, in canonical order (time, kind, message key). A chunk spans at most
-/// one aligned ten-minute window and windows do not overlap, so only a window that more than one commit wrote (late or
-/// resent data) is sorted, and at most one window's measurements are held at a time. The arrays come in PostgreSQL's
-/// binary array form (<c>array_send</c>) and are decoded by <see cref="ArraySendDecoder"/>.
+/// measurement in the range with its newest verdict, in canonical order (time, kind, message key), one ten-minute window
+/// at a time (<see cref="ChunkWindow{T}"/>). The arrays come in PostgreSQL's binary array form (<c>array_send</c>) and
+/// are decoded by <see cref="ArraySendDecoder"/>.
 /// </summary>
 public static class MeasurementChunkReader
 {
@@ -45,9 +44,7 @@ public static class MeasurementChunkReader
             yield break;
         }
 
-        var window = new List<JudgedMeasurement>();
-        long currentWindow = long.MinValue;
-        int chunksInWindow = 0;
+        var window = new ChunkWindow<JudgedMeasurement>(static (a, b) => MeasurementChunks.CompareCanonical(a.Row, b.Row));
         var c = new Columns();
         var connection = await dataSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
         await using (connection.ConfigureAwait(false))
@@ -64,20 +61,11 @@ public static class MeasurementChunkReader
                 {
                     while (await reader.ReadAsync(cancellationToken).ConfigureAwait(false))
                     {
-                        long chunkWindow = MeasurementChunks.WindowOf(reader.GetInt64(0));
-                        if (chunkWindow != currentWindow)
+                        foreach (var m in window.Begin(reader.GetInt64(0)))
                         {
-                            foreach (var m in Ordered(window, chunksInWindow))
-                            {
-                                yield return m;
-                            }
-
-                            window.Clear();
-                            currentWindow = chunkWindow;
-                            chunksInWindow = 0;
+                            yield return m;
                         }
 
-                        chunksInWindow++;
                         int n = c.Decode(reader);
                         for (int i = 0; i < n; i++)
                         {
@@ -91,20 +79,10 @@ public static class MeasurementChunkReader
             }
         }
 
-        foreach (var m in Ordered(window, chunksInWindow))
+        foreach (var m in window.Close())
         {
             yield return m;
         }
-    }
-
-    private static List<JudgedMeasurement> Ordered(List<JudgedMeasurement> window, int chunks)
-    {
-        if (chunks > 1)
-        {
-            window.Sort(static (a, b) => MeasurementChunks.CompareCanonical(a.Row, b.Row));
-        }
-
-        return window;
     }
 
     // The decoded arrays of one chunk, reused from chunk to chunk.

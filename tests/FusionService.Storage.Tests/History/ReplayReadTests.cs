@@ -18,6 +18,43 @@ public sealed class ReplayReadTests(PostgresFixture server)
     private const string Vehicle = "van-'4'; DROP TABLE measurements; --\\";
 
     [Fact]
+    public async Task Windows_written_by_several_commits_read_back_in_canonical_order_by_both_readers()
+    {
+        // Three commits write into the same ten-minute window out of order (a late upload and a resend of other keys), a
+        // fourth into the next window: the readers merge the window's chunks (migration 0013) into canonical order.
+        await using var schema = await server.NewMigratedSchemaAsync();
+        await new PartitionMaintainer(schema.DataSource).EnsurePartitionsAsync(TestTimes.Day, TestTimes.Day);
+        var t = TestTimes.At(TestTimes.Day, 10, 0, 0, 0);
+        MeasurementRow[][] commits =
+        [
+            [Row(Fleet, Vehicle, 2, t + 300_000_000, 1, 1.0, null, null, OutcomeKind.Accepted), Row(Fleet, Vehicle, 2, t + 400_000_000, 2, 2.0, null, null, OutcomeKind.Accepted)],
+            [Row(Fleet, Vehicle, 0, t + 100_000_000, 3, 3.0, 4.0, 5.0, OutcomeKind.Gated), Row(Fleet, Vehicle, 3, t + 350_000_000, 4, 6.0, 7.0, null, OutcomeKind.Accepted)],
+            [Row(Fleet, Vehicle, 2, t + 300_000_000, 0, 8.0, null, null, OutcomeKind.Accepted), Row(Fleet, Vehicle, 1, t + 599_999_999, 5, 9.0, 10.0, null, OutcomeKind.Accepted)],
+            [Row(Fleet, Vehicle, 2, t + 600_000_000, 6, 11.0, null, null, OutcomeKind.Accepted), Row(Fleet, Vehicle, 2, t + 200_000_000, 7, 12.0, null, null, OutcomeKind.Accepted)],
+        ];
+        foreach (var commit in commits)
+        {
+            await using var connection = await schema.OpenAsync();
+            await MeasurementWriter.WriteAsync(connection, null, commit);
+        }
+
+        var expected = commits.SelectMany(c => c).OrderBy(r => r.TimeUs).ThenBy(r => r.Kind).ThenBy(r => r.MessageKey)
+            .Select(r => (r.TimeUs, (int)r.Kind, r.MessageKey, r.V0)).ToList();
+        var reader = new TrackHistoryReader(schema.DataSource);
+        var replay = new List<ReplayMeasurementValues>();
+        Assert.Equal(8, await reader.ReadReplayMeasurementsAsync(Fleet, Vehicle, t, t + 700_000_000, 0, 3, replay.Add));
+        Assert.Equal(expected, replay.Select(r => (r.TimeUs, (int)r.Kind, r.MessageKey, r.V0)));
+        var full = new List<StoredMeasurementValues>();
+        await foreach (var s in reader.StreamMeasurementsAsync(Fleet, Vehicle, t, t + 700_000_000, 0, 3))
+        {
+            full.Add(s);
+        }
+
+        Assert.Equal(expected, full.Select(r => (r.TimeUs, (int)r.Kind, r.MessageKey, r.V0)));
+        Assert.Equal(5L, await schema.ScalarAsync<long>("SELECT count(*) FROM measurement_chunks"));
+    }
+
+    [Fact]
     public async Task Issue4_replay_read_returns_the_row_readers_rows_without_duplicates_in_canonical_order_bit_exact()
     {
         await using var schema = await server.NewMigratedSchemaAsync();
