@@ -8,8 +8,8 @@ namespace FusionService.Storage.Measurements;
 /// <summary>
 /// Stores measurements that may already be stored (client retries) and says which rows were new. The rows of each
 /// vehicle are checked against the keys of the chunks their time range can touch (migration 0013: a chunk spans at most
-/// one aligned ten-minute window), under a transaction-scoped advisory lock per vehicle so that two commits of one
-/// vehicle cannot both store the same message; the new rows are then written as chunks with one binary COPY. The
+/// one aligned ten-minute window), under a transaction-scoped advisory lock on the vehicle's bucket (one of 128) so that
+/// two commits of one vehicle cannot both store the same message; the new rows are then written as chunks with one binary COPY. The
 /// vehicles the rows name are created when missing. Because the stored keys decide, duplicate detection survives
 /// restarts of the service and works across the processes of a cluster.
 /// </summary>
@@ -22,11 +22,13 @@ public static class MeasurementIngest
         "INSERT INTO vehicles (fleet_id, vehicle_id) SELECT f, v FROM unnest($1::uuid[], $2::text[]) AS u(f, v) "
         + "ORDER BY f, v COLLATE \"C\" ON CONFLICT DO NOTHING";
 
-    // One transaction-scoped lock per vehicle (a 64-bit hash of fleet and vehicle; a collision only serialises two
-    // vehicles' commits), taken in one global order. The volatile lock function runs after the sort.
+    // Transaction-scoped locks on the vehicles' buckets: a 64-bit hash of fleet and vehicle, 128 buckets, so that a batch
+    // over thousands of vans takes at most 128 locks (each advisory lock takes a slot of the server's shared lock table,
+    // max_locks_per_transaction x connections: about 6,400 with the defaults) and two commits of different vans rarely
+    // wait for each other. Taken in one global order; the volatile lock function runs after the sort.
     private const string LockVehicles =
-        "SELECT pg_advisory_xact_lock(h) FROM (SELECT DISTINCT hashtextextended(f::text || '/' || v, 1613) AS h "
-        + "FROM unnest($1::uuid[], $2::text[]) AS u(f, v)) AS k ORDER BY h";
+        "SELECT pg_advisory_xact_lock(h) FROM (SELECT DISTINCT hashtextextended('FusionService ingest buckets', 0) "
+        + "+ (hashtextextended(f::text || '/' || v, 1613) & 127) AS h FROM unnest($1::uuid[], $2::text[]) AS u(f, v)) AS k ORDER BY h";
 
     // The stored keys of each vehicle within [lo, hi] of measurement time: the chunks that can hold such a time are those
     // with last_us >= lo (index measurement_chunks_last) and first_us in (lo - 600 s, hi] (a chunk spans at most 600 s;

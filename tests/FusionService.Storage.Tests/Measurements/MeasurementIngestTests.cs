@@ -149,6 +149,43 @@ public sealed class MeasurementIngestTests(PostgresFixture server)
     }
 
     [Fact]
+    public async Task A_batch_over_twenty_thousand_vans_stays_within_the_servers_lock_table()
+    {
+        // Each advisory lock takes a slot of the shared lock table, max_locks_per_transaction (64 by default) times the
+        // allowed connections and prepared transactions (PostgreSQL 15 manual, section 20.12): about 6,400 here. One lock
+        // per van would need 20,000 and fail ("out of shared memory"); the 128 vehicle buckets need at most 128.
+        var (schema, fleet) = await NewStoreAsync();
+        await using var _ = schema;
+        Assert.Equal(64, await schema.ScalarAsync<int>("SELECT current_setting('max_locks_per_transaction')::int"));
+        long t = TestTimes.At(TestTimes.Day, 14, 0, 0, 0);
+        var rows = Enumerable.Range(0, 20_000).Select(i => Row(fleet, $"gateway-van-{i:00000}", t, 1)).ToList();
+
+        Assert.Equal(20_000, (await InsertAsync(schema, rows)).Count);
+        Assert.Equal(20_000L, await schema.ScalarAsync<long>("SELECT count(*) FROM measurements"));
+    }
+
+    [Fact]
+    public async Task Two_commits_of_the_same_messages_at_once_store_them_once()
+    {
+        // The bucket lock makes the second commit read the keys after the first committed (READ COMMITTED sees it).
+        var (schema, fleet) = await NewStoreAsync();
+        await using var _ = schema;
+        long t = TestTimes.At(TestTimes.Day, 15, 0, 0, 0);
+        for (int round = 0; round < 10; round++)
+        {
+            var rows = Enumerable.Range(0, 50).Select(i => Row(fleet, "van-twice", t + (round * 1_000_000L) + i, 1)).ToList();
+            using var start = new SemaphoreSlim(0, 2);
+            var first = Task.Run(async () => { await start.WaitAsync(); return await InsertAsync(schema, rows); });
+            var second = Task.Run(async () => { await start.WaitAsync(); return await InsertAsync(schema, rows); });
+            start.Release(2);
+            var inserted = await Task.WhenAll(first, second);
+            Assert.Equal(50, inserted[0].Count + inserted[1].Count);
+        }
+
+        Assert.Equal(500L, await schema.ScalarAsync<long>("SELECT count(*) FROM measurements WHERE vehicle_id = 'van-twice'"));
+    }
+
+    [Fact]
     public async Task Outcome_codes_0_to_8_are_admitted_and_nothing_above()
     {
         // The codes of migrations 0002 (5-7) and 0010 (8), kept by migration 0013's check on the verdict arrays.
