@@ -67,22 +67,36 @@ public sealed class Issue5VehicleViewTests(DashboardFixture fixture)
         Assert.Contains(whiteness, r => r.GetDomAttribute("data-sensor") == "gnss_position"
             && r.GetDomAttribute("data-whiteness") is "white" or "correlated" or "insufficient_data");
 
-        DashboardPage.WaitFor(
-            () => page.Driver.FindElements(By.CssSelector("#alerts-list li.alert[data-vehicle='van-07'][data-state='open'] button.acknowledge")).Count > 0,
-            TimeSpan.FromSeconds(180), "an open alert for van-07 in the alerts list");
+        // The alert is chosen and its Acknowledge button clicked in one script run: the list is redrawn at every poll, and
+        // a row found before a redraw and clicked after it may be another alert's. An alert that leaves the open state by
+        // itself meanwhile (its condition ended: resolved) is no failure of the acknowledgement; the demo raises others.
         string id = string.Empty;
-        DashboardPage.WaitFor(
-            () =>
+        for (int attempt = 1; ; attempt++)
+        {
+            DashboardPage.WaitFor(
+                () => page.Driver.FindElements(By.CssSelector("#alerts-list li.alert[data-vehicle='van-07'][data-state='open'] button.acknowledge")).Count > 0,
+                TimeSpan.FromSeconds(180), "an open alert for van-07 in the alerts list");
+            id = page.Script(
+                "const li = document.querySelector(\"#alerts-list li.alert[data-vehicle='van-07'][data-state='open']\");"
+                + "if (!li) return ''; li.querySelector('button.acknowledge').click(); return li.getAttribute('data-alert-id');") as string ?? string.Empty;
+            if (id.Length == 0)
             {
-                var alert = page.Driver.FindElement(By.CssSelector("#alerts-list li.alert[data-vehicle='van-07'][data-state='open']"));
-                id = alert.GetDomAttribute("data-alert-id")!;
-                alert.FindElement(By.CssSelector("button.acknowledge")).Click();
-                return true;
-            },
-            TimeSpan.FromSeconds(20), "a click on the alert's Acknowledge button");
-        DashboardPage.WaitFor(
-            () => page.Driver.FindElements(By.CssSelector($"#alerts-list li.alert[data-alert-id='{id}'][data-state='acknowledged']")).Count == 1,
-            TimeSpan.FromSeconds(20), "alert " + id + " shown as acknowledged");
+                continue;
+            }
+
+            try
+            {
+                DashboardPage.WaitFor(
+                    () => page.Driver.FindElements(By.CssSelector($"#alerts-list li.alert[data-alert-id='{id}'][data-state='acknowledged']")).Count == 1,
+                    TimeSpan.FromSeconds(20), "alert " + id + " shown as acknowledged");
+                break;
+            }
+            catch (Xunit.Sdk.XunitException) when (attempt < 3
+                && page.Driver.FindElements(By.CssSelector($"#alerts-list li.alert[data-alert-id='{id}'][data-state='open']")).Count == 0)
+            {
+                page.Screenshot("van-07-alert-left-open-state-" + attempt);
+            }
+        }
 
         bool forDocs = string.Equals(Environment.GetEnvironmentVariable("FUSION_DOCS_SCREENSHOT"), "vehicle", StringComparison.Ordinal);
         string shot = forDocs ? page.DocsScreenshot("van-07", 1300) : page.Screenshot("van-07");
