@@ -19,6 +19,23 @@ public static class MeasurementChunks
         "COPY measurement_chunks (fleet_id, vehicle_id, first_us, last_us, count, time_us, kind, message_key, received_us, "
         + "v0, v1, v2, flags, outcome, nis, track_reset, w0, w1) FROM STDIN (FORMAT BINARY)";
 
+    /// <summary>
+    /// Transaction-local planner settings for the statements that look chunks up by key for a list of vehicles (ingest's
+    /// stored keys, the verdict writer's read and update): without statistics on the unnested arrays the planner may
+    /// prefer a hash join over a sequential scan of every chunk of every partition, which a gateway's many small chunks
+    /// make slow.
+    /// </summary>
+    internal const string IndexLookupsSql =
+        "SELECT set_config('enable_seqscan', 'off', true), set_config('enable_hashjoin', 'off', true), "
+        + "set_config('enable_mergejoin', 'off', true)";
+
+    /// <summary>Widens the measurement-time range [Lo, Hi] kept for the vehicle to take in <paramref name="timeUs"/>.</summary>
+    internal static void Widen(Dictionary<(Guid FleetId, string VehicleId), (long Lo, long Hi)> ranges, Guid fleetId, string vehicleId, long timeUs)
+    {
+        var vehicle = (fleetId, vehicleId);
+        ranges[vehicle] = ranges.TryGetValue(vehicle, out var r) ? (Math.Min(r.Lo, timeUs), Math.Max(r.Hi, timeUs)) : (timeUs, timeUs);
+    }
+
     /// <summary>The window of <paramref name="timeUs"/>: floor(time / <see cref="WindowUs"/>).</summary>
     public static long WindowOf(long timeUs) => Math.DivRem(timeUs, WindowUs, out long rest) - (rest < 0 ? 1 : 0);
 

@@ -89,10 +89,7 @@ public static class MeasurementIngest
             if (inserted.Add(MeasurementKey.Of(row)))
             {
                 unique.Add(row);
-                var vehicle = (row.FleetId, row.VehicleId);
-                ranges[vehicle] = ranges.TryGetValue(vehicle, out var r)
-                    ? (Math.Min(r.Lo, row.TimeUs), Math.Max(r.Hi, row.TimeUs))
-                    : (row.TimeUs, row.TimeUs);
+                MeasurementChunks.Widen(ranges, row.FleetId, row.VehicleId, row.TimeUs);
             }
         }
 
@@ -104,7 +101,7 @@ public static class MeasurementIngest
         {
             batch.BatchCommands.Add(Command(InsertVehiclesFromArrays, Uuids(fleets), Texts(ids)));
             batch.BatchCommands.Add(Command(LockVehicles, Uuids(fleets), Texts(ids)));
-            batch.BatchCommands.Add(Command(MeasurementVerdictWriter.PlannerSql));
+            batch.BatchCommands.Add(Command(MeasurementChunks.IndexLookupsSql));
             batch.BatchCommands.Add(Command(
                 StoredKeys,
                 Uuids(fleets),

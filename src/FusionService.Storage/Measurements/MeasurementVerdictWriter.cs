@@ -25,10 +25,6 @@ public static class MeasurementVerdictWriter
         FOR UPDATE OF c
         """;
 
-    internal const string PlannerSql =
-        "SELECT set_config('enable_seqscan', 'off', true), set_config('enable_hashjoin', 'off', true), "
-        + "set_config('enable_mergejoin', 'off', true)";
-
     // Every changed chunk in one statement: the new verdict arrays of all chunks are passed end to end in flat arrays,
     // and each chunk takes its slice [offset + 1, offset + count] (one plan, not one per chunk). The flat arrays hold no
     // nulls (NaN stands for a missing NIS or whitened component, turned back into null per slice): a slice of an array
@@ -64,10 +60,7 @@ public static class MeasurementVerdictWriter
         {
             var key = verdict.Key;
             last[key] = verdict;
-            var vehicle = (key.FleetId, key.VehicleId);
-            ranges[vehicle] = ranges.TryGetValue(vehicle, out var r)
-                ? (Math.Min(r.Lo, key.TimeUs), Math.Max(r.Hi, key.TimeUs))
-                : (key.TimeUs, key.TimeUs);
+            MeasurementChunks.Widen(ranges, key.FleetId, key.VehicleId, key.TimeUs);
         }
 
         if (last.Count == 0)
@@ -82,10 +75,8 @@ public static class MeasurementVerdictWriter
             await using (transaction.ConfigureAwait(false))
             {
                 var vehicles = ranges.Keys.ToArray();
-                // The chunks are looked up by key, one vehicle or chunk at a time. Without statistics on the unnested
-                // arrays the planner may prefer a hash join over a sequential scan of every chunk of every partition,
-                // which a gateway's many small chunks make slow: this transaction keeps to the indexes.
-                var planner = new NpgsqlCommand(PlannerSql, connection, transaction);
+                // The chunks are looked up by key, one vehicle or chunk at a time: this transaction keeps to the indexes.
+                var planner = new NpgsqlCommand(MeasurementChunks.IndexLookupsSql, connection, transaction);
                 await using (planner.ConfigureAwait(false))
                 {
                     await planner.ExecuteNonQueryAsync(cancellationToken).ConfigureAwait(false);
