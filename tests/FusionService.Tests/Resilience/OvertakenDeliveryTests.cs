@@ -67,6 +67,54 @@ public sealed class OvertakenDeliveryTests(ServiceFixture fixture)
         Assert.Equal(0, await fixture.CountAsync("SELECT count(*) FROM " + JudgedSql.OfFleet + " WHERE outcome IN (3, 4)", fleet.Id));
     }
 
+    [Fact]
+    public async Task Issue16_batches_handed_over_together_out_of_order_are_fused_in_order()
+    {
+        var fleet = await fixture.NewFleetAsync();
+        const string Vehicle = "van-merged";
+        var truth = RouteDriver.Drive(
+            [new RouteWaypoint(0, 0), new RouteWaypoint(600, 0), new RouteWaypoint(600, 400), new RouteWaypoint(0, 400)],
+            new RouteDriverOptions { StartTimeUs = TelemetryDrive.StartUs(TimeSpan.FromMinutes(10)) },
+            seed: 1606);
+        var drive = TelemetryDrive.FromRun(Vehicle, MeasurementGenerator.Generate(truth, SensorSuite.ForProfile(NoiseProfile.DeliveryVan), seed: 1606));
+        long startUs = drive.Messages[0].Core[0].TimeUs;
+        int firstTo = Index(drive, startUs + 30_000_000), secondTo = Index(drive, startUs + 40_000_000), thirdTo = Index(drive, startUs + 50_000_000);
+        await using var service = new ServiceFactory(fixture.ConnectionString);
+        using var client = fixture.Client(fleet.IngestKey, service);
+        for (int from = 0; from < firstTo; from += 100)
+        {
+            await client.IngestOkAsync(drive.Body(from, Math.Min(from + 100, firstTo)));
+        }
+
+        // Two commits the dispatcher found queued behind a running call, the later one first in the mailbox.
+        var earlier = drive.Messages.Skip(firstTo).Take(secondTo - firstTo).SelectMany(m => m.Core).ToList();
+        var later = drive.Messages.Skip(secondTo).Take(thirdTo - secondTo).SelectMany(m => m.Core).ToList();
+        await fixture.StoreWithoutTrackAsync([.. earlier.Select(m => MeasurementRows.ToRow(fleet.Id, Vehicle, m, DateTime.UtcNow))]);
+        long earlierStamp = await fixture.CountAsync("SELECT pg_current_xact_id()::text::bigint");
+        await fixture.StoreWithoutTrackAsync([.. later.Select(m => MeasurementRows.ToRow(fleet.Id, Vehicle, m, DateTime.UtcNow))]);
+        long laterStamp = await fixture.CountAsync("SELECT pg_current_xact_id()::text::bigint");
+        Assert.True(laterStamp > earlierStamp);
+
+        await service.Services.GetRequiredService<TrackDispatcher>().WhenIdleAsync();
+        var grain = service.Services.GetRequiredService<IGrainFactory>().GetGrain<IVehicleTrackGrain>(GrainKeys.Of(fleet.Id, Vehicle));
+        await grain.ProcessManyAsync(
+        [
+            new TrackDelivery([.. later.Select(m => TrackMeasurement.From(m))], new CommitStamp(laterStamp)),
+            new TrackDelivery([.. earlier.Select(m => TrackMeasurement.From(m))], new CommitStamp(earlierStamp)),
+        ]);
+        for (int from = thirdTo; from < drive.Messages.Count; from += 100)
+        {
+            await client.IngestOkAsync(drive.Body(from, Math.Min(from + 100, drive.Messages.Count)));
+        }
+
+        await service.Services.GetRequiredService<TrackDispatcher>().WhenIdleAsync();
+        var uninterrupted = new TrackOracle();
+        uninterrupted.Process(drive.Messages.Select(m => m.Core));
+        Assert.Equal(uninterrupted.Response(Vehicle), await fixture.Client(fleet.ReadKey, service).StateAsync(Vehicle));
+        await service.Services.GetRequiredService<TrackWriteQueue>().FlushAsync(CancellationToken.None);
+        Assert.Equal(0, await fixture.CountAsync("SELECT count(*) FROM " + JudgedSql.OfFleet + " WHERE outcome IN (2, 3, 4)", fleet.Id));
+    }
+
     /// <summary>The index of the drive's first message after <paramref name="timeUs"/>.</summary>
     private static int Index(TelemetryDrive drive, long timeUs) =>
         drive.Messages.Select((m, i) => (m, i)).First(x => x.m.Core[0].TimeUs > timeUs).i;
