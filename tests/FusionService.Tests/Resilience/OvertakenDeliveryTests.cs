@@ -54,17 +54,7 @@ public sealed class OvertakenDeliveryTests(ServiceFixture fixture)
 
         var grain = service.Services.GetRequiredService<IGrainFactory>().GetGrain<IVehicleTrackGrain>(GrainKeys.Of(fleet.Id, Vehicle));
         await grain.ProcessAsync([.. held.Select(m => TrackMeasurement.From(m))], new CommitStamp(stamp));
-        for (int from = laterTo; from < drive.Messages.Count; from += 100)
-        {
-            await client.IngestOkAsync(drive.Body(from, Math.Min(from + 100, drive.Messages.Count)));
-        }
-
-        await service.Services.GetRequiredService<TrackDispatcher>().WhenIdleAsync();
-        var uninterrupted = new TrackOracle();
-        uninterrupted.Process(drive.Messages.Select(m => m.Core));
-        Assert.Equal(uninterrupted.Response(Vehicle), await fixture.Client(fleet.ReadKey, service).StateAsync(Vehicle));
-        await service.Services.GetRequiredService<TrackWriteQueue>().FlushAsync(CancellationToken.None);
-        Assert.Equal(0, await fixture.CountAsync("SELECT count(*) FROM " + JudgedSql.OfFleet + " WHERE outcome IN (3, 4)", fleet.Id));
+        await IngestTheRestAndCompareAsync(service, client, fleet, drive, Vehicle, laterTo, "3, 4");
     }
 
     [Fact]
@@ -102,7 +92,17 @@ public sealed class OvertakenDeliveryTests(ServiceFixture fixture)
             new TrackDelivery([.. later.Select(m => TrackMeasurement.From(m))], new CommitStamp(laterStamp)),
             new TrackDelivery([.. earlier.Select(m => TrackMeasurement.From(m))], new CommitStamp(earlierStamp)),
         ]);
-        for (int from = thirdTo; from < drive.Messages.Count; from += 100)
+        await IngestTheRestAndCompareAsync(service, client, fleet, drive, Vehicle, thirdTo, "2, 3, 4");
+    }
+
+    /// <summary>
+    /// Ingests the drive's messages from <paramref name="from"/> on, then checks the track's state against an uninterrupted
+    /// run of every message and that no stored measurement of the fleet has one of <paramref name="outcomeCodes"/>.
+    /// </summary>
+    private async Task IngestTheRestAndCompareAsync(
+        ServiceFactory service, HttpClient client, TestFleet fleet, TelemetryDrive drive, string vehicle, int from, string outcomeCodes)
+    {
+        for (; from < drive.Messages.Count; from += 100)
         {
             await client.IngestOkAsync(drive.Body(from, Math.Min(from + 100, drive.Messages.Count)));
         }
@@ -110,9 +110,9 @@ public sealed class OvertakenDeliveryTests(ServiceFixture fixture)
         await service.Services.GetRequiredService<TrackDispatcher>().WhenIdleAsync();
         var uninterrupted = new TrackOracle();
         uninterrupted.Process(drive.Messages.Select(m => m.Core));
-        Assert.Equal(uninterrupted.Response(Vehicle), await fixture.Client(fleet.ReadKey, service).StateAsync(Vehicle));
+        Assert.Equal(uninterrupted.Response(vehicle), await fixture.Client(fleet.ReadKey, service).StateAsync(vehicle));
         await service.Services.GetRequiredService<TrackWriteQueue>().FlushAsync(CancellationToken.None);
-        Assert.Equal(0, await fixture.CountAsync("SELECT count(*) FROM " + JudgedSql.OfFleet + " WHERE outcome IN (2, 3, 4)", fleet.Id));
+        Assert.Equal(0, await fixture.CountAsync("SELECT count(*) FROM " + JudgedSql.OfFleet + " WHERE outcome IN (" + outcomeCodes + ")", fleet.Id));
     }
 
     /// <summary>The index of the drive's first message after <paramref name="timeUs"/>.</summary>
