@@ -11,7 +11,7 @@ namespace FusionService.Tracking;
 /// Delivers committed measurements to their vehicles' track grains. The measurements are already durable when they
 /// arrive here, so a failed delivery loses nothing: the grain is told to rebuild itself from the store
 /// (<see cref="IVehicleTrackGrain.RebuildAsync"/>). At most <see cref="IngestOptions.MaxBatchesInTracking"/> deliveries
-/// run at once, and none starts while the <see cref="TrackWriteQueue"/> is full; until then <see cref="DispatchAsync"/>
+/// run at once, and none starts while the <see cref="TrackWriteQueue"/> is full; until then <c>DispatchAsync</c>
 /// waits, which slows ingest down instead of buffering without bound. One vehicle's hand-overs reach its grain one
 /// after another, never two at once: what is handed over for a vehicle while its grain call runs waits in the vehicle's
 /// mailbox, in the order it got its slot (for one client posting batch after batch, the order of its batches), and
@@ -57,8 +57,16 @@ public sealed class TrackDispatcher : IHostedService, IAsyncDisposable
     /// when every grain has processed its measurements (it never faults: failures are logged).
     /// <paramref name="transactionId"/> is the PostgreSQL transaction id of the commit that stored them (0 when unknown).
     /// </summary>
-    public async Task<Task> DispatchAsync(Guid fleetId, IReadOnlyDictionary<string, List<TrackMeasurement>> fresh, long transactionId)
+    public Task<Task> DispatchAsync(Guid fleetId, IReadOnlyDictionary<string, List<TrackMeasurement>> fresh, long transactionId) =>
+        DispatchAsync(fleetId, fresh, _ => transactionId);
+
+    /// <summary>
+    /// As <see cref="DispatchAsync(Guid, IReadOnlyDictionary{string, List{TrackMeasurement}}, long)"/>, each vehicle's
+    /// measurements stored by the commit whose transaction id <paramref name="transactionIdOf"/> gives for it.
+    /// </summary>
+    public async Task<Task> DispatchAsync(Guid fleetId, IReadOnlyDictionary<string, List<TrackMeasurement>> fresh, Func<string, long> transactionIdOf)
     {
+        ArgumentNullException.ThrowIfNull(transactionIdOf);
         ArgumentNullException.ThrowIfNull(fresh);
         if (fresh.Count == 0)
         {
@@ -77,14 +85,13 @@ public sealed class TrackDispatcher : IHostedService, IAsyncDisposable
             throw;
         }
 
-        var stamp = new CommitStamp(transactionId);
         var handovers = new List<Handover>(fresh.Count);
         var starts = new List<Handover>();
         lock (_mailboxesGate)
         {
             foreach (var (vehicleId, measurements) in fresh)
             {
-                var handover = new Handover(vehicleId, new TrackDelivery([.. measurements], stamp));
+                var handover = new Handover(vehicleId, new TrackDelivery([.. measurements], new CommitStamp(transactionIdOf(vehicleId))));
                 handovers.Add(handover);
                 if (_mailboxes.TryGetValue((fleetId, vehicleId), out var waiting))
                 {
