@@ -197,7 +197,13 @@ public sealed class VehicleTrack
                 own = outcome;
             }
 
-            observer?.OnOutcome(held, outcome, state, !isOwn);
+            // Before the inserted measurement the pass repeats the last one step for step (same checkpoint, same
+            // measurements, a lossless state codec), so those outcomes are not reported again: a late fix a tenth of a
+            // second behind would otherwise re-report up to a checkpoint interval of unchanged verdicts and states.
+            if (i >= index)
+            {
+                observer?.OnOutcome(held, outcome, state, !isOwn);
+            }
         }
 
         _current = state;

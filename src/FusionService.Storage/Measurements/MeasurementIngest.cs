@@ -8,27 +8,27 @@ namespace FusionService.Storage.Measurements;
 /// <summary>
 /// Stores measurements that may already be stored (client retries) and says which rows were new. The rows of each
 /// vehicle are checked against the keys of the chunks their time range can touch (migration 0013: a chunk spans at most
-/// one aligned ten-minute window), under a transaction-scoped advisory lock on the vehicle's bucket (one of 128) so that
+/// one aligned ten-minute window), under a transaction-scoped advisory lock on the vehicle's bucket (<see cref="IngestBuckets"/>) so that
 /// two commits of one vehicle cannot both store the same message; the new rows are then written as chunks with one binary COPY. The
 /// vehicles the rows name are created when missing. Because the stored keys decide, duplicate detection survives
 /// restarts of the service and works across the processes of a cluster.
 /// </summary>
 public static class MeasurementIngest
 {
-    // Both vehicle inserts and the vehicle locks take their rows in one order (fleet, then the id's bytes): two
-    // transactions that touch the same vehicles then wait for each other instead of each holding one and waiting for the
-    // other (a deadlock).
+    // Vehicle inserts take their rows in one order (fleet, then the id's bytes) and come before the bucket locks, which are
+    // taken in bucket order: two transactions that touch the same vehicles then wait for each other instead of each
+    // holding one and waiting for the other (a deadlock).
     private const string InsertVehiclesFromArrays =
         "INSERT INTO vehicles (fleet_id, vehicle_id) SELECT f, v FROM unnest($1::uuid[], $2::text[]) AS u(f, v) "
         + "ORDER BY f, v COLLATE \"C\" ON CONFLICT DO NOTHING";
 
-    // Transaction-scoped locks on the vehicles' buckets: a 64-bit hash of fleet and vehicle, 128 buckets, so that a batch
-    // over thousands of vans takes at most 128 locks (each advisory lock takes a slot of the server's shared lock table,
-    // max_locks_per_transaction x connections: about 6,400 with the defaults) and two commits of different vans rarely
-    // wait for each other. Taken in one global order; the volatile lock function runs after the sort.
-    private const string LockVehicles =
-        "SELECT pg_advisory_xact_lock(h) FROM (SELECT DISTINCT hashtextextended('FusionService ingest buckets', 0) "
-        + "+ (hashtextextended(f::text || '/' || v, 1613) & 127) AS h FROM unnest($1::uuid[], $2::text[]) AS u(f, v)) AS k ORDER BY h";
+    // Transaction-scoped locks on the vehicles' buckets (IngestBuckets: 128 of them, so that a batch over thousands of vans
+    // takes at most 128 locks; each advisory lock takes a slot of the server's shared lock table, max_locks_per_transaction
+    // x connections: about 6,400 with the defaults). Taken in one global order; the volatile lock function runs after the
+    // sort.
+    private const string LockBuckets =
+        "SELECT pg_advisory_xact_lock(h) FROM (SELECT DISTINCT hashtextextended('FusionService ingest buckets', 0) + b AS h "
+        + "FROM unnest($1::integer[]) AS u(b)) AS k ORDER BY h";
 
     // The stored keys of each vehicle within [lo, hi] of measurement time: the chunks that can hold such a time are those
     // with last_us >= lo (index measurement_chunks_last) and first_us in (lo - 600 s, hi] (a chunk spans at most 600 s;
@@ -100,7 +100,9 @@ public static class MeasurementIngest
         await using (batch.ConfigureAwait(false))
         {
             batch.BatchCommands.Add(Command(InsertVehiclesFromArrays, Uuids(fleets), Texts(ids)));
-            batch.BatchCommands.Add(Command(LockVehicles, Uuids(fleets), Texts(ids)));
+            batch.BatchCommands.Add(Command(
+                LockBuckets,
+                new NpgsqlParameter { Value = vehicles.Select(v => IngestBuckets.Of(v.FleetId, v.VehicleId)).Distinct().ToArray(), NpgsqlDbType = NpgsqlDbType.Array | NpgsqlDbType.Integer }));
             batch.BatchCommands.Add(Command(MeasurementChunks.IndexLookupsSql));
             batch.BatchCommands.Add(Command(
                 StoredKeys,

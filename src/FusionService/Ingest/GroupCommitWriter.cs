@@ -9,16 +9,20 @@ using Microsoft.Extensions.Options;
 namespace FusionService.Ingest;
 
 /// <summary>
-/// Group commit: requests put their rows into a bounded channel; <see cref="IngestOptions.CommitWriters"/> background
-/// loops each take what has arrived within <see cref="IngestOptions.CommitWindowMs"/>, store it in one transaction
-/// (<see cref="MeasurementIngest"/>) and then complete every request with the keys it inserted. When two concurrent
-/// transactions carry the same key, the second waits on the first's index entry and then finds it taken, so a key is
-/// still claimed once. A full channel refuses at once (503), a failed transaction
-/// fails every request in it (503); nothing is buffered beyond the channel and nothing is dropped silently.
+/// Group commit: requests put their rows into bounded channels; <see cref="IngestOptions.CommitWriters"/> background
+/// loops each take what has arrived on their channel within <see cref="IngestOptions.CommitWindowMs"/>, store it in one
+/// transaction (<see cref="MeasurementIngest"/>) and then complete every request with the keys it inserted. Each loop
+/// owns a share of the vehicles' lock buckets (<see cref="IngestBuckets"/>, bucket modulo the number of loops) and a
+/// request's rows are split by it, so the loops never wait for each other's bucket locks: a batch mixing hundreds of
+/// vans used to touch nearly every bucket, and the loops then committed one at a time. Concurrent transactions of
+/// other processes that carry the same key still serialise on the bucket's lock, so a key is claimed once. A full
+/// channel refuses at once (503), a failed transaction fails every request in it (503); nothing is buffered beyond the
+/// channels and nothing is dropped silently (a request whose other part committed is refused all the same: a resend
+/// finds those rows stored and hands those still pending to their tracks).
 /// </summary>
 public sealed class GroupCommitWriter : BackgroundService
 {
-    private readonly Channel<CommitRequest> _channel;
+    private readonly Channel<CommitRequest>[] _channels;
     private readonly FusionDatabase _database;
     private readonly IngestOptions _options;
     private readonly ServiceMetrics _metrics;
@@ -32,44 +36,84 @@ public sealed class GroupCommitWriter : BackgroundService
         _options = options.Value;
         _metrics = metrics;
         _logger = logger;
-        _channel = Channel.CreateBounded<CommitRequest>(new BoundedChannelOptions(_options.QueueCapacity)
-        {
-            FullMode = BoundedChannelFullMode.Wait,
-            SingleReader = _options.CommitWriters == 1,
-        });
-        metrics.QueueDepth = () => _channel.Reader.Count;
+        _channels = [.. Enumerable.Range(0, _options.CommitWriters).Select(_ => Channel.CreateBounded<CommitRequest>(
+            new BoundedChannelOptions(_options.QueueCapacity) { FullMode = BoundedChannelFullMode.Wait, SingleReader = true }))];
+        metrics.QueueDepth = () => _channels.Sum(c => c.Reader.Count);
     }
+
+    /// <summary>The commit loop, of <paramref name="writers"/>, that stores a vehicle's rows: its bucket modulo the loops.</summary>
+    internal static int WriterOf(Guid fleetId, string vehicleId, int writers) =>
+        writers == 1 ? 0 : IngestBuckets.Of(fleetId, vehicleId) % writers;
 
     /// <summary>
     /// Stores <paramref name="rows"/> (a request's rows) durably and returns the keys among them that were new;
-    /// a key that appears several times among concurrent requests is claimed by the first. With them comes the
-    /// PostgreSQL transaction id of the commit (0 when there was nothing to store), the token that tells a track
-    /// restored afterwards whether its restore already read them (<see cref="Tracking.CommitStamp"/>).
+    /// a key that appears several times among concurrent requests is claimed by the first. With them come the
+    /// PostgreSQL transaction ids of the commits, per vehicle, the token that tells a track restored afterwards whether
+    /// its restore already read them (<see cref="Tracking.CommitStamp"/>).
     /// </summary>
-    /// <exception cref="ServiceUnavailableException">The queue is full or the commit failed.</exception>
-    public Task<(HashSet<MeasurementKey> Inserted, long TransactionId)> CommitAsync(IReadOnlyList<MeasurementRow> rows)
+    /// <exception cref="ServiceUnavailableException">A queue is full or a commit failed.</exception>
+    public async Task<CommitOutcome> CommitAsync(IReadOnlyList<MeasurementRow> rows)
     {
-        var request = new CommitRequest(rows);
-        if (rows.Count == 0)
+        ArgumentNullException.ThrowIfNull(rows);
+        var parts = new List<MeasurementRow>?[_channels.Length];
+        if (_channels.Length == 1)
         {
-            request.Completion.SetResult(([], 0));
+            parts[0] = rows as List<MeasurementRow> ?? [.. rows];
         }
-        else if (!_channel.Writer.TryWrite(request))
+        else
         {
-            throw new ServiceUnavailableException("the write queue is full");
+            var writerOf = new Dictionary<(Guid FleetId, string VehicleId), int>();
+            foreach (var row in rows)
+            {
+                if (!writerOf.TryGetValue((row.FleetId, row.VehicleId), out int writer))
+                {
+                    writerOf[(row.FleetId, row.VehicleId)] = writer = WriterOf(row.FleetId, row.VehicleId, _channels.Length);
+                }
+
+                (parts[writer] ??= []).Add(row);
+            }
         }
 
-        return request.Completion.Task;
+        var requests = new CommitRequest?[_channels.Length];
+        for (int i = 0; i < parts.Length; i++)
+        {
+            if (parts[i] is not { Count: > 0 } part)
+            {
+                continue;
+            }
+
+            var request = new CommitRequest(part);
+            if (!_channels[i].Writer.TryWrite(request))
+            {
+                request.EndSpan(0, 0, "the write queue is full");
+                throw new ServiceUnavailableException("the write queue is full");
+            }
+
+            requests[i] = request;
+        }
+
+        var inserted = new HashSet<MeasurementKey>();
+        var transactionIds = new long[_channels.Length];
+        for (int i = 0; i < requests.Length; i++)
+        {
+            if (requests[i] is { } request)
+            {
+                var (keys, transactionId) = await request.Completion.Task.ConfigureAwait(false);
+                inserted.UnionWith(keys);
+                transactionIds[i] = transactionId;
+            }
+        }
+
+        return new CommitOutcome(inserted, transactionIds);
     }
 
     /// <inheritdoc />
     protected override Task ExecuteAsync(CancellationToken stoppingToken) =>
-        Task.WhenAll(Enumerable.Range(0, _options.CommitWriters).Select(_ => Task.Run(() => WriteLoopAsync(stoppingToken), CancellationToken.None)));
+        Task.WhenAll(_channels.Select(channel => Task.Run(() => WriteLoopAsync(channel.Reader, stoppingToken), CancellationToken.None)));
 
-    private async Task WriteLoopAsync(CancellationToken stoppingToken)
+    private async Task WriteLoopAsync(ChannelReader<CommitRequest> reader, CancellationToken stoppingToken)
     {
         var batch = new List<CommitRequest>();
-        var reader = _channel.Reader;
         try
         {
             while (await reader.WaitToReadAsync(stoppingToken).ConfigureAwait(false))

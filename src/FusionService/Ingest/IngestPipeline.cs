@@ -74,7 +74,8 @@ public sealed class IngestPipeline(
         }
 
         await ApplyQuotaAsync(fleetId, parsed, results, rows, cancellationToken).ConfigureAwait(false);
-        var (inserted, transactionId) = await writer.CommitAsync(rows).ConfigureAwait(false);
+        var committed = await writer.CommitAsync(rows).ConfigureAwait(false);
+        var inserted = committed.Inserted;
         var fresh = new Dictionary<string, List<TrackMeasurement>>(StringComparer.Ordinal);
         int accepted = 0, duplicate = 0, rejected = 0;
         var repeated = new List<ParsedMessage>();
@@ -112,7 +113,7 @@ public sealed class IngestPipeline(
         metrics.CountMessages(messages, results);
         await duplicates.RecordAsync(fleetId, repeated).ConfigureAwait(false);
         await AddPendingAsync(fleetId, repeated, received, fresh).ConfigureAwait(false);
-        var processed = await tracks.DispatchAsync(fleetId, fresh, transactionId).ConfigureAwait(false);
+        var processed = await tracks.DispatchAsync(fleetId, fresh, vehicleId => committed.TransactionIdOf(fleetId, vehicleId)).ConfigureAwait(false);
         if (options.Value.AcknowledgeAfter == AcknowledgeAfter.Tracking)
         {
             await processed.ConfigureAwait(false);

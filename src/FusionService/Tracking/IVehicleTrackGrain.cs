@@ -16,6 +16,15 @@ public interface IVehicleTrackGrain : IGrainWithStringKey
     [Alias("Process")]
     Task ProcessAsync(TrackMeasurement[] batch, CommitStamp stamp);
 
+    /// <summary>
+    /// Processes several committed batches in one call, in the order given as far as their commits are concerned (each
+    /// is skipped or makes the track rebuild exactly as <see cref="ProcessAsync"/> would), their measurements together
+    /// in canonical order: a dispatcher that finds a vehicle's earlier hand-over still running sends what queued behind
+    /// it at once, so a gateway's many small batches cost one call and no re-processing between them.
+    /// </summary>
+    [Alias("ProcessMany")]
+    Task ProcessManyAsync(TrackDelivery[] deliveries);
+
     /// <summary>The current state, or null before the vehicle has a position.</summary>
     [Alias("GetState")]
     Task<VehicleStateSnapshot?> GetStateAsync();

@@ -11,10 +11,14 @@ namespace FusionService.Tracking;
 /// Delivers committed measurements to their vehicles' track grains. The measurements are already durable when they
 /// arrive here, so a failed delivery loses nothing: the grain is told to rebuild itself from the store
 /// (<see cref="IVehicleTrackGrain.RebuildAsync"/>). At most <see cref="IngestOptions.MaxBatchesInTracking"/> deliveries
-/// run at once, and none starts while the <see cref="TrackWriteQueue"/> is full; until then <see cref="DispatchAsync"/>
-/// waits, which slows ingest down instead of buffering without bound. One vehicle's deliveries reach its grain one
-/// after another in the order they got their slots (for one client posting batch after batch, the order of its
-/// batches); different vehicles' run at once. Each delivery's fused-state lag
+/// run at once, and none starts while the <see cref="TrackWriteQueue"/> is full; until then <c>DispatchAsync</c>
+/// waits, which slows ingest down instead of buffering without bound. One vehicle's hand-overs reach its grain one
+/// after another, never two at once: what is handed over for a vehicle while its grain call runs waits in the vehicle's
+/// mailbox, in the order it got its slot (for one client posting batch after batch, the order of its batches), and
+/// goes in one call when the running one ends (<see cref="IVehicleTrackGrain.ProcessManyAsync"/>). Under load a
+/// gateway's batches that each carry a message or two per vehicle so cost a grain call per vehicle per round, not
+/// per message, and the grain fuses what queued in canonical order. Different vehicles' calls run at once. Each
+/// delivery's fused-state lag
 /// (commit to processed by the grain) goes to <see cref="ServiceMetrics.ObserveTrackLag"/>. Registered as a hosted
 /// service after the Orleans silo, so that at shutdown it stops first and lets the deliveries in flight finish.
 /// </summary>
@@ -27,11 +31,11 @@ public sealed class TrackDispatcher : IHostedService, IAsyncDisposable
     private readonly SemaphoreSlim _slots;
     private readonly ConcurrentDictionary<Task, bool> _inFlight = new();
 
-    // The newest delivery of each vehicle: the next one for that vehicle waits for it, so a vehicle's batches reach its
-    // grain in the order they were handed over (a tracker flushing a backlog posts batch after batch; delivered out of
-    // order, batches further apart than the replay window would be judged too late).
-    private readonly Dictionary<(Guid FleetId, string VehicleId), Task> _tails = [];
-    private readonly Lock _tailsGate = new();
+    // The vehicles whose grain call runs, with what was handed over for them since: the next call takes all of it, in
+    // the order it was handed over (a tracker flushing a backlog posts batch after batch; delivered out of order,
+    // batches further apart than the replay window would be judged too late).
+    private readonly Dictionary<(Guid FleetId, string VehicleId), List<Handover>> _mailboxes = [];
+    private readonly Lock _mailboxesGate = new();
 
     /// <summary>Creates the dispatcher.</summary>
     public TrackDispatcher(
@@ -53,8 +57,16 @@ public sealed class TrackDispatcher : IHostedService, IAsyncDisposable
     /// when every grain has processed its measurements (it never faults: failures are logged).
     /// <paramref name="transactionId"/> is the PostgreSQL transaction id of the commit that stored them (0 when unknown).
     /// </summary>
-    public async Task<Task> DispatchAsync(Guid fleetId, IReadOnlyDictionary<string, List<TrackMeasurement>> fresh, long transactionId)
+    public Task<Task> DispatchAsync(Guid fleetId, IReadOnlyDictionary<string, List<TrackMeasurement>> fresh, long transactionId) =>
+        DispatchAsync(fleetId, fresh, _ => transactionId);
+
+    /// <summary>
+    /// As <see cref="DispatchAsync(Guid, IReadOnlyDictionary{string, List{TrackMeasurement}}, long)"/>, each vehicle's
+    /// measurements stored by the commit whose transaction id <paramref name="transactionIdOf"/> gives for it.
+    /// </summary>
+    public async Task<Task> DispatchAsync(Guid fleetId, IReadOnlyDictionary<string, List<TrackMeasurement>> fresh, Func<string, long> transactionIdOf)
     {
+        ArgumentNullException.ThrowIfNull(transactionIdOf);
         ArgumentNullException.ThrowIfNull(fresh);
         if (fresh.Count == 0)
         {
@@ -73,19 +85,33 @@ public sealed class TrackDispatcher : IHostedService, IAsyncDisposable
             throw;
         }
 
-        var ordered = new List<(string VehicleId, List<TrackMeasurement> Measurements, Task Previous, TaskCompletionSource Done)>(fresh.Count);
-        lock (_tailsGate)
+        var handovers = new List<Handover>(fresh.Count);
+        var starts = new List<Handover>();
+        lock (_mailboxesGate)
         {
             foreach (var (vehicleId, measurements) in fresh)
             {
-                var done = new TaskCompletionSource(TaskCreationOptions.RunContinuationsAsynchronously);
-                var previous = _tails.TryGetValue((fleetId, vehicleId), out var tail) ? tail : Task.CompletedTask;
-                _tails[(fleetId, vehicleId)] = done.Task;
-                ordered.Add((vehicleId, measurements, previous, done));
+                var handover = new Handover(vehicleId, new TrackDelivery([.. measurements], new CommitStamp(transactionIdOf(vehicleId))));
+                handovers.Add(handover);
+                if (_mailboxes.TryGetValue((fleetId, vehicleId), out var waiting))
+                {
+                    waiting.Add(handover);
+                }
+                else
+                {
+                    // No call runs for this vehicle: one starts with this hand-over, and an empty mailbox marks it running.
+                    _mailboxes[(fleetId, vehicleId)] = [];
+                    starts.Add(handover);
+                }
             }
         }
 
-        var delivery = DeliverAsync(fleetId, ordered, new CommitStamp(transactionId), committedAt);
+        foreach (var handover in starts)
+        {
+            _ = RunMailboxAsync(fleetId, [handover]);
+        }
+
+        var delivery = DeliverAsync(handovers, committedAt);
         _inFlight.TryAdd(delivery, true);
         _ = delivery.ContinueWith(
             (done, state) =>
@@ -118,17 +144,9 @@ public sealed class TrackDispatcher : IHostedService, IAsyncDisposable
         _slots.Dispose();
     }
 
-    private async Task DeliverAsync(
-        Guid fleetId, List<(string VehicleId, List<TrackMeasurement> Measurements, Task Previous, TaskCompletionSource Done)> fresh, CommitStamp stamp, long committedAt)
+    private async Task DeliverAsync(List<Handover> handovers, long committedAt)
     {
-        await Task.Yield();
-        var calls = new List<Task<Exception?>>(fresh.Count);
-        foreach (var item in fresh)
-        {
-            calls.Add(DeliverInTurnAsync(fleetId, item.VehicleId, item.Measurements, stamp, item.Previous, item.Done));
-        }
-
-        var failures = await Task.WhenAll(calls).ConfigureAwait(false);
+        var failures = await Task.WhenAll(handovers.Select(h => h.Done.Task)).ConfigureAwait(false);
         _metrics.ObserveTrackLag(Stopwatch.GetElapsedTime(committedAt).TotalSeconds);
         int failed = failures.Count(f => f is not null);
         if (failed > 0)
@@ -138,38 +156,55 @@ public sealed class TrackDispatcher : IHostedService, IAsyncDisposable
                 failures.First(f => f is not null),
                 "{Failed} of {Vehicles} tracks did not take their stored measurements; they rebuild from the store",
                 failed,
-                fresh.Count);
+                handovers.Count);
         }
     }
 
-    private async Task<Exception?> DeliverInTurnAsync(
-        Guid fleetId, string vehicleId, List<TrackMeasurement> measurements, CommitStamp stamp, Task previous, TaskCompletionSource done)
+    // Calls the vehicle's grain with the hand-overs given, then with everything that queued in its mailbox meanwhile,
+    // until the mailbox is empty; then the vehicle has no call running.
+    private async Task RunMailboxAsync(Guid fleetId, List<Handover> next)
     {
-        try
+        await Task.Yield();
+        string vehicleId = next[0].VehicleId;
+        while (true)
         {
-            await previous.ConfigureAwait(false);
-            return await DeliverOneAsync(fleetId, vehicleId, measurements, stamp).ConfigureAwait(false);
-        }
-        finally
-        {
-            done.SetResult();
-            lock (_tailsGate)
+            var failure = await DeliverOneAsync(fleetId, vehicleId, next).ConfigureAwait(false);
+            foreach (var handover in next)
             {
-                if (_tails.TryGetValue((fleetId, vehicleId), out var tail) && tail == done.Task)
+                handover.Done.SetResult(failure);
+            }
+
+            lock (_mailboxesGate)
+            {
+                var waiting = _mailboxes[(fleetId, vehicleId)];
+                if (waiting.Count == 0)
                 {
-                    _tails.Remove((fleetId, vehicleId));
+                    _mailboxes.Remove((fleetId, vehicleId));
+                    return;
                 }
+
+                next = [.. waiting];
+                waiting.Clear();
             }
         }
     }
 
-    private async Task<Exception?> DeliverOneAsync(Guid fleetId, string vehicleId, List<TrackMeasurement> measurements, CommitStamp stamp)
+    private async Task<Exception?> DeliverOneAsync(Guid fleetId, string vehicleId, List<Handover> handovers)
     {
         var grain = _grains.GetGrain<IVehicleTrackGrain>(GrainKeys.Of(fleetId, vehicleId));
-        using var span = FusionTelemetry.StartHandover(vehicleId, measurements.Count);
+        int count = handovers.Sum(h => h.Delivery.Batch.Length);
+        using var span = FusionTelemetry.StartHandover(vehicleId, count);
         try
         {
-            await grain.ProcessAsync([.. measurements], stamp).ConfigureAwait(false);
+            if (handovers.Count == 1)
+            {
+                await grain.ProcessAsync(handovers[0].Delivery.Batch, handovers[0].Delivery.Stamp).ConfigureAwait(false);
+            }
+            else
+            {
+                await grain.ProcessManyAsync([.. handovers.Select(h => h.Delivery)]).ConfigureAwait(false);
+            }
+
             return null;
         }
         catch (Exception ex)
@@ -177,7 +212,7 @@ public sealed class TrackDispatcher : IHostedService, IAsyncDisposable
             // Committed already, but the track may not have them (a call that timed out may never have run): make it
             // rebuild from the store, which holds them. If even that call fails, the track rebuilds at its next activation.
             span?.SetStatus(ActivityStatusCode.Error, ex.Message);
-            long fromUs = measurements.Min(m => m.TimeUs);
+            long fromUs = handovers.Min(h => h.Delivery.Batch.Min(m => m.TimeUs));
             try
             {
                 await grain.RebuildAsync(fromUs).ConfigureAwait(false);
@@ -189,5 +224,15 @@ public sealed class TrackDispatcher : IHostedService, IAsyncDisposable
 
             return ex;
         }
+    }
+
+    // One vehicle's part of a delivery; Done carries the failure of the grain call that took it (null when it took it).
+    private sealed class Handover(string vehicleId, TrackDelivery delivery)
+    {
+        public string VehicleId { get; } = vehicleId;
+
+        public TrackDelivery Delivery { get; } = delivery;
+
+        public TaskCompletionSource<Exception?> Done { get; } = new(TaskCreationOptions.RunContinuationsAsynchronously);
     }
 }

@@ -81,6 +81,28 @@ public sealed class OrderIndependenceTests(ITestOutputHelper output)
     }
 
     [Fact]
+    public void A_late_measurement_reports_again_only_itself_and_what_follows_it()
+    {
+        // Checkpoints every 5 s; the late measurement lies 3 s after one, so the re-processing starts 3 s before it.
+        var drive = SimpleDrive.Create(seed: 11, durationS: 60);
+        var track = new VehicleTrack(new TrackOptions { LagWindowS = 60, CheckpointIntervalS = 5 }, NoiseProfile.DeliveryVan);
+        Measurement late = drive.Measurements.First(m => m.TimeUs >= SimpleDrive.StartUs + 33_000_000);
+        var held = drive.Measurements.Where(m => !m.Equals(late)).ToList();
+        foreach (Measurement m in held.Where(m => m.TimeUs <= late.TimeUs + 400_000))
+        {
+            track.Process(m);
+        }
+
+        var log = new ReportLog();
+        track.Process(late, log);
+
+        // Itself once (not a replay), then every held measurement after it once (replays), in canonical order; none before it.
+        var after = held.Where(m => m.TimeUs <= late.TimeUs + 400_000 && VehicleTrack.CompareKey(m, late) > 0).ToList();
+        Assert.NotEmpty(after);
+        Assert.Equal([(late, false), .. after.Select(m => (m, true))], log.Reports);
+    }
+
+    [Fact]
     public void Same_key_with_different_values_is_a_conflict()
     {
         var track = new VehicleTrack(new TrackOptions(), NoiseProfile.DeliveryVan);
@@ -128,5 +150,13 @@ public sealed class OrderIndependenceTests(ITestOutputHelper output)
 
         // Everything else a checkpoint carries (held fix and course, carry and stream-agreement evidence) byte for byte.
         Assert.Equal(TrackStateCodec.Encode(expected, default), TrackStateCodec.Encode(actual, default));
+    }
+
+    private sealed class ReportLog : ITrackObserver
+    {
+        public List<(Measurement M, bool IsReplay)> Reports { get; } = [];
+
+        public void OnOutcome(in Measurement m, in MeasurementOutcome outcome, in TrackState posterior, bool isReplay) =>
+            Reports.Add((m, isReplay));
     }
 }

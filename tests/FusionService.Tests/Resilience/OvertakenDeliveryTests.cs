@@ -54,7 +54,55 @@ public sealed class OvertakenDeliveryTests(ServiceFixture fixture)
 
         var grain = service.Services.GetRequiredService<IGrainFactory>().GetGrain<IVehicleTrackGrain>(GrainKeys.Of(fleet.Id, Vehicle));
         await grain.ProcessAsync([.. held.Select(m => TrackMeasurement.From(m))], new CommitStamp(stamp));
-        for (int from = laterTo; from < drive.Messages.Count; from += 100)
+        await IngestTheRestAndCompareAsync(service, client, fleet, drive, Vehicle, laterTo, "3, 4");
+    }
+
+    [Fact]
+    public async Task Issue16_batches_handed_over_together_out_of_order_are_fused_in_order()
+    {
+        var fleet = await fixture.NewFleetAsync();
+        const string Vehicle = "van-merged";
+        var truth = RouteDriver.Drive(
+            [new RouteWaypoint(0, 0), new RouteWaypoint(600, 0), new RouteWaypoint(600, 400), new RouteWaypoint(0, 400)],
+            new RouteDriverOptions { StartTimeUs = TelemetryDrive.StartUs(TimeSpan.FromMinutes(10)) },
+            seed: 1606);
+        var drive = TelemetryDrive.FromRun(Vehicle, MeasurementGenerator.Generate(truth, SensorSuite.ForProfile(NoiseProfile.DeliveryVan), seed: 1606));
+        long startUs = drive.Messages[0].Core[0].TimeUs;
+        int firstTo = Index(drive, startUs + 30_000_000), secondTo = Index(drive, startUs + 40_000_000), thirdTo = Index(drive, startUs + 50_000_000);
+        await using var service = new ServiceFactory(fixture.ConnectionString);
+        using var client = fixture.Client(fleet.IngestKey, service);
+        for (int from = 0; from < firstTo; from += 100)
+        {
+            await client.IngestOkAsync(drive.Body(from, Math.Min(from + 100, firstTo)));
+        }
+
+        // Two commits the dispatcher found queued behind a running call, the later one first in the mailbox.
+        var earlier = drive.Messages.Skip(firstTo).Take(secondTo - firstTo).SelectMany(m => m.Core).ToList();
+        var later = drive.Messages.Skip(secondTo).Take(thirdTo - secondTo).SelectMany(m => m.Core).ToList();
+        await fixture.StoreWithoutTrackAsync([.. earlier.Select(m => MeasurementRows.ToRow(fleet.Id, Vehicle, m, DateTime.UtcNow))]);
+        long earlierStamp = await fixture.CountAsync("SELECT pg_current_xact_id()::text::bigint");
+        await fixture.StoreWithoutTrackAsync([.. later.Select(m => MeasurementRows.ToRow(fleet.Id, Vehicle, m, DateTime.UtcNow))]);
+        long laterStamp = await fixture.CountAsync("SELECT pg_current_xact_id()::text::bigint");
+        Assert.True(laterStamp > earlierStamp);
+
+        await service.Services.GetRequiredService<TrackDispatcher>().WhenIdleAsync();
+        var grain = service.Services.GetRequiredService<IGrainFactory>().GetGrain<IVehicleTrackGrain>(GrainKeys.Of(fleet.Id, Vehicle));
+        await grain.ProcessManyAsync(
+        [
+            new TrackDelivery([.. later.Select(m => TrackMeasurement.From(m))], new CommitStamp(laterStamp)),
+            new TrackDelivery([.. earlier.Select(m => TrackMeasurement.From(m))], new CommitStamp(earlierStamp)),
+        ]);
+        await IngestTheRestAndCompareAsync(service, client, fleet, drive, Vehicle, thirdTo, "2, 3, 4");
+    }
+
+    /// <summary>
+    /// Ingests the drive's messages from <paramref name="from"/> on, then checks the track's state against an uninterrupted
+    /// run of every message and that no stored measurement of the fleet has one of <paramref name="outcomeCodes"/>.
+    /// </summary>
+    private async Task IngestTheRestAndCompareAsync(
+        ServiceFactory service, HttpClient client, TestFleet fleet, TelemetryDrive drive, string vehicle, int from, string outcomeCodes)
+    {
+        for (; from < drive.Messages.Count; from += 100)
         {
             await client.IngestOkAsync(drive.Body(from, Math.Min(from + 100, drive.Messages.Count)));
         }
@@ -62,9 +110,9 @@ public sealed class OvertakenDeliveryTests(ServiceFixture fixture)
         await service.Services.GetRequiredService<TrackDispatcher>().WhenIdleAsync();
         var uninterrupted = new TrackOracle();
         uninterrupted.Process(drive.Messages.Select(m => m.Core));
-        Assert.Equal(uninterrupted.Response(Vehicle), await fixture.Client(fleet.ReadKey, service).StateAsync(Vehicle));
+        Assert.Equal(uninterrupted.Response(vehicle), await fixture.Client(fleet.ReadKey, service).StateAsync(vehicle));
         await service.Services.GetRequiredService<TrackWriteQueue>().FlushAsync(CancellationToken.None);
-        Assert.Equal(0, await fixture.CountAsync("SELECT count(*) FROM " + JudgedSql.OfFleet + " WHERE outcome IN (3, 4)", fleet.Id));
+        Assert.Equal(0, await fixture.CountAsync("SELECT count(*) FROM " + JudgedSql.OfFleet + " WHERE outcome IN (" + outcomeCodes + ")", fleet.Id));
     }
 
     /// <summary>The index of the drive's first message after <paramref name="timeUs"/>.</summary>

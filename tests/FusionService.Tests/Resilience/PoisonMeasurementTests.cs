@@ -41,10 +41,10 @@ public sealed class PoisonMeasurementTests(ServiceFixture fixture)
             }
 
             var row = MeasurementRows.ToRow(fleet.Id, Vehicle, poison, DateTime.UtcNow) with { V2 = 1e50 };
-            var (inserted, sequence) = await first.Services.GetRequiredService<GroupCommitWriter>().CommitAsync([row]);
-            Assert.Single(inserted);
+            var committed = await first.Services.GetRequiredService<GroupCommitWriter>().CommitAsync([row]);
+            Assert.Single(committed.Inserted);
             var fresh = new Dictionary<string, List<TrackMeasurement>>(StringComparer.Ordinal) { [Vehicle] = [TrackMeasurement.From(poison)] };
-            await await first.Services.GetRequiredService<TrackDispatcher>().DispatchAsync(fleet.Id, fresh, sequence);
+            await await first.Services.GetRequiredService<TrackDispatcher>().DispatchAsync(fleet.Id, fresh, committed.TransactionIdOf(fleet.Id, Vehicle));
 
             for (int from = PoisonAfter; from < RestartAfter; from += 50)
             {
