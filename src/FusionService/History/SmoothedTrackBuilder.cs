@@ -28,7 +28,12 @@ namespace FusionService.History;
 /// replay in a single stretch gives (<c>CompactedTrackReplay.Smooth</c>; tests: <c>SplitReplayTests</c>).
 /// </remarks>
 internal sealed class SmoothedTrackBuilder(
-    TrackProcessor processor, FusionDatabase database, IOptions<TrackHistoryOptions> options, ServiceMetrics metrics, ILogger<SmoothedTrackBuilder> logger)
+    TrackProcessor processor,
+    FusionDatabase database,
+    IOptions<TrackHistoryOptions> options,
+    IOptions<HeavyReadOptions> heavyReads,
+    ServiceMetrics metrics,
+    ILogger<SmoothedTrackBuilder> logger)
 {
     /// <summary>Segment arrays shared by the requests (a vehicle-day's are about 36 MB; see <see cref="SegmentArrayPool"/>).</summary>
     private readonly SegmentArrayPool _pool = new(MaxPreallocatedInstants);
@@ -108,7 +113,9 @@ internal sealed class SmoothedTrackBuilder(
             }
         }
 
-        return new SmoothedTrack(CompactedTrackReplay.Smooth(passes), distanceInputs, floor is not null, carried);
+        var segments = await LowPriorityThread.Run(
+            "fusion-smooth", heavyReads.Value.LowCpuPriority, () => CompactedTrackReplay.Smooth(passes), cancellationToken, logger).ConfigureAwait(false);
+        return new SmoothedTrack(segments, distanceInputs, floor is not null, carried);
     }
 
     /// <summary>
@@ -180,7 +187,11 @@ internal sealed class SmoothedTrackBuilder(
         long readToUs = stretch.Ceiling is { } ceiling ? Math.Min(ceiling.TimeUs + 1, toUs) : toUs;
         int expectedInstants = ExpectedInstants(Math.Max(fromUs, stretch.ReadFromUs), readToUs, recordIntervalUs);
         TrackState start = stretch.Start;
-        Task<ForwardPass> replay = Task.Factory.StartNew(
+        // The filter's work (most of a smoothed read's processor time) runs at the lowest scheduling priority, so that
+        // ingest on the same cores always goes first (HeavyReads:LowCpuPriority).
+        Task<ForwardPass> replay = LowPriorityThread.Run(
+            "fusion-replay",
+            heavyReads.Value.LowCpuPriority,
             () => CompactedTrackReplay.Forward(
                 processor,
                 start,
@@ -190,8 +201,7 @@ internal sealed class SmoothedTrackBuilder(
                 expectedInstants,
                 _pool),
             stop.Token,
-            TaskCreationOptions.LongRunning,
-            TaskScheduler.Default);
+            logger);
 
         // A failed replay returns no more chunk arrays: the read must not wait for one.
         _ = replay.ContinueWith(
