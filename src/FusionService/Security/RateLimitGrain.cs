@@ -6,8 +6,11 @@ namespace FusionService.Security;
 /// <summary>
 /// A token bucket in memory: holds <c>permits</c>, refills <c>permits</c> per window continuously, starts full. Orleans
 /// keeps one activation per key in the cluster, so every process leases from the same bucket. Its state is not stored: a
-/// bucket reactivated after its silo failed starts full again (docs/limits-and-keys.md, accuracy).
+/// bucket reactivated after its silo failed starts full again (docs/limits-and-keys.md, accuracy). An idle bucket stays
+/// in memory for longer than the longest window (<c>Security:RateLimitWindowSeconds</c> is at most an hour), so one that is
+/// dropped has refilled by then and starting full again changes nothing.
 /// </summary>
+[CollectionAgeLimit(Minutes = 61)]
 internal sealed class RateLimitGrain : Grain, IRateLimitGrain
 {
     private double _tokens = double.NaN;
