@@ -1,7 +1,7 @@
 // The columns of a stored measurement that a replay of the filter needs.
 namespace FusionService.Storage.History;
 
-/// <summary>One stored, non-duplicate measurement as <see cref="TrackHistoryReader.ReadReplayMeasurementsAsync"/> hands it over.</summary>
+/// <summary>One stored, non-duplicate measurement as <see cref="TrackHistoryReader.ReadReplayMeasurementsAsync(Guid, string, long, long, short, short, Action{ReplayMeasurementValues}, CancellationToken)"/> hands it over.</summary>
 /// <param name="Kind">Sensor kind code (the estimation core's <c>SensorKind</c>).</param>
 /// <param name="TimeUs">Measurement time, Unix microseconds.</param>
 /// <param name="MessageKey">Message key (56 bits, non-negative).</param>

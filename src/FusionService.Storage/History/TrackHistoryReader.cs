@@ -93,12 +93,33 @@ public sealed class TrackHistoryReader
     /// <param name="onRow">Receives each row, in order.</param>
     /// <param name="cancellationToken">Cancels the query.</param>
     /// <returns>Number of rows handed over.</returns>
+    public Task<int> ReadReplayMeasurementsAsync(
+        Guid fleetId, string vehicleId, long fromUs, long toUs, short minKind, short maxKind, Action<ReplayMeasurementValues> onRow,
+        CancellationToken cancellationToken = default) =>
+        ReadReplayMeasurementsAsync(fleetId, vehicleId, fromUs, toUs, minKind, maxKind, onRow, static _ => ValueTask.CompletedTask, cancellationToken);
+
+    /// <summary>
+    /// As <see cref="ReadReplayMeasurementsAsync(Guid, string, long, long, short, short, Action{ReplayMeasurementValues}, CancellationToken)"/>,
+    /// awaiting <paramref name="afterRows"/> after each group of rows handed over (one stored chunk's, at most a ten-minute
+    /// window's), so that a consumer slower than the read can make it wait without blocking a thread.
+    /// </summary>
+    /// <param name="fleetId">Owning fleet.</param>
+    /// <param name="vehicleId">Vehicle within the fleet.</param>
+    /// <param name="fromUs">Inclusive start, Unix microseconds.</param>
+    /// <param name="toUs">Exclusive end, Unix microseconds.</param>
+    /// <param name="minKind">Smallest kind code wanted.</param>
+    /// <param name="maxKind">Largest kind code wanted.</param>
+    /// <param name="onRow">Receives each row, in order.</param>
+    /// <param name="afterRows">Awaited after each group of rows handed over.</param>
+    /// <param name="cancellationToken">Cancels the query.</param>
+    /// <returns>Number of rows handed over.</returns>
     public async Task<int> ReadReplayMeasurementsAsync(
         Guid fleetId, string vehicleId, long fromUs, long toUs, short minKind, short maxKind, Action<ReplayMeasurementValues> onRow,
-        CancellationToken cancellationToken = default)
+        Func<CancellationToken, ValueTask> afterRows, CancellationToken cancellationToken = default)
     {
         ArgumentNullException.ThrowIfNull(vehicleId);
         ArgumentNullException.ThrowIfNull(onRow);
+        ArgumentNullException.ThrowIfNull(afterRows);
         if (toUs <= fromUs)
         {
             return 0;
@@ -137,6 +158,7 @@ public sealed class TrackHistoryReader
                     while (await reader.ReadAsync(cancellationToken).ConfigureAwait(false))
                     {
                         count += Hand(window.Begin(reader.GetInt64(0)), onRow);
+                        await afterRows(cancellationToken).ConfigureAwait(false);
                         int n = reader.GetInt32(1);
                         if (time.Length < n)
                         {

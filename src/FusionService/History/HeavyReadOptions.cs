@@ -29,6 +29,13 @@ public sealed class HeavyReadOptions
     [Range(0, 60_000)]
     public int QueueTimeoutMs { get; set; } = 10_000;
 
+    /// <summary>
+    /// Whether the processor work of smoothed tracks and distance (the filter's replay and the RTS smoother) runs on
+    /// threads of the lowest OS scheduling priority (nice 19 on Linux), so that ingest on the same cores always goes
+    /// first and the reads take only processor time nobody else wants. Default true; false runs it at normal priority.
+    /// </summary>
+    public bool LowCpuPriority { get; set; } = true;
+
     /// <summary>Retry-After of a refused history read, seconds. Default 2.</summary>
     [Range(1, 3600)]
     public int RetryAfterS { get; set; } = 2;

@@ -28,7 +28,12 @@ namespace FusionService.History;
 /// replay in a single stretch gives (<c>CompactedTrackReplay.Smooth</c>; tests: <c>SplitReplayTests</c>).
 /// </remarks>
 internal sealed class SmoothedTrackBuilder(
-    TrackProcessor processor, FusionDatabase database, IOptions<TrackHistoryOptions> options, ServiceMetrics metrics, ILogger<SmoothedTrackBuilder> logger)
+    TrackProcessor processor,
+    FusionDatabase database,
+    IOptions<TrackHistoryOptions> options,
+    IOptions<HeavyReadOptions> heavyReads,
+    ServiceMetrics metrics,
+    ILogger<SmoothedTrackBuilder> logger)
 {
     /// <summary>Segment arrays shared by the requests (a vehicle-day's are about 36 MB; see <see cref="SegmentArrayPool"/>).</summary>
     private readonly SegmentArrayPool _pool = new(MaxPreallocatedInstants);
@@ -108,7 +113,9 @@ internal sealed class SmoothedTrackBuilder(
             }
         }
 
-        return new SmoothedTrack(CompactedTrackReplay.Smooth(passes), distanceInputs, floor is not null, carried);
+        var segments = await LowPriorityThread.Run(
+            "fusion-smooth", heavyReads.Value.LowCpuPriority, () => CompactedTrackReplay.Smooth(passes), cancellationToken, logger).ConfigureAwait(false);
+        return new SmoothedTrack(segments, distanceInputs, floor is not null, carried);
     }
 
     /// <summary>
@@ -180,7 +187,11 @@ internal sealed class SmoothedTrackBuilder(
         long readToUs = stretch.Ceiling is { } ceiling ? Math.Min(ceiling.TimeUs + 1, toUs) : toUs;
         int expectedInstants = ExpectedInstants(Math.Max(fromUs, stretch.ReadFromUs), readToUs, recordIntervalUs);
         TrackState start = stretch.Start;
-        Task<ForwardPass> replay = Task.Factory.StartNew(
+        // The filter's work (most of a smoothed read's processor time) runs at the lowest scheduling priority, so that
+        // ingest on the same cores always goes first (HeavyReads:LowCpuPriority).
+        Task<ForwardPass> replay = LowPriorityThread.Run(
+            "fusion-replay",
+            heavyReads.Value.LowCpuPriority,
             () => CompactedTrackReplay.Forward(
                 processor,
                 start,
@@ -190,8 +201,7 @@ internal sealed class SmoothedTrackBuilder(
                 expectedInstants,
                 _pool),
             stop.Token,
-            TaskCreationOptions.LongRunning,
-            TaskScheduler.Default);
+            logger);
 
         // A failed replay returns no more chunk arrays: the read must not wait for one.
         _ = replay.ContinueWith(
@@ -213,7 +223,7 @@ internal sealed class SmoothedTrackBuilder(
         {
             var chunk = new Measurement[ChunkLength];
             int filled = 0;
-            int chunkCount = 0;
+            int arrays = 1;
             var reader = new TrackHistoryReader(database.ReadDataSource);
             await reader.ReadReplayMeasurementsAsync(
                 fleetId,
@@ -228,11 +238,26 @@ internal sealed class SmoothedTrackBuilder(
                     if (filled == ChunkLength)
                     {
                         chunks.Add(new Chunk(chunk, filled), stop.Token);
-                        chunkCount++;
 
                         // A few arrays go round between the two threads instead of one new one per chunk.
-                        chunk = chunkCount < ChunksInFlight ? new Measurement[ChunkLength] : spare.Take(stop.Token);
+                        if (!spare.TryTake(out chunk))
+                        {
+                            chunk = new Measurement[ChunkLength];
+                            arrays++;
+                        }
+
                         filled = 0;
+                    }
+                },
+                async token =>
+                {
+                    // Ahead of the replay by ChunksInFlight arrays: wait for one to come back. Polled, not signalled: the
+                    // replay's thread runs at the lowest priority, and a wake-up it caused would queue this continuation to
+                    // the thread pool from there (LowPriorityThread). Waiting blocks no pool thread, which on a small machine
+                    // the ingest needs (a blocking wait here held one per stretch for as long as the replay lagged).
+                    while (arrays >= ChunksInFlight && spare.Count == 0)
+                    {
+                        await Task.Delay(SparePollMs, token).ConfigureAwait(false);
                     }
                 },
                 stop.Token).ConfigureAwait(false);
@@ -279,8 +304,14 @@ internal sealed class SmoothedTrackBuilder(
     /// <summary>Rows handed from the storage read to the replay thread at a time.</summary>
     private const int ChunkLength = 8192;
 
-    /// <summary>Chunk arrays made per request; later chunks reuse the ones the replay has finished with.</summary>
+    /// <summary>
+    /// Chunk arrays a stretch's read may get ahead of its replay by (a stored chunk's rows, up to two arrays, may come on
+    /// top before the read waits); later chunks reuse the ones the replay has finished with.
+    /// </summary>
     private const int ChunksInFlight = 8;
+
+    /// <summary>How often a read waiting for the replay looks for a returned array, milliseconds.</summary>
+    private const int SparePollMs = 2;
 
     /// <summary>
     /// The measurements of <paramref name="chunks"/> in order, without those at or before <paramref name="floor"/> (already

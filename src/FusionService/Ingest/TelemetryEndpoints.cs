@@ -139,7 +139,7 @@ public static class TelemetryEndpoints
                 return TooLarge(string.Create(CultureInfo.InvariantCulture, $"body: {messages.Count} messages exceed the limit of {limits.MaxMessages}"));
             }
 
-            if (rateLimiter.TryMessages(caller, messages.Count) is { } refused)
+            if (await rateLimiter.TryMessagesAsync(caller, messages.Count).ConfigureAwait(false) is { } refused)
             {
                 return refused.ToResult(http);
             }
@@ -313,7 +313,7 @@ public static class TelemetryEndpoints
     private static async Task<Dictionary<string, object?>> AcknowledgeAsync(
         byte[] frame, ApiCaller caller, IngestPipeline pipeline, TenantRateLimiter rateLimiter, IngestOptions limits, CancellationToken cancellationToken)
     {
-        if (rateLimiter.TryRequest(caller) is { } tooManyFrames)
+        if (await rateLimiter.TryRequestAsync(caller).ConfigureAwait(false) is { } tooManyFrames)
         {
             return new() { ["seq"] = null, ["error"] = tooManyFrames.Detail, ["retry_after_s"] = tooManyFrames.RetryAfterS };
         }
@@ -350,7 +350,7 @@ public static class TelemetryEndpoints
                 return new() { ["seq"] = seq, ["error"] = string.Create(CultureInfo.InvariantCulture, $"messages: {messages.Count} exceed the limit of {limits.MaxMessages}") };
             }
 
-            if (rateLimiter.TryMessages(caller, messages.Count) is { } refused)
+            if (await rateLimiter.TryMessagesAsync(caller, messages.Count).ConfigureAwait(false) is { } refused)
             {
                 return new() { ["seq"] = seq, ["error"] = refused.Detail, ["retry_after_s"] = refused.RetryAfterS };
             }

@@ -86,7 +86,7 @@ internal sealed class ApiKeyFilter(ApiKeyRole[] roles) : IEndpointFilter
                 statusCode: StatusCodes.Status401Unauthorized);
         }
 
-        if (limiter.TryRequest(caller) is { } refused)
+        if (await limiter.TryRequestAsync(caller).ConfigureAwait(false) is { } refused)
         {
             return refused.ToResult(http);
         }

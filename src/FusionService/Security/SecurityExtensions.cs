@@ -1,5 +1,6 @@
 // Registration of key authentication and the per-key, per-fleet and per-address rate limits.
 using FusionService.Storage.Fleets;
+using Microsoft.Extensions.Options;
 
 namespace FusionService.Security;
 
@@ -14,7 +15,11 @@ public static class SecurityExtensions
     {
         services.AddOptions<SecurityOptions>().BindConfiguration(SecurityOptions.Section).ValidateDataAnnotations().ValidateOnStart();
         services.AddSingleton<ApiKeyResolver>();
-        services.AddSingleton<TenantRateLimiter>();
+        services.AddSingleton(sp => new TenantRateLimiter(
+            sp.GetRequiredService<IOptions<SecurityOptions>>(),
+            sp.GetRequiredService<Operations.ServiceMetrics>(),
+            sp.GetRequiredService<IGrainFactory>(),
+            sp.GetRequiredService<ILogger<TenantRateLimiter>>()));
         services.AddSingleton<StreamKeyWatch>();
         services.AddHostedService(sp => sp.GetRequiredService<StreamKeyWatch>());
         return services;

@@ -63,6 +63,21 @@ public sealed class SecurityOptions
     [Range(1, int.MaxValue)]
     public int FailedAuthPermits { get; set; } = 60;
 
+    /// <summary>
+    /// How long a process may spend permits it leased from the cluster's bucket of a key or fleet limit, seconds; a lease
+    /// asks for this long's refill (at least the request's own permits). The cluster can go over a limit by at most this
+    /// long's refill (docs/limits-and-keys.md); longer leases mean fewer calls to the bucket. Default 1.
+    /// </summary>
+    [Range(0.05, 3600)]
+    public double RateLimitLeaseSeconds { get; set; } = 1;
+
+    /// <summary>
+    /// How long a request waits for a lease from the cluster's bucket, milliseconds, before this process's own bucket of
+    /// the limit judges it instead (the silo holding the bucket failed, say). Default 2,000.
+    /// </summary>
+    [Range(10, 60_000)]
+    public int RateLimitLeaseTimeoutMs { get; set; } = 2_000;
+
     /// <summary>Seconds between checks that the key of an open WebSocket stream is still valid (revoked or expired: the stream is closed with 1008). Default 30.</summary>
     [Range(1, 3600)]
     public int StreamKeyRecheckSeconds { get; set; } = 30;

@@ -50,14 +50,14 @@ public sealed class RateLimitTests(ServiceFixture fixture)
         var options = Microsoft.Extensions.Options.Options.Create(new FusionService.Security.SecurityOptions { RateLimitPermits = 2, RateLimitWindowSeconds = 1 });
         using var limiter = new FusionService.Security.TenantRateLimiter(options, new FusionService.Operations.ServiceMetrics());
         var caller = new FusionService.Security.ApiCaller(Guid.NewGuid(), ApiKeyRole.Read, "hash", Guid.NewGuid());
-        Assert.Null(limiter.TryRequest(caller));
-        Assert.Null(limiter.TryRequest(caller));
-        var refused = limiter.TryRequest(caller);
+        Assert.Null(await limiter.TryRequestAsync(caller));
+        Assert.Null(await limiter.TryRequestAsync(caller));
+        var refused = await limiter.TryRequestAsync(caller);
         Assert.NotNull(refused);
         Assert.Equal(1, refused.RetryAfterS);
         // Two permits per second come back within a second; 3 s leaves room for a busy machine.
         await Task.Delay(TimeSpan.FromSeconds(3));
-        Assert.Null(limiter.TryRequest(caller));
+        Assert.Null(await limiter.TryRequestAsync(caller));
     }
 
     [Fact]
@@ -124,6 +124,35 @@ public sealed class RateLimitTests(ServiceFixture fixture)
         Assert.Equal(0, await fixture.CountAsync("SELECT count(*) FROM measurements WHERE fleet_id = $1 AND vehicle_id = 'van-rate-2'", fleet.Id));
         // Five messages are still in the bucket.
         Assert.Equal(5, (await ingest.IngestOkAsync(Messages("van-rate-3", 5))).Accepted);
+    }
+
+    /// <summary>
+    /// The key's message bucket is the cluster's (a grain); this process leases 100 permits at a time from it (360 s of
+    /// a 1,000-per-3,600-s refill) and spends them on batches of 30, handing what a lease has left back with the next.
+    /// The bucket refills one permit every 3.6 s, so after 990 the 30 more a batch needs take over a minute to come back:
+    /// that batch is refused and a batch of the 10 left is accepted, as from one process's own bucket.
+    /// </summary>
+    [Fact]
+    public async Task Issue14_leased_message_permits_add_up_to_the_limit_in_one_process()
+    {
+        var fleet = await fixture.NewFleetAsync();
+        await using var host = new ServiceFactory(fixture.ConnectionString, new Dictionary<string, string?>
+        {
+            ["Security:MessageLimitPermits"] = "1000",
+            ["Security:RateLimitWindowSeconds"] = "3600",
+            ["Security:RateLimitLeaseSeconds"] = "360",
+        });
+        Assert.Equal(100, FusionService.Security.TenantRateLimiter.LeaseSize(1000, 3600, 360));
+        using var ingest = fixture.Client(fleet.IngestKey, host);
+        for (int i = 0; i < 33; i++)
+        {
+            Assert.Equal(30, (await ingest.IngestOkAsync(Messages("van-lease-" + i.ToString(CultureInfo.InvariantCulture), 30))).Accepted);
+        }
+
+        // 990 spent: a batch of 30 is refused, one of 10 is the rest of the bucket.
+        using var refused = await ingest.PostJsonAsync(Messages("van-lease-over", 30));
+        await AssertTooManyAsync(refused, "Security:MessageLimitPermits");
+        Assert.Equal(10, (await ingest.IngestOkAsync(Messages("van-lease-last", 10))).Accepted);
     }
 
     [Fact]

@@ -92,7 +92,7 @@ public static class NmeaEndpoints
             return Problem(StatusCodes.Status413PayloadTooLarge, "Payload too large", string.Create(CultureInfo.InvariantCulture, $"body: {parsed.SentenceLines} lines exceed the limit of {limits.MaxMessages}"));
         }
 
-        if (rateLimiter.TryMessages(caller, parsed.SentenceLines) is { } refused)
+        if (await rateLimiter.TryMessagesAsync(caller, parsed.SentenceLines).ConfigureAwait(false) is { } refused)
         {
             return refused.ToResult(http);
         }
