@@ -65,6 +65,15 @@ public sealed record NoiseProfile
     /// </summary>
     public double GnssErrorTimeConstantS { get; init; } = 60.0;
 
+    /// <summary>
+    /// Whether each track fits its receiver's correlated share and time constant from the fixes it reports while the
+    /// vehicle stands (<see cref="GnssErrorVariogram"/>), starting from <see cref="GnssCorrelatedFraction"/> and
+    /// <see cref="GnssErrorTimeConstantS"/> and held within 0.3-0.97 and 10-300 s. Default true: one fixed pair did not
+    /// hold the 95 % ellipse over receivers with time constants of 20-120 s (docs/estimation.md). False keeps the
+    /// profile's values for the whole track.
+    /// </summary>
+    public bool GnssErrorIdentification { get; init; } = true;
+
     /// <summary>The delivery-van defaults.</summary>
     public static NoiseProfile DeliveryVan { get; } = new();
 
