@@ -14,7 +14,8 @@ using static FusionService.Estimation.Models.StateIndex;
 namespace FusionService.Benchmarks;
 
 /// <summary>
-/// `./build.sh bench consistency [runs, default 64] [faulty | text]` (text: only the cases whose label contains it): runs the filter with its default options and noise profile over the realistic
+/// `./build.sh bench consistency [runs, default 64] [faulty | text] [fitted]` (text: only the cases whose label contains it,
+/// "" for all; fitted: with <see cref="NoiseProfile.GnssErrorIdentification"/> on): runs the filter with its default options and noise profile over the realistic
 /// drives of <see cref="RealisticDrives"/> (clean sky, multipath, outage, tow, park beside a building, HDOP-only) and over
 /// a grid of GNSS error correlation times (20, 60, 120 s) and correlated shares (50, 80, 95 %) of the clean-sky drive,
 /// each with <c>runs</c> seeds, and prints per case: how often the truth lies inside the 95 % ellipse of the filtered
@@ -28,13 +29,13 @@ internal static class ConsistencyReport
     // Upper 5 % point of chi-square with 2 dof, -2 ln 0.05 (NIST/SEMATECH handbook 1.3.6.7.4; derived).
     private const double Inside95 = 5.991464547107979;
 
-    public static void Run(int runs, bool onlyFaultyStreams = false, string? onlyCases = null)
+    public static void Run(int runs, bool onlyFaultyStreams = false, string? onlyCases = null, bool fitted = false)
     {
         _onlyCases = onlyCases;
-        var processor = new TrackProcessor(new TrackOptions(), NoiseProfile.DeliveryVan);
+        var processor = new TrackProcessor(new TrackOptions(), NoiseProfile.DeliveryVan with { GnssErrorIdentification = fitted || NoiseProfile.DeliveryVan.GnssErrorIdentification });
         Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
-            $"filter defaults: correlated share {processor.Profile.GnssCorrelatedFraction}, time constant {processor.Profile.GnssErrorTimeConstantS} s; {runs} seeds per case"));
-        Console.WriteLine("case                         in95 filtered   in95 smoothed  NEES filt  NEES smooth  RMSE raw  filt  smooth  GNSS-only (m)  clean fixes gated  jumps gated  resets  isolated (drives, first after)");
+            $"filter defaults: correlated share {processor.Profile.GnssCorrelatedFraction}, time constant {processor.Profile.GnssErrorTimeConstantS} s, fitted per receiver: {processor.Profile.GnssErrorIdentification}; {runs} seeds per case"));
+        Console.WriteLine("case                         in95 filtered   in95 smoothed  NEES filt  NEES smooth  RMSE raw  filt  smooth  GNSS-only (m)  clean fixes gated  jumps gated  resets  isolated (drives, first after)  fitted f / tau (median of drives' final)");
         if (onlyFaultyStreams)
         {
             ReportFaultyStreams(processor, runs);
@@ -119,6 +120,8 @@ internal static class ConsistencyReport
         long raw = 0, cleanFixes = 0, cleanGated = 0, resets = 0, jumps = 0, jumpsGated = 0;
         var isolatedAfterS = new List<double>();
         var isolatedStreams = new SortedSet<string>(StringComparer.Ordinal);
+        var fittedShares = new List<double>();
+        var fittedTimeConstantsS = new List<double>();
         int driveCount = 0;
         foreach (RealisticDrive drive in drives)
         {
@@ -137,6 +140,9 @@ internal static class ConsistencyReport
                 ? [.. run.Measurements]
                 : [.. run.Measurements.Select(alter).Where(m => m is not null).Select(m => m!.Value)];
             ReplayResult replay = TrackReplay.Run(processor, TrackState.Empty, measurements);
+            GnssErrorVariogram fit = replay.Final.GnssErrorFit;
+            fittedShares.Add(fit.HasEstimate ? fit.Share : processor.Profile.GnssCorrelatedFraction);
+            fittedTimeConstantsS.Add(fit.HasEstimate ? fit.TimeConstantS : processor.Profile.GnssErrorTimeConstantS);
             bool isolated = false;
             foreach ((Measurement m, MeasurementOutcome o) in replay.Outcomes)
             {
@@ -200,7 +206,19 @@ internal static class ConsistencyReport
         }
 
         Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
-            $"{label,-28} {filtered.Containment * 100,5:F1} ± {filtered.ContainmentStandardError * 100:F1} %  {smoothed.Containment * 100,5:F1} ± {smoothed.ContainmentStandardError * 100:F1} %  {filtered.MeanNees,9:F2}  {smoothed.MeanNees,11:F2}  {Math.Sqrt(rawSq / raw),8:F2}  {filtered.Rmse,4:F2}  {smoothed.Rmse,6:F2}  {gnssOnly.Rmse,13:F2}  {(double)cleanGated / Math.Max(1, cleanFixes),17:P2}  {(jumps == 0 ? "-" : string.Create(CultureInfo.InvariantCulture, $"{jumpsGated}/{jumps}")),11}  {resets,6}  {Isolation(isolatedAfterS, isolatedStreams, driveCount),-30} ({clock.Elapsed.TotalSeconds:F0} s)"));
+            $"{label,-28} {filtered.Containment * 100,5:F1} ± {filtered.ContainmentStandardError * 100:F1} %  {smoothed.Containment * 100,5:F1} ± {smoothed.ContainmentStandardError * 100:F1} %  {filtered.MeanNees,9:F2}  {smoothed.MeanNees,11:F2}  {Math.Sqrt(rawSq / raw),8:F2}  {filtered.Rmse,4:F2}  {smoothed.Rmse,6:F2}  {gnssOnly.Rmse,13:F2}  {(double)cleanGated / Math.Max(1, cleanFixes),17:P2}  {(jumps == 0 ? "-" : string.Create(CultureInfo.InvariantCulture, $"{jumpsGated}/{jumps}")),11}  {resets,6}  {Isolation(isolatedAfterS, isolatedStreams, driveCount),-30}  {Median(fittedShares):F2} / {Median(fittedTimeConstantsS):F0} s [{Quantile(fittedTimeConstantsS, 0.1):F0}-{Quantile(fittedTimeConstantsS, 0.9):F0}] ({clock.Elapsed.TotalSeconds:F0} s)"));
+    }
+
+    private static double Quantile(List<double> values, double p)
+    {
+        values.Sort();
+        return values.Count == 0 ? double.NaN : values[(int)(p * (values.Count - 1))];
+    }
+
+    private static double Median(List<double> values)
+    {
+        values.Sort();
+        return values.Count == 0 ? double.NaN : values[values.Count / 2];
     }
 
     private static string Isolation(List<double> afterS, SortedSet<string> streams, int drives)

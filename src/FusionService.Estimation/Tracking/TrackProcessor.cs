@@ -245,7 +245,7 @@ public sealed class TrackProcessor
         SetVariance(ref s.P, AccelMps2, Profile.InitialAccelSigmaMps2 * Profile.InitialAccelSigmaMps2);
         SetVariance(ref s.P, GyroBiasRps, biasVar);
         SetVariance(ref s.P, WheelScale, scaleVar);
-        double correlatedVar = CorrelatedVariance(fixSigmaM);
+        double correlatedVar = CorrelatedVariance(s, fixSigmaM);
         SetVariance(ref s.P, GnssErrorEastM, correlatedVar);
         SetVariance(ref s.P, GnssErrorNorthM, correlatedVar);
         SetCovariance(ref s.P, EastM, GnssErrorEastM, -correlatedVar);
@@ -269,11 +269,17 @@ public sealed class TrackProcessor
     }
 
     /// <summary>Correlated share f σ² of a fix's reported per-axis variance, square metres.</summary>
-    private double CorrelatedVariance(double fixSigmaM) => Profile.GnssCorrelatedFraction * fixSigmaM * fixSigmaM;
+    private double CorrelatedVariance(in TrackState s, double fixSigmaM) => CorrelatedShare(s) * fixSigmaM * fixSigmaM;
+
+    /// <summary>The correlated share f in use: the receiver's fitted one once there is a fit, the profile's before.</summary>
+    private double CorrelatedShare(in TrackState s) => s.GnssErrorFit.HasEstimate ? s.GnssErrorFit.Share : Profile.GnssCorrelatedFraction;
+
+    /// <summary>The GNSS error time constant τ in use, seconds (see <see cref="CorrelatedShare"/>).</summary>
+    private double ErrorTimeConstantS(in TrackState s) => s.GnssErrorFit.HasEstimate ? s.GnssErrorFit.TimeConstantS : Profile.GnssErrorTimeConstantS;
 
     private MeasurementOutcome ProcessRunning(ref TrackState s, in Measurement m, IStepRecorder? recorder)
     {
-        double correlatedVar = m.Kind == SensorKind.GnssPosition ? CorrelatedVariance(m.AsGnssFix().AccuracyM) : double.NaN;
+        double correlatedVar = m.Kind == SensorKind.GnssPosition ? CorrelatedVariance(s, m.AsGnssFix().AccuracyM) : double.NaN;
         PredictTo(ref s, m.TimeUs, correlatedVar, recorder);
         if (ObserveAgreement(ref s, m))
         {
@@ -450,15 +456,16 @@ public sealed class TrackProcessor
 
         double remainingS = (timeUs - s.TimeUs) / MicrosecondsPerSecond;
         bool totalIsIdentity = !reanchor;
+        double tauS = ErrorTimeConstantS(s);
         while (remainingS > 0)
         {
             double stepS = Math.Min(remainingS, Options.MaxPredictionStepS);
             StateVector prior = s.X;
             CtraMotionModel.Predict(ref s.X, stepS, out StateMatrix f);
-            GnssErrorModel.Predict(ref s.X, ref f, stepS, Profile.GnssErrorTimeConstantS);
+            GnssErrorModel.Predict(ref s.X, ref f, stepS, tauS);
             ExtendedKalmanFilter.PropagateCovariance(ref s.P, f);
             CtraMotionModel.AddProcessNoise(ref s.P, prior, stepS, Profile, s.Stationary);
-            GnssErrorModel.AddProcessNoise(ref s.P, stepS, Profile.GnssErrorTimeConstantS, s.GnssCorrelatedVarianceM2);
+            GnssErrorModel.AddProcessNoise(ref s.P, stepS, tauS, s.GnssCorrelatedVarianceM2);
             if (recorder is not null)
             {
                 // F I = F: the usual single step needs no product.
@@ -491,6 +498,7 @@ public sealed class TrackProcessor
     /// </summary>
     private static void Reanchor(ref TrackState s, ref StateMatrix jacobian)
     {
+        s.GnssErrorFit.Break();
         double e = s.X[EastM], n = s.X[NorthM], heading = s.X[HeadingRad];
         GeodeticPoint here = s.Plane.ToGeodetic(OnPlane(e, n));
         GeodeticPoint ahead = s.Plane.ToGeodetic(OnPlane(e + Math.Cos(heading), n + Math.Sin(heading)));
@@ -537,7 +545,7 @@ public sealed class TrackProcessor
         h[GnssErrorEastM] = 1.0;
         h[N + NorthM] = 1.0;
         h[N + GnssErrorNorthM] = 1.0;
-        double whiteVar = (1.0 - Profile.GnssCorrelatedFraction) * sigma * sigma;
+        double whiteVar = (1.0 - CorrelatedShare(s)) * sigma * sigma;
         Span<double> r = [whiteVar, 0, 0, whiteVar];
         double threshold = Gate.Threshold(2);
         Span<double> whitened = [double.NaN, double.NaN];
@@ -558,6 +566,7 @@ public sealed class TrackProcessor
         }
 
         var fix = new HeldFix(true, m.TimeUs, enu.EastM, enu.NorthM, sigma);
+        IdentifyGnssError(ref s, fix, accepted);
         if (accepted)
         {
             s.RejectedFixes = 0;
@@ -608,6 +617,27 @@ public sealed class TrackProcessor
     }
 
     /// <summary>
+    /// Feeds the receiver's error fit (<see cref="GnssErrorVariogram"/>) with an accepted fix of a standing vehicle; any
+    /// other fix ends its chains of pairs.
+    /// </summary>
+    private void IdentifyGnssError(ref TrackState s, HeldFix fix, bool accepted)
+    {
+        if (!Profile.GnssErrorIdentification)
+        {
+            return;
+        }
+
+        if (accepted && s.Stationary && !s.Carried)
+        {
+            s.GnssErrorFit.Observe(fix.TimeUs, fix.EastM, fix.NorthM, fix.SigmaM * fix.SigmaM, Profile.GnssCorrelatedFraction, Profile.GnssErrorTimeConstantS);
+        }
+        else
+        {
+            s.GnssErrorFit.Break();
+        }
+    }
+
+    /// <summary>
     /// Fixes have disagreed with the track for longer than a multipath episode lasts (<see cref="TrackOptions.RecoverPositionAfterS"/>)
     /// but by less than a relocation (<see cref="TrackOptions.ResetDistanceM"/>): the track, not the fixes, is wrong (it
     /// started inside a multipath episode, say). The position's variance is raised by the squared offset on each axis and
@@ -632,7 +662,7 @@ public sealed class TrackProcessor
         h[GnssErrorEastM] = 1.0;
         h[N + NorthM] = 1.0;
         h[N + GnssErrorNorthM] = 1.0;
-        double whiteVar = (1.0 - Profile.GnssCorrelatedFraction) * fix.SigmaM * fix.SigmaM;
+        double whiteVar = (1.0 - CorrelatedShare(s)) * fix.SigmaM * fix.SigmaM;
         Span<double> r = [whiteVar, 0, 0, whiteVar];
         Update(ref s, offset, h, r, double.PositiveInfinity, out _, recorder);
         s.RejectedFixes = 0;

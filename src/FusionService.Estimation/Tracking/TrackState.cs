@@ -76,6 +76,13 @@ public struct TrackState
     public double GnssCorrelatedVarianceM2;
 
     /// <summary>
+    /// This receiver's GNSS error share and time constant as fitted from its fixes while the vehicle stood (see
+    /// <see cref="Models.GnssErrorVariogram"/>); the profile's values until the first fit. Kept across resets: it is
+    /// about the receiver, not the track.
+    /// </summary>
+    public Models.GnssErrorVariogram GnssErrorFit;
+
+    /// <summary>
     /// Whether the vehicle is being carried (towed, on a ferry, lifted): GNSS reports steady motion while the wheels read
     /// zero. Wheel speed and the standstill constraint are set aside meanwhile (see <see cref="CarriedMotion"/>).
     /// </summary>

@@ -13,10 +13,13 @@ namespace FusionService.Estimation.Tracking;
 public static class TrackStateCodec
 {
     /// <summary>Format version written in the first byte.</summary>
-    public const byte Version = 4;
+    public const byte Version = 5;
 
     /// <summary>Size of an encoded checkpoint, bytes.</summary>
-    public const int EncodedLength = 1 + (StateVector.Length * 8) + (StateMatrix.Size * (StateMatrix.Size + 1) / 2 * 8) + 8 + 1 + (3 * 8) + 3 + 8 + 1 + (1 + 8 + (3 * 8)) + (1 + 8 + (4 * 8)) + 8 + 4 + 4 + (8 + 8 + 8 + 8 + 4) + 12 + 8 + (1 + 8 + 4 + 8 + 4 + 8) + 4 + 16 + AgreementLength;
+    public const int EncodedLength = 1 + (StateVector.Length * 8) + (StateMatrix.Size * (StateMatrix.Size + 1) / 2 * 8) + 8 + 1 + (3 * 8) + 3 + 8 + 1 + (1 + 8 + (3 * 8)) + (1 + 8 + (4 * 8)) + 8 + 4 + 4 + (8 + 8 + 8 + 8 + 4) + 12 + 8 + (1 + 8 + 4 + 8 + 4 + 8) + 4 + 16 + AgreementLength + FitLength;
+
+    // GnssErrorVariogram: 2 flags, 2 times, 14 doubles.
+    private const int FitLength = 2 + (2 * 8) + (14 * 8);
 
     // StreamAgreement: 2 flags, 6 times, 5 counters, 13 doubles and the ring of chord offsets.
     private const int AgreementLength = 2 + (6 * 8) + (5 * 4) + (13 * 8) + (ChordOffsetRing.Length * 8);
@@ -91,6 +94,7 @@ public static class TrackStateCodec
         w.Int(state.CarrySlow);
         w.Long(state.CarrySlowSinceUs);
         WriteAgreement(ref w, state.Agreement);
+        WriteFit(ref w, state.GnssErrorFit);
         w.Long(last.TimeUs);
         w.Long((long)last.OrderKey);
         w.Double(last.Value0);
@@ -156,11 +160,56 @@ public static class TrackStateCodec
         s.CarrySlow = r.Int();
         s.CarrySlowSinceUs = r.Long();
         s.Agreement = ReadAgreement(ref r);
+        s.GnssErrorFit = ReadFit(ref r);
         long timeUs = r.Long();
         ulong orderKey = (ulong)r.Long();
         Measurement last = Measurement.FromStored(timeUs, orderKey, r.Double(), r.Double(), r.Float());
         return (s, last);
     }
+
+    private static void WriteFit(ref Writer w, in Models.GnssErrorVariogram f)
+    {
+        w.Bool(f.HasPrevious);
+        w.Long(f.PreviousUs);
+        w.Double(f.PreviousEastM);
+        w.Double(f.PreviousNorthM);
+        w.Double(f.PreviousVarianceM2);
+        w.Bool(f.HasAnchor);
+        w.Long(f.AnchorUs);
+        w.Double(f.AnchorEastM);
+        w.Double(f.AnchorNorthM);
+        w.Double(f.AnchorVarianceM2);
+        w.Double(f.ShortSum);
+        w.Double(f.ShortCount);
+        w.Double(f.ShortLagSumS);
+        w.Double(f.LongSum);
+        w.Double(f.LongCount);
+        w.Double(f.LongLagSumS);
+        w.Double(f.Share);
+        w.Double(f.TimeConstantS);
+    }
+
+    private static Models.GnssErrorVariogram ReadFit(ref Reader r) => new()
+    {
+        HasPrevious = r.Bool(),
+        PreviousUs = r.Long(),
+        PreviousEastM = r.Double(),
+        PreviousNorthM = r.Double(),
+        PreviousVarianceM2 = r.Double(),
+        HasAnchor = r.Bool(),
+        AnchorUs = r.Long(),
+        AnchorEastM = r.Double(),
+        AnchorNorthM = r.Double(),
+        AnchorVarianceM2 = r.Double(),
+        ShortSum = r.Double(),
+        ShortCount = r.Double(),
+        ShortLagSumS = r.Double(),
+        LongSum = r.Double(),
+        LongCount = r.Double(),
+        LongLagSumS = r.Double(),
+        Share = r.Double(),
+        TimeConstantS = r.Double(),
+    };
 
     private static void WriteAgreement(ref Writer w, in StreamAgreement a)
     {
