@@ -2,8 +2,8 @@
 using System.Globalization;
 using System.Net;
 using System.Security.Cryptography;
-using System.Text;
 using FusionService.Tests.Infrastructure;
+using FusionService.Tests.Security;
 using Xunit.Abstractions;
 
 namespace FusionService.Tests.Resilience;
@@ -89,7 +89,7 @@ public sealed class ClusterRateLimitTests(ServiceFixture fixture, ITestOutputHel
         int refusals = 0;
         for (int i = 0; i < 60 && refusals < 4; i++)
         {
-            using var response = await (i % 2 == 0 ? ingestA : ingestB).PostJsonAsync(Messages("van-cl-" + i.ToString(CultureInfo.InvariantCulture), 30));
+            using var response = await (i % 2 == 0 ? ingestA : ingestB).PostJsonAsync(RateLimitTests.Messages("van-cl-" + i.ToString(CultureInfo.InvariantCulture), 30));
             if (response.StatusCode == HttpStatusCode.OK)
             {
                 accepted += 30;
@@ -108,20 +108,6 @@ public sealed class ClusterRateLimitTests(ServiceFixture fixture, ITestOutputHel
         Assert.Equal(accepted, await fixture.CountAsync("SELECT count(*) FROM measurements WHERE fleet_id = $1", fleet.Id));
         await a.KillAsync();
         await b.KillAsync();
-    }
-
-    private static string Messages(string vehicle, int count)
-    {
-        var start = DateTimeOffset.UtcNow.AddSeconds(-count - 5);
-        var body = new StringBuilder("[");
-        for (int i = 0; i < count; i++)
-        {
-            body.Append(i == 0 ? string.Empty : ",")
-                .Append("{\"vehicle\":\"").Append(vehicle).Append("\",\"kind\":\"wheel\",\"time\":\"")
-                .Append(start.AddSeconds(i).ToString("O", CultureInfo.InvariantCulture)).Append("\",\"speed_mps\":3}");
-        }
-
-        return body.Append(']').ToString();
     }
 
     private ServiceProcess StartServiceProcess(string clusterId, Dictionary<string, string> settings)

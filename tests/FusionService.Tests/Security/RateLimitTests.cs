@@ -12,7 +12,8 @@ namespace FusionService.Tests.Security;
 [Collection(ServiceTests.Name)]
 public sealed class RateLimitTests(ServiceFixture fixture)
 {
-    private static string Messages(string vehicle, int count)
+    /// <summary>A JSON array of <paramref name="count"/> wheel-speed messages of <paramref name="vehicle"/>, one a second, ending 5 s ago.</summary>
+    internal static string Messages(string vehicle, int count)
     {
         var start = DateTimeOffset.UtcNow.AddSeconds(-count - 5);
         var body = new StringBuilder("[");
