@@ -55,25 +55,7 @@ public sealed class GroupCommitWriter : BackgroundService
     public async Task<CommitOutcome> CommitAsync(IReadOnlyList<MeasurementRow> rows)
     {
         ArgumentNullException.ThrowIfNull(rows);
-        var parts = new List<MeasurementRow>?[_channels.Length];
-        if (_channels.Length == 1)
-        {
-            parts[0] = rows as List<MeasurementRow> ?? [.. rows];
-        }
-        else
-        {
-            var writerOf = new Dictionary<(Guid FleetId, string VehicleId), int>();
-            foreach (var row in rows)
-            {
-                if (!writerOf.TryGetValue((row.FleetId, row.VehicleId), out int writer))
-                {
-                    writerOf[(row.FleetId, row.VehicleId)] = writer = WriterOf(row.FleetId, row.VehicleId, _channels.Length);
-                }
-
-                (parts[writer] ??= []).Add(row);
-            }
-        }
-
+        IReadOnlyList<MeasurementRow>?[] parts = _channels.Length == 1 ? [rows] : SplitByWriter(rows);
         var requests = new CommitRequest?[_channels.Length];
         for (int i = 0; i < parts.Length; i++)
         {
@@ -105,6 +87,24 @@ public sealed class GroupCommitWriter : BackgroundService
         }
 
         return new CommitOutcome(inserted, transactionIds);
+    }
+
+    // A request's rows by the commit loop that stores each vehicle's (null where a loop gets none).
+    private List<MeasurementRow>?[] SplitByWriter(IReadOnlyList<MeasurementRow> rows)
+    {
+        var parts = new List<MeasurementRow>?[_channels.Length];
+        var writerOf = new Dictionary<(Guid FleetId, string VehicleId), int>();
+        foreach (var row in rows)
+        {
+            if (!writerOf.TryGetValue((row.FleetId, row.VehicleId), out int writer))
+            {
+                writerOf[(row.FleetId, row.VehicleId)] = writer = WriterOf(row.FleetId, row.VehicleId, _channels.Length);
+            }
+
+            (parts[writer] ??= []).Add(row);
+        }
+
+        return parts;
     }
 
     /// <inheritdoc />

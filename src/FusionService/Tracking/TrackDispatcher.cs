@@ -196,6 +196,8 @@ public sealed class TrackDispatcher : IHostedService, IAsyncDisposable
         using var span = FusionTelemetry.StartHandover(vehicleId, count);
         try
         {
+            // A single hand-over keeps the older call, which grains of processes from before ProcessManyAsync still
+            // answer while a cluster is upgraded process by process.
             if (handovers.Count == 1)
             {
                 await grain.ProcessAsync(handovers[0].Delivery.Batch, handovers[0].Delivery.Stamp).ConfigureAwait(false);
