@@ -24,9 +24,9 @@ public sealed class ReplayCpuBudgetTests
     }
 
     [Fact]
-    public void Issue14_no_cap_by_default()
+    public void Issue14_the_cap_is_a_quarter_of_the_processors_by_default_and_0_turns_it_off()
     {
-        Assert.Equal(0, new HeavyReadOptions().ReplayCpuCores);
+        Assert.Equal(Environment.ProcessorCount / 4.0, new HeavyReadOptions().ReplayCpuCores);
         Assert.False(Budget(0).Enabled);
         Assert.True(Budget(0.5).Enabled);
     }
