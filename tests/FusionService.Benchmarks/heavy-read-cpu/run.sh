@@ -12,7 +12,7 @@ set -u
 here=$(cd "$(dirname "$0")" && pwd)
 build=$1; out=$2; shift 2
 mkdir -p "$out"
-data=$(mktemp -d /tmp/wt14pg.XXXX); chmod 755 "$data"
+data=$(mktemp -d /tmp/heavy-read-pg.XXXX); chmod 755 "$data"
 export Database__DataDirectory=$data/pg ASPNETCORE_URLS=http://127.0.0.1:5091
 env | grep -E "^(HeavyReads|Database|Tracks|Ingest)__|^DOTNET_(gc|GC)" | grep -v DataDirectory > "$out/env" || true
 [ -n "${PERF:-}" ] && export DOTNET_PerfMapEnabled=1
