@@ -15,6 +15,7 @@ public static class HistoryExtensions
         services.AddOptions<HeavyReadOptions>().BindConfiguration(HeavyReadOptions.Section).ValidateDataAnnotations().ValidateOnStart();
         services.AddSingleton<HeavyReadGate>();
         services.AddSingleton<SmoothedTrackBuilder>();
+        services.AddSingleton<ReplayCpuBudget>();
         services.AddSingleton<SmoothingWarmUp>();
         services.AddHostedService(sp => sp.GetRequiredService<SmoothingWarmUp>());
         return services;

@@ -32,6 +32,7 @@ internal sealed class SmoothedTrackBuilder(
     FusionDatabase database,
     IOptions<TrackHistoryOptions> options,
     IOptions<HeavyReadOptions> heavyReads,
+    ReplayCpuBudget cpuBudget,
     ServiceMetrics metrics,
     ILogger<SmoothedTrackBuilder> logger)
 {
@@ -195,7 +196,7 @@ internal sealed class SmoothedTrackBuilder(
             () => CompactedTrackReplay.Forward(
                 processor,
                 start,
-                Collect(chunks, spare, stretch.Floor, stretch.Ceiling, keepDistanceInputs ? distanceInputs : null, stretch.KeepsCheckpointed, stop.Token),
+                Collect(chunks, spare, stretch.Floor, stretch.Ceiling, keepDistanceInputs ? distanceInputs : null, stretch.KeepsCheckpointed, cpuBudget, stop.Token),
                 recordIntervalUs,
                 discardBeforeUs: fromUs,
                 expectedInstants,
@@ -318,14 +319,17 @@ internal sealed class SmoothedTrackBuilder(
     /// in the checkpoint) or after <paramref name="ceiling"/> (the next stretch's); wheel speeds and GNSS positions also
     /// appended to <paramref name="distanceInputs"/> when given, those in the checkpoint too when
     /// <paramref name="keepCheckpointed"/> (the first stretch: its checkpoint may end inside the window). Each finished
-    /// chunk's array goes back through <paramref name="spare"/>.
+    /// chunk's array goes back through <paramref name="spare"/>, and the processor time the consuming thread took for it is
+    /// charged to <paramref name="cpuBudget"/> (this runs on the replay's thread).
     /// </summary>
     private static IEnumerable<Measurement> Collect(
         BlockingCollection<Chunk> chunks, BlockingCollection<Measurement[]> spare, Measurement? floor, Measurement? ceiling, List<Measurement>? distanceInputs,
-        bool keepCheckpointed, CancellationToken cancellationToken)
+        bool keepCheckpointed, ReplayCpuBudget cpuBudget, CancellationToken cancellationToken)
     {
+        var meter = cpuBudget.StartMeter();
         foreach (Chunk chunk in chunks.GetConsumingEnumerable(cancellationToken))
         {
+            meter.Charge(cancellationToken);
             for (int i = 0; i < chunk.Count; i++)
             {
                 Measurement m = chunk.Items[i];

@@ -74,9 +74,29 @@ public sealed class TenantRateLimiter : IDisposable
             ?? await TakeAsync("mf:" + caller.FleetId.ToString("N"), count, "telemetry messages of this fleet", "Security:FleetMessageLimitPermits", _options.FleetMessageLimitPermits).ConfigureAwait(false);
     }
 
-    /// <summary>The refusal when <paramref name="address"/> has used up its failed authentications (nothing is taken).</summary>
-    public RateLimitRefusal? FailedAuthBlocked(IPAddress? address) =>
-        Take(AddressPartition(address), 0, "failed authentications from this client address", "Security:FailedAuthPermits", _options.FailedAuthPermits);
+    /// <summary>
+    /// The refusal when <paramref name="address"/> has less than one whole failed authentication left (nothing is taken).
+    /// </summary>
+    /// <remarks>
+    /// Not a zero-permit acquire: the token bucket refills by the elapsed fraction on every heartbeat of the partitioned
+    /// limiter (100 ms), and a zero-permit acquire succeeds on any fraction above zero, so a spent bucket opened again
+    /// within 100 ms although its next whole permit was 1,200 s away (3 per hour). The statistics count whole permits.
+    /// </remarks>
+    public RateLimitRefusal? FailedAuthBlocked(IPAddress? address)
+    {
+        if (_limiter.GetStatistics(AddressPartition(address)) is not { CurrentAvailablePermits: < 1 })
+        {
+            return null;
+        }
+
+        const string option = "Security:FailedAuthPermits";
+        _metrics.CountRateLimited(option);
+        // The bucket gains a permit within one replenishment period (it holds a fraction of one already).
+        var period = Bucket(_options.FailedAuthPermits, _options.RateLimitWindowSeconds).ReplenishmentPeriod;
+        return new RateLimitRefusal(
+            "failed authentications from this client address", option, _options.FailedAuthPermits, _options.RateLimitWindowSeconds,
+            Math.Max(1, (int)Math.Ceiling(period.TotalSeconds)));
+    }
 
     /// <summary>Counts one failed authentication of <paramref name="address"/>.</summary>
     public void NoteFailedAuth(IPAddress? address)

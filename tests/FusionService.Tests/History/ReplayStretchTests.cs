@@ -38,6 +38,22 @@ public sealed class ReplayStretchTests(ServiceFixture fixture, ITestOutputHelper
     }
 
     [Fact]
+    public async Task Issue14_a_replay_under_a_processor_cap_gives_the_same_track()
+    {
+        // A cap of 0.02 cores (HeavyReads:ReplayCpuCores) makes the replay threads sleep; the result must not change.
+        await using var host = NewHost(("HeavyReads:ReplayCpuCores", "0.02"));
+        var fleet = await fixture.NewFleetAsync();
+        const string Vehicle = "van-stretches-capped";
+        var drive = HistoryDrive.Create(Vehicle, seed: 6400);
+        await drive.IngestAsync(fixture, fleet, host: host);
+
+        var (stretches, misses, compared) = await CompareWithOneGoAsync(host, fleet, drive, Vehicle, drive.Drive.Messages.SelectMany(m => m.Core));
+        Assert.Equal(Stretches, stretches);
+        Assert.Equal(0, misses);
+        Assert.True(compared > 100, $"only {compared} points compared");
+    }
+
+    [Fact]
     public async Task Issue4_a_fix_stored_too_late_before_a_checkpoint_makes_the_replay_go_on_from_where_it_ended()
     {
         await using var host = NewHost();
@@ -62,11 +78,20 @@ public sealed class ReplayStretchTests(ServiceFixture fixture, ITestOutputHelper
         Assert.True(compared > 100, $"only {compared} points compared");
     }
 
-    private ServiceFactory NewHost() => new(fixture.ConnectionString, new Dictionary<string, string?>
+    private ServiceFactory NewHost(params (string Key, string Value)[] more)
     {
-        ["Tracks:HistoryCheckpointSpacingMin"] = "0.5",
-        ["Tracks:ReplayStretches"] = Stretches.ToString(CultureInfo.InvariantCulture),
-    });
+        var settings = new Dictionary<string, string?>
+        {
+            ["Tracks:HistoryCheckpointSpacingMin"] = "0.5",
+            ["Tracks:ReplayStretches"] = Stretches.ToString(CultureInfo.InvariantCulture),
+        };
+        foreach (var (key, value) in more)
+        {
+            settings[key] = value;
+        }
+
+        return new(fixture.ConnectionString, settings);
+    }
 
     /// <summary>
     /// Requests the smoothed track of the whole round and compares every point with the full-step smoother over

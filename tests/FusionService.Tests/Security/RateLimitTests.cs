@@ -157,6 +157,32 @@ public sealed class RateLimitTests(ServiceFixture fixture)
     }
 
     [Fact]
+    public async Task Issue14_a_spent_failed_authentication_bucket_stays_shut_while_a_fraction_refills()
+    {
+        // Three failures per hour: one permit comes back every 1,200 s. The partitioned limiter refills its buckets on a
+        // 100 ms heartbeat by the elapsed fraction, so a spent bucket soon holds a small fraction of a permit; that
+        // fraction must not open the address again (it once let a valid key the process had not seen through with 200).
+        var options = Microsoft.Extensions.Options.Options.Create(new FusionService.Security.SecurityOptions { FailedAuthPermits = 3, RateLimitWindowSeconds = 3600 });
+        using var limiter = new FusionService.Security.TenantRateLimiter(options, new FusionService.Operations.ServiceMetrics());
+        var address = IPAddress.Parse("192.0.2.7"); // RFC 5737 documentation address
+        for (int i = 0; i < 3; i++)
+        {
+            Assert.Null(limiter.FailedAuthBlocked(address));
+            limiter.NoteFailedAuth(address);
+        }
+
+        Assert.NotNull(limiter.FailedAuthBlocked(address));
+        // Several heartbeats later (each adds 0.1 s / 1,200 s of a permit) the bucket is still short of one permit.
+        await Task.Delay(TimeSpan.FromMilliseconds(600));
+        var blocked = limiter.FailedAuthBlocked(address);
+        Assert.NotNull(blocked);
+        Assert.Equal("Security:FailedAuthPermits", blocked.Option);
+        Assert.True(blocked.RetryAfterS >= 1, "Retry-After " + blocked.RetryAfterS.ToString(CultureInfo.InvariantCulture));
+        // Another address is not affected.
+        Assert.Null(limiter.FailedAuthBlocked(IPAddress.Parse("192.0.2.8")));
+    }
+
+    [Fact]
     public async Task Issue14_failed_authentications_per_address_are_limited_but_a_known_key_still_passes()
     {
         var fleet = await fixture.NewFleetAsync();
