@@ -84,27 +84,25 @@ public static class FusedStateWriter
         var importer = await connection.BeginBinaryImportAsync(copy, cancellationToken).ConfigureAwait(false);
         await using (importer.ConfigureAwait(false))
         {
-            // Synchronous writes: they go into the importer's buffer, which goes to the socket only when full; awaiting
-            // each of the 16 fields of every row bought nothing. CompleteAsync sends the rest.
             foreach (var row in rows)
             {
-                importer.StartRow();
-                importer.Write(row.FleetId, NpgsqlDbType.Uuid);
-                importer.Write(row.VehicleId, NpgsqlDbType.Text);
-                importer.Write(row.TimeUs, NpgsqlDbType.Bigint);
-                importer.Write(UnixMicroseconds.ToDateTimeUtc(row.TimeUs), NpgsqlDbType.TimestampTz);
-                importer.Write(row.LatDeg, NpgsqlDbType.Double);
-                importer.Write(row.LonDeg, NpgsqlDbType.Double);
-                importer.Write(row.HeadingRad, NpgsqlDbType.Double);
-                importer.Write(row.SpeedMps, NpgsqlDbType.Double);
-                importer.Write(row.YawRateRps, NpgsqlDbType.Double);
-                importer.Write(row.AccelMps2, NpgsqlDbType.Double);
-                importer.Write(row.GyroBiasRps, NpgsqlDbType.Double);
-                importer.Write(row.WheelScale, NpgsqlDbType.Double);
-                importer.Write(AsArray(row.Covariance), NpgsqlDbType.Array | NpgsqlDbType.Double);
-                importer.Write(row.EllipseMajorM, NpgsqlDbType.Double);
-                importer.Write(row.EllipseMinorM, NpgsqlDbType.Double);
-                importer.Write(row.EllipseOrientationRad, NpgsqlDbType.Double);
+                await importer.StartRowAsync(cancellationToken).ConfigureAwait(false);
+                await importer.WriteAsync(row.FleetId, NpgsqlDbType.Uuid, cancellationToken).ConfigureAwait(false);
+                await importer.WriteAsync(row.VehicleId, NpgsqlDbType.Text, cancellationToken).ConfigureAwait(false);
+                await importer.WriteAsync(row.TimeUs, NpgsqlDbType.Bigint, cancellationToken).ConfigureAwait(false);
+                await importer.WriteAsync(UnixMicroseconds.ToDateTimeUtc(row.TimeUs), NpgsqlDbType.TimestampTz, cancellationToken).ConfigureAwait(false);
+                await importer.WriteAsync(row.LatDeg, NpgsqlDbType.Double, cancellationToken).ConfigureAwait(false);
+                await importer.WriteAsync(row.LonDeg, NpgsqlDbType.Double, cancellationToken).ConfigureAwait(false);
+                await importer.WriteAsync(row.HeadingRad, NpgsqlDbType.Double, cancellationToken).ConfigureAwait(false);
+                await importer.WriteAsync(row.SpeedMps, NpgsqlDbType.Double, cancellationToken).ConfigureAwait(false);
+                await importer.WriteAsync(row.YawRateRps, NpgsqlDbType.Double, cancellationToken).ConfigureAwait(false);
+                await importer.WriteAsync(row.AccelMps2, NpgsqlDbType.Double, cancellationToken).ConfigureAwait(false);
+                await importer.WriteAsync(row.GyroBiasRps, NpgsqlDbType.Double, cancellationToken).ConfigureAwait(false);
+                await importer.WriteAsync(row.WheelScale, NpgsqlDbType.Double, cancellationToken).ConfigureAwait(false);
+                await importer.WriteAsync(AsArray(row.Covariance), NpgsqlDbType.Array | NpgsqlDbType.Double, cancellationToken).ConfigureAwait(false);
+                await importer.WriteAsync(row.EllipseMajorM, NpgsqlDbType.Double, cancellationToken).ConfigureAwait(false);
+                await importer.WriteAsync(row.EllipseMinorM, NpgsqlDbType.Double, cancellationToken).ConfigureAwait(false);
+                await importer.WriteAsync(row.EllipseOrientationRad, NpgsqlDbType.Double, cancellationToken).ConfigureAwait(false);
             }
 
             return await importer.CompleteAsync(cancellationToken).ConfigureAwait(false);

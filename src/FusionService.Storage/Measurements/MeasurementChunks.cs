@@ -88,7 +88,7 @@ public static class MeasurementChunks
             foreach (var ((fleetId, vehicleId, _), list) in groups)
             {
                 list.Sort(static (a, b) => CompareCanonical(a, b));
-                WriteChunk(importer, fleetId, vehicleId, list);
+                await WriteChunkAsync(importer, fleetId, vehicleId, list, cancellationToken).ConfigureAwait(false);
             }
 
             await importer.CompleteAsync(cancellationToken).ConfigureAwait(false);
@@ -97,10 +97,8 @@ public static class MeasurementChunks
         return groups.Count;
     }
 
-    // Synchronous writes: the importer buffers them (8 KiB) and only a full buffer goes to the socket, so awaiting every
-    // field of every chunk (18 a chunk, about 490 chunks a commit of a gateway's batch) cost a state machine each and
-    // bought nothing; CompleteAsync sends the rest.
-    private static void WriteChunk(NpgsqlBinaryImporter importer, Guid fleetId, string vehicleId, List<MeasurementRow> rows)
+    private static async Task WriteChunkAsync(
+        NpgsqlBinaryImporter importer, Guid fleetId, string vehicleId, List<MeasurementRow> rows, CancellationToken cancellationToken)
     {
         int n = rows.Count;
         var time = new long[n];
@@ -131,24 +129,24 @@ public static class MeasurementChunks
             reset[i] = r.TrackReset;
         }
 
-        importer.StartRow();
-        importer.Write(fleetId, NpgsqlDbType.Uuid);
-        importer.Write(vehicleId, NpgsqlDbType.Text);
-        importer.Write(time[0], NpgsqlDbType.Bigint);
-        importer.Write(time[^1], NpgsqlDbType.Bigint);
-        importer.Write(n, NpgsqlDbType.Integer);
-        importer.Write(time, NpgsqlDbType.Array | NpgsqlDbType.Bigint);
-        importer.Write(kind, NpgsqlDbType.Array | NpgsqlDbType.Smallint);
-        importer.Write(key, NpgsqlDbType.Array | NpgsqlDbType.Bigint);
-        importer.Write(received, NpgsqlDbType.Array | NpgsqlDbType.Bigint);
-        importer.Write(v0, NpgsqlDbType.Array | NpgsqlDbType.Double);
-        importer.Write(v1, NpgsqlDbType.Array | NpgsqlDbType.Double);
-        importer.Write(v2, NpgsqlDbType.Array | NpgsqlDbType.Double);
-        importer.Write(flags, NpgsqlDbType.Array | NpgsqlDbType.Integer);
-        importer.Write(outcome, NpgsqlDbType.Array | NpgsqlDbType.Smallint);
-        importer.Write(nis, NpgsqlDbType.Array | NpgsqlDbType.Double);
-        importer.Write(reset, NpgsqlDbType.Array | NpgsqlDbType.Boolean);
-        importer.Write(w, NpgsqlDbType.Array | NpgsqlDbType.Real);
-        importer.Write(w, NpgsqlDbType.Array | NpgsqlDbType.Real);
+        await importer.StartRowAsync(cancellationToken).ConfigureAwait(false);
+        await importer.WriteAsync(fleetId, NpgsqlDbType.Uuid, cancellationToken).ConfigureAwait(false);
+        await importer.WriteAsync(vehicleId, NpgsqlDbType.Text, cancellationToken).ConfigureAwait(false);
+        await importer.WriteAsync(time[0], NpgsqlDbType.Bigint, cancellationToken).ConfigureAwait(false);
+        await importer.WriteAsync(time[^1], NpgsqlDbType.Bigint, cancellationToken).ConfigureAwait(false);
+        await importer.WriteAsync(n, NpgsqlDbType.Integer, cancellationToken).ConfigureAwait(false);
+        await importer.WriteAsync(time, NpgsqlDbType.Array | NpgsqlDbType.Bigint, cancellationToken).ConfigureAwait(false);
+        await importer.WriteAsync(kind, NpgsqlDbType.Array | NpgsqlDbType.Smallint, cancellationToken).ConfigureAwait(false);
+        await importer.WriteAsync(key, NpgsqlDbType.Array | NpgsqlDbType.Bigint, cancellationToken).ConfigureAwait(false);
+        await importer.WriteAsync(received, NpgsqlDbType.Array | NpgsqlDbType.Bigint, cancellationToken).ConfigureAwait(false);
+        await importer.WriteAsync(v0, NpgsqlDbType.Array | NpgsqlDbType.Double, cancellationToken).ConfigureAwait(false);
+        await importer.WriteAsync(v1, NpgsqlDbType.Array | NpgsqlDbType.Double, cancellationToken).ConfigureAwait(false);
+        await importer.WriteAsync(v2, NpgsqlDbType.Array | NpgsqlDbType.Double, cancellationToken).ConfigureAwait(false);
+        await importer.WriteAsync(flags, NpgsqlDbType.Array | NpgsqlDbType.Integer, cancellationToken).ConfigureAwait(false);
+        await importer.WriteAsync(outcome, NpgsqlDbType.Array | NpgsqlDbType.Smallint, cancellationToken).ConfigureAwait(false);
+        await importer.WriteAsync(nis, NpgsqlDbType.Array | NpgsqlDbType.Double, cancellationToken).ConfigureAwait(false);
+        await importer.WriteAsync(reset, NpgsqlDbType.Array | NpgsqlDbType.Boolean, cancellationToken).ConfigureAwait(false);
+        await importer.WriteAsync(w, NpgsqlDbType.Array | NpgsqlDbType.Real, cancellationToken).ConfigureAwait(false);
+        await importer.WriteAsync(w, NpgsqlDbType.Array | NpgsqlDbType.Real, cancellationToken).ConfigureAwait(false);
     }
 }

@@ -37,13 +37,6 @@ public sealed class TrackDispatcher : IHostedService, IAsyncDisposable
     private readonly Dictionary<(Guid FleetId, string VehicleId), List<Handover>> _mailboxes = [];
     private readonly Lock _mailboxesGate = new();
 
-    // The grain references of the vehicles handed over to, reused: a gateway's batch calls hundreds of grains per round,
-    // and making each reference anew (the key's string, its grain id and hash, the reference itself) cost about a
-    // twentieth of the service's processor time in a profile of mixed batches. References are small and stay valid;
-    // the cache is emptied when it reaches ReferenceCacheLimit vehicles, so it cannot grow without bound.
-    private const int ReferenceCacheLimit = 100_000;
-    private readonly ConcurrentDictionary<(Guid FleetId, string VehicleId), IVehicleTrackGrain> _references = new();
-
     /// <summary>Creates the dispatcher.</summary>
     public TrackDispatcher(
         IGrainFactory grains, TrackWriteQueue writes, ServiceMetrics metrics, IOptions<IngestOptions> options, ILogger<TrackDispatcher> logger)
@@ -198,7 +191,7 @@ public sealed class TrackDispatcher : IHostedService, IAsyncDisposable
 
     private async Task<Exception?> DeliverOneAsync(Guid fleetId, string vehicleId, List<Handover> handovers)
     {
-        var grain = GrainOf(fleetId, vehicleId);
+        var grain = _grains.GetGrain<IVehicleTrackGrain>(GrainKeys.Of(fleetId, vehicleId));
         int count = handovers.Sum(h => h.Delivery.Batch.Length);
         using var span = FusionTelemetry.StartHandover(vehicleId, count);
         try
@@ -233,23 +226,6 @@ public sealed class TrackDispatcher : IHostedService, IAsyncDisposable
 
             return ex;
         }
-    }
-
-    private IVehicleTrackGrain GrainOf(Guid fleetId, string vehicleId)
-    {
-        if (_references.TryGetValue((fleetId, vehicleId), out var grain))
-        {
-            return grain;
-        }
-
-        if (_references.Count >= ReferenceCacheLimit)
-        {
-            _references.Clear();
-        }
-
-        grain = _grains.GetGrain<IVehicleTrackGrain>(GrainKeys.Of(fleetId, vehicleId));
-        _references[(fleetId, vehicleId)] = grain;
-        return grain;
     }
 
     // One vehicle's part of a delivery; Done carries the failure of the grain call that took it (null when it took it).
