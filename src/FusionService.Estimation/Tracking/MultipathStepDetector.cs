@@ -75,6 +75,21 @@ public struct MultipathStepDetector
     /// </summary>
     public long SuppressedUntilUs;
 
+    /// <summary>The GNSS error states' estimate given with the previous fix (before that fix was fused), east, metres.</summary>
+    public double PreviousErrorEastM;
+
+    /// <summary>The GNSS error states' estimate given with the previous fix, north, metres.</summary>
+    public double PreviousErrorNorthM;
+
+    /// <summary>
+    /// The GNSS error states' estimate before the episode's first fix, east, metres: the clean level the episode's fixes are
+    /// compared with (the first fix, fused before the step showed, may have pulled the estimate towards the bias).
+    /// </summary>
+    public double EpisodeErrorEastM;
+
+    /// <summary>The GNSS error states' estimate before the episode's first fix, north, metres.</summary>
+    public double EpisodeErrorNorthM;
+
     /// <summary>Consecutive fixes of the episode nearer the level before it than the episode's own level.</summary>
     public int LevelFixes;
 
@@ -108,7 +123,7 @@ public struct MultipathStepDetector
     /// <paramref name="errorEastM"/>, <paramref name="errorNorthM"/>, with the fix's white variance and the GNSS
     /// error's stationary variance and time constant. Returns whether the fix belongs to a suspected episode (set it aside).
     /// </summary>
-    public bool Observe(
+    public FixStepVerdict Observe(
         long timeUs, double fixEastM, double fixNorthM, double trackEastM, double trackNorthM, double errorEastM, double errorNorthM, double whiteVarianceM2,
         double positionVarianceM2, double correlatedVarianceM2, double timeConstantS, double threshold, TrackOptions options)
     {
@@ -118,6 +133,9 @@ public struct MultipathStepDetector
         }
 
         double rEast = fixEastM - trackEastM, rNorth = fixNorthM - trackNorthM;
+        double previousErrorEastM = PreviousErrorEastM, previousErrorNorthM = PreviousErrorNorthM;
+        PreviousErrorEastM = errorEastM;
+        PreviousErrorNorthM = errorNorthM;
         // The track's own error grows between fixes by what the motion sensors leave uncertain.
         double growthM2 = Count > 0 ? Math.Max(0, positionVarianceM2 - PositionVarianceAfterM2) : 0;
         double intervalS = Count > 0 ? (timeUs - Ring[((Count - 1) * Stride) + 0]) / 1e6 : 0;
@@ -125,7 +143,11 @@ public struct MultipathStepDetector
         var noise = new StepNoise(correlatedVarianceM2, timeConstantS, intervalS > 0 ? growthM2 / intervalS : 0, Math.Max(1, WhiteScale));
         bool began = false;
         int after = 0;
-        if (Step(1, noise, threshold, out Means means))
+        // A step back is taken at its first fix; a step away only at its second: the mean of two fixes halves a single
+        // large white error (the one-fix test saw a 4-sigma fix as a step about once in a thousand fixes and set the
+        // next few aside), while a reflection, which holds, shows in both.
+        Means means = default;
+        if (Active && Step(1, noise, threshold, out means))
         {
             after = 1;
         }
@@ -158,19 +180,23 @@ public struct MultipathStepDetector
                 ActiveSinceUs = timeUs;
                 ReferenceEastM = means.BeforeEastM;
                 ReferenceNorthM = means.BeforeNorthM;
+                EpisodeErrorEastM = after == 2 ? previousErrorEastM : errorEastM;
+                EpisodeErrorNorthM = after == 2 ? previousErrorNorthM : errorNorthM;
                 LevelFixes = 0;
             }
             else if (!awayFromTrack && Active)
             {
                 Active = false;
-                return false;
+                return FixStepVerdict.Fuse;
             }
-            else if (Active)
+            else if (Active && means.BeforeTimeUs >= ActiveSinceUs)
             {
-                // A second step further away: not one reflection holding its bias but fixes running away (the track
-                // drifting, or a reflection that keeps changing), which setting fixes aside would only let run on.
+                // A second step further away, from fixes of the episode: not one reflection holding its bias but fixes
+                // running away (the track drifting, or a reflection that keeps changing), which setting fixes aside would
+                // only let run on. (From fixes before the episode it is the same step seen whole, when its first fix
+                // began the episode with half of it.)
                 Suppress(timeUs, options);
-                return false;
+                return FixStepVerdict.Fuse;
             }
 
             if (Active)
@@ -193,22 +219,25 @@ public struct MultipathStepDetector
             {
                 Active = false;
                 SuppressedUntilUs = timeUs + (long)(options.MultipathSuppressS * 1e6);
-                return false;
+                return FixStepVerdict.Fuse;
             }
 
-            // Clean or biased? Against the track plus the GNSS error states' estimate (which an episode's fixes do not
-            // reach: they are not fused) rather than against the two fixes before the step, one of which may have been a
-            // large white error that made the step.
-            double toClean = Square(rEast - errorEastM) + Square(rNorth - errorNorthM);
-            double toEpisode = Square(rEast - errorEastM - BiasEastM) + Square(rNorth - errorNorthM - BiasNorthM);
+            // Clean or biased? Against the track plus the GNSS error states' estimate before the episode (which its fixes
+            // do not reach: they are not fused), decayed as the Gauss-Markov error decays, rather than against the two
+            // fixes before the step, one of which may have been a large white error that made the step.
+            double decay = Math.Exp(-sinceS / timeConstantS);
+            double cleanEast = EpisodeErrorEastM * decay, cleanNorth = EpisodeErrorNorthM * decay;
+            double toClean = Square(rEast - cleanEast) + Square(rNorth - cleanNorth);
+            double toEpisode = Square(rEast - cleanEast - BiasEastM) + Square(rNorth - cleanNorth - BiasNorthM);
             LevelFixes = toClean < toEpisode ? LevelFixes + 1 : 0;
             if (LevelFixes >= options.MultipathLevelFixes)
             {
                 Active = false;
+                return FixStepVerdict.Fuse;
             }
         }
 
-        return Active;
+        return !Active ? FixStepVerdict.Fuse : began ? FixStepVerdict.EpisodeBegan : FixStepVerdict.SetAside;
     }
 
     /// <summary>What the difference of the means may hold besides a step: the Gauss-Markov error's change, the track's growth per second, the white variances' scale.</summary>
@@ -232,7 +261,7 @@ public struct MultipathStepDetector
     /// <summary>Means of the residuals after and before a step: against the dead-reckoned track, and against the track at each fix's time.</summary>
     private record struct Means(
         double AfterEastM, double AfterNorthM, double BeforeEastM, double BeforeNorthM,
-        double AfterToTrackEastM, double AfterToTrackNorthM, double BeforeToTrackEastM, double BeforeToTrackNorthM);
+        double AfterToTrackEastM, double AfterToTrackNorthM, double BeforeToTrackEastM, double BeforeToTrackNorthM, double BeforeTimeUs);
 
     /// <summary>
     /// Whether the mean of the newest <paramref name="after"/> residuals differs from the mean of the (up to) two before them by
@@ -250,6 +279,7 @@ public struct MultipathStepDetector
         }
 
         double afterTime = 0, beforeTime = 0, afterVar = 0, beforeVar = 0;
+        means.BeforeTimeUs = Ring[(Count - after - before) * Stride];
         for (int i = Count - after - before; i < Count; i++)
         {
             int at = i * Stride;

@@ -563,9 +563,10 @@ public sealed class TrackProcessor
         // The step test needs the track carried between fixes by the wheels (and gyro): with GNSS alone the prediction
         // between fixes is the fixes' own Doppler, and a turn or a stop looks like a step.
         bool hasWheel = s.LastWheelUs != long.MinValue && (m.TimeUs - s.LastWheelUs) / MicrosecondsPerSecond <= Options.NoWheelAfterS;
-        bool setAside = !s.Carried && hasWheel && s.MultipathSteps.Observe(
+        FixStepVerdict step = s.Carried || !hasWheel ? FixStepVerdict.Fuse : s.MultipathSteps.Observe(
             m.TimeUs, enu.EastM, enu.NorthM, s.X[EastM], s.X[NorthM], s.X[GnssErrorEastM], s.X[GnssErrorNorthM], whiteVar,
             0.5 * (s.P[(EastM * N) + EastM] + s.P[(NorthM * N) + NorthM]), s.GnssCorrelatedVarianceM2, ErrorTimeConstantS(s), _stepThreshold, Options);
+        bool setAside = step is FixStepVerdict.SetAside or FixStepVerdict.EpisodeBegan;
         double eastBefore = s.X[EastM], northBefore = s.X[NorthM];
         // A fix of a suspected multipath episode is judged (its NIS) but never fused, and never taken as showing the error
         // states stale: the episode's bias is what they must not absorb.

@@ -21,8 +21,8 @@ public static class TrackStateCodec
     // GnssErrorVariogram: 2 flags, 2 times, 14 doubles.
     private const int FitLength = 2 + (2 * 8) + (14 * 8);
 
-    // MultipathStepDetector: the ring, a count, 2 pulls, a flag, a time, 4 levels, a counter, the white scale, a variance, a time.
-    private const int StepsLength = (FixResidualRing.Length * 8) + 4 + (2 * 8) + 1 + 8 + (4 * 8) + 4 + 8 + 8 + 8;
+    // MultipathStepDetector: the ring, a count, 2 pulls, a flag, a time, 4 levels, a counter, the white scale, a variance, a time, 4 error estimates.
+    private const int StepsLength = (FixResidualRing.Length * 8) + 4 + (2 * 8) + 1 + 8 + (4 * 8) + 4 + 8 + 8 + 8 + (4 * 8);
 
     // StreamAgreement: 2 flags, 6 times, 5 counters, 13 doubles and the ring of chord offsets.
     private const int AgreementLength = 2 + (6 * 8) + (5 * 4) + (13 * 8) + (ChordOffsetRing.Length * 8);
@@ -192,6 +192,10 @@ public static class TrackStateCodec
         w.Double(d.WhiteScale);
         w.Double(d.PositionVarianceAfterM2);
         w.Long(d.SuppressedUntilUs);
+        w.Double(d.PreviousErrorEastM);
+        w.Double(d.PreviousErrorNorthM);
+        w.Double(d.EpisodeErrorEastM);
+        w.Double(d.EpisodeErrorNorthM);
     }
 
     private static MultipathStepDetector ReadSteps(ref Reader r)
@@ -215,6 +219,10 @@ public static class TrackStateCodec
         d.WhiteScale = r.Double();
         d.PositionVarianceAfterM2 = r.Double();
         d.SuppressedUntilUs = r.Long();
+        d.PreviousErrorEastM = r.Double();
+        d.PreviousErrorNorthM = r.Double();
+        d.EpisodeErrorEastM = r.Double();
+        d.EpisodeErrorNorthM = r.Double();
         return d;
     }
 

@@ -38,7 +38,7 @@ public sealed class MultipathStepDetectorTests(ITestOutputHelper output)
         {
             bool wasActive = detector.Active;
             double east = Gaussian(random) * Math.Sqrt(WhiteVarianceM2), north = Gaussian(random) * Math.Sqrt(WhiteVarianceM2);
-            bool aside = detector.Observe(k * 1_000_000L, east, north, 0, 0, 0, 0, WhiteVarianceM2, 0, 0, 60, StepThreshold, Options);
+            bool aside = detector.Observe(k * 1_000_000L, east, north, 0, 0, 0, 0, WhiteVarianceM2, 0, 0, 60, StepThreshold, Options) is FixStepVerdict.SetAside or FixStepVerdict.EpisodeBegan;
             onsets += aside && !wasActive ? 1 : 0;
             setAside += aside ? 1 : 0;
         }
@@ -73,7 +73,7 @@ public sealed class MultipathStepDetectorTests(ITestOutputHelper output)
             double white = inEpisode ? EpisodeWhiteM2 : CleanWhiteM2;
             double east = (Gaussian(random) * Math.Sqrt(white)) + (inEpisode ? _bias.East : 0);
             double north = (Gaussian(random) * Math.Sqrt(white)) + (inEpisode ? _bias.North : 0);
-            bool aside = detector.Observe(k * 1_000_000L, east, north, 0, 0, 0, 0, white, 0, 0.75 * 9.0, 60, StepThreshold, Options);
+            bool aside = detector.Observe(k * 1_000_000L, east, north, 0, 0, 0, 0, white, 0, 0.75 * 9.0, 60, StepThreshold, Options) is FixStepVerdict.SetAside or FixStepVerdict.EpisodeBegan;
             if (inEpisode && phase >= 32)
             {
                 episodeFixes++;
@@ -94,27 +94,31 @@ public sealed class MultipathStepDetectorTests(ITestOutputHelper output)
     [Fact]
     public void Fixes_that_run_away_from_the_episode_level_end_it_and_hold_off_the_next()
     {
-        // A step of 15 m, then fixes moving on by 5 m a second (the track drifting, not a reflection): the episode ends
-        // within a few fixes and none begins again for MultipathSuppressS.
+        // A step of 15 m (an episode begins at once: half of it in the mean of the newest two fixes is 7.5 m, NIS 25 against
+        // 2.25 m² for the two means), held for a second fix, then fixes moving on by 5 m a second (the track drifting, not a
+        // reflection): the episode ends within a few fixes and none begins again for MultipathSuppressS, not even on a
+        // step of 55 m back.
         var detector = default(MultipathStepDetector);
         for (int k = 0; k < 10; k++)
         {
             detector.Observe(k * 1_000_000L, 0, 0, 0, 0, 0, 0, 2.25, 0, 6.75, 60, StepThreshold, Options);
         }
 
-        Assert.True(detector.Observe(10_000_000L, 15, 0, 0, 0, 0, 0, 2.25, 0, 6.75, 60, StepThreshold, Options));
+        Assert.Equal(FixStepVerdict.EpisodeBegan, detector.Observe(10_000_000L, 15, 0, 0, 0, 0, 0, 2.25, 0, 6.75, 60, StepThreshold, Options));
+        Assert.Equal(FixStepVerdict.SetAside, detector.Observe(11_000_000L, 15, 0, 0, 0, 0, 0, 2.25, 0, 6.75, 60, StepThreshold, Options));
         int ended = -1;
-        for (int k = 11; k < 20 && ended < 0; k++)
+        for (int k = 12; k < 20 && ended < 0; k++)
         {
-            if (!detector.Observe(k * 1_000_000L, 15 + (5 * (k - 10)), 0, 0, 0, 0, 0, 2.25, 0, 6.75, 60, StepThreshold, Options))
+            if (detector.Observe(k * 1_000_000L, 15 + (5 * (k - 11)), 0, 0, 0, 0, 0, 2.25, 0, 6.75, 60, StepThreshold, Options) != FixStepVerdict.SetAside)
             {
                 ended = k;
             }
         }
 
-        Assert.InRange(ended, 11, 14);
+        Assert.InRange(ended, 12, 15);
         Assert.Equal(ended * 1_000_000L + (long)(Options.MultipathSuppressS * 1e6), detector.SuppressedUntilUs);
-        Assert.False(detector.Observe((ended + 1) * 1_000_000L, -40, 0, 0, 0, 0, 0, 2.25, 0, 6.75, 60, StepThreshold, Options));
+        Assert.Equal(FixStepVerdict.Fuse, detector.Observe((ended + 1) * 1_000_000L, -40, 0, 0, 0, 0, 0, 2.25, 0, 6.75, 60, StepThreshold, Options));
+        Assert.Equal(FixStepVerdict.Fuse, detector.Observe((ended + 2) * 1_000_000L, -40, 0, 0, 0, 0, 0, 2.25, 0, 6.75, 60, StepThreshold, Options));
     }
 
     private (double East, double North) _bias;
