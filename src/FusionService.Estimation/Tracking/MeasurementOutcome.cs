@@ -61,6 +61,13 @@ public readonly record struct MeasurementOutcome(
     /// </summary>
     public bool ErrorRestarted { get; init; }
 
+    /// <summary>
+    /// True when this GNSS fix was set aside (outcome <see cref="OutcomeKind.Gated"/>, whatever its NIS) because it belongs
+    /// to a suspected multipath episode: the fixes stepped away from the track together while the motion sensors saw no
+    /// such jump (see <see cref="MultipathStepDetector"/>).
+    /// </summary>
+    public bool MultipathSuspected { get; init; }
+
     /// <summary>An outcome without an innovation.</summary>
     public static MeasurementOutcome Of(OutcomeKind kind) => new(kind, double.NaN, 0, double.NaN, false, 0);
 
@@ -93,6 +100,7 @@ public readonly record struct MeasurementOutcome(
         OutcomeKind.Accepted when ErrorRestarted => FormattableString.Invariant($"{sensor} fused, NIS {Nis:F2}, after the GNSS error estimate was dropped: the fixes no longer show the bias it held (a multipath episode ended)"),
         OutcomeKind.Accepted when Recovered => FormattableString.Invariant($"{sensor} fused after repeated rejection (NIS {Nis:F2} above {GateThreshold:F2}): the motion changed faster than modelled, its uncertainty was raised"),
         OutcomeKind.Accepted => FormattableString.Invariant($"{sensor} fused, NIS {Nis:F2} (dimension {Dimension}, gate {GateThreshold:F2})"),
+        OutcomeKind.Gated when MultipathSuspected => FormattableString.Invariant($"{sensor} set aside (NIS {Nis:F2}): the fixes stepped away from the track together while the wheels, gyro and Doppler saw no such jump (a multipath episode suspected)"),
         OutcomeKind.Gated => FormattableString.Invariant($"{sensor} rejected by the gate: NIS {Nis:F2} exceeds {GateThreshold:F2} for dimension {Dimension}"),
         OutcomeKind.TooLate => $"{sensor} older than the lag window; kept for smoothing only",
         OutcomeKind.Duplicate => $"{sensor} exact duplicate; ignored",

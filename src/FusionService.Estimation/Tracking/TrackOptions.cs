@@ -152,10 +152,37 @@ public sealed record TrackOptions
     /// </summary>
     public int ErrorRestartAfterFixes { get; init; } = 3;
 
+    /// <summary>
+    /// Probability that a step between successive GNSS fixes as large as the white noise and the correlated error allow
+    /// passes the multipath step test (<see cref="MultipathStepDetector"/>); a larger step begins a suspected multipath
+    /// episode, whose fixes are set aside. Default 0.999 (chi-square, two dimensions: NIS 13.8); 0 turns the test off.
+    /// </summary>
+    public double MultipathStepProbability { get; init; } = 0.999;
+
+    /// <summary>Fixes further apart than this are not compared by the multipath step test, seconds. Default 2.5 (1 Hz fixes with one lost).</summary>
+    public double MultipathStepMaxGapS { get; init; } = 2.5;
+
+    /// <summary>
+    /// Fixes in a row nearer the level before a suspected multipath episode than the episode's own level that end it
+    /// when no step back was seen. Default 2.
+    /// </summary>
+    public int MultipathLevelFixes { get; init; } = 2;
+
+    /// <summary>
+    /// After a suspected multipath episode whose fixes did not hold a steady level (the track was drifting, not the
+    /// fixes stepping), after a stream was isolated, and after a GNSS velocity disagreed with the track, no new episode
+    /// begins for this long, seconds. Default 30.
+    /// </summary>
+    public double MultipathSuppressS { get; init; } = 30.0;
+
     /// <summary>Throws <see cref="ArgumentException"/> naming the first invalid option.</summary>
     public void Validate()
     {
         Require(GateProbability > 0 && GateProbability < 1, nameof(GateProbability), "must lie in (0, 1)");
+        Require(MultipathStepProbability >= 0 && MultipathStepProbability < 1, nameof(MultipathStepProbability), "must lie in [0, 1)");
+        Require(MultipathStepMaxGapS > 0 && double.IsFinite(MultipathStepMaxGapS), nameof(MultipathStepMaxGapS), "must be finite and positive");
+        Require(MultipathLevelFixes >= 1, nameof(MultipathLevelFixes), "must be at least 1");
+        Require(MultipathSuppressS >= 0 && double.IsFinite(MultipathSuppressS), nameof(MultipathSuppressS), "must be finite and non-negative");
         Require(LagWindowS >= 0 && double.IsFinite(LagWindowS), nameof(LagWindowS), "must be finite and non-negative");
         Require(CheckpointIntervalS > 0 && double.IsFinite(CheckpointIntervalS), nameof(CheckpointIntervalS), "must be finite and positive");
         Require(MaxPredictionStepS > 0 && double.IsFinite(MaxPredictionStepS), nameof(MaxPredictionStepS), "must be finite and positive");

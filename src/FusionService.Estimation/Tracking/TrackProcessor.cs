@@ -28,7 +28,11 @@ public sealed class TrackProcessor
         Options = options;
         Profile = profile;
         Gate = new ChiSquareGate(options.GateProbability);
+        _stepThreshold = options.MultipathStepProbability > 0 ? new ChiSquareGate(options.MultipathStepProbability).Threshold(2) : double.PositiveInfinity;
     }
+
+    // NIS of a step between successive fixes beyond which a multipath episode is suspected (infinite: the test is off).
+    private readonly double _stepThreshold;
 
     /// <summary>Track options.</summary>
     public TrackOptions Options { get; }
@@ -287,6 +291,7 @@ public sealed class TrackProcessor
             // stream was still fused, so a new segment begins here (as at a reset), with a zero-length step into this update.
             recorder?.Start(m.TimeUs, s.X, s.P, s.Plane);
             recorder?.Predicted(StateIdentity.Value, s.X, s.P);
+            s.MultipathSteps.Suppress(m.TimeUs, Options);
         }
 
         if (m.Kind == SensorKind.GnssVelocity && CarriedMotion.Observe(ref s, m, Options))
@@ -298,6 +303,7 @@ public sealed class TrackProcessor
             bool hasCourse = velocity.SpeedMps >= Options.CourseMinSpeedMps && velocity.HasCourse;
             double courseSigma = Math.Max(velocity.SpeedAccuracyMps / velocity.SpeedMps, Options.CourseSigmaFloorRad);
             CarriedMotion.Begin(ref s, m, hasCourse ? CourseToHeading(velocity.CourseRad) : double.NaN, courseSigma, Profile.InitialAccelSigmaMps2);
+            s.MultipathSteps.Clear();
             recorder?.Start(m.TimeUs, s.X, s.P, s.Plane);
             return MeasurementOutcome.Of(OutcomeKind.Initialising) with { Carried = true };
         }
@@ -317,6 +323,11 @@ public sealed class TrackProcessor
             if (s.Carried)
             {
                 outcome = outcome with { Carried = true };
+            }
+
+            if (m.Kind == SensorKind.GnssPosition)
+            {
+                s.MultipathSteps.Settle(0.5 * (s.P[(EastM * N) + EastM] + s.P[(NorthM * N) + NorthM]));
             }
 
             if (outcome.Kind == OutcomeKind.Accepted)
@@ -549,9 +560,19 @@ public sealed class TrackProcessor
         Span<double> r = [whiteVar, 0, 0, whiteVar];
         double threshold = Gate.Threshold(2);
         Span<double> whitened = [double.NaN, double.NaN];
-        bool accepted = Update(ref s, residual, h, r, threshold, out double nis, recorder, whitened);
+        // The step test needs the track carried between fixes by the wheels (and gyro): with GNSS alone the prediction
+        // between fixes is the fixes' own Doppler, and a turn or a stop looks like a step.
+        bool hasWheel = s.LastWheelUs != long.MinValue && (m.TimeUs - s.LastWheelUs) / MicrosecondsPerSecond <= Options.NoWheelAfterS;
+        FixStepVerdict step = s.Carried || !hasWheel ? FixStepVerdict.Fuse : s.MultipathSteps.Observe(
+            m.TimeUs, enu.EastM, enu.NorthM, s.X[EastM], s.X[NorthM], s.X[GnssErrorEastM], s.X[GnssErrorNorthM], whiteVar,
+            0.5 * (s.P[(EastM * N) + EastM] + s.P[(NorthM * N) + NorthM]), s.GnssCorrelatedVarianceM2, ErrorTimeConstantS(s), _stepThreshold, Options);
+        bool setAside = step is FixStepVerdict.SetAside or FixStepVerdict.EpisodeBegan;
+        double eastBefore = s.X[EastM], northBefore = s.X[NorthM];
+        // A fix of a suspected multipath episode is judged (its NIS) but never fused, and never taken as showing the error
+        // states stale: the episode's bias is what they must not absorb.
+        bool accepted = Update(ref s, residual, h, r, setAside ? double.NegativeInfinity : threshold, out double nis, recorder, whitened);
         bool restarted = false;
-        if (!accepted && ErrorStateLooksStale(ref s, residual, whiteVar))
+        if (!accepted && !setAside && ErrorStateLooksStale(ref s, residual, whiteVar))
         {
             // The error states hold a bias the fixes no longer show (a multipath episode ended): start them again from their
             // stationary distribution and take this fix against that.
@@ -569,6 +590,7 @@ public sealed class TrackProcessor
         IdentifyGnssError(ref s, fix, accepted);
         if (accepted)
         {
+            s.MultipathSteps.AddPull(s.X[EastM] - eastBefore, s.X[NorthM] - northBefore);
             s.RejectedFixes = 0;
             s.StaleErrorEvidence = 0;
             if (ReacquireHeading(ref s, fix))
@@ -603,7 +625,7 @@ public sealed class TrackProcessor
                 return RecoverPosition(ref s, m, fix, residual, whitened, nis, threshold, recorder);
             }
 
-            return new MeasurementOutcome(OutcomeKind.Gated, nis, 2, threshold, s.Stationary, 0).WithInnovation(residual, whitened);
+            return new MeasurementOutcome(OutcomeKind.Gated, nis, 2, threshold, s.Stationary, 0) { MultipathSuspected = setAside }.WithInnovation(residual, whitened);
         }
 
         // A real relocation (ferry, tow truck, long tunnel): start again from this fix, keeping the calibration.
@@ -613,6 +635,7 @@ public sealed class TrackProcessor
         s.Fix = new HeldFix(true, m.TimeUs, 0, 0, sigma);
         s.Course = default;
         s.RejectedFixes = 0;
+        s.MultipathSteps.Clear();
         return new MeasurementOutcome(OutcomeKind.TrackReset, nis, 2, threshold, s.Stationary, offsetM).WithInnovation(residual, whitened);
     }
 
@@ -667,6 +690,7 @@ public sealed class TrackProcessor
         Update(ref s, offset, h, r, double.PositiveInfinity, out _, recorder);
         s.RejectedFixes = 0;
         s.StaleErrorEvidence = 0;
+        s.MultipathSteps.Clear();
         s.Fix = fix;
         double shiftM = Math.Sqrt((offset[0] * offset[0]) + (offset[1] * offset[1]));
         return new MeasurementOutcome(OutcomeKind.Accepted, nis, 2, threshold, s.Stationary, shiftM) { Recovered = true }.WithInnovation(residual, whitened);

@@ -109,6 +109,9 @@ public struct TrackState
     /// </summary>
     public StreamAgreement Agreement;
 
+    /// <summary>The multipath step test's recent fixes and any suspected episode (see <see cref="MultipathStepDetector"/>).</summary>
+    public MultipathStepDetector MultipathSteps;
+
     /// <summary>Number of track resets so far.</summary>
     public int Resets;
 

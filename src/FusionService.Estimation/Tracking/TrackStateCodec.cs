@@ -13,13 +13,16 @@ namespace FusionService.Estimation.Tracking;
 public static class TrackStateCodec
 {
     /// <summary>Format version written in the first byte.</summary>
-    public const byte Version = 5;
+    public const byte Version = 6;
 
     /// <summary>Size of an encoded checkpoint, bytes.</summary>
-    public const int EncodedLength = 1 + (StateVector.Length * 8) + (StateMatrix.Size * (StateMatrix.Size + 1) / 2 * 8) + 8 + 1 + (3 * 8) + 3 + 8 + 1 + (1 + 8 + (3 * 8)) + (1 + 8 + (4 * 8)) + 8 + 4 + 4 + (8 + 8 + 8 + 8 + 4) + 12 + 8 + (1 + 8 + 4 + 8 + 4 + 8) + 4 + 16 + AgreementLength + FitLength;
+    public const int EncodedLength = 1 + (StateVector.Length * 8) + (StateMatrix.Size * (StateMatrix.Size + 1) / 2 * 8) + 8 + 1 + (3 * 8) + 3 + 8 + 1 + (1 + 8 + (3 * 8)) + (1 + 8 + (4 * 8)) + 8 + 4 + 4 + (8 + 8 + 8 + 8 + 4) + 12 + 8 + (1 + 8 + 4 + 8 + 4 + 8) + 4 + 16 + AgreementLength + FitLength + StepsLength;
 
     // GnssErrorVariogram: 2 flags, 2 times, 14 doubles.
     private const int FitLength = 2 + (2 * 8) + (14 * 8);
+
+    // MultipathStepDetector: the ring, a count, 2 pulls, a flag, a time, 4 levels, a counter, the white scale, a variance, a time, 4 error estimates.
+    private const int StepsLength = (FixResidualRing.Length * 8) + 4 + (2 * 8) + 1 + 8 + (4 * 8) + 4 + 8 + 8 + 8 + (4 * 8);
 
     // StreamAgreement: 2 flags, 6 times, 5 counters, 13 doubles and the ring of chord offsets.
     private const int AgreementLength = 2 + (6 * 8) + (5 * 4) + (13 * 8) + (ChordOffsetRing.Length * 8);
@@ -95,6 +98,7 @@ public static class TrackStateCodec
         w.Long(state.CarrySlowSinceUs);
         WriteAgreement(ref w, state.Agreement);
         WriteFit(ref w, state.GnssErrorFit);
+        WriteSteps(ref w, state.MultipathSteps);
         w.Long(last.TimeUs);
         w.Long((long)last.OrderKey);
         w.Double(last.Value0);
@@ -161,10 +165,65 @@ public static class TrackStateCodec
         s.CarrySlowSinceUs = r.Long();
         s.Agreement = ReadAgreement(ref r);
         s.GnssErrorFit = ReadFit(ref r);
+        s.MultipathSteps = ReadSteps(ref r);
         long timeUs = r.Long();
         ulong orderKey = (ulong)r.Long();
         Measurement last = Measurement.FromStored(timeUs, orderKey, r.Double(), r.Double(), r.Float());
         return (s, last);
+    }
+
+    private static void WriteSteps(ref Writer w, in MultipathStepDetector d)
+    {
+        for (int i = 0; i < FixResidualRing.Length; i++)
+        {
+            w.Double(d.Ring[i]);
+        }
+
+        w.Int(d.Count);
+        w.Double(d.PullEastM);
+        w.Double(d.PullNorthM);
+        w.Bool(d.Active);
+        w.Long(d.ActiveSinceUs);
+        w.Double(d.ReferenceEastM);
+        w.Double(d.ReferenceNorthM);
+        w.Double(d.BiasEastM);
+        w.Double(d.BiasNorthM);
+        w.Int(d.LevelFixes);
+        w.Double(d.WhiteScale);
+        w.Double(d.PositionVarianceAfterM2);
+        w.Long(d.SuppressedUntilUs);
+        w.Double(d.PreviousErrorEastM);
+        w.Double(d.PreviousErrorNorthM);
+        w.Double(d.EpisodeErrorEastM);
+        w.Double(d.EpisodeErrorNorthM);
+    }
+
+    private static MultipathStepDetector ReadSteps(ref Reader r)
+    {
+        var d = default(MultipathStepDetector);
+        for (int i = 0; i < FixResidualRing.Length; i++)
+        {
+            d.Ring[i] = r.Double();
+        }
+
+        d.Count = r.Int();
+        d.PullEastM = r.Double();
+        d.PullNorthM = r.Double();
+        d.Active = r.Bool();
+        d.ActiveSinceUs = r.Long();
+        d.ReferenceEastM = r.Double();
+        d.ReferenceNorthM = r.Double();
+        d.BiasEastM = r.Double();
+        d.BiasNorthM = r.Double();
+        d.LevelFixes = r.Int();
+        d.WhiteScale = r.Double();
+        d.PositionVarianceAfterM2 = r.Double();
+        d.SuppressedUntilUs = r.Long();
+        d.PreviousErrorEastM = r.Double();
+        d.PreviousErrorNorthM = r.Double();
+        d.EpisodeErrorEastM = r.Double();
+        d.EpisodeErrorNorthM = r.Double();
+        return d;
     }
 
     private static void WriteFit(ref Writer w, in Models.GnssErrorVariogram f)

@@ -37,7 +37,9 @@ public sealed class FilterConsistencyTests(ITestOutputHelper output)
 
     // Course noise in the scenario is speed sigma / speed with no floor; the filter must model the same. The gate is
     // nearly open so that it does not truncate the NIS distribution under test.
-    private static readonly TrackOptions Options = new() { CourseSigmaFloorRad = 1e-6, GateProbability = 0.999999 };
+    // Every measurement is fused (a gate this wide passes all but one in a million), and the multipath step rule, which sets
+    // fixes aside on a step the white noise makes about once in a thousand, is off: the check is of the filter's algebra.
+    private static readonly TrackOptions Options = new() { CourseSigmaFloorRad = 1e-6, GateProbability = 0.999999, MultipathStepProbability = 0 };
 
     [Fact]
     public void Check_values_of_the_bands_reproduce()

@@ -17,7 +17,9 @@ public sealed class FastFilterAgainstReferenceTests
     public void Fast_filter_equals_dense_reference(int seed)
     {
         var drive = SimpleDrive.Create(seed, durationS: 200, gyroBiasRps: 0.006, wheelScale: 1.03);
-        var options = new TrackOptions();
+        // The dense reference implements the filter's algebra and gate, not the multipath step rule (which only decides
+        // whether a fix is fused): off here, so both see the same updates.
+        var options = new TrackOptions { MultipathStepProbability = 0 };
         var processor = new TrackProcessor(options, NoiseProfile.DeliveryVan);
         TrackState state = TrackState.Empty;
         int i = 0;

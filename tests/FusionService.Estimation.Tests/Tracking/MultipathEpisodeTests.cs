@@ -23,7 +23,7 @@ public sealed class MultipathEpisodeTests(ITestOutputHelper output)
     public void Issue12_after_multipath_episodes_clean_fixes_pass_and_smoothing_stays_within_twice_the_clean_sky_error()
     {
         long clean = 0, cleanGated = 0, filtered = 0, filteredInside = 0, smoothed = 0, smoothedInside = 0;
-        int restarts = 0;
+        int restarts = 0, setAside = 0;
         foreach (int seed in new[] { 1202, 1302, 1402, 1502 })
         {
             RealisticDrive drive = RealisticDrives.Multipath(seed);
@@ -35,6 +35,7 @@ public sealed class MultipathEpisodeTests(ITestOutputHelper output)
             foreach ((Measurement m, MeasurementOutcome o) in replay.Outcomes)
             {
                 restarts += o.ErrorRestarted ? 1 : 0;
+                setAside += o.MultipathSuspected ? 1 : 0;
                 if (m.Kind == SensorKind.GnssPosition && run.GetMeasurementTruth(m.MessageKey) is { IsOutlier: false, InMultipath: false, InUrbanCanyon: false }
                     && o.Kind is OutcomeKind.Accepted or OutcomeKind.Gated or OutcomeKind.TrackReset)
                 {
@@ -57,9 +58,49 @@ public sealed class MultipathEpisodeTests(ITestOutputHelper output)
 
         double gatedShare = (double)cleanGated / clean;
         double filteredShare = (double)filteredInside / filtered, smoothedShare = (double)smoothedInside / smoothed;
-        output.WriteLine($"clean fixes gated {cleanGated} of {clean} ({100 * gatedShare:F2} %); error states restarted {restarts} times; inside 95 %: filtered {100 * filteredShare:F1} %, smoothed {100 * smoothedShare:F1} %");
+        output.WriteLine($"clean fixes gated {cleanGated} of {clean} ({100 * gatedShare:F2} %); error states restarted {restarts} times; {setAside} fixes set aside as a suspected episode; inside 95 %: filtered {100 * filteredShare:F1} %, smoothed {100 * smoothedShare:F1} %");
         Assert.True(gatedShare <= 0.01, $"{100 * gatedShare:F2} % of clean fixes gated");
-        Assert.True(restarts > 0, "no episode end was recognised");
+        // Episodes are recognised either at their start (the step, fixes set aside) or at their end (the error states restarted).
+        Assert.True(restarts + setAside > 0, "no episode was recognised");
+        Assert.True(filteredShare >= 0.93, $"filtered containment {100 * filteredShare:F1} %");
+        Assert.True(smoothedShare >= 0.93, $"smoothed containment {100 * smoothedShare:F1} %");
+    }
+
+    [Fact]
+    public void Issue12_multipath_biases_of_10_to_20_m_are_set_aside_rather_than_absorbed()
+    {
+        // Biases this small pass the gate or look like the receiver's correlated error once it is restarted; taken in, they
+        // pulled the track by metres while its ellipse stayed small (inside 95 %: 84.9 % filtered, 82.7 % smoothed over 64
+        // drives before the step test, `./build.sh bench consistency`). The step they make between fixes gives them away.
+        long clean = 0, cleanGated = 0, filtered = 0, filteredInside = 0, smoothed = 0, smoothedInside = 0;
+        foreach (int seed in new[] { 1202, 1302, 1402, 1502 })
+        {
+            RealisticDrive drive = RealisticDrives.Multipath(seed);
+            drive = drive with { Suite = drive.Suite with { GnssRandomMultipath = RealisticDrives.ThirdOfTheTimeMultipath with { BiasMinM = 10, BiasMaxM = 20 } } };
+            ScenarioRun run = drive.Generate();
+            ReplayResult replay = TrackReplay.Run(Processor, TrackState.Empty, run.Measurements);
+            foreach ((Measurement m, MeasurementOutcome o) in replay.Outcomes)
+            {
+                if (m.Kind == SensorKind.GnssPosition && run.GetMeasurementTruth(m.MessageKey) is { IsOutlier: false, InMultipath: false, InUrbanCanyon: false }
+                    && o.Kind is OutcomeKind.Accepted or OutcomeKind.Gated or OutcomeKind.TrackReset)
+                {
+                    clean++;
+                    cleanGated += o.Kind == OutcomeKind.Accepted ? 0 : 1;
+                }
+            }
+
+            (_, long n, long inside) = TruthTally.Smoothed(run, replay);
+            smoothed += n;
+            smoothedInside += inside;
+            (_, long fn, long fInside) = TruthTally.Filtered(run, replay);
+            filtered += fn;
+            filteredInside += fInside;
+        }
+
+        double gatedShare = (double)cleanGated / clean;
+        double filteredShare = (double)filteredInside / filtered, smoothedShare = (double)smoothedInside / smoothed;
+        output.WriteLine($"clean fixes gated {cleanGated} of {clean} ({100 * gatedShare:F2} %); inside 95 %: filtered {100 * filteredShare:F1} %, smoothed {100 * smoothedShare:F1} %");
+        Assert.True(gatedShare <= 0.01, $"{100 * gatedShare:F2} % of clean fixes gated");
         Assert.True(filteredShare >= 0.93, $"filtered containment {100 * filteredShare:F1} %");
         Assert.True(smoothedShare >= 0.93, $"smoothed containment {100 * smoothedShare:F1} %");
     }
