@@ -25,29 +25,24 @@ public sealed class ReplayStretchTests(ServiceFixture fixture, ITestOutputHelper
     [Fact]
     public async Task Issue4_a_window_replayed_in_stretches_from_stored_checkpoints_equals_the_smoother_in_one_go()
     {
-        await using var host = NewHost();
-        var fleet = await fixture.NewFleetAsync();
-        const string Vehicle = "van-stretches";
-        var drive = HistoryDrive.Create(Vehicle, seed: 6400);
-        await drive.IngestAsync(fixture, fleet, host: host);
-
-        var (stretches, misses, compared) = await CompareWithOneGoAsync(host, fleet, drive, Vehicle, drive.Drive.Messages.SelectMany(m => m.Core));
-        Assert.Equal(Stretches, stretches);
-        Assert.Equal(0, misses);
-        Assert.True(compared > 100, $"only {compared} points compared");
+        await AssertStretchesEqualOneGoAsync("van-stretches");
     }
 
     [Fact]
     public async Task Issue14_a_replay_under_a_processor_cap_gives_the_same_track()
     {
         // A cap of 0.02 cores (HeavyReads:ReplayCpuCores) makes the replay threads sleep; the result must not change.
-        await using var host = NewHost(("HeavyReads:ReplayCpuCores", "0.02"));
+        await AssertStretchesEqualOneGoAsync("van-stretches-capped", ("HeavyReads:ReplayCpuCores", "0.02"));
+    }
+
+    private async Task AssertStretchesEqualOneGoAsync(string vehicle, params (string Key, string Value)[] settings)
+    {
+        await using var host = NewHost(settings);
         var fleet = await fixture.NewFleetAsync();
-        const string Vehicle = "van-stretches-capped";
-        var drive = HistoryDrive.Create(Vehicle, seed: 6400);
+        var drive = HistoryDrive.Create(vehicle, seed: 6400);
         await drive.IngestAsync(fixture, fleet, host: host);
 
-        var (stretches, misses, compared) = await CompareWithOneGoAsync(host, fleet, drive, Vehicle, drive.Drive.Messages.SelectMany(m => m.Core));
+        var (stretches, misses, compared) = await CompareWithOneGoAsync(host, fleet, drive, vehicle, drive.Drive.Messages.SelectMany(m => m.Core));
         Assert.Equal(Stretches, stretches);
         Assert.Equal(0, misses);
         Assert.True(compared > 100, $"only {compared} points compared");
