@@ -98,8 +98,8 @@ public struct MultipathStepDetector
 
     /// <summary>
     /// Ends any episode and lets none begin for <see cref="TrackOptions.MultipathSuppressS"/>: the track's own motion is in
-    /// doubt (a stream was just isolated, or the GNSS velocity disagreed with it), so a step between fixes may be the track
-    /// having gone astray rather than the fixes.
+    /// doubt (a stream was just isolated, or the episode's fixes ran away from its level), so a step between fixes may be the
+    /// track having gone astray rather than the fixes.
     /// </summary>
     public void Suppress(long timeUs, TrackOptions options)
     {
@@ -123,7 +123,7 @@ public struct MultipathStepDetector
     /// <paramref name="errorEastM"/>, <paramref name="errorNorthM"/>, with the fix's white variance and the GNSS
     /// error's stationary variance and time constant. Returns whether the fix belongs to a suspected episode (set it aside).
     /// </summary>
-    public FixStepVerdict Observe(
+    public bool Observe(
         long timeUs, double fixEastM, double fixNorthM, double trackEastM, double trackNorthM, double errorEastM, double errorNorthM, double whiteVarianceM2,
         double positionVarianceM2, double correlatedVarianceM2, double timeConstantS, double threshold, TrackOptions options)
     {
@@ -142,67 +142,59 @@ public struct MultipathStepDetector
         Push(timeUs, rEast, rNorth, whiteVarianceM2);
         var noise = new StepNoise(correlatedVarianceM2, timeConstantS, intervalS > 0 ? growthM2 / intervalS : 0, Math.Max(1, WhiteScale));
         bool began = false;
-        int after = 0;
         // A step back is taken at its first fix; a step away only at its second: the mean of two fixes halves a single
         // large white error (the one-fix test saw a 4-sigma fix as a step about once in a thousand fixes and set the
         // next few aside), while a reflection, which holds, shows in both.
-        Means means = default;
-        if (Active && Step(1, noise, threshold, out means))
-        {
-            after = 1;
-        }
-        else if (Step(2, noise, threshold, out means))
-        {
-            after = 2;
-        }
-        else if (!Active && Count >= 2)
+        WindowMean afterMean = default, beforeMean = default;
+        bool stepped = (Active && Step(1, noise, threshold, out afterMean, out beforeMean)) || Step(2, noise, threshold, out afterMean, out beforeMean);
+        if (!stepped && !Active && Count >= 2)
         {
             LearnWhiteScale(growthM2);
         }
 
-        if (after > 0)
+        if (stepped)
         {
             // The fixes before the step are judged: keep only those after it, so one step is not found twice.
-            KeepNewest(after);
+            KeepNewest(afterMean.Count);
 
             // Away from the level the fixes should show: the level before the episode while one lasts, else the track's
             // position at each fix's time. Not the track plus the GNSS error states' estimate: after an episode they
             // absorbed, the clean fixes would look like the step away.
             bool awayFromTrack = Active
-                ? Square(means.AfterEastM - ReferenceEastM) + Square(means.AfterNorthM - ReferenceNorthM)
-                    > Square(means.BeforeEastM - ReferenceEastM) + Square(means.BeforeNorthM - ReferenceNorthM)
-                : Square(means.AfterToTrackEastM) + Square(means.AfterToTrackNorthM)
-                    > Square(means.BeforeToTrackEastM) + Square(means.BeforeToTrackNorthM);
+                ? Square(afterMean.EastM - ReferenceEastM) + Square(afterMean.NorthM - ReferenceNorthM)
+                    > Square(beforeMean.EastM - ReferenceEastM) + Square(beforeMean.NorthM - ReferenceNorthM)
+                : Square(afterMean.ToTrackEastM) + Square(afterMean.ToTrackNorthM)
+                    > Square(beforeMean.ToTrackEastM) + Square(beforeMean.ToTrackNorthM);
             if (awayFromTrack && !Active && timeUs >= SuppressedUntilUs)
             {
                 Active = true;
                 began = true;
                 ActiveSinceUs = timeUs;
-                ReferenceEastM = means.BeforeEastM;
-                ReferenceNorthM = means.BeforeNorthM;
-                EpisodeErrorEastM = after == 2 ? previousErrorEastM : errorEastM;
-                EpisodeErrorNorthM = after == 2 ? previousErrorNorthM : errorNorthM;
+                ReferenceEastM = beforeMean.EastM;
+                ReferenceNorthM = beforeMean.NorthM;
+                EpisodeErrorEastM = afterMean.Count == 2 ? previousErrorEastM : errorEastM;
+                EpisodeErrorNorthM = afterMean.Count == 2 ? previousErrorNorthM : errorNorthM;
                 LevelFixes = 0;
             }
             else if (!awayFromTrack && Active)
             {
                 Active = false;
-                return FixStepVerdict.Fuse;
+                return false;
             }
-            else if (Active && means.BeforeTimeUs >= ActiveSinceUs)
+            else if (Active && beforeMean.FirstTimeUs >= ActiveSinceUs)
             {
                 // A second step further away, from fixes of the episode: not one reflection holding its bias but fixes
                 // running away (the track drifting, or a reflection that keeps changing), which setting fixes aside would
                 // only let run on. (From fixes before the episode it is the same step seen whole, when its first fix
                 // began the episode with half of it.)
                 Suppress(timeUs, options);
-                return FixStepVerdict.Fuse;
+                return false;
             }
 
             if (Active)
             {
-                BiasEastM = means.AfterEastM - ReferenceEastM;
-                BiasNorthM = means.AfterNorthM - ReferenceNorthM;
+                BiasEastM = afterMean.EastM - ReferenceEastM;
+                BiasNorthM = afterMean.NorthM - ReferenceNorthM;
             }
         }
 
@@ -217,9 +209,8 @@ public struct MultipathStepDetector
                 + (noise.GrowthM2PerS * sinceS);
             if ((Square(dEast) + Square(dNorth)) / levelVariance >= threshold)
             {
-                Active = false;
-                SuppressedUntilUs = timeUs + (long)(options.MultipathSuppressS * 1e6);
-                return FixStepVerdict.Fuse;
+                Suppress(timeUs, options);
+                return false;
             }
 
             // Clean or biased? Against the track plus the GNSS error states' estimate before the episode (which its fixes
@@ -233,11 +224,10 @@ public struct MultipathStepDetector
             if (LevelFixes >= options.MultipathLevelFixes)
             {
                 Active = false;
-                return FixStepVerdict.Fuse;
             }
         }
 
-        return !Active ? FixStepVerdict.Fuse : began ? FixStepVerdict.EpisodeBegan : FixStepVerdict.SetAside;
+        return Active;
     }
 
     /// <summary>What the difference of the means may hold besides a step: the Gauss-Markov error's change, the track's growth per second, the white variances' scale.</summary>
@@ -258,10 +248,30 @@ public struct MultipathStepDetector
         WhiteScale = WhiteScale == 0 ? term : WhiteScale + ((term - WhiteScale) / WhiteScaleMemory);
     }
 
-    /// <summary>Means of the residuals after and before a step: against the dead-reckoned track, and against the track at each fix's time.</summary>
-    private record struct Means(
-        double AfterEastM, double AfterNorthM, double BeforeEastM, double BeforeNorthM,
-        double AfterToTrackEastM, double AfterToTrackNorthM, double BeforeToTrackEastM, double BeforeToTrackNorthM, double BeforeTimeUs);
+    /// <summary>
+    /// Mean of <see cref="Count"/> consecutive residuals of the ring: time (Unix microseconds), position against the
+    /// dead-reckoned track and against the track at each fix's time (metres), the variance of the mean's white part (m²),
+    /// and the time of the window's first fix.
+    /// </summary>
+    private readonly record struct WindowMean(
+        double TimeUs, double EastM, double NorthM, double ToTrackEastM, double ToTrackNorthM, double WhiteVarianceM2, int Count, double FirstTimeUs);
+
+    private readonly WindowMean MeanOf(int first, int count)
+    {
+        double time = 0, east = 0, north = 0, toTrackEast = 0, toTrackNorth = 0, variance = 0;
+        for (int i = first; i < first + count; i++)
+        {
+            int at = i * Stride;
+            time += Ring[at];
+            toTrackEast += Ring[at + 1];
+            toTrackNorth += Ring[at + 2];
+            variance += Ring[at + 3];
+            east += Ring[at + 1] + Ring[at + 4];
+            north += Ring[at + 2] + Ring[at + 5];
+        }
+
+        return new WindowMean(time / count, east / count, north / count, toTrackEast / count, toTrackNorth / count, variance / (count * count), count, Ring[first * Stride]);
+    }
 
     /// <summary>
     /// Whether the mean of the newest <paramref name="after"/> residuals differs from the mean of the (up to) two before them by
@@ -269,48 +279,21 @@ public struct MultipathStepDetector
     /// the white variances of both means, plus the Gauss-Markov error's change between the means' times,
     /// 2 σ² (1 - exp(-Δt/τ)) (its stationary increment; Brown and Hwang 2012, first-order Gauss-Markov autocorrelation).
     /// </summary>
-    private readonly bool Step(int after, StepNoise noise, double threshold, out Means means)
+    private readonly bool Step(int after, StepNoise noise, double threshold, out WindowMean afterMean, out WindowMean beforeMean)
     {
-        means = default;
         int before = Math.Min(2, Count - after);
+        afterMean = beforeMean = default;
         if (before < 1)
         {
             return false;
         }
 
-        double afterTime = 0, beforeTime = 0, afterVar = 0, beforeVar = 0;
-        means.BeforeTimeUs = Ring[(Count - after - before) * Stride];
-        for (int i = Count - after - before; i < Count; i++)
-        {
-            int at = i * Stride;
-            bool isAfter = i >= Count - after;
-            double n = isAfter ? after : before;
-            double toTrackEast = Ring[at + 1] / n, toTrackNorth = Ring[at + 2] / n;
-            double deadReckonedEast = (Ring[at + 1] + Ring[at + 4]) / n, deadReckonedNorth = (Ring[at + 2] + Ring[at + 5]) / n;
-            if (isAfter)
-            {
-                afterTime += Ring[at] / n;
-                afterVar += Ring[at + 3] / (n * n);
-                means.AfterEastM += deadReckonedEast;
-                means.AfterNorthM += deadReckonedNorth;
-                means.AfterToTrackEastM += toTrackEast;
-                means.AfterToTrackNorthM += toTrackNorth;
-            }
-            else
-            {
-                beforeTime += Ring[at] / n;
-                beforeVar += Ring[at + 3] / (n * n);
-                means.BeforeEastM += deadReckonedEast;
-                means.BeforeNorthM += deadReckonedNorth;
-                means.BeforeToTrackEastM += toTrackEast;
-                means.BeforeToTrackNorthM += toTrackNorth;
-            }
-        }
-
-        double lagS = (afterTime - beforeTime) / 1e6;
-        double variance = (noise.WhiteScale * (afterVar + beforeVar)) + (2 * noise.CorrelatedVarianceM2 * (1 - Math.Exp(-lagS / noise.TimeConstantS)))
-            + (noise.GrowthM2PerS * lagS);
-        double nis = (Square(means.AfterEastM - means.BeforeEastM) + Square(means.AfterNorthM - means.BeforeNorthM)) / variance;
+        afterMean = MeanOf(Count - after, after);
+        beforeMean = MeanOf(Count - after - before, before);
+        double lagS = (afterMean.TimeUs - beforeMean.TimeUs) / 1e6;
+        double variance = (noise.WhiteScale * (afterMean.WhiteVarianceM2 + beforeMean.WhiteVarianceM2))
+            + (2 * noise.CorrelatedVarianceM2 * (1 - Math.Exp(-lagS / noise.TimeConstantS))) + (noise.GrowthM2PerS * lagS);
+        double nis = (Square(afterMean.EastM - beforeMean.EastM) + Square(afterMean.NorthM - beforeMean.NorthM)) / variance;
         return nis >= threshold;
     }
 

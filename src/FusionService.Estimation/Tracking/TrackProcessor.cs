@@ -562,11 +562,9 @@ public sealed class TrackProcessor
         Span<double> whitened = [double.NaN, double.NaN];
         // The step test needs the track carried between fixes by the wheels (and gyro): with GNSS alone the prediction
         // between fixes is the fixes' own Doppler, and a turn or a stop looks like a step.
-        bool hasWheel = s.LastWheelUs != long.MinValue && (m.TimeUs - s.LastWheelUs) / MicrosecondsPerSecond <= Options.NoWheelAfterS;
-        FixStepVerdict step = s.Carried || !hasWheel ? FixStepVerdict.Fuse : s.MultipathSteps.Observe(
+        bool setAside = !s.Carried && HasWheelSpeed(s, m.TimeUs) && s.MultipathSteps.Observe(
             m.TimeUs, enu.EastM, enu.NorthM, s.X[EastM], s.X[NorthM], s.X[GnssErrorEastM], s.X[GnssErrorNorthM], whiteVar,
             0.5 * (s.P[(EastM * N) + EastM] + s.P[(NorthM * N) + NorthM]), s.GnssCorrelatedVarianceM2, ErrorTimeConstantS(s), _stepThreshold, Options);
-        bool setAside = step is FixStepVerdict.SetAside or FixStepVerdict.EpisodeBegan;
         double eastBefore = s.X[EastM], northBefore = s.X[NorthM];
         // A fix of a suspected multipath episode is judged (its NIS) but never fused, and never taken as showing the error
         // states stale: the episode's bias is what they must not absorb.
@@ -731,6 +729,10 @@ public sealed class TrackProcessor
         return true;
     }
 
+    /// <summary>Whether the vehicle has reported wheel speed within <see cref="TrackOptions.NoWheelAfterS"/> of <paramref name="timeUs"/>.</summary>
+    private bool HasWheelSpeed(in TrackState s, long timeUs) =>
+        s.LastWheelUs != long.MinValue && (timeUs - s.LastWheelUs) / MicrosecondsPerSecond <= Options.NoWheelAfterS;
+
     /// <summary>
     /// GNSS velocity, and for a vehicle that sends no wheel speed (none for <see cref="TrackOptions.NoWheelAfterS"/>) the
     /// standstill from Doppler instead: speed at most <see cref="TrackOptions.GnssStillSpeedMps"/> (with a speed accuracy no
@@ -741,7 +743,7 @@ public sealed class TrackProcessor
     private MeasurementOutcome UpdateGnssVelocityAndStandstill(ref TrackState s, in Measurement m, IStepRecorder? recorder)
     {
         MeasurementOutcome outcome = UpdateGnssVelocity(ref s, m, recorder);
-        if (s.LastWheelUs != long.MinValue && (m.TimeUs - s.LastWheelUs) / MicrosecondsPerSecond <= Options.NoWheelAfterS)
+        if (HasWheelSpeed(s, m.TimeUs))
         {
             return outcome;
         }

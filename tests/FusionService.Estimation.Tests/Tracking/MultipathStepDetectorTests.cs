@@ -38,7 +38,7 @@ public sealed class MultipathStepDetectorTests(ITestOutputHelper output)
         {
             bool wasActive = detector.Active;
             double east = Gaussian(random) * Math.Sqrt(WhiteVarianceM2), north = Gaussian(random) * Math.Sqrt(WhiteVarianceM2);
-            bool aside = detector.Observe(k * 1_000_000L, east, north, 0, 0, 0, 0, WhiteVarianceM2, 0, 0, 60, StepThreshold, Options) is FixStepVerdict.SetAside or FixStepVerdict.EpisodeBegan;
+            bool aside = detector.Observe(k * 1_000_000L, east, north, 0, 0, 0, 0, WhiteVarianceM2, 0, 0, 60, StepThreshold, Options);
             onsets += aside && !wasActive ? 1 : 0;
             setAside += aside ? 1 : 0;
         }
@@ -73,7 +73,7 @@ public sealed class MultipathStepDetectorTests(ITestOutputHelper output)
             double white = inEpisode ? EpisodeWhiteM2 : CleanWhiteM2;
             double east = (Gaussian(random) * Math.Sqrt(white)) + (inEpisode ? _bias.East : 0);
             double north = (Gaussian(random) * Math.Sqrt(white)) + (inEpisode ? _bias.North : 0);
-            bool aside = detector.Observe(k * 1_000_000L, east, north, 0, 0, 0, 0, white, 0, 0.75 * 9.0, 60, StepThreshold, Options) is FixStepVerdict.SetAside or FixStepVerdict.EpisodeBegan;
+            bool aside = detector.Observe(k * 1_000_000L, east, north, 0, 0, 0, 0, white, 0, 0.75 * 9.0, 60, StepThreshold, Options);
             if (inEpisode && phase >= 32)
             {
                 episodeFixes++;
@@ -104,12 +104,14 @@ public sealed class MultipathStepDetectorTests(ITestOutputHelper output)
             detector.Observe(k * 1_000_000L, 0, 0, 0, 0, 0, 0, 2.25, 0, 6.75, 60, StepThreshold, Options);
         }
 
-        Assert.Equal(FixStepVerdict.EpisodeBegan, detector.Observe(10_000_000L, 15, 0, 0, 0, 0, 0, 2.25, 0, 6.75, 60, StepThreshold, Options));
-        Assert.Equal(FixStepVerdict.SetAside, detector.Observe(11_000_000L, 15, 0, 0, 0, 0, 0, 2.25, 0, 6.75, 60, StepThreshold, Options));
+        Assert.True(detector.Observe(10_000_000L, 15, 0, 0, 0, 0, 0, 2.25, 0, 6.75, 60, StepThreshold, Options));
+        Assert.Equal(10_000_000L, detector.ActiveSinceUs);
+        Assert.True(detector.Observe(11_000_000L, 15, 0, 0, 0, 0, 0, 2.25, 0, 6.75, 60, StepThreshold, Options));
+        Assert.Equal(10_000_000L, detector.ActiveSinceUs);
         int ended = -1;
         for (int k = 12; k < 20 && ended < 0; k++)
         {
-            if (detector.Observe(k * 1_000_000L, 15 + (5 * (k - 11)), 0, 0, 0, 0, 0, 2.25, 0, 6.75, 60, StepThreshold, Options) != FixStepVerdict.SetAside)
+            if (!detector.Observe(k * 1_000_000L, 15 + (5 * (k - 11)), 0, 0, 0, 0, 0, 2.25, 0, 6.75, 60, StepThreshold, Options))
             {
                 ended = k;
             }
@@ -117,8 +119,8 @@ public sealed class MultipathStepDetectorTests(ITestOutputHelper output)
 
         Assert.InRange(ended, 12, 15);
         Assert.Equal(ended * 1_000_000L + (long)(Options.MultipathSuppressS * 1e6), detector.SuppressedUntilUs);
-        Assert.Equal(FixStepVerdict.Fuse, detector.Observe((ended + 1) * 1_000_000L, -40, 0, 0, 0, 0, 0, 2.25, 0, 6.75, 60, StepThreshold, Options));
-        Assert.Equal(FixStepVerdict.Fuse, detector.Observe((ended + 2) * 1_000_000L, -40, 0, 0, 0, 0, 0, 2.25, 0, 6.75, 60, StepThreshold, Options));
+        Assert.False(detector.Observe((ended + 1) * 1_000_000L, -40, 0, 0, 0, 0, 0, 2.25, 0, 6.75, 60, StepThreshold, Options));
+        Assert.False(detector.Observe((ended + 2) * 1_000_000L, -40, 0, 0, 0, 0, 0, 2.25, 0, 6.75, 60, StepThreshold, Options));
     }
 
     private (double East, double North) _bias;
