@@ -1,12 +1,8 @@
-using FusionService.Estimation.Geodesy;
-using FusionService.Estimation.LinearAlgebra;
 using FusionService.Estimation.Models;
 using FusionService.Estimation.Reference;
-using FusionService.Estimation.Smoothing;
 using FusionService.Estimation.Tracking;
 using FusionService.Scenarios;
 using Xunit.Abstractions;
-using static FusionService.Estimation.Models.StateIndex;
 
 namespace FusionService.Estimation.Tests.Consistency;
 
@@ -20,9 +16,6 @@ namespace FusionService.Estimation.Tests.Consistency;
 /// </summary>
 public sealed class GnssErrorIdentificationTests(ITestOutputHelper output)
 {
-    // Upper 5 % point of chi-square with 2 dof, -2 ln 0.05 (NIST/SEMATECH handbook 1.3.6.7.4; derived).
-    private const double Inside95 = 5.991464547107979;
-
     private const int Drives = 12;
 
     [Fact]
@@ -55,41 +48,17 @@ public sealed class GnssErrorIdentificationTests(ITestOutputHelper output)
             ReplayResult replay = TrackReplay.Run(processor, TrackState.Empty, run.Measurements);
             taus.Add(replay.Final.GnssErrorFit.HasEstimate ? replay.Final.GnssErrorFit.TimeConstantS : profile.GnssErrorTimeConstantS);
             shares.Add(replay.Final.GnssErrorFit.HasEstimate ? replay.Final.GnssErrorFit.Share : profile.GnssCorrelatedFraction);
-            foreach (IReadOnlyList<ForwardStep> segment in replay.Forward)
-            {
-                foreach (ForwardStep step in segment)
-                {
-                    if (step.TimeUs % 1_000_000 == 0 && run.Truth.Covers(step.TimeUs))
-                    {
-                        filtered++;
-                        filteredInside += Mahalanobis2(run.Truth, step.TimeUs, step.Plane, step.Filtered, step.FilteredCovariance) <= Inside95 ? 1 : 0;
-                    }
-                }
-            }
-
-            foreach (SmoothedSegment segment in replay.Smoothed)
-            {
-                for (int k = 0; k < segment.Count; k++)
-                {
-                    if (segment.TimesUs[k] % 1_000_000 == 0 && run.Truth.Covers(segment.TimesUs[k]))
-                    {
-                        smoothed++;
-                        smoothedInside += Mahalanobis2(run.Truth, segment.TimesUs[k], segment.Planes[k], segment.Means[k], segment.Covariances[k]) <= Inside95 ? 1 : 0;
-                    }
-                }
-            }
+            (_, long fn, long fInside) = TruthTally.Filtered(run, replay);
+            (_, long sn, long sInside) = TruthTally.Smoothed(run, replay);
+            filtered += fn;
+            filteredInside += fInside;
+            smoothed += sn;
+            smoothedInside += sInside;
         }
 
         Assert.True(filtered > 10_000 && smoothed > 10_000, "too few whole-second states compared");
         taus.Sort();
         shares.Sort();
         return ((double)filteredInside / filtered, (double)smoothedInside / smoothed, taus[taus.Count / 2], shares[shares.Count / 2]);
-    }
-
-    private static double Mahalanobis2(TruthTrajectory truth, long timeUs, LocalTangentPlane plane, in StateVector x, in StateMatrix p)
-    {
-        (double de, double dn) = truth.OffsetOf(timeUs, plane, x[EastM], x[NorthM]);
-        double a = p[0], b = p[1], c = p[StateMatrix.Size + 1];
-        return ((c * de * de) - (2 * b * de * dn) + (a * dn * dn)) / ((a * c) - (b * b));
     }
 }
