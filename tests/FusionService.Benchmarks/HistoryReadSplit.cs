@@ -77,6 +77,8 @@ internal static class HistoryReadSplit
             }
         }
 
+        await ReplayReadPartsAsync(dataSource, fleet, vehicle, fromUs, toUs, repeats);
+
         var reader = new TrackHistoryReader(dataSource);
         var rowByRowMs = new List<double>();
         var copyMs = new List<double>();
@@ -129,6 +131,106 @@ internal static class HistoryReadSplit
         Print("replay read into the list", copyMs);
         Print("replay + compacted smoother", replayMs);
         Print("replay read overlapped with the replay", overlappedMs);
+    }
+
+    // The replay read's columns and chunk range, as TrackHistoryReader asks for them.
+    private static readonly string[] ReplayColumns = ["time_us", "kind", "message_key", "v0", "v1", "v2", "outcome"];
+
+    private const string ReplayChunkRange = """
+        FROM measurement_chunks
+        WHERE fleet_id = @FleetId AND vehicle_id = @VehicleId
+          AND first_us > @FromUs - 600000000 AND first_us < @ToUs AND last_us >= @FromUs
+        """;
+
+    /// <summary>
+    /// Where the replay read's time goes: PostgreSQL's own time for the query with its result discarded
+    /// (<c>EXPLAIN (ANALYZE, TIMING OFF)</c> runs the scan and evaluates the select list, <c>array_send</c> included, but
+    /// sends nothing), the same with the arrays only detoasted (<c>array_length</c>) and with the chunk keys alone, the
+    /// <c>array_send</c> of each column alone, the bytes the arrays take on the wire, and on the client the rows read as
+    /// byte arrays without decoding them.
+    /// </summary>
+    private static async Task ReplayReadPartsAsync(NpgsqlDataSource dataSource, Guid fleet, string vehicle, long fromUs, long toUs, int repeats)
+    {
+        string sendAll = "first_us, count, " + string.Join(", ", ReplayColumns.Select(c => "array_send(" + c + ")"));
+        string detoastAll = "first_us, count, " + string.Join(", ", ReplayColumns.Select(c => "array_length(" + c + ", 1)"));
+        var parts = new List<(string Label, string SelectList)>
+        {
+            ("server: chunk keys only", "first_us, count"),
+            ("server: arrays detoasted (array_length)", detoastAll),
+            ("server: replay select list (array_send)", sendAll),
+        };
+        parts.AddRange(ReplayColumns.Select(c => ("server: array_send(" + c + ") alone", "first_us, count, array_send(" + c + ")")));
+        foreach (var (label, selectList) in parts)
+        {
+            var ms = new List<double>();
+            for (int r = 0; r < repeats; r++)
+            {
+                ms.Add(await ServerExecutionMsAsync(dataSource, "SELECT " + selectList + " " + ReplayChunkRange, fleet, vehicle, fromUs, toUs));
+            }
+
+            Print(label, ms);
+        }
+
+        await using (var connection = await dataSource.OpenConnectionAsync())
+        {
+            string sizes = string.Join(", ", ReplayColumns.Select(c => "sum(octet_length(array_send(" + c + ")))::bigint"));
+            await using var command = Bind(new NpgsqlCommand("SELECT count(*)::bigint, sum(count)::bigint, " + sizes + " " + ReplayChunkRange, connection), fleet, vehicle, fromUs, toUs);
+            await using var row = await command.ExecuteReaderAsync();
+            await row.ReadAsync();
+            long total = 0;
+            var each = new List<string>();
+            for (int i = 0; i < ReplayColumns.Length; i++)
+            {
+                long bytes = row.GetInt64(2 + i);
+                total += bytes;
+                each.Add(string.Create(CultureInfo.InvariantCulture, $"{ReplayColumns[i]} {bytes / 1e6:F1}"));
+            }
+
+            Console.WriteLine(string.Create(
+                CultureInfo.InvariantCulture,
+                $"replay read: {row.GetInt64(0)} chunks, {row.GetInt64(1)} measurements, array_send bytes {total / 1e6:F1} MB ({string.Join(", ", each)})"));
+        }
+
+        var rawMs = new List<double>();
+        for (int r = 0; r < repeats; r++)
+        {
+            var sw = Stopwatch.StartNew();
+            long bytes = 0;
+            await using (var connection = await dataSource.OpenConnectionAsync())
+            {
+                await using var command = Bind(new NpgsqlCommand("SELECT " + sendAll + " " + ReplayChunkRange + " ORDER BY first_us, chunk_id", connection), fleet, vehicle, fromUs, toUs);
+                await using var reader = await command.ExecuteReaderAsync();
+                while (await reader.ReadAsync())
+                {
+                    for (int i = 2; i < 2 + ReplayColumns.Length; i++)
+                    {
+                        bytes += reader.GetFieldValue<byte[]>(i).Length;
+                    }
+                }
+            }
+
+            rawMs.Add(sw.Elapsed.TotalMilliseconds);
+        }
+
+        Print("client: replay query, arrays not decoded", rawMs);
+    }
+
+    private static async Task<double> ServerExecutionMsAsync(NpgsqlDataSource dataSource, string sql, Guid fleet, string vehicle, long fromUs, long toUs)
+    {
+        await using var connection = await dataSource.OpenConnectionAsync();
+        await using var command = Bind(new NpgsqlCommand("EXPLAIN (ANALYZE, TIMING OFF, FORMAT JSON) " + sql, connection), fleet, vehicle, fromUs, toUs);
+        string plan = (string)(await command.ExecuteScalarAsync())!;
+        using var json = System.Text.Json.JsonDocument.Parse(plan);
+        return json.RootElement[0].GetProperty("Execution Time").GetDouble();
+    }
+
+    private static NpgsqlCommand Bind(NpgsqlCommand command, Guid fleet, string vehicle, long fromUs, long toUs)
+    {
+        command.Parameters.AddWithValue("FleetId", fleet);
+        command.Parameters.AddWithValue("VehicleId", vehicle);
+        command.Parameters.AddWithValue("FromUs", fromUs);
+        command.Parameters.AddWithValue("ToUs", toUs);
+        return command;
     }
 
     /// <summary>Room for one smoothed instant per second of the window, capped as <c>SmoothedTrackBuilder</c> caps it.</summary>
