@@ -80,8 +80,10 @@ internal static class HistoryReadSplit
         await ReplayReadPartsAsync(dataSource, fleet, vehicle, fromUs, toUs, repeats);
 
         var reader = new TrackHistoryReader(dataSource);
+        var twoConnections = new TrackHistoryReader(dataSource, 2);
         var rowByRowMs = new List<double>();
         var copyMs = new List<double>();
+        var twoMs = new List<double>();
         var replayMs = new List<double>();
         var overlappedMs = new List<double>();
         var processor = new TrackProcessor(new TrackOptions(), NoiseProfile.DeliveryVan);
@@ -114,6 +116,17 @@ internal static class HistoryReadSplit
             }
 
             sw.Restart();
+            var readTwo = new List<Measurement>();
+            await twoConnections.ReadReplayMeasurementsAsync(
+                fleet, vehicle, fromUs, toUs, 0, (short)SensorKind.Imu,
+                s => readTwo.Add(MeasurementRows.ToMeasurement(s)));
+            twoMs.Add(sw.Elapsed.TotalMilliseconds);
+            if (!readTwo.SequenceEqual(read))
+            {
+                throw new InvalidOperationException("the two-connection read differs");
+            }
+
+            sw.Restart();
             var sequential = CompactedTrackReplay.Run(processor, TrackState.Empty, read, 1_000_000, expectedInstants: ExpectedInstants(fromUs, toUs));
             replayMs.Add(sw.Elapsed.TotalMilliseconds);
 
@@ -129,12 +142,17 @@ internal static class HistoryReadSplit
         Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"read back {read.Count} measurements, {repeats} repeats"));
         Print("full read with verdicts into the list", rowByRowMs);
         Print("replay read into the list", copyMs);
+        Print("replay read, two connections", twoMs);
         Print("replay + compacted smoother", replayMs);
         Print("replay read overlapped with the replay", overlappedMs);
     }
 
-    // The replay read's columns and chunk range, as TrackHistoryReader asks for them.
+    // The replay read's columns and chunk range, as TrackHistoryReader asks for them (the outcomes only of a chunk that
+    // holds a duplicate, code 3).
     private static readonly string[] ReplayColumns = ["time_us", "kind", "message_key", "v0", "v1", "v2", "outcome"];
+
+    private static string Send(string column) =>
+        column == "outcome" ? "CASE WHEN 3::smallint = ANY (outcome) THEN array_send(outcome) END" : "array_send(" + column + ")";
 
     private const string ReplayChunkRange = """
         FROM measurement_chunks
@@ -151,7 +169,7 @@ internal static class HistoryReadSplit
     /// </summary>
     private static async Task ReplayReadPartsAsync(NpgsqlDataSource dataSource, Guid fleet, string vehicle, long fromUs, long toUs, int repeats)
     {
-        string sendAll = "first_us, count, " + string.Join(", ", ReplayColumns.Select(c => "array_send(" + c + ")"));
+        string sendAll = "first_us, count, " + string.Join(", ", ReplayColumns.Select(Send));
         string detoastAll = "first_us, count, " + string.Join(", ", ReplayColumns.Select(c => "array_length(" + c + ", 1)"));
         var parts = new List<(string Label, string SelectList)>
         {
@@ -160,6 +178,7 @@ internal static class HistoryReadSplit
             ("server: replay select list (array_send)", sendAll),
         };
         parts.AddRange(ReplayColumns.Select(c => ("server: array_send(" + c + ") alone", "first_us, count, array_send(" + c + ")")));
+        parts.Add(("server: outcome only with a duplicate", "first_us, count, " + Send("outcome")));
         foreach (var (label, selectList) in parts)
         {
             var ms = new List<double>();
@@ -173,7 +192,7 @@ internal static class HistoryReadSplit
 
         await using (var connection = await dataSource.OpenConnectionAsync())
         {
-            string sizes = string.Join(", ", ReplayColumns.Select(c => "sum(octet_length(array_send(" + c + ")))::bigint"));
+            string sizes = string.Join(", ", ReplayColumns.Select(c => "coalesce(sum(octet_length(" + Send(c) + ")), 0)::bigint"));
             await using var command = Bind(new NpgsqlCommand("SELECT count(*)::bigint, sum(count)::bigint, " + sizes + " " + ReplayChunkRange, connection), fleet, vehicle, fromUs, toUs);
             await using var row = await command.ExecuteReaderAsync();
             await row.ReadAsync();
@@ -204,7 +223,7 @@ internal static class HistoryReadSplit
                 {
                     for (int i = 2; i < 2 + ReplayColumns.Length; i++)
                     {
-                        bytes += reader.GetFieldValue<byte[]>(i).Length;
+                        bytes += reader.IsDBNull(i) ? 0 : reader.GetFieldValue<byte[]>(i).Length;
                     }
                 }
             }
