@@ -77,9 +77,13 @@ internal static class HistoryReadSplit
             }
         }
 
+        await ReplayReadPartsAsync(dataSource, fleet, vehicle, fromUs, toUs, repeats);
+
         var reader = new TrackHistoryReader(dataSource);
+        var twoConnections = new TrackHistoryReader(dataSource, 2);
         var rowByRowMs = new List<double>();
         var copyMs = new List<double>();
+        var twoMs = new List<double>();
         var replayMs = new List<double>();
         var overlappedMs = new List<double>();
         var processor = new TrackProcessor(new TrackOptions(), NoiseProfile.DeliveryVan);
@@ -112,6 +116,17 @@ internal static class HistoryReadSplit
             }
 
             sw.Restart();
+            var readTwo = new List<Measurement>();
+            await twoConnections.ReadReplayMeasurementsAsync(
+                fleet, vehicle, fromUs, toUs, 0, (short)SensorKind.Imu,
+                s => readTwo.Add(MeasurementRows.ToMeasurement(s)));
+            twoMs.Add(sw.Elapsed.TotalMilliseconds);
+            if (!readTwo.SequenceEqual(read))
+            {
+                throw new InvalidOperationException("the two-connection read differs");
+            }
+
+            sw.Restart();
             var sequential = CompactedTrackReplay.Run(processor, TrackState.Empty, read, 1_000_000, expectedInstants: ExpectedInstants(fromUs, toUs));
             replayMs.Add(sw.Elapsed.TotalMilliseconds);
 
@@ -127,8 +142,114 @@ internal static class HistoryReadSplit
         Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"read back {read.Count} measurements, {repeats} repeats"));
         Print("full read with verdicts into the list", rowByRowMs);
         Print("replay read into the list", copyMs);
+        Print("replay read, two connections", twoMs);
         Print("replay + compacted smoother", replayMs);
         Print("replay read overlapped with the replay", overlappedMs);
+    }
+
+    // The replay read's columns and chunk range, as TrackHistoryReader asks for them (the outcomes only of a chunk that
+    // holds a duplicate, code 3).
+    private static readonly string[] ReplayColumns = ["time_us", "kind", "message_key", "v0", "v1", "v2", "outcome"];
+
+    private static string Send(string column) =>
+        column == "outcome" ? "CASE WHEN 3::smallint = ANY (outcome) THEN array_send(outcome) END" : "array_send(" + column + ")";
+
+    private const string ReplayChunkRange = """
+        FROM measurement_chunks
+        WHERE fleet_id = @FleetId AND vehicle_id = @VehicleId
+          AND first_us > @FromUs - 600000000 AND first_us < @ToUs AND last_us >= @FromUs
+        """;
+
+    /// <summary>
+    /// Where the replay read's time goes: PostgreSQL's own time for the query with its result discarded
+    /// (<c>EXPLAIN (ANALYZE, TIMING OFF)</c> runs the scan and evaluates the select list, <c>array_send</c> included, but
+    /// sends nothing), the same with the arrays only detoasted (<c>array_length</c>) and with the chunk keys alone, the
+    /// <c>array_send</c> of each column alone, the bytes the arrays take on the wire, and on the client the rows read as
+    /// byte arrays without decoding them.
+    /// </summary>
+    private static async Task ReplayReadPartsAsync(NpgsqlDataSource dataSource, Guid fleet, string vehicle, long fromUs, long toUs, int repeats)
+    {
+        string sendAll = "first_us, count, " + string.Join(", ", ReplayColumns.Select(Send));
+        string detoastAll = "first_us, count, " + string.Join(", ", ReplayColumns.Select(c => "array_length(" + c + ", 1)"));
+        var parts = new List<(string Label, string SelectList)>
+        {
+            ("server: chunk keys only", "first_us, count"),
+            ("server: arrays detoasted (array_length)", detoastAll),
+            ("server: replay select list (array_send)", sendAll),
+        };
+        parts.AddRange(ReplayColumns.Select(c => ("server: array_send(" + c + ") alone", "first_us, count, array_send(" + c + ")")));
+        parts.Add(("server: outcome only with a duplicate", "first_us, count, " + Send("outcome")));
+        foreach (var (label, selectList) in parts)
+        {
+            var ms = new List<double>();
+            for (int r = 0; r < repeats; r++)
+            {
+                ms.Add(await ServerExecutionMsAsync(dataSource, "SELECT " + selectList + " " + ReplayChunkRange, fleet, vehicle, fromUs, toUs));
+            }
+
+            Print(label, ms);
+        }
+
+        await using (var connection = await dataSource.OpenConnectionAsync())
+        {
+            string sizes = string.Join(", ", ReplayColumns.Select(c => "coalesce(sum(octet_length(" + Send(c) + ")), 0)::bigint"));
+            await using var command = Bind(new NpgsqlCommand("SELECT count(*)::bigint, sum(count)::bigint, " + sizes + " " + ReplayChunkRange, connection), fleet, vehicle, fromUs, toUs);
+            await using var row = await command.ExecuteReaderAsync();
+            await row.ReadAsync();
+            long total = 0;
+            var each = new List<string>();
+            for (int i = 0; i < ReplayColumns.Length; i++)
+            {
+                long bytes = row.GetInt64(2 + i);
+                total += bytes;
+                each.Add(string.Create(CultureInfo.InvariantCulture, $"{ReplayColumns[i]} {bytes / 1e6:F1}"));
+            }
+
+            Console.WriteLine(string.Create(
+                CultureInfo.InvariantCulture,
+                $"replay read: {row.GetInt64(0)} chunks, {row.GetInt64(1)} measurements, array_send bytes {total / 1e6:F1} MB ({string.Join(", ", each)})"));
+        }
+
+        var rawMs = new List<double>();
+        for (int r = 0; r < repeats; r++)
+        {
+            var sw = Stopwatch.StartNew();
+            long bytes = 0;
+            await using (var connection = await dataSource.OpenConnectionAsync())
+            {
+                await using var command = Bind(new NpgsqlCommand("SELECT " + sendAll + " " + ReplayChunkRange + " ORDER BY first_us, chunk_id", connection), fleet, vehicle, fromUs, toUs);
+                await using var reader = await command.ExecuteReaderAsync();
+                while (await reader.ReadAsync())
+                {
+                    for (int i = 2; i < 2 + ReplayColumns.Length; i++)
+                    {
+                        bytes += reader.IsDBNull(i) ? 0 : reader.GetFieldValue<byte[]>(i).Length;
+                    }
+                }
+            }
+
+            rawMs.Add(sw.Elapsed.TotalMilliseconds);
+        }
+
+        Print("client: replay query, arrays not decoded", rawMs);
+    }
+
+    private static async Task<double> ServerExecutionMsAsync(NpgsqlDataSource dataSource, string sql, Guid fleet, string vehicle, long fromUs, long toUs)
+    {
+        await using var connection = await dataSource.OpenConnectionAsync();
+        await using var command = Bind(new NpgsqlCommand("EXPLAIN (ANALYZE, TIMING OFF, FORMAT JSON) " + sql, connection), fleet, vehicle, fromUs, toUs);
+        string plan = (string)(await command.ExecuteScalarAsync())!;
+        using var json = System.Text.Json.JsonDocument.Parse(plan);
+        return json.RootElement[0].GetProperty("Execution Time").GetDouble();
+    }
+
+    private static NpgsqlCommand Bind(NpgsqlCommand command, Guid fleet, string vehicle, long fromUs, long toUs)
+    {
+        command.Parameters.AddWithValue("FleetId", fleet);
+        command.Parameters.AddWithValue("VehicleId", vehicle);
+        command.Parameters.AddWithValue("FromUs", fromUs);
+        command.Parameters.AddWithValue("ToUs", toUs);
+        return command;
     }
 
     /// <summary>Room for one smoothed instant per second of the window, capped as <c>SmoothedTrackBuilder</c> caps it.</summary>

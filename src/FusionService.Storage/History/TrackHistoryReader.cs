@@ -18,13 +18,18 @@ namespace FusionService.Storage.History;
 public sealed class TrackHistoryReader
 {
     // The chunks that can hold a time in [from, to): a chunk spans at most one ten-minute window (migration 0013). In
-    // order of first_us, so the windows arrive one after the other.
+    // order of first_us, so the windows arrive one after the other. With several connections, connection @Index reads the
+    // chunks whose chunk_id leaves @Index modulo @Connections; the reader merges the connections' chunks back into the one
+    // order (first_us, chunk_id), so how they are dealt out does not change what is read. The outcomes go over only for a
+    // chunk that holds a duplicate (the only outcome the read looks at): array_send costs about the same per element for
+    // every column (docs/storage-cost.md), and most chunks hold none.
     private const string ReplayChunksSql = """
-        SELECT first_us, count, array_send(time_us), array_send(kind), array_send(message_key), array_send(v0),
-               array_send(v1), array_send(v2), array_send(outcome)
+        SELECT first_us, chunk_id, count, array_send(time_us), array_send(kind), array_send(message_key), array_send(v0),
+               array_send(v1), array_send(v2), CASE WHEN @Duplicate = ANY (outcome) THEN array_send(outcome) END
         FROM measurement_chunks
         WHERE fleet_id = @FleetId AND vehicle_id = @VehicleId
           AND first_us > @FromUs - 600000000 AND first_us < @ToUs AND last_us >= @FromUs
+          AND chunk_id % @Connections = @Index
         ORDER BY first_us, chunk_id
         """;
 
@@ -42,13 +47,30 @@ public sealed class TrackHistoryReader
         """;
 
     private readonly NpgsqlDataSource _dataSource;
+    private readonly int _replayReadConnections;
 
     /// <summary>Creates the reader.</summary>
     /// <param name="dataSource">Data source whose connections have the store's schema on their search path.</param>
     public TrackHistoryReader(NpgsqlDataSource dataSource)
+        : this(dataSource, 1)
+    {
+    }
+
+    /// <summary>Creates the reader.</summary>
+    /// <param name="dataSource">Data source whose connections have the store's schema on their search path.</param>
+    /// <param name="replayReadConnections">
+    /// Connections one replay read uses at once (1 to 8): with more than one, the vehicle's chunks are dealt out over them
+    /// and their PostgreSQL backends work side by side, which shortens the read where processors are free (the processor
+    /// time is not less). Each read holds that many connections of the pool at once.
+    /// </param>
+    /// <exception cref="ArgumentOutOfRangeException"><paramref name="replayReadConnections"/> is not within 1 to 8.</exception>
+    public TrackHistoryReader(NpgsqlDataSource dataSource, int replayReadConnections)
     {
         ArgumentNullException.ThrowIfNull(dataSource);
+        ArgumentOutOfRangeException.ThrowIfLessThan(replayReadConnections, 1);
+        ArgumentOutOfRangeException.ThrowIfGreaterThan(replayReadConnections, 8);
         _dataSource = dataSource;
+        _replayReadConnections = replayReadConnections;
         DapperTypeHandlers.EnsureRegistered();
     }
 
@@ -82,7 +104,8 @@ public sealed class TrackHistoryReader
     /// <paramref name="fromUs"/> &lt;= time &lt; <paramref name="toUs"/> and <paramref name="minKind"/> &lt;= kind &lt;=
     /// <paramref name="maxKind"/>, in canonical order (time, kind, message key), handed to <paramref name="onRow"/> one by
     /// one. Reads the vehicle's chunks in order of their first time and sorts only within a ten-minute window that more
-    /// than one commit wrote (late or resent data), so at most one window's measurements are held at a time.
+    /// than one commit wrote (late or resent data), so at most one window's measurements are held at a time (and, when the
+    /// reader was created with several replay-read connections, one chunk per connection in the driver's buffer).
     /// </summary>
     /// <param name="fleetId">Owning fleet.</param>
     /// <param name="vehicleId">Vehicle within the fleet.</param>
@@ -137,60 +160,61 @@ public sealed class TrackHistoryReader
             c = a.Kind.CompareTo(b.Kind);
             return c != 0 ? c : a.MessageKey.CompareTo(b.MessageKey);
         });
+        var columns = new ReplayColumns();
+        var streams = new List<ChunkStream>(_replayReadConnections);
         int count = 0;
-        long[] time = [], key = [];
-        short[] kind = [], outcome = [];
-        double[] v0 = [];
-        double?[] v1 = [], v2 = [];
-        var connection = await _dataSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
-        await using (connection.ConfigureAwait(false))
+        try
         {
-            var command = new NpgsqlCommand(ReplayChunksSql, connection);
-            await using (command.ConfigureAwait(false))
+            for (int i = 0; i < _replayReadConnections; i++)
             {
-                command.Parameters.AddWithValue("FleetId", fleetId);
-                command.Parameters.AddWithValue("VehicleId", vehicleId);
-                command.Parameters.AddWithValue("FromUs", fromUs);
-                command.Parameters.AddWithValue("ToUs", toUs);
-                var reader = await command.ExecuteReaderAsync(cancellationToken).ConfigureAwait(false);
-                await using (reader.ConfigureAwait(false))
-                {
-                    while (await reader.ReadAsync(cancellationToken).ConfigureAwait(false))
-                    {
-                        count += Hand(window.Begin(reader.GetInt64(0)), onRow);
-                        await afterRows(cancellationToken).ConfigureAwait(false);
-                        int n = reader.GetInt32(1);
-                        if (time.Length < n)
-                        {
-                            time = new long[n];
-                            kind = new short[n];
-                            key = new long[n];
-                            v0 = new double[n];
-                            v1 = new double?[n];
-                            v2 = new double?[n];
-                            outcome = new short[n];
-                        }
+                streams.Add(await ChunkStream.OpenAsync(
+                    _dataSource, fleetId, vehicleId, fromUs, toUs, duplicate, _replayReadConnections, i, cancellationToken).ConfigureAwait(false));
+            }
 
-                        ArraySendDecoder.Int64(reader.GetFieldValue<byte[]>(2), time.AsSpan(0, n));
-                        ArraySendDecoder.Int16(reader.GetFieldValue<byte[]>(3), kind.AsSpan(0, n));
-                        ArraySendDecoder.Int64(reader.GetFieldValue<byte[]>(4), key.AsSpan(0, n));
-                        ArraySendDecoder.Float64(reader.GetFieldValue<byte[]>(5), v0.AsSpan(0, n));
-                        ArraySendDecoder.NullableFloat64(reader.GetFieldValue<byte[]>(6), v1.AsSpan(0, n));
-                        ArraySendDecoder.NullableFloat64(reader.GetFieldValue<byte[]>(7), v2.AsSpan(0, n));
-                        ArraySendDecoder.Int16(reader.GetFieldValue<byte[]>(8), outcome.AsSpan(0, n));
-                        for (int i = 0; i < n; i++)
-                        {
-                            if (time[i] >= fromUs && time[i] < toUs && kind[i] >= minKind && kind[i] <= maxKind && outcome[i] != duplicate)
-                            {
-                                window.Add(new ReplayMeasurementValues(kind[i], time[i], key[i], v0[i], v1[i], v2[i]));
-                            }
-                        }
+            // The chunks come back in the one order of (first_us, chunk_id), taken from whichever connection holds the
+            // next; the others' backends go on producing their next chunks meanwhile.
+            while (Next(streams) is { } stream)
+            {
+                var reader = stream.Reader;
+                count += Hand(window.Begin(reader.GetInt64(0)), onRow);
+                await afterRows(cancellationToken).ConfigureAwait(false);
+                int n = columns.Decode(reader);
+                for (int i = 0; i < n; i++)
+                {
+                    if (columns.Time[i] >= fromUs && columns.Time[i] < toUs && columns.Kind[i] >= minKind && columns.Kind[i] <= maxKind
+                        && (!columns.HasOutcomes || columns.Outcome[i] != duplicate))
+                    {
+                        window.Add(new ReplayMeasurementValues(columns.Kind[i], columns.Time[i], columns.Key[i], columns.V0[i], columns.V1[i], columns.V2[i]));
                     }
                 }
+
+                await stream.AdvanceAsync(cancellationToken).ConfigureAwait(false);
+            }
+        }
+        finally
+        {
+            foreach (var stream in streams)
+            {
+                await stream.DisposeAsync().ConfigureAwait(false);
             }
         }
 
         return count + Hand(window.Close(), onRow);
+    }
+
+    // The stream whose current chunk comes first in (first_us, chunk_id) order; null when every stream has ended.
+    private static ChunkStream? Next(List<ChunkStream> streams)
+    {
+        ChunkStream? next = null;
+        foreach (var stream in streams)
+        {
+            if (stream.HasRow && (next is null || (stream.FirstUs, stream.ChunkId).CompareTo((next.FirstUs, next.ChunkId)) < 0))
+            {
+                next = stream;
+            }
+        }
+
+        return next;
     }
 
     private static int Hand(List<ReplayMeasurementValues> rows, Action<ReplayMeasurementValues> onRow)
@@ -201,6 +225,136 @@ public sealed class TrackHistoryReader
         }
 
         return rows.Count;
+    }
+
+    // One connection's query of a replay read, positioned on its current chunk.
+    private sealed class ChunkStream : IAsyncDisposable
+    {
+        private readonly NpgsqlConnection _connection;
+        private readonly NpgsqlCommand _command;
+        private NpgsqlDataReader? _reader;
+
+        private ChunkStream(NpgsqlConnection connection, NpgsqlCommand command)
+        {
+            _connection = connection;
+            _command = command;
+        }
+
+        public NpgsqlDataReader Reader => _reader ?? throw new InvalidOperationException("the chunk query has not started");
+
+        public bool HasRow { get; private set; }
+
+        public long FirstUs { get; private set; }
+
+        public long ChunkId { get; private set; }
+
+        public static async Task<ChunkStream> OpenAsync(
+            NpgsqlDataSource dataSource, Guid fleetId, string vehicleId, long fromUs, long toUs, short duplicate,
+            int connections, int index, CancellationToken cancellationToken)
+        {
+            var connection = await dataSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
+            var command = new NpgsqlCommand(ReplayChunksSql, connection);
+            command.Parameters.AddWithValue("FleetId", fleetId);
+            command.Parameters.AddWithValue("VehicleId", vehicleId);
+            command.Parameters.AddWithValue("FromUs", fromUs);
+            command.Parameters.AddWithValue("ToUs", toUs);
+            command.Parameters.AddWithValue("Duplicate", duplicate);
+            command.Parameters.AddWithValue("Connections", connections);
+            command.Parameters.AddWithValue("Index", index);
+            var stream = new ChunkStream(connection, command);
+            try
+            {
+                stream._reader = await command.ExecuteReaderAsync(cancellationToken).ConfigureAwait(false);
+                await stream.AdvanceAsync(cancellationToken).ConfigureAwait(false);
+                return stream;
+            }
+            catch
+            {
+                await stream.DisposeAsync().ConfigureAwait(false);
+                throw;
+            }
+        }
+
+        public async Task AdvanceAsync(CancellationToken cancellationToken)
+        {
+            HasRow = await Reader.ReadAsync(cancellationToken).ConfigureAwait(false);
+            if (HasRow)
+            {
+                FirstUs = Reader.GetInt64(0);
+                ChunkId = Reader.GetInt64(1);
+            }
+        }
+
+        public async ValueTask DisposeAsync()
+        {
+            if (_reader is not null)
+            {
+                await _reader.DisposeAsync().ConfigureAwait(false);
+            }
+
+            await _command.DisposeAsync().ConfigureAwait(false);
+            await _connection.DisposeAsync().ConfigureAwait(false);
+        }
+    }
+
+    // The decoded arrays of one chunk of a replay read, reused from chunk to chunk.
+    private sealed class ReplayColumns
+    {
+        public long[] Time = [];
+        public short[] Kind = [];
+        public long[] Key = [];
+        public double[] V0 = [];
+        public double?[] V1 = [];
+        public double?[] V2 = [];
+        public short[] Outcome = [];
+
+        // False when the chunk holds no duplicate: its outcomes were not sent.
+        public bool HasOutcomes;
+
+        private byte[] _buffer = [];
+
+        public int Decode(NpgsqlDataReader reader)
+        {
+            int n = reader.GetInt32(2);
+            if (Time.Length < n)
+            {
+                Time = new long[n];
+                Kind = new short[n];
+                Key = new long[n];
+                V0 = new double[n];
+                V1 = new double?[n];
+                V2 = new double?[n];
+                Outcome = new short[n];
+            }
+
+            ArraySendDecoder.Int64(Bytes(reader, 3), Time.AsSpan(0, n));
+            ArraySendDecoder.Int16(Bytes(reader, 4), Kind.AsSpan(0, n));
+            ArraySendDecoder.Int64(Bytes(reader, 5), Key.AsSpan(0, n));
+            ArraySendDecoder.Float64(Bytes(reader, 6), V0.AsSpan(0, n));
+            ArraySendDecoder.NullableFloat64(Bytes(reader, 7), V1.AsSpan(0, n));
+            ArraySendDecoder.NullableFloat64(Bytes(reader, 8), V2.AsSpan(0, n));
+            HasOutcomes = !reader.IsDBNull(9);
+            if (HasOutcomes)
+            {
+                ArraySendDecoder.Int16(Bytes(reader, 9), Outcome.AsSpan(0, n));
+            }
+
+            return n;
+        }
+
+        // A column's bytes copied into one buffer reused for every column and chunk: a chunk's arrays are about 100 KB
+        // each, and a new array per column would be a large-object allocation every time.
+        private ReadOnlySpan<byte> Bytes(NpgsqlDataReader reader, int ordinal)
+        {
+            int length = checked((int)reader.GetBytes(ordinal, 0, null, 0, 0));
+            if (_buffer.Length < length)
+            {
+                _buffer = new byte[length];
+            }
+
+            reader.GetBytes(ordinal, 0, _buffer, 0, length);
+            return _buffer.AsSpan(0, length);
+        }
     }
 
     /// <summary>Fused states of one vehicle with <paramref name="fromUs"/> &lt;= time &lt; <paramref name="toUs"/>, in time order.</summary>

@@ -159,6 +159,91 @@ public sealed class ReplayReadTests(PostgresFixture server)
         }
     }
 
+    /// <summary>
+    /// Issue 16: the replay read over several connections deals the chunks out and merges them back. Three windows, each
+    /// written by an on-time commit; a late commit writes into both sides of the boundary between the first two windows
+    /// and a resend into the second, each with a measurement judged a duplicate (so some chunks send their outcomes and
+    /// the others do not); the range starts and ends inside a window. Every connection count must hand over exactly the
+    /// rows a plain filter and sort of what was written gives, bit for bit.
+    /// </summary>
+    [Fact]
+    public async Task Issue16_replay_read_over_several_connections_hands_over_the_same_rows_in_canonical_order()
+    {
+        await using var schema = await server.NewMigratedSchemaAsync();
+        await new PartitionMaintainer(schema.DataSource).EnsurePartitionsAsync(TestTimes.Day, TestTimes.Day);
+        var t = TestTimes.At(TestTimes.Day, 10, 0, 0, 0);
+        const long W = 600_000_000;
+        var random = new Random(1616);
+        long key = 0;
+        MeasurementRow At(long timeUs, short kind, OutcomeKind outcome) => Row(
+            Fleet, Vehicle, kind, timeUs, ++key, (random.NextDouble() - 0.5) * 1e4,
+            kind % 2 == 0 ? null : random.NextDouble(), kind == 3 ? null : -random.NextDouble(), outcome);
+        MeasurementRow[] Spread(long startUs, long endUs, int count) =>
+            [.. Enumerable.Range(0, count).Select(i => At(startUs + ((endUs - startUs) / count * i), (short)(i % 5), OutcomeKind.Accepted))];
+
+        MeasurementRow[][] commits =
+        [
+            // On time: one commit per window.
+            Spread(t, t + W, 40),
+            Spread(t + W, t + (2 * W), 40),
+            Spread(t + (2 * W), t + (3 * W), 40),
+            // Late: the last seconds of the first window and the first of the second, one judged a duplicate.
+            [At(t + W - 3_000_000, 1, OutcomeKind.Accepted), At(t + W - 1, 0, OutcomeKind.Duplicate), At(t + W, 2, OutcomeKind.Accepted),
+             At(t + W + 2_000_000, 3, OutcomeKind.Accepted), At(t + W - 1, 2, OutcomeKind.Accepted)],
+            // A resend into the second window: a duplicate and one new measurement at an instant already stored.
+            [At(t + W + 1_000_000, 1, OutcomeKind.Duplicate), At(t + W + (W / 40), 0, OutcomeKind.Gated)],
+        ];
+        foreach (var commit in commits)
+        {
+            await using var connection = await schema.OpenAsync();
+            await MeasurementWriter.WriteAsync(connection, null, commit);
+        }
+
+        // The premise: some chunks hold a duplicate (their outcomes are sent), others none.
+        Assert.Equal(6L, await schema.ScalarAsync<long>("SELECT count(*) FROM measurement_chunks"));
+        Assert.Equal(2L, await schema.ScalarAsync<long>("SELECT count(*) FROM measurement_chunks WHERE 3::smallint = ANY (outcome)"));
+
+        long fromUs = t + (W / 2);
+        long toUs = t + (2 * W) + (W / 2);
+        var expected = commits.SelectMany(c => c)
+            .Where(r => r.TimeUs >= fromUs && r.TimeUs < toUs && r.Kind <= 3 && r.Outcome != OutcomeKind.Duplicate)
+            .OrderBy(r => r.TimeUs).ThenBy(r => r.Kind).ThenBy(r => r.MessageKey)
+            .ToList();
+        Assert.Contains(expected, r => r.TimeUs == t + W - 1);
+        for (int connections = 1; connections <= 3; connections++)
+        {
+            var reader = new TrackHistoryReader(schema.DataSource, connections);
+            var read = new List<ReplayMeasurementValues>();
+            int groups = 0;
+            int count = await reader.ReadReplayMeasurementsAsync(
+                Fleet, Vehicle, fromUs, toUs, 0, 3, read.Add, _ => { groups++; return ValueTask.CompletedTask; });
+            string with = connections.ToString(System.Globalization.CultureInfo.InvariantCulture) + " connection(s), ";
+            Assert.Equal(expected.Count, count);
+            Assert.Equal(
+                expected.Select(r => (r.TimeUs, r.Kind, r.MessageKey)),
+                read.Select(r => (r.TimeUs, r.Kind, r.MessageKey)));
+            for (int i = 0; i < read.Count; i++)
+            {
+                string at = with + "row " + i.ToString(System.Globalization.CultureInfo.InvariantCulture) + " ";
+                AssertBits.Equal(expected[i].V0, read[i].V0, at + "v0");
+                AssertBits.Equal(expected[i].V1, read[i].V1, at + "v1");
+                AssertBits.Equal(expected[i].V2, read[i].V2, at + "v2");
+            }
+
+            // Every chunk of the range is one group handed over (the window's rows so far, then afterRows).
+            Assert.Equal(6, groups);
+        }
+    }
+
+    [Fact]
+    public void Issue16_replay_read_connections_outside_1_to_8_are_refused()
+    {
+        using var dataSource = Npgsql.NpgsqlDataSource.Create("Host=127.0.0.1");
+        Assert.Throws<ArgumentOutOfRangeException>(() => new TrackHistoryReader(dataSource, 0));
+        Assert.Throws<ArgumentOutOfRangeException>(() => new TrackHistoryReader(dataSource, 9));
+        _ = new TrackHistoryReader(dataSource, 8);
+    }
+
     [Fact]
     public async Task Issue4_replay_read_of_an_empty_window_hands_over_nothing()
     {
