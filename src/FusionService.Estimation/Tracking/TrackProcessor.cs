@@ -122,15 +122,16 @@ public sealed class TrackProcessor
     /// A second fix beside the held one. If the two disagree (<see cref="AgreesWithHeldFix"/>) one of them is a jump and
     /// the newer is held in its place; if they agree, the track starts from a fresh course, from the heading between the
     /// two when they are further apart than their combined uncertainty allows by chance, or at the fix when standing
-    /// still; otherwise the held fix stays, confirmed, for a course or a standstill to start from. A held fix too old to
-    /// pair is replaced. (Two-fix confirmation before a track starts: the M-of-N track initiation of Blackman and Popoli,
-    /// Design and Analysis of Modern Tracking Systems, 1999, in its simplest 2-of-2 form.)
+    /// still; otherwise the held fix stays, confirmed, for a course or a standstill to start from (the newer one, confirmed,
+    /// when the held one is too old to pair for a heading: a tracker sending a fix every 30 s starts at its second).
+    /// (Two-fix confirmation before a track starts: the M-of-N track initiation of Blackman and Popoli, Design and
+    /// Analysis of Modern Tracking Systems, 1999, in its simplest 2-of-2 form.)
     /// </summary>
     private MeasurementOutcome ProcessFixAfterHeldFix(ref TrackState s, in Measurement m, HeldFix fix, IStepRecorder? recorder)
     {
         HeldFix first = s.Fix;
         double dtS = (m.TimeUs - first.TimeUs) / MicrosecondsPerSecond;
-        if (dtS > Options.TwoFixMaxAgeS || !AgreesWithHeldFix(s, first, fix, m.TimeUs))
+        if (!AgreesWithHeldFix(s, first, fix, m.TimeUs))
         {
             s.Fix = fix;
             return MeasurementOutcome.Of(OutcomeKind.Initialising);
@@ -145,7 +146,7 @@ public sealed class TrackProcessor
         double de = fix.EastM - first.EastM, dn = fix.NorthM - first.NorthM;
         double distanceM = Math.Sqrt((de * de) + (dn * dn));
         double sigmaM = Math.Sqrt((first.SigmaM * first.SigmaM) + (fix.SigmaM * fix.SigmaM));
-        if (dtS > 0 && distanceM > Options.TwoFixHeadingSigmas * sigmaM)
+        if (dtS > 0 && dtS <= Options.TwoFixMaxAgeS && distanceM > Options.TwoFixHeadingSigmas * sigmaM)
         {
             double heading = Math.Atan2(dn, de);
             Start(ref s, fix, fix.SigmaM, heading, sigmaM / distanceM, distanceM / dtS, sigmaM / dtS, m.TimeUs, recorder);
@@ -155,6 +156,12 @@ public sealed class TrackProcessor
         if (s.Stationary)
         {
             StartStationary(ref s, fix, m.TimeUs, recorder);
+            return MeasurementOutcome.Of(OutcomeKind.Initialising);
+        }
+
+        if (dtS > Options.TwoFixMaxAgeS)
+        {
+            s.Fix = fix with { Confirmed = true };
             return MeasurementOutcome.Of(OutcomeKind.Initialising);
         }
 

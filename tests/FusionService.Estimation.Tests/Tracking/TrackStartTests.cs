@@ -94,6 +94,25 @@ public sealed class TrackStartTests(ITestOutputHelper output)
         AssertStartedNearSimpleDriveTruth(drive, replay, measurements[0].TimeUs);
     }
 
+    [Fact]
+    public void A_tracker_sending_a_fix_and_course_every_30_s_starts_at_its_second_fix()
+    {
+        // Only every 30th second's GNSS fix and velocity: the held fix is too old for a heading between the two, so the
+        // second starts the track from its own course once it agrees with the first (within what 30 s of driving allows).
+        ScenarioRun run = RealisticDrives.CleanSky(1201).Generate();
+        long movingUs = run.Truth.Samples.First(t => t.SpeedMps > 5.0).TimeUs;
+        var sparse = run.Measurements
+            .Where(m => m.Kind is SensorKind.GnssPosition or SensorKind.GnssVelocity && m.TimeUs >= movingUs && (m.TimeUs - movingUs) % 30_000_000 < 1_000_000)
+            .ToList();
+
+        ReplayResult replay = TrackReplay.Run(Processor, TrackState.Empty, sparse);
+
+        long secondFixUs = sparse.Where(m => m.Kind == SensorKind.GnssPosition).Skip(1).First().TimeUs;
+        Assert.NotEmpty(replay.Forward);
+        Assert.Equal(secondFixUs, replay.Forward[0][0].TimeUs);
+        AssertStartedNearTruth(run, replay, sparse[0].TimeUs, "every 30 s");
+    }
+
     private void AssertStartedNearSimpleDriveTruth(SimpleDrive drive, ReplayResult replay, long fromUs)
     {
         ForwardStep first = replay.Forward[0][0];
