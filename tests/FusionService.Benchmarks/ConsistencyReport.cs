@@ -22,7 +22,8 @@ namespace FusionService.Benchmarks;
 /// and of the smoothed position (at every whole second the track has a state), the mean position NEES (2 for a
 /// consistent filter; Bar-Shalom, Li and Kirubarajan 2001), horizontal RMSE of raw fixes, filtered and smoothed
 /// positions, the same filter's RMSE on the GNSS fixes and velocities alone (the baseline the issue asks to beat), the
-/// share of fixes outside multipath that were gated, and the track resets.
+/// share of fixes outside multipath that were gated, the jumps gated (+ those held before the track started and not
+/// started from: a start needs two fixes that agree), and the track resets.
 /// </summary>
 internal static class ConsistencyReport
 {
@@ -117,7 +118,7 @@ internal static class ConsistencyReport
         var smoothed = new Tally();
         var gnssOnly = new Tally();
         double rawSq = 0;
-        long raw = 0, cleanFixes = 0, cleanGated = 0, resets = 0, jumps = 0, jumpsGated = 0;
+        long raw = 0, cleanFixes = 0, cleanGated = 0, resets = 0, jumps = 0, jumpsGated = 0, jumpsHeld = 0;
         var isolatedAfterS = new List<double>();
         var isolatedStreams = new SortedSet<string>(StringComparer.Ordinal);
         var fittedShares = new List<double>();
@@ -144,6 +145,7 @@ internal static class ConsistencyReport
             fittedShares.Add(fit.HasEstimate ? fit.Share : processor.Profile.GnssCorrelatedFraction);
             fittedTimeConstantsS.Add(fit.HasEstimate ? fit.TimeConstantS : processor.Profile.GnssErrorTimeConstantS);
             bool isolated = false;
+            var segmentStartsUs = replay.Forward.Where(f => f.Count > 0).Select(f => f[0].TimeUs).ToHashSet();
             foreach ((Measurement m, MeasurementOutcome o) in replay.Outcomes)
             {
                 if (o.Isolated)
@@ -165,6 +167,7 @@ internal static class ConsistencyReport
                 {
                     jumps++;
                     jumpsGated += o.Kind == OutcomeKind.Gated ? 1 : 0;
+                    jumpsHeld += o.Kind == OutcomeKind.Initialising && !segmentStartsUs.Contains(m.TimeUs) ? 1 : 0;
                 }
 
                 if (m.Kind == SensorKind.GnssPosition && run.GetMeasurementTruth(m.MessageKey) is { IsOutlier: false, InMultipath: false, InUrbanCanyon: false }
@@ -206,7 +209,7 @@ internal static class ConsistencyReport
         }
 
         Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
-            $"{label,-28} {filtered.Containment * 100,5:F1} ± {filtered.ContainmentStandardError * 100:F1} %  {smoothed.Containment * 100,5:F1} ± {smoothed.ContainmentStandardError * 100:F1} %  {filtered.MeanNees,9:F2}  {smoothed.MeanNees,11:F2}  {Math.Sqrt(rawSq / raw),8:F2}  {filtered.Rmse,4:F2}  {smoothed.Rmse,6:F2}  {gnssOnly.Rmse,13:F2}  {(double)cleanGated / Math.Max(1, cleanFixes),17:P2}  {(jumps == 0 ? "-" : string.Create(CultureInfo.InvariantCulture, $"{jumpsGated}/{jumps}")),11}  {resets,6}  {Isolation(isolatedAfterS, isolatedStreams, driveCount),-30}  {Median(fittedShares):F2} / {Median(fittedTimeConstantsS):F0} s [{Quantile(fittedTimeConstantsS, 0.1):F0}-{Quantile(fittedTimeConstantsS, 0.9):F0}] ({clock.Elapsed.TotalSeconds:F0} s)"));
+            $"{label,-28} {filtered.Containment * 100,5:F1} ± {filtered.ContainmentStandardError * 100:F1} %  {smoothed.Containment * 100,5:F1} ± {smoothed.ContainmentStandardError * 100:F1} %  {filtered.MeanNees,9:F2}  {smoothed.MeanNees,11:F2}  {Math.Sqrt(rawSq / raw),8:F2}  {filtered.Rmse,4:F2}  {smoothed.Rmse,6:F2}  {gnssOnly.Rmse,13:F2}  {(double)cleanGated / Math.Max(1, cleanFixes),17:P2}  {(jumps == 0 ? "-" : string.Create(CultureInfo.InvariantCulture, $"{jumpsGated}{(jumpsHeld > 0 ? $"+{jumpsHeld}" : "")}/{jumps}")),11}  {resets,6}  {Isolation(isolatedAfterS, isolatedStreams, driveCount),-30}  {Median(fittedShares):F2} / {Median(fittedTimeConstantsS):F0} s [{Quantile(fittedTimeConstantsS, 0.1):F0}-{Quantile(fittedTimeConstantsS, 0.9):F0}] ({clock.Elapsed.TotalSeconds:F0} s)"));
     }
 
     private static double Quantile(List<double> values, double p)

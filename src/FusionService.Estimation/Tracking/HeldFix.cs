@@ -6,4 +6,7 @@ namespace FusionService.Estimation.Tracking;
 /// <param name="EastM">East, metres.</param>
 /// <param name="NorthM">North, metres.</param>
 /// <param name="SigmaM">1-sigma per-axis accuracy, metres.</param>
-public readonly record struct HeldFix(bool IsSet, long TimeUs, double EastM, double NorthM, double SigmaM);
+/// <param name="Confirmed">
+/// Before the track runs: a later fix has agreed with this one, so it is not a lone jump and a start may use it.
+/// </param>
+public readonly record struct HeldFix(bool IsSet, long TimeUs, double EastM, double NorthM, double SigmaM, bool Confirmed = false);

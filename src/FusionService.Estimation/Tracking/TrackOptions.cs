@@ -90,6 +90,19 @@ public sealed record TrackOptions
     /// <summary>A first fix older than this is replaced by the next one while waiting for a heading, seconds. Default 20.</summary>
     public double TwoFixMaxAgeS { get; init; } = 20.0;
 
+    /// <summary>
+    /// Before the track runs, a fix is confirmed by the next one only if the two lie closer than a vehicle could move
+    /// between them; without a GNSS course or a standstill to say how it moves, this is the speed it could have, m/s.
+    /// Default 45 (about 160 km/h, above a delivery van's top speed).
+    /// </summary>
+    public double StartMaxSpeedMps { get; init; } = 45.0;
+
+    /// <summary>
+    /// ...and with a GNSS course, the acceleration (along or across the course) by which the path may leave the straight
+    /// line the course gives, m/s². Default 3 (about 0.3 g, beyond ordinary urban driving; common practice).
+    /// </summary>
+    public double StartMaxAccelMps2 { get; init; } = 3.0;
+
     /// <summary>Heading standard deviation above which a moving track re-acquires its heading from two fixes, radians. Default 0.6 (about 35 degrees).</summary>
     public double HeadingReacquireSigmaRad { get; init; } = 0.6;
 
@@ -201,6 +214,8 @@ public sealed record TrackOptions
         Require(ResetMinRejectedFixes >= 1, nameof(ResetMinRejectedFixes), "must be at least 1");
         Require(TwoFixHeadingSigmas > 0, nameof(TwoFixHeadingSigmas), "must be positive");
         Require(TwoFixMaxAgeS > 0, nameof(TwoFixMaxAgeS), "must be positive");
+        Require(StartMaxSpeedMps > 0, nameof(StartMaxSpeedMps), "must be positive");
+        Require(StartMaxAccelMps2 > 0, nameof(StartMaxAccelMps2), "must be positive");
         Require(HeadingReacquireSigmaRad > 0, nameof(HeadingReacquireSigmaRad), "must be positive");
         Require(ReanchorRadiusM > 0, nameof(ReanchorRadiusM), "must be positive");
         Require(CarriedMinSpeedMps > 0 && double.IsFinite(CarriedMinSpeedMps), nameof(CarriedMinSpeedMps), "must be finite and positive");

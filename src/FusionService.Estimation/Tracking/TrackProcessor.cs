@@ -92,8 +92,9 @@ public sealed class TrackProcessor
     };
 
     /// <summary>
-    /// A GNSS fix before the track runs: the first one anchors the local plane (if none) and is held, starting the track
-    /// at once when a fresh course is held too; a later one goes to <see cref="ProcessFixAfterHeldFix"/>.
+    /// A GNSS fix before the track runs: the first one anchors the local plane (if none) and is held; a later one goes to
+    /// <see cref="ProcessFixAfterHeldFix"/>. No track starts from a single fix: a lone jump would start it tens of metres
+    /// off, beyond the reach of the gate that follows.
     /// </summary>
     private MeasurementOutcome ProcessFixBeforeStart(ref TrackState s, in Measurement m, IStepRecorder? recorder)
     {
@@ -111,11 +112,6 @@ public sealed class TrackProcessor
         {
             s.Phase = TrackPhase.AwaitingHeading;
             s.Fix = fix;
-            if (CourseIsFresh(s, m.TimeUs))
-            {
-                StartFromCourse(ref s, fix, s.Course, m.TimeUs, recorder);
-            }
-
             return MeasurementOutcome.Of(OutcomeKind.Initialising);
         }
 
@@ -123,14 +119,30 @@ public sealed class TrackProcessor
     }
 
     /// <summary>
-    /// A second fix beside the held one: the heading between the two starts the track when they are recent and further
-    /// apart than their combined uncertainty allows by chance; standing still starts it at the fix; a held fix too old
-    /// to pair is replaced.
+    /// A second fix beside the held one. If the two disagree (<see cref="AgreesWithHeldFix"/>) one of them is a jump and
+    /// the newer is held in its place; if they agree, the track starts from a fresh course, from the heading between the
+    /// two when they are further apart than their combined uncertainty allows by chance, or at the fix when standing
+    /// still; otherwise the held fix stays, confirmed, for a course or a standstill to start from (the newer one, confirmed,
+    /// when the held one is too old to pair for a heading: a tracker sending a fix every 30 s starts at its second).
+    /// (Two-fix confirmation before a track starts: the M-of-N track initiation of Blackman and Popoli, Design and
+    /// Analysis of Modern Tracking Systems, 1999, in its simplest 2-of-2 form.)
     /// </summary>
     private MeasurementOutcome ProcessFixAfterHeldFix(ref TrackState s, in Measurement m, HeldFix fix, IStepRecorder? recorder)
     {
         HeldFix first = s.Fix;
         double dtS = (m.TimeUs - first.TimeUs) / MicrosecondsPerSecond;
+        if (!AgreesWithHeldFix(s, first, fix, m.TimeUs))
+        {
+            s.Fix = fix;
+            return MeasurementOutcome.Of(OutcomeKind.Initialising);
+        }
+
+        if (CourseIsFresh(s, m.TimeUs))
+        {
+            StartFromCourse(ref s, fix, s.Course, m.TimeUs, recorder);
+            return MeasurementOutcome.Of(OutcomeKind.Initialising);
+        }
+
         double de = fix.EastM - first.EastM, dn = fix.NorthM - first.NorthM;
         double distanceM = Math.Sqrt((de * de) + (dn * dn));
         double sigmaM = Math.Sqrt((first.SigmaM * first.SigmaM) + (fix.SigmaM * fix.SigmaM));
@@ -149,16 +161,65 @@ public sealed class TrackProcessor
 
         if (dtS > Options.TwoFixMaxAgeS)
         {
-            s.Fix = fix;
+            s.Fix = fix with { Confirmed = true };
             return MeasurementOutcome.Of(OutcomeKind.Initialising);
         }
 
+        s.Fix = first with { Confirmed = true };
         return MeasurementOutcome.Of(OutcomeKind.BeforeStart);
     }
 
     /// <summary>
+    /// Whether <paramref name="fix"/> lies where the vehicle could be if the held fix was right: within the chi-square gate
+    /// of the two fixes' variances around no motion (standing still, or the wheels reading zero from about the held fix
+    /// on), around the straight path of a fresh GNSS course (its speed and course uncertainty and
+    /// <see cref="TrackOptions.StartMaxAccelMps2"/> added), or, with neither, within the gate plus the distance a current
+    /// wheel speed allows, or without one <see cref="TrackOptions.StartMaxSpeedMps"/>.
+    /// </summary>
+    private bool AgreesWithHeldFix(in TrackState s, HeldFix held, HeldFix fix, long timeUs)
+    {
+        double dtS = Math.Abs(fix.TimeUs - held.TimeUs) / MicrosecondsPerSecond;
+        double de = fix.EastM - held.EastM, dn = fix.NorthM - held.NorthM;
+        double fixesVarM2 = (held.SigmaM * held.SigmaM) + (fix.SigmaM * fix.SigmaM);
+        double threshold = Gate.Threshold(2);
+        if (s.Stationary)
+        {
+            return ((de * de) + (dn * dn)) / fixesVarM2 <= threshold;
+        }
+
+        // Wheels reading zero from at most a second after the held fix: a van that stops within that second was slower than
+        // StartMaxAccelMps2 x the gap and moved at most half that acceleration x the gap squared.
+        double stillGapS = (s.WheelZeroSinceUs - held.TimeUs) / MicrosecondsPerSecond;
+        if (s.WheelZeroSinceUs != long.MinValue && stillGapS <= 1.0 && (timeUs - s.LastWheelUs) / MicrosecondsPerSecond <= Options.NoWheelAfterS)
+        {
+            double stoppingM = 0.5 * Options.StartMaxAccelMps2 * Math.Max(0.0, stillGapS) * Math.Max(0.0, stillGapS);
+            return ((de * de) + (dn * dn)) / (fixesVarM2 + (stoppingM * stoppingM)) <= threshold;
+        }
+
+        if (CourseIsFresh(s, timeUs))
+        {
+            double travelledM = s.Course.SpeedMps * dtS;
+            double re = de - (travelledM * Math.Cos(s.Course.HeadingRad));
+            double rn = dn - (travelledM * Math.Sin(s.Course.HeadingRad));
+            double alongM = s.Course.SpeedSigmaMps * dtS;
+            double acrossM = travelledM * s.Course.HeadingSigmaRad;
+            double manoeuvreM = 0.5 * Options.StartMaxAccelMps2 * dtS * dtS;
+            double varM2 = fixesVarM2 + Math.Max(alongM * alongM, acrossM * acrossM) + (manoeuvreM * manoeuvreM);
+            return ((re * re) + (rn * rn)) / varM2 <= threshold;
+        }
+
+        // A current wheel speed bounds the speed over the interval: the reading with four sigma of wheel-scale error, plus
+        // what StartMaxAccelMps2 could have shed since the held fix.
+        double speedBoundMps = (timeUs - s.LastWheelUs) / MicrosecondsPerSecond <= 1.0
+            ? (s.LastWheelSpeedMps * (1.0 + (4.0 * Profile.InitialWheelScaleSigma))) + (Options.StartMaxAccelMps2 * dtS)
+            : Options.StartMaxSpeedMps;
+        double reachM = Math.Sqrt(threshold * fixesVarM2) + (Math.Min(speedBoundMps, Options.StartMaxSpeedMps) * dtS);
+        return (de * de) + (dn * dn) <= reachM * reachM;
+    }
+
+    /// <summary>
     /// A GNSS course before the track runs (used only at speed, with a course given, and while the course stream is not
-    /// isolated): held, and it starts the track with a recent held fix.
+    /// isolated): held, and it starts the track with a recent confirmed held fix.
     /// </summary>
     private MeasurementOutcome ProcessCourseBeforeStart(ref TrackState s, in Measurement m, IStepRecorder? recorder)
     {
@@ -170,7 +231,7 @@ public sealed class TrackProcessor
 
         double headingSigma = Math.Max(velocity.SpeedAccuracyMps / velocity.SpeedMps, Options.CourseSigmaFloorRad);
         s.Course = new HeldCourse(true, m.TimeUs, CourseToHeading(velocity.CourseRad), headingSigma, velocity.SpeedMps, velocity.SpeedAccuracyMps);
-        if (s.Phase == TrackPhase.AwaitingHeading && s.Fix.IsSet && (m.TimeUs - s.Fix.TimeUs) / MicrosecondsPerSecond <= Options.TwoFixMaxAgeS)
+        if (s.Phase == TrackPhase.AwaitingHeading && s.Fix.Confirmed && (m.TimeUs - s.Fix.TimeUs) / MicrosecondsPerSecond <= Options.TwoFixMaxAgeS)
         {
             StartFromCourse(ref s, s.Fix, s.Course, m.TimeUs, recorder);
             return MeasurementOutcome.Of(OutcomeKind.Initialising);
@@ -179,11 +240,11 @@ public sealed class TrackProcessor
         return MeasurementOutcome.Of(OutcomeKind.BeforeStart);
     }
 
-    /// <summary>A wheel speed before the track runs: tracks standing still, which starts the track at a held fix.</summary>
+    /// <summary>A wheel speed before the track runs: tracks standing still, which starts the track at a confirmed held fix.</summary>
     private MeasurementOutcome ProcessWheelBeforeStart(ref TrackState s, in Measurement m, IStepRecorder? recorder)
     {
         TrackZeroSpeed(ref s, m);
-        if (s.Stationary && s.Phase == TrackPhase.AwaitingHeading && s.Fix.IsSet)
+        if (s.Stationary && s.Phase == TrackPhase.AwaitingHeading && s.Fix.Confirmed)
         {
             StartStationary(ref s, s.Fix, m.TimeUs, recorder);
             return MeasurementOutcome.Of(OutcomeKind.Initialising);
@@ -835,6 +896,7 @@ public sealed class TrackProcessor
     private void TrackZeroSpeed(ref TrackState s, in Measurement m)
     {
         s.LastWheelUs = m.TimeUs;
+        s.LastWheelSpeedMps = Math.Abs(m.AsWheelSpeed().SpeedMps);
         s.GnssStillSinceUs = long.MinValue;
         if (Math.Abs(m.AsWheelSpeed().SpeedMps) > Options.ZeroSpeedThresholdMps)
         {

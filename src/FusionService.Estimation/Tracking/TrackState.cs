@@ -36,6 +36,9 @@ public struct TrackState
     /// <summary>Time of the last wheel-speed sample, Unix microseconds, or <see cref="long.MinValue"/> when none was seen.</summary>
     public long LastWheelUs;
 
+    /// <summary>Magnitude of the last wheel-speed sample as read (before the wheel scale), m/s.</summary>
+    public double LastWheelSpeedMps;
+
     /// <summary>
     /// Start of the current run of GNSS speeds showing a standstill, for a vehicle without wheel speed (see
     /// <see cref="TrackOptions.NoWheelAfterS"/>), Unix microseconds, or <see cref="long.MinValue"/>.

@@ -13,10 +13,10 @@ namespace FusionService.Estimation.Tracking;
 public static class TrackStateCodec
 {
     /// <summary>Format version written in the first byte.</summary>
-    public const byte Version = 6;
+    public const byte Version = 7;
 
     /// <summary>Size of an encoded checkpoint, bytes.</summary>
-    public const int EncodedLength = 1 + (StateVector.Length * 8) + (StateMatrix.Size * (StateMatrix.Size + 1) / 2 * 8) + 8 + 1 + (3 * 8) + 3 + 8 + 1 + (1 + 8 + (3 * 8)) + (1 + 8 + (4 * 8)) + 8 + 4 + 4 + (8 + 8 + 8 + 8 + 4) + 12 + 8 + (1 + 8 + 4 + 8 + 4 + 8) + 4 + 16 + AgreementLength + FitLength + StepsLength;
+    public const int EncodedLength = 1 + (StateVector.Length * 8) + (StateMatrix.Size * (StateMatrix.Size + 1) / 2 * 8) + 8 + 1 + (3 * 8) + 3 + 8 + 1 + (1 + 8 + (3 * 8) + 1) + (1 + 8 + (4 * 8)) + 8 + 4 + 4 + (8 + 8 + 8 + 8 + 4) + 12 + 8 + (1 + 8 + 4 + 8 + 4 + 8) + 4 + 16 + 8 + AgreementLength + FitLength + StepsLength;
 
     // GnssErrorVariogram: 2 flags, 2 times, 14 doubles.
     private const int FitLength = 2 + (2 * 8) + (14 * 8);
@@ -74,6 +74,7 @@ public static class TrackStateCodec
         w.Double(state.Fix.EastM);
         w.Double(state.Fix.NorthM);
         w.Double(state.Fix.SigmaM);
+        w.Bool(state.Fix.Confirmed);
         w.Bool(state.Course.IsSet);
         w.Long(state.Course.TimeUs);
         w.Double(state.Course.HeadingRad);
@@ -88,6 +89,7 @@ public static class TrackStateCodec
         w.Int(state.ImuRejections);
         w.Int(state.StaleErrorEvidence);
         w.Long(state.LastWheelUs);
+        w.Double(state.LastWheelSpeedMps);
         w.Long(state.GnssStillSinceUs);
         w.Double(state.GnssCorrelatedVarianceM2);
         w.Bool(state.Carried);
@@ -145,7 +147,7 @@ public static class TrackStateCodec
         s.HasCalibration = r.Bool();
         s.WheelZeroSinceUs = r.Long();
         r.Byte();
-        s.Fix = new HeldFix(r.Bool(), r.Long(), r.Double(), r.Double(), r.Double());
+        s.Fix = new HeldFix(r.Bool(), r.Long(), r.Double(), r.Double(), r.Double(), r.Bool());
         s.Course = new HeldCourse(r.Bool(), r.Long(), r.Double(), r.Double(), r.Double(), r.Double());
         s.RejectedSinceUs = r.Long();
         s.RejectedFixes = r.Int();
@@ -155,6 +157,7 @@ public static class TrackStateCodec
         s.ImuRejections = r.Int();
         s.StaleErrorEvidence = r.Int();
         s.LastWheelUs = r.Long();
+        s.LastWheelSpeedMps = r.Double();
         s.GnssStillSinceUs = r.Long();
         s.GnssCorrelatedVarianceM2 = r.Double();
         s.Carried = r.Bool();

@@ -65,15 +65,15 @@ public sealed class NisVerdictTests(ServiceFixture fixture)
         var random = new Random(5);
         double Gauss() => Math.Sqrt(-2 * Math.Log(1 - random.NextDouble())) * Math.Cos(2 * Math.PI * random.NextDouble());
 
-        // Invented straight drive due east at 10 m/s, 51 fixes 1 s apart with 3 m error as the filter's default model
-        // describes it (75 % of the variance a Gauss-Markov process with tau = 60 s, the rest white): the first fix starts
-        // the track (with its course), the other 50 are fused.
+        // Invented straight drive due east at 10 m/s, 52 fixes 1 s apart with 3 m error as the filter's default model
+        // describes it (75 % of the variance a Gauss-Markov process with tau = 60 s, the rest white): the first fix is held,
+        // the second confirms it and starts the track (with its course), the other 50 are fused.
         var profile = FusionService.Estimation.Models.NoiseProfile.DeliveryVan;
         double sigmaC = 3 * Math.Sqrt(profile.GnssCorrelatedFraction), sigmaW = 3 * Math.Sqrt(1 - profile.GnssCorrelatedFraction);
         double phi = Math.Exp(-1.0 / profile.GnssErrorTimeConstantS), drive = sigmaC * Math.Sqrt(1 - (phi * phi));
         double errorEast = sigmaC * Gauss(), errorNorth = sigmaC * Gauss();
         var messages = new JsonArray();
-        for (int k = 0; k <= 50; k++)
+        for (int k = 0; k <= 51; k++)
         {
             if (k > 0)
             {

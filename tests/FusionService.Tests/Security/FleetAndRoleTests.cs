@@ -9,18 +9,22 @@ namespace FusionService.Tests.Security;
 [Collection(ServiceTests.Name)]
 public sealed class FleetAndRoleTests(ServiceFixture fixture)
 {
-    private static string OneMessage(string vehicle) =>
-        "[{\"vehicle\":\"" + vehicle + "\",\"kind\":\"gnss\",\"time\":\"" + DateTimeOffset.UtcNow.AddSeconds(-1).ToString("O", CultureInfo.InvariantCulture)
-        + "\",\"lat_deg\":45.001,\"lon_deg\":7.001,\"accuracy_m\":3,\"speed_mps\":5,\"course_deg\":90}]";
+    // Two fixes a second apart, 5 m east at 5 m/s: a track starts from a fix the next one confirms.
+    private static string TwoFixes(string vehicle) =>
+        "[" + Fix(vehicle, -2, 7.001) + "," + Fix(vehicle, -1, 7.001 + (5.0 / (111_320.0 * Math.Cos(45.001 * Math.PI / 180)))) + "]";
+
+    private static string Fix(string vehicle, int secondsAgo, double lonDeg) =>
+        "{\"vehicle\":\"" + vehicle + "\",\"kind\":\"gnss\",\"time\":\"" + DateTimeOffset.UtcNow.AddSeconds(secondsAgo).ToString("O", CultureInfo.InvariantCulture)
+        + "\",\"lat_deg\":45.001,\"lon_deg\":" + lonDeg.ToString("R", CultureInfo.InvariantCulture) + ",\"accuracy_m\":3,\"speed_mps\":5,\"course_deg\":90}";
 
     [Fact]
     public async Task Fleets_see_only_their_own_vehicles_both_ways()
     {
         var a = await fixture.NewFleetAsync();
         var b = await fixture.NewFleetAsync();
-        await fixture.Client(a.IngestKey).IngestOkAsync(OneMessage("shared-name"));
-        await fixture.Client(a.IngestKey).IngestOkAsync(OneMessage("only-a"));
-        await fixture.Client(b.IngestKey).IngestOkAsync(OneMessage("only-b"));
+        await fixture.Client(a.IngestKey).IngestOkAsync(TwoFixes("shared-name"));
+        await fixture.Client(a.IngestKey).IngestOkAsync(TwoFixes("only-a"));
+        await fixture.Client(b.IngestKey).IngestOkAsync(TwoFixes("only-b"));
         await fixture.Host.Services.GetRequiredService<FusionService.Tracking.TrackWriteQueue>().FlushAsync(CancellationToken.None);
 
         using var readA = fixture.Client(a.ReadKey);
@@ -41,7 +45,7 @@ public sealed class FleetAndRoleTests(ServiceFixture fixture)
     {
         using var none = fixture.Client(null);
         using var unknown = fixture.Client("fsk_not-a-key");
-        Assert.Equal(HttpStatusCode.Unauthorized, (await none.PostJsonAsync(OneMessage("v"))).StatusCode);
+        Assert.Equal(HttpStatusCode.Unauthorized, (await none.PostJsonAsync(TwoFixes("v"))).StatusCode);
         Assert.Equal(HttpStatusCode.Unauthorized, (await none.GetAsync("/v1/vehicles")).StatusCode);
         var response = await unknown.GetAsync("/v1/vehicles");
         Assert.Equal(HttpStatusCode.Unauthorized, response.StatusCode);
@@ -55,9 +59,9 @@ public sealed class FleetAndRoleTests(ServiceFixture fixture)
         using var ingest = fixture.Client(fleet.IngestKey);
         using var read = fixture.Client(fleet.ReadKey);
         using var admin = fixture.Client(fleet.AdminKey);
-        Assert.Equal(HttpStatusCode.OK, (await ingest.PostJsonAsync(OneMessage("v1"))).StatusCode);
-        Assert.Equal(HttpStatusCode.Forbidden, (await read.PostJsonAsync(OneMessage("v1"))).StatusCode);
-        Assert.Equal(HttpStatusCode.Forbidden, (await admin.PostJsonAsync(OneMessage("v1"))).StatusCode);
+        Assert.Equal(HttpStatusCode.OK, (await ingest.PostJsonAsync(TwoFixes("v1"))).StatusCode);
+        Assert.Equal(HttpStatusCode.Forbidden, (await read.PostJsonAsync(TwoFixes("v1"))).StatusCode);
+        Assert.Equal(HttpStatusCode.Forbidden, (await admin.PostJsonAsync(TwoFixes("v1"))).StatusCode);
         var forbidden = await ingest.GetAsync("/v1/vehicles/v1/state");
         Assert.Equal(HttpStatusCode.Forbidden, forbidden.StatusCode);
         Assert.Contains("role read or admin", (await forbidden.ProblemAsync()).GetProperty("detail").GetString(), StringComparison.Ordinal);
