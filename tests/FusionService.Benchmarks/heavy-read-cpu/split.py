@@ -45,6 +45,7 @@ for l in open(d + '/rt.txt') if os.path.exists(d + '/rt.txt') else []:
         k = re.sub(r'otel_scope_name="[^"]*",?', '', k).replace('{}', '')
         cur[k] = float(v)
 snaps = [s for s in snaps if len(s) > 3]
+commits = {}
 if snaps:
     def near(t):
         return min(snaps, key=lambda r: abs(r['t'] - t))
@@ -57,6 +58,7 @@ if snaps:
             ks = [k for k in rb if k.startswith(prefix) and k.split('{')[0].endswith(suffix)]
             return sum(rb[k] - ra.get(k, 0) for k in ks)
         n = delta('http_server_request_duration_seconds', '_count'); c = delta('fusion_ingest_commit_duration_seconds', '_count')
+        commits[name] = c
         if n and c:
             print(f"{name}: ingest request in the service, mean {delta('http_server_request_duration_seconds', '_sum') / n * 1000:.1f} ms ({n:.0f}); "
                   f"group commit mean {delta('fusion_ingest_commit_duration_seconds', '_sum') / c * 1000:.1f} ms ({c:.0f})")
@@ -77,3 +79,9 @@ if os.path.exists(d + '/waits.txt'):
             n = sum(c.values())
             if n:
                 print(f"{name}: {kind}: " + ', '.join(f"{k} {v / n * 100:.0f} %" for k, v in c.most_common(6)) + f" ({n} samples)")
+        # Backend-milliseconds per group commit spent idle in transaction (waiting for the service's next statement),
+        # summed over ingest's connections; the sampling interval from the distinct sample times.
+        times = sorted({round(t, 1) for t, *_ in samples if a <= t < b})
+        idle_tx = sum(1 for t, app, st, w in samples if a <= t < b and app not in ('fusion-history-reads', 'wait-sampler') and st == 'idle in transaction')
+        if times and commits.get(name):
+            print(f"{name}: ingest backends idle in transaction {idle_tx * (b - a) / len(times) / commits[name] * 1000:.1f} ms per group commit")
