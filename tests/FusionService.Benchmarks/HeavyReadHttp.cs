@@ -58,9 +58,14 @@ internal static class HeavyReadHttp
 
         Console.WriteLine("| phase | acks | refused | ack p50 (ms) | ack p99 (ms) | ack max (ms) | history answers (status: count, median ms) |");
         Console.WriteLine("|---|---:|---:|---:|---:|---:|---|");
+        var toolLines = new List<string>();
         for (int phase = 0; phase < 2; phase++)
         {
             int readerCount = phase == 0 ? 0 : readers;
+            var toolCpu = Process.GetCurrentProcess().TotalProcessorTime;
+            var toolPause = GC.GetTotalPauseDuration();
+            int toolGen0 = GC.CollectionCount(0), toolGen1 = GC.CollectionCount(1), toolGen2 = GC.CollectionCount(2);
+            var toolClock = Stopwatch.StartNew();
             using var stop = new CancellationTokenSource(TimeSpan.FromSeconds(seconds));
             var acks = new List<double>[posters];
             var refused = new int[posters];
@@ -122,7 +127,13 @@ internal static class HeavyReadHttp
                 .Select(g => string.Create(CultureInfo.InvariantCulture, $"{g.Key}: {g.Count()}, {Percentile(g.Select(a => a.Ms).Order().ToArray(), 0.5):F0} ms")));
             Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
                 $"| {(readerCount == 0 ? "ingest alone" : $"ingest + {readerCount} smoothed 24 h readers")} | {all.Length} | {refused.Sum()} | {Percentile(all, 0.5):F0} | {Percentile(all, 0.99):F0} | {(all.Length > 0 ? all[^1] : double.NaN):F0} | {history} |"));
+            toolLines.Add(string.Create(
+                CultureInfo.InvariantCulture,
+                $"load tool, {(readerCount == 0 ? "ingest alone" : "beside readers")}: {(Process.GetCurrentProcess().TotalProcessorTime - toolCpu).TotalSeconds:F1} s processor in {toolClock.Elapsed.TotalSeconds:F1} s; GC gen0/1/2 {GC.CollectionCount(0) - toolGen0}/{GC.CollectionCount(1) - toolGen1}/{GC.CollectionCount(2) - toolGen2}, paused {(GC.GetTotalPauseDuration() - toolPause).TotalMilliseconds:F0} ms"));
         }
+
+        // The tool shares the machine (and, started from the same session, the service's scheduling group): its own cost.
+        toolLines.ForEach(Console.WriteLine);
     }
 
     private static double Percentile(double[] sorted, double q) =>

@@ -53,6 +53,12 @@ if (args.Length > 0 && string.Equals(args[0], "heavy-read-http", StringCompariso
     return;
 }
 
+if (args.Length > 1 && string.Equals(args[0], "gc-events", StringComparison.Ordinal))
+{
+    GcEvents.Run(args[1]);
+    return;
+}
+
 if (args.Length > 0 && string.Equals(args[0], "vanday-http", StringComparison.Ordinal))
 {
     await VanDayHttp.RunAsync(args);

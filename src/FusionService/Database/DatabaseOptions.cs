@@ -70,6 +70,15 @@ public sealed class DatabaseOptions
     [Range(1, 3600)]
     public int ReadStatementTimeoutS { get; set; } = 30;
 
+    /// <summary>
+    /// Whether the history reads' PostgreSQL backends run at the lowest processor weight: on Linux, with the embedded
+    /// cluster only, the autogroup nice of each new backend of their pool is set to 19 (<c>/proc/PID/autogroup</c>; every
+    /// backend is a session, and so an autogroup, of its own), so that they take a core only when ingest's backends and
+    /// the service leave one (docs/limits-and-keys.md). Needs root or the cluster's owner; refused, it is logged once
+    /// and the reads run as before. Default true.
+    /// </summary>
+    public bool LowReadBackendPriority { get; set; } = true;
+
     /// <summary>Daily partitions created ahead of today (UTC). Default 3.</summary>
     [Range(1, 30)]
     public int DaysAhead { get; set; } = 3;

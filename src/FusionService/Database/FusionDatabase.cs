@@ -28,6 +28,7 @@ public sealed class FusionDatabase : IAsyncDisposable
     private int _down;
     private long _downSince;
     private long _failuresWhileDown;
+    private int _backendPriorityReported;
 
     /// <summary>Creates the (not yet started) store.</summary>
     public FusionDatabase(IConfiguration configuration, IOptions<DatabaseOptions> options, ILoggerFactory loggerFactory)
@@ -123,8 +124,55 @@ public sealed class FusionDatabase : IAsyncDisposable
         };
         reads.Options = (string.IsNullOrEmpty(reads.Options) ? string.Empty : reads.Options + " ")
             + "-c statement_timeout=" + (_options.ReadStatementTimeoutS * 1000).ToString(System.Globalization.CultureInfo.InvariantCulture);
-        _readDataSource = NpgsqlDataSource.Create(reads.ConnectionString);
+        var readBuilder = new NpgsqlDataSourceBuilder(reads.ConnectionString);
+        if (_options.LowReadBackendPriority && _embedded is not null && OperatingSystem.IsLinux()
+            && PostmasterPid(Path.GetFullPath(_options.DataDirectory)) is int postmaster)
+        {
+            // Each new physical connection's backend gets the lowest weight of its own autogroup (BackendPriority).
+            readBuilder.UsePhysicalConnectionInitializer(
+                connection => LowerReadBackend(connection.ProcessID, postmaster),
+                connection =>
+                {
+                    LowerReadBackend(connection.ProcessID, postmaster);
+                    return Task.CompletedTask;
+                });
+        }
+
+        _readDataSource = readBuilder.Build();
         await CreatePartitions().RunAsync(cancellationToken).ConfigureAwait(false);
+    }
+
+    /// <summary>Lowers a history-read backend's weight (<see cref="BackendPriority"/>); a refusal is logged once.</summary>
+    private void LowerReadBackend(int pid, int postmasterPid)
+    {
+        try
+        {
+            if (!BackendPriority.Lower(pid, postmasterPid) && Interlocked.Exchange(ref _backendPriorityReported, 1) == 0)
+            {
+                _logger.LogWarning("History reads: backend {Pid} is not a session of the embedded cluster's postmaster {Postmaster}; its priority is left as it is", pid, postmasterPid);
+            }
+        }
+        catch (Exception e) when (e is IOException or UnauthorizedAccessException)
+        {
+            if (Interlocked.Exchange(ref _backendPriorityReported, 1) == 0)
+            {
+                _logger.LogWarning("History reads: the system refused to lower their PostgreSQL backends' priority ({Reason}); they run at normal priority", e.Message);
+            }
+        }
+    }
+
+    /// <summary>The postmaster's PID from the first line of <c>postmaster.pid</c> in <paramref name="dataDirectory"/>, or null.</summary>
+    private static int? PostmasterPid(string dataDirectory)
+    {
+        try
+        {
+            var first = File.ReadLines(Path.Combine(dataDirectory, "postmaster.pid")).FirstOrDefault();
+            return int.TryParse(first, System.Globalization.NumberStyles.Integer, System.Globalization.CultureInfo.InvariantCulture, out int pid) ? pid : null;
+        }
+        catch (IOException)
+        {
+            return null;
+        }
     }
 
     /// <summary>The port of a live server on <paramref name="dataDirectory"/>, from its <c>postmaster.pid</c> (PostgreSQL

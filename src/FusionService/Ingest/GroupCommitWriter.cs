@@ -154,8 +154,6 @@ public sealed class GroupCommitWriter : BackgroundService
     private const string DeadlockDetected = "40P01";
     private const string SerializationFailure = "40001";
 
-    private const string TransactionIdSql = "SELECT pg_current_xact_id()::text::bigint";
-
     private async Task<(HashSet<MeasurementKey> Inserted, long TransactionId)> CommitOnceAsync(List<MeasurementRow> rows, CancellationToken cancellationToken)
     {
         var connection = await _database.DataSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
@@ -164,13 +162,7 @@ public sealed class GroupCommitWriter : BackgroundService
             var transaction = await connection.BeginTransactionAsync(cancellationToken).ConfigureAwait(false);
             await using (transaction.ConfigureAwait(false))
             {
-                var inserted = await MeasurementIngest.InsertNewAsync(connection, transaction, rows, cancellationToken).ConfigureAwait(false);
-                long transactionId;
-                await using (var command = new Npgsql.NpgsqlCommand(TransactionIdSql, connection, transaction))
-                {
-                    transactionId = (long)(await command.ExecuteScalarAsync(cancellationToken).ConfigureAwait(false))!;
-                }
-
+                var (inserted, transactionId) = await MeasurementIngest.InsertNewAsync(connection, transaction, rows, cancellationToken).ConfigureAwait(false);
                 await transaction.CommitAsync(cancellationToken).ConfigureAwait(false);
                 return (inserted, transactionId);
             }

@@ -84,7 +84,7 @@ internal static class StorageProbe
 
             await using (var tx = await connection.BeginTransactionAsync())
             {
-                var inserted = await MeasurementIngest.InsertNewAsync(connection, tx, rows);
+                var (inserted, _) = await MeasurementIngest.InsertNewAsync(connection, tx, rows);
                 await tx.CommitAsync();
                 Check(inserted.Count == d.Fresh.Length, "service: ingest stored another count than the fresh rows");
             }

@@ -30,9 +30,36 @@ public sealed class MeasurementIngestTests(PostgresFixture server)
     {
         await using var connection = await schema.OpenAsync();
         await using var transaction = await connection.BeginTransactionAsync();
-        var inserted = await MeasurementIngest.InsertNewAsync(connection, transaction, rows);
+        var (inserted, _) = await MeasurementIngest.InsertNewAsync(connection, transaction, rows);
         await transaction.CommitAsync();
         return inserted;
+    }
+
+    [Fact]
+    public async Task Issue14_the_one_batch_returns_the_transaction_id_and_records_the_receipts()
+    {
+        // The receipts and the transaction id now go in the first batch of the insert (fewer round trips per commit).
+        // The id must be the transaction's own: pg_current_xact_id() "returns the current transaction's ID" and assigns
+        // one if it has none yet (PostgreSQL 15 documentation, 9.27.5 Transaction ID and Snapshot Information Functions).
+        var (schema, fleet) = await NewStoreAsync();
+        await using var _ = schema;
+        long t = TestTimes.At(TestTimes.Day, 9, 0, 0, 0);
+        await using var connection = await schema.OpenAsync();
+        MeasurementRow[][] calls = [[Row(fleet, "van-1", t, 1), Row(fleet, "van-1", t + 5, 2), Row(fleet, "van-2", t, 1)], []];
+        foreach (var rows in calls)
+        {
+            await using var transaction = await connection.BeginTransactionAsync();
+            var (_, transactionId) = await MeasurementIngest.InsertNewAsync(connection, transaction, rows);
+            await using var own = new NpgsqlCommand("SELECT pg_current_xact_id()::text::bigint", connection, transaction);
+            Assert.Equal((long)(await own.ExecuteScalarAsync())!, transactionId);
+            await transaction.CommitAsync();
+        }
+
+        // One receipt per vehicle and kind, its measured time the newest of the call's rows.
+        Assert.Equal(2L, await schema.ScalarAsync<long>("SELECT count(*) FROM vehicle_receipts"));
+        Assert.Equal(
+            UnixMicroseconds.ToDateTimeUtc(t + 5),
+            await schema.ScalarAsync<DateTime>("SELECT last_measured_at FROM vehicle_receipts WHERE vehicle_id = 'van-1'"));
     }
 
     [Fact]

@@ -101,7 +101,7 @@ public sealed class ServiceFixture : IAsyncLifetime
     {
         await using var connection = await Store.OpenConnectionAsync();
         await using var transaction = await connection.BeginTransactionAsync();
-        Assert.Equal(rows.Count, (await MeasurementIngest.InsertNewAsync(connection, transaction, rows)).Count);
+        Assert.Equal(rows.Count, (await MeasurementIngest.InsertNewAsync(connection, transaction, rows)).Inserted.Count);
         await transaction.CommitAsync();
     }
 

@@ -72,7 +72,7 @@ public sealed class CommitTokenTests(ServiceFixture fixture)
             .Select(m => MeasurementRows.ToRow(fleetId, vehicle, m, DateTime.UtcNow)).ToList();
         await using var connection = await fixture.Store.OpenConnectionAsync();
         await using var transaction = await connection.BeginTransactionAsync();
-        Assert.Equal(rows.Count, (await MeasurementIngest.InsertNewAsync(connection, transaction, rows)).Count);
+        Assert.Equal(rows.Count, (await MeasurementIngest.InsertNewAsync(connection, transaction, rows)).Inserted.Count);
         await using var command = new NpgsqlCommand("SELECT pg_current_xact_id()::text::bigint", connection, transaction);
         long id = (long)(await command.ExecuteScalarAsync())!;
         await transaction.CommitAsync();
