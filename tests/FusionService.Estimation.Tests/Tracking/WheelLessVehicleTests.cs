@@ -11,7 +11,7 @@ namespace FusionService.Estimation.Tests.Tracking;
 /// Issue 12: a van whose telematics box sends no wheel speed (GNSS and IMU only) on the invented clean-sky rounds of
 /// <see cref="RealisticDrives"/>. Before its standstill was judged from GNSS Doppler it integrated the Doppler noise at
 /// every stop into phantom motion that the GNSS error states explained: 61 % of the time inside the 95 % ellipse, RMSE
-/// 4.8 m against 2.1 m with wheels. Until a rejected inertial run widened the speed and heading it had driven (see
+/// 4.8 m against 2.1 m with wheels. Until a rejected inertial run widened the speed it had driven (see
 /// TrackProcessor.Gated), its four drives below held 92.1 % filtered and 84.5 % smoothed, RMSE 1.39 x that with wheels.
 /// The lower bound is the issue's 93 % (a product target, not a published value); the RMSE bound is this project's.
 /// </summary>
