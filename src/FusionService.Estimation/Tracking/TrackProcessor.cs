@@ -322,6 +322,7 @@ public sealed class TrackProcessor
         s.Course = default;
         s.RejectedFixes = 0;
         s.HasCalibration = true;
+        s.ImuFusedUs = timeUs;
         recorder?.Start(timeUs, s.X, s.P, s.Plane);
     }
 
@@ -960,15 +961,35 @@ public sealed class TrackProcessor
         {
             Span<double> residual1 = [yawResidual];
             Span<double> r1 = [gyroVar];
-            return Gated(ref s, ref s.ImuRejections, residual1, h[..N], r1, YawRateRps, -1, recorder);
+            return Fused(ref s, m, Gated(ref s, ref s.ImuRejections, residual1, h[..N], r1, YawRateRps, -1, recorder, RateHeldS(s, m)));
         }
 
         h[N + AccelMps2] = 1.0;
         double accelVar = Profile.AccelSigmaMps2 * Profile.AccelSigmaMps2;
         Span<double> residual = [yawResidual, imu.AccelMps2 - s.X[AccelMps2]];
         Span<double> r = [gyroVar, 0, 0, accelVar];
-        return Gated(ref s, ref s.ImuRejections, residual, h, r, YawRateRps, AccelMps2, recorder);
+        return Fused(ref s, m, Gated(ref s, ref s.ImuRejections, residual, h, r, YawRateRps, AccelMps2, recorder, RateHeldS(s, m)));
+
+        static MeasurementOutcome Fused(ref TrackState s, in Measurement m, MeasurementOutcome outcome)
+        {
+            if (outcome.Kind == OutcomeKind.Accepted)
+            {
+                s.ImuFusedUs = m.TimeUs;
+            }
+
+            return outcome;
+        }
     }
+
+    /// <summary>
+    /// For a vehicle without wheel speed, whose speed between Doppler samples rests on the acceleration: how long the
+    /// acceleration state has gone without an inertial sample fused, seconds, since the last one fused (or the track's
+    /// start), at most one prediction step (<see cref="TrackOptions.MaxPredictionStepS"/>; over a longer gap the process
+    /// noise has already widened it). Zero with wheel speed, which measures the speed ten times a second.
+    /// </summary>
+    private double RateHeldS(in TrackState s, in Measurement m) => HasWheelSpeed(s, m.TimeUs)
+        ? 0.0
+        : Math.Clamp((m.TimeUs - s.ImuFusedUs) / MicrosecondsPerSecond, 0.0, Options.MaxPredictionStepS);
 
     /// <summary>
     /// Gated update of a motion sensor. A single rejection is an outlier; <see cref="TrackOptions.RecoverAfterRejections"/>
@@ -976,11 +997,13 @@ public sealed class TrackProcessor
     /// then the variance of the dynamic state each row observes (<paramref name="first"/>, <paramref name="second"/>;
     /// never a calibration state) is raised by the squared residual and the measurement is fused, so the track follows
     /// instead of rejecting every later sample (covariance inflation; Bar-Shalom, Li and Kirubarajan 2001, section 11.2,
-    /// fading memory and adaptive noise; from memory).
+    /// fading memory and adaptive noise; from memory). An acceleration that was wrong by the residual for part of
+    /// <paramref name="rateHeldS"/> has put up to residual × that time into the speed too, whose variance is raised by the
+    /// mean square of that drift (only without wheel speed, see <see cref="RateHeldS"/>).
     /// </summary>
     private MeasurementOutcome Gated(
         ref TrackState s, ref int rejections, ReadOnlySpan<double> residual, ReadOnlySpan<double> h, ReadOnlySpan<double> r, int first, int second,
-        IStepRecorder? recorder)
+        IStepRecorder? recorder, double rateHeldS = 0.0)
     {
         int dim = residual.Length;
         double threshold = Gate.Threshold(dim);
@@ -1003,6 +1026,13 @@ public sealed class TrackProcessor
             if (gain != 0)
             {
                 s.P[(index * N) + index] += residual[row] * residual[row] / (gain * gain);
+                if (index == AccelMps2 && rateHeldS > 0)
+                {
+                    // The acceleration changed at an unknown instant of the held time, uniform over it: the speed drifted by
+                    // residual × u × held time, u ~ U(0, 1), whose mean square is residual² × held time² / 3.
+                    double heldAccelErrorMps2 = residual[row] / gain;
+                    s.P[(SpeedMps * N) + SpeedMps] += heldAccelErrorMps2 * heldAccelErrorMps2 * rateHeldS * rateHeldS / 3.0;
+                }
             }
         }
 

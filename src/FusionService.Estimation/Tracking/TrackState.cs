@@ -72,6 +72,9 @@ public struct TrackState
     /// <summary>Consecutive gated inertial samples.</summary>
     public int ImuRejections;
 
+    /// <summary>Time of the last inertial sample fused (or the track's start), Unix microseconds.</summary>
+    public long ImuFusedUs;
+
     /// <summary>
     /// Stationary variance per axis of the correlated GNSS error the error states currently follow, square metres
     /// (the correlated share of the last fix's reported variance; see <see cref="Models.GnssErrorModel"/>).

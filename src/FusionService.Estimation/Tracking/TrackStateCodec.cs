@@ -16,7 +16,7 @@ public static class TrackStateCodec
     public const byte Version = 7;
 
     /// <summary>Size of an encoded checkpoint, bytes.</summary>
-    public const int EncodedLength = 1 + (StateVector.Length * 8) + (StateMatrix.Size * (StateMatrix.Size + 1) / 2 * 8) + 8 + 1 + (3 * 8) + 3 + 8 + 1 + (1 + 8 + (3 * 8) + 1) + (1 + 8 + (4 * 8)) + 8 + 4 + 4 + (8 + 8 + 8 + 8 + 4) + 12 + 8 + (1 + 8 + 4 + 8 + 4 + 8) + 4 + 16 + 8 + AgreementLength + FitLength + StepsLength;
+    public const int EncodedLength = 1 + (StateVector.Length * 8) + (StateMatrix.Size * (StateMatrix.Size + 1) / 2 * 8) + 8 + 1 + (3 * 8) + 3 + 8 + 1 + (1 + 8 + (3 * 8) + 1) + (1 + 8 + (4 * 8)) + 8 + 4 + 4 + (8 + 8 + 8 + 8 + 4) + 12 + 8 + (1 + 8 + 4 + 8 + 4 + 8) + 4 + 16 + 8 + 8 + AgreementLength + FitLength + StepsLength;
 
     // GnssErrorVariogram: 2 flags, 2 times, 14 doubles.
     private const int FitLength = 2 + (2 * 8) + (14 * 8);
@@ -87,6 +87,7 @@ public static class TrackStateCodec
         w.Int(state.VelocityRejections);
         w.Int(state.WheelRejections);
         w.Int(state.ImuRejections);
+        w.Long(state.ImuFusedUs);
         w.Int(state.StaleErrorEvidence);
         w.Long(state.LastWheelUs);
         w.Double(state.LastWheelSpeedMps);
@@ -155,6 +156,7 @@ public static class TrackStateCodec
         s.VelocityRejections = r.Int();
         s.WheelRejections = r.Int();
         s.ImuRejections = r.Int();
+        s.ImuFusedUs = r.Long();
         s.StaleErrorEvidence = r.Int();
         s.LastWheelUs = r.Long();
         s.LastWheelSpeedMps = r.Double();
