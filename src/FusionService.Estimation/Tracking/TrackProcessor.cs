@@ -189,10 +189,10 @@ public sealed class TrackProcessor
 
         // Wheels reading zero from at most a second after the held fix: a van that stops within that second was slower than
         // StartMaxAccelMps2 x the gap and moved at most half that acceleration x the gap squared.
-        double stillGapS = (s.WheelZeroSinceUs - held.TimeUs) / MicrosecondsPerSecond;
+        double stillGapS = Math.Max(0.0, (s.WheelZeroSinceUs - held.TimeUs) / MicrosecondsPerSecond);
         if (s.WheelZeroSinceUs != long.MinValue && stillGapS <= 1.0 && (timeUs - s.LastWheelUs) / MicrosecondsPerSecond <= Options.NoWheelAfterS)
         {
-            double stoppingM = 0.5 * Options.StartMaxAccelMps2 * Math.Max(0.0, stillGapS) * Math.Max(0.0, stillGapS);
+            double stoppingM = 0.5 * Options.StartMaxAccelMps2 * stillGapS * stillGapS;
             return ((de * de) + (dn * dn)) / (fixesVarM2 + (stoppingM * stoppingM)) <= threshold;
         }
 
@@ -899,7 +899,7 @@ public sealed class TrackProcessor
         s.LastWheelUs = m.TimeUs;
         s.LastWheelSpeedMps = Math.Abs(m.AsWheelSpeed().SpeedMps);
         s.GnssStillSinceUs = long.MinValue;
-        if (Math.Abs(m.AsWheelSpeed().SpeedMps) > Options.ZeroSpeedThresholdMps)
+        if (s.LastWheelSpeedMps > Options.ZeroSpeedThresholdMps)
         {
             s.WheelZeroSinceUs = long.MinValue;
             StartMoving(ref s, m.TimeUs);
@@ -961,7 +961,7 @@ public sealed class TrackProcessor
         {
             Span<double> residual1 = [yawResidual];
             Span<double> r1 = [gyroVar];
-            return Fused(ref s, m, Gated(ref s, ref s.ImuRejections, residual1, h[..N], r1, YawRateRps, -1, recorder, RateHeldS(s, m)));
+            return Fused(ref s, m, Gated(ref s, ref s.ImuRejections, residual1, h[..N], r1, YawRateRps, -1, recorder));
         }
 
         h[N + AccelMps2] = 1.0;

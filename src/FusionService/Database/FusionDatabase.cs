@@ -161,47 +161,49 @@ public sealed class FusionDatabase : IAsyncDisposable
         }
     }
 
-    /// <summary>The postmaster's PID from the first line of <c>postmaster.pid</c> in <paramref name="dataDirectory"/>, or null.</summary>
-    private static int? PostmasterPid(string dataDirectory)
-    {
-        try
-        {
-            var first = File.ReadLines(Path.Combine(dataDirectory, "postmaster.pid")).FirstOrDefault();
-            return int.TryParse(first, System.Globalization.NumberStyles.Integer, System.Globalization.CultureInfo.InvariantCulture, out int pid) ? pid : null;
-        }
-        catch (IOException)
-        {
-            return null;
-        }
-    }
-
-    /// <summary>The port of a live server on <paramref name="dataDirectory"/>, from its <c>postmaster.pid</c> (PostgreSQL
-    /// documentation, "Database File Layout": line 1 the PID, line 4 the port), or null.</summary>
+    /// <summary>The port of a live server on <paramref name="dataDirectory"/>, from its <c>postmaster.pid</c>, or null.</summary>
     private static int? RunningEmbeddedPort(string dataDirectory)
     {
-        var pidFile = Path.Combine(dataDirectory, "postmaster.pid");
-        if (!File.Exists(pidFile))
-        {
-            return null;
-        }
-
-        var lines = File.ReadAllLines(pidFile);
-        if (lines.Length < 4
-            || !int.TryParse(lines[0], System.Globalization.NumberStyles.Integer, System.Globalization.CultureInfo.InvariantCulture, out int pid)
-            || !int.TryParse(lines[3], System.Globalization.NumberStyles.Integer, System.Globalization.CultureInfo.InvariantCulture, out int port))
+        if (ReadPostmasterPidFile(dataDirectory) is not { } postmaster)
         {
             return null;
         }
 
         try
         {
-            using var process = System.Diagnostics.Process.GetProcessById(pid);
-            return process.HasExited ? null : port;
+            using var process = System.Diagnostics.Process.GetProcessById(postmaster.Pid);
+            return process.HasExited ? null : postmaster.Port;
         }
         catch (ArgumentException)
         {
             return null;
         }
+    }
+
+    /// <summary>The postmaster's PID from <c>postmaster.pid</c> in <paramref name="dataDirectory"/>, or null.</summary>
+    private static int? PostmasterPid(string dataDirectory) => ReadPostmasterPidFile(dataDirectory)?.Pid;
+
+    /// <summary>
+    /// Line 1 (the postmaster's PID) and line 4 (its port) of <c>postmaster.pid</c> in <paramref name="dataDirectory"/>
+    /// (PostgreSQL documentation, "Database File Layout"), or null when the file is missing or short.
+    /// </summary>
+    private static (int Pid, int Port)? ReadPostmasterPidFile(string dataDirectory)
+    {
+        string[] lines;
+        try
+        {
+            lines = File.ReadAllLines(Path.Combine(dataDirectory, "postmaster.pid"));
+        }
+        catch (Exception e) when (e is IOException or UnauthorizedAccessException)
+        {
+            return null;
+        }
+
+        return lines.Length >= 4
+            && int.TryParse(lines[0], System.Globalization.NumberStyles.Integer, System.Globalization.CultureInfo.InvariantCulture, out int pid)
+            && int.TryParse(lines[3], System.Globalization.NumberStyles.Integer, System.Globalization.CultureInfo.InvariantCulture, out int port)
+            ? (pid, port)
+            : null;
     }
 
     /// <summary>A partition maintainer for the store with the configured window.</summary>
