@@ -85,6 +85,27 @@ run_fault_harness() {
   return $status
 }
 
+# Prints "FAILED: <test>" for each failed result of a TRX file, then up to 8 lines of its message and the first line
+# of its stack trace, indented (XML entities decoded).
+failures() {
+  awk '
+    function decode(s) { gsub(/&lt;/, "<", s); gsub(/&gt;/, ">", s); gsub(/&quot;/, "\"", s); gsub(/&apos;/, "\047", s);
+                         gsub(/&#xD;/, "", s); gsub(/&amp;/, "\\&", s); return s }
+    /<UnitTestResult / {
+      failed = ($0 ~ /outcome="(Failed|Error|Timeout)"/); part = ""; shown = 0
+      if (failed && match($0, /testName="[^"]*"/)) print "FAILED: " decode(substr($0, RSTART + 10, RLENGTH - 11))
+    }
+    failed && /<Message>/ { part = "message"; sub(/.*<Message>/, "") }
+    failed && /<StackTrace>/ { part = "stack"; shown = 0; sub(/.*<StackTrace>/, "") }
+    failed && part != "" {
+      line = $0; done = sub(/<\/(Message|StackTrace)>.*/, "", line)
+      if ((part == "message" && shown < 8) || (part == "stack" && shown < 1)) { print "    " decode(line); shown++ }
+      if (done) { part = ""; shown = 0 }
+    }
+    /<\/UnitTestResult>/ { failed = 0 }
+  ' "$1"
+}
+
 # Counts outcomes from the TRX files the test run wrote, so the closing line reflects real results.
 summarize() {
   local dir=$1 passed=0 failed=0 skipped=0 p f t e n
@@ -102,8 +123,8 @@ summarize() {
     skipped=$((skipped + ${n:-0}))
     # Name every failed test again here: CI keeps only the tail of the output, where the console logger's lines
     # about a failure early in the run are long gone.
-    grep -o '<UnitTestResult [^>]*outcome="\(Failed\|Error\|Timeout\)"[^>]*>' "$trx" \
-      | sed -n 's/.* testName="\([^"]*\)".*/FAILED: \1/p' || true
+    # Each with the first lines of its message and of its stack trace, so that a failure seen only in CI says why.
+    failures "$trx"
   done
   if [ "$skipped" -gt 0 ]; then
     echo "$passed passed, $failed failed, $skipped skipped"

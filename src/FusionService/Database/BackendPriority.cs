@@ -40,23 +40,6 @@ internal static class BackendPriority
         return true;
     }
 
-    /// <summary>The autogroup nice value the kernel reports for <paramref name="pid"/> (null: none).</summary>
-    /// <param name="pid">A process id.</param>
-    internal static int? AutogroupNice(int pid)
-    {
-        try
-        {
-            // "/autogroup-123 nice 19"
-            string text = File.ReadAllText($"/proc/{pid.ToString(CultureInfo.InvariantCulture)}/autogroup").Trim();
-            int at = text.LastIndexOf(' ');
-            return at < 0 ? null : int.Parse(text.AsSpan(at + 1), NumberStyles.Integer, CultureInfo.InvariantCulture);
-        }
-        catch (IOException)
-        {
-            return null;
-        }
-    }
-
     /// <summary>Parent and session of a process from <c>/proc/PID/stat</c> (fields 4 and 6, proc(5)); null when it is gone.</summary>
     private static (int ParentPid, int SessionId)? StatOf(int pid)
     {
