@@ -124,6 +124,7 @@ internal static class ConsistencyReport
         var fittedShares = new List<double>();
         var fittedTimeConstantsS = new List<double>();
         int driveCount = 0;
+        double meanErrorSquaresM2 = 0, meanErrorModelM2 = 0;
         foreach (RealisticDrive drive in drives)
         {
             driveCount++;
@@ -135,6 +136,13 @@ internal static class ConsistencyReport
                     rawSq += (t.ErrorEastM * t.ErrorEastM) + (t.ErrorNorthM * t.ErrorNorthM);
                     raw++;
                 }
+            }
+
+            if (label.StartsWith("park", StringComparison.Ordinal))
+            {
+                (double squaresM2, double modelM2) = ErrorOfTheMean(run, drive.Suite);
+                meanErrorSquaresM2 += squaresM2;
+                meanErrorModelM2 += modelM2;
             }
 
             List<Measurement> measurements = alter is null
@@ -210,6 +218,48 @@ internal static class ConsistencyReport
 
         Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
             $"{label,-28} {filtered.Containment * 100,5:F1} ± {filtered.ContainmentStandardError * 100:F1} %  {smoothed.Containment * 100,5:F1} ± {smoothed.ContainmentStandardError * 100:F1} %  {filtered.MeanNees,9:F2}  {smoothed.MeanNees,11:F2}  {Math.Sqrt(rawSq / raw),8:F2}  {filtered.Rmse,4:F2}  {smoothed.Rmse,6:F2}  {gnssOnly.Rmse,13:F2}  {(double)cleanGated / Math.Max(1, cleanFixes),17:P2}  {(jumps == 0 ? "-" : string.Create(CultureInfo.InvariantCulture, $"{jumpsGated}{(jumpsHeld > 0 ? $"+{jumpsHeld}" : "")}/{jumps}")),11}  {resets,6}  {Isolation(isolatedAfterS, isolatedStreams, driveCount),-30}  {Median(fittedShares):F2} / {Median(fittedTimeConstantsS):F0} s [{Quantile(fittedTimeConstantsS, 0.1):F0}-{Quantile(fittedTimeConstantsS, 0.9):F0}] ({clock.Elapsed.TotalSeconds:F0} s)"));
+        if (meanErrorModelM2 > 0)
+        {
+            PrintErrorOfTheMean(meanErrorSquaresM2, meanErrorModelM2, driveCount);
+        }
+    }
+
+    /// <summary>
+    /// A standing van's smoothed position is in effect one estimate per drive, the mean of its clean fixes, so its
+    /// containment over n drives rests on n samples: prints how large the drives' own error of that mean was (RMS per axis)
+    /// beside what the receiver's error model gives for it.
+    /// </summary>
+    private static void PrintErrorOfTheMean(double squaresM2, double modelM2, int drives) =>
+        Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
+            $"  the drives' mean error of their clean fixes, RMS per axis: {Math.Sqrt(squaresM2 / (2 * drives)):F3} m; the receiver's model: {Math.Sqrt(modelM2 / drives):F3} m"));
+
+    /// <summary>
+    /// The squared mean error of a drive's clean fixes (east plus north) and the variance per axis the receiver's model
+    /// gives that mean: white part σ_w² / n plus the mean of n steps of a first-order autoregressive sequence (variance
+    /// σ_c², lag-one correlation φ), σ_c² / n ((1 + φ) / (1 - φ) - 2 φ (1 - φⁿ) / (n (1 - φ)²)) (Box, Jenkins and Reinsel,
+    /// <i>Time Series Analysis</i>, the variance of the sample mean; from memory), taking the clean fixes as consecutive
+    /// seconds (multipath episodes leave gaps, so the model's figure is slightly low).
+    /// </summary>
+    private static (double SquaresM2, double ModelM2) ErrorOfTheMean(ScenarioRun run, SensorSuite suite)
+    {
+        double sumEastM = 0, sumNorthM = 0;
+        int n = 0;
+        foreach (MeasurementTruth t in run.MeasurementTruths)
+        {
+            if (t.Kind == SensorKind.GnssPosition && !t.IsOutlier && !t.InMultipath && !t.InUrbanCanyon)
+            {
+                sumEastM += t.ErrorEastM;
+                sumNorthM += t.ErrorNorthM;
+                n++;
+            }
+        }
+
+        double phi = Math.Exp(-(suite.GnssPositionPeriodUs / 1e6) / suite.GnssCorrelationTauS);
+        double correlatedM2 = suite.GnssCorrelatedSigmaM * suite.GnssCorrelatedSigmaM;
+        double whiteM2 = suite.GnssWhiteSigmaM * suite.GnssWhiteSigmaM;
+        double model = (whiteM2 / n)
+            + (correlatedM2 / n * (((1 + phi) / (1 - phi)) - (2 * phi * (1 - Math.Pow(phi, n)) / (n * (1 - phi) * (1 - phi)))));
+        return (((sumEastM / n) * (sumEastM / n)) + ((sumNorthM / n) * (sumNorthM / n)), model);
     }
 
     private static double Quantile(List<double> values, double p)
