@@ -14,6 +14,12 @@ if (args.Length > 0 && string.Equals(args[0], "vanday-split", StringComparison.O
     return;
 }
 
+if (args.Length > 0 && string.Equals(args[0], "kernel-split", StringComparison.Ordinal))
+{
+    KernelSplit.Run(args.Length > 1 ? int.Parse(args[1], System.Globalization.CultureInfo.InvariantCulture) : 5);
+    return;
+}
+
 if (args.Length > 0 && string.Equals(args[0], "history-split", StringComparison.Ordinal))
 {
     await HistoryReadSplit.RunAsync(args.Length > 1 ? int.Parse(args[1], System.Globalization.CultureInfo.InvariantCulture) : 3);

@@ -37,14 +37,20 @@ public static class ExtendedKalmanFilter
         }
 
         // Rows 0-3 of F P computed into a scratch before they replace P's, a whole row at a time and each element summed
-        // over j in ascending order; rows 4 and on of F P are P's scaled by F's diagonal. Then (F P) Fᵀ in place.
+        // over j in ascending order, F's zero elements left out (4 or 5 of a row's 10 are not zero; a zero term cannot
+        // change a sum that starts at +0, so this is the full sum to the last bit for finite P); rows 4 and on of F P are
+        // P's scaled by F's diagonal. Then (F P) Fᵀ in place.
         Span<StateRow> top = stackalloc StateRow[4];
         for (int i = 0; i < 4; i++)
         {
             var row = StateRow.Zero;
             for (int j = 0; j < N; j++)
             {
-                row += StateRow.Broadcast(f[(i * N) + j]) * StateRow.Load(ref p0, j * N);
+                double fij = f[(i * N) + j];
+                if (fij != 0.0)
+                {
+                    row += StateRow.Broadcast(fij) * StateRow.Load(ref p0, j * N);
+                }
             }
 
             top[i] = row;

@@ -302,8 +302,8 @@ public sealed class CompactingStepRecorder : IStepRecorder
             return;
         }
 
-        StateMatrix sigma = _pair.SigmaPredicted;
-        Span<double> sigmaS = sigma;
+        // Σ is folded in the pair's Σ⁻ itself (not needed after this fold), which saves a copy of it.
+        Span<double> sigmaS = _pair.SigmaPredicted;
         ref double sigmaR = ref MemoryMarshal.GetReference(sigmaS);
         Span<double> pi = _link.Pi;
         Span<double> a = stackalloc double[N * ExtendedKalmanFilter.MaxMeasurementDimension];
@@ -346,7 +346,7 @@ public sealed class CompactingStepRecorder : IStepRecorder
             OuterProductUpdate.Subtract(sigmaS, a, gain, m);
         }
 
-        _link.Sigma = sigma;
+        _link.Sigma = _pair.SigmaPredicted;
         _pair.IsOpen = false;
     }
 
