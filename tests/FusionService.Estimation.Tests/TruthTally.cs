@@ -46,6 +46,24 @@ internal static class TruthTally
         return tally.Result;
     }
 
+    /// <summary>The filtered track of <paramref name="replay"/> from <paramref name="fromUs"/> to before <paramref name="toUs"/>.</summary>
+    public static (long Count, long Inside) FilteredBetween(ScenarioRun run, ReplayResult replay, long fromUs, long toUs)
+    {
+        var tally = new Accumulator();
+        foreach (IReadOnlyList<ForwardStep> segment in replay.Forward)
+        {
+            foreach (ForwardStep step in segment)
+            {
+                if (step.TimeUs >= fromUs && step.TimeUs < toUs)
+                {
+                    tally.Add(run, step.TimeUs, step.Plane, step.Filtered, step.FilteredCovariance);
+                }
+            }
+        }
+
+        return (tally.Result.Count, tally.Result.Inside);
+    }
+
     private sealed class Accumulator
     {
         private double _sumSq;

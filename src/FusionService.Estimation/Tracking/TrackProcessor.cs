@@ -442,11 +442,15 @@ public sealed class TrackProcessor
             adjusted = true;
         }
 
-        if (!courseWasIsolated && s.Agreement.CourseIsolated && m.Kind == SensorKind.GnssPosition)
+        // A wrong course carries the position along the wrong heading while the GNSS error states explain the growing
+        // offset from the fixes; widen the position by that offset so the fix that isolated the course pulls it back. A gyro
+        // of the wrong sign does the same through the turn that isolated it, which ends at a GNSS velocity sample: the
+        // first fix after it (none accepted since) widens it. The error states' estimate is part of that explanation: they
+        // start again from their stationary distribution.
+        bool courseJustIsolated = !courseWasIsolated && s.Agreement.CourseIsolated;
+        bool firstFixSinceGyroIsolated = s.Agreement.GyroIsolated && s.Fix.TimeUs < s.Agreement.GyroIsolatedSinceUs;
+        if ((courseJustIsolated || firstFixSinceGyroIsolated) && m.Kind == SensorKind.GnssPosition)
         {
-            // A wrong course carries the position along the wrong heading while the GNSS error states explain the growing
-            // offset from the fixes; widen the position by that offset so the fix that isolated the course pulls it back.
-            // The error states' estimate is part of that explanation: they start again from their stationary distribution.
             GnssFixView gnssFix = m.AsGnssFix();
             EnuPoint fix = s.Plane.ToEnu(GeodeticPoint.FromDegrees(gnssFix.LatitudeDeg, gnssFix.LongitudeDeg));
             double offsetEastM = fix.EastM - s.X[EastM], offsetNorthM = fix.NorthM - s.X[NorthM];
@@ -454,6 +458,7 @@ public sealed class TrackProcessor
             s.P[(NorthM * N) + NorthM] += offsetNorthM * offsetNorthM;
             RestartErrorState(ref s, GnssErrorEastM);
             RestartErrorState(ref s, GnssErrorNorthM);
+            adjusted = true;
         }
 
         return adjusted;
