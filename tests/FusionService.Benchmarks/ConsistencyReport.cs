@@ -14,8 +14,10 @@ using static FusionService.Estimation.Models.StateIndex;
 namespace FusionService.Benchmarks;
 
 /// <summary>
-/// `./build.sh bench consistency [runs, default 64] [faulty | text] [fitted]` (text: only the cases whose label contains it,
-/// "" for all; fitted: with <see cref="NoiseProfile.GnssErrorIdentification"/> on): runs the filter with its default options and noise profile over the realistic
+/// `./build.sh bench consistency [runs, default 64] [faulty | text] [fitted | matched]` (text: only the cases whose label
+/// contains it, "" for all; fitted: with <see cref="NoiseProfile.GnssErrorIdentification"/> on; matched: each cell of the
+/// receiver grid filtered with that receiver's own share and time constant, as a fleet that sets section
+/// <c>GnssErrorModel</c> to its receivers' values): runs the filter with its default options and noise profile over the realistic
 /// drives of <see cref="RealisticDrives"/> (clean sky, multipath, outage, tow, park beside a building, HDOP-only) and over
 /// a grid of GNSS error correlation times (20, 60, 120 s) and correlated shares (50, 80, 95 %) of the clean-sky drive,
 /// each with <c>runs</c> seeds, and prints per case: how often the truth lies inside the 95 % ellipse of the filtered
@@ -30,12 +32,12 @@ internal static class ConsistencyReport
     // Upper 5 % point of chi-square with 2 dof, -2 ln 0.05 (NIST/SEMATECH handbook 1.3.6.7.4; derived).
     private const double Inside95 = 5.991464547107979;
 
-    public static void Run(int runs, bool onlyFaultyStreams = false, string? onlyCases = null, bool fitted = false)
+    public static void Run(int runs, bool onlyFaultyStreams = false, string? onlyCases = null, bool fitted = false, bool matched = false)
     {
         _onlyCases = onlyCases;
         var processor = new TrackProcessor(new TrackOptions(), NoiseProfile.DeliveryVan with { GnssErrorIdentification = fitted || NoiseProfile.DeliveryVan.GnssErrorIdentification });
         Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
-            $"filter defaults: correlated share {processor.Profile.GnssCorrelatedFraction}, time constant {processor.Profile.GnssErrorTimeConstantS} s, fitted per receiver: {processor.Profile.GnssErrorIdentification}; {runs} seeds per case"));
+            $"filter defaults: correlated share {processor.Profile.GnssCorrelatedFraction}, time constant {processor.Profile.GnssErrorTimeConstantS} s, fitted per receiver: {processor.Profile.GnssErrorIdentification}{(matched ? "; the grid's cells with the receiver's own values" : "")}; {runs} seeds per case"));
         Console.WriteLine("case                         in95 filtered   in95 smoothed  NEES filt  NEES smooth  RMSE raw  filt  smooth  GNSS-only (m)  clean fixes gated  jumps gated  resets  isolated (drives, first after)  fitted f / tau (median of drives' final)");
         if (onlyFaultyStreams)
         {
@@ -53,7 +55,10 @@ internal static class ConsistencyReport
             foreach (double share in new[] { 0.5, 0.8, 0.95 })
             {
                 string label = string.Create(CultureInfo.InvariantCulture, $"clean tau {tauS:F0} s share {share:F2}");
-                Report(label, processor, Enumerable.Range(0, runs).Select(r =>
+                TrackProcessor cellProcessor = matched
+                    ? new TrackProcessor(processor.Options, processor.Profile with { GnssCorrelatedFraction = share, GnssErrorTimeConstantS = tauS })
+                    : processor;
+                Report(label, cellProcessor, Enumerable.Range(0, runs).Select(r =>
                 {
                     RealisticDrive d = RealisticDrives.CleanSky(1201 + (r * 100));
                     return d with { Suite = d.Suite with { GnssCorrelationTauS = tauS, GnssCorrelatedVarianceFraction = share } };

@@ -337,6 +337,13 @@ public sealed class TrackProcessor
     /// <summary>Correlated share f σ² of a fix's reported per-axis variance, square metres.</summary>
     private double CorrelatedVariance(in TrackState s, double fixSigmaM) => CorrelatedShare(s) * fixSigmaM * fixSigmaM;
 
+    /// <summary>
+    /// The GNSS error model the track <paramref name="s"/> uses now: correlated share, time constant (seconds) and whether
+    /// they are the track's own fit (<see cref="NoiseProfile.GnssErrorIdentification"/>) rather than the profile's.
+    /// </summary>
+    public (double Share, double TimeConstantS, bool Fitted) GnssErrorModelOf(in TrackState s) =>
+        (CorrelatedShare(s), ErrorTimeConstantS(s), s.GnssErrorFit.HasEstimate);
+
     /// <summary>The correlated share f in use: the receiver's fitted one once there is a fit, the profile's before.</summary>
     private double CorrelatedShare(in TrackState s) => s.GnssErrorFit.HasEstimate ? s.GnssErrorFit.Share : Profile.GnssCorrelatedFraction;
 

@@ -1,8 +1,8 @@
 // Registration of the vehicle tracks and the Orleans silo.
-using FusionService.Estimation.Models;
 using FusionService.Estimation.Tracking;
 using FusionService.Database;
 using FusionService.Tracking.Cluster;
+using Microsoft.Extensions.Options;
 using Orleans.Configuration;
 using Orleans.Runtime;
 
@@ -12,7 +12,8 @@ namespace FusionService.Tracking;
 public static class TrackingExtensions
 {
     /// <summary>
-    /// Adds the track processor (default options, delivery-van noise profile), <see cref="TrackWriteQueue"/>, the track
+    /// Adds the track processor (default options, delivery-van noise profile with the GNSS error model of section
+    /// <c>GnssErrorModel</c>, <see cref="GnssErrorModelOptions"/>), <see cref="TrackWriteQueue"/>, the track
     /// grains' collaborators (<see cref="TrackStore"/>, <see cref="TrackPartsFactory"/>) and an
     /// Orleans silo (section <c>Orleans</c>, see <see cref="OrleansSiloSettings"/>). Clustering is localhost (one silo)
     /// by default; <c>Orleans:ClusterMode=Postgres</c> joins every process with the same <c>Orleans:ClusterId</c> on
@@ -25,7 +26,8 @@ public static class TrackingExtensions
     {
         ArgumentNullException.ThrowIfNull(builder);
         builder.Services.AddOptions<TrackGrainOptions>().BindConfiguration(TrackGrainOptions.Section).ValidateDataAnnotations().ValidateOnStart();
-        builder.Services.AddSingleton(_ => new TrackProcessor(new TrackOptions(), NoiseProfile.DeliveryVan));
+        builder.Services.AddOptions<GnssErrorModelOptions>().BindConfiguration(GnssErrorModelOptions.Section).ValidateDataAnnotations().ValidateOnStart();
+        builder.Services.AddSingleton(sp => new TrackProcessor(new TrackOptions(), sp.GetRequiredService<IOptions<GnssErrorModelOptions>>().Value.ToProfile()));
         builder.Services.AddSingleton(TimeProvider.System);
         builder.Services.AddSingleton<TrackWriteQueue>();
         builder.Services.AddSingleton<TrackStoreGate>();

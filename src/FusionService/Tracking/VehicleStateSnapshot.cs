@@ -13,6 +13,9 @@ namespace FusionService.Tracking;
 /// <param name="Covariance">8 x 8 covariance, row-major.</param>
 /// <param name="LastTimeUsBySensor">Time of the newest processed measurement per sensor kind code (0..3), Unix microseconds, or null.</param>
 /// <param name="Resets">Number of track resets.</param>
+/// <param name="GnssCorrelatedShare">Correlated share of the GNSS error model in use.</param>
+/// <param name="GnssErrorTimeConstantS">Time constant of the GNSS error model in use, seconds.</param>
+/// <param name="GnssErrorFitted">Whether that model is the track's own fit.</param>
 [GenerateSerializer]
 [Immutable]
 [Alias("FusionService.Tracking.VehicleStateSnapshot")]
@@ -24,10 +27,13 @@ public sealed record VehicleStateSnapshot(
     [property: Id(4)] double[] State,
     [property: Id(5)] double[] Covariance,
     [property: Id(6)] long?[] LastTimeUsBySensor,
-    [property: Id(7)] int Resets)
+    [property: Id(7)] int Resets,
+    [property: Id(8)] double GnssCorrelatedShare,
+    [property: Id(9)] double GnssErrorTimeConstantS,
+    [property: Id(10)] bool GnssErrorFitted)
 {
     /// <summary>The snapshot of a running track's state <paramref name="s"/>, or null while it is not running.</summary>
-    internal static VehicleStateSnapshot? Of(in TrackState s, long?[] lastTimeUsBySensor)
+    internal static VehicleStateSnapshot? Of(TrackProcessor processor, in TrackState s, long?[] lastTimeUsBySensor)
     {
         if (!s.HasPlane || s.Phase != TrackPhase.Running)
         {
@@ -48,6 +54,8 @@ public sealed record VehicleStateSnapshot(
         }
 
         const string phase = "running";
-        return new VehicleStateSnapshot(s.TimeUs, phase, position.LatitudeDeg, position.LongitudeDeg, x, p, lastTimeUsBySensor, s.Resets);
+        (double share, double timeConstantS, bool fitted) = processor.GnssErrorModelOf(s);
+        return new VehicleStateSnapshot(
+            s.TimeUs, phase, position.LatitudeDeg, position.LongitudeDeg, x, p, lastTimeUsBySensor, s.Resets, share, timeConstantS, fitted);
     }
 }

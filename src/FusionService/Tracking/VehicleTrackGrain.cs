@@ -239,7 +239,7 @@ internal sealed class VehicleTrackGrain(
             await CatchUpAfterDeathsAsync();
         }
 
-        return VehicleStateSnapshot.Of(_track.Current, Parts().Recorder.LastTimeUsBySensor());
+        return VehicleStateSnapshot.Of(processor, _track.Current, Parts().Recorder.LastTimeUsBySensor());
     }
 
     /// <summary>

@@ -25,6 +25,7 @@ namespace FusionService.Vehicles;
 /// <param name="Ellipse95">95 % horizontal error ellipse.</param>
 /// <param name="LastMeasurement">Time of the newest measurement per sensor.</param>
 /// <param name="Resets">Number of track resets (re-initialisations after sustained GNSS rejection).</param>
+/// <param name="GnssErrorModel">The model of the GNSS fixes' error the track filters with now.</param>
 /// <param name="Caution">The cautions that go with every location.</param>
 public sealed record VehicleStateResponse(
     string Vehicle,
@@ -47,4 +48,5 @@ public sealed record VehicleStateResponse(
     ErrorEllipseResponse Ellipse95,
     SensorTimesResponse LastMeasurement,
     int Resets,
+    GnssErrorModelResponse GnssErrorModel,
     string Caution);

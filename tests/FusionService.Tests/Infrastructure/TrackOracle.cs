@@ -47,6 +47,9 @@ internal sealed class TrackOracle
             p[i] = s.P[i];
         }
 
-        return VehicleEndpoints.ToResponse(vehicle, new VehicleStateSnapshot(s.TimeUs, "running", position.LatitudeDeg, position.LongitudeDeg, x, p, [.. _last], s.Resets));
+        (double share, double timeConstantS, bool fitted) = _track.Processor.GnssErrorModelOf(s);
+        return VehicleEndpoints.ToResponse(
+            vehicle,
+            new VehicleStateSnapshot(s.TimeUs, "running", position.LatitudeDeg, position.LongitudeDeg, x, p, [.. _last], s.Resets, share, timeConstantS, fitted));
     }
 }
