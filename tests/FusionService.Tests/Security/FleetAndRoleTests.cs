@@ -9,22 +9,14 @@ namespace FusionService.Tests.Security;
 [Collection(ServiceTests.Name)]
 public sealed class FleetAndRoleTests(ServiceFixture fixture)
 {
-    // Two fixes a second apart, 5 m east at 5 m/s: a track starts from a fix the next one confirms.
-    private static string TwoFixes(string vehicle) =>
-        "[" + Fix(vehicle, -2, 7.001) + "," + Fix(vehicle, -1, 7.001 + (5.0 / (111_320.0 * Math.Cos(45.001 * Math.PI / 180)))) + "]";
-
-    private static string Fix(string vehicle, int secondsAgo, double lonDeg) =>
-        "{\"vehicle\":\"" + vehicle + "\",\"kind\":\"gnss\",\"time\":\"" + DateTimeOffset.UtcNow.AddSeconds(secondsAgo).ToString("O", CultureInfo.InvariantCulture)
-        + "\",\"lat_deg\":45.001,\"lon_deg\":" + lonDeg.ToString("R", CultureInfo.InvariantCulture) + ",\"accuracy_m\":3,\"speed_mps\":5,\"course_deg\":90}";
-
     [Fact]
     public async Task Fleets_see_only_their_own_vehicles_both_ways()
     {
         var a = await fixture.NewFleetAsync();
         var b = await fixture.NewFleetAsync();
-        await fixture.Client(a.IngestKey).IngestOkAsync(TwoFixes("shared-name"));
-        await fixture.Client(a.IngestKey).IngestOkAsync(TwoFixes("only-a"));
-        await fixture.Client(b.IngestKey).IngestOkAsync(TwoFixes("only-b"));
+        await fixture.Client(a.IngestKey).IngestOkAsync(StartingFixes.Two("shared-name"));
+        await fixture.Client(a.IngestKey).IngestOkAsync(StartingFixes.Two("only-a"));
+        await fixture.Client(b.IngestKey).IngestOkAsync(StartingFixes.Two("only-b"));
         await fixture.Host.Services.GetRequiredService<FusionService.Tracking.TrackWriteQueue>().FlushAsync(CancellationToken.None);
 
         using var readA = fixture.Client(a.ReadKey);
@@ -45,7 +37,7 @@ public sealed class FleetAndRoleTests(ServiceFixture fixture)
     {
         using var none = fixture.Client(null);
         using var unknown = fixture.Client("fsk_not-a-key");
-        Assert.Equal(HttpStatusCode.Unauthorized, (await none.PostJsonAsync(TwoFixes("v"))).StatusCode);
+        Assert.Equal(HttpStatusCode.Unauthorized, (await none.PostJsonAsync(StartingFixes.Two("v"))).StatusCode);
         Assert.Equal(HttpStatusCode.Unauthorized, (await none.GetAsync("/v1/vehicles")).StatusCode);
         var response = await unknown.GetAsync("/v1/vehicles");
         Assert.Equal(HttpStatusCode.Unauthorized, response.StatusCode);
@@ -59,9 +51,9 @@ public sealed class FleetAndRoleTests(ServiceFixture fixture)
         using var ingest = fixture.Client(fleet.IngestKey);
         using var read = fixture.Client(fleet.ReadKey);
         using var admin = fixture.Client(fleet.AdminKey);
-        Assert.Equal(HttpStatusCode.OK, (await ingest.PostJsonAsync(TwoFixes("v1"))).StatusCode);
-        Assert.Equal(HttpStatusCode.Forbidden, (await read.PostJsonAsync(TwoFixes("v1"))).StatusCode);
-        Assert.Equal(HttpStatusCode.Forbidden, (await admin.PostJsonAsync(TwoFixes("v1"))).StatusCode);
+        Assert.Equal(HttpStatusCode.OK, (await ingest.PostJsonAsync(StartingFixes.Two("v1"))).StatusCode);
+        Assert.Equal(HttpStatusCode.Forbidden, (await read.PostJsonAsync(StartingFixes.Two("v1"))).StatusCode);
+        Assert.Equal(HttpStatusCode.Forbidden, (await admin.PostJsonAsync(StartingFixes.Two("v1"))).StatusCode);
         var forbidden = await ingest.GetAsync("/v1/vehicles/v1/state");
         Assert.Equal(HttpStatusCode.Forbidden, forbidden.StatusCode);
         Assert.Contains("role read or admin", (await forbidden.ProblemAsync()).GetProperty("detail").GetString(), StringComparison.Ordinal);

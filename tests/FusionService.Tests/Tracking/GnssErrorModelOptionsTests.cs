@@ -1,7 +1,6 @@
 // Section GnssErrorModel reaches the tracks' filter, and a value outside its range stops the start (issue 12).
 using FusionService.Estimation.Models;
 using FusionService.Estimation.Tracking;
-using System.Globalization;
 using FusionService.Tests.Infrastructure;
 using FusionService.Tracking;
 using FusionService.Vehicles;
@@ -12,13 +11,6 @@ namespace FusionService.Tests.Tracking;
 [Collection(ServiceTests.Name)]
 public sealed class GnssErrorModelOptionsTests(ServiceFixture fixture)
 {
-    private static string TwoFixes(string vehicle) =>
-        "[" + Fix(vehicle, -2, 7.001) + "," + Fix(vehicle, -1, 7.001 + (5.0 / (111_320.0 * Math.Cos(45.001 * Math.PI / 180)))) + "]";
-
-    private static string Fix(string vehicle, int secondsAgo, double lonDeg) =>
-        "{\"vehicle\":\"" + vehicle + "\",\"kind\":\"gnss\",\"time\":\"" + DateTimeOffset.UtcNow.AddSeconds(secondsAgo).ToString("O", CultureInfo.InvariantCulture)
-        + "\",\"lat_deg\":45.001,\"lon_deg\":" + lonDeg.ToString("R", CultureInfo.InvariantCulture) + ",\"accuracy_m\":3,\"speed_mps\":5,\"course_deg\":90}";
-
     [Fact]
     public async Task Issue12_the_configured_error_model_is_the_one_the_tracks_filter_with()
     {
@@ -32,7 +24,7 @@ public sealed class GnssErrorModelOptionsTests(ServiceFixture fixture)
         NoiseProfile profile = configured.Services.GetRequiredService<TrackProcessor>().Profile;
         // And a vehicle's state says which model its track uses (no stop yet, so no fit of its own).
         var fleet = await fixture.NewFleetAsync();
-        await fixture.Client(fleet.IngestKey, configured).IngestOkAsync(TwoFixes("van-model"));
+        await fixture.Client(fleet.IngestKey, configured).IngestOkAsync(StartingFixes.Two("van-model"));
         await configured.Services.GetRequiredService<TrackWriteQueue>().FlushAsync(CancellationToken.None);
         var state = await fixture.Client(fleet.ReadKey, configured).StateAsync("van-model");
         Assert.Equal(new GnssErrorModelResponse(0.9, 120.0, Fitted: false), state.GnssErrorModel);
