@@ -1,6 +1,5 @@
 // Lowers the scheduling weight of a PostgreSQL backend of the embedded cluster (the history reads' connections).
 using System.Globalization;
-using System.Runtime.InteropServices;
 
 namespace FusionService.Database;
 
@@ -38,27 +37,8 @@ internal static class BackendPriority
         }
 
         File.WriteAllText(autogroup, LowestNice.ToString(CultureInfo.InvariantCulture));
-        if (Environment.GetEnvironmentVariable("FUSION_EXP_CGROUP") is { Length: > 0 } group)
-        {
-            File.AppendAllText(group + "/cgroup.procs", pid.ToString(CultureInfo.InvariantCulture));
-        }
-
-        if (IdlePolicy)
-        {
-            int priority = 0;
-            _ = SchedSetScheduler(pid, SchedIdle, ref priority);
-        }
-
         return true;
     }
-
-    /// <summary>Experiment switch: also give the backend the SCHED_IDLE policy.</summary>
-    internal static bool IdlePolicy { get; set; }
-
-    private const int SchedIdle = 5;
-
-    [DllImport("libc", EntryPoint = "sched_setscheduler", SetLastError = true)]
-    private static extern int SchedSetScheduler(int pid, int policy, ref int priority);
 
     /// <summary>Parent and session of a process from <c>/proc/PID/stat</c> (fields 4 and 6, proc(5)); null when it is gone.</summary>
     private static (int ParentPid, int SessionId)? StatOf(int pid)

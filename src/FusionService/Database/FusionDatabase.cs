@@ -138,7 +138,6 @@ public sealed class FusionDatabase : IAsyncDisposable
                 });
         }
 
-        BackendPriority.IdlePolicy = Environment.GetEnvironmentVariable("FUSION_EXP_IDLE") != "0";
         _readDataSource = readBuilder.Build();
         await CreatePartitions().RunAsync(cancellationToken).ConfigureAwait(false);
     }

@@ -120,13 +120,7 @@ internal static class LowPriorityThread
     {
         if (OperatingSystem.IsLinux())
         {
-            bool lowered = SetPriority(PrioProcess, GetTid(), LowestNice) == 0;
-            if (Environment.GetEnvironmentVariable("FUSION_EXP_REPLAY_CGROUP") is { Length: > 0 } group)
-            {
-                File.AppendAllText(group + "/tasks", GetTid().ToString(System.Globalization.CultureInfo.InvariantCulture));
-            }
-
-            return lowered;
+            return SetPriority(PrioProcess, GetTid(), LowestNice) == 0;
         }
 
         Thread.CurrentThread.Priority = ThreadPriority.Lowest;
