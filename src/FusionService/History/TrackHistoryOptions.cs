@@ -37,20 +37,10 @@ public sealed class TrackHistoryOptions
     /// <summary>
     /// Stretches a smoothed-track replay is split into at most, each filtered on its own thread from a checkpoint the
     /// track stored inside the window (see <c>Tracks:HistoryCheckpointSpacingMin</c>); 1 replays in one go. The result is
-    /// the same either way. Under the processor cap <c>HeavyReads:ReplayCpuCores</c> more stretches than the cap has
-    /// cores do not finish a read sooner; they only take several cores at the same moment, which ingest's latency pays
-    /// for (docs/limits-and-keys.md). Without the cap (0), set it to the number of processors. Default: a quarter of the
-    /// processors rounded up, 1 to 8 (the default cap's cores; 1 on 2 processors).
+    /// the same either way. Default: the number of processors, at most 8.
     /// </summary>
     [Range(1, 64)]
-    public int ReplayStretches { get; set; } = DefaultReplayStretches(Environment.ProcessorCount);
-
-    /// <summary>
-    /// The default of <see cref="ReplayStretches"/> on a machine with <paramref name="processors"/> processors: the
-    /// default replay cap (<see cref="HeavyReadOptions.ReplayCpuCores"/>, a quarter of them) rounded up to whole cores,
-    /// 1 to 8.
-    /// </summary>
-    internal static int DefaultReplayStretches(int processors) => Math.Clamp((int)Math.Ceiling(processors / 4.0), 1, 8);
+    public int ReplayStretches { get; set; } = Math.Clamp(Environment.ProcessorCount, 1, 8);
 
     /// <summary>
     /// Rounds of the smoothed-track code run at start-up on invented data, so that the first requests do not pay for

@@ -31,29 +31,6 @@ public sealed class ReplayCpuBudgetTests
         Assert.True(Budget(0.5).Enabled);
     }
 
-    [Theory]
-    [InlineData(1, 1)]
-    [InlineData(2, 1)]
-    [InlineData(4, 1)]
-    [InlineData(5, 2)]
-    [InlineData(8, 2)]
-    [InlineData(16, 4)]
-    [InlineData(32, 8)]
-    [InlineData(64, 8)]
-    public void Issue14_by_default_a_replay_runs_as_many_stretches_as_the_default_cap_has_whole_cores(int processors, int stretches)
-    {
-        // The default cap is a quarter of the processors; stretches beyond its cores, rounded up, cannot finish a read
-        // sooner under it (the expected values: ceiling of processors / 4, at least 1, at most 8).
-        Assert.Equal(stretches, TrackHistoryOptions.DefaultReplayStretches(processors));
-    }
-
-    [Fact]
-    public void Issue14_the_default_stretches_of_this_machine_match_its_default_cap()
-    {
-        double cap = new HeavyReadOptions().ReplayCpuCores;
-        Assert.Equal(Math.Clamp((int)Math.Ceiling(cap), 1, 8), new TrackHistoryOptions().ReplayStretches);
-    }
-
     [Fact]
     public void Issue14_a_debt_is_paid_by_sleeping_it_off_at_the_cap_rate()
     {

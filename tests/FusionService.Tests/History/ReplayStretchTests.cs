@@ -35,28 +35,15 @@ public sealed class ReplayStretchTests(ServiceFixture fixture, ITestOutputHelper
         await AssertStretchesEqualOneGoAsync("van-stretches-capped", ("HeavyReads:ReplayCpuCores", "0.02"));
     }
 
-    [Fact]
-    public async Task Issue14_under_the_default_cap_a_replay_runs_as_many_stretches_as_the_cap_has_cores()
+    private async Task AssertStretchesEqualOneGoAsync(string vehicle, params (string Key, string Value)[] settings)
     {
-        // Defaults of Tracks:ReplayStretches and HeavyReads:ReplayCpuCores (a quarter of the processors): 1 stretch on
-        // 2 processors; the track is the same as the smoother's in one go.
-        var defaults = new Dictionary<string, string?> { ["Tracks:HistoryCheckpointSpacingMin"] = "0.5" };
-        int expected = Math.Clamp((int)Math.Ceiling(Environment.ProcessorCount / 4.0), 1, 8);
-        await AssertStretchesEqualOneGoAsync("van-stretches-default", expected, new ServiceFactory(fixture.ConnectionString, defaults));
-    }
-
-    private Task AssertStretchesEqualOneGoAsync(string vehicle, params (string Key, string Value)[] settings) =>
-        AssertStretchesEqualOneGoAsync(vehicle, Stretches, NewHost(settings));
-
-    private async Task AssertStretchesEqualOneGoAsync(string vehicle, int expectedStretches, ServiceFactory newHost)
-    {
-        await using var host = newHost;
+        await using var host = NewHost(settings);
         var fleet = await fixture.NewFleetAsync();
         var drive = HistoryDrive.Create(vehicle, seed: 6400);
         await drive.IngestAsync(fixture, fleet, host: host);
 
         var (stretches, misses, compared) = await CompareWithOneGoAsync(host, fleet, drive, vehicle, drive.Drive.Messages.SelectMany(m => m.Core));
-        Assert.Equal(expectedStretches, stretches);
+        Assert.Equal(Stretches, stretches);
         Assert.Equal(0, misses);
         Assert.True(compared > 100, $"only {compared} points compared");
     }

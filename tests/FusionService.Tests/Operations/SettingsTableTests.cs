@@ -33,7 +33,7 @@ public sealed class SettingsTableTests
         // Keys as the service reads them, with their defaults and ranges (from IngestOptions and OrleansSiloSettings).
         Assert.Contains("| `Ingest:MaxBodyBytes` | whole number | 4194304 | bytes | 1024 to 268435456 |", table, StringComparison.Ordinal);
         Assert.Contains("| `Orleans:ClusterMode` | one of Localhost, Postgres | Localhost |", table, StringComparison.Ordinal);
-        Assert.Contains("| `Tracks:ReplayStretches` | whole number | a quarter of the processors rounded up, 1 to 8 (the default cap's cores; 1 on 2 processors) |", table, StringComparison.Ordinal);
+        Assert.Contains("| `Tracks:ReplayStretches` | whole number | the number of processors, at most 8 |", table, StringComparison.Ordinal);
         Assert.DoesNotContain("| `Orleans:Clustering` |", table, StringComparison.Ordinal);
     }
 
