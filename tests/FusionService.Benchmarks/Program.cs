@@ -43,6 +43,14 @@ if (args.Length > 0 && string.Equals(args[0], "storage-probe", StringComparison.
     return;
 }
 
+if (args.Length > 0 && string.Equals(args[0], "state-nees", StringComparison.Ordinal))
+{
+    StateConsistencyReport.Run(
+        args.Length > 1 ? int.Parse(args[1], System.Globalization.CultureInfo.InvariantCulture) : 16,
+        args.Length > 2 ? double.Parse(args[2], System.Globalization.CultureInfo.InvariantCulture) : null);
+    return;
+}
+
 if (args.Length > 0 && string.Equals(args[0], "consistency", StringComparison.Ordinal))
 {
     ConsistencyReport.Run(
