@@ -1,6 +1,7 @@
 // A processor-time budget shared by the history reads' replay threads (HeavyReads:ReplayCpuCores).
 using System.Diagnostics;
 using System.Runtime.InteropServices;
+using FusionService.Ingest;
 using Microsoft.Extensions.Options;
 
 namespace FusionService.History;
@@ -9,7 +10,9 @@ namespace FusionService.History;
 /// Caps the processor time the smoothing replays of all history reads of the process take together at
 /// <see cref="HeavyReadOptions.ReplayCpuCores"/> cores: a token bucket of processor seconds, refilled at that many per
 /// second and holding at most <see cref="BurstS"/> of them; a replay thread charges the processor time it used after
-/// each chunk of rows and sleeps while the bucket is in debt. 0 turns the cap off.
+/// each chunk of rows and sleeps while the bucket is in debt. 0 turns the cap off. The cap applies only while ingest
+/// commits (<see cref="IngestActivity"/>, within <see cref="IngestWindow"/>): without ingest there is nothing to yield to,
+/// and a capped replay only made a smoothed vehicle-day take twice its processor time on an idle machine.
 /// </summary>
 /// <remarks>
 /// The low priority of the replay threads (<see cref="LowPriorityThread"/>) orders them after ingest inside the process,
@@ -25,21 +28,29 @@ internal sealed class ReplayCpuBudget
     /// <summary>Most processor seconds the bucket holds (a replay may run this long at full speed after an idle spell).</summary>
     internal const double BurstS = 0.05;
 
+    /// <summary>
+    /// The cap applies while ingest committed within this window: with no ingest to protect a replay runs at full speed
+    /// (and the bucket stays full).
+    /// </summary>
+    internal static readonly TimeSpan IngestWindow = TimeSpan.FromSeconds(1);
+
     /// <summary>Longest sleep of one charge, seconds (a deep debt is worked off over several chunks).</summary>
     private const double MaxSleepS = 0.5;
 
     private const int ClockThreadCpuTimeId = 3;
 
     private readonly double _cores;
+    private readonly IngestActivity _ingest;
     private readonly Lock _gate = new();
     private double _tokensS;
     private long _refilledAt;
 
-    /// <summary>Creates the budget of <see cref="HeavyReadOptions.ReplayCpuCores"/>.</summary>
-    public ReplayCpuBudget(IOptions<HeavyReadOptions> options)
+    /// <summary>Creates the budget of <see cref="HeavyReadOptions.ReplayCpuCores"/>, applied while ingest commits.</summary>
+    public ReplayCpuBudget(IOptions<HeavyReadOptions> options, IngestActivity ingest)
     {
         ArgumentNullException.ThrowIfNull(options);
         _cores = options.Value.ReplayCpuCores;
+        _ingest = ingest;
         _tokensS = BurstS;
         _refilledAt = Stopwatch.GetTimestamp();
     }
@@ -56,6 +67,13 @@ internal sealed class ReplayCpuBudget
         lock (_gate)
         {
             long now = Stopwatch.GetTimestamp();
+            if (!_ingest.CommittedWithin(IngestWindow))
+            {
+                _tokensS = BurstS;
+                _refilledAt = now;
+                return 0;
+            }
+
             _tokensS = Math.Min(BurstS, _tokensS + (Stopwatch.GetElapsedTime(_refilledAt, now).TotalSeconds * _cores));
             _refilledAt = now;
             _tokensS -= usedS;

@@ -26,15 +26,17 @@ public sealed class GroupCommitWriter : BackgroundService
     private readonly FusionDatabase _database;
     private readonly IngestOptions _options;
     private readonly ServiceMetrics _metrics;
+    private readonly IngestActivity _activity;
     private readonly ILogger<GroupCommitWriter> _logger;
 
     /// <summary>Creates the writer.</summary>
     public GroupCommitWriter(
-        FusionDatabase database, IOptions<IngestOptions> options, ServiceMetrics metrics, ILogger<GroupCommitWriter> logger)
+        FusionDatabase database, IOptions<IngestOptions> options, ServiceMetrics metrics, IngestActivity activity, ILogger<GroupCommitWriter> logger)
     {
         _database = database;
         _options = options.Value;
         _metrics = metrics;
+        _activity = activity;
         _logger = logger;
         _channels = [.. Enumerable.Range(0, _options.CommitWriters).Select(_ => Channel.CreateBounded<CommitRequest>(
             new BoundedChannelOptions(_options.QueueCapacity) { FullMode = BoundedChannelFullMode.Wait, SingleReader = true }))];
@@ -218,6 +220,7 @@ public sealed class GroupCommitWriter : BackgroundService
 
         _database.NoteSuccess();
         _metrics.ObserveCommit(watch.Elapsed.TotalSeconds, rowCount);
+        _activity.MarkCommitted();
         foreach (var request in batch)
         {
             var claimed = new HashSet<MeasurementKey>();

@@ -17,6 +17,7 @@ public static class IngestExtensions
         services.AddOptions<IngestOptions>().BindConfiguration(IngestOptions.Section).ValidateDataAnnotations().ValidateOnStart();
         services.AddOptions<KestrelServerOptions>().Configure<IOptions<IngestOptions>>(
             (kestrel, ingest) => kestrel.Limits.MaxRequestBodySize = ingest.Value.MaxBodyBytes + 1L);
+        services.AddSingleton<IngestActivity>();
         services.AddSingleton<GroupCommitWriter>();
         services.AddHostedService(sp => sp.GetRequiredService<GroupCommitWriter>());
         services.AddOptions<Fleets.TenancyOptions>().BindConfiguration(Fleets.TenancyOptions.Section).ValidateDataAnnotations().ValidateOnStart();

@@ -2,13 +2,22 @@
 using System.Diagnostics;
 using System.Globalization;
 using FusionService.History;
+using FusionService.Ingest;
 
 namespace FusionService.Tests.History;
 
 public sealed class ReplayCpuBudgetTests
 {
-    private static ReplayCpuBudget Budget(double cores) =>
-        new(Microsoft.Extensions.Options.Options.Create(new HeavyReadOptions { ReplayCpuCores = cores }));
+    /// <summary>A budget of <paramref name="cores"/> beside ingest that has just committed (the cap applies).</summary>
+    private static ReplayCpuBudget Budget(double cores)
+    {
+        var ingest = new IngestActivity();
+        ingest.MarkCommitted();
+        return Budget(cores, ingest);
+    }
+
+    private static ReplayCpuBudget Budget(double cores, IngestActivity ingest) =>
+        new(Microsoft.Extensions.Options.Options.Create(new HeavyReadOptions { ReplayCpuCores = cores }), ingest);
 
     /// <summary>
     /// Processor seconds the calling thread has used: fields 14 and 15 (utime, stime, in clock ticks) of
@@ -47,11 +56,28 @@ public sealed class ReplayCpuBudgetTests
     }
 
     [Fact]
+    public void Issue16_without_ingest_to_protect_a_replay_is_not_held_back()
+    {
+        var ingest = new IngestActivity();
+        var budget = Budget(0.5, ingest);
+        // No commit yet: any amount is free, and the bucket stays full.
+        Assert.Equal(0, budget.Take(10));
+        Assert.Equal(0, budget.Take(ReplayCpuBudget.BurstS));
+        // Ingest commits: the cap applies from the full bucket on.
+        ingest.MarkCommitted();
+        Assert.Equal(0, budget.Take(ReplayCpuBudget.BurstS));
+        Assert.True(budget.Take(0.1) > 0.1, "a debt of 0.1 s of processor time at 0.5 cores is slept off");
+        Assert.True(ingest.CommittedWithin(ReplayCpuBudget.IngestWindow));
+        Assert.False(ingest.CommittedWithin(TimeSpan.Zero - TimeSpan.FromTicks(1)));
+    }
+
+    [Fact]
     public async Task Issue14_a_metered_thread_stays_under_its_share_of_a_core()
     {
         Assert.True(OperatingSystem.IsLinux(), "the service's deployment target; the check reads /proc");
         const double cores = 0.25;
-        var budget = Budget(cores);
+        var ingest = new IngestActivity();
+        var budget = Budget(cores, ingest);
         var result = await Task.Factory.StartNew(
             () =>
             {
@@ -61,7 +87,9 @@ public sealed class ReplayCpuBudgetTests
                 double sink = 0;
                 while (wall.Elapsed < TimeSpan.FromSeconds(1.5))
                 {
-                    // About 10 ms of work per charge, like a chunk of replayed rows.
+                    // Ingest commits throughout (the cap applies), and about 10 ms of work per charge, like a chunk of
+                    // replayed rows.
+                    ingest.MarkCommitted();
                     var piece = Stopwatch.StartNew();
                     while (piece.ElapsedMilliseconds < 10)
                     {
