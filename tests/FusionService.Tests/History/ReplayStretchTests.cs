@@ -5,6 +5,7 @@ using FusionService.Estimation.Models;
 using FusionService.Estimation.Reference;
 using FusionService.Estimation.Smoothing;
 using FusionService.Estimation.Tracking;
+using FusionService.Ingest;
 using FusionService.Operations;
 using FusionService.Tests.Infrastructure;
 using Xunit.Abstractions;
@@ -31,18 +32,35 @@ public sealed class ReplayStretchTests(ServiceFixture fixture, ITestOutputHelper
     [Fact]
     public async Task Issue14_a_replay_under_a_processor_cap_gives_the_same_track()
     {
-        // A cap of 0.02 cores (HeavyReads:ReplayCpuCores) makes the replay threads sleep; the result must not change.
-        await AssertStretchesEqualOneGoAsync("van-stretches-capped", ("HeavyReads:ReplayCpuCores", "0.02"));
+        // A cap of 0.02 cores (HeavyReads:ReplayCpuCores) makes the replay threads sleep while ingest commits (kept
+        // committing here through the read); the result must not change.
+        await AssertStretchesEqualOneGoAsync("van-stretches-capped", keepIngestActive: true, ("HeavyReads:ReplayCpuCores", "0.02"));
     }
 
-    private async Task AssertStretchesEqualOneGoAsync(string vehicle, params (string Key, string Value)[] settings)
+    private Task AssertStretchesEqualOneGoAsync(string vehicle) => AssertStretchesEqualOneGoAsync(vehicle, keepIngestActive: false);
+
+    private async Task AssertStretchesEqualOneGoAsync(string vehicle, bool keepIngestActive, params (string Key, string Value)[] settings)
     {
         await using var host = NewHost(settings);
         var fleet = await fixture.NewFleetAsync();
         var drive = HistoryDrive.Create(vehicle, seed: 6400);
         await drive.IngestAsync(fixture, fleet, host: host);
 
+        using var stop = new CancellationTokenSource();
+        var ingest = host.Services.GetRequiredService<IngestActivity>();
+        var committing = keepIngestActive
+            ? Task.Run(async () =>
+            {
+                while (!stop.IsCancellationRequested)
+                {
+                    ingest.MarkCommitted();
+                    await Task.Delay(100, CancellationToken.None);
+                }
+            })
+            : Task.CompletedTask;
         var (stretches, misses, compared) = await CompareWithOneGoAsync(host, fleet, drive, vehicle, drive.Drive.Messages.SelectMany(m => m.Core));
+        await stop.CancelAsync();
+        await committing;
         Assert.Equal(Stretches, stretches);
         Assert.Equal(0, misses);
         Assert.True(compared > 100, $"only {compared} points compared");
