@@ -29,9 +29,19 @@ public sealed class ClusterTests(ServiceFixture fixture, ITestOutputHelper outpu
         await a.WaitUntilReadyAsync();
         await b.WaitUntilReadyAsync();
 
-        // Both processes are members of the cluster (rows of the migration's membership table, status 3 = Active
-        // in Orleans' SiloStatus).
-        Assert.Equal(2, await fixture.CountAsync("SELECT count(*) FROM cluster_members WHERE cluster_id = $1 AND status = 3", clusterId));
+        // Both processes become members of the cluster (rows of the migration's membership table, status 3 = Active
+        // in Orleans' SiloStatus). Ready means each process serves; the second silo's row may turn Active a moment
+        // later (once seen 1 of 2 right after both were ready, on a loaded machine), so wait for it, up to 30 s.
+        const string ActiveMembers = "SELECT count(*) FROM cluster_members WHERE cluster_id = $1 AND status = 3";
+        var joining = Stopwatch.StartNew();
+        long active = await fixture.CountAsync(ActiveMembers, clusterId);
+        while (active < 2 && joining.Elapsed < TimeSpan.FromSeconds(30))
+        {
+            await Task.Delay(200);
+            active = await fixture.CountAsync(ActiveMembers, clusterId);
+        }
+
+        Assert.Equal(2, active);
 
         // The first third to A (whose silo then hosts the track: new activations prefer the calling silo), the
         // second to B: one track, the same state read through either process, equal to an uninterrupted run.
