@@ -10,7 +10,7 @@ namespace FusionService.Tracking;
 /// <param name="LatDeg">Latitude, degrees (NaN without a position).</param>
 /// <param name="LonDeg">Longitude, degrees (NaN without a position).</param>
 /// <param name="State">State vector in the core's order and units (see <c>StateIndex</c>).</param>
-/// <param name="Covariance">8 x 8 covariance, row-major.</param>
+/// <param name="Covariance">Covariance of <paramref name="State"/> (10 x 10), row-major.</param>
 /// <param name="LastTimeUsBySensor">Time of the newest processed measurement per sensor kind code (0..3), Unix microseconds, or null.</param>
 /// <param name="Resets">Number of track resets.</param>
 /// <param name="GnssCorrelatedShare">Correlated share of the GNSS error model in use.</param>

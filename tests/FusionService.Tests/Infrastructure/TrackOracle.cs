@@ -1,5 +1,4 @@
 // The uninterrupted reference: the estimation core run directly on the same measurements.
-using FusionService.Estimation.LinearAlgebra;
 using FusionService.Estimation.Measurements;
 using FusionService.Estimation.Models;
 using FusionService.Estimation.Tracking;
@@ -30,26 +29,8 @@ internal sealed class TrackOracle
         }
     }
 
-    /// <summary>The response the service should give for this state.</summary>
-    public VehicleStateResponse Response(string vehicle)
-    {
-        ref readonly TrackState s = ref _track.Current;
-        var position = TrackProcessor.PositionOf(s);
-        var x = new double[StateVector.Length];
-        var p = new double[StateMatrix.Length];
-        for (int i = 0; i < x.Length; i++)
-        {
-            x[i] = s.X[i];
-        }
-
-        for (int i = 0; i < p.Length; i++)
-        {
-            p[i] = s.P[i];
-        }
-
-        (double share, double timeConstantS, bool fitted) = _track.Processor.GnssErrorModelOf(s);
-        return VehicleEndpoints.ToResponse(
-            vehicle,
-            new VehicleStateSnapshot(s.TimeUs, "running", position.LatitudeDeg, position.LongitudeDeg, x, p, [.. _last], s.Resets, share, timeConstantS, fitted));
-    }
+    /// <summary>The response the service should give for this state (the track must be running).</summary>
+    public VehicleStateResponse Response(string vehicle) =>
+        VehicleEndpoints.ToResponse(vehicle, VehicleStateSnapshot.Of(_track.Processor, _track.Current, [.. _last])
+            ?? throw new InvalidOperationException("the oracle's track is not running"));
 }
