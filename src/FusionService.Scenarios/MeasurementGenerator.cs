@@ -254,7 +254,7 @@ public static class MeasurementGenerator
             truth.ToGeodeticDeg(s.EastM, s.NorthM, out double trueLatDeg, out double trueLonDeg);
             truth.ToGeodeticDeg(s.EastM + errorEastM, s.NorthM + errorNorthM, out double latDeg, out double lonDeg);
             ulong key = Key(SensorKind.GnssPosition, count++);
-            output.Add(Measurement.GnssPosition(t, key, latDeg, lonDeg, reportedSigmaM));
+            output.Add(Measurement.GnssPosition(t, key, latDeg, lonDeg, reportedSigmaM, sigmaFromHdop: suite.GnssReportedHdop is not null));
             truths.Add(new MeasurementTruth(
                 key, SensorKind.GnssPosition, t, isOutlier, canyon is not null, errorEastM, errorNorthM, trueLatDeg, trueLonDeg,
                 episode is not null, InAny(suite.CarriedSpans, t), appliedCorrEastM, appliedCorrNorthM));

@@ -14,10 +14,12 @@ using static FusionService.Estimation.Models.StateIndex;
 namespace FusionService.Benchmarks;
 
 /// <summary>
-/// `./build.sh bench consistency [runs, default 64] [faulty | text] [fitted | matched]` (text: only the cases whose label
-/// contains it, "" for all; fitted: with <see cref="NoiseProfile.GnssErrorIdentification"/> on; matched: each cell of the
-/// receiver grid filtered with that receiver's own share and time constant, as a fleet that sets section
-/// <c>GnssErrorModel</c> to its receivers' values): runs the filter with its default options and noise profile over the realistic
+/// `./build.sh bench consistency [runs, default 64] [faulty | text] [fitted | fixed | matched | learned]` (text: only the
+/// cases whose label contains it, "" for all; fitted: with <see cref="NoiseProfile.GnssErrorIdentification"/> on, the
+/// default; fixed: with it off; matched: each cell of the receiver grid filtered with that receiver's own share and time
+/// constant, as a fleet that sets section <c>GnssErrorModel</c> to its receivers' values; learned: each drive of the
+/// receiver grid starts with the fit its track made over <see cref="LearnedDrives"/> earlier rounds of the same receiver,
+/// as a van's track carries it from day to day): runs the filter with its default options and noise profile over the realistic
 /// drives of <see cref="RealisticDrives"/> (clean sky, multipath, outage, tow, park beside a building, HDOP-only) and over
 /// a grid of GNSS error correlation times (20, 60, 120 s) and correlated shares (50, 80, 95 %) of the clean-sky drive,
 /// each with <c>runs</c> seeds, and prints per case: how often the truth lies inside the 95 % ellipse of the filtered
@@ -32,12 +34,27 @@ internal static class ConsistencyReport
     // Upper 5 % point of chi-square with 2 dof, -2 ln 0.05 (NIST/SEMATECH handbook 1.3.6.7.4; derived).
     private const double Inside95 = 5.991464547107979;
 
-    public static void Run(int runs, bool onlyFaultyStreams = false, string? onlyCases = null, bool fitted = false, bool matched = false)
+    /// <summary>Earlier half-hour rounds of the same receiver whose fit a drive of the grid starts from in the learned mode.</summary>
+    public const int LearnedDrives = 3;
+
+    public static void Run(int runs, bool onlyFaultyStreams = false, string? onlyCases = null, string? mode = null)
     {
         _onlyCases = onlyCases;
-        var processor = new TrackProcessor(new TrackOptions(), NoiseProfile.DeliveryVan with { GnssErrorIdentification = fitted || NoiseProfile.DeliveryVan.GnssErrorIdentification });
+        if (mode is not (null or "" or "fitted" or "fixed" or "matched" or "learned"))
+        {
+            throw new ArgumentException($"mode '{mode}' is none of fitted, fixed, matched, learned", nameof(mode));
+        }
+
+        bool matched = mode == "matched", learned = mode == "learned";
+        bool fit = mode switch
+        {
+            "fixed" => false,
+            "fitted" or "learned" => true,
+            _ => NoiseProfile.DeliveryVan.GnssErrorIdentification,
+        };
+        var processor = new TrackProcessor(new TrackOptions(), NoiseProfile.DeliveryVan with { GnssErrorIdentification = fit });
         Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
-            $"filter defaults: correlated share {processor.Profile.GnssCorrelatedFraction}, time constant {processor.Profile.GnssErrorTimeConstantS} s, fitted per receiver: {processor.Profile.GnssErrorIdentification}{(matched ? "; the grid's cells with the receiver's own values" : "")}; {runs} seeds per case"));
+            $"filter defaults: correlated share {processor.Profile.GnssCorrelatedFraction}, time constant {processor.Profile.GnssErrorTimeConstantS} s, fitted per receiver: {processor.Profile.GnssErrorIdentification}{(matched ? "; the grid's cells with the receiver's own values" : "")}{(learned ? $"; the grid's drives start from the fit of {LearnedDrives} earlier rounds of their receiver" : "")}; {runs} seeds per case"));
         Console.WriteLine("case                         in95 filtered   in95 smoothed  NEES filt  NEES smooth  RMSE raw  filt  smooth  GNSS-only (m)  clean fixes gated  jumps gated  resets  isolated (drives, first after)  fitted f / tau (median of drives' final)");
         if (onlyFaultyStreams)
         {
@@ -58,11 +75,15 @@ internal static class ConsistencyReport
                 TrackProcessor cellProcessor = matched
                     ? new TrackProcessor(processor.Options, processor.Profile with { GnssCorrelatedFraction = share, GnssErrorTimeConstantS = tauS })
                     : processor;
-                Report(label, cellProcessor, Enumerable.Range(0, runs).Select(r =>
+                RealisticDrive Cell(int seed)
                 {
-                    RealisticDrive d = RealisticDrives.CleanSky(1201 + (r * 100));
+                    RealisticDrive d = RealisticDrives.CleanSky(seed);
                     return d with { Suite = d.Suite with { GnssCorrelationTauS = tauS, GnssCorrelatedVarianceFraction = share } };
-                }));
+                }
+
+                // The earlier rounds: other routes and seeds (1251 + 100 r + j, never an evaluated seed), the same receiver.
+                Report(label, cellProcessor, Enumerable.Range(0, runs).Select(r => Cell(1201 + (r * 100))),
+                    earlier: learned ? d => Enumerable.Range(0, LearnedDrives).Select(j => Cell(d.Seed + 50 + j)) : null);
             }
         }
 
@@ -107,11 +128,16 @@ internal static class ConsistencyReport
             ? Measurement.GnssVelocity(m.TimeUs, m.MessageKey, m.Value0, double.NaN, m.Value2) : m);
     }
 
+    /// <summary>The state a drive starts from: empty, or in the learned mode the fit of its receiver's earlier rounds.</summary>
+    private static TrackState Learned(TrackProcessor processor, RealisticDrive drive, Func<RealisticDrive, IEnumerable<RealisticDrive>>? earlier) =>
+        earlier is null ? TrackState.Empty : TrackReplay.StartAfter(processor, earlier(drive).Select(d => d.Generate().Measurements));
+
     // Cases whose label contains this text are run, all when null (third argument of the command).
     private static string? _onlyCases;
 
     private static void Report(
-        string label, TrackProcessor processor, IEnumerable<RealisticDrive> drives, Func<Measurement, Measurement?>? alter = null)
+        string label, TrackProcessor processor, IEnumerable<RealisticDrive> drives, Func<Measurement, Measurement?>? alter = null,
+        Func<RealisticDrive, IEnumerable<RealisticDrive>>? earlier = null)
     {
         if (_onlyCases is { } only && !label.Contains(only, StringComparison.Ordinal))
         {
@@ -153,7 +179,7 @@ internal static class ConsistencyReport
             List<Measurement> measurements = alter is null
                 ? [.. run.Measurements]
                 : [.. run.Measurements.Select(alter).Where(m => m is not null).Select(m => m!.Value)];
-            ReplayResult replay = TrackReplay.Run(processor, TrackState.Empty, measurements);
+            ReplayResult replay = TrackReplay.Run(processor, Learned(processor, drive, earlier), measurements);
             GnssErrorVariogram fit = replay.Final.GnssErrorFit;
             fittedShares.Add(fit.HasEstimate ? fit.Share : processor.Profile.GnssCorrelatedFraction);
             fittedTimeConstantsS.Add(fit.HasEstimate ? fit.TimeConstantS : processor.Profile.GnssErrorTimeConstantS);

@@ -57,8 +57,7 @@ if (args.Length > 0 && string.Equals(args[0], "consistency", StringComparison.Or
         args.Length > 1 ? int.Parse(args[1], System.Globalization.CultureInfo.InvariantCulture) : 64,
         onlyFaultyStreams: args.Length > 2 && string.Equals(args[2], "faulty", StringComparison.Ordinal),
         onlyCases: args.Length > 2 && !string.Equals(args[2], "faulty", StringComparison.Ordinal) && args[2].Length > 0 ? args[2] : null,
-        fitted: args.Length > 3 && string.Equals(args[3], "fitted", StringComparison.Ordinal),
-        matched: args.Length > 3 && string.Equals(args[3], "matched", StringComparison.Ordinal));
+        mode: args.Length > 3 ? args[3] : null);
     return;
 }
 

@@ -5,4 +5,8 @@ namespace FusionService.Estimation.Measurements;
 /// <param name="LatitudeDeg">Latitude, degrees.</param>
 /// <param name="LongitudeDeg">Longitude, degrees.</param>
 /// <param name="AccuracyM">1-sigma per-axis horizontal accuracy, metres (stored in single precision).</param>
-public readonly record struct GnssFixView(double LatitudeDeg, double LongitudeDeg, float AccuracyM);
+/// <param name="AccuracyFromHdop">
+/// Whether <paramref name="AccuracyM"/> was derived from HDOP × an assumed UERE (<see cref="HorizontalAccuracy.FromHdop"/>)
+/// rather than stated by the receiver: its scale is then the assumption's, not the receiver's.
+/// </param>
+public readonly record struct GnssFixView(double LatitudeDeg, double LongitudeDeg, float AccuracyM, bool AccuracyFromHdop = false);

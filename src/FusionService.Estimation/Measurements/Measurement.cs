@@ -60,7 +60,9 @@ public readonly record struct Measurement
 
     /// <summary>
     /// Third stored value, for serialisers only (see <see cref="Value0"/>). GnssPosition: 1-sigma per-axis horizontal
-    /// accuracy, metres. GnssVelocity: 1-sigma speed accuracy, m/s. Otherwise 0.
+    /// accuracy, metres, negated when it was derived from HDOP × an assumed UERE rather than stated by the receiver
+    /// (<see cref="GnssFixView.AccuracyFromHdop"/>; values stored before that mark existed are all positive).
+    /// GnssVelocity: 1-sigma speed accuracy, m/s. Otherwise 0.
     /// </summary>
     public float Value2 { get; }
 
@@ -73,7 +75,7 @@ public readonly record struct Measurement
     public static ulong OrderKeyOf(SensorKind kind, ulong messageKey) => ((ulong)kind << 56) | messageKey;
 
     /// <summary>The values of a <see cref="SensorKind.GnssPosition"/> fix by name (the slots read as that kind; the caller checks <see cref="Kind"/>).</summary>
-    public GnssFixView AsGnssFix() => new(Value0, Value1, Value2);
+    public GnssFixView AsGnssFix() => new(Value0, Value1, Math.Abs(Value2), Value2 < 0);
 
     /// <summary>The values of a <see cref="SensorKind.GnssVelocity"/> measurement by name (the caller checks <see cref="Kind"/>).</summary>
     public GnssVelocityView AsGnssVelocity() => new(Value0, Value1, Value2);
@@ -109,12 +111,15 @@ public readonly record struct Measurement
     /// <param name="latitudeDeg">Latitude, degrees, in [-90, 90].</param>
     /// <param name="longitudeDeg">Longitude, degrees, in [-180, 180].</param>
     /// <param name="sigmaM">1-sigma per-axis horizontal accuracy, metres, positive (see <see cref="HorizontalAccuracy"/>).</param>
-    public static Measurement GnssPosition(long timeUs, ulong messageKey, double latitudeDeg, double longitudeDeg, double sigmaM)
+    /// <param name="sigmaFromHdop">Whether <paramref name="sigmaM"/> was derived from the fix's HDOP and an assumed UERE
+    /// (<see cref="HorizontalAccuracy.FromHdop"/>) rather than stated by the receiver.</param>
+    public static Measurement GnssPosition(long timeUs, ulong messageKey, double latitudeDeg, double longitudeDeg, double sigmaM, bool sigmaFromHdop = false)
     {
         RequireRange(latitudeDeg, -90, 90, nameof(latitudeDeg));
         RequireRange(longitudeDeg, -180, 180, nameof(longitudeDeg));
         RequirePositive(sigmaM, nameof(sigmaM));
-        return new Measurement(timeUs, messageKey, latitudeDeg, longitudeDeg, (float)sigmaM, SensorKind.GnssPosition);
+        float stored = sigmaFromHdop ? -(float)sigmaM : (float)sigmaM;
+        return new Measurement(timeUs, messageKey, latitudeDeg, longitudeDeg, stored, SensorKind.GnssPosition);
     }
 
     /// <summary>GNSS speed and course over ground.</summary>

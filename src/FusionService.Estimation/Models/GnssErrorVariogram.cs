@@ -25,8 +25,9 @@ namespace FusionService.Estimation.Models;
 /// the way. A fit from a few stops scatters widely (τ from 38 to 152 s, 10th to 90th percentile, over 64 half-hour
 /// drives of a receiver with τ = 60 s), and a τ fitted too short makes the filter over-confident while one too long
 /// only makes it cautious; so the fit is cautious: the long-lag moment is lowered by <see cref="CautionStandardErrors"/>
-/// of its standard error before solving (0.25, chosen on `./build.sh bench consistency`: 0 left the smoothed ellipse at
-/// 94.1 % on the clean-sky drives, 0.5 raised it to 97.1 % and the τ = 20 s receivers to 97.7 %). The estimates are
+/// of its standard error before solving (0.25, chosen on `./build.sh bench consistency` when the prior weighed 4 long-lag
+/// terms: 0 left the smoothed ellipse at 94.1 % on the clean-sky drives, 0.5 raised it to 97.1 % and the τ = 20 s
+/// receivers to 97.7 %). The estimates are
 /// held inside <see cref="MinTimeConstantS"/>-<see cref="MaxTimeConstantS"/> and
 /// <see cref="MinShare"/>-<see cref="MaxShare"/> (widened to include the profile's values). The sums are scaled down
 /// once they hold more than <see cref="MaxLongPairs"/> long-lag samples, so a receiver whose error changes (a day in
@@ -54,8 +55,14 @@ public struct GnssErrorVariogram
     /// <summary>Pseudo-observations of the profile's values at the short lag (per axis).</summary>
     public const double PriorShortPairs = 40.0;
 
-    /// <summary>Pseudo-observations of the profile's values at the long lag (per axis).</summary>
-    public const double PriorLongPairs = 4.0;
+    /// <summary>
+    /// Pseudo-observations of the profile's values at the long lag (terms, both axes), about what an hour of delivery stops
+    /// gives: a half-hour round (24-60 terms) moves the fit about half way, and a track, which keeps its fit from round to
+    /// round, is its receiver's after a few. With 4, a fit from one round's few stops scattered (τ 10-300 s at the 10th
+    /// and 90th percentile over 64 rounds) and a τ fitted at 41 s set off 50 s of gated clean fixes after a multipath
+    /// episode in one of four test drives (`MultipathEpisodeTests`); with 40 those drives gate as with the fixed model.
+    /// </summary>
+    public const double PriorLongPairs = 40.0;
 
     /// <summary>Long-lag samples (per axis, pooled) beyond which both sums are scaled down (exponential forgetting).</summary>
     public const double MaxLongPairs = 400.0;

@@ -69,12 +69,11 @@ public sealed record NoiseProfile
     /// Whether each track fits its receiver's correlated share and time constant from the fixes it reports while the
     /// vehicle stands (<see cref="GnssErrorVariogram"/>), starting from <see cref="GnssCorrelatedFraction"/> and
     /// <see cref="GnssErrorTimeConstantS"/> and held within 0.3-0.97 and 10-300 s; false keeps the profile's values for
-    /// the whole track. Default false: one fixed pair does not hold the 95 % ellipse over receivers with time constants
-    /// of 20-120 s (84.4-99.6 %) and the fit brings that grid to 92.1-97.4 %, but with it a receiver reporting only HDOP
-    /// fell to 91.5 %, the smoothed ellipse of three clean-sky drives to 91.2 %, and a drive with a wrong gyro lost
-    /// more accuracy than allowed (docs/estimation.md, "Each receiver's own share and time constant").
+    /// the whole track. Default true: one fixed pair does not hold the 95 % ellipse over receivers with time constants of
+    /// 20-120 s and shares of 50-95 %, a fit does, once the track has seen a few rounds of stops (docs/estimation.md,
+    /// "Each receiver's own share and time constant"). Fixes whose accuracy came from HDOP are not fitted.
     /// </summary>
-    public bool GnssErrorIdentification { get; init; }
+    public bool GnssErrorIdentification { get; init; } = true;
 
     /// <summary>The delivery-van defaults.</summary>
     public static NoiseProfile DeliveryVan { get; } = new();

@@ -50,4 +50,41 @@ public static class TrackReplay
         var smoothed = recorder.Segments.Select(RauchTungStriebelSmoother.Smooth).ToList();
         return new ReplayResult(recorder.Segments, smoothed, outcomes, state);
     }
+
+    /// <summary>
+    /// The state a vehicle's track starts a round from after <paramref name="earlierRounds"/>: empty but for the receiver
+    /// fit (<see cref="Models.GnssErrorVariogram"/>) the track made over those rounds, filtered one after another, each
+    /// from an empty state but for that fit, whose chains of pairs are broken between rounds as when the van moves off.
+    /// A track keeps its fit from day to day (it is part of the checkpointed state), so this is where a van's later
+    /// rounds start from; tests and benchmarks use it to judge the fit once it has learned its receiver.
+    /// </summary>
+    /// <param name="processor">Options, noise profile and gate.</param>
+    /// <param name="earlierRounds">The earlier rounds' measurements, oldest first.</param>
+    public static TrackState StartAfter(TrackProcessor processor, IEnumerable<IEnumerable<Measurement>> earlierRounds)
+    {
+        ArgumentNullException.ThrowIfNull(processor);
+        ArgumentNullException.ThrowIfNull(earlierRounds);
+        Models.GnssErrorVariogram fit = default;
+        foreach (IEnumerable<Measurement> round in earlierRounds)
+        {
+            var sorted = round.ToList();
+            sorted.Sort((a, b) => VehicleTrack.CompareKey(a, b));
+            TrackState state = TrackState.Empty;
+            state.GnssErrorFit = fit;
+            for (int i = 0; i < sorted.Count; i++)
+            {
+                if (i == 0 || VehicleTrack.CompareKey(sorted[i - 1], sorted[i]) != 0)
+                {
+                    VehicleTrack.ProcessOrSkip(processor, ref state, sorted[i], null);
+                }
+            }
+
+            fit = state.GnssErrorFit;
+            fit.Break();
+        }
+
+        TrackState start = TrackState.Empty;
+        start.GnssErrorFit = fit;
+        return start;
+    }
 }

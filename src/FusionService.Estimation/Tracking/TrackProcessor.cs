@@ -659,7 +659,7 @@ public sealed class TrackProcessor
         }
 
         var fix = new HeldFix(true, m.TimeUs, enu.EastM, enu.NorthM, sigma);
-        IdentifyGnssError(ref s, fix, accepted);
+        IdentifyGnssError(ref s, fix, accepted && !gnssFix.AccuracyFromHdop);
         if (accepted)
         {
             s.MultipathSteps.AddPull(s.X[EastM] - eastBefore, s.X[NorthM] - northBefore);
@@ -713,7 +713,11 @@ public sealed class TrackProcessor
 
     /// <summary>
     /// Feeds the receiver's error fit (<see cref="GnssErrorVariogram"/>) with an accepted fix of a standing vehicle; any
-    /// other fix ends its chains of pairs.
+    /// other fix ends its chains of pairs. A fix whose accuracy was derived from HDOP × an assumed UERE is not offered
+    /// (<paramref name="accepted"/> false): the fit divides each difference by the stated variance, so a UERE that is
+    /// a few per cent off reads as a shorter, whiter error (a receiver whose true error was 6 % above HDOP × UERE was
+    /// fitted to f 0.72, τ 59 s where its error had 0.75, 60 s, and its ellipse held 92.6 / 91.5 %;
+    /// `./build.sh bench consistency 64 hdop fitted`, docs/estimation.md).
     /// </summary>
     private void IdentifyGnssError(ref TrackState s, HeldFix fix, bool accepted)
     {

@@ -51,7 +51,8 @@ internal static class TrackPointSources
                 segment++;
             }
 
-            double sigma = s.V2 ?? double.NaN;
+            // Negated when derived from HDOP (Measurement.Value2); the accuracy itself is the magnitude.
+            double sigma = Math.Abs(s.V2 ?? double.NaN);
             var ellipse = double.IsFinite(sigma) && sigma > 0 ? ErrorEllipse.FromCovariance(sigma * sigma, sigma * sigma, 0) : default;
             pending = new TrackPoint(
                 s.TimeUs, s.V0, s.V1 ?? double.NaN, null, null, ellipse.SemiMajorM, ellipse.SemiMinorM, ellipse.OrientationRad * RadToDeg, segment,

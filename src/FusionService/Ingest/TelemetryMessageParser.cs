@@ -153,12 +153,12 @@ public sealed partial class TelemetryMessageParser(IngestOptions options, long m
         }
 
         var dropped = new List<DroppedField>();
-        double sigmaM = ParsePositionSigma(m, dropped);
+        (double sigmaM, bool sigmaFromHdop) = ParsePositionSigma(m, dropped);
         var (speed, courseRad, speedSigma) = ParseVelocity(m, dropped);
         ulong key = id is null
             ? MessageKeys.FromContent("gnss", timeUs, [lat, lon, sigmaM, speed ?? double.NaN, courseRad, speed is null ? double.NaN : speedSigma])
             : MessageKeys.FromId(id);
-        var position = Measurement.GnssPosition(timeUs, key, lat, lon, sigmaM);
+        var position = Measurement.GnssPosition(timeUs, key, lat, lon, sigmaM, sigmaFromHdop);
         Measurement[] measurements = speed is double s
             ? [position, Measurement.GnssVelocity(timeUs, key, s, courseRad, speedSigma)]
             : [position];
@@ -166,8 +166,9 @@ public sealed partial class TelemetryMessageParser(IngestOptions options, long m
     }
 
     // The position needs an accuracy: a bad accuracy_m (or, without it, a bad hdop) rejects the message. An hdop given
-    // beside accuracy_m is not used, so a bad one is only dropped.
-    private double ParsePositionSigma(JsonElement m, List<DroppedField> dropped)
+    // beside accuracy_m is not used, so a bad one is only dropped. Returns the 1-sigma per-axis accuracy and whether it
+    // came from the hdop (HDOP × the configured UERE: its scale is an assumption, Measurement.GnssPosition says so).
+    private (double SigmaM, bool FromHdop) ParsePositionSigma(JsonElement m, List<DroppedField> dropped)
     {
         if (IsGiven(m, "accuracy_m"))
         {
@@ -196,7 +197,7 @@ public sealed partial class TelemetryMessageParser(IngestOptions options, long m
                 dropped.Add(new DroppedField("hdop", HdopRange + "; not needed, accuracy_m gives the accuracy"));
             }
 
-            return HorizontalAccuracy.ToSigmaPerAxisM(value, convention);
+            return (HorizontalAccuracy.ToSigmaPerAxisM(value, convention), false);
         }
 
         if (IsGiven(m, "hdop"))
@@ -207,7 +208,7 @@ public sealed partial class TelemetryMessageParser(IngestOptions options, long m
                 throw new FieldException("hdop", HdopRange);
             }
 
-            return HorizontalAccuracy.FromHdop(dop, options.HdopUereM);
+            return (HorizontalAccuracy.FromHdop(dop, options.HdopUereM), true);
         }
 
         throw new FieldException("accuracy_m", "is required (or give hdop)");

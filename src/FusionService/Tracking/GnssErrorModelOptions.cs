@@ -9,8 +9,8 @@ namespace FusionService.Tracking;
 /// Gauss-Markov part (a share of the reported accuracy's variance, correlated over a time constant) plus a white part
 /// (docs/estimation.md, "Time-correlated GNSS error"). The defaults suit consumer receivers; a fleet whose receivers
 /// differ holds its 95 % ellipses only with its own values (one fixed pair held 84.4-99.6 % over receivers with time
-/// constants of 20-120 s and shares of 50-95 %), which `FitPerVehicle` finds per track from the fixes of a standing
-/// vehicle. A change applies to the tracks after the next start of the service and to every replay after it (smoothed
+/// constants of 20-120 s and shares of 50-95 %), which `FitPerVehicle` (on by default) finds per track from the fixes of
+/// a standing vehicle. A change applies to the tracks after the next start of the service and to every replay after it (smoothed
 /// tracks, explanations): stored outcomes keep the model they were judged with.
 /// </summary>
 public sealed class GnssErrorModelOptions
@@ -34,9 +34,10 @@ public sealed class GnssErrorModelOptions
 
     /// <summary>
     /// Whether each track fits its receiver's share and time constant from the fixes it reports while the vehicle stands,
-    /// starting from the two values above. Default false: on invented drives it held receivers unlike the defaults far
-    /// better, but an HDOP-only receiver whose stated accuracy was 6 % too small fell out of the 95 % band with it, and a
-    /// fit from a few stops scatters (docs/estimation.md, "Each receiver's own share and time constant").
+    /// starting from the two values above and keeping the fit from round to round. Default true: one fixed pair does not
+    /// hold the 95 % ellipse over receivers unlike it, the fit does once it has seen a few rounds of stops; a receiver
+    /// that reports only HDOP keeps the two values above (docs/estimation.md, "Each receiver's own share and time
+    /// constant"). False pins every track to the two values.
     /// </summary>
     public bool FitPerVehicle { get; set; } = NoiseProfile.DeliveryVan.GnssErrorIdentification;
 

@@ -18,17 +18,25 @@ namespace FusionService.Estimation.Tests.Consistency;
 /// other scenarios are measured by `./build.sh bench consistency`, docs/estimation.md). Before the correlated error was
 /// modelled, the same kind of drive gave 26-52 %.
 /// </summary>
+/// <remarks>
+/// Sixteen drives: a half-hour drive holds only about 15 independent stretches of an error correlated over a minute, so
+/// one drive's containment is a coarse sample (on the first three of these drives the smoothed ellipse held 100, 82.6
+/// and 100 % with the fixed error model, 100, 73.9 and 100 % with the per-receiver fit); three drives, as this test had,
+/// judged mostly one of them.
+/// </remarks>
 public sealed class CorrelatedGnssContainmentTests(ITestOutputHelper output)
 {
     // Upper 5 % point of chi-square with 2 dof, -2 ln 0.05 (NIST/SEMATECH handbook 1.3.6.7.4; derived).
     private const double Inside95 = 5.991464547107979;
+
+    private const int Drives = 16;
 
     [Fact]
     public void Issue12_truth_lies_inside_the_95_percent_ellipse_on_correlated_clean_sky_drives()
     {
         var processor = new TrackProcessor(new TrackOptions(), NoiseProfile.DeliveryVan);
         long filtered = 0, filteredInside = 0, smoothed = 0, smoothedInside = 0;
-        for (int r = 0; r < 3; r++)
+        for (int r = 0; r < Drives; r++)
         {
             ScenarioRun run = RealisticDrives.CleanSky(1201 + (r * 100)).Generate();
             ReplayResult replay = TrackReplay.Run(processor, TrackState.Empty, run.Measurements);
@@ -59,7 +67,7 @@ public sealed class CorrelatedGnssContainmentTests(ITestOutputHelper output)
 
         double filteredShare = (double)filteredInside / filtered, smoothedShare = (double)smoothedInside / smoothed;
         output.WriteLine($"inside the 95 % ellipse: filtered {filteredShare:P1} of {filtered} s, smoothed {smoothedShare:P1} of {smoothed} s");
-        Assert.True(filtered > 3000 && smoothed > 3000, "too few whole-second states compared");
+        Assert.True(filtered > Drives * 1000 && smoothed > Drives * 1000, "too few whole-second states compared");
         Assert.True(filteredShare >= 0.93, $"filtered containment {filteredShare:P1}");
         Assert.True(smoothedShare >= 0.93, $"smoothed containment {smoothedShare:P1}");
     }

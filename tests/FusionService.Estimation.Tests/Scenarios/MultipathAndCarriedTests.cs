@@ -174,7 +174,9 @@ public class MultipathAndCarriedTests
             Measurement m = withHdop.Measurements[i];
             if (m.Kind == SensorKind.GnssPosition)
             {
-                AssertNear.Equal(2.828427, m.Value2, 1e-6, "reported sigma (m)");
+                AssertNear.Equal(2.828427, m.AsGnssFix().AccuracyM, 1e-6, "reported sigma (m)");
+                Assert.True(m.AsGnssFix().AccuracyFromHdop, "the fix says its accuracy came from the HDOP");
+                Assert.False(without.Measurements[i].AsGnssFix().AccuracyFromHdop, "a stated accuracy is not marked");
                 Assert.Equal(without.Measurements[i].Value0, m.Value0);
                 Assert.Equal(without.Measurements[i].Value1, m.Value1);
             }

@@ -36,10 +36,10 @@ internal sealed class EvaluatorRun : ITrackObserver
         return (truth, suite);
     }
 
-    public static List<AlertObservation> Run(IEnumerable<Measurement> measurements, AlertRuleSettings? settings = null)
+    public static List<AlertObservation> Run(IEnumerable<Measurement> measurements, AlertRuleSettings? settings = null, NoiseProfile? profile = null)
     {
         var run = new EvaluatorRun(settings ?? AlertRuleSettings.Default);
-        var track = new VehicleTrack(new TrackOptions(), NoiseProfile.DeliveryVan);
+        var track = new VehicleTrack(new TrackOptions(), profile ?? NoiseProfile.DeliveryVan);
         int n = 0;
         foreach (var m in measurements)
         {

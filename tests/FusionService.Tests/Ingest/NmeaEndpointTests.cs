@@ -74,14 +74,15 @@ public sealed class NmeaEndpointTests(ServiceFixture fixture)
 
         // Durability: after the 200 the fixes are in PostgreSQL, worked by hand: 4612.345,N = 46 + 12.345/60 deg,
         // 00828.278,E = 8 + 28.278/60 deg, 15.5 kn = 15.5 x 1852/3600 m/s, course 92.4 deg; accuracy 1-sigma per axis =
-        // HDOP x UERE / sqrt(2) with the default UERE of 5 m (HDOP x UERE is DRMS = sqrt(2) sigma; derived).
+        // HDOP x UERE / sqrt(2) with the default UERE of 5 m (HDOP x UERE is DRMS = sqrt(2) sigma; derived), stored negated
+        // because it came from the HDOP (Measurement.Value2).
         var rows = await RowsAsync(fleet.Id, "van-nmea");
         Assert.Equal(6, rows.Count);
         long epoch1 = (new DateTimeOffset(t).UtcTicks - DateTime.UnixEpoch.Ticks) / 10;
         var position = rows.Single(r => r.Kind == 0 && r.TimeUs == epoch1);
         AssertNear.Equal(46 + (12.345 / 60), position.V0, 1e-12, "latitude (deg)");
         AssertNear.Equal(8 + (28.278 / 60), position.V1, 1e-12, "longitude (deg)");
-        AssertNear.Equal(1.2 * 5.0 / Math.Sqrt(2), position.V2, 1e-6, "1-sigma accuracy (m)");
+        AssertNear.Equal(-1.2 * 5.0 / Math.Sqrt(2), position.V2, 1e-6, "1-sigma accuracy (m), negated");
         var velocity = rows.Single(r => r.Kind == 1 && r.TimeUs == epoch1);
         AssertNear.Equal(15.5 * 1852 / 3600, velocity.V0, 1e-12, "speed (m/s)");
         AssertNear.Equal(92.4 * Math.PI / 180, velocity.V1, 1e-12, "course (rad)");

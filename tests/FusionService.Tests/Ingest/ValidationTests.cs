@@ -158,13 +158,14 @@ public sealed class ValidationTests(ServiceFixture fixture)
     public async Task Hdop_times_uere_is_the_drms()
     {
         // HDOP x UERE estimates DRMS (Misra and Enge, Global Positioning System, 2nd ed., ch. 6; from memory);
-        // sigma per axis = DRMS / sqrt(2) (derived). Default UERE 5 m.
+        // sigma per axis = DRMS / sqrt(2) (derived). Default UERE 5 m. Stored negated: it came from the HDOP
+        // (Measurement.Value2), so SQL by hand reads abs(v2).
         var fleet = await fixture.NewFleetAsync();
         using var client = fixture.Client(fleet.IngestKey);
         await client.IngestOkAsync("[{\"vehicle\":\"v1\",\"kind\":\"gnss\",\"time\":\"" + Now(-2) + "\",\"lat_deg\":45,\"lon_deg\":7,\"hdop\":1.2}]");
         await using var connection = await fixture.Store.OpenConnectionAsync();
         await using var command = new Npgsql.NpgsqlCommand("SELECT v2 FROM measurements WHERE fleet_id = $1", connection);
         command.Parameters.Add(new Npgsql.NpgsqlParameter { Value = fleet.Id });
-        AssertNear.Equal(1.2 * 5.0 / Math.Sqrt(2), (double)(await command.ExecuteScalarAsync())!, 1e-5, "sigma per axis (m)");
+        AssertNear.Equal(-1.2 * 5.0 / Math.Sqrt(2), (double)(await command.ExecuteScalarAsync())!, 1e-5, "sigma per axis (m), negated");
     }
 }

@@ -18,11 +18,11 @@ public sealed class GnssErrorModelOptionsTests(ServiceFixture fixture)
         {
             ["GnssErrorModel:CorrelatedShare"] = "0.9",
             ["GnssErrorModel:TimeConstantS"] = "120",
-            ["GnssErrorModel:FitPerVehicle"] = "true",
+            ["GnssErrorModel:FitPerVehicle"] = "false",
         });
         using var client = configured.CreateClient();
         NoiseProfile profile = configured.Services.GetRequiredService<TrackProcessor>().Profile;
-        // And a vehicle's state says which model its track uses (no stop yet, so no fit of its own).
+        // And a vehicle's state says which model its track uses (the fit off, and no stop yet either).
         var fleet = await fixture.NewFleetAsync();
         await fixture.Client(fleet.IngestKey, configured).IngestOkAsync(StartingFixes.Two("van-model"));
         await configured.Services.GetRequiredService<TrackWriteQueue>().FlushAsync(CancellationToken.None);
@@ -30,7 +30,7 @@ public sealed class GnssErrorModelOptionsTests(ServiceFixture fixture)
         Assert.Equal(new GnssErrorModelResponse(0.9, 120.0, Fitted: false), state.GnssErrorModel);
         Assert.Equal(0.9, profile.GnssCorrelatedFraction);
         Assert.Equal(120.0, profile.GnssErrorTimeConstantS);
-        Assert.True(profile.GnssErrorIdentification);
+        Assert.False(profile.GnssErrorIdentification);
         // The rest of the profile is the delivery van's.
         Assert.Equal(NoiseProfile.DeliveryVan.GyroSigmaRps, profile.GyroSigmaRps);
         Assert.Equal(NoiseProfile.DeliveryVan.WheelSpeedSigmaMps, profile.WheelSpeedSigmaMps);
