@@ -37,7 +37,7 @@ from=$(date -u -d '-10 hours' +%Y-%m-%dT%H:%M:%SZ); to=$(date -u +%Y-%m-%dT%H:%M
 cluster_pids() { local pm; pm=$(head -1 "$work/pg/postmaster.pid"); echo "$pm $(pgrep -P "$pm" | tr '\n' ' ')"; }
 # A backend may end between the listing and the reading: it then counts 0.
 ticks() { local s=0 p v; for p in "$@"; do v=$(awk '{print $14 + $15}' "/proc/$p/stat" 2>/dev/null) || v=0; s=$((s + ${v:-0})); done; echo "$s"; }
-threads() { for t in /proc/"$pid"/task/*/stat; do cat "$t" 2>/dev/null; echo; done | python3 -c '
+threads() { for t in /proc/"$pid"/task/*/stat; do cat "$t" 2>/dev/null || true; echo; done | python3 -c '
 import sys
 for line in sys.stdin:
     if ")" not in line: continue
