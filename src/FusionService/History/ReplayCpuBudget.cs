@@ -82,7 +82,7 @@ internal sealed class ReplayCpuBudget
     }
 
     /// <summary>The processor time of the calling thread, seconds; null where it cannot be read.</summary>
-    private static double? ThreadCpuS()
+    internal static double? ThreadCpuS()
     {
         if (!OperatingSystem.IsLinux() || ClockGetTime(ClockThreadCpuTimeId, out Timespec t) != 0)
         {

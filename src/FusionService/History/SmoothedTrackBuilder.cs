@@ -1,5 +1,6 @@
 // Replays a vehicle's stored measurements and smooths them with the bounded-memory RTS smoother.
 using System.Collections.Concurrent;
+using System.Diagnostics;
 using FusionService.Database;
 using FusionService.Estimation.Measurements;
 using FusionService.Estimation.Smoothing;
@@ -52,6 +53,7 @@ internal sealed class SmoothedTrackBuilder(
         Guid fleetId, string vehicle, long fromUs, long toUs, long recordIntervalUs, bool keepDistanceInputs, CancellationToken cancellationToken)
     {
         using var span = FusionTelemetry.StartSmoothing(vehicle, fromUs, toUs);
+        long startedAt = Stopwatch.GetTimestamp();
         long leadUs = (long)Math.Round(options.Value.ReplayLeadHours * 3.6e9);
         long readFromUs = fromUs - leadUs;
         TrackState start = TrackState.Empty;
@@ -114,8 +116,29 @@ internal sealed class SmoothedTrackBuilder(
             }
         }
 
+        double stretchesMs = Stopwatch.GetElapsedTime(startedAt).TotalMilliseconds;
+        double smootherCpuMs = double.NaN;
         var segments = await LowPriorityThread.Run(
-            "fusion-smooth", heavyReads.Value.LowCpuPriority, () => CompactedTrackReplay.Smooth(passes), cancellationToken, logger).ConfigureAwait(false);
+            "fusion-smooth",
+            heavyReads.Value.LowCpuPriority,
+            () =>
+            {
+                double? cpuS = ReplayCpuBudget.ThreadCpuS();
+                var smoothed = CompactedTrackReplay.Smooth(passes);
+                smootherCpuMs = CpuMsSince(cpuS);
+                return smoothed;
+            },
+            cancellationToken,
+            logger).ConfigureAwait(false);
+        double totalMs = Stopwatch.GetElapsedTime(startedAt).TotalMilliseconds;
+        span?.SetTag("fusion.smoothing.stretches_done_ms", stretchesMs).SetTag("fusion.smoothing.done_ms", totalMs).SetTag("fusion.smoothing.backward_cpu_ms", smootherCpuMs);
+        if (logger.IsEnabled(LogLevel.Debug))
+        {
+            logger.LogDebug(
+                "Smoothed track of {Vehicle}: stretches done after {StretchesMs:F0} ms, smoothed after {TotalMs:F0} ms (backward pass {SmootherCpuMs:F0} ms of processor time)",
+                vehicle, stretchesMs, totalMs, smootherCpuMs);
+        }
+
         return new SmoothedTrack(segments, distanceInputs, floor is not null, carried);
     }
 
@@ -181,6 +204,10 @@ internal sealed class SmoothedTrackBuilder(
         // rows go over in chunks to a replay thread, so when a core is free the stretch takes about the longer of the
         // two instead of their sum (on a loaded machine little is gained: docs/benchmarks.md, smoothed track of a vehicle-day).
         using var span = FusionTelemetry.StartStretch(stretch.ReadFromUs);
+        long startedAt = Stopwatch.GetTimestamp();
+        double readMs = double.NaN;
+        double replayMs = double.NaN;
+        double replayCpuMs = double.NaN;
         List<Measurement> distanceInputs = [];
         using var chunks = new BlockingCollection<Chunk>();
         using var spare = new BlockingCollection<Measurement[]>();
@@ -193,14 +220,21 @@ internal sealed class SmoothedTrackBuilder(
         Task<ForwardPass> replay = LowPriorityThread.Run(
             "fusion-replay",
             heavyReads.Value.LowCpuPriority,
-            () => CompactedTrackReplay.Forward(
-                processor,
-                start,
-                Collect(chunks, spare, stretch.Floor, stretch.Ceiling, keepDistanceInputs ? distanceInputs : null, stretch.KeepsCheckpointed, cpuBudget, stop.Token),
-                recordIntervalUs,
-                discardBeforeUs: fromUs,
-                expectedInstants,
-                _pool),
+            () =>
+            {
+                double? cpuS = ReplayCpuBudget.ThreadCpuS();
+                var pass = CompactedTrackReplay.Forward(
+                    processor,
+                    start,
+                    Collect(chunks, spare, stretch.Floor, stretch.Ceiling, keepDistanceInputs ? distanceInputs : null, stretch.KeepsCheckpointed, cpuBudget, stop.Token),
+                    recordIntervalUs,
+                    discardBeforeUs: fromUs,
+                    expectedInstants,
+                    _pool);
+                replayCpuMs = CpuMsSince(cpuS);
+                replayMs = Stopwatch.GetElapsedTime(startedAt).TotalMilliseconds;
+                return pass;
+            },
             stop.Token,
             logger);
 
@@ -266,6 +300,8 @@ internal sealed class SmoothedTrackBuilder(
             {
                 chunks.Add(new Chunk(chunk, filled), stop.Token);
             }
+
+            readMs = Stopwatch.GetElapsedTime(startedAt).TotalMilliseconds;
         }
         catch (OperationCanceledException) when (replay.IsFaulted && !cancellationToken.IsCancellationRequested)
         {
@@ -289,8 +325,21 @@ internal sealed class SmoothedTrackBuilder(
             }
         }
 
-        return (await replay.ConfigureAwait(false), distanceInputs);
+        var result = await replay.ConfigureAwait(false);
+        span?.SetTag("fusion.smoothing.read_done_ms", readMs).SetTag("fusion.smoothing.replay_done_ms", replayMs).SetTag("fusion.smoothing.replay_cpu_ms", replayCpuMs);
+        if (logger.IsEnabled(LogLevel.Debug))
+        {
+            logger.LogDebug(
+                "Smoothing stretch from {ReadFromUs}: read done after {ReadMs:F0} ms, replay done after {ReplayMs:F0} ms with {ReplayCpuMs:F0} ms of processor time",
+                stretch.ReadFromUs, readMs, replayMs, replayCpuMs);
+        }
+
+        return (result, distanceInputs);
     }
+
+    /// <summary>Processor time of the calling thread since <paramref name="startS"/>, milliseconds; NaN where it cannot be read.</summary>
+    private static double CpuMsSince(double? startS) =>
+        startS is { } from && ReplayCpuBudget.ThreadCpuS() is { } now ? (now - from) * 1e3 : double.NaN;
 
     /// <summary>
     /// Smoothed instants a window can hold at most (one per interval, while data come), capped at
