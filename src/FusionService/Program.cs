@@ -87,12 +87,16 @@ if (!historyOnly)
 
 app.UseSwaggerUI(ui => ui.SwaggerEndpoint("/openapi/v1.json", "FusionService API v1"));
 app.MapOperationsEndpoints();
-app.MapHistoryEndpoints();
-app.MapAuditEndpoints();
 if (!historyOnly)
 {
     app.MapTelemetryEndpoints();
     app.MapVehicleEndpoints();
+}
+
+app.MapHistoryEndpoints();
+app.MapAuditEndpoints();
+if (!historyOnly)
+{
     app.MapNmeaEndpoints();
     app.MapAlertEndpoints();
     app.MapWebhookEndpoints();
@@ -100,6 +104,7 @@ if (!historyOnly)
     app.MapBaseLayerEndpoints();
     app.MapFleetEndpoints();
 }
+
 await app.RunAsync().ConfigureAwait(false);
 return 0;
 
