@@ -3,6 +3,7 @@
 #   ./build.sh test    restore, build, run every test suite; last line "N passed, N failed"
 #   ./build.sh run     the service with its own PostgreSQL under ./data/pg and the invented demo fleet feeding it
 #   ./build.sh serve   the service alone (no demo fleet)
+#   ./build.sh serve-history   beside run/serve: a history-read process on :5081 at a low processor weight
 #   ./build.sh bench   run the BenchmarkDotNet suite (see docs/benchmarks.md)
 #   ./build.sh load ... | alert-latency ...   load and measuring tools against a running service (tests/FusionService.LoadTools)
 #   ./build.sh cluster-bench [SECONDS]   ingest with 1, 2, 3 processes in cluster mode, and recovery after a kill -9
@@ -151,6 +152,20 @@ case "${1:-test}" in
     shift
     run_service "$@"
     ;;
+  serve-history)
+    # A process that answers only the history reads (Service:Role=HistoryReads) from the running service's embedded
+    # cluster (same data directory), in a session of its own at autogroup nice HISTORY_NICE (default 10, weight 110
+    # against 1,024), so that its smoothing replays wait while ingest runs (docs/limits-and-keys.md).
+    shift
+    ensure_prerequisites
+    export Service__Role=HistoryReads Orleans__GatewayPort=0
+    export Orleans__SiloPort="${Orleans__SiloPort:-11112}" ASPNETCORE_URLS="${ASPNETCORE_URLS:-http://127.0.0.1:5081}"
+    export Database__DataDirectory="${Database__DataDirectory:-$root/data/pg}"
+    dotnet build -c Release -nologo -v quiet src/FusionService
+    cd src/FusionService   # the same content root (appsettings.json) as run/serve's `dotnet run --project`
+    exec setsid sh -c 'echo "$0" > /proc/self/autogroup && exec dotnet "$@"' "${HISTORY_NICE:-10}" \
+      bin/Release/net10.0/FusionService.dll "$@"
+    ;;
   keys)
     # The same data directory as run/serve, so that the command finds the running service's embedded cluster.
     export Database__DataDirectory="${Database__DataDirectory:-$root/data/pg}"
@@ -174,7 +189,7 @@ case "${1:-test}" in
     tests/FusionService.Benchmarks/cluster-bench.sh "$@"
     ;;
   *)
-    echo "usage: ./build.sh [test|fault-harness|run|serve|keys create ...|load ...|alert-latency ...|bench [BenchmarkDotNet args]|cluster-bench [seconds]]" >&2
+    echo "usage: ./build.sh [test|fault-harness|run|serve|serve-history|keys create ...|load ...|alert-latency ...|bench [BenchmarkDotNet args]|cluster-bench [seconds]]" >&2
     exit 2
     ;;
 esac

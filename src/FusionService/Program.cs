@@ -37,6 +37,13 @@ if (demo)
     builder.Configuration.AddInMemoryCollection([new KeyValuePair<string, string?>("Demo:Enabled", "true")]);
 }
 
+// A history-read process (Service:Role=HistoryReads) answers only the reads, from the store the others write.
+bool historyOnly = ServiceRoleOptions.From(builder.Configuration).Role == ServiceRole.HistoryReads;
+if (historyOnly && demo)
+{
+    throw new InvalidOperationException("The demo needs a process with Service:Role=All: a history-read process takes no telemetry.");
+}
+
 builder.Services.AddSerilog((services, logger) => logger
     .ReadFrom.Configuration(builder.Configuration)
     .MinimumLevel.Override("Polly", LogEventLevel.Warning)
@@ -49,14 +56,14 @@ builder.Services.AddSerilog((services, logger) => logger
         formatProvider: System.Globalization.CultureInfo.InvariantCulture));
 
 // Hosted services start in this order and stop in reverse: store, writers, silo.
-builder.Services.AddFusionDatabase();
+builder.Services.AddFusionDatabase(historyOnly);
 builder.Services.AddFusionOperations();
 builder.AddFusionTelemetry();
 builder.Services.AddFusionIngest();
 builder.Services.AddFusionAudit();
-builder.AddFusionTracking();
+builder.AddFusionTracking(historyOnly);
 builder.Services.AddFusionSecurity();
-builder.Services.AddFusionAlerts();
+builder.Services.AddFusionAlerts(runsScansAndDeliveries: !historyOnly);
 builder.Services.AddProblemDetails();
 builder.Services.AddFusionDemo();
 builder.Services.AddFusionHistory();
@@ -72,20 +79,32 @@ builder.Services.ConfigureHttpJsonOptions(json =>
 var app = builder.Build();
 app.UseExceptionHandler();
 app.UseStatusCodePages();
-app.UseFusionDashboard();
-app.UseWebSockets();
+if (!historyOnly)
+{
+    app.UseFusionDashboard();
+    app.UseWebSockets();
+}
+
 app.UseSwaggerUI(ui => ui.SwaggerEndpoint("/openapi/v1.json", "FusionService API v1"));
 app.MapOperationsEndpoints();
-app.MapTelemetryEndpoints();
-app.MapVehicleEndpoints();
+if (!historyOnly)
+{
+    app.MapTelemetryEndpoints();
+    app.MapVehicleEndpoints();
+}
+
 app.MapHistoryEndpoints();
 app.MapAuditEndpoints();
-app.MapNmeaEndpoints();
-app.MapAlertEndpoints();
-app.MapWebhookEndpoints();
-app.MapLiveEndpoints();
-app.MapBaseLayerEndpoints();
-app.MapFleetEndpoints();
+if (!historyOnly)
+{
+    app.MapNmeaEndpoints();
+    app.MapAlertEndpoints();
+    app.MapWebhookEndpoints();
+    app.MapLiveEndpoints();
+    app.MapBaseLayerEndpoints();
+    app.MapFleetEndpoints();
+}
+
 await app.RunAsync().ConfigureAwait(false);
 return 0;
 

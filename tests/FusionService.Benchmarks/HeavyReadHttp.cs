@@ -10,7 +10,7 @@ namespace FusionService.Benchmarks;
 
 /// <summary>
 /// <c>heavy-read-http --url URL --ingest-key KEY --read-key KEY --metrics-key ADMIN_KEY_OR_TOKEN [--seconds 20]
-/// [--readers 5] [--posters 4] [--batch 315]</c>: posts the invented van day of <see cref="VanDayScenario"/> (ending 10
+/// [--readers 5] [--posters 4] [--batch 315] [--read-url URL]</c>: posts the invented van day of <see cref="VanDayScenario"/> (ending 10
 /// minutes ago), waits for the tracks, then runs the same ingest load twice for <c>seconds</c> each: alone, and beside
 /// <c>readers</c> clients that each ask for the van's smoothed track over its whole day (a 24 h window) again and again.
 /// The ingest load is <c>posters</c> clients, each posting batches of <c>batch</c> wheel-speed messages at 10 Hz (a van's
@@ -33,6 +33,12 @@ internal static class HeavyReadHttp
         int batch = int.Parse(options.GetValueOrDefault("batch", "315"), CultureInfo.InvariantCulture);
         string vehicle = "heavy-day-" + DateTime.UtcNow.ToString("HHmmss", CultureInfo.InvariantCulture);
         using var http = new HttpClient(new SocketsHttpHandler { MaxConnectionsPerServer = 64 }) { BaseAddress = baseUrl, Timeout = TimeSpan.FromMinutes(5) };
+        // The readers may ask another process of the same store (a history-read process, docs/limits-and-keys.md).
+        using var readHttp = new HttpClient(new SocketsHttpHandler { MaxConnectionsPerServer = 64 })
+        {
+            BaseAddress = options.TryGetValue("read-url", out string? readUrl) ? new Uri(readUrl) : baseUrl,
+            Timeout = TimeSpan.FromMinutes(5),
+        };
 
         var day = VanDayScenario.Instance.Measurements;
         long shiftUs = (DateTimeOffset.UtcNow.ToUnixTimeMilliseconds() * 1000) - 600_000_000 - day[^1].TimeUs;
@@ -108,7 +114,7 @@ internal static class HeavyReadHttp
                     using var request = new HttpRequestMessage(HttpMethod.Get, smoothed);
                     request.Headers.Authorization = new AuthenticationHeaderValue("Bearer", options["read-key"]);
                     var clock = Stopwatch.StartNew();
-                    using var response = await http.SendAsync(request);
+                    using var response = await readHttp.SendAsync(request);
                     await response.Content.ReadAsByteArrayAsync();
                     lock (answers)
                     {

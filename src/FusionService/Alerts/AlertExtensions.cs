@@ -16,8 +16,12 @@ public static class AlertExtensions
     /// <summary>Application name of the Data Protection key ring (the same in every process of the service).</summary>
     public const string DataProtectionApplicationName = "FusionService";
 
-    /// <summary>Adds the alert services (options <c>Alerts</c> and <c>Webhooks</c>, validated at start-up).</summary>
-    public static IServiceCollection AddFusionAlerts(this IServiceCollection services)
+    /// <summary>
+    /// Adds the alert services (options <c>Alerts</c> and <c>Webhooks</c>, validated at start-up); the webhook deliveries
+    /// and the silent-vehicle scan run only when <paramref name="runsScansAndDeliveries"/> (not in a history-read
+    /// process, which must not raise or deliver what the ingesting processes do).
+    /// </summary>
+    public static IServiceCollection AddFusionAlerts(this IServiceCollection services, bool runsScansAndDeliveries = true)
     {
         services.AddOptions<AlertOptions>().BindConfiguration(AlertOptions.Section).ValidateDataAnnotations().ValidateOnStart();
         services.AddOptions<WebhookOptions>().BindConfiguration(WebhookOptions.Section).ValidateDataAnnotations().ValidateOnStart();
@@ -61,8 +65,12 @@ public static class AlertExtensions
         services.AddSingleton<AlertRuleCache>();
         services.AddSingleton<WebhookDispatcher>();
         services.AddSingleton<AlertPublisher>();
-        services.AddHostedService(sp => sp.GetRequiredService<WebhookDispatcher>());
-        services.AddHostedService<VehicleSilenceScanner>();
+        if (runsScansAndDeliveries)
+        {
+            services.AddHostedService(sp => sp.GetRequiredService<WebhookDispatcher>());
+            services.AddHostedService<VehicleSilenceScanner>();
+        }
+
         return services;
     }
 }

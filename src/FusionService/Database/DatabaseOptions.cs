@@ -72,7 +72,7 @@ public sealed class DatabaseOptions
 
     /// <summary>
     /// Whether the history reads' PostgreSQL backends run at the lowest processor weight: on Linux, with the embedded
-    /// cluster only, the autogroup nice of each new backend of their pool is set to 19 (<c>/proc/PID/autogroup</c>; every
+    /// cluster only (the process's own, or in a history-read process the running service's it attaches to), the autogroup nice of each new backend of their pool is set to 19 (<c>/proc/PID/autogroup</c>; every
     /// backend is a session, and so an autogroup, of its own), so that they take a core only when ingest's backends and
     /// the service leave one (docs/limits-and-keys.md). Needs root or the cluster's owner; refused, it is logged once
     /// and the reads run as before. Default true.

@@ -23,6 +23,7 @@ public sealed class FusionDatabase : IAsyncDisposable
     private readonly ILoggerFactory _loggerFactory;
     private readonly ILogger<FusionDatabase> _logger;
     private EmbeddedPostgres? _embedded;
+    private bool _attachedToEmbedded;
     private NpgsqlDataSource? _dataSource;
     private NpgsqlDataSource? _readDataSource;
     private int _down;
@@ -68,12 +69,33 @@ public sealed class FusionDatabase : IAsyncDisposable
     /// cluster already running on <see cref="DatabaseOptions.DataDirectory"/> (a running service) is used instead of
     /// starting one (its port is read from <c>postmaster.pid</c>), and it is left running afterwards.
     /// </summary>
-    public async Task StartAsync(bool attachToRunningEmbedded, CancellationToken cancellationToken)
+    public Task StartAsync(bool attachToRunningEmbedded, CancellationToken cancellationToken) =>
+        StartAsync(attachToRunningEmbedded, requireRunning: false, cancellationToken);
+
+    /// <summary>
+    /// Connects to the server of <c>ConnectionStrings:Fusion</c> or, without one, to the embedded cluster a running
+    /// service keeps on <see cref="DatabaseOptions.DataDirectory"/> (a history-read process); never starts a server.
+    /// </summary>
+    /// <exception cref="InvalidOperationException">Without a connection string, when no server runs on the data directory.</exception>
+    public Task AttachAsync(CancellationToken cancellationToken) =>
+        StartAsync(attachToRunningEmbedded: true, requireRunning: true, cancellationToken);
+
+    private async Task StartAsync(bool attachToRunningEmbedded, bool requireRunning, CancellationToken cancellationToken)
     {
         var external = _configuration.GetConnectionString(ConnectionStringName);
+        if (string.IsNullOrWhiteSpace(external) && requireRunning
+            && RunningEmbeddedPort(Path.GetFullPath(_options.DataDirectory)) is null)
+        {
+            throw new InvalidOperationException(
+                $"No PostgreSQL server runs on Database:DataDirectory ({Path.GetFullPath(_options.DataDirectory)}) and "
+                + "ConnectionStrings:Fusion is not set: a history-read process (Service:Role=HistoryReads) reads the store of "
+                + "running service processes and never starts one of its own. Start the service first, or name its server.");
+        }
+
         if (string.IsNullOrWhiteSpace(external) && attachToRunningEmbedded
             && RunningEmbeddedPort(Path.GetFullPath(_options.DataDirectory)) is int port)
         {
+            _attachedToEmbedded = true;
             external = new NpgsqlConnectionStringBuilder
             {
                 Host = System.Net.IPAddress.Loopback.ToString(),
@@ -125,7 +147,7 @@ public sealed class FusionDatabase : IAsyncDisposable
         reads.Options = (string.IsNullOrEmpty(reads.Options) ? string.Empty : reads.Options + " ")
             + "-c statement_timeout=" + (_options.ReadStatementTimeoutS * 1000).ToString(System.Globalization.CultureInfo.InvariantCulture);
         var readBuilder = new NpgsqlDataSourceBuilder(reads.ConnectionString);
-        if (_options.LowReadBackendPriority && _embedded is not null && OperatingSystem.IsLinux()
+        if (_options.LowReadBackendPriority && (_embedded is not null || _attachedToEmbedded) && OperatingSystem.IsLinux()
             && PostmasterPid(Path.GetFullPath(_options.DataDirectory)) is int postmaster)
         {
             // Each new physical connection's backend gets the lowest weight of its own autogroup (BackendPriority).

@@ -20,9 +20,11 @@ public static class TrackingExtensions
     /// the same PostgreSQL into one cluster, its membership kept by <see cref="PostgresMembershipTable"/>. The grain
     /// directory stays Orleans' own in-memory distributed directory (the grains keep no Orleans state, so nothing
     /// else is shared). New activations prefer the silo that calls first: the process a vehicle's messages arrive at
-    /// hosts its track unless another already does.
+    /// hosts its track unless another already does. A history-read process (<paramref name="historyOnly"/>,
+    /// <c>Service:Role=HistoryReads</c>) joins no cluster: its silo is localhost-clustered, private to the process, and
+    /// hosts only its rate-limit buckets (it needs its own <c>Orleans:SiloPort</c> beside a service on the same machine).
     /// </summary>
-    public static WebApplicationBuilder AddFusionTracking(this WebApplicationBuilder builder)
+    public static WebApplicationBuilder AddFusionTracking(this WebApplicationBuilder builder, bool historyOnly = false)
     {
         ArgumentNullException.ThrowIfNull(builder);
         builder.Services.AddOptions<TrackGrainOptions>().BindConfiguration(TrackGrainOptions.Section).ValidateDataAnnotations().ValidateOnStart();
@@ -36,7 +38,8 @@ public static class TrackingExtensions
         builder.Services.AddSingleton<TrackDispatcher>();
         builder.Services.AddHostedService(sp => sp.GetRequiredService<TrackWriteQueue>());
         var settings = OrleansSiloSettings.From(builder.Configuration);
-        if (settings.Clustering == ClusteringMode.Postgres
+        var clustering = historyOnly ? ClusteringMode.Localhost : settings.Clustering;
+        if (clustering == ClusteringMode.Postgres
             && string.IsNullOrEmpty(builder.Configuration.GetConnectionString(FusionDatabase.ConnectionStringName)))
         {
             throw new InvalidOperationException(
@@ -60,7 +63,7 @@ public static class TrackingExtensions
             // goes on into the vehicle's grain. The filters run on every call; without a listener on the Orleans
             // sources (no OTLP endpoint configured) they start no span.
             silo.AddActivityPropagation();
-            if (settings.Clustering == ClusteringMode.Localhost)
+            if (clustering == ClusteringMode.Localhost)
             {
                 silo.UseLocalhostClustering();
                 return;
@@ -89,7 +92,7 @@ public static class TrackingExtensions
             var late = OrleansSiloSettings.From(configuration);
             endpoints.SiloPort = late.SiloPort;
             endpoints.GatewayPort = late.GatewayPort;
-            if (late.Clustering == ClusteringMode.Postgres && late.AdvertisedAddress is not null)
+            if (!historyOnly && late.Clustering == ClusteringMode.Postgres && late.AdvertisedAddress is not null)
             {
                 endpoints.AdvertisedIPAddress = System.Net.IPAddress.Parse(late.AdvertisedAddress);
             }

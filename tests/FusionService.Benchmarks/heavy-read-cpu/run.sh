@@ -9,6 +9,9 @@
 # and thread-pool counters from /metrics. PERF=1 also records `perf record -g -a` for 15 s of the second phase.
 # GCTRACE=1 also records the GC events of the service and of the load tool (EventPipe) and prints each one's pauses per
 # phase (gcsplit.py: count, total, largest, 99th percentile, time to suspend the threads).
+# READ_PROCESS=1 also starts a history-read process (Service:Role=HistoryReads) on 127.0.0.1:5092, attached to the
+# service's embedded cluster, in an autogroup of nice READ_NICE (default 10), and sends the readers
+# to it (docs/limits-and-keys.md, "A history-read process").
 # Listens on 127.0.0.1:5091; needs root (psql as postgres via runuser), curl, python3.
 set -u
 here=$(cd "$(dirname "$0")" && pwd)
@@ -26,6 +29,14 @@ for _ in $(seq 1 120); do curl -sf http://127.0.0.1:5091/health/ready >/dev/null
 key() { dotnet "$build/svc/FusionService.dll" keys create --fleet heavy --role "$1" 2>/dev/null | grep -i secret | awk '{print $NF}'; }
 I=$(key ingest); R=$(key read); A=$(key admin)
 port=$(sed -n 4p "$data/pg/postmaster.pid")
+readurl=()
+if [ -n "${READ_PROCESS:-}" ]; then
+  Service__Role=HistoryReads ASPNETCORE_URLS=http://127.0.0.1:5092 Orleans__SiloPort=11112 Orleans__GatewayPort=0 \
+    setsid sh -c 'echo $1 > /proc/self/autogroup; exec dotnet "$0"' "$build/svc/FusionService.dll" "${READ_NICE:-10}" > "$out/reader.log" 2>&1 &
+  reader=$!
+  for _ in $(seq 1 120); do curl -sf http://127.0.0.1:5092/health/ready >/dev/null 2>&1 && break; sleep 1; done
+  readurl=(--read-url http://127.0.0.1:5092)
+fi
 python3 $here/cpusample.py $svc "$out/cpu.jsonl" &
 sampler=$!
 # What the backends wait for, every 0.2 s (one psql session of its own, application_name wait-sampler).
@@ -40,11 +51,12 @@ if [ -n "${PERF:-}" ]; then
   ( while ! grep -q "ingest alone" "$out/tool.out" 2>/dev/null; do sleep 0.2; done; sleep 2
     perf record -F 499 -g -a -o "$out/perf.data" -- sleep 15 > /dev/null 2>&1 ) &
 fi
-env $(gctrace tool) dotnet "$build/bench/FusionService.Benchmarks.dll" heavy-read-http --url http://127.0.0.1:5091 --ingest-key "$I" --read-key "$R" --metrics-key "$A" "$@" 2>&1 | python3 $here/stamp.py > "$out/tool.out"
+env $(gctrace tool) dotnet "$build/bench/FusionService.Benchmarks.dll" heavy-read-http --url http://127.0.0.1:5091 "${readurl[@]}" --ingest-key "$I" --read-key "$R" --metrics-key "$A" "$@" 2>&1 | python3 $here/stamp.py > "$out/tool.out"
 { date -u +%FT%TZ; cat /proc/loadavg; } > "$out/end"
 curl -s -H "Authorization: Bearer $A" http://127.0.0.1:5091/metrics > "$out/metrics.txt"
 $PSQL -c "select pid from pg_stat_activity where application_name='fusion-history-reads'" > "$out/readpids"
 $PSQL -c "select pid from pg_stat_activity where backend_type='client backend' and application_name not in ('fusion-history-reads', 'wait-sampler')" > "$out/backpids"
+[ -n "${READ_PROCESS:-}" ] && { kill $reader; wait $reader 2>/dev/null; }
 kill $svc; wait $svc 2>/dev/null
 kill $sampler $scraper $waiter 2>/dev/null; wait $sampler $scraper $waiter 2>/dev/null
 rm -rf "$data"

@@ -53,6 +53,44 @@ public sealed class ComposeFileTests
         Assert.True(File.Exists(Path.Combine(Root, "deploy", "Dockerfile")));
     }
 
+    /// <summary>
+    /// The history reads go to a process the service itself accepts as a history-read process, on the replicas' store;
+    /// the proxy routes exactly the four history paths there (the routes of <c>HistoryEndpoints</c> and
+    /// <c>AuditEndpoints</c>).
+    /// </summary>
+    [Fact]
+    public void History_reads_go_to_a_history_read_process_on_the_same_store()
+    {
+        var services = Map(Load("docker-compose.yml"), "services");
+        var history = Map(services, "fusion-history");
+        var environment = Map(history, "environment");
+        var configuration = new ConfigurationBuilder()
+            .AddInMemoryCollection(environment.Children.Select(e => new KeyValuePair<string, string?>(
+                ((YamlScalarNode)e.Key).Value!.Replace("__", ":", StringComparison.Ordinal), ((YamlScalarNode)e.Value).Value)))
+            .Build();
+        Assert.Equal(FusionService.Operations.ServiceRole.HistoryReads, FusionService.Operations.ServiceRoleOptions.From(configuration).Role);
+        Assert.Equal(
+            Scalar(Map(Map(services, "fusionservice"), "environment"), "ConnectionStrings__Fusion"),
+            configuration.GetConnectionString("Fusion"));
+        Assert.Contains("fusion-history", Sequence(Map(services, "proxy"), "depends_on"));
+
+        string nginx = File.ReadAllText(Path.Combine(Root, "deploy", "nginx.conf"));
+        Assert.Contains("server fusion-history:8080;", nginx, StringComparison.Ordinal);
+        Assert.Contains("proxy_pass http://fusion-history;", nginx, StringComparison.Ordinal);
+        var route = System.Text.RegularExpressions.Regex.Match(nginx, @"location ~ (\S+) \{");
+        Assert.True(route.Success, "no regular-expression location in deploy/nginx.conf");
+        var pattern = new System.Text.RegularExpressions.Regex(route.Groups[1].Value);
+        foreach (string path in new[] { "/v1/vehicles/van-07/track", "/v1/vehicles/van-07/distance", "/v1/vehicles/van-07/diagnostics", "/v1/vehicles/van-07/explain" })
+        {
+            Assert.Matches(pattern, path);
+        }
+
+        foreach (string path in new[] { "/v1/vehicles", "/v1/vehicles/van-07", "/v1/telemetry", "/v1/vehicles/van-07/track/x", "/v1/alerts" })
+        {
+            Assert.DoesNotMatch(pattern, path);
+        }
+    }
+
     private static YamlMappingNode Load(string name)
     {
         var stream = new YamlStream();

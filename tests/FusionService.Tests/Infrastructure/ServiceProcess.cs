@@ -27,6 +27,9 @@ internal sealed class ServiceProcess : IDisposable
     /// <summary>The base address, <c>http://127.0.0.1:PORT</c>.</summary>
     public string Url { get; }
 
+    /// <summary>Every line the process wrote (standard output and error), in arrival order.</summary>
+    public System.Collections.Concurrent.ConcurrentQueue<string> Lines { get; } = new();
+
     /// <summary>The running (or exited) process of the newest start.</summary>
     public Process Process { get; private set; }
 
@@ -148,6 +151,11 @@ internal sealed class ServiceProcess : IDisposable
 
     private void Write(string prefix, string? line)
     {
+        if (line is not null)
+        {
+            Lines.Enqueue(line);
+        }
+
         if (line is null || _output is null)
         {
             return;
