@@ -3,7 +3,7 @@
 #   ./build.sh test    restore, build, run every test suite; last line "N passed, N failed"
 #   ./build.sh run     the service with its own PostgreSQL under ./data/pg and the invented demo fleet feeding it
 #   ./build.sh serve   the service alone (no demo fleet)
-#   ./build.sh serve-history   beside run/serve: a history-read process on :5081 at a low processor weight
+#   ./build.sh serve-history   beside run/serve: a history-read process on :5081 at the lowest processor weight
 #   ./build.sh bench   run the BenchmarkDotNet suite (see docs/benchmarks.md)
 #   ./build.sh load ... | alert-latency ...   load and measuring tools against a running service (tests/FusionService.LoadTools)
 #   ./build.sh cluster-bench [SECONDS]   ingest with 1, 2, 3 processes in cluster mode, and recovery after a kill -9
@@ -154,8 +154,8 @@ case "${1:-test}" in
     ;;
   serve-history)
     # A process that answers only the history reads (Service:Role=HistoryReads) from the running service's embedded
-    # cluster (same data directory), in a session of its own at autogroup nice HISTORY_NICE (default 10, weight 110
-    # against 1,024), so that its smoothing replays wait while ingest runs (docs/limits-and-keys.md).
+    # cluster (same data directory), in a session of its own at autogroup nice HISTORY_NICE (default 19, weight 15
+    # against 1,024), so that its smoothing replays give way to ingest (docs/limits-and-keys.md).
     shift
     ensure_prerequisites
     export Service__Role=HistoryReads Orleans__GatewayPort=0
@@ -163,7 +163,7 @@ case "${1:-test}" in
     export Database__DataDirectory="${Database__DataDirectory:-$root/data/pg}"
     dotnet build -c Release -nologo -v quiet src/FusionService
     cd src/FusionService   # the same content root (appsettings.json) as run/serve's `dotnet run --project`
-    exec setsid sh -c 'echo "$0" > /proc/self/autogroup && exec dotnet "$@"' "${HISTORY_NICE:-10}" \
+    exec setsid sh -c 'echo "$0" > /proc/self/autogroup && exec dotnet "$@"' "${HISTORY_NICE:-19}" \
       bin/Release/net10.0/FusionService.dll "$@"
     ;;
   keys)

@@ -6,8 +6,9 @@ namespace FusionService.Operations;
 /// </summary>
 /// <remarks>
 /// A history-read process takes the smoothing replays, the heaviest work of the service, off the processes that
-/// ingest: on another machine, or on the same one at a lower processor weight, it keeps their acknowledgements from
-/// waiting behind the reads (docs/limits-and-keys.md, "A history-read process"). Everything it answers is read from the
+/// ingest: on another machine entirely; on the same one, at the lowest processor weight, their acknowledgements wait
+/// less behind the reads than with the reads in their own process, but still wait (docs/limits-and-keys.md, "A
+/// history-read process"). Everything it answers is read from the
 /// store the ingesting processes write, so its answers are theirs. It joins no cluster: its Orleans silo is private
 /// (localhost clustering whatever <c>Orleans:ClusterMode</c> says) and hosts only its own rate-limit buckets, so its
 /// limits count per process. Without <c>ConnectionStrings:Fusion</c> it attaches to the embedded cluster a running

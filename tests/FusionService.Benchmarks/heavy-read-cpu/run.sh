@@ -10,7 +10,7 @@
 # GCTRACE=1 also records the GC events of the service and of the load tool (EventPipe) and prints each one's pauses per
 # phase (gcsplit.py: count, total, largest, 99th percentile, time to suspend the threads).
 # READ_PROCESS=1 also starts a history-read process (Service:Role=HistoryReads) on 127.0.0.1:5092, attached to the
-# service's embedded cluster, in an autogroup of nice READ_NICE (default 10), and sends the readers
+# service's embedded cluster, in an autogroup of nice READ_NICE (default 19), and sends the readers
 # to it (docs/limits-and-keys.md, "A history-read process").
 # Listens on 127.0.0.1:5091; needs root (psql as postgres via runuser), curl, python3.
 set -u
@@ -32,7 +32,7 @@ port=$(sed -n 4p "$data/pg/postmaster.pid")
 readurl=()
 if [ -n "${READ_PROCESS:-}" ]; then
   Service__Role=HistoryReads ASPNETCORE_URLS=http://127.0.0.1:5092 Orleans__SiloPort=11112 Orleans__GatewayPort=0 \
-    setsid sh -c 'echo $1 > /proc/self/autogroup; exec dotnet "$0"' "$build/svc/FusionService.dll" "${READ_NICE:-10}" > "$out/reader.log" 2>&1 &
+    setsid sh -c 'echo $1 > /proc/self/autogroup; exec dotnet "$0"' "$build/svc/FusionService.dll" "${READ_NICE:-19}" > "$out/reader.log" 2>&1 &
   reader=$!
   for _ in $(seq 1 120); do curl -sf http://127.0.0.1:5092/health/ready >/dev/null 2>&1 && break; sleep 1; done
   readurl=(--read-url http://127.0.0.1:5092)
