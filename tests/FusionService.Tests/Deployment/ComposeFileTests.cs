@@ -22,10 +22,7 @@ public sealed class ComposeFileTests
         var environment = Map(service, "environment");
 
         // The replicas' settings are ones the service itself accepts, in cluster mode.
-        var configuration = new ConfigurationBuilder()
-            .AddInMemoryCollection(environment.Children.Select(e => new KeyValuePair<string, string?>(
-                ((YamlScalarNode)e.Key).Value!.Replace("__", ":", StringComparison.Ordinal), ((YamlScalarNode)e.Value).Value)))
-            .Build();
+        var configuration = Configuration(environment);
         var orleans = OrleansSiloSettings.From(configuration);
         Assert.Equal(ClusteringMode.Postgres, orleans.Clustering);
         Assert.Contains(orleans.SiloPort.ToString(System.Globalization.CultureInfo.InvariantCulture), Sequence(service, "expose"));
@@ -64,10 +61,7 @@ public sealed class ComposeFileTests
         var services = Map(Load("docker-compose.yml"), "services");
         var history = Map(services, "fusion-history");
         var environment = Map(history, "environment");
-        var configuration = new ConfigurationBuilder()
-            .AddInMemoryCollection(environment.Children.Select(e => new KeyValuePair<string, string?>(
-                ((YamlScalarNode)e.Key).Value!.Replace("__", ":", StringComparison.Ordinal), ((YamlScalarNode)e.Value).Value)))
-            .Build();
+        var configuration = Configuration(environment);
         Assert.Equal(FusionService.Operations.ServiceRole.HistoryReads, FusionService.Operations.ServiceRoleOptions.From(configuration).Role);
         Assert.Equal(
             Scalar(Map(Map(services, "fusionservice"), "environment"), "ConnectionStrings__Fusion"),
@@ -90,6 +84,12 @@ public sealed class ComposeFileTests
             Assert.DoesNotMatch(pattern, path);
         }
     }
+
+    /// <summary>A compose service's environment as the service reads it (<c>A__B</c> is key <c>A:B</c>).</summary>
+    private static IConfiguration Configuration(YamlMappingNode environment) => new ConfigurationBuilder()
+        .AddInMemoryCollection(environment.Children.Select(e => new KeyValuePair<string, string?>(
+            ((YamlScalarNode)e.Key).Value!.Replace("__", ":", StringComparison.Ordinal), ((YamlScalarNode)e.Value).Value)))
+        .Build();
 
     private static YamlMappingNode Load(string name)
     {
