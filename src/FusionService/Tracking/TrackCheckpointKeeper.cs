@@ -10,8 +10,10 @@ namespace FusionService.Tracking;
 /// clock) or when the base has moved <see cref="TrackGrainOptions.HistoryCheckpointSpacingMin"/> past the newest one
 /// kept as history; it is taken at once but stored only after the write queue has written every verdict and fused
 /// state queued before it (a checkpoint stored before them would, after a crash, make the restore skip measurements
-/// whose verdicts were lost, leaving them pending for good). Storing one deletes those it supersedes. Not thread-safe
-/// (one grain).
+/// whose verdicts were lost, leaving them pending for good). Checkpoints taken while earlier ones wait queue up (a
+/// history one is never skipped because the writes were slow; a waiting one that would not be kept as history is
+/// replaced by the next), so the history spacing depends on data time alone. Storing one deletes those it
+/// supersedes. Not thread-safe (one grain).
 /// </summary>
 internal sealed class TrackCheckpointKeeper(
     Guid fleetId, string vehicleId, string trackKey, TrackStore store, TrackWriteQueue writes, TrackGrainOptions options, TimeProvider time, ILogger logger)
@@ -19,12 +21,19 @@ internal sealed class TrackCheckpointKeeper(
     private readonly long _historySpacingUs = (long)Math.Round(options.HistoryCheckpointSpacingMin * 6e7);
     private long _lastPersistedUs = long.MinValue;
 
+    // At most this many checkpoints wait for their rows (only while the writes stall for long); none is taken beyond.
+    private const int MaxWaiting = 16;
+
     // The newest stored checkpoint kept as history (see TrackGrainOptions.HistoryCheckpointSpacingMin).
     private long _lastHistoryUs = long.MinValue;
+
+    // The newest checkpoint taken (stored or waiting) that is kept as history once stored.
+    private long _lastHistoryTakenUs = long.MinValue;
+    private long _lastTakenUs = long.MinValue;
     private DateTimeOffset _lastPersistAt;
 
-    // A base checkpoint taken when one was due, with the write-queue ticket of the rows it covers.
-    private (TrackState State, Measurement Last, long Ticket)? _candidate;
+    // Base checkpoints taken when one was due, oldest first, with the write-queue ticket of the rows each covers.
+    private readonly List<Waiting> _waiting = [];
 
     /// <summary>True once the track is to be rebuilt from the store: no checkpoint is stored any more.</summary>
     public bool Abandoned { get; private set; }
@@ -34,6 +43,8 @@ internal sealed class TrackCheckpointKeeper(
     {
         _lastPersistedUs = lastUs;
         _lastHistoryUs = lastUs;
+        _lastTakenUs = lastUs;
+        _lastHistoryTakenUs = lastUs;
     }
 
     /// <summary>Starts the interval to the next checkpoint now (server clock).</summary>
@@ -43,30 +54,36 @@ internal sealed class TrackCheckpointKeeper(
     public void Abandon()
     {
         Abandoned = true;
-        _candidate = null;
+        _waiting.Clear();
     }
 
     /// <summary>
-    /// After a batch: stores the waiting checkpoint once its rows are written, and takes the base checkpoint of
-    /// <paramref name="track"/> when one is due and none waits (never waiting for the queue here).
+    /// After a batch: stores the waiting checkpoints whose rows are written, and takes the base checkpoint of
+    /// <paramref name="track"/> when one is due (never waiting for the queue here).
     /// </summary>
     public async Task AfterBatchAsync(VehicleTrack track, long lastTicket)
     {
-        if (_candidate is { } ready && writes.WrittenThrough >= ready.Ticket)
-        {
-            _candidate = null;
-            await StoreAsync(ready.State, ready.Last);
-        }
-
-        if (_candidate is null && !Abandoned
+        await StoreWrittenAsync(writes.WrittenThrough);
+        if (!Abandoned && _waiting.Count < MaxWaiting
             && ((time.GetUtcNow() - _lastPersistAt).TotalSeconds >= options.CheckpointIntervalS || HistoryCheckpointDue(track)))
         {
             // Due: take the base checkpoint now, store it once the rows it covers are written (never waiting here).
             _lastPersistAt = time.GetUtcNow();
             var (state, last) = track.BaseCheckpoint;
-            if (last is { } lastMeasurement && lastMeasurement.TimeUs != _lastPersistedUs)
+            if (last is { } lastMeasurement && lastMeasurement.TimeUs != _lastTakenUs)
             {
-                _candidate = (state, lastMeasurement, lastTicket);
+                bool history = KeptAsHistory(lastMeasurement.TimeUs, _lastHistoryTakenUs);
+                if (_waiting.Count > 0 && !_waiting[^1].History)
+                {
+                    _waiting.RemoveAt(_waiting.Count - 1); // superseded by this one before it was stored
+                }
+
+                _waiting.Add(new Waiting(state, lastMeasurement, lastTicket, history));
+                _lastTakenUs = lastMeasurement.TimeUs;
+                if (history)
+                {
+                    _lastHistoryTakenUs = lastMeasurement.TimeUs;
+                }
             }
         }
     }
@@ -74,7 +91,7 @@ internal sealed class TrackCheckpointKeeper(
     /// <summary>
     /// Stores the base checkpoint of <paramref name="track"/> now, after waiting up to
     /// <see cref="TrackGrainOptions.DrainTimeoutS"/> for the rows up to <paramref name="lastTicket"/> to be written (none
-    /// is stored when they are not); a checkpoint still waiting is stored first.
+    /// is stored when they are not); the checkpoints still waiting are stored first.
     /// </summary>
     public async Task PersistAsync(VehicleTrack track, long lastTicket)
     {
@@ -93,14 +110,22 @@ internal sealed class TrackCheckpointKeeper(
             return;
         }
 
-        // A checkpoint taken earlier and still waiting goes first: it may be one kept as history.
-        if (_candidate is { } earlier)
-        {
-            _candidate = null;
-            await StoreAsync(earlier.State, earlier.Last);
-        }
-
+        // Checkpoints taken earlier and still waiting go first: they may be kept as history.
+        await StoreWrittenAsync(lastTicket);
         await StoreAsync(state, lastMeasurement);
+        _lastTakenUs = Math.Max(_lastTakenUs, lastMeasurement.TimeUs);
+        _lastHistoryTakenUs = Math.Max(_lastHistoryTakenUs, _lastHistoryUs);
+    }
+
+    /// <summary>Stores, oldest first, the waiting checkpoints whose rows are written through <paramref name="writtenThrough"/>.</summary>
+    private async Task StoreWrittenAsync(long writtenThrough)
+    {
+        while (_waiting.Count > 0 && _waiting[0].Ticket <= writtenThrough)
+        {
+            var next = _waiting[0];
+            _waiting.RemoveAt(0);
+            await StoreAsync(next.State, next.Last);
+        }
     }
 
     private async Task StoreAsync(TrackState state, Measurement lastMeasurement)
@@ -123,14 +148,19 @@ internal sealed class TrackCheckpointKeeper(
             // The checkpoints between the newest one kept as history and this one are superseded by it.
             _historySpacingUs > 0 ? _lastHistoryUs : long.MinValue);
         _lastPersistedUs = lastMeasurement.TimeUs;
-        if (_historySpacingUs > 0 && (_lastHistoryUs == long.MinValue || lastMeasurement.TimeUs - _lastHistoryUs >= _historySpacingUs))
+        if (KeptAsHistory(lastMeasurement.TimeUs, _lastHistoryUs))
         {
             _lastHistoryUs = lastMeasurement.TimeUs;
         }
     }
 
-    /// <summary>Whether the track's base checkpoint has moved a history spacing past the newest one kept.</summary>
+    /// <summary>Whether a checkpoint ending at <paramref name="lastUs"/> is kept as history after the one ending at <paramref name="previousHistoryUs"/>.</summary>
+    private bool KeptAsHistory(long lastUs, long previousHistoryUs) =>
+        _historySpacingUs > 0 && (previousHistoryUs == long.MinValue || lastUs - previousHistoryUs >= _historySpacingUs);
+
+    /// <summary>Whether the track's base checkpoint has moved a history spacing past the newest one taken to keep.</summary>
     private bool HistoryCheckpointDue(VehicleTrack track) =>
-        _historySpacingUs > 0 && track.BaseCheckpointLast is { } last
-        && (_lastHistoryUs == long.MinValue || last.TimeUs - _lastHistoryUs >= _historySpacingUs);
+        track.BaseCheckpointLast is { } last && KeptAsHistory(last.TimeUs, _lastHistoryTakenUs);
+
+    private readonly record struct Waiting(TrackState State, Measurement Last, long Ticket, bool History);
 }
