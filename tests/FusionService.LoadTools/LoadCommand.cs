@@ -16,7 +16,7 @@ public static class LoadCommand
 {
     /// <summary>Usage text.</summary>
     public const string Usage = "usage: load --url http://127.0.0.1:5080 --key INGEST_KEY [--vehicles 1000] [--batches 200 | --seconds 60] "
-        + "[--batch-size 500] [--concurrency 8] [--shape per-vehicle|interleaved] [--rate MESSAGES_PER_S] [--vehicle-prefix load-] [--metrics-token TOKEN] "
+        + "[--batch-size 500] [--concurrency 8] [--shape per-vehicle|interleaved] [--vehicle-run 1] [--rate MESSAGES_PER_S] [--vehicle-prefix load-] [--metrics-token TOKEN] "
         + "[--copy-compare yes|no]";
 
     /// <summary>True when <paramref name="args"/> ask for this command.</summary>
@@ -65,6 +65,7 @@ public static class LoadCommand
                 StartTimeUs = nowUs - 3_600_000_000L,
                 Duration = values.ContainsKey("seconds") ? TimeSpan.FromSeconds(Int(values, "seconds", 60)) : null,
                 Shape = ShapeOf(values),
+                VehicleRun = Int(values, "vehicle-run", 1),
                 VehiclePrefix = values.GetValueOrDefault("vehicle-prefix", "load-"),
                 MessagesPerSecond = values.ContainsKey("rate") ? Int(values, "rate", 0) : null,
             };
@@ -85,7 +86,7 @@ public static class LoadCommand
             ? string.Create(CultureInfo.InvariantCulture, $"for {d.TotalSeconds:F0} s")
             : string.Create(CultureInfo.InvariantCulture, $"{options.TotalBatches:N0} batches");
         await output.WriteLineAsync(string.Create(CultureInfo.InvariantCulture,
-            $"posting {amount} of {options.BatchSize} messages per batch ({ShapeName(options.Shape)}) for {options.VehicleCount:N0} vehicles, {options.Concurrency} at a time{RateText(options)}, to {options.Endpoint}")).ConfigureAwait(false);
+            $"posting {amount} of {options.BatchSize} messages per batch ({ShapeName(options)}) for {options.VehicleCount:N0} vehicles, {options.Concurrency} at a time{RateText(options)}, to {options.Endpoint}")).ConfigureAwait(false);
         var generator = new LoadGenerator(http, options);
         var run = generator.RunAsync(cancellationToken);
         var started = System.Diagnostics.Stopwatch.StartNew();
@@ -167,7 +168,9 @@ public static class LoadCommand
             _ => throw new FormatException($"--shape must be per-vehicle or interleaved, was '{text}'."),
         };
 
-    private static string ShapeName(LoadShape shape) => shape == LoadShape.Interleaved ? "interleaved" : "per vehicle";
+    private static string ShapeName(LoadGeneratorOptions options) => options.Shape != LoadShape.Interleaved ? "per vehicle"
+        : options.VehicleRun == 1 ? "interleaved"
+        : string.Create(CultureInfo.InvariantCulture, $"interleaved, {options.VehicleRun} messages of a vehicle in a row");
 
     private static string RateText(LoadGeneratorOptions options) =>
         options.MessagesPerSecond is { } rate ? string.Create(CultureInfo.InvariantCulture, $", offered {rate:N0} messages/s") : string.Empty;

@@ -15,7 +15,8 @@ namespace FusionService.Simulator.Load;
 /// <remarks>
 /// With <see cref="LoadShape.PerVehicle"/>, batch b belongs to vehicle b mod N and holds its steps
 /// k = (b div N) x size + position; with <see cref="LoadShape.Interleaved"/>, message g of the run (g = batch x size +
-/// position) belongs to vehicle g mod N at step k = g div N. Step k is at time start + k x 100 ms; every tenth step is a gnss fix on a straight eastward line at 10 m/s (longitude advanced by metres / (111 320 cos lat),
+/// position) is in run r = g div R of R = <see cref="LoadGeneratorOptions.VehicleRun"/> messages, which belongs to
+/// vehicle r mod N, at step k = (r div N) x R + g mod R (with R = 1: vehicle g mod N, step g div N). Step k is at time start + k x 100 ms; every tenth step is a gnss fix on a straight eastward line at 10 m/s (longitude advanced by metres / (111 320 cos lat),
 /// a flat-earth rule adequate for load only), the others alternate wheel (10 m/s) and imu (0 deg/s). Ids are unique.
 /// </remarks>
 public sealed class LoadGenerator
@@ -58,8 +59,9 @@ public sealed class LoadGenerator
         for (int j = 0; j < messages.Length; j++)
         {
             long g = ((long)batchNumber * options.BatchSize) + j;
+            long run = g / options.VehicleRun;
             (long vehicle, long step) = options.Shape == LoadShape.Interleaved
-                ? (g % options.VehicleCount, g / options.VehicleCount)
+                ? (run % options.VehicleCount, (run / options.VehicleCount * options.VehicleRun) + (g % options.VehicleRun))
                 : (batchNumber % options.VehicleCount, ((long)(batchNumber / options.VehicleCount) * options.BatchSize) + j);
             string id = string.Create(CultureInfo.InvariantCulture, $"{options.VehiclePrefix}{vehicle:000000}");
             long timeUs = options.StartTimeUs + (step * StepUs);

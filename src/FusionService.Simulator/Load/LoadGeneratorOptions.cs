@@ -32,6 +32,12 @@ public sealed record LoadGeneratorOptions
     public LoadShape Shape { get; init; } = LoadShape.PerVehicle;
 
     /// <summary>
+    /// With <see cref="LoadShape.Interleaved"/>: successive messages of one vehicle before the next vehicle's (a gateway
+    /// that forwards each van's last few samples together). Default 1, one message per vehicle in turn.
+    /// </summary>
+    public int VehicleRun { get; init; } = 1;
+
+    /// <summary>
     /// When set, batch b is not sent before b x <see cref="BatchSize"/> / rate seconds into the run (an offered load in
     /// messages per second; still at most <see cref="Concurrency"/> in flight). Null sends as fast as answers come back.
     /// </summary>
@@ -53,6 +59,7 @@ public sealed record LoadGeneratorOptions
         ArgumentOutOfRangeException.ThrowIfLessThan(BatchSize, 1);
         ArgumentOutOfRangeException.ThrowIfLessThan(TotalBatches, 1);
         ArgumentOutOfRangeException.ThrowIfLessThan(Concurrency, 1);
+        ArgumentOutOfRangeException.ThrowIfLessThan(VehicleRun, 1);
         if (Duration is { } duration && duration <= TimeSpan.Zero)
         {
             throw new ArgumentException($"Duration must be positive, was {duration}.", nameof(Duration));

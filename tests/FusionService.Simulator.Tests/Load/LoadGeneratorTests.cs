@@ -82,6 +82,29 @@ public sealed class LoadGeneratorTests
     }
 
     [Fact]
+    public void Interleaved_runs_keep_a_vehicles_messages_together_and_its_steps_contiguous()
+    {
+        var options = new LoadGeneratorOptions
+        {
+            Endpoint = new Uri("http://127.0.0.1:1/v1/telemetry"), VehicleCount = 40, BatchSize = 200, Shape = LoadShape.Interleaved, VehicleRun = 10,
+        };
+        var batches = Enumerable.Range(0, 6).Select(b => LoadGenerator.SyntheticBatch(options, b)).ToList();
+
+        // A batch of 200 in runs of 10 covers 20 vehicles, 10 messages each, in a row.
+        Assert.All(batches, batch => Assert.Equal(20, batch.Select(m => m.Vehicle).Distinct().Count()));
+        Assert.All(batches[0].Chunk(10), run => Assert.Single(run.Select(m => m.Vehicle).Distinct()));
+
+        // Every vehicle's steps over the six batches (three runs each) follow one another 100 ms apart.
+        var byVehicle = batches.SelectMany(b => b).GroupBy(m => m.Vehicle).ToDictionary(g => g.Key, g => g.Select(m => m.TimeUs).ToList());
+        Assert.Equal(40, byVehicle.Count);
+        Assert.All(byVehicle.Values, times =>
+        {
+            Assert.Equal(30, times.Count);
+            Assert.All(times.Zip(times.Skip(1)), pair => Assert.Equal(100_000L, pair.Second - pair.First));
+        });
+    }
+
+    [Fact]
     public void A_rate_that_is_not_positive_is_refused()
     {
         var options = new LoadGeneratorOptions { Endpoint = new Uri("http://127.0.0.1:1/v1/telemetry"), MessagesPerSecond = 0 };
