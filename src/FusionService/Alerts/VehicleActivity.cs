@@ -39,8 +39,12 @@ public sealed class VehicleActivity
     /// <summary>True (once) when the vehicle was noted while it had no entry.</summary>
     public bool TakeFresh(Guid fleetId, string vehicleId) => _fresh.TryRemove((fleetId, vehicleId), out _);
 
-    /// <summary>A snapshot of every vehicle and its newest receipt time.</summary>
-    public IReadOnlyList<KeyValuePair<(Guid FleetId, string VehicleId), DateTimeOffset>> Snapshot() => [.. _last];
+    /// <summary>
+    /// A snapshot of every vehicle and its newest receipt time, taken under the dictionary's locks
+    /// (<see cref="ConcurrentDictionary{TKey, TValue}.ToArray"/>): a collection expression over it sizes its array by the
+    /// count and then copies, which throws when vehicles are added in between (it stopped the host under load).
+    /// </summary>
+    public IReadOnlyList<KeyValuePair<(Guid FleetId, string VehicleId), DateTimeOffset>> Snapshot() => _last.ToArray();
 
     /// <summary>
     /// Removes the vehicles last heard from before <paramref name="before"/>, of those in <paramref name="judged"/> when it

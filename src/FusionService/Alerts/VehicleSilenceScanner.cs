@@ -42,6 +42,12 @@ public sealed class VehicleSilenceScanner(
                 {
                     logger.LogWarning(ex, "Silent-vehicle scan failed; retrying at the next tick");
                 }
+                catch (Exception ex) when (ex is not OperationCanceledException || !stoppingToken.IsCancellationRequested)
+                {
+                    // Any other failure is a defect, but one scan's: an exception leaving a background service stops the
+                    // whole host, ingest included. Logged as an error, tried again at the next tick.
+                    logger.LogError(ex, "Silent-vehicle scan failed unexpectedly; retrying at the next tick");
+                }
             }
         }
         catch (OperationCanceledException) when (stoppingToken.IsCancellationRequested)

@@ -11,7 +11,8 @@
 # phase (gcsplit.py: count, total, largest, 99th percentile, time to suspend the threads).
 # READ_PROCESS=1 also starts a history-read process (Service:Role=HistoryReads) on 127.0.0.1:5092, attached to the
 # service's embedded cluster, in an autogroup of nice READ_NICE (default 19), and sends the readers
-# to it (docs/limits-and-keys.md, "A history-read process").
+# to it (docs/limits-and-keys.md, "A history-read process"); READ_ENV="Key__Name=value ..." sets settings of that
+# process only (e.g. READ_ENV="HeavyReads__MaxConcurrent=1 Tracks__ReplayStretches=1").
 # Listens on 127.0.0.1:5091; needs root (psql as postgres via runuser), curl, python3.
 set -u
 here=$(cd "$(dirname "$0")" && pwd)
@@ -20,6 +21,7 @@ mkdir -p "$out"
 data=$(mktemp -d /tmp/heavy-read-pg.XXXX); chmod 755 "$data"
 export Database__DataDirectory=$data/pg ASPNETCORE_URLS=http://127.0.0.1:5091
 env | grep -E "^(HeavyReads|Database|Tracks|Ingest)__|^DOTNET_(gc|GC)" | grep -v DataDirectory > "$out/env" || true
+[ -n "${READ_ENV:-}" ] && echo "reader: $READ_ENV" >> "$out/env"
 [ -n "${PERF:-}" ] && export DOTNET_PerfMapEnabled=1
 gctrace() { [ -n "${GCTRACE:-}" ] && echo DOTNET_EnableEventPipe=1 DOTNET_EventPipeConfig=Microsoft-Windows-DotNETRuntime:0x1:4 DOTNET_EventPipeOutputPath=$out/$1.nettrace; }
 env $(gctrace svc) dotnet "$build/svc/FusionService.dll" > "$out/service.log" 2>&1 &
@@ -31,7 +33,7 @@ I=$(key ingest); R=$(key read); A=$(key admin)
 port=$(sed -n 4p "$data/pg/postmaster.pid")
 readurl=()
 if [ -n "${READ_PROCESS:-}" ]; then
-  Service__Role=HistoryReads ASPNETCORE_URLS=http://127.0.0.1:5092 Orleans__SiloPort=11112 Orleans__GatewayPort=0 \
+  env ${READ_ENV:-} Service__Role=HistoryReads ASPNETCORE_URLS=http://127.0.0.1:5092 Orleans__SiloPort=11112 Orleans__GatewayPort=0 \
     setsid sh -c 'echo $1 > /proc/self/autogroup; exec dotnet "$0"' "$build/svc/FusionService.dll" "${READ_NICE:-19}" > "$out/reader.log" 2>&1 &
   reader=$!
   for _ in $(seq 1 120); do curl -sf http://127.0.0.1:5092/health/ready >/dev/null 2>&1 && break; sleep 1; done
