@@ -114,6 +114,12 @@ public sealed class WebhookDispatcher(
                     database.NoteFailure(ex);
                     logger.LogWarning(ex, "Webhook outbox could not be read; retrying");
                 }
+                catch (Exception ex)
+                {
+                    // A defect, but one round's: an exception leaving a background service would stop the host, ingest
+                    // included. Logged as an error; the next round waits the usual interval.
+                    logger.LogError(ex, "Webhook round failed unexpectedly; retrying");
+                }
 
                 if (!full)
                 {

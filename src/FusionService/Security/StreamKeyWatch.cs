@@ -114,6 +114,11 @@ public sealed class StreamKeyWatch(
                     database.NoteFailure(ex);
                     logger.LogWarning("Could not re-check the keys of open streams ({Reason}); retrying at the next tick", ex.GetBaseException().Message);
                 }
+                catch (Exception ex) when (ex is not OperationCanceledException || !stoppingToken.IsCancellationRequested)
+                {
+                    // A defect, but one check's: an exception leaving a background service would stop the host.
+                    logger.LogError(ex, "Re-checking the keys of open streams failed unexpectedly; retrying at the next tick");
+                }
             }
         }
         catch (OperationCanceledException) when (stoppingToken.IsCancellationRequested)
