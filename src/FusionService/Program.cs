@@ -87,6 +87,8 @@ if (!historyOnly)
 
 app.UseSwaggerUI(ui => ui.SwaggerEndpoint("/openapi/v1.json", "FusionService API v1"));
 app.MapOperationsEndpoints();
+
+// In this order in every role, so that the committed OpenAPI document keeps its path order.
 if (!historyOnly)
 {
     app.MapTelemetryEndpoints();

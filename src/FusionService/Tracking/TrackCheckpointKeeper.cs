@@ -26,10 +26,6 @@ internal sealed class TrackCheckpointKeeper(
 
     // The newest stored checkpoint kept as history (see TrackGrainOptions.HistoryCheckpointSpacingMin).
     private long _lastHistoryUs = long.MinValue;
-
-    // The newest checkpoint taken (stored or waiting) that is kept as history once stored.
-    private long _lastHistoryTakenUs = long.MinValue;
-    private long _lastTakenUs = long.MinValue;
     private DateTimeOffset _lastPersistAt;
 
     // Base checkpoints taken when one was due, oldest first, with the write-queue ticket of the rows each covers.
@@ -43,8 +39,6 @@ internal sealed class TrackCheckpointKeeper(
     {
         _lastPersistedUs = lastUs;
         _lastHistoryUs = lastUs;
-        _lastTakenUs = lastUs;
-        _lastHistoryTakenUs = lastUs;
     }
 
     /// <summary>Starts the interval to the next checkpoint now (server clock).</summary>
@@ -70,20 +64,15 @@ internal sealed class TrackCheckpointKeeper(
             // Due: take the base checkpoint now, store it once the rows it covers are written (never waiting here).
             _lastPersistAt = time.GetUtcNow();
             var (state, last) = track.BaseCheckpoint;
-            if (last is { } lastMeasurement && lastMeasurement.TimeUs != _lastTakenUs)
+            if (last is { } lastMeasurement && lastMeasurement.TimeUs != LastTakenUs)
             {
-                bool history = KeptAsHistory(lastMeasurement.TimeUs, _lastHistoryTakenUs);
+                bool history = KeptAsHistory(lastMeasurement.TimeUs, LastHistoryTakenUs);
                 if (_waiting.Count > 0 && !_waiting[^1].History)
                 {
                     _waiting.RemoveAt(_waiting.Count - 1); // superseded by this one before it was stored
                 }
 
                 _waiting.Add(new Waiting(state, lastMeasurement, lastTicket, history));
-                _lastTakenUs = lastMeasurement.TimeUs;
-                if (history)
-                {
-                    _lastHistoryTakenUs = lastMeasurement.TimeUs;
-                }
             }
         }
     }
@@ -113,8 +102,6 @@ internal sealed class TrackCheckpointKeeper(
         // Checkpoints taken earlier and still waiting go first: they may be kept as history.
         await StoreWrittenAsync(lastTicket);
         await StoreAsync(state, lastMeasurement);
-        _lastTakenUs = Math.Max(_lastTakenUs, lastMeasurement.TimeUs);
-        _lastHistoryTakenUs = Math.Max(_lastHistoryTakenUs, _lastHistoryUs);
     }
 
     /// <summary>Stores, oldest first, the waiting checkpoints whose rows are written through <paramref name="writtenThrough"/>.</summary>
@@ -154,13 +141,33 @@ internal sealed class TrackCheckpointKeeper(
         }
     }
 
+    /// <summary>The newest checkpoint taken, waiting or stored.</summary>
+    private long LastTakenUs => _waiting.Count > 0 ? _waiting[^1].Last.TimeUs : _lastPersistedUs;
+
+    /// <summary>The newest checkpoint taken, waiting or stored, that is (or will be) kept as history.</summary>
+    private long LastHistoryTakenUs
+    {
+        get
+        {
+            for (int i = _waiting.Count - 1; i >= 0; i--)
+            {
+                if (_waiting[i].History)
+                {
+                    return _waiting[i].Last.TimeUs;
+                }
+            }
+
+            return _lastHistoryUs;
+        }
+    }
+
     /// <summary>Whether a checkpoint ending at <paramref name="lastUs"/> is kept as history after the one ending at <paramref name="previousHistoryUs"/>.</summary>
     private bool KeptAsHistory(long lastUs, long previousHistoryUs) =>
         _historySpacingUs > 0 && (previousHistoryUs == long.MinValue || lastUs - previousHistoryUs >= _historySpacingUs);
 
     /// <summary>Whether the track's base checkpoint has moved a history spacing past the newest one taken to keep.</summary>
     private bool HistoryCheckpointDue(VehicleTrack track) =>
-        track.BaseCheckpointLast is { } last && KeptAsHistory(last.TimeUs, _lastHistoryTakenUs);
+        track.BaseCheckpointLast is { } last && KeptAsHistory(last.TimeUs, LastHistoryTakenUs);
 
     private readonly record struct Waiting(TrackState State, Measurement Last, long Ticket, bool History);
 }
