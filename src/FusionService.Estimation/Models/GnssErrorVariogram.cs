@@ -20,7 +20,8 @@ namespace FusionService.Estimation.Models;
 /// k₁ &lt; k₂: τ = (k₂ - k₁) / ln(u(k₁) / u(k₂)) and f = u(k₁) exp(k₁/τ) (derived).
 /// </para>
 /// <para>
-/// Both moments start from pseudo-observations of the profile's own (f, τ) (<see cref="PriorShortPairs"/>,
+/// Both moments start from pseudo-observations of the profile's own (f, τ), or of the pair the track was started from
+/// (<see cref="StartingFrom"/>), (<see cref="PriorShortPairs"/>,
 /// <see cref="PriorLongPairs"/>), so a track without stops keeps the defaults and a few stops move them only part of
 /// the way. A fit from a few stops scatters widely (τ from 38 to 152 s, 10th to 90th percentile, over 64 half-hour
 /// drives of a receiver with τ = 60 s), and a τ fitted too short makes the filter over-confident while one too long
@@ -159,6 +160,44 @@ public struct GnssErrorVariogram
     /// <summary>Whether an estimate has been made (<see cref="Share"/> and <see cref="TimeConstantS"/> are set).</summary>
     public readonly bool HasEstimate => TimeConstantS > 0;
 
+    /// <summary>
+    /// The correlated share this track's fit starts from when it was given one (<see cref="StartingFrom"/>: what the
+    /// other receivers of its fleet fitted), or 0: the profile's.
+    /// </summary>
+    public double StartShare;
+
+    /// <summary>The time constant this track's fit starts from, seconds, or 0: the profile's (see <see cref="StartShare"/>).</summary>
+    public double StartTimeConstantS;
+
+    /// <summary>Whether the track was given its own starting pair rather than the profile's.</summary>
+    public readonly bool HasStart => StartTimeConstantS > 0;
+
+    /// <summary>
+    /// A fit that has seen nothing yet and starts from (<paramref name="share"/>, <paramref name="timeConstantS"/>)
+    /// instead of the profile's pair: the pair is the prior of the moments (the same pseudo-observations, see the type's
+    /// remarks) and the model the track uses until its first fit.
+    /// </summary>
+    public static GnssErrorVariogram StartingFrom(double share, double timeConstantS)
+    {
+        if (!(share > 0 && share < 1))
+        {
+            throw new ArgumentOutOfRangeException(nameof(share), share, "a correlated share lies in (0, 1)");
+        }
+
+        if (!(timeConstantS > 0) || !double.IsFinite(timeConstantS))
+        {
+            throw new ArgumentOutOfRangeException(nameof(timeConstantS), timeConstantS, "a time constant is a positive number of seconds");
+        }
+
+        return new GnssErrorVariogram { StartShare = share, StartTimeConstantS = timeConstantS };
+    }
+
+    /// <summary>The prior pair: the track's starting pair if it was given one, else the profile's.</summary>
+    /// <param name="profileShare">The profile's correlated share.</param>
+    /// <param name="profileTimeConstantS">The profile's time constant, seconds.</param>
+    public readonly (double Share, double TimeConstantS) Prior(double profileShare, double profileTimeConstantS) =>
+        HasStart ? (StartShare, StartTimeConstantS) : (profileShare, profileTimeConstantS);
+
     /// <summary>Ends both chains of pairs (the vehicle moved, a fix was gated, the plane changed).</summary>
     public void Break()
     {
@@ -175,8 +214,8 @@ public struct GnssErrorVariogram
     /// <param name="eastM">East of the fix in the track's plane, metres.</param>
     /// <param name="northM">North of the fix in the track's plane, metres.</param>
     /// <param name="varianceM2">The fix's reported per-axis variance, square metres.</param>
-    /// <param name="priorShare">The profile's correlated share, the prior.</param>
-    /// <param name="priorTimeConstantS">The profile's time constant, seconds, the prior.</param>
+    /// <param name="priorShare">The prior's correlated share (<see cref="Prior"/>).</param>
+    /// <param name="priorTimeConstantS">The prior's time constant, seconds.</param>
     public bool Observe(long timeUs, double eastM, double northM, double varianceM2, double priorShare, double priorTimeConstantS)
     {
         if (!(varianceM2 > 0) || !double.IsFinite(varianceM2))

@@ -344,11 +344,18 @@ public sealed class TrackProcessor
     public (double Share, double TimeConstantS, bool Fitted) GnssErrorModelOf(in TrackState s) =>
         (CorrelatedShare(s), ErrorTimeConstantS(s), s.GnssErrorFit.HasEstimate);
 
-    /// <summary>The correlated share f in use: the receiver's fitted one once there is a fit, the profile's before.</summary>
-    private double CorrelatedShare(in TrackState s) => s.GnssErrorFit.HasEstimate ? s.GnssErrorFit.Share : Profile.GnssCorrelatedFraction;
+    /// <summary>
+    /// The correlated share f in use: the receiver's fitted one once there is a fit; before, the pair the track started
+    /// from, or the profile's.
+    /// </summary>
+    private double CorrelatedShare(in TrackState s) => s.GnssErrorFit.HasEstimate ? s.GnssErrorFit.Share : PriorOf(s).Share;
 
     /// <summary>The GNSS error time constant τ in use, seconds (see <see cref="CorrelatedShare"/>).</summary>
-    private double ErrorTimeConstantS(in TrackState s) => s.GnssErrorFit.HasEstimate ? s.GnssErrorFit.TimeConstantS : Profile.GnssErrorTimeConstantS;
+    private double ErrorTimeConstantS(in TrackState s) => s.GnssErrorFit.HasEstimate ? s.GnssErrorFit.TimeConstantS : PriorOf(s).TimeConstantS;
+
+    /// <summary>The pair the receiver fit starts from: the track's own starting pair, else the profile's.</summary>
+    private (double Share, double TimeConstantS) PriorOf(in TrackState s) =>
+        s.GnssErrorFit.Prior(Profile.GnssCorrelatedFraction, Profile.GnssErrorTimeConstantS);
 
     private MeasurementOutcome ProcessRunning(ref TrackState s, in Measurement m, IStepRecorder? recorder)
     {
@@ -728,7 +735,8 @@ public sealed class TrackProcessor
 
         if (accepted && s.Stationary && !s.Carried)
         {
-            s.GnssErrorFit.Observe(fix.TimeUs, fix.EastM, fix.NorthM, fix.SigmaM * fix.SigmaM, Profile.GnssCorrelatedFraction, Profile.GnssErrorTimeConstantS);
+            var (priorShare, priorTimeConstantS) = PriorOf(s);
+            s.GnssErrorFit.Observe(fix.TimeUs, fix.EastM, fix.NorthM, fix.SigmaM * fix.SigmaM, priorShare, priorTimeConstantS);
         }
         else
         {

@@ -123,4 +123,15 @@ public struct TrackState
 
     /// <summary>A fresh track.</summary>
     public static TrackState Empty => new() { WheelZeroSinceUs = long.MinValue, TimeUs = long.MinValue, LastWheelUs = long.MinValue, GnssStillSinceUs = long.MinValue, Agreement = StreamAgreement.Empty };
+
+    /// <summary>
+    /// A fresh track whose receiver fit starts from (<paramref name="share"/>, <paramref name="timeConstantS"/>) instead of
+    /// the profile's pair (<see cref="Models.GnssErrorVariogram.StartingFrom"/>).
+    /// </summary>
+    public static TrackState StartingFrom(double share, double timeConstantS)
+    {
+        TrackState s = Empty;
+        s.GnssErrorFit = Models.GnssErrorVariogram.StartingFrom(share, timeConstantS);
+        return s;
+    }
 }

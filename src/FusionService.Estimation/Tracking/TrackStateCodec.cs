@@ -13,13 +13,13 @@ namespace FusionService.Estimation.Tracking;
 public static class TrackStateCodec
 {
     /// <summary>Format version written in the first byte.</summary>
-    public const byte Version = 7;
+    public const byte Version = 8;
 
     /// <summary>Size of an encoded checkpoint, bytes.</summary>
     public const int EncodedLength = 1 + (StateVector.Length * 8) + (StateMatrix.Size * (StateMatrix.Size + 1) / 2 * 8) + 8 + 1 + (3 * 8) + 3 + 8 + 1 + (1 + 8 + (3 * 8) + 1) + (1 + 8 + (4 * 8)) + 8 + 4 + 4 + (8 + 8 + 8 + 8 + 4) + 12 + 8 + (1 + 8 + 4 + 8 + 4 + 8) + 4 + 16 + 8 + 8 + AgreementLength + FitLength + StepsLength;
 
-    // GnssErrorVariogram: 2 flags, 2 times, 14 doubles.
-    private const int FitLength = 2 + (2 * 8) + (14 * 8);
+    // GnssErrorVariogram: 2 flags, 2 times, 16 doubles.
+    private const int FitLength = 2 + (2 * 8) + (16 * 8);
 
     // MultipathStepDetector: the ring, a count, 2 pulls, a flag, a time, 4 levels, a counter, the white scale, a variance, a time, 4 error estimates.
     private const int StepsLength = (FixResidualRing.Length * 8) + 4 + (2 * 8) + 1 + 8 + (4 * 8) + 4 + 8 + 8 + 8 + (4 * 8);
@@ -251,6 +251,8 @@ public static class TrackStateCodec
         w.Double(f.LongLagSumS);
         w.Double(f.Share);
         w.Double(f.TimeConstantS);
+        w.Double(f.StartShare);
+        w.Double(f.StartTimeConstantS);
     }
 
     private static Models.GnssErrorVariogram ReadFit(ref Reader r) => new()
@@ -273,6 +275,8 @@ public static class TrackStateCodec
         LongLagSumS = r.Double(),
         Share = r.Double(),
         TimeConstantS = r.Double(),
+        StartShare = r.Double(),
+        StartTimeConstantS = r.Double(),
     };
 
     private static void WriteAgreement(ref Writer w, in StreamAgreement a)

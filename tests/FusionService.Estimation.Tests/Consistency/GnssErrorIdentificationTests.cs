@@ -44,7 +44,43 @@ public sealed class GnssErrorIdentificationTests(ITestOutputHelper output)
         Assert.True(smoothed >= 0.93, $"smoothed containment {smoothed:P1}");
     }
 
-    private static (double Filtered, double Smoothed, double MedianTauS, double MedianShare) Containment(NoiseProfile profile, int earlierRounds)
+    /// <summary>
+    /// A new van whose fleet's other vans already fitted the same receiver model: its track starts from the median of
+    /// their fits (<see cref="TrackState.StartingFrom"/>; the service does this for a vehicle it has not seen, see
+    /// docs/estimation.md) and must reach the band's lower end on its first round, where starting from the profile's pair
+    /// left it short (these twelve drives: 96.1 % filtered, 92.7 % smoothed; 91.5 / 91.2 % over 64 drives,
+    /// `./build.sh bench consistency 64 "tau 120 s share 0.95"`). The fleet's four vans each learned from three rounds of
+    /// seeds of their own, none shared with the drives judged.
+    /// </summary>
+    [Fact]
+    public void Issue12_a_new_van_started_from_its_fleets_fitted_pair_holds_the_band_on_its_first_round()
+    {
+        NoiseProfile fitted = NoiseProfile.DeliveryVan with { GnssErrorIdentification = true };
+        var processor = new TrackProcessor(new TrackOptions(), fitted);
+        var fleetShares = new List<double>();
+        var fleetTaus = new List<double>();
+        for (int van = 0; van < 4; van++)
+        {
+            TrackState learned = TrackReplay.StartAfter(processor, Enumerable.Range(0, EarlierRounds).Select(j => Receiver(7301 + (van * 10) + j).Generate().Measurements));
+            Assert.True(learned.GnssErrorFit.HasEstimate, "a fleet van that stood at its stops has a fit");
+            fleetShares.Add(learned.GnssErrorFit.Share);
+            fleetTaus.Add(learned.GnssErrorFit.TimeConstantS);
+        }
+
+        double fleetShare = Median(fleetShares), fleetTauS = Median(fleetTaus);
+        (double filtered, double smoothed, double tauS, double share) = Containment(fitted, 0, TrackState.StartingFrom(fleetShare, fleetTauS));
+        output.WriteLine($"fleet pair f = {fleetShare:F2}, tau = {fleetTauS:F0} s; first round from it: filtered {filtered:P1}, smoothed {smoothed:P1}, median fit f = {share:F2}, tau = {tauS:F0} s");
+        Assert.True(filtered >= 0.93, $"filtered containment {filtered:P1}");
+        Assert.True(smoothed >= 0.93, $"smoothed containment {smoothed:P1}");
+    }
+
+    private static double Median(List<double> values)
+    {
+        values.Sort();
+        return values.Count % 2 == 1 ? values[values.Count / 2] : 0.5 * (values[(values.Count / 2) - 1] + values[values.Count / 2]);
+    }
+
+    private static (double Filtered, double Smoothed, double MedianTauS, double MedianShare) Containment(NoiseProfile profile, int earlierRounds, TrackState? startFrom = null)
     {
         var processor = new TrackProcessor(new TrackOptions(), profile);
         long filtered = 0, filteredInside = 0, smoothed = 0, smoothedInside = 0;
@@ -53,7 +89,7 @@ public sealed class GnssErrorIdentificationTests(ITestOutputHelper output)
         for (int r = 0; r < Drives; r++)
         {
             ScenarioRun run = Receiver(1201 + (r * 100)).Generate();
-            TrackState start = TrackReplay.StartAfter(processor, Enumerable.Range(0, earlierRounds).Select(j => Receiver(1251 + (r * 100) + j).Generate().Measurements));
+            TrackState start = startFrom ?? TrackReplay.StartAfter(processor, Enumerable.Range(0, earlierRounds).Select(j => Receiver(1251 + (r * 100) + j).Generate().Measurements));
             ReplayResult replay = TrackReplay.Run(processor, start, run.Measurements);
             taus.Add(replay.Final.GnssErrorFit.HasEstimate ? replay.Final.GnssErrorFit.TimeConstantS : profile.GnssErrorTimeConstantS);
             shares.Add(replay.Final.GnssErrorFit.HasEstimate ? replay.Final.GnssErrorFit.Share : profile.GnssCorrelatedFraction);

@@ -45,6 +45,16 @@ public sealed class CheckpointRestartTests
         OrderIndependenceTests.AssertBitwiseEqual(uninterrupted.Current, rebuilt.Current);
     }
 
+    /// <summary>A track given its own starting receiver pair keeps it through a checkpoint (replays from it must use it).</summary>
+    [Fact]
+    public void A_checkpoint_keeps_the_receiver_pair_the_track_started_from()
+    {
+        byte[] stored = TrackStateCodec.Encode(TrackState.StartingFrom(0.9, 110.0), Measurement.WheelSpeed(1, 1, 0));
+        var (state, _) = TrackStateCodec.Decode(stored);
+        Assert.Equal(0.9, state.GnssErrorFit.StartShare);
+        Assert.Equal(110.0, state.GnssErrorFit.StartTimeConstantS);
+    }
+
     [Fact]
     public void Decoding_rejects_a_wrong_version_or_length()
     {
