@@ -14,12 +14,14 @@ using static FusionService.Estimation.Models.StateIndex;
 namespace FusionService.Benchmarks;
 
 /// <summary>
-/// `./build.sh bench consistency [runs, default 64] [faulty | text] [fitted | fixed | matched | learned]` (text: only the
+/// `./build.sh bench consistency [runs, default 64] [faulty | text] [fitted | fixed | matched | learned | fleet]` (text: only the
 /// cases whose label contains it, "" for all; fitted: with <see cref="NoiseProfile.GnssErrorIdentification"/> on, the
 /// default; fixed: with it off; matched: each cell of the receiver grid filtered with that receiver's own share and time
 /// constant, as a fleet that sets section <c>GnssErrorModel</c> to its receivers' values; learned: each drive of the
 /// receiver grid starts with the fit its track made over <see cref="LearnedDrives"/> earlier rounds of the same receiver,
-/// as a van's track carries it from day to day): runs the filter with its default options and noise profile over the realistic
+/// as a van's track carries it from day to day; fleet: each drive of the receiver grid is a new van's first round, its
+/// fit starting from the median of what <see cref="FleetVans"/> other vans with the same receiver fitted over
+/// <see cref="LearnedDrives"/> rounds each, as the service starts a vehicle it has not seen): runs the filter with its default options and noise profile over the realistic
 /// drives of <see cref="RealisticDrives"/> (clean sky, multipath, outage, tow, park beside a building, HDOP-only) and over
 /// a grid of GNSS error correlation times (20, 60, 120 s) and correlated shares (50, 80, 95 %) of the clean-sky drive,
 /// each with <c>runs</c> seeds, and prints per case: how often the truth lies inside the 95 % ellipse of the filtered
@@ -37,24 +39,27 @@ internal static class ConsistencyReport
     /// <summary>Earlier half-hour rounds of the same receiver whose fit a drive of the grid starts from in the learned mode.</summary>
     public const int LearnedDrives = 3;
 
+    /// <summary>Vans of the fleet whose fits, after <see cref="LearnedDrives"/> rounds each, give a new van's start in the fleet mode.</summary>
+    public const int FleetVans = 8;
+
     public static void Run(int runs, bool onlyFaultyStreams = false, string? onlyCases = null, string? mode = null)
     {
         _onlyCases = onlyCases;
-        if (mode is not (null or "" or "fitted" or "fixed" or "matched" or "learned"))
+        if (mode is not (null or "" or "fitted" or "fixed" or "matched" or "learned" or "fleet"))
         {
-            throw new ArgumentException($"mode '{mode}' is none of fitted, fixed, matched, learned", nameof(mode));
+            throw new ArgumentException($"mode '{mode}' is none of fitted, fixed, matched, learned, fleet", nameof(mode));
         }
 
-        bool matched = mode == "matched", learned = mode == "learned";
+        bool matched = mode == "matched", learned = mode == "learned", fleet = mode == "fleet";
         bool fit = mode switch
         {
             "fixed" => false,
-            "fitted" or "learned" => true,
+            "fitted" or "learned" or "fleet" => true,
             _ => NoiseProfile.DeliveryVan.GnssErrorIdentification,
         };
         var processor = new TrackProcessor(new TrackOptions(), NoiseProfile.DeliveryVan with { GnssErrorIdentification = fit });
         Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
-            $"filter defaults: correlated share {processor.Profile.GnssCorrelatedFraction}, time constant {processor.Profile.GnssErrorTimeConstantS} s, fitted per receiver: {processor.Profile.GnssErrorIdentification}{(matched ? "; the grid's cells with the receiver's own values" : "")}{(learned ? $"; the grid's drives start from the fit of {LearnedDrives} earlier rounds of their receiver" : "")}; {runs} seeds per case"));
+            $"filter defaults: correlated share {processor.Profile.GnssCorrelatedFraction}, time constant {processor.Profile.GnssErrorTimeConstantS} s, fitted per receiver: {processor.Profile.GnssErrorIdentification}{(matched ? "; the grid's cells with the receiver's own values" : "")}{(learned ? $"; the grid's drives start from the fit of {LearnedDrives} earlier rounds of their receiver" : "")}{(fleet ? $"; the grid's drives start from the median fit of {FleetVans} other vans after {LearnedDrives} rounds each" : "")}; {runs} seeds per case"));
         Console.WriteLine("case                         in95 filtered   in95 smoothed  NEES filt  NEES smooth  RMSE raw  filt  smooth  GNSS-only (m)  clean fixes gated  jumps gated  resets  isolated (drives, first after)  fitted f / tau (median of drives' final)");
         if (onlyFaultyStreams)
         {
@@ -81,9 +86,20 @@ internal static class ConsistencyReport
                     return d with { Suite = d.Suite with { GnssCorrelationTauS = tauS, GnssCorrelatedVarianceFraction = share } };
                 }
 
-                // The earlier rounds: other routes and seeds (1251 + 100 r + j, never an evaluated seed), the same receiver.
-                Report(label, cellProcessor, Enumerable.Range(0, runs).Select(r => Cell(1201 + (r * 100))),
-                    earlier: learned ? d => Enumerable.Range(0, LearnedDrives).Select(j => Cell(d.Seed + 50 + j)) : null);
+                // The earlier rounds: other routes and seeds (1251 + 100 r + j, never an evaluated seed), the same receiver;
+                // the fleet's vans: seeds 1290 + 100 v + j, neither evaluated nor another drive's earlier rounds.
+                Func<RealisticDrive, TrackState>? start = null;
+                if (learned)
+                {
+                    start = d => TrackReplay.StartAfter(cellProcessor, Enumerable.Range(0, LearnedDrives).Select(j => Cell(d.Seed + 50 + j).Generate().Measurements));
+                }
+                else if (fleet)
+                {
+                    var fleetStart = new Lazy<TrackState>(() => FleetStart(cellProcessor, v => Enumerable.Range(0, LearnedDrives).Select(j => Cell(1290 + (v * 100) + j))));
+                    start = _ => fleetStart.Value;
+                }
+
+                Report(label, cellProcessor, Enumerable.Range(0, runs).Select(r => Cell(1201 + (r * 100))), start: start);
             }
         }
 
@@ -128,16 +144,35 @@ internal static class ConsistencyReport
             ? Measurement.GnssVelocity(m.TimeUs, m.MessageKey, m.Value0, double.NaN, m.Value2) : m);
     }
 
-    /// <summary>The state a drive starts from: empty, or in the learned mode the fit of its receiver's earlier rounds.</summary>
-    private static TrackState Learned(TrackProcessor processor, RealisticDrive drive, Func<RealisticDrive, IEnumerable<RealisticDrive>>? earlier) =>
-        earlier is null ? TrackState.Empty : TrackReplay.StartAfter(processor, earlier(drive).Select(d => d.Generate().Measurements));
+    /// <summary>
+    /// A new van's start in the fleet mode: the median share and time constant of what <see cref="FleetVans"/> vans fitted
+    /// over their rounds (those without a fit left out, as the service leaves them out).
+    /// </summary>
+    private static TrackState FleetStart(TrackProcessor processor, Func<int, IEnumerable<RealisticDrive>> roundsOfVan)
+    {
+        var shares = new List<double>();
+        var timeConstantsS = new List<double>();
+        for (int v = 0; v < FleetVans; v++)
+        {
+            GnssErrorVariogram fit = TrackReplay.StartAfter(processor, roundsOfVan(v).Select(d => d.Generate().Measurements)).GnssErrorFit;
+            if (fit.HasEstimate)
+            {
+                shares.Add(fit.Share);
+                timeConstantsS.Add(fit.TimeConstantS);
+            }
+        }
+
+        double share = Median(shares), timeConstantS = Median(timeConstantsS);
+        Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"  fleet start: f = {share:F3}, tau = {timeConstantS:F1} s (median of {shares.Count} vans)"));
+        return TrackState.StartingFrom(share, timeConstantS);
+    }
 
     // Cases whose label contains this text are run, all when null (third argument of the command).
     private static string? _onlyCases;
 
     private static void Report(
         string label, TrackProcessor processor, IEnumerable<RealisticDrive> drives, Func<Measurement, Measurement?>? alter = null,
-        Func<RealisticDrive, IEnumerable<RealisticDrive>>? earlier = null)
+        Func<RealisticDrive, TrackState>? start = null)
     {
         if (_onlyCases is { } only && !label.Contains(only, StringComparison.Ordinal))
         {
@@ -179,7 +214,7 @@ internal static class ConsistencyReport
             List<Measurement> measurements = alter is null
                 ? [.. run.Measurements]
                 : [.. run.Measurements.Select(alter).Where(m => m is not null).Select(m => m!.Value)];
-            ReplayResult replay = TrackReplay.Run(processor, Learned(processor, drive, earlier), measurements);
+            ReplayResult replay = TrackReplay.Run(processor, start?.Invoke(drive) ?? TrackState.Empty, measurements);
             GnssErrorVariogram fit = replay.Final.GnssErrorFit;
             fittedShares.Add(fit.HasEstimate ? fit.Share : processor.Profile.GnssCorrelatedFraction);
             fittedTimeConstantsS.Add(fit.HasEstimate ? fit.TimeConstantS : processor.Profile.GnssErrorTimeConstantS);

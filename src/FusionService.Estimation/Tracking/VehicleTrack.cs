@@ -57,6 +57,22 @@ public sealed class VehicleTrack
     }
 
     /// <summary>
+    /// Creates a track that has seen nothing yet and starts from <paramref name="start"/>, a fresh state such as
+    /// <see cref="TrackState.StartingFrom"/> gives (its receiver fit starting from a given pair).
+    /// </summary>
+    public VehicleTrack(TrackProcessor processor, in TrackState start)
+        : this(processor)
+    {
+        if (start.Phase != TrackPhase.Empty || start.TimeUs != long.MinValue)
+        {
+            throw new ArgumentException("a start state has seen no measurement; continue from a checkpoint with its last measurement instead", nameof(start));
+        }
+
+        _current = start;
+        _checkpoints[0].Store(start, default, true);
+    }
+
+    /// <summary>
     /// Creates a track that continues from a stored checkpoint (see <see cref="BaseCheckpoint"/>), for example after a
     /// restart: feed it the stored measurements that follow <paramref name="last"/> in canonical order and it reaches the
     /// state an uninterrupted track would have. Measurements at or before <paramref name="last"/> are too late.

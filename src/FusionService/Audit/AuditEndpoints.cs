@@ -152,6 +152,7 @@ public static class AuditEndpoints
         var explanation = await ExplainReplay.BuildAsync(
             new AuditRepository(database.ReadDataSource),
             new FilterCheckpointRepository(database.ReadDataSource),
+            new ReceiverFitRepository(database.ReadDataSource),
             processor,
             settings,
             caller.FleetId,

@@ -5,6 +5,8 @@ using FusionService.Estimation.Models;
 using FusionService.Estimation.Tracking;
 using FusionService.Storage.Audit;
 using FusionService.Storage.Checkpoints;
+using FusionService.Storage.Vehicles;
+using FusionService.Tracking;
 using FusionService.Storage.Measurements;
 using FusionService.Vehicles;
 
@@ -45,6 +47,7 @@ public sealed class ExplainReplay : ITrackObserver
     public static async Task<ExplainResponse> BuildAsync(
         AuditRepository audit,
         FilterCheckpointRepository checkpoints,
+        ReceiverFitRepository receiverFits,
         TrackProcessor processor,
         AuditOptions options,
         Guid fleetId,
@@ -74,7 +77,8 @@ public sealed class ExplainReplay : ITrackObserver
         }
         else
         {
-            track = new VehicleTrack(processor);
+            // From the first measurement read: where the vehicle's track started (its receiver fit's starting pair).
+            track = new VehicleTrack(processor, TrackStore.StartState(await receiverFits.StartOfAsync(fleetId, vehicle, cancellationToken).ConfigureAwait(false)));
             exact = !await audit.AnyMeasurementBeforeAsync(fleetId, vehicle, lowerUs, cancellationToken).ConfigureAwait(false);
         }
 

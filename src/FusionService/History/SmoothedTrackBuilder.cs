@@ -9,6 +9,8 @@ using FusionService.Operations;
 using FusionService.Storage.Checkpoints;
 using FusionService.Storage.History;
 using FusionService.Storage.Measurements;
+using FusionService.Storage.Vehicles;
+using FusionService.Tracking;
 using Microsoft.Extensions.Options;
 
 namespace FusionService.History;
@@ -56,7 +58,7 @@ internal sealed class SmoothedTrackBuilder(
         long startedAt = Stopwatch.GetTimestamp();
         long leadUs = (long)Math.Round(options.Value.ReplayLeadHours * 3.6e9);
         long readFromUs = fromUs - leadUs;
-        TrackState start = TrackState.Empty;
+        TrackState start;
         Measurement? floor = null;
         var checkpoints = new FilterCheckpointRepository(database.ReadDataSource);
         var checkpoint = await checkpoints.NewestCheckpointBeforeAsync(fleetId, vehicle, fromUs + 1, cancellationToken).ConfigureAwait(false);
@@ -66,6 +68,11 @@ internal sealed class SmoothedTrackBuilder(
             start = state;
             floor = last;
             readFromUs = last.TimeUs;
+        }
+        else
+        {
+            // From the first measurement read: where the vehicle's track started (its receiver fit's starting pair).
+            start = TrackStore.StartState(await new ReceiverFitRepository(database.ReadDataSource).StartOfAsync(fleetId, vehicle, cancellationToken).ConfigureAwait(false));
         }
 
         var seams = await SeamsAsync(checkpoints, fleetId, vehicle, Math.Max(fromUs, readFromUs), toUs, cancellationToken).ConfigureAwait(false);

@@ -41,6 +41,18 @@ public sealed class GnssErrorModelOptions
     /// </summary>
     public bool FitPerVehicle { get; set; } = NoiseProfile.DeliveryVan.GnssErrorIdentification;
 
+    /// <summary>
+    /// How many of a fleet's other vehicles must hold a fit on at least as much evidence of their own as the prior weighs
+    /// (<see cref="GnssErrorVariogram.PriorLongPairs"/> long-lag terms, about ten minutes of standing) before a vehicle the
+    /// fleet has not had before starts its fit from their median share and median time constant instead of the two values
+    /// above. Default 3: on the receiver that is over-confident from the two values (errors correlated over 120 s with
+    /// 80-95 % of their variance) a new van's first round then holds the band (docs/estimation.md, "A new vehicle starts
+    /// from its fleet's receivers"). Decided once per vehicle, before its first measurement is filtered, and kept; 0 turns
+    /// it off, and so does <see cref="FitPerVehicle"/> false.
+    /// </summary>
+    [Range(0, 1000)]
+    public int FleetStartMinVehicles { get; set; } = 3;
+
     /// <summary>The delivery-van noise profile with this model.</summary>
     public NoiseProfile ToProfile() => NoiseProfile.DeliveryVan with
     {

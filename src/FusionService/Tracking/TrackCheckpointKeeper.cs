@@ -133,7 +133,8 @@ internal sealed class TrackCheckpointKeeper(
                 TrackStateCodec.Version,
                 TrackStateCodec.Encode(state, lastMeasurement)),
             // The checkpoints between the newest one kept as history and this one are superseded by it.
-            _historySpacingUs > 0 ? _lastHistoryUs : long.MinValue);
+            _historySpacingUs > 0 ? _lastHistoryUs : long.MinValue,
+            state.GnssErrorFit);
         _lastPersistedUs = lastMeasurement.TimeUs;
         if (KeptAsHistory(lastMeasurement.TimeUs, _lastHistoryUs))
         {

@@ -1,7 +1,10 @@
 // What a vehicle track reads from and writes to PostgreSQL itself, through the store gate.
 using FusionService.Database;
+using FusionService.Estimation.Models;
+using FusionService.Estimation.Tracking;
 using FusionService.Storage.Checkpoints;
 using FusionService.Storage.Measurements;
+using FusionService.Storage.Vehicles;
 using Npgsql;
 
 namespace FusionService.Tracking;
@@ -58,16 +61,45 @@ internal sealed class TrackStore(FusionDatabase database, TrackStoreGate gate)
     /// Stores <paramref name="checkpoint"/> and deletes the vehicle's checkpoints after <paramref name="supersededAfterUs"/>
     /// and before it, which it supersedes.
     /// </summary>
-    public Task StoreCheckpointAsync(FilterCheckpointRow checkpoint, long supersededAfterUs)
+    public Task StoreCheckpointAsync(FilterCheckpointRow checkpoint, long supersededAfterUs, GnssErrorVariogram fit)
     {
         var checkpoints = new FilterCheckpointRepository(database.DataSource);
         return RunAsync(async () =>
         {
             await checkpoints.UpsertAsync(checkpoint);
             await checkpoints.DeleteBetweenAsync(checkpoint.FleetId, checkpoint.VehicleId, supersededAfterUs, checkpoint.TimeUs);
+            if (fit.HasEstimate)
+            {
+                // The receiver's fit, for the start of the fleet's next new vehicle (ReceiverFitRepository).
+                await new ReceiverFitRepository(database.DataSource).UpsertAsync(
+                    checkpoint.FleetId, checkpoint.VehicleId, fit.Share, fit.TimeConstantS, fit.LongCount);
+            }
+
             return true;
         });
     }
+
+    /// <summary>
+    /// The pair the vehicle's receiver fit starts from, deciding it if it is not yet (<see cref="ReceiverFitRepository.DecideStartAsync"/>):
+    /// <see cref="TrackState.Empty"/> from the configured pair, or a state starting from the fleet's median fit.
+    /// </summary>
+    public async Task<TrackState> DecideStartAsync(Guid fleetId, string vehicleId, GnssErrorModelOptions model, CancellationToken cancellationToken)
+    {
+        if (!model.FitPerVehicle)
+        {
+            return TrackState.Empty;
+        }
+
+        var start = await RunAsync(
+            () => new ReceiverFitRepository(database.DataSource).DecideStartAsync(
+                fleetId, vehicleId, model.FleetStartMinVehicles, GnssErrorVariogram.PriorLongPairs, cancellationToken),
+            cancellationToken);
+        return StartState(start);
+    }
+
+    /// <summary>The fresh track state of a vehicle whose start is <paramref name="start"/> (null: unknown vehicle).</summary>
+    public static TrackState StartState(ReceiverStart? start) =>
+        start is { Share: double share, TimeConstantS: double tauS } ? TrackState.StartingFrom(share, tauS) : TrackState.Empty;
 
     /// <summary>Deletes the vehicle's checkpoints from <paramref name="fromUs"/> on.</summary>
     public Task DeleteCheckpointsFromAsync(Guid fleetId, string vehicleId, long fromUs) =>

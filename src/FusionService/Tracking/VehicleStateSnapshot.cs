@@ -16,6 +16,7 @@ namespace FusionService.Tracking;
 /// <param name="GnssCorrelatedShare">Correlated share of the GNSS error model in use.</param>
 /// <param name="GnssErrorTimeConstantS">Time constant of the GNSS error model in use, seconds.</param>
 /// <param name="GnssErrorFitted">Whether that model is the track's own fit.</param>
+/// <param name="GnssErrorStartedFrom">Where the track's fit started: "fleet" (its fleet's receivers) or "settings".</param>
 [GenerateSerializer]
 [Immutable]
 [Alias("FusionService.Tracking.VehicleStateSnapshot")]
@@ -30,7 +31,8 @@ public sealed record VehicleStateSnapshot(
     [property: Id(7)] int Resets,
     [property: Id(8)] double GnssCorrelatedShare,
     [property: Id(9)] double GnssErrorTimeConstantS,
-    [property: Id(10)] bool GnssErrorFitted)
+    [property: Id(10)] bool GnssErrorFitted,
+    [property: Id(11)] string GnssErrorStartedFrom)
 {
     /// <summary>The snapshot of a running track's state <paramref name="s"/>, or null while it is not running.</summary>
     internal static VehicleStateSnapshot? Of(TrackProcessor processor, in TrackState s, long?[] lastTimeUsBySensor)
@@ -56,6 +58,7 @@ public sealed record VehicleStateSnapshot(
         const string phase = "running";
         (double share, double timeConstantS, bool fitted) = processor.GnssErrorModelOf(s);
         return new VehicleStateSnapshot(
-            s.TimeUs, phase, position.LatitudeDeg, position.LongitudeDeg, x, p, lastTimeUsBySensor, s.Resets, share, timeConstantS, fitted);
+            s.TimeUs, phase, position.LatitudeDeg, position.LongitudeDeg, x, p, lastTimeUsBySensor, s.Resets, share, timeConstantS, fitted,
+            s.GnssErrorFit.HasStart ? "fleet" : "settings");
     }
 }

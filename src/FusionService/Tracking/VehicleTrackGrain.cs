@@ -27,6 +27,7 @@ internal sealed class VehicleTrackGrain(
     TrackPartsFactory parts,
     IOptions<TrackGrainOptions> options,
     IOptions<DatabaseOptions> databaseOptions,
+    IOptions<GnssErrorModelOptions> gnssErrorModel,
     TimeProvider time,
     IClusterMembershipService membership,
     ILogger<VehicleTrackGrain> logger) : Grain, IVehicleTrackGrain
@@ -66,6 +67,12 @@ internal sealed class VehicleTrackGrain(
             floor = last;
             fromUs = last.TimeUs;
             checkpoints.RestoredFrom(last.TimeUs);
+        }
+        else
+        {
+            // From the vehicle's first kept measurement: the start its receiver fit was given (decided now for a vehicle
+            // the fleet has not had before), as every replay from there starts.
+            _track = new VehicleTrack(processor, await store.DecideStartAsync(_fleetId, _vehicleId, gnssErrorModel.Value, cancellationToken));
         }
 
         var (stored, snapshot) = await store.ReadWithSnapshotAsync(_fleetId, _vehicleId, fromUs, nowUs + (7 * 86_400_000_000L), cancellationToken);

@@ -9,4 +9,8 @@ namespace FusionService.Vehicles;
 /// <param name="CorrelatedShare">Correlated share of the variance, in (0, 1).</param>
 /// <param name="TimeConstantS">Time constant of the correlated part, seconds.</param>
 /// <param name="Fitted">Whether the two values are this vehicle's fit rather than the configured ones.</param>
-public sealed record GnssErrorModelResponse(double CorrelatedShare, double TimeConstantS, bool Fitted);
+/// <param name="StartedFrom">
+/// Where the fit started: <c>fleet</c>, the median of what the fleet's other receivers had fitted when the vehicle was
+/// new (<c>GnssErrorModel:FleetStartMinVehicles</c>), or <c>settings</c>, the configured values.
+/// </param>
+public sealed record GnssErrorModelResponse(double CorrelatedShare, double TimeConstantS, bool Fitted, string StartedFrom);

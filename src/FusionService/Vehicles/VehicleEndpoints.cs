@@ -187,7 +187,7 @@ public static class VehicleEndpoints
             new ErrorEllipseResponse(ellipse.SemiMajorM, ellipse.SemiMinorM, ellipse.OrientationRad * RadToDeg),
             new SensorTimesResponse(At(0), At(1), At(2), At(3)),
             s.Resets,
-            new GnssErrorModelResponse(s.GnssCorrelatedShare, s.GnssErrorTimeConstantS, s.GnssErrorFitted),
+            new GnssErrorModelResponse(s.GnssCorrelatedShare, s.GnssErrorTimeConstantS, s.GnssErrorFitted, s.GnssErrorStartedFrom),
             LocationCaution.Text);
     }
 

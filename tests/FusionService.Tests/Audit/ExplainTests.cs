@@ -14,10 +14,26 @@ namespace FusionService.Tests.Audit;
 [Collection(ServiceTests.Name)]
 public sealed class ExplainTests(ServiceFixture fixture)
 {
-    [Fact]
-    public async Task Issue4_a_gated_jump_moves_nothing_and_fused_fixes_match_the_core()
+    /// <param name="fleetStart">
+    /// Whether the fleet's receivers have fitted a pair before the vehicle is new (issue 12): its track then starts from
+    /// their median, and the replay from the first stored measurement must start there too, as the core run directly does.
+    /// </param>
+    [Theory]
+    [InlineData(false)]
+    [InlineData(true)]
+    public async Task Issue4_a_gated_jump_moves_nothing_and_fused_fixes_match_the_core(bool fleetStart)
     {
         var fleet = await fixture.NewFleetAsync();
+        TrackState start = TrackState.Empty;
+        if (fleetStart)
+        {
+            var fits = new FusionService.Storage.Vehicles.ReceiverFitRepository(fixture.Store);
+            await fits.UpsertAsync(fleet.Id, "van-a", 0.93, 110.0, 400);
+            await fits.UpsertAsync(fleet.Id, "van-b", 0.93, 110.0, 400);
+            await fits.UpsertAsync(fleet.Id, "van-c", 0.93, 110.0, 400);
+            start = TrackState.StartingFrom(0.93, 110.0);
+        }
+
         const string vehicle = "van-explain";
         var drive = TelemetryDrive.Create(vehicle, TelemetryDrive.StartUs(TimeSpan.FromMinutes(7)), seed: 31);
         var messages = drive.Messages.Select(m => (Message: (JsonObject)m.Message.DeepClone(), m.Core)).ToList();
@@ -40,7 +56,7 @@ public sealed class ExplainTests(ServiceFixture fixture)
 
         // The reference: the core fed the same measurements, recording every outcome and the state at each time.
         var oracle = new Recorder();
-        var track = new VehicleTrack(new TrackProcessor(new TrackOptions(), NoiseProfile.DeliveryVan));
+        var track = new VehicleTrack(new TrackProcessor(new TrackOptions(), NoiseProfile.DeliveryVan), start);
         foreach (var c in messages.SelectMany(m => m.Core))
         {
             track.Process(c, oracle);

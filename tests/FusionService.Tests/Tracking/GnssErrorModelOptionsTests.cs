@@ -27,7 +27,7 @@ public sealed class GnssErrorModelOptionsTests(ServiceFixture fixture)
         await fixture.Client(fleet.IngestKey, configured).IngestOkAsync(StartingFixes.Two("van-model"));
         await configured.Services.GetRequiredService<TrackWriteQueue>().FlushAsync(CancellationToken.None);
         var state = await fixture.Client(fleet.ReadKey, configured).StateAsync("van-model");
-        Assert.Equal(new GnssErrorModelResponse(0.9, 120.0, Fitted: false), state.GnssErrorModel);
+        Assert.Equal(new GnssErrorModelResponse(0.9, 120.0, Fitted: false, StartedFrom: "settings"), state.GnssErrorModel);
         Assert.Equal(0.9, profile.GnssCorrelatedFraction);
         Assert.Equal(120.0, profile.GnssErrorTimeConstantS);
         Assert.False(profile.GnssErrorIdentification);

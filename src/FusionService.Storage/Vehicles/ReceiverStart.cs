@@ -1,0 +1,14 @@
+namespace FusionService.Storage.Vehicles;
+
+/// <summary>
+/// The GNSS error pair a vehicle's receiver fit starts from (migration 0014): the median of what its fleet's other
+/// receivers fitted, or none (the configured pair).
+/// </summary>
+/// <param name="Decided">Whether the vehicle's start is decided (it is before its first measurement is filtered).</param>
+/// <param name="Share">Correlated share to start from; null: the configured one.</param>
+/// <param name="TimeConstantS">Time constant to start from, seconds; null: the configured one.</param>
+public readonly record struct ReceiverStart(bool Decided, double? Share, double? TimeConstantS)
+{
+    /// <summary>Whether the vehicle starts from a pair of its fleet's rather than the configured one.</summary>
+    public bool FromFleet => Share is not null && TimeConstantS is not null;
+}
