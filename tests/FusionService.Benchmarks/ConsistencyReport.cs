@@ -14,14 +14,14 @@ using static FusionService.Estimation.Models.StateIndex;
 namespace FusionService.Benchmarks;
 
 /// <summary>
-/// `./build.sh bench consistency [runs, default 64] [faulty | text] [fitted | fixed | matched | learned | fleet]` (text: only the
+/// `./build.sh bench consistency [runs, default 64] [faulty | text] [fitted | fixed | matched | learned | fleet] [rounds 1-10, default 3]` (text: only the
 /// cases whose label contains it, "" for all; fitted: with <see cref="NoiseProfile.GnssErrorIdentification"/> on, the
 /// default; fixed: with it off; matched: each cell of the receiver grid filtered with that receiver's own share and time
 /// constant, as a fleet that sets section <c>GnssErrorModel</c> to its receivers' values; learned: each drive of the
-/// receiver grid starts with the fit its track made over <see cref="LearnedDrives"/> earlier rounds of the same receiver,
+/// receiver grid starts with the fit its track made over <c>rounds</c> earlier rounds of the same receiver,
 /// as a van's track carries it from day to day; fleet: each drive of the receiver grid is a new van's first round, its
 /// fit starting from the median of what <see cref="FleetVans"/> other vans with the same receiver fitted over
-/// <see cref="LearnedDrives"/> rounds each, as the service starts a vehicle it has not seen): runs the filter with its default options and noise profile over the realistic
+/// <c>rounds</c> rounds each, as the service starts a vehicle it has not seen): runs the filter with its default options and noise profile over the realistic
 /// drives of <see cref="RealisticDrives"/> (clean sky, multipath, outage, tow, park beside a building, HDOP-only) and over
 /// a grid of GNSS error correlation times (20, 60, 120 s) and correlated shares (50, 80, 95 %) of the clean-sky drive,
 /// each with <c>runs</c> seeds, and prints per case: how often the truth lies inside the 95 % ellipse of the filtered
@@ -36,14 +36,16 @@ internal static class ConsistencyReport
     // Upper 5 % point of chi-square with 2 dof, -2 ln 0.05 (NIST/SEMATECH handbook 1.3.6.7.4; derived).
     private const double Inside95 = 5.991464547107979;
 
-    /// <summary>Earlier half-hour rounds of the same receiver whose fit a drive of the grid starts from in the learned mode.</summary>
+    /// <summary>Earlier half-hour rounds of the same receiver whose fit a drive of the grid starts from in the learned mode, by default.</summary>
     public const int LearnedDrives = 3;
 
     /// <summary>Vans of the fleet whose fits, after <see cref="LearnedDrives"/> rounds each, give a new van's start in the fleet mode.</summary>
     public const int FleetVans = 8;
 
-    public static void Run(int runs, bool onlyFaultyStreams = false, string? onlyCases = null, string? mode = null)
+    public static void Run(int runs, bool onlyFaultyStreams = false, string? onlyCases = null, string? mode = null, int earlierRounds = LearnedDrives)
     {
+        ArgumentOutOfRangeException.ThrowIfLessThan(earlierRounds, 1);
+        ArgumentOutOfRangeException.ThrowIfGreaterThan(earlierRounds, 10);
         _onlyCases = onlyCases;
         if (mode is not (null or "" or "fitted" or "fixed" or "matched" or "learned" or "fleet"))
         {
@@ -59,7 +61,7 @@ internal static class ConsistencyReport
         };
         var processor = new TrackProcessor(new TrackOptions(), NoiseProfile.DeliveryVan with { GnssErrorIdentification = fit });
         Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
-            $"filter defaults: correlated share {processor.Profile.GnssCorrelatedFraction}, time constant {processor.Profile.GnssErrorTimeConstantS} s, fitted per receiver: {processor.Profile.GnssErrorIdentification}{(matched ? "; the grid's cells with the receiver's own values" : "")}{(learned ? $"; the grid's drives start from the fit of {LearnedDrives} earlier rounds of their receiver" : "")}{(fleet ? $"; the grid's drives start from the median fit of {FleetVans} other vans after {LearnedDrives} rounds each" : "")}; {runs} seeds per case"));
+            $"filter defaults: correlated share {processor.Profile.GnssCorrelatedFraction}, time constant {processor.Profile.GnssErrorTimeConstantS} s, fitted per receiver: {processor.Profile.GnssErrorIdentification}{(matched ? "; the grid's cells with the receiver's own values" : "")}{(learned ? $"; the grid's drives start from the fit of {earlierRounds} earlier rounds of their receiver" : "")}{(fleet ? $"; the grid's drives start from the median fit of {FleetVans} other vans after {earlierRounds} rounds each" : "")}; {runs} seeds per case"));
         Console.WriteLine("case                         in95 filtered   in95 smoothed  NEES filt  NEES smooth  RMSE raw  filt  smooth  GNSS-only (m)  clean fixes gated  jumps gated  resets  isolated (drives, first after)  fitted f / tau (median of drives' final)");
         if (onlyFaultyStreams)
         {
@@ -87,15 +89,15 @@ internal static class ConsistencyReport
                 }
 
                 // The earlier rounds: other routes and seeds (1251 + 100 r + j, never an evaluated seed), the same receiver;
-                // the fleet's vans: seeds 1290 + 100 v + j, neither evaluated nor another drive's earlier rounds.
+                // the fleet's vans: seeds 1290 + 100 v + j (at most ten rounds), neither evaluated nor another drive's earlier rounds.
                 Func<RealisticDrive, TrackState>? start = null;
                 if (learned)
                 {
-                    start = d => TrackReplay.StartAfter(cellProcessor, Enumerable.Range(0, LearnedDrives).Select(j => Cell(d.Seed + 50 + j).Generate().Measurements));
+                    start = d => TrackReplay.StartAfter(cellProcessor, Enumerable.Range(0, earlierRounds).Select(j => Cell(d.Seed + 50 + j).Generate().Measurements));
                 }
                 else if (fleet)
                 {
-                    var fleetStart = new Lazy<TrackState>(() => FleetStart(cellProcessor, v => Enumerable.Range(0, LearnedDrives).Select(j => Cell(1290 + (v * 100) + j))));
+                    var fleetStart = new Lazy<TrackState>(() => FleetStart(cellProcessor, v => Enumerable.Range(0, earlierRounds).Select(j => Cell(1290 + (v * 100) + j))));
                     start = _ => fleetStart.Value;
                 }
 

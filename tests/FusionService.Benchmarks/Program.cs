@@ -57,7 +57,8 @@ if (args.Length > 0 && string.Equals(args[0], "consistency", StringComparison.Or
         args.Length > 1 ? int.Parse(args[1], System.Globalization.CultureInfo.InvariantCulture) : 64,
         onlyFaultyStreams: args.Length > 2 && string.Equals(args[2], "faulty", StringComparison.Ordinal),
         onlyCases: args.Length > 2 && !string.Equals(args[2], "faulty", StringComparison.Ordinal) && args[2].Length > 0 ? args[2] : null,
-        mode: args.Length > 3 ? args[3] : null);
+        mode: args.Length > 3 ? args[3] : null,
+        earlierRounds: args.Length > 4 ? int.Parse(args[4], System.Globalization.CultureInfo.InvariantCulture) : ConsistencyReport.LearnedDrives);
     return;
 }
 

@@ -15,8 +15,21 @@ public static class TrackStateCodec
     /// <summary>Format version written in the first byte.</summary>
     public const byte Version = 8;
 
+    /// <summary>
+    /// The earlier format still read: version 7, the same but for the receiver fit's starting pair, read as none (the
+    /// profile's, which is what tracks of that version started from), so that an upgrade restores tracks from their
+    /// checkpoints instead of replaying every vehicle's kept days.
+    /// </summary>
+    public const byte PreviousVersion = 7;
+
+    /// <summary>Whether a checkpoint of format <paramref name="version"/> can be decoded.</summary>
+    public static bool CanDecode(short version) => version is Version or PreviousVersion;
+
     /// <summary>Size of an encoded checkpoint, bytes.</summary>
     public const int EncodedLength = 1 + (StateVector.Length * 8) + (StateMatrix.Size * (StateMatrix.Size + 1) / 2 * 8) + 8 + 1 + (3 * 8) + 3 + 8 + 1 + (1 + 8 + (3 * 8) + 1) + (1 + 8 + (4 * 8)) + 8 + 4 + 4 + (8 + 8 + 8 + 8 + 4) + 12 + 8 + (1 + 8 + 4 + 8 + 4 + 8) + 4 + 16 + 8 + 8 + AgreementLength + FitLength + StepsLength;
+
+    // Version 7 lacks the fit's starting pair, two doubles.
+    private const int PreviousEncodedLength = EncodedLength - (2 * 8);
 
     // GnssErrorVariogram: 2 flags, 2 times, 16 doubles.
     private const int FitLength = 2 + (2 * 8) + (16 * 8);
@@ -109,13 +122,15 @@ public static class TrackStateCodec
         w.Float(last.Value2);
     }
 
-    /// <summary>Decodes what <see cref="Encode"/> wrote.</summary>
+    /// <summary>Decodes what <see cref="Encode"/> wrote, or a checkpoint of <see cref="PreviousVersion"/>.</summary>
     /// <exception cref="FormatException">Wrong length or unknown version.</exception>
     public static (TrackState State, Measurement Last) Decode(ReadOnlySpan<byte> data)
     {
-        if (data.Length != EncodedLength || data[0] != Version)
+        bool current = data.Length == EncodedLength && data[0] == Version;
+        if (!current && !(data.Length == PreviousEncodedLength && data[0] == PreviousVersion))
         {
-            throw new FormatException($"not a version {Version} track checkpoint of {EncodedLength} bytes (got {data.Length} bytes, version {(data.IsEmpty ? -1 : data[0])})");
+            throw new FormatException(
+                $"not a version {Version} track checkpoint of {EncodedLength} bytes nor a version {PreviousVersion} one of {PreviousEncodedLength} (got {data.Length} bytes, version {(data.IsEmpty ? -1 : data[0])})");
         }
 
         var r = new Reader(data[1..]);
@@ -169,7 +184,7 @@ public static class TrackStateCodec
         s.CarrySlow = r.Int();
         s.CarrySlowSinceUs = r.Long();
         s.Agreement = ReadAgreement(ref r);
-        s.GnssErrorFit = ReadFit(ref r);
+        s.GnssErrorFit = ReadFit(ref r, withStart: current);
         s.MultipathSteps = ReadSteps(ref r);
         long timeUs = r.Long();
         ulong orderKey = (ulong)r.Long();
@@ -255,7 +270,7 @@ public static class TrackStateCodec
         w.Double(f.StartTimeConstantS);
     }
 
-    private static Models.GnssErrorVariogram ReadFit(ref Reader r) => new()
+    private static Models.GnssErrorVariogram ReadFit(ref Reader r, bool withStart) => new()
     {
         HasPrevious = r.Bool(),
         PreviousUs = r.Long(),
@@ -275,8 +290,8 @@ public static class TrackStateCodec
         LongLagSumS = r.Double(),
         Share = r.Double(),
         TimeConstantS = r.Double(),
-        StartShare = r.Double(),
-        StartTimeConstantS = r.Double(),
+        StartShare = withStart ? r.Double() : 0,
+        StartTimeConstantS = withStart ? r.Double() : 0,
     };
 
     private static void WriteAgreement(ref Writer w, in StreamAgreement a)

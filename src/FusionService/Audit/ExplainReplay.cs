@@ -66,7 +66,7 @@ public sealed class ExplainReplay : ITrackObserver
         bool fromCheckpoint = false;
         bool exact;
         var checkpoint = await checkpoints.NewestCheckpointBeforeAsync(fleetId, vehicle, replay._windowFromUs, cancellationToken).ConfigureAwait(false);
-        if (checkpoint is { } row && row.PayloadVersion == TrackStateCodec.Version && row.TimeUs >= lowerUs)
+        if (checkpoint is { } row && TrackStateCodec.CanDecode(row.PayloadVersion) && row.TimeUs >= lowerUs)
         {
             var (state, last) = TrackStateCodec.Decode(row.Payload.Span);
             track = new VehicleTrack(processor, state, last);

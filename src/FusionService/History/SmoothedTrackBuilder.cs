@@ -62,7 +62,7 @@ internal sealed class SmoothedTrackBuilder(
         Measurement? floor = null;
         var checkpoints = new FilterCheckpointRepository(database.ReadDataSource);
         var checkpoint = await checkpoints.NewestCheckpointBeforeAsync(fleetId, vehicle, fromUs + 1, cancellationToken).ConfigureAwait(false);
-        if (checkpoint is { } row && row.PayloadVersion == TrackStateCodec.Version && row.TimeUs >= readFromUs)
+        if (checkpoint is { } row && TrackStateCodec.CanDecode(row.PayloadVersion) && row.TimeUs >= readFromUs)
         {
             var (state, last) = TrackStateCodec.Decode(row.Payload.Span);
             start = state;
@@ -167,7 +167,7 @@ internal sealed class SmoothedTrackBuilder(
         var usable = new List<Seam>(rows.Count);
         foreach (var row in rows)
         {
-            if (row.PayloadVersion != TrackStateCodec.Version)
+            if (!TrackStateCodec.CanDecode(row.PayloadVersion))
             {
                 continue;
             }

@@ -115,7 +115,7 @@ internal sealed class VehicleTrackGrain(
     private async Task<FilterCheckpointRow?> RestorePointAsync(long keptFromUs, CancellationToken cancellationToken)
     {
         var newest = await store.NewestCheckpointAsync(_fleetId, _vehicleId, cancellationToken);
-        if (newest is not { } row || row.PayloadVersion != TrackStateCodec.Version)
+        if (newest is not { } row || !TrackStateCodec.CanDecode(row.PayloadVersion))
         {
             return null;
         }
@@ -141,7 +141,7 @@ internal sealed class VehicleTrackGrain(
             earliestUs,
             behind.Count);
         var earlier = await store.CheckpointBeforeAsync(_fleetId, _vehicleId, earliestUs, cancellationToken);
-        return earlier is { } e && e.PayloadVersion == TrackStateCodec.Version ? e : null;
+        return earlier is { } e && TrackStateCodec.CanDecode(e.PayloadVersion) ? e : null;
     }
 
     public override async Task OnDeactivateAsync(DeactivationReason reason, CancellationToken cancellationToken)

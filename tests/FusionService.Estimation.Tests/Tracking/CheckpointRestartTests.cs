@@ -55,6 +55,42 @@ public sealed class CheckpointRestartTests
         Assert.Equal(110.0, state.GnssErrorFit.StartTimeConstantS);
     }
 
+    /// <summary>
+    /// A checkpoint written before the fit's starting pair was stored (format 7: the same bytes without those two
+    /// doubles) decodes to the state it held, the pair read as none (the profile's, which such tracks started from), so
+    /// that an upgrade restores tracks instead of replaying their kept days.
+    /// </summary>
+    [Fact]
+    public void A_version_7_checkpoint_decodes_as_a_track_that_started_from_the_profile()
+    {
+        var drive = SimpleDrive.Create(seed: 71, durationS: 300, gyroBiasRps: 0.003, stopFromS: 200);
+        var track = new VehicleTrack(new TrackProcessor(new TrackOptions(), NoiseProfile.DeliveryVan));
+        foreach (Measurement m in drive.Measurements)
+        {
+            track.Process(m);
+        }
+
+        var (state, last) = track.BaseCheckpoint;
+        Assert.NotNull(last);
+        byte[] current = TrackStateCodec.Encode(state, last.Value);
+        // Where the pair lies: the first byte that differs when the share is 0.3 (its lowest byte 0x33) instead of 0.
+        TrackState marked = state;
+        marked.GnssErrorFit.StartShare = 0.3;
+        int at = current.AsSpan().CommonPrefixLength(TrackStateCodec.Encode(marked, last.Value));
+        byte[] previous = [.. current[..at], .. current[(at + 16)..]];
+        previous[0] = TrackStateCodec.PreviousVersion;
+
+        var (decoded, decodedLast) = TrackStateCodec.Decode(previous);
+
+        OrderIndependenceTests.AssertBitwiseEqual(state, decoded);
+        Assert.Equal(last.Value, decodedLast);
+        Assert.True(TrackStateCodec.CanDecode(7) && TrackStateCodec.CanDecode(8) && !TrackStateCodec.CanDecode(6));
+        // The current version at the earlier length is neither.
+        byte[] mislabelled = [.. previous];
+        mislabelled[0] = TrackStateCodec.Version;
+        Assert.Throws<FormatException>(() => TrackStateCodec.Decode(mislabelled));
+    }
+
     [Fact]
     public void Decoding_rejects_a_wrong_version_or_length()
     {

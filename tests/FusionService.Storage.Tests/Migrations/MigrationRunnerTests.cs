@@ -11,7 +11,7 @@ namespace FusionService.Storage.Tests.Migrations;
 public sealed class MigrationRunnerTests(PostgresFixture server)
 {
     private static readonly string[] InitialTables =
-        ["alert_rules", "alerts", "api_keys", "cluster_members", "cluster_versions", "data_protection_keys", "duplicate_counts", "filter_checkpoints", "fleets", "fused_states", "measurement_chunks", "schema_migrations", "vehicle_latest_states", "vehicle_receipts", "vehicles", "webhook_outbox", "webhooks"];
+        ["alert_rules", "alerts", "api_keys", "cluster_members", "cluster_versions", "data_protection_keys", "duplicate_counts", "filter_checkpoints", "fleets", "fused_states", "measurement_chunks", "schema_migrations", "vehicle_latest_states", "vehicle_receipts", "vehicle_receiver_fits", "vehicles", "webhook_outbox", "webhooks"];
 
     [Fact]
     public async Task Embedded_migrations_apply_into_the_named_schema_and_are_recorded()
