@@ -1,5 +1,6 @@
 // When one vehicle's track stores its checkpoint, and which checkpoints it keeps.
 using FusionService.Estimation.Measurements;
+using FusionService.Estimation.Models;
 using FusionService.Estimation.Tracking;
 using FusionService.Storage.Checkpoints;
 
@@ -20,6 +21,10 @@ internal sealed class TrackCheckpointKeeper(
 {
     private readonly long _historySpacingUs = (long)Math.Round(options.HistoryCheckpointSpacingMin * 6e7);
     private long _lastPersistedUs = long.MinValue;
+
+    // The receiver fit last stored beside a checkpoint: it changes only when a standing van closes a long-lag pair, so
+    // most checkpoints store none.
+    private (double Share, double TimeConstantS, double LongCount) _storedFit;
 
     // At most this many checkpoints wait for their rows (only while the writes stall for long); none is taken beyond.
     private const int MaxWaiting = 16;
@@ -134,13 +139,18 @@ internal sealed class TrackCheckpointKeeper(
                 TrackStateCodec.Encode(state, lastMeasurement)),
             // The checkpoints between the newest one kept as history and this one are superseded by it.
             _historySpacingUs > 0 ? _lastHistoryUs : long.MinValue,
-            state.GnssErrorFit);
+            FitChanged(state.GnssErrorFit) ? state.GnssErrorFit : null);
+        _storedFit = (state.GnssErrorFit.Share, state.GnssErrorFit.TimeConstantS, state.GnssErrorFit.LongCount);
         _lastPersistedUs = lastMeasurement.TimeUs;
         if (KeptAsHistory(lastMeasurement.TimeUs, _lastHistoryUs))
         {
             _lastHistoryUs = lastMeasurement.TimeUs;
         }
     }
+
+    /// <summary>Whether <paramref name="fit"/> is an estimate other than the one last stored.</summary>
+    private bool FitChanged(in GnssErrorVariogram fit) =>
+        fit.HasEstimate && (fit.Share, fit.TimeConstantS, fit.LongCount) != _storedFit;
 
     /// <summary>The newest checkpoint taken, waiting or stored.</summary>
     private long LastTakenUs => _waiting.Count > 0 ? _waiting[^1].Last.TimeUs : _lastPersistedUs;

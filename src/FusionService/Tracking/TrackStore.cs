@@ -59,20 +59,20 @@ internal sealed class TrackStore(FusionDatabase database, TrackStoreGate gate)
 
     /// <summary>
     /// Stores <paramref name="checkpoint"/> and deletes the vehicle's checkpoints after <paramref name="supersededAfterUs"/>
-    /// and before it, which it supersedes.
+    /// and before it, which it supersedes; and the track's receiver fit when one is given (null: unchanged since the last).
     /// </summary>
-    public Task StoreCheckpointAsync(FilterCheckpointRow checkpoint, long supersededAfterUs, GnssErrorVariogram fit)
+    public Task StoreCheckpointAsync(FilterCheckpointRow checkpoint, long supersededAfterUs, GnssErrorVariogram? fit)
     {
         var checkpoints = new FilterCheckpointRepository(database.DataSource);
         return RunAsync(async () =>
         {
             await checkpoints.UpsertAsync(checkpoint);
             await checkpoints.DeleteBetweenAsync(checkpoint.FleetId, checkpoint.VehicleId, supersededAfterUs, checkpoint.TimeUs);
-            if (fit.HasEstimate)
+            if (fit is { HasEstimate: true } f)
             {
                 // The receiver's fit, for the start of the fleet's next new vehicle (ReceiverFitRepository).
                 await new ReceiverFitRepository(database.DataSource).UpsertAsync(
-                    checkpoint.FleetId, checkpoint.VehicleId, fit.Share, fit.TimeConstantS, fit.LongCount);
+                    checkpoint.FleetId, checkpoint.VehicleId, f.Share, f.TimeConstantS, f.LongCount);
             }
 
             return true;
