@@ -93,6 +93,7 @@ if (!historyOnly)
 {
     app.MapTelemetryEndpoints();
     app.MapVehicleEndpoints();
+    app.MapReceiverEndpoints();
 }
 
 app.MapHistoryEndpoints();

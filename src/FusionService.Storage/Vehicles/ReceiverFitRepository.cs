@@ -42,7 +42,33 @@ public sealed class ReceiverFitRepository(NpgsqlDataSource dataSource)
         FROM vehicles WHERE fleet_id = @FleetId AND vehicle_id = @VehicleId
         """;
 
+    // Percentiles by percentile_cont (linear interpolation between the ordered values; PostgreSQL manual 9.21).
+    private const string SummarySql = """
+        SELECT count(*) AS Fitted,
+               count(*) FILTER (WHERE long_lag_terms >= @MinLongLagTerms) AS Counted,
+               percentile_cont(0.5) WITHIN GROUP (ORDER BY share) FILTER (WHERE long_lag_terms >= @MinLongLagTerms) AS MedianShare,
+               percentile_cont(0.5) WITHIN GROUP (ORDER BY time_constant_s) FILTER (WHERE long_lag_terms >= @MinLongLagTerms) AS MedianTimeConstantS,
+               percentile_cont(0.1) WITHIN GROUP (ORDER BY share) FILTER (WHERE long_lag_terms >= @MinLongLagTerms) AS ShareP10,
+               percentile_cont(0.9) WITHIN GROUP (ORDER BY share) FILTER (WHERE long_lag_terms >= @MinLongLagTerms) AS ShareP90,
+               percentile_cont(0.1) WITHIN GROUP (ORDER BY time_constant_s) FILTER (WHERE long_lag_terms >= @MinLongLagTerms) AS TimeConstantP10S,
+               percentile_cont(0.9) WITHIN GROUP (ORDER BY time_constant_s) FILTER (WHERE long_lag_terms >= @MinLongLagTerms) AS TimeConstantP90S,
+               (SELECT count(*) FROM vehicles v WHERE v.fleet_id = @FleetId AND v.gnss_start_share IS NOT NULL) AS StartedFromFleet
+        FROM vehicle_receiver_fits
+        WHERE fleet_id = @FleetId
+        """;
+
     private readonly NpgsqlDataSource _dataSource = dataSource ?? throw new ArgumentNullException(nameof(dataSource));
+
+    /// <summary>What the fleet's receivers have fitted; a fit counts when it rests on <paramref name="minLongLagTerms"/> long-lag terms of its own.</summary>
+    public async Task<FleetReceiverSummary> SummaryAsync(Guid fleetId, double minLongLagTerms, CancellationToken cancellationToken = default)
+    {
+        var connection = await _dataSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
+        await using (connection.ConfigureAwait(false))
+        {
+            return await connection.QuerySingleAsync<FleetReceiverSummary>(new CommandDefinition(
+                SummarySql, new { FleetId = fleetId, MinLongLagTerms = minLongLagTerms }, cancellationToken: cancellationToken)).ConfigureAwait(false);
+        }
+    }
 
     /// <summary>Stores the vehicle's newest receiver fit.</summary>
     /// <param name="fleetId">Owning fleet (must exist).</param>

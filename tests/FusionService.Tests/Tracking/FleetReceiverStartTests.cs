@@ -25,6 +25,11 @@ public sealed class FleetReceiverStartTests(ServiceFixture fixture)
         var read = fixture.Client(fleet.ReadKey);
         await ingest.IngestOkAsync(StartingFixes.Two("van-first"));
         var fits = new ReceiverFitRepository(fixture.Store);
+        var none = await Audit.DiagnosticsTests.GetOkAsync(read, "/v1/fleet/receivers");
+        Assert.Equal(0, none.GetProperty("vehicles_fitted").GetInt64());
+        Assert.False(none.TryGetProperty("correlated_share", out _), "no spread without a counted fit");
+        Assert.Equal("settings", none.GetProperty("new_vehicles_start").GetProperty("from").GetString());
+        Assert.Equal(60.0, none.GetProperty("new_vehicles_start").GetProperty("time_constant_s").GetDouble());
         await fits.UpsertAsync(fleet.Id, "van-a", 0.90, 100.0, 60);
         await fits.UpsertAsync(fleet.Id, "van-b", 0.92, 120.0, 40);
         await fits.UpsertAsync(fleet.Id, "van-c", 0.94, 130.0, 400);
@@ -38,6 +43,17 @@ public sealed class FleetReceiverStartTests(ServiceFixture fixture)
         Assert.Equal(("fleet", false), (later.StartedFrom, later.Fitted));
         Assert.Equal(0.92, later.CorrelatedShare, 9);
         Assert.Equal(120.0, later.TimeConstantS, 9);
+        // The fleet's summary: van-d's fit rests on too few terms of its own; the percentiles interpolate linearly between
+        // the ordered values (PostgreSQL percentile_cont): the 10th of 0.90, 0.92, 0.94 is 0.90 + 0.2 x 0.02.
+        var summary = await Audit.DiagnosticsTests.GetOkAsync(read, "/v1/fleet/receivers");
+        Assert.Equal(4, summary.GetProperty("vehicles_fitted").GetInt64());
+        Assert.Equal(3, summary.GetProperty("vehicles_counted").GetInt64());
+        Assert.Equal(1, summary.GetProperty("vehicles_started_from_fleet").GetInt64());
+        Assert.Equal(0.904, summary.GetProperty("correlated_share").GetProperty("p10").GetDouble(), 9);
+        Assert.Equal(128.0, summary.GetProperty("time_constant_s").GetProperty("p90").GetDouble(), 9);
+        Assert.Equal("fleet", summary.GetProperty("new_vehicles_start").GetProperty("from").GetString());
+        Assert.Equal(120.0, summary.GetProperty("new_vehicles_start").GetProperty("time_constant_s").GetDouble(), 9);
+        Assert.Equal(System.Net.HttpStatusCode.Forbidden, (await ingest.GetAsync("/v1/fleet/receivers")).StatusCode);
         // Decided once: the decision is stored for the replays from the vehicle's first measurement.
         Assert.Equal(1L, await fixture.CountAsync(
             "SELECT count(*) FROM vehicles WHERE fleet_id = $1 AND vehicle_id = 'van-later' AND gnss_start_decided AND gnss_start_share IS NOT NULL", fleet.Id));
