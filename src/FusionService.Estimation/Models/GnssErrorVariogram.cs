@@ -20,9 +20,8 @@ namespace FusionService.Estimation.Models;
 /// k₁ &lt; k₂: τ = (k₂ - k₁) / ln(u(k₁) / u(k₂)) and f = u(k₁) exp(k₁/τ) (derived).
 /// </para>
 /// <para>
-/// Both moments start from pseudo-observations of the profile's own (f, τ), or of the pair the track was started from
-/// (<see cref="StartingFrom"/>), (<see cref="PriorShortPairs"/>,
-/// <see cref="PriorLongPairs"/>), so a track without stops keeps the defaults and a few stops move them only part of
+/// Both moments start from pseudo-observations (<see cref="PriorShortPairs"/>, <see cref="PriorLongPairs"/>) of the
+/// profile's own (f, τ), or of the pair the track was started from (<see cref="StartingFrom"/>), so a track without stops keeps the defaults and a few stops move them only part of
 /// the way. A fit from a few stops scatters widely (τ from 38 to 152 s, 10th to 90th percentile, over 64 half-hour
 /// drives of a receiver with τ = 60 s), and a τ fitted too short makes the filter over-confident while one too long
 /// only makes it cautious; so the fit is cautious: the long-lag moment is lowered by <see cref="CautionStandardErrors"/>

@@ -5,9 +5,9 @@ using FusionService.Estimation.Models;
 using FusionService.Estimation.Tracking;
 using FusionService.Storage.Audit;
 using FusionService.Storage.Checkpoints;
+using FusionService.Storage.Measurements;
 using FusionService.Storage.Vehicles;
 using FusionService.Tracking;
-using FusionService.Storage.Measurements;
 using FusionService.Vehicles;
 
 using FusionService.Http;

@@ -37,7 +37,7 @@ public sealed class GnssErrorModelOptions
     /// starting from the two values above and keeping the fit from round to round. Default true: one fixed pair does not
     /// hold the 95 % ellipse over receivers unlike it, the fit does once it has seen a few rounds of stops; a receiver
     /// that reports only HDOP keeps the two values above (docs/estimation.md, "Each receiver's own share and time
-    /// constant"). False pins every track to the two values.
+    /// constant"). False pins every new track to the two values (a track keeps a fit or a fleet start it already carries).
     /// </summary>
     public bool FitPerVehicle { get; set; } = NoiseProfile.DeliveryVan.GnssErrorIdentification;
 

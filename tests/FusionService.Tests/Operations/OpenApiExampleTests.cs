@@ -59,9 +59,9 @@ public sealed class OpenApiExampleTests(ServiceFixture fixture)
             }
         }
 
-        // 18 examples on the vehicle (since issue 15), history, audit, NMEA, alert and webhook endpoints (dead letters and
-        // re-queue since issue 14); all but the track and the NMEA text typed.
-        Assert.Equal(18, examples);
-        Assert.Equal(16, checkedTyped);
+        // 19 examples on the vehicle (since issue 15), history, audit, NMEA, alert and webhook endpoints (dead letters and
+        // re-queue since issue 14) and the fleet's receivers (issue 12); all but the track and the NMEA text typed.
+        Assert.Equal(19, examples);
+        Assert.Equal(17, checkedTyped);
     }
 }
