@@ -33,7 +33,8 @@ public static class ReceiverEndpoints
                 + "medians in section `GnssErrorModel`. The fits describe receivers, not positions; they are estimates. "
                 + "Needs a read or admin key.")
             .ProducesProblem(StatusCodes.Status401Unauthorized)
-            .ProducesProblem(StatusCodes.Status403Forbidden);
+            .ProducesProblem(StatusCodes.Status403Forbidden)
+            .RetryOnStaleConnection();
         return app;
     }
 

@@ -51,7 +51,8 @@ public static class VehicleEndpoints
                 + "&open_alerts=true&limit=50. 400 names the bad parameter. Needs a read or admin key." + Caution + LocationCaution.Documentation)
             .ProducesProblem(StatusCodes.Status400BadRequest)
             .ProducesProblem(StatusCodes.Status401Unauthorized)
-            .ProducesProblem(StatusCodes.Status403Forbidden);
+            .ProducesProblem(StatusCodes.Status403Forbidden)
+            .RetryOnStaleConnection();
         group.MapGet("/{vehicle}/state", GetVehicleState)
             .RequireApiKey(ApiKeyRole.Read, ApiKeyRole.Admin)
             .WithName("GetVehicleState")
@@ -62,7 +63,8 @@ public static class VehicleEndpoints
                 + "404 when the caller's fleet has no such vehicle or it has no position yet. Needs a read or admin key." + Caution + LocationCaution.Documentation)
             .ProducesProblem(StatusCodes.Status401Unauthorized)
             .ProducesProblem(StatusCodes.Status403Forbidden)
-            .ProducesProblem(StatusCodes.Status404NotFound);
+            .ProducesProblem(StatusCodes.Status404NotFound)
+            .RetryOnStaleConnection();
         return app;
     }
 

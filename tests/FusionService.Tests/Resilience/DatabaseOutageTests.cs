@@ -30,6 +30,41 @@ public sealed class DatabaseOutageTests(ServiceFixture fixture)
         Assert.Equal(HttpStatusCode.OK, after.StatusCode);
     }
 
+    /// <summary>
+    /// The light reads (the fleet list, a vehicle's state, the fleet's receivers) run on pools whose idle connections the
+    /// server closed (a restart of PostgreSQL, or here the host's backends terminated, so that no background loop of the
+    /// service notices a failure and clears the pools first): each retries once on a fresh connection instead of
+    /// answering 500 (57P01, "terminating connection due to administrator command", seen in CI after a restart).
+    /// </summary>
+    [Fact]
+    public async Task Light_reads_after_a_database_restart_answer_without_an_error()
+    {
+        var fleet = await fixture.NewFleetAsync();
+        // Its own application name, so that only this host's connections are terminated below (its history-read pool names
+        // itself fusion-history-reads, as every host's does: those opened after this instant are this host's).
+        long hostStartUs = await fixture.CountAsync("SELECT (extract(epoch FROM clock_timestamp()) * 1e6)::bigint");
+        await using var host = new ServiceFactory(
+            fixture.ConnectionString + ";Application Name=light-reads-test", new Dictionary<string, string?> { ["Security:KeyCacheSeconds"] = "60" });
+        await fixture.Client(fleet.IngestKey, host).IngestOkAsync(StartingFixes.Two("van-light"));
+        using var read = fixture.Client(fleet.ReadKey, host);
+        string[] reads = ["/v1/fleet/receivers", "/v1/vehicles", "/v1/vehicles/van-light/state"];
+        foreach (string url in reads)
+        {
+            using var before = await read.GetAsync(url);
+            Assert.Equal(HttpStatusCode.OK, before.StatusCode);
+        }
+
+        Assert.True(await fixture.CountAsync(
+            "SELECT count(*) FILTER (WHERE pg_terminate_backend(pid)) FROM pg_stat_activity WHERE application_name = 'light-reads-test' "
+            + "OR (application_name = 'fusion-history-reads' AND backend_start >= to_timestamp($1 / 1e6))", hostStartUs) > 1);
+        foreach (string url in reads)
+        {
+            using var after = await read.GetAsync(url);
+            Assert.True(after.StatusCode == HttpStatusCode.OK, url + ": " + (int)after.StatusCode + " " + await after.Content.ReadAsStringAsync());
+        }
+
+    }
+
     [Fact]
     public async Task Ingest_answers_503_while_the_database_is_down_and_recovers_without_loss()
     {
