@@ -42,7 +42,8 @@ public static class AlertEndpoints
                 + "400 names the bad parameter. Needs a read or admin key." + Caution + LocationCaution.Documentation)
             .ProducesProblem(StatusCodes.Status400BadRequest)
             .ProducesProblem(StatusCodes.Status401Unauthorized)
-            .ProducesProblem(StatusCodes.Status403Forbidden);
+            .ProducesProblem(StatusCodes.Status403Forbidden)
+            .RetryOnStaleConnection();
         alerts.MapPost("/{id}/acknowledge", AcknowledgeAlert)
             .WithResponseExample(200, "alert-acknowledged.json")
             .RequireApiKey(ApiKeyRole.Admin)
@@ -74,7 +75,8 @@ public static class AlertEndpoints
             .WithSummary("The fleet's alert thresholds")
             .WithDescription("Thresholds of every alert rule of the caller's fleet (defaults unless set). Needs a read or admin key.")
             .ProducesProblem(StatusCodes.Status401Unauthorized)
-            .ProducesProblem(StatusCodes.Status403Forbidden);
+            .ProducesProblem(StatusCodes.Status403Forbidden)
+            .RetryOnStaleConnection();
         rules.MapPut("/", PutAlertRules)
             .WithRequestExample("alert-rules.json")
             .WithResponseExample(200, "alert-rules.json")

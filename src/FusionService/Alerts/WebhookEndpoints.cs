@@ -49,7 +49,8 @@ public static class WebhookEndpoints
             .WithSummary("The fleet's webhook subscriptions")
             .WithDescription("Subscriptions (without their secrets), oldest first. Needs an admin key.")
             .ProducesProblem(StatusCodes.Status401Unauthorized)
-            .ProducesProblem(StatusCodes.Status403Forbidden);
+            .ProducesProblem(StatusCodes.Status403Forbidden)
+            .RetryOnStaleConnection();
         group.MapDelete("/{id}", DeleteWebhook)
             .RequireApiKey(ApiKeyRole.Admin)
             .WithName("DeleteWebhook")
@@ -68,7 +69,8 @@ public static class WebhookEndpoints
             .ProducesProblem(StatusCodes.Status400BadRequest)
             .ProducesProblem(StatusCodes.Status401Unauthorized)
             .ProducesProblem(StatusCodes.Status403Forbidden)
-            .ProducesProblem(StatusCodes.Status404NotFound);
+            .ProducesProblem(StatusCodes.Status404NotFound)
+            .RetryOnStaleConnection();
         group.MapPost("/{id}/dead-letters/requeue", RequeueDeadLetters)
             .WithResponseExample(200, "requeue.json")
             .RequireApiKey(ApiKeyRole.Admin)

@@ -51,7 +51,8 @@ public static class BaseLayerEndpoints
                 + "default 10). Example: GET /v1/base-layer?days=1&cell_m=20. Needs a read or admin key. " + Caution)
             .ProducesProblem(StatusCodes.Status400BadRequest)
             .ProducesProblem(StatusCodes.Status401Unauthorized)
-            .ProducesProblem(StatusCodes.Status403Forbidden);
+            .ProducesProblem(StatusCodes.Status403Forbidden)
+            .RetryOnStaleConnection();
         return app;
     }
 

@@ -26,7 +26,8 @@ public static class FleetEndpoints
             .WithDescription("Every key of the caller's fleet, oldest first, with role, label, state (active, expired, revoked), "
                 + "creation, expiry and revocation times. Secrets are never shown: the service keeps only their SHA-256. Needs an admin key.")
             .ProducesProblem(StatusCodes.Status401Unauthorized)
-            .ProducesProblem(StatusCodes.Status403Forbidden);
+            .ProducesProblem(StatusCodes.Status403Forbidden)
+            .RetryOnStaleConnection();
         keys.MapPost("/", CreateKey)
             .RequireApiKey(ApiKeyRole.Admin)
             .WithName("CreateApiKey")
@@ -71,7 +72,8 @@ public static class FleetEndpoints
                 + "default when the service's Tenancy:DefaultMaxVehicles applies) and how many it has. Messages of a new vehicle "
                 + "beyond the quota are rejected with field vehicle and the quota in the reason. Needs an admin key.")
             .ProducesProblem(StatusCodes.Status401Unauthorized)
-            .ProducesProblem(StatusCodes.Status403Forbidden);
+            .ProducesProblem(StatusCodes.Status403Forbidden)
+            .RetryOnStaleConnection();
         fleet.MapPut("/quota", PutQuota)
             .RequireApiKey(ApiKeyRole.Admin)
             .WithName("PutVehicleQuota")
