@@ -1,5 +1,6 @@
 // Each vehicle's GNSS receiver fit and the pair a new vehicle's fit starts from.
 using Dapper;
+using FusionService.Estimation.Tracking;
 using Npgsql;
 
 namespace FusionService.Storage.Vehicles;
@@ -126,6 +127,13 @@ public sealed class ReceiverFitRepository(NpgsqlDataSource dataSource)
             return await ReadStartAsync(connection, fleetId, vehicleId, cancellationToken).ConfigureAwait(false);
         }
     }
+
+    /// <summary>
+    /// The fresh track state a replay from the vehicle's first measurement starts from (<see cref="ReceiverStart.TrackStart"/>
+    /// of its decided start; <see cref="TrackState.Empty"/> for an unknown vehicle).
+    /// </summary>
+    public async Task<TrackState> StartStateAsync(Guid fleetId, string vehicleId, CancellationToken cancellationToken = default) =>
+        (await StartOfAsync(fleetId, vehicleId, cancellationToken).ConfigureAwait(false))?.TrackStart ?? TrackState.Empty;
 
     private static async Task<ReceiverStart?> ReadStartAsync(NpgsqlConnection connection, Guid fleetId, string vehicleId, CancellationToken cancellationToken)
     {

@@ -1,3 +1,5 @@
+using FusionService.Estimation.Tracking;
+
 namespace FusionService.Storage.Vehicles;
 
 /// <summary>
@@ -9,6 +11,6 @@ namespace FusionService.Storage.Vehicles;
 /// <param name="TimeConstantS">Time constant to start from, seconds; null: the configured one.</param>
 public readonly record struct ReceiverStart(bool Decided, double? Share, double? TimeConstantS)
 {
-    /// <summary>Whether the vehicle starts from a pair of its fleet's rather than the configured one.</summary>
-    public bool FromFleet => Share is not null && TimeConstantS is not null;
+    /// <summary>The fresh track state of the vehicle: its receiver fit starting from the fleet's pair, or from the configured one.</summary>
+    public TrackState TrackStart => Share is double share && TimeConstantS is double tauS ? TrackState.StartingFrom(share, tauS) : TrackState.Empty;
 }

@@ -7,7 +7,6 @@ using FusionService.Storage.Audit;
 using FusionService.Storage.Checkpoints;
 using FusionService.Storage.Measurements;
 using FusionService.Storage.Vehicles;
-using FusionService.Tracking;
 using FusionService.Vehicles;
 
 using FusionService.Http;
@@ -78,7 +77,7 @@ public sealed class ExplainReplay : ITrackObserver
         else
         {
             // From the first measurement read: where the vehicle's track started (its receiver fit's starting pair).
-            track = new VehicleTrack(processor, TrackStore.StartState(await receiverFits.StartOfAsync(fleetId, vehicle, cancellationToken).ConfigureAwait(false)));
+            track = new VehicleTrack(processor, await receiverFits.StartStateAsync(fleetId, vehicle, cancellationToken).ConfigureAwait(false));
             exact = !await audit.AnyMeasurementBeforeAsync(fleetId, vehicle, lowerUs, cancellationToken).ConfigureAwait(false);
         }
 

@@ -10,7 +10,6 @@ using FusionService.Storage.Checkpoints;
 using FusionService.Storage.History;
 using FusionService.Storage.Measurements;
 using FusionService.Storage.Vehicles;
-using FusionService.Tracking;
 using Microsoft.Extensions.Options;
 
 namespace FusionService.History;
@@ -72,7 +71,7 @@ internal sealed class SmoothedTrackBuilder(
         else
         {
             // From the first measurement read: where the vehicle's track started (its receiver fit's starting pair).
-            start = TrackStore.StartState(await new ReceiverFitRepository(database.ReadDataSource).StartOfAsync(fleetId, vehicle, cancellationToken).ConfigureAwait(false));
+            start = await new ReceiverFitRepository(database.ReadDataSource).StartStateAsync(fleetId, vehicle, cancellationToken).ConfigureAwait(false);
         }
 
         var seams = await SeamsAsync(checkpoints, fleetId, vehicle, Math.Max(fromUs, readFromUs), toUs, cancellationToken).ConfigureAwait(false);

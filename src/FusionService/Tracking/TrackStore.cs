@@ -94,12 +94,8 @@ internal sealed class TrackStore(FusionDatabase database, TrackStoreGate gate)
             () => new ReceiverFitRepository(database.DataSource).DecideStartAsync(
                 fleetId, vehicleId, model.FleetStartMinVehicles, GnssErrorVariogram.PriorLongPairs, cancellationToken),
             cancellationToken);
-        return StartState(start);
+        return start?.TrackStart ?? TrackState.Empty;
     }
-
-    /// <summary>The fresh track state of a vehicle whose start is <paramref name="start"/> (null: unknown vehicle).</summary>
-    public static TrackState StartState(ReceiverStart? start) =>
-        start is { Share: double share, TimeConstantS: double tauS } ? TrackState.StartingFrom(share, tauS) : TrackState.Empty;
 
     /// <summary>Deletes the vehicle's checkpoints from <paramref name="fromUs"/> on.</summary>
     public Task DeleteCheckpointsFromAsync(Guid fleetId, string vehicleId, long fromUs) =>
