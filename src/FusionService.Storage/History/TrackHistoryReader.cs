@@ -165,10 +165,16 @@ public sealed class TrackHistoryReader
         int count = 0;
         try
         {
+            // With several connections, all read under the first one's snapshot: a fold of closed windows
+            // (MeasurementChunkFolder) replaces chunks by one with another chunk_id, and connections with snapshots of
+            // their own could see a window's chunks both before and after it, or neither.
+            string? snapshot = null;
             for (int i = 0; i < _replayReadConnections; i++)
             {
-                streams.Add(await ChunkStream.OpenAsync(
-                    _dataSource, fleetId, vehicleId, fromUs, toUs, duplicate, _replayReadConnections, i, cancellationToken).ConfigureAwait(false));
+                var stream = await ChunkStream.OpenAsync(
+                    _dataSource, fleetId, vehicleId, fromUs, toUs, duplicate, _replayReadConnections, i, snapshot, cancellationToken).ConfigureAwait(false);
+                streams.Add(stream);
+                snapshot ??= stream.Snapshot;
             }
 
             // The chunks come back in the one order of (first_us, chunk_id), taken from whichever connection holds the
@@ -248,12 +254,37 @@ public sealed class TrackHistoryReader
 
         public long ChunkId { get; private set; }
 
+        // The snapshot this stream's transaction exported for the others (first of several connections only).
+        public string? Snapshot { get; private set; }
+
+        // With several connections, the first exports its repeatable-read snapshot and the others read under it
+        // (`snapshot`, null for the first).
         public static async Task<ChunkStream> OpenAsync(
             NpgsqlDataSource dataSource, Guid fleetId, string vehicleId, long fromUs, long toUs, short duplicate,
-            int connections, int index, CancellationToken cancellationToken)
+            int connections, int index, string? snapshot, CancellationToken cancellationToken)
         {
             var connection = await dataSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
-            var command = new NpgsqlCommand(ReplayChunksSql, connection);
+            string? exported = null;
+            NpgsqlTransaction? transaction = null;
+            if (connections > 1)
+            {
+                try
+                {
+                    transaction = await connection.BeginTransactionAsync(System.Data.IsolationLevel.RepeatableRead, cancellationToken).ConfigureAwait(false);
+                    await using var share = new NpgsqlCommand(
+                        snapshot is null ? "SELECT pg_export_snapshot()" : "SET TRANSACTION SNAPSHOT '" + snapshot.Replace("'", "''", StringComparison.Ordinal) + "'",
+                        connection,
+                        transaction);
+                    exported = (string?)await share.ExecuteScalarAsync(cancellationToken).ConfigureAwait(false);
+                }
+                catch
+                {
+                    await connection.DisposeAsync().ConfigureAwait(false);
+                    throw;
+                }
+            }
+
+            var command = new NpgsqlCommand(ReplayChunksSql, connection, transaction);
             command.Parameters.AddWithValue("FleetId", fleetId);
             command.Parameters.AddWithValue("VehicleId", vehicleId);
             command.Parameters.AddWithValue("FromUs", fromUs);
@@ -261,7 +292,7 @@ public sealed class TrackHistoryReader
             command.Parameters.AddWithValue("Duplicate", duplicate);
             command.Parameters.AddWithValue("Connections", connections);
             command.Parameters.AddWithValue("Index", index);
-            var stream = new ChunkStream(connection, command);
+            var stream = new ChunkStream(connection, command) { Snapshot = exported };
             try
             {
                 stream._reader = await command.ExecuteReaderAsync(cancellationToken).ConfigureAwait(false);

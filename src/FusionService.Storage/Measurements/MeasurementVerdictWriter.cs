@@ -74,7 +74,6 @@ public static class MeasurementVerdictWriter
             var transaction = await connection.BeginTransactionAsync(cancellationToken).ConfigureAwait(false);
             await using (transaction.ConfigureAwait(false))
             {
-                var vehicles = ranges.Keys.ToArray();
                 // The chunks are looked up by key, one vehicle or chunk at a time: this transaction keeps to the indexes.
                 var planner = new NpgsqlCommand(MeasurementChunks.IndexLookupsSql, connection, transaction);
                 await using (planner.ConfigureAwait(false))
@@ -82,82 +81,117 @@ public static class MeasurementVerdictWriter
                     await planner.ExecuteNonQueryAsync(cancellationToken).ConfigureAwait(false);
                 }
 
+                // A chunk that a fold (MeasurementChunkFolder) deleted while this read waited for its lock is skipped by
+                // the read, and the folded chunk that now holds its measurements was not in the read's snapshot: the
+                // verdicts still unplaced are looked up again by a new statement, which sees the folded chunk. A verdict
+                // whose measurement is not stored stays unplaced; a second look that places nothing ends the search.
                 var changed = new ChangedChunks();
                 int written = 0;
+                for (int pass = 0; pass < 3 && last.Count > 0; pass++)
                 {
-                    var select = new NpgsqlCommand(ChunksSql, connection, transaction);
-                    await using (select.ConfigureAwait(false))
+                    int placed = await PlaceAsync(connection, transaction, last, ranges, changed, cancellationToken).ConfigureAwait(false);
+                    written += placed;
+                    if (placed == 0 && pass > 0)
                     {
-                        select.Parameters.Add(new NpgsqlParameter { Value = vehicles.Select(v => v.FleetId).ToArray(), NpgsqlDbType = NpgsqlDbType.Array | NpgsqlDbType.Uuid });
-                        select.Parameters.Add(new NpgsqlParameter { Value = vehicles.Select(v => v.VehicleId).ToArray(), NpgsqlDbType = NpgsqlDbType.Array | NpgsqlDbType.Text });
-                        select.Parameters.Add(new NpgsqlParameter { Value = vehicles.Select(v => ranges[v].Lo).ToArray(), NpgsqlDbType = NpgsqlDbType.Array | NpgsqlDbType.Bigint });
-                        select.Parameters.Add(new NpgsqlParameter { Value = vehicles.Select(v => ranges[v].Hi).ToArray(), NpgsqlDbType = NpgsqlDbType.Array | NpgsqlDbType.Bigint });
-                        var reader = await select.ExecuteReaderAsync(cancellationToken).ConfigureAwait(false);
-                        await using (reader.ConfigureAwait(false))
-                        {
-                            while (await reader.ReadAsync(cancellationToken).ConfigureAwait(false))
-                            {
-                                var fleetId = reader.GetGuid(0);
-                                var vehicleId = reader.GetString(1);
-                                int n = reader.GetInt32(4);
-                                var time = new long[n];
-                                var kind = new short[n];
-                                var messageKey = new long[n];
-                                ArraySendDecoder.Int64(reader.GetFieldValue<byte[]>(5), time);
-                                ArraySendDecoder.Int16(reader.GetFieldValue<byte[]>(6), kind);
-                                ArraySendDecoder.Int64(reader.GetFieldValue<byte[]>(7), messageKey);
-                                short[]? outcome = null;
-                                double?[]? nis = null;
-                                bool[]? reset = null;
-                                float?[]? w0 = null;
-                                float?[]? w1 = null;
-                                for (int i = 0; i < n; i++)
-                                {
-                                    if (!last.TryGetValue(new MeasurementKey(fleetId, vehicleId, kind[i], time[i], messageKey[i]), out var verdict))
-                                    {
-                                        continue;
-                                    }
-
-                                    if (outcome is null)
-                                    {
-                                        outcome = new short[n];
-                                        nis = new double?[n];
-                                        reset = new bool[n];
-                                        w0 = new float?[n];
-                                        w1 = new float?[n];
-                                        ArraySendDecoder.Int16(reader.GetFieldValue<byte[]>(8), outcome);
-                                        ArraySendDecoder.NullableFloat64(reader.GetFieldValue<byte[]>(9), nis);
-                                        ArraySendDecoder.Boolean(reader.GetFieldValue<byte[]>(10), reset);
-                                        ArraySendDecoder.NullableFloat32(reader.GetFieldValue<byte[]>(11), w0);
-                                        ArraySendDecoder.NullableFloat32(reader.GetFieldValue<byte[]>(12), w1);
-                                    }
-
-                                    outcome[i] = OutcomeCodes.ToCode(verdict.Outcome);
-                                    nis![i] = verdict.Nis;
-                                    reset![i] = verdict.TrackReset;
-                                    w0![i] = verdict.Whitened0;
-                                    w1![i] = verdict.Whitened1;
-                                    written++;
-                                }
-
-                                if (outcome is not null)
-                                {
-                                    changed.Add(fleetId, vehicleId, reader.GetInt64(2), reader.GetInt64(3), outcome, nis!, reset!, w0!, w1!);
-                                }
-                            }
-                        }
+                        break;
                     }
 
-                    if (changed.Count > 0)
+                    ranges.Clear();
+                    foreach (var key in last.Keys)
                     {
-                        await changed.UpdateAsync(connection, transaction, cancellationToken).ConfigureAwait(false);
+                        MeasurementChunks.Widen(ranges, key.FleetId, key.VehicleId, key.TimeUs);
                     }
+                }
+
+                if (changed.Count > 0)
+                {
+                    await changed.UpdateAsync(connection, transaction, cancellationToken).ConfigureAwait(false);
                 }
 
                 await transaction.CommitAsync(cancellationToken).ConfigureAwait(false);
                 return written;
             }
         }
+    }
+
+    // Reads and locks the chunks that can hold the verdicts of `last` (the ranges of its vehicles), sets each verdict found
+    // at its measurement's place in `changed` and removes it from `last`; returns how many it placed.
+    private static async Task<int> PlaceAsync(
+        NpgsqlConnection connection,
+        NpgsqlTransaction transaction,
+        Dictionary<MeasurementKey, MeasurementOutcomeUpdate> last,
+        Dictionary<(Guid FleetId, string VehicleId), (long Lo, long Hi)> ranges,
+        ChangedChunks changed,
+        CancellationToken cancellationToken)
+    {
+        var vehicles = ranges.Keys.ToArray();
+        int placed = 0;
+        var select = new NpgsqlCommand(ChunksSql, connection, transaction);
+        await using (select.ConfigureAwait(false))
+        {
+            select.Parameters.Add(new NpgsqlParameter { Value = vehicles.Select(v => v.FleetId).ToArray(), NpgsqlDbType = NpgsqlDbType.Array | NpgsqlDbType.Uuid });
+            select.Parameters.Add(new NpgsqlParameter { Value = vehicles.Select(v => v.VehicleId).ToArray(), NpgsqlDbType = NpgsqlDbType.Array | NpgsqlDbType.Text });
+            select.Parameters.Add(new NpgsqlParameter { Value = vehicles.Select(v => ranges[v].Lo).ToArray(), NpgsqlDbType = NpgsqlDbType.Array | NpgsqlDbType.Bigint });
+            select.Parameters.Add(new NpgsqlParameter { Value = vehicles.Select(v => ranges[v].Hi).ToArray(), NpgsqlDbType = NpgsqlDbType.Array | NpgsqlDbType.Bigint });
+            var reader = await select.ExecuteReaderAsync(cancellationToken).ConfigureAwait(false);
+            await using (reader.ConfigureAwait(false))
+            {
+                while (await reader.ReadAsync(cancellationToken).ConfigureAwait(false))
+                {
+                    var fleetId = reader.GetGuid(0);
+                    var vehicleId = reader.GetString(1);
+                    int n = reader.GetInt32(4);
+                    var time = new long[n];
+                    var kind = new short[n];
+                    var messageKey = new long[n];
+                    ArraySendDecoder.Int64(reader.GetFieldValue<byte[]>(5), time);
+                    ArraySendDecoder.Int16(reader.GetFieldValue<byte[]>(6), kind);
+                    ArraySendDecoder.Int64(reader.GetFieldValue<byte[]>(7), messageKey);
+                    short[]? outcome = null;
+                    double?[]? nis = null;
+                    bool[]? reset = null;
+                    float?[]? w0 = null;
+                    float?[]? w1 = null;
+                    for (int i = 0; i < n; i++)
+                    {
+                        var key = new MeasurementKey(fleetId, vehicleId, kind[i], time[i], messageKey[i]);
+                        if (!last.TryGetValue(key, out var verdict))
+                        {
+                            continue;
+                        }
+
+                        if (outcome is null)
+                        {
+                            outcome = new short[n];
+                            nis = new double?[n];
+                            reset = new bool[n];
+                            w0 = new float?[n];
+                            w1 = new float?[n];
+                            ArraySendDecoder.Int16(reader.GetFieldValue<byte[]>(8), outcome);
+                            ArraySendDecoder.NullableFloat64(reader.GetFieldValue<byte[]>(9), nis);
+                            ArraySendDecoder.Boolean(reader.GetFieldValue<byte[]>(10), reset);
+                            ArraySendDecoder.NullableFloat32(reader.GetFieldValue<byte[]>(11), w0);
+                            ArraySendDecoder.NullableFloat32(reader.GetFieldValue<byte[]>(12), w1);
+                        }
+
+                        outcome[i] = OutcomeCodes.ToCode(verdict.Outcome);
+                        nis![i] = verdict.Nis;
+                        reset![i] = verdict.TrackReset;
+                        w0![i] = verdict.Whitened0;
+                        w1![i] = verdict.Whitened1;
+                        last.Remove(key);
+                        placed++;
+                    }
+
+                    if (outcome is not null)
+                    {
+                        changed.Add(fleetId, vehicleId, reader.GetInt64(2), reader.GetInt64(3), outcome, nis!, reset!, w0!, w1!);
+                    }
+                }
+            }
+        }
+
+        return placed;
     }
 
     // The chunks whose verdicts changed, their new verdict arrays end to end.

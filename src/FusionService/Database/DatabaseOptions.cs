@@ -83,6 +83,19 @@ public sealed class DatabaseOptions
     [Range(1, 30)]
     public int DaysAhead { get; set; } = 3;
 
+    /// <summary>
+    /// Seconds a vehicle's ten-minute window of measurement time must go without a commit of this process writing into
+    /// it before its chunks are folded into one, when there are at least two and they hold fewer than 100 measurements on
+    /// average (a gateway's batches over many vans leave one small chunk per van and commit; docs/storage-cost.md). Late
+    /// data into a folded window is folded in again after the same wait. 0 turns folding off. Default 900.
+    /// </summary>
+    [Range(0, 86400)]
+    public int ChunkFoldDelayS { get; set; } = 900;
+
+    /// <summary>Seconds between the passes that fold closed windows (see <see cref="ChunkFoldDelayS"/>). Default 60.</summary>
+    [Range(1, 86400)]
+    public int ChunkFoldIntervalS { get; set; } = 60;
+
     /// <summary>Days of measurements and fused states kept before their partitions are dropped. Default 30.</summary>
     [Range(1, 3650)]
     public int RetentionDays { get; set; } = 30;

@@ -1,4 +1,6 @@
 // Registration of the store.
+using Microsoft.Extensions.DependencyInjection.Extensions;
+
 namespace FusionService.Database;
 
 /// <summary>Registers the PostgreSQL store.</summary>
@@ -15,9 +17,13 @@ public static class DatabaseServiceCollectionExtensions
         services.AddOptions<DatabaseOptions>().BindConfiguration(DatabaseOptions.Section).ValidateDataAnnotations().ValidateOnStart();
         services.AddSingleton<FusionDatabase>();
         services.AddHostedService(sp => new DatabaseLifetime(sp.GetRequiredService<FusionDatabase>(), historyOnly));
+        services.TryAddSingleton(TimeProvider.System);
+        services.AddSingleton<ChunkFoldQueue>();
         if (!historyOnly)
         {
             services.AddHostedService<PartitionMaintenanceService>();
+            services.AddSingleton<ChunkFoldService>();
+            services.AddHostedService(sp => sp.GetRequiredService<ChunkFoldService>());
         }
 
         return services;

@@ -27,13 +27,16 @@ public sealed class GroupCommitWriter : BackgroundService
     private readonly IngestOptions _options;
     private readonly ServiceMetrics _metrics;
     private readonly IngestActivity _activity;
+    private readonly ChunkFoldQueue _folds;
     private readonly ILogger<GroupCommitWriter> _logger;
 
     /// <summary>Creates the writer.</summary>
     public GroupCommitWriter(
-        FusionDatabase database, IOptions<IngestOptions> options, ServiceMetrics metrics, IngestActivity activity, ILogger<GroupCommitWriter> logger)
+        FusionDatabase database, IOptions<IngestOptions> options, ServiceMetrics metrics, IngestActivity activity, ChunkFoldQueue folds,
+        ILogger<GroupCommitWriter> logger)
     {
         _database = database;
+        _folds = folds;
         _options = options.Value;
         _metrics = metrics;
         _activity = activity;
@@ -221,6 +224,7 @@ public sealed class GroupCommitWriter : BackgroundService
         _database.NoteSuccess();
         _metrics.ObserveCommit(watch.Elapsed.TotalSeconds, rowCount);
         _activity.MarkCommitted();
+        _folds.Note(inserted);
         foreach (var request in batch)
         {
             var claimed = new HashSet<MeasurementKey>();

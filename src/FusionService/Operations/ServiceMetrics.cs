@@ -55,6 +55,9 @@ public sealed class ServiceMetrics : IDisposable
         "fusion.track.lag", "s", "Fused-state lag: from the commit of a batch until its vehicles' tracks have processed it.",
         advice: new InstrumentAdvice<double> { HistogramBucketBoundaries = LagBucketsS });
 
+    private static readonly Counter<long> FoldedChunks = Meter.CreateCounter<long>(
+        "fusion.store.folded_chunks", "{chunk}", "Small measurement chunks of closed ten-minute windows folded into one chunk per vehicle and window (Database:ChunkFoldDelayS).");
+
     private static readonly Counter<long> SmoothingReplays = Meter.CreateCounter<long>(
         "fusion.smoothing.replays", "{replay}", "Smoothed-track and distance replays.");
 
@@ -218,6 +221,9 @@ public sealed class ServiceMetrics : IDisposable
 
     /// <summary>Records the fused-state lag of one committed batch: commit to processed by its track grains.</summary>
     public void ObserveTrackLag(double seconds) => TrackLag.Record(seconds);
+
+    /// <summary>Counts the chunks one fold of closed windows folded away.</summary>
+    public void CountFold(FusionService.Storage.Measurements.ChunkFoldResult fold) => FoldedChunks.Add(fold.ChunksDeleted);
 
     /// <summary>
     /// Records one webhook delivery attempt of <paramref name="seconds"/>: delivered or failed, and whether it was the

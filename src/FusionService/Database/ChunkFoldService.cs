@@ -1,0 +1,68 @@
+// Folds the small chunks of closed windows (MeasurementChunkFolder) in the background.
+using FusionService.Operations;
+using FusionService.Storage.Measurements;
+
+namespace FusionService.Database;
+
+/// <summary>
+/// Every <see cref="DatabaseOptions.ChunkFoldIntervalS"/> seconds, folds the windows this process wrote into that no
+/// commit of it wrote into for <see cref="DatabaseOptions.ChunkFoldDelayS"/> seconds (<see cref="MeasurementChunkFolder"/>),
+/// at most <see cref="WindowsPerFold"/> in one transaction. A live van's window is left alone from its end on; a window
+/// that a backlog upload or a gateway is still filling waits until the writing stops.
+/// </summary>
+internal sealed class ChunkFoldService(
+    FusionDatabase database, ChunkFoldQueue queue, ServiceMetrics metrics, TimeProvider time, ILogger<ChunkFoldService> logger) : BackgroundService
+{
+    /// <summary>Windows folded in one transaction at most.</summary>
+    internal const int WindowsPerFold = 200;
+
+    protected override async Task ExecuteAsync(CancellationToken stoppingToken)
+    {
+        if (database.Options.ChunkFoldDelayS == 0)
+        {
+            return;
+        }
+
+        var interval = TimeSpan.FromSeconds(database.Options.ChunkFoldIntervalS);
+        while (!stoppingToken.IsCancellationRequested)
+        {
+            try
+            {
+                await Task.Delay(interval, time, stoppingToken).ConfigureAwait(false);
+                await FoldQuietAsync(stoppingToken).ConfigureAwait(false);
+            }
+            catch (OperationCanceledException) when (stoppingToken.IsCancellationRequested)
+            {
+                return;
+            }
+        }
+    }
+
+    /// <summary>Folds every window left alone long enough, in transactions of at most <see cref="WindowsPerFold"/>.</summary>
+    internal async Task FoldQuietAsync(CancellationToken cancellationToken)
+    {
+        var closed = queue.TakeQuiet(TimeSpan.FromSeconds(database.Options.ChunkFoldDelayS));
+        for (int start = 0; start < closed.Count; start += WindowsPerFold)
+        {
+            var part = closed.GetRange(start, Math.Min(WindowsPerFold, closed.Count - start));
+            try
+            {
+                var result = await MeasurementChunkFolder.FoldAsync(database.DataSource, part, cancellationToken).ConfigureAwait(false);
+                if (result is not { } done)
+                {
+                    // Another process is folding: these windows wait for the next pass.
+                    queue.Return(closed.Skip(start));
+                    return;
+                }
+
+                metrics.CountFold(done);
+            }
+            catch (Exception ex) when (ex is Npgsql.NpgsqlException or InvalidOperationException)
+            {
+                logger.LogWarning(ex, "Folding {Windows} windows failed; they wait for the next pass", closed.Count - start);
+                queue.Return(closed.Skip(start));
+                return;
+            }
+        }
+    }
+}

@@ -1,0 +1,61 @@
+// The service folds the small chunks of the windows its commits wrote once no commit wrote into them for a while.
+using FusionService.Database;
+using FusionService.Estimation.Measurements;
+using FusionService.Ingest;
+using FusionService.Storage.Measurements;
+using FusionService.Tests.Infrastructure;
+
+namespace FusionService.Tests.Database;
+
+[Collection(ServiceTests.Name)]
+public sealed class ChunkFoldServiceTests(ServiceFixture fixture)
+{
+    [Fact]
+    public async Task Issue16_a_gateways_windows_fold_into_one_chunk_per_van_once_left_alone_and_windows_still_written_wait()
+    {
+        var fleet = await fixture.NewFleetAsync();
+        await using var host = new ServiceFactory(fixture.ConnectionString, new Dictionary<string, string?>
+        {
+            ["Ingest:CommitWriters"] = "1",
+            ["Database:ChunkFoldDelayS"] = "2",
+            ["Database:ChunkFoldIntervalS"] = "3600",
+        });
+        using var client = fixture.Client(fleet.ReadKey, host);
+        var writer = host.Services.GetRequiredService<GroupCommitWriter>();
+        // Six gateway commits, each one wheel speed of each of three vans, into a window 30 minutes ago; after more than
+        // the 2 s wait, six more into the window of a minute ago.
+        long closedUs = TelemetryDrive.StartUs(TimeSpan.FromMinutes(30));
+        long openUs = TelemetryDrive.StartUs(TimeSpan.FromMinutes(1));
+        string[] vans = ["fold-van-1", "fold-van-2", "fold-van-3"];
+        foreach (long startUs in new[] { closedUs, openUs })
+        {
+            if (startUs == openUs)
+            {
+                await Task.Delay(TimeSpan.FromSeconds(2.5));
+            }
+
+            for (int k = 0; k < 6; k++)
+            {
+                var rows = vans.Select(van => MeasurementRows.ToRow(
+                    fleet.Id, van, Measurement.WheelSpeed(startUs + (k * 100_000), (ulong)(k + 1), 4.0 + k), DateTime.UtcNow)).ToList();
+                Assert.Equal(rows.Count, (await writer.CommitAsync(rows)).Inserted.Count);
+            }
+        }
+
+        long Chunks(long timeUs) => fixture.CountAsync(
+            "SELECT count(*) FROM measurement_chunks WHERE fleet_id = $1 AND first_us / 600000000 = " + MeasurementChunks.WindowOf(timeUs),
+            fleet.Id).GetAwaiter().GetResult();
+        Assert.Equal(18, Chunks(closedUs));
+
+        await host.Services.GetRequiredService<ChunkFoldService>().FoldQuietAsync(CancellationToken.None);
+
+        Assert.Equal(3, Chunks(closedUs));
+        Assert.Equal(18, Chunks(openUs));
+        Assert.Equal(36L, await fixture.CountAsync("SELECT count(*) FROM measurements WHERE fleet_id = $1", fleet.Id));
+        // The windows just written wait in the queue for their turn.
+        Assert.Equal(3, host.Services.GetRequiredService<ChunkFoldQueue>().Count);
+        string metrics = await fixture.Client(fleet.AdminKey, host).GetStringAsync("/metrics");
+        // At least this fold's chunks: the meter is the process's, and other tests' hosts may fold beside this one.
+        Assert.True(FusionService.LoadTools.PrometheusText.Value(metrics, "fusion_store_folded_chunks_total") >= 18);
+    }
+}
