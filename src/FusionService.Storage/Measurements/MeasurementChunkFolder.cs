@@ -27,23 +27,26 @@ public static class MeasurementChunkFolder
 
     private const string TryLockSql = "SELECT pg_try_advisory_xact_lock(hashtextextended('FusionService chunk fold', 0))";
 
-    // The windows' chunks locked in the verdict writer's order (fleet, vehicle, first_us, chunk_id), so that the two never
-    // wait for each other crosswise; the windows that qualify; then every chunk of each deleted and the folded chunk
-    // inserted, in one statement (one snapshot: a chunk committed after it started is neither deleted nor folded in, and
-    // stays a chunk of its own).
+    // The windows that qualify; their chunks locked in the verdict writer's order (fleet, vehicle, first_us, chunk_id), so
+    // that the two never wait for each other crosswise; then every chunk of each deleted and the folded chunk inserted, in
+    // one statement (one snapshot: a chunk committed after it started is neither deleted nor folded in, and stays a chunk
+    // of its own). Windows that do not qualify (a van's own uploads) are not locked.
     private const string FoldSql = """
-        WITH locked AS MATERIALIZED (
-            SELECT c.fleet_id, c.vehicle_id, w.n, c.count
+        WITH candidates AS (
+            SELECT c.fleet_id, c.vehicle_id, w.n
             FROM unnest($1::uuid[], $2::text[], $3::bigint[]) AS w(f, v, n)
             JOIN measurement_chunks c ON c.fleet_id = w.f AND c.vehicle_id = w.v
                  AND c.first_us >= w.n * 600000000 AND c.first_us < (w.n + 1) * 600000000
+            GROUP BY c.fleet_id, c.vehicle_id, w.n
+            HAVING count(*) >= 2 AND sum(c.count) < $4 * count(*)),
+        locked AS MATERIALIZED (
+            SELECT c.fleet_id, c.vehicle_id, p.n
+            FROM candidates p
+            JOIN measurement_chunks c ON c.fleet_id = p.fleet_id AND c.vehicle_id = p.vehicle_id
+                 AND c.first_us >= p.n * 600000000 AND c.first_us < (p.n + 1) * 600000000
             ORDER BY c.fleet_id, c.vehicle_id, c.first_us, c.chunk_id
             FOR UPDATE OF c),
-        picked AS (
-            SELECT fleet_id, vehicle_id, n
-            FROM locked
-            GROUP BY fleet_id, vehicle_id, n
-            HAVING count(*) >= 2 AND sum(count) < $4 * count(*)),
+        picked AS (SELECT DISTINCT fleet_id, vehicle_id, n FROM locked),
         old AS (
             DELETE FROM measurement_chunks c
             USING picked p
