@@ -1,10 +1,8 @@
 // The fold of a closed window's small chunks into one: nothing lost or changed, duplicates still found, verdicts still land.
 using FusionService.Estimation.Time;
 using FusionService.Estimation.Tracking;
-using FusionService.Storage.Fleets;
 using FusionService.Storage.History;
 using FusionService.Storage.Measurements;
-using FusionService.Storage.Partitions;
 using FusionService.Storage.Tests.Infrastructure;
 using Npgsql;
 
@@ -25,22 +23,10 @@ public sealed class ChunkFoldTests(PostgresFixture server)
         fleet, vehicle, kind, timeUs, key, UnixMicroseconds.ToDateTimeUtc(timeUs + 250_000), 46.0 + timeUs % 1_000_000 * 1e-9, v1, v2, 0,
         OutcomeKind.Pending, null, false);
 
-    private async Task<(TestSchema Schema, Guid Fleet)> NewStoreAsync()
-    {
-        var schema = await server.NewMigratedSchemaAsync();
-        await new PartitionMaintainer(schema.DataSource).EnsurePartitionsAsync(TestTimes.Day, TestTimes.Day.AddDays(1));
-        var fleet = await new FleetAdmin(schema.DataSource).CreateFleetAsync("fleet-" + schema.Name);
-        return (schema, fleet);
-    }
+    private Task<(TestSchema Schema, Guid Fleet)> NewStoreAsync() => server.NewFleetStoreAsync();
 
-    private static async Task<HashSet<MeasurementKey>> CommitAsync(TestSchema schema, IReadOnlyList<MeasurementRow> rows)
-    {
-        await using var connection = await schema.OpenAsync();
-        await using var transaction = await connection.BeginTransactionAsync();
-        var (inserted, _) = await MeasurementIngest.InsertNewAsync(connection, transaction, rows);
-        await transaction.CommitAsync();
-        return inserted;
-    }
+    private static Task<HashSet<MeasurementKey>> CommitAsync(TestSchema schema, IReadOnlyList<MeasurementRow> rows) =>
+        MeasurementStores.CommitAsync(schema, rows);
 
     // A gateway's commits: each carries one measurement of each van (a GNSS fix every second, a wheel speed between).
     private static async Task<List<MeasurementRow>> GatewayAsync(TestSchema schema, Guid fleet, string[] vans, long startUs, int commits)

@@ -18,22 +18,10 @@ public sealed class MeasurementIngestTests(PostgresFixture server)
         fleet, vehicle, kind, timeUs, key, UnixMicroseconds.ToDateTimeUtc(timeUs + 1000), 1.5, null, null, 0,
         OutcomeKind.Pending, null, false);
 
-    private async Task<(TestSchema Schema, Guid Fleet)> NewStoreAsync()
-    {
-        var schema = await server.NewMigratedSchemaAsync();
-        await new PartitionMaintainer(schema.DataSource).EnsurePartitionsAsync(TestTimes.Day, TestTimes.Day.AddDays(1));
-        var fleet = await new FleetAdmin(schema.DataSource).CreateFleetAsync("fleet-" + schema.Name);
-        return (schema, fleet);
-    }
+    private Task<(TestSchema Schema, Guid Fleet)> NewStoreAsync() => server.NewFleetStoreAsync();
 
-    private static async Task<HashSet<MeasurementKey>> InsertAsync(TestSchema schema, IReadOnlyList<MeasurementRow> rows)
-    {
-        await using var connection = await schema.OpenAsync();
-        await using var transaction = await connection.BeginTransactionAsync();
-        var (inserted, _) = await MeasurementIngest.InsertNewAsync(connection, transaction, rows);
-        await transaction.CommitAsync();
-        return inserted;
-    }
+    private static Task<HashSet<MeasurementKey>> InsertAsync(TestSchema schema, IReadOnlyList<MeasurementRow> rows) =>
+        MeasurementStores.CommitAsync(schema, rows);
 
     [Fact]
     public async Task Issue14_the_one_batch_returns_the_transaction_id_and_records_the_receipts()
