@@ -12,15 +12,29 @@ namespace FusionService.Storage.Measurements;
 /// </summary>
 public static class MeasurementVerdictWriter
 {
-    // The chunks that can hold a time in [lo, hi] of each vehicle (a chunk spans at most 600 s), locked in key order.
+    // The chunks that can hold a time in [lo, hi] of each vehicle (a chunk spans at most 600 s), locked in key order. Their
+    // keys are found first through the index on last_us (the lateral subquery's order makes it the cheaper plan; with the
+    // primary key, first_us in a 600 s range, a gateway's van had every chunk of its last ten minutes read, as ingest's
+    // stored-keys lookup did), materialised, and then the chunks read and locked by their full primary key, in key order
+    // after the sort. (Joined without materialising, the planner may read every chunk of the vehicle and run the lookup
+    // for each.)
     private const string ChunksSql = """
+        WITH keys AS MATERIALIZED (
+            SELECT r.f, r.v, k.first_us, k.chunk_id
+            FROM unnest($1::uuid[], $2::text[], $3::bigint[], $4::bigint[]) AS r(f, v, lo, hi)
+            CROSS JOIN LATERAL (
+                SELECT c.first_us, c.chunk_id
+                FROM measurement_chunks c
+                WHERE c.fleet_id = r.f AND c.vehicle_id = r.v
+                  AND c.first_us > r.lo - 600000000 AND c.first_us <= r.hi
+                  AND c.last_us >= r.lo AND c.last_us < (r.hi / 600000000 + 1) * 600000000
+                ORDER BY c.last_us) k)
         SELECT c.fleet_id, c.vehicle_id, c.first_us, c.chunk_id, c.count, array_send(c.time_us), array_send(c.kind),
                array_send(c.message_key), array_send(c.outcome), array_send(c.nis), array_send(c.track_reset),
                array_send(c.w0), array_send(c.w1)
-        FROM unnest($1::uuid[], $2::text[], $3::bigint[], $4::bigint[]) AS r(f, v, lo, hi)
-        JOIN measurement_chunks c ON c.fleet_id = r.f AND c.vehicle_id = r.v
-             AND c.first_us > r.lo - 600000000 AND c.first_us <= r.hi
-             AND c.last_us >= r.lo AND c.last_us < (r.hi / 600000000 + 1) * 600000000
+        FROM keys
+        JOIN measurement_chunks c ON c.fleet_id = keys.f AND c.vehicle_id = keys.v AND c.first_us = keys.first_us
+             AND c.chunk_id = keys.chunk_id
         ORDER BY c.fleet_id, c.vehicle_id, c.first_us, c.chunk_id
         FOR UPDATE OF c
         """;
