@@ -1,6 +1,7 @@
 // The vehicles' ten-minute windows this process wrote chunks into, waiting for their fold.
 using System.Collections.Concurrent;
 using FusionService.Storage.Measurements;
+using Microsoft.Extensions.Options;
 
 namespace FusionService.Database;
 
@@ -8,10 +9,12 @@ namespace FusionService.Database;
 /// The windows (vehicle and ten-minute window of measurement time) into which this process's commits wrote chunks since
 /// their last fold, each with when it was last written; <see cref="ChunkFoldService"/> takes those left alone long
 /// enough. Kept in memory: windows written before a restart and not folded yet stay as they are (correct, only larger).
+/// With folding off (<see cref="DatabaseOptions.ChunkFoldDelayS"/> 0) nothing is noted, so nothing accumulates.
 /// </summary>
-public sealed class ChunkFoldQueue(TimeProvider time)
+public sealed class ChunkFoldQueue(TimeProvider time, IOptions<DatabaseOptions> options)
 {
     private readonly ConcurrentDictionary<(Guid FleetId, string VehicleId, long Window), long> _written = new();
+    private readonly bool _folding = options.Value.ChunkFoldDelayS > 0;
 
     /// <summary>Number of windows waiting.</summary>
     public int Count => _written.Count;
@@ -20,6 +23,11 @@ public sealed class ChunkFoldQueue(TimeProvider time)
     public void Note(IEnumerable<MeasurementKey> stored)
     {
         ArgumentNullException.ThrowIfNull(stored);
+        if (!_folding)
+        {
+            return;
+        }
+
         long now = time.GetUtcNow().UtcTicks;
         (Guid, string, long) previous = default;
         foreach (var key in stored)

@@ -4,6 +4,7 @@ using FusionService.Estimation.Measurements;
 using FusionService.Ingest;
 using FusionService.Storage.Measurements;
 using FusionService.Tests.Infrastructure;
+using Microsoft.Extensions.Options;
 
 namespace FusionService.Tests.Database;
 
@@ -57,5 +58,19 @@ public sealed class ChunkFoldServiceTests(ServiceFixture fixture)
         string metrics = await fixture.Client(fleet.AdminKey, host).GetStringAsync("/metrics");
         // At least this fold's chunks: the meter is the process's, and other tests' hosts may fold beside this one.
         Assert.True(FusionService.LoadTools.PrometheusText.Value(metrics, "fusion_store_folded_chunks_total") >= 18);
+    }
+
+    [Fact]
+    public void With_folding_off_no_window_is_kept_in_memory()
+    {
+        // Database:ChunkFoldDelayS = 0 turns folding off; a queue that still noted every written window would grow by one
+        // entry per vehicle and ten minutes for as long as the process runs.
+        var key = new MeasurementKey(Guid.NewGuid(), "fold-off-van", 1, 1_764_000_000_000_000, 1);
+        var off = new ChunkFoldQueue(TimeProvider.System, Options.Create(new DatabaseOptions { ChunkFoldDelayS = 0 }));
+        var on = new ChunkFoldQueue(TimeProvider.System, Options.Create(new DatabaseOptions { ChunkFoldDelayS = 900 }));
+        off.Note([key]);
+        on.Note([key]);
+        Assert.Equal(0, off.Count);
+        Assert.Equal(1, on.Count);
     }
 }
