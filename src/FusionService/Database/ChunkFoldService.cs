@@ -1,4 +1,4 @@
-// Folds the small chunks of closed windows (MeasurementChunkFolder) in the background.
+// Folds the small chunks of windows no commit wrote into for a while (MeasurementChunkFolder), in the background.
 using FusionService.Operations;
 using FusionService.Storage.Measurements;
 
@@ -41,17 +41,17 @@ internal sealed class ChunkFoldService(
     /// <summary>Folds every window left alone long enough, in transactions of at most <see cref="WindowsPerFold"/>.</summary>
     internal async Task FoldQuietAsync(CancellationToken cancellationToken)
     {
-        var closed = queue.TakeQuiet(TimeSpan.FromSeconds(database.Options.ChunkFoldDelayS));
-        for (int start = 0; start < closed.Count; start += WindowsPerFold)
+        var quiet = queue.TakeQuiet(TimeSpan.FromSeconds(database.Options.ChunkFoldDelayS));
+        for (int start = 0; start < quiet.Count; start += WindowsPerFold)
         {
-            var part = closed.GetRange(start, Math.Min(WindowsPerFold, closed.Count - start));
+            var part = quiet.GetRange(start, Math.Min(WindowsPerFold, quiet.Count - start));
             try
             {
                 var result = await MeasurementChunkFolder.FoldAsync(database.DataSource, part, cancellationToken).ConfigureAwait(false);
                 if (result is not { } done)
                 {
                     // Another process is folding: these windows wait for the next pass.
-                    queue.Return(closed.Skip(start));
+                    queue.Return(quiet.Skip(start));
                     return;
                 }
 
@@ -59,8 +59,8 @@ internal sealed class ChunkFoldService(
             }
             catch (Exception ex) when (ex is Npgsql.NpgsqlException or InvalidOperationException)
             {
-                logger.LogWarning(ex, "Folding {Windows} windows failed; they wait for the next pass", closed.Count - start);
-                queue.Return(closed.Skip(start));
+                logger.LogWarning(ex, "Folding {Windows} windows failed; they wait for the next pass", quiet.Count - start);
+                queue.Return(quiet.Skip(start));
                 return;
             }
         }

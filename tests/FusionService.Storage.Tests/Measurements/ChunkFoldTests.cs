@@ -44,8 +44,8 @@ public sealed class ChunkFoldTests(PostgresFixture server)
         return all;
     }
 
-    private static long ChunkCount(TestSchema schema, string vehicle) =>
-        schema.ScalarAsync<long>("SELECT count(*) FROM measurement_chunks WHERE vehicle_id = $1", vehicle).GetAwaiter().GetResult();
+    private static Task<long> ChunkCountAsync(TestSchema schema, string vehicle) =>
+        schema.ScalarAsync<long>("SELECT count(*) FROM measurement_chunks WHERE vehicle_id = $1", vehicle);
 
     [Fact]
     public async Task A_gateways_small_chunks_of_a_closed_window_fold_into_one_chunk_holding_every_measurement_and_verdict()
@@ -65,7 +65,7 @@ public sealed class ChunkFoldTests(PostgresFixture server)
         Assert.Equal(verdicts.Count, await MeasurementVerdictWriter.WriteAsync(schema.DataSource, verdicts));
         // A van whose tracker uploads its buffer: one chunk of 150 in the same window, left as it is.
         await CommitAsync(schema, [.. Enumerable.Range(0, 150).Select(i => Row(fleet, "van-c", t + i * 100_000L, i))]);
-        Assert.Equal(40, ChunkCount(schema, "van-a"));
+        Assert.Equal(40, await ChunkCountAsync(schema, "van-a"));
         string before = await schema.ScalarAsync<string>(AllText);
 
         var result = await MeasurementChunkFolder.FoldAsync(
@@ -73,9 +73,9 @@ public sealed class ChunkFoldTests(PostgresFixture server)
 
         Assert.Equal(new ChunkFoldResult(80, 2, 80), result);
         Assert.Equal(before, await schema.ScalarAsync<string>(AllText));
-        Assert.Equal(1, ChunkCount(schema, "van-a"));
-        Assert.Equal(1, ChunkCount(schema, "van-b"));
-        Assert.Equal(1, ChunkCount(schema, "van-c"));
+        Assert.Equal(1, await ChunkCountAsync(schema, "van-a"));
+        Assert.Equal(1, await ChunkCountAsync(schema, "van-b"));
+        Assert.Equal(1, await ChunkCountAsync(schema, "van-c"));
         // The folded chunk is in canonical order and spans its measurements, as one upload of the window would be.
         Assert.True(await schema.ScalarAsync<bool>(
             "SELECT time_us = (SELECT array_agg(x ORDER BY x) FROM unnest(time_us) AS x) AND first_us = $1 AND last_us = $2 AND count = 40 "
@@ -98,7 +98,7 @@ public sealed class ChunkFoldTests(PostgresFixture server)
         var late = Row(fleet, "van-a", t + 3 * 500_000L + 1, 99);
         var inserted = await CommitAsync(schema, [.. rows.TakeLast(3), late]);
         Assert.Equal([MeasurementKey.Of(late)], inserted);
-        Assert.Equal(2, ChunkCount(schema, "van-a"));
+        Assert.Equal(2, await ChunkCountAsync(schema, "van-a"));
 
         Assert.Equal(new ChunkFoldResult(2, 1, 13), await MeasurementChunkFolder.FoldAsync(schema.DataSource, [(fleet, "van-a", window)]));
         var read = new List<long>();
@@ -141,7 +141,7 @@ public sealed class ChunkFoldTests(PostgresFixture server)
 
         await fold.CommitAsync();
         Assert.Equal(verdicts.Count, await write);
-        Assert.Equal(1, ChunkCount(schema, "van-a"));
+        Assert.Equal(1, await ChunkCountAsync(schema, "van-a"));
         Assert.Equal(
             string.Join(',', verdicts.Select(v => v.Nis!.Value.ToString(System.Globalization.CultureInfo.InvariantCulture))),
             await schema.ScalarAsync<string>("SELECT array_to_string(nis, ',') FROM measurement_chunks WHERE vehicle_id = 'van-a'"));
@@ -162,6 +162,6 @@ public sealed class ChunkFoldTests(PostgresFixture server)
         }
 
         Assert.Null(await MeasurementChunkFolder.FoldAsync(schema.DataSource, [(fleet, "van-a", MeasurementChunks.WindowOf(t))]));
-        Assert.Equal(4, ChunkCount(schema, "van-a"));
+        Assert.Equal(4, await ChunkCountAsync(schema, "van-a"));
     }
 }

@@ -25,12 +25,12 @@ public sealed class ChunkFoldServiceTests(ServiceFixture fixture)
         var writer = host.Services.GetRequiredService<GroupCommitWriter>();
         // Six gateway commits, each one wheel speed of each of three vans, into a window 30 minutes ago; after more than
         // the 2 s wait, six more into the window of a minute ago.
-        long closedUs = TelemetryDrive.StartUs(TimeSpan.FromMinutes(30));
-        long openUs = TelemetryDrive.StartUs(TimeSpan.FromMinutes(1));
+        long earlierUs = TelemetryDrive.StartUs(TimeSpan.FromMinutes(30));
+        long laterUs = TelemetryDrive.StartUs(TimeSpan.FromMinutes(1));
         string[] vans = ["fold-van-1", "fold-van-2", "fold-van-3"];
-        foreach (long startUs in new[] { closedUs, openUs })
+        foreach (long startUs in new[] { earlierUs, laterUs })
         {
-            if (startUs == openUs)
+            if (startUs == laterUs)
             {
                 await Task.Delay(TimeSpan.FromSeconds(2.5));
             }
@@ -43,15 +43,15 @@ public sealed class ChunkFoldServiceTests(ServiceFixture fixture)
             }
         }
 
-        long Chunks(long timeUs) => fixture.CountAsync(
+        Task<long> ChunksAsync(long timeUs) => fixture.CountAsync(
             "SELECT count(*) FROM measurement_chunks WHERE fleet_id = $1 AND first_us / 600000000 = " + MeasurementChunks.WindowOf(timeUs),
-            fleet.Id).GetAwaiter().GetResult();
-        Assert.Equal(18, Chunks(closedUs));
+            fleet.Id);
+        Assert.Equal(18, await ChunksAsync(earlierUs));
 
         await host.Services.GetRequiredService<ChunkFoldService>().FoldQuietAsync(CancellationToken.None);
 
-        Assert.Equal(3, Chunks(closedUs));
-        Assert.Equal(18, Chunks(openUs));
+        Assert.Equal(3, await ChunksAsync(earlierUs));
+        Assert.Equal(18, await ChunksAsync(laterUs));
         Assert.Equal(36L, await fixture.CountAsync("SELECT count(*) FROM measurements WHERE fleet_id = $1", fleet.Id));
         // The windows just written wait in the queue for their turn.
         Assert.Equal(3, host.Services.GetRequiredService<ChunkFoldQueue>().Count);
