@@ -12,7 +12,8 @@
 # READ_PROCESS=1 also starts a history-read process (Service:Role=HistoryReads) on 127.0.0.1:5092, attached to the
 # service's embedded cluster, in an autogroup of nice READ_NICE (default 19), and sends the readers
 # to it (docs/limits-and-keys.md, "A history-read process"); READ_ENV="Key__Name=value ..." sets settings of that
-# process only (e.g. READ_ENV="HeavyReads__MaxConcurrent=1 Tracks__ReplayStretches=1").
+# process only (e.g. READ_ENV="HeavyReads__MaxConcurrent=1 Tracks__ReplayStretches=1"); READ_IDLE=1 starts it under
+# the SCHED_IDLE policy as well (chrt --idle 0, sched(7); its threads, not its PostgreSQL backends).
 # Listens on 127.0.0.1:5091; needs root (psql as postgres via runuser), curl, python3.
 set -u
 here=$(cd "$(dirname "$0")" && pwd)
@@ -34,7 +35,8 @@ port=$(sed -n 4p "$data/pg/postmaster.pid")
 readurl=()
 if [ -n "${READ_PROCESS:-}" ]; then
   env ${READ_ENV:-} Service__Role=HistoryReads ASPNETCORE_URLS=http://127.0.0.1:5092 Orleans__SiloPort=11112 Orleans__GatewayPort=0 \
-    setsid sh -c 'echo $1 > /proc/self/autogroup; exec dotnet "$0"' "$build/svc/FusionService.dll" "${READ_NICE:-19}" > "$out/reader.log" 2>&1 &
+    setsid sh -c 'echo $1 > /proc/self/autogroup; exec $2 dotnet "$0"' "$build/svc/FusionService.dll" "${READ_NICE:-19}" \
+      "${READ_IDLE:+chrt --idle 0}" > "$out/reader.log" 2>&1 &
   reader=$!
   for _ in $(seq 1 120); do curl -sf http://127.0.0.1:5092/health/ready >/dev/null 2>&1 && break; sleep 1; done
   readurl=(--read-url http://127.0.0.1:5092)
