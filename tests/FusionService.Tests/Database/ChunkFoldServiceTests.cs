@@ -61,6 +61,36 @@ public sealed class ChunkFoldServiceTests(ServiceFixture fixture)
     }
 
     [Fact]
+    public async Task Issue16_a_graceful_stop_folds_the_windows_still_waiting()
+    {
+        // The queue is in memory: without the fold at the stop, a gateway's windows of the last 15 minutes before a
+        // restart would keep their small chunks for as long as their day is kept.
+        var fleet = await fixture.NewFleetAsync();
+        // The middle of the ten-minute window that began 15-25 minutes ago: the five samples (0.4 s) stay in it.
+        long startUs = (MeasurementChunks.WindowOf(TelemetryDrive.StartUs(TimeSpan.FromMinutes(15))) * 600_000_000) + 300_000_000;
+        string[] vans = ["stop-fold-van-1", "stop-fold-van-2"];
+        await using (var host = new ServiceFactory(fixture.ConnectionString, new Dictionary<string, string?>
+        {
+            ["Ingest:CommitWriters"] = "1",
+            ["Database:ChunkFoldDelayS"] = "900",
+        }))
+        {
+            var writer = host.Services.GetRequiredService<GroupCommitWriter>();
+            for (int k = 0; k < 5; k++)
+            {
+                var rows = vans.Select(van => MeasurementRows.ToRow(
+                    fleet.Id, van, Measurement.WheelSpeed(startUs + (k * 100_000), (ulong)(k + 1), 4.0 + k), DateTime.UtcNow)).ToList();
+                Assert.Equal(rows.Count, (await writer.CommitAsync(rows)).Inserted.Count);
+            }
+
+            Assert.Equal(10L, await fixture.CountAsync("SELECT count(*) FROM measurement_chunks WHERE fleet_id = $1", fleet.Id));
+        }
+
+        Assert.Equal(2L, await fixture.CountAsync("SELECT count(*) FROM measurement_chunks WHERE fleet_id = $1", fleet.Id));
+        Assert.Equal(10L, await fixture.CountAsync("SELECT count(*) FROM measurements WHERE fleet_id = $1", fleet.Id));
+    }
+
+    [Fact]
     public void With_folding_off_no_window_is_kept_in_memory()
     {
         // Database:ChunkFoldDelayS = 0 turns folding off; a queue that still noted every written window would grow by one
