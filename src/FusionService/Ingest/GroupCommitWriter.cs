@@ -10,7 +10,9 @@ namespace FusionService.Ingest;
 
 /// <summary>
 /// Group commit: requests put their rows into bounded channels; <see cref="IngestOptions.CommitWriters"/> background
-/// loops each take what has arrived on their channel within <see cref="IngestOptions.CommitWindowMs"/>, store it in one
+/// loops each take what has arrived on their channel within <see cref="IngestOptions.CommitWindowMs"/> (within
+/// <see cref="IngestOptions.MixedCommitWindowMs"/> when the first request spreads its rows thinly over many vehicles, as a
+/// gateway's does: its next batches carry the same vans, and joined they make fewer, larger chunks), store it in one
 /// transaction (<see cref="MeasurementIngest"/>) and then complete every request with the keys it inserted. Each loop
 /// owns a share of the vehicles' lock buckets (<see cref="IngestBuckets"/>, bucket modulo the number of loops) and a
 /// request's rows are split by it, so the loops never wait for each other's bucket locks: a batch mixing hundreds of
@@ -128,6 +130,12 @@ public sealed class GroupCommitWriter : BackgroundService
                 if (_options.CommitWindowMs > 0)
                 {
                     await Task.Delay(_options.CommitWindowMs, stoppingToken).ConfigureAwait(false);
+                }
+
+                // A gateway's batch waits longer, so that its next batches' rows of the same vans join its chunks.
+                if (_options.MixedCommitWindowMs > _options.CommitWindowMs && reader.TryPeek(out var first) && first.Mixed)
+                {
+                    await Task.Delay(_options.MixedCommitWindowMs - _options.CommitWindowMs, stoppingToken).ConfigureAwait(false);
                 }
 
                 while (rows < _options.MaxRowsPerCommit && reader.TryRead(out var request))

@@ -47,6 +47,16 @@ public sealed class IngestOptions
     [Range(0, 1000)]
     public int CommitWindowMs { get; set; } = 3;
 
+    /// <summary>
+    /// How long a writer waits for more requests before committing when the first waiting request spreads its rows thinly
+    /// over several vehicles (fewer than 100 rows per vehicle on average, as a gateway forwarding a fleet sends),
+    /// milliseconds; 0 or anything up to <see cref="CommitWindowMs"/> waits only that. Each commit stores a chunk per
+    /// vehicle, so the gateway's next batches, which carry the same vans, are better joined into the same chunks than
+    /// given chunks of one or two measurements each (docs/benchmarks.md). Default 25.
+    /// </summary>
+    [Range(0, 1000)]
+    public int MixedCommitWindowMs { get; set; } = 25;
+
     /// <summary>Most rows in one commit. Default 50000.</summary>
     [Range(1, 10_000_000)]
     public int MaxRowsPerCommit { get; set; } = 50_000;
