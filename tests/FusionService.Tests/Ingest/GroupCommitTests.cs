@@ -72,7 +72,8 @@ public sealed class GroupCommitTests(ServiceFixture fixture)
             ["Ingest:MixedCommitWindowMs"] = mixedWindowMs.ToString(CultureInfo.InvariantCulture),
         });
         var writer = host.Services.GetRequiredService<GroupCommitWriter>();
-        long timeUs = TelemetryDrive.StartUs(TimeSpan.FromMinutes(20));
+        // The middle of a ten-minute window of the past: both batches' measurements go to the same window's chunks.
+        long timeUs = (MeasurementChunks.WindowOf(TelemetryDrive.StartUs(TimeSpan.FromMinutes(20))) * 600_000_000) + 300_000_000;
         string[] vans = ["mixed-van-1", "mixed-van-2", "mixed-van-3"];
         List<MeasurementRow> Batch(int k) => [.. vans.Select(van => MeasurementRows.ToRow(
             fleet.Id, van, Measurement.WheelSpeed(timeUs + (k * 100_000), (ulong)(k + 1), 4.0 + k), DateTime.UtcNow))];
