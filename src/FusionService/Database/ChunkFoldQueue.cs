@@ -8,7 +8,8 @@ namespace FusionService.Database;
 /// <summary>
 /// The windows (vehicle and ten-minute window of measurement time) into which this process's commits wrote chunks since
 /// their last fold, each with when it was last written; <see cref="ChunkFoldService"/> takes those left alone long
-/// enough. Kept in memory: windows written before a restart and not folded yet stay as they are (correct, only larger).
+/// enough. Kept in memory: a graceful stop folds what it holds (<see cref="ChunkFoldService"/>); after a crash, windows not
+/// folded yet stay as they are (correct, only larger).
 /// With folding off (<see cref="DatabaseOptions.ChunkFoldDelayS"/> 0) nothing is noted, so nothing accumulates.
 /// </summary>
 public sealed class ChunkFoldQueue(TimeProvider time, IOptions<DatabaseOptions> options)
