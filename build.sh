@@ -180,6 +180,9 @@ case "${1:-test}" in
   bench)
     ensure_prerequisites
     shift || true
+    # The documented form is `./build.sh bench -- --filter ...`; BenchmarkDotNet would read that "--" as the end of its
+    # own options and ask for a class instead.
+    if [ "${1:-}" = "--" ]; then shift; fi
     dotnet run -c Release --project tests/FusionService.Benchmarks -- "$@"
     ;;
   cluster-bench)
