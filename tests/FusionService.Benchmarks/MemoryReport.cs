@@ -45,7 +45,7 @@ internal static class MemoryReport
         GC.KeepAlive(tracks);
 
         CultureInfo c = CultureInfo.InvariantCulture;
-        Console.WriteLine(string.Create(c, $"stream fed to each track: {stream.Length} measurements over {FedS:F0} s (lag window {options.LagWindowS:F0} s, checkpoints every {options.CheckpointIntervalS:F0} s)"));
+        Console.WriteLine(string.Create(c, $"stream fed to each track: {stream.Length} measurements over {FedS:F0} s (lag window {options.LagWindowS:F0} s, checkpoints every {options.CheckpointIntervalS:F0} s, the {options.RecentCheckpoints} newest every {options.RecentCheckpointIntervalS:F0} s)"));
         Console.WriteLine(string.Create(c, $"VehicleTrack.ApproximateBytes: {sample.ApproximateBytes} bytes"));
         Console.WriteLine(string.Create(c, $"held measurements: {sample.HeldMeasurements}"));
         Console.WriteLine(string.Create(c, $"held checkpoints: {sample.HeldCheckpoints}"));

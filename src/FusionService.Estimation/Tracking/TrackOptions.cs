@@ -10,10 +10,24 @@ public sealed record TrackOptions
     public double LagWindowS { get; init; } = 60.0;
 
     /// <summary>
-    /// Spacing of the posterior checkpoints a late measurement is replayed from, seconds. Default 5: a track then holds
-    /// at most the window plus 5 s of measurements and (window / 5 s) + 2 checkpoints of about 0.6 KB.
+    /// Spacing of the posterior checkpoints a late measurement is replayed from, seconds, behind the newest
+    /// <see cref="RecentCheckpoints"/>. Default 5: a track then holds at most the window plus 5 s of measurements and
+    /// (window / 5 s) + 2 checkpoints of about 1.9 KB encoded, and the recent ones.
     /// </summary>
     public double CheckpointIntervalS { get; init; } = 5.0;
+
+    /// <summary>
+    /// Spacing of the newest <see cref="RecentCheckpoints"/> checkpoints, seconds; older ones are thinned to
+    /// <see cref="CheckpointIntervalS"/>. Default 1: a sample a few tenths of a second late (a van's streams uploaded by
+    /// concurrent requests, a gateway's batches) replays about half a second instead of half the checkpoint interval.
+    /// </summary>
+    public double RecentCheckpointIntervalS { get; init; } = 1.0;
+
+    /// <summary>
+    /// How many of the newest checkpoints keep <see cref="RecentCheckpointIntervalS"/> spacing. Default 3 (the last two to
+    /// three seconds), each about 1.9 KB encoded: samples later than that are rare and replay from the sparser ones.
+    /// </summary>
+    public int RecentCheckpoints { get; init; } = 3;
 
     /// <summary>Largest prediction step, seconds; longer gaps are predicted in sub-steps. Default 1.</summary>
     public double MaxPredictionStepS { get; init; } = 1.0;
@@ -198,6 +212,11 @@ public sealed record TrackOptions
         Require(MultipathSuppressS >= 0 && double.IsFinite(MultipathSuppressS), nameof(MultipathSuppressS), "must be finite and non-negative");
         Require(LagWindowS >= 0 && double.IsFinite(LagWindowS), nameof(LagWindowS), "must be finite and non-negative");
         Require(CheckpointIntervalS > 0 && double.IsFinite(CheckpointIntervalS), nameof(CheckpointIntervalS), "must be finite and positive");
+        Require(
+            RecentCheckpointIntervalS > 0 && RecentCheckpointIntervalS <= CheckpointIntervalS,
+            nameof(RecentCheckpointIntervalS),
+            "must be positive and at most CheckpointIntervalS");
+        Require(RecentCheckpoints >= 0, nameof(RecentCheckpoints), "must be non-negative");
         Require(MaxPredictionStepS > 0 && double.IsFinite(MaxPredictionStepS), nameof(MaxPredictionStepS), "must be finite and positive");
         Require(CourseMinSpeedMps >= 0, nameof(CourseMinSpeedMps), "must be non-negative");
         Require(CourseSigmaFloorRad > 0, nameof(CourseSigmaFloorRad), "must be positive");

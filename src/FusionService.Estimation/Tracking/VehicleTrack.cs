@@ -10,6 +10,9 @@ namespace FusionService.Estimation.Tracking;
 /// re-processed from the newest posterior checkpoint before it, which is exact for the extended filter because every
 /// later step is re-linearised (the reference that Bar-Shalom 2002, "Update with out-of-sequence measurements in
 /// tracking: exact solution", IEEE T-AES 38(3), measures cheaper methods against). Exact duplicates are ignored.
+/// The newest checkpoints lie a second apart and the older ones five (<see cref="TrackOptions.RecentCheckpointIntervalS"/>,
+/// <see cref="TrackOptions.CheckpointIntervalS"/>), so a sample a few tenths of a second late (a gateway's concurrent
+/// batches) replays about half a second, one 30 s late at most a checkpoint interval.
 /// Memory is bounded by the lag window plus one checkpoint interval. A measurement the filter fails on numerically
 /// (<see cref="FilterDivergenceException"/>) is judged <see cref="OutcomeKind.Unusable"/> and skipped: the state stays
 /// what it was before it, so one poisoned measurement never stops the track, and a re-processing (late data, a restart)
@@ -21,6 +24,8 @@ public sealed class VehicleTrack
     private readonly TrackProcessor _processor;
     private readonly long _windowUs;
     private readonly long _checkpointIntervalUs;
+    private readonly long _recentCheckpointIntervalUs;
+    private readonly int _recentCheckpoints;
     private Measurement[] _buffer = new Measurement[64];
     private int _start;
     private int _count;
@@ -44,7 +49,9 @@ public sealed class VehicleTrack
         _processor = processor;
         _windowUs = (long)Math.Round(processor.Options.LagWindowS * 1e6);
         _checkpointIntervalUs = (long)Math.Round(processor.Options.CheckpointIntervalS * 1e6);
-        _checkpoints = new CheckpointSlot[(int)Math.Ceiling(processor.Options.LagWindowS / processor.Options.CheckpointIntervalS) + 3];
+        _recentCheckpointIntervalUs = (long)Math.Round(processor.Options.RecentCheckpointIntervalS * 1e6);
+        _recentCheckpoints = processor.Options.RecentCheckpoints;
+        _checkpoints = new CheckpointSlot[MaxCheckpoints(processor.Options)];
         for (int i = 0; i < _checkpoints.Length; i++)
         {
             _checkpoints[i] = new CheckpointSlot();
@@ -252,9 +259,19 @@ public sealed class VehicleTrack
         }
     }
 
+    /// <summary>
+    /// Most checkpoints a track holds: the base, one per <see cref="TrackOptions.CheckpointIntervalS"/> of the window and
+    /// the interval the base may lie before it, and the <see cref="TrackOptions.RecentCheckpoints"/> newest.
+    /// </summary>
+    public static int MaxCheckpoints(TrackOptions options)
+    {
+        ArgumentNullException.ThrowIfNull(options);
+        return (int)Math.Ceiling(options.LagWindowS / options.CheckpointIntervalS) + 3 + options.RecentCheckpoints;
+    }
+
     private void MaybeCheckpoint(in Measurement m)
     {
-        if (_lastCheckpointUs != long.MinValue && m.TimeUs - _lastCheckpointUs < _checkpointIntervalUs)
+        if (_lastCheckpointUs != long.MinValue && m.TimeUs - _lastCheckpointUs < _recentCheckpointIntervalUs)
         {
             return;
         }
@@ -271,6 +288,35 @@ public sealed class VehicleTrack
 
         _checkpoints[_checkpointCount++].Store(_current, m, false);
         _lastCheckpointUs = m.TimeUs;
+        ThinOlderCheckpoints();
+    }
+
+    /// <summary>
+    /// Keeps the checkpoints before the <see cref="TrackOptions.RecentCheckpoints"/> newest at least a
+    /// <see cref="TrackOptions.CheckpointIntervalS"/> apart (the base always, then greedily from the oldest), the newest
+    /// all. Dropped slots move behind the held ones for reuse, so thinning never allocates; a stable partition by swaps
+    /// keeps the held ones in order.
+    /// </summary>
+    private void ThinOlderCheckpoints()
+    {
+        CheckpointSlot origin = _checkpoints[0];
+        long keptUs = origin.IsOrigin ? long.MinValue : origin.Last.TimeUs;
+        int recentFrom = _checkpointCount - _recentCheckpoints;
+        int write = 1;
+        for (int read = 1; read < _checkpointCount; read++)
+        {
+            long timeUs = _checkpoints[read].Last.TimeUs;
+            if (read < recentFrom && keptUs != long.MinValue && timeUs - keptUs < _checkpointIntervalUs)
+            {
+                continue;
+            }
+
+            (_checkpoints[write], _checkpoints[read]) = (_checkpoints[read], _checkpoints[write]);
+            write++;
+            keptUs = timeUs;
+        }
+
+        _checkpointCount = write;
     }
 
     /// <summary>Drops what no measurement inside the window can need: checkpoints before the newest one older than the window, and the measurements before it.</summary>
