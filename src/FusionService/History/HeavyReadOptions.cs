@@ -38,10 +38,10 @@ public sealed class HeavyReadOptions
 
     /// <summary>
     /// Processor cores the smoothing replays of all history reads of the process may use together, on average (the
-    /// filter's forward passes; the backward pass and the storage read are not counted), while ingest commits (within
-    /// the last second): a replay thread over the budget sleeps, so ingest keeps processor time beside heavy reads
-    /// (docs/limits-and-keys.md); without ingest replays run at full speed. 0: no cap. Default: a quarter of the
-    /// processors (0.5 on 2).
+    /// filter's forward passes; the backward pass and the storage read are not counted), while the process's own ingest
+    /// commits (within the last second): a replay thread over the budget sleeps, so ingest keeps processor time beside
+    /// heavy reads (docs/limits-and-keys.md); without ingest replays run at full speed, so never in a history-read
+    /// process. 0: no cap. Default: a quarter of the processors (0.5 on 2).
     /// </summary>
     [Range(0.0, 1024.0)]
     public double ReplayCpuCores { get; set; } = Environment.ProcessorCount / 4.0;
